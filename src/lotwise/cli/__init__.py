@@ -1,0 +1,71 @@
+"""The ``lotwise`` command line: a thin typer layer over the library.
+
+Each command group lives in its own module and registers itself on
+:data:`app`. The entry point :func:`main` turns every error into one line on
+stderr: malformed input exits 2, a well-formed request that no plan can meet
+exits 1, a plan that falls short on an audit exits 1.
+"""
+
+from __future__ import annotations
+
+import sys
+
+import typer
+
+app = typer.Typer(
+    name="lotwise",
+    help="Design, audit and document acceptance sampling plans, computed exactly.",
+    add_completion=False,
+    no_args_is_help=True,
+    pretty_exceptions_enable=False,
+    rich_markup_mode=None,
+    context_settings={"help_option_names": ["-h", "--help"]},
+)
+
+
+def _register() -> None:
+    # Imported for their side effect of adding commands to ``app``.
+    from . import single  # noqa: F401
+
+
+def main(argv: list[str] | None = None) -> int:
+    """Run the CLI; returns (and exits with) the process exit code."""
+    from ..quantities import InputError
+
+    _register()
+    args = sys.argv[1:] if argv is None else list(argv)
+    try:
+        rv = app(args=args, prog_name="lotwise", standalone_mode=False)
+        code = rv if isinstance(rv, int) else 0
+    except typer.Exit as exc:
+        code = exc.exit_code
+    except typer.Abort:
+        print("lotwise: aborted", file=sys.stderr)
+        code = 1
+    except typer.TyperException as exc:  # click's usage errors: bad option, missing value
+        if type(exc).__name__ == "NoArgsIsHelpError":  # bare `lotwise` or a bare group
+            print(exc.format_message())
+            return _exit(0, argv)
+        msg = " ".join(exc.format_message().split())
+        print(f"lotwise: error: {msg}", file=sys.stderr)
+        code = 2
+    except InputError as exc:
+        print(f"lotwise: error: {exc}", file=sys.stderr)
+        code = 2
+    except KeyboardInterrupt:
+        print("lotwise: interrupted", file=sys.stderr)
+        code = 130
+    except BrokenPipeError:
+        code = 0
+    except Exception as exc:  # never a traceback, whatever the input
+        print(f"lotwise: error: could not complete the request ({type(exc).__name__}: {exc})",
+              file=sys.stderr)
+        code = 2
+    return _exit(code, argv)
+
+
+def _exit(code: int, argv) -> int:
+    sys.stdout.flush()
+    if argv is None:
+        sys.exit(code)
+    return code

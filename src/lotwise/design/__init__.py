@@ -1,0 +1,1 @@
+"""Plan designers, one module per plan family."""

@@ -1,0 +1,153 @@
+"""Parsing and validation of quality levels, risks and counts.
+
+Practitioners write quality levels in several ways: ``0.01``, ``1%``,
+``1.5 %`` or ``250ppm``. Every parser here returns a plain float fraction (or
+an int) and raises :class:`InputError` with a message that names the option,
+repeats the bad value and says what is allowed, for example::
+
+    --aql (1.5) must be a fraction between 0 and 1, exclusive (write 1.5% for a percentage)
+
+The command line turns :class:`InputError` into one line on stderr and exit
+code 2; library users catch it as a :class:`ValueError`.
+
+Examples
+--------
+>>> parse_level("250ppm", "--aql")
+0.00025
+>>> parse_level("1.5 %", "--rql")
+0.015
+"""
+
+from __future__ import annotations
+
+import math
+import re
+
+__all__ = [
+    "InputError",
+    "Infeasible",
+    "parse_fraction",
+    "parse_level",
+    "parse_risk",
+    "parse_count",
+    "format_level",
+    "format_pct",
+]
+
+
+class InputError(ValueError):
+    """Malformed input: the message names the option, the value and what is allowed."""
+
+
+class Infeasible(Exception):
+    """A well-formed request that no plan can meet.
+
+    ``reachable`` carries what can be reached instead (a dict for JSON).
+    """
+
+    def __init__(self, message: str, reachable: dict | None = None):
+        super().__init__(message)
+        self.reachable = reachable or {}
+
+
+_NUMBER = r"[+-]?(?:\d+(?:[._]\d+)*(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?"
+_LEVEL_RE = re.compile(rf"^\s*({_NUMBER})\s*(%|ppm|ppb)?\s*$", re.IGNORECASE)
+_SCALE = {None: 1.0, "%": 1e-2, "ppm": 1e-6, "ppb": 1e-9}
+
+
+def parse_fraction(text, name: str) -> float:
+    """Read ``0.01``, ``1%``, ``1.5 %``, ``250ppm`` or ``5ppb`` as a float.
+
+    No range check: see :func:`parse_level` and :func:`parse_risk`.
+    """
+    if isinstance(text, bool):
+        raise InputError(f"{name} ({text!r}) must be a number such as 0.01, 1% or 250ppm")
+    if isinstance(text, (int, float)):
+        value = float(text)
+    else:
+        m = _LEVEL_RE.match(str(text))
+        if not m:
+            raise InputError(f"{name} ({text!r}) must be a number such as 0.01, 1% or 250ppm")
+        number = m.group(1).replace("_", "")
+        unit = m.group(2).lower() if m.group(2) else None
+        value = float(number) * _SCALE[unit]
+    if not math.isfinite(value):
+        raise InputError(f"{name} ({text!r}) must be a finite number")
+    return value
+
+
+def parse_level(text, name: str, *, per_unit: bool = False) -> float:
+    """A quality level: a fraction nonconforming in (0, 1), or with
+    ``per_unit`` a positive number of nonconformities per unit."""
+    value = parse_fraction(text, name)
+    if per_unit:
+        if not value > 0:
+            raise InputError(f"{name} ({text}) must be a positive number of nonconformities "
+                             "per unit (1% means 1 per 100 units)")
+        return value
+    if not 0 < value < 1:
+        hint = ""
+        if isinstance(text, str) and "%" not in text and 1 <= value < 100:
+            hint = f" (write {text.strip()}% for a percentage)"
+        raise InputError(f"{name} ({text}) must be a fraction nonconforming between 0 and 1, "
+                         f"exclusive{hint}")
+    return value
+
+
+def parse_risk(text, name: str) -> float:
+    """A risk (alpha, beta) or a probability strictly between 0 and 1."""
+    value = parse_fraction(text, name)
+    if not 0 < value < 1:
+        hint = ""
+        if isinstance(text, str) and "%" not in text and 1 <= value < 100:
+            hint = f" (write {text.strip()}% for a percentage)"
+        raise InputError(f"{name} ({text}) must be a probability between 0 and 1, exclusive{hint}")
+    return value
+
+
+_COUNT_RE = re.compile(r"^\s*\d+(?:[_,]\d{3})*\s*$")
+
+
+def parse_count(text, name: str, *, minimum: int = 0, maximum: int | None = None) -> int:
+    """A whole number such as ``1000``, ``1_000`` or ``1,000`` within bounds."""
+    if isinstance(text, bool):
+        raise InputError(f"{name} ({text!r}) must be a whole number")
+    if isinstance(text, int):
+        value = text
+    elif isinstance(text, float):
+        if not (math.isfinite(text) and text == int(text)):
+            raise InputError(f"{name} ({text}) must be a whole number")
+        value = int(text)
+    else:
+        s = str(text)
+        if not _COUNT_RE.match(s):
+            raise InputError(f"{name} ({text!r}) must be a whole number of at least {minimum}")
+        value = int(s.strip().replace("_", "").replace(",", ""))
+    if value < minimum:
+        raise InputError(f"{name} ({value}) must be at least {minimum}")
+    if maximum is not None and value > maximum:
+        raise InputError(f"{name} ({value}) must be at most {maximum:,}")
+    return value
+
+
+def format_pct(x: float, digits: int = 3) -> str:
+    """``0.0123 -> '1.23 %'`` with ``digits`` significant figures (fixed
+    notation, at least two decimals below 10 %)."""
+    if x is None or (isinstance(x, float) and math.isnan(x)):
+        return "-"
+    v = 100.0 * x
+    if v == 0:
+        return "0 %"
+    mag = math.floor(math.log10(abs(v)))
+    decimals = max(0, digits - 1 - mag)
+    return f"{v:.{decimals}f} %"
+
+
+def format_level(x: float, per_unit: bool = False) -> str:
+    """A quality level as a practitioner writes it: percent above 0.1 %,
+    ppm below, and per-unit counts for nonconformities."""
+    if per_unit:
+        return f"{x:g} per unit"
+    if x < 1e-3:
+        return f"{x * 1e6:.4g} ppm"
+    return f"{100 * x:.4g} %"
