@@ -146,6 +146,8 @@ def quality_at(plan: SinglePlan, prob: float, model: str, scope: Scope,
     ``D/N`` with ``Pa >= prob``; any other side the smallest ``D/N`` with
     ``Pa <= prob``.
     """
+    if model != "hypergeometric" and not isinstance(plan, SinglePlan):
+        return _invert(plan, prob, model, scope)
     n, c = plan.n, plan.c
     if c >= n and model != "poisson":
         return 1.0
@@ -177,6 +179,24 @@ def quality_at(plan: SinglePlan, prob: float, model: str, scope: Scope,
         else:
             lo = mid
     return hi / N
+
+
+def _invert(plan, prob: float, model: str, scope: Scope) -> float:
+    """Quality level where ``plan.pa`` equals ``prob``, by bisection on ``p``
+    (Pa falls in p); for plan types without a closed-form inverse."""
+    lo, hi = 0.0, 1.0
+    if scope.defects:  # nonconformities per unit have no upper bound
+        while float(plan.pa(hi, model, scope)) > prob and hi < 1e6:
+            hi *= 2.0
+    for _ in range(200):
+        mid = 0.5 * (lo + hi)
+        if float(plan.pa(mid, model, scope)) > prob:
+            lo = mid
+        else:
+            hi = mid
+        if hi - lo <= 1e-15 * max(hi, 1e-300):
+            break
+    return 0.5 * (lo + hi)
 
 
 def plan_quality(plan, targets, scope: Scope, model: str) -> PlanQuality:

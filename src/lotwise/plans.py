@@ -26,7 +26,7 @@ An auditor checks a quoted plan "sample 80, accept on 2" for a lot of 500:
 >>> plan = SinglePlan(n=80, c=2)
 >>> scope = Scope(lot_size=500)
 >>> round(plan.pa(0.01, "hypergeometric", scope), 4)
-0.9642
+0.969
 """
 
 from __future__ import annotations
@@ -171,31 +171,54 @@ def _split_notation(text: str, option: str) -> dict[str, str]:
     return out
 
 
+#: Plan notations by kind: ``kind -> "module:function"`` (imported when used,
+#: so the command line loads only what it needs). Each function takes the
+#: ``key -> text`` pairs, the original text and the option name, and returns
+#: a plan. A notation without a ``kind:`` prefix is recognised by its keys
+#: (see :data:`KEYS_HINT`).
+NOTATIONS: dict[str, str] = {
+    "single": "lotwise.plans:_parse_single",
+}
+
+#: Keys that identify a notation written without a prefix: ``key -> kind``.
+KEYS_HINT: dict[str, str] = {}
+
+
+def _parse_single(pairs: dict, text: str, option: str) -> SinglePlan:
+    allowed = {"n", "c", "r"}
+    unknown = sorted(set(pairs) - allowed)
+    if unknown:
+        raise InputError(f"{option} ({text!r}): unknown key {unknown[0]!r}; "
+                         "a single plan takes n, c and optionally r = c + 1")
+    for key in ("n", "c"):
+        if key not in pairs:
+            raise InputError(f"{option} ({text!r}) lacks {key}; write for example \"n=80,c=2\"")
+    n = parse_count(pairs["n"], f"{option} n", minimum=1)
+    c = parse_count(pairs["c"], f"{option} c", minimum=0)
+    if c > n:
+        raise InputError(f"{option} c ({c}) must not be greater than n ({n})")
+    if "r" in pairs:
+        r = parse_count(pairs["r"], f"{option} r", minimum=1)
+        if r != c + 1:
+            raise InputError(f"{option} r ({r}) must be c + 1 ({c + 1}) for a single plan")
+    return SinglePlan(n=n, c=c)
+
+
 def parse_plan(text: str, option: str = "--plan"):
     """Read a plan from its notation, e.g. ``"n=80,c=2"`` or ``"single: n=80, c=2"``.
 
     Raises :class:`InputError` naming the option, the value and what is allowed.
     """
+    import importlib
+
     if not isinstance(text, str):
         raise InputError(f"{option} ({text!r}) must be plan notation such as \"n=80,c=2\"")
     kind = text.split(":", 1)[0].strip().lower() if ":" in text else None
     pairs = _split_notation(text, option)
-    if kind in (None, "single"):
-        allowed = {"n", "c", "r"}
-        unknown = sorted(set(pairs) - allowed)
-        if unknown:
-            raise InputError(f"{option} ({text!r}): unknown key {unknown[0]!r}; "
-                             "a single plan takes n, c and optionally r = c + 1")
-        for key in ("n", "c"):
-            if key not in pairs:
-                raise InputError(f"{option} ({text!r}) lacks {key}; write for example \"n=80,c=2\"")
-        n = parse_count(pairs["n"], f"{option} n", minimum=1)
-        c = parse_count(pairs["c"], f"{option} c", minimum=0)
-        if c > n:
-            raise InputError(f"{option} c ({c}) must not be greater than n ({n})")
-        if "r" in pairs:
-            r = parse_count(pairs["r"], f"{option} r", minimum=1)
-            if r != c + 1:
-                raise InputError(f"{option} r ({r}) must be c + 1 ({c + 1}) for a single plan")
-        return SinglePlan(n=n, c=c)
-    raise InputError(f"{option} ({text!r}): unknown plan kind {kind!r}; known: single")
+    if kind is None:
+        kind = next((KEYS_HINT[k] for k in pairs if k in KEYS_HINT), "single")
+    if kind not in NOTATIONS:
+        raise InputError(f"{option} ({text!r}): unknown plan kind {kind!r}; known: "
+                         + ", ".join(NOTATIONS))
+    module, func = NOTATIONS[kind].split(":")
+    return getattr(importlib.import_module(module), func)(pairs, text, option)
