@@ -1,0 +1,5 @@
+"""``python -m lotwise``: the same as the ``lotwise`` command."""
+
+from lotwise.cli import main
+
+main()

@@ -1,0 +1,72 @@
+"""Benchmarks for single-sampling design and OC curves (see benchmark.py)."""
+
+from __future__ import annotations
+
+import subprocess
+import sys
+
+import numpy as np
+
+from lotwise import oc
+from lotwise.design.single import design_single
+from lotwise.plans import Scope, SinglePlan
+
+AQL, RQL, ALPHA, BETA = 0.001, 0.0015, 0.05, 0.10
+
+
+def exhaustive_scan(lot_size=None, c_max=200):
+    """What a spreadsheet user does: walk n = 1, 2, ... and for each n evaluate
+    every acceptance number 0 .. min(n, c_max) at once (one column of the
+    sheet), until a pair meets both risks. ``c_max`` = 200 is generous for
+    these targets (the answer has c = 53) and keeps the scan affordable."""
+    d1 = d2 = None
+    if lot_size:
+        d1 = oc.lot_count(AQL, lot_size, "up")
+        d2 = oc.lot_count(RQL, lot_size, "down")
+    n = 0
+    while True:
+        n += 1
+        cs = np.arange(0, min(n, c_max) + 1)
+        if lot_size:
+            pa1 = oc.pa_hypergeometric(n, cs, lot_size, d1)
+            pa2 = oc.pa_hypergeometric(n, cs, lot_size, d2)
+        else:
+            pa1 = oc.pa_binomial(n, cs, AQL)
+            pa2 = oc.pa_binomial(n, cs, RQL)
+        ok = (np.asarray(pa1) >= 1 - ALPHA) & (np.asarray(pa2) <= BETA)
+        if ok.any():
+            return n, int(np.argmax(ok))
+
+
+PLAN = SinglePlan(n=125, c=3)
+PS = np.linspace(0, 0.2, 1000)
+
+CASES = [
+    {"name": "design single, binomial, AQL 0.1 %/RQL 0.15 % (n = 42,399, c = 53)",
+     "func": lambda: design_single(aql=AQL, rql=RQL), "goal_ms": 20,
+     "baseline": lambda: exhaustive_scan(None), "ratio_goal": 100},
+    {"name": "design single, hypergeometric, same targets, lot of 1,000,000",
+     "func": lambda: design_single(aql=AQL, rql=RQL, lot_size=1_000_000), "goal_ms": 20,
+     "baseline": lambda: exhaustive_scan(1_000_000), "ratio_goal": 100, "baseline_repeat": 1},
+    {"name": "OC curve, 1,000 points, binomial", "goal_ms": 5,
+     "func": lambda: PLAN.pa(PS, "binomial", Scope())},
+    {"name": "OC curve, 1,000 points, Poisson", "goal_ms": 5,
+     "func": lambda: PLAN.pa(PS, "poisson", Scope())},
+    {"name": "OC curve, 1,000 points, hypergeometric (lot 5,000)", "goal_ms": 5,
+     "func": lambda: PLAN.pa(PS, "hypergeometric", Scope(lot_size=5000))},
+]
+
+
+def _cold(args):
+    subprocess.run(args, check=True, capture_output=True)
+
+
+_CLI = [sys.executable, "-m", "lotwise", "design", "--aql", "0.1%", "--rql", "0.15%", "--json"]
+_BASE = [sys.executable, "-c", "import numpy, scipy.special"]
+
+CASES.append({
+    "name": "cold `lotwise design --json` vs `python -c 'import numpy, scipy.special'` "
+            "(ratio shown is baseline/CLI; goal CLI <= 1.5x baseline, i.e. ratio >= 0.67)",
+    "func": lambda: _cold(_CLI), "baseline": lambda: _cold(_BASE), "ratio_goal": 0.67,
+    "repeat": 7, "baseline_repeat": 7,
+})

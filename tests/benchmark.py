@@ -1,0 +1,90 @@
+"""Speed benchmarks: medians and ratios measured side by side in one run.
+
+Run ``python tests/benchmark.py`` (add ``--quick`` for fewer repetitions,
+``--only NAME`` to filter). Not part of the test suite: timings are printed,
+compared with their goals, and copied into DEVELOPERS.md by hand.
+
+Every ``tests/bench_*.py`` module contributes a list ``CASES`` of dicts:
+
+``name``
+    what is measured;
+``func``
+    a callable with no arguments;
+``goal_ms`` (optional)
+    the goal for the median, in milliseconds;
+``baseline`` and ``ratio_goal`` (optional)
+    a slower reference callable measured in the same run, and the smallest
+    acceptable ratio ``baseline / func``;
+``repeat`` (optional)
+    repetitions (default 15; baselines run ``baseline_repeat``, default 3).
+"""
+
+from __future__ import annotations
+
+import argparse
+import importlib.util
+import statistics
+import sys
+import time
+from pathlib import Path
+
+HERE = Path(__file__).resolve().parent
+
+
+def median_ms(func, repeat: int) -> float:
+    func()  # warm-up: imports, caches
+    times = []
+    for _ in range(repeat):
+        t = time.perf_counter()
+        func()
+        times.append(time.perf_counter() - t)
+    return 1000.0 * statistics.median(times)
+
+
+def load_cases():
+    sys.path.insert(0, str(HERE))
+    for path in sorted(HERE.glob("bench_*.py")):
+        spec = importlib.util.spec_from_file_location(path.stem, path)
+        mod = importlib.util.module_from_spec(spec)
+        spec.loader.exec_module(mod)
+        for case in getattr(mod, "CASES", []):
+            yield path.stem, case
+
+
+def main(argv=None) -> int:
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--quick", action="store_true", help="fewer repetitions")
+    ap.add_argument("--only", default=None, help="run cases whose name contains this text")
+    args = ap.parse_args(argv)
+    rows = []
+    for module, case in load_cases():
+        if args.only and args.only not in case["name"]:
+            continue
+        rep = case.get("repeat", 15)
+        if args.quick:
+            rep = max(3, rep // 3)
+        med = median_ms(case["func"], rep)
+        goal = case.get("goal_ms")
+        status = "" if goal is None else ("ok" if med <= goal else "SLOW")
+        ratio = None
+        if case.get("baseline") is not None:
+            base = median_ms(case["baseline"], case.get("baseline_repeat", 3))
+            ratio = base / med if med > 0 else float("inf")
+            rg = case.get("ratio_goal")
+            if rg is not None and ratio < rg:
+                status = "SLOW"
+        rows.append((case["name"], med, goal, ratio, case.get("ratio_goal"), status))
+        r = "" if ratio is None else f"  ratio {ratio:,.0f}x (goal >= {case.get('ratio_goal')}x)"
+        g = "" if goal is None else f" (goal <= {goal:g} ms)"
+        print(f"{case['name']}: median {med:.2f} ms{g}{r}  {status}", flush=True)
+    print()
+    print("| case | median | goal | ratio to baseline | verdict |")
+    print("|---|---|---|---|---|")
+    for name, med, goal, ratio, rg, status in rows:
+        print(f"| {name} | {med:.2f} ms | {'' if goal is None else f'<= {goal:g} ms'} | "
+              f"{'' if ratio is None else f'{ratio:,.0f}x (goal >= {rg}x)'} | {status or '-'} |")
+    return 1 if any(r[-1] == "SLOW" for r in rows) else 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
