@@ -21,13 +21,13 @@ the time (indifference) and at most ``beta`` of the time (consumer).
 
 Examples
 --------
-A supplier quotes "sample 80, accept on 2" against AQL 1 % and RQL 8 %:
+A supplier quotes "sample 80, accept on 2" against AQL 1 % and RQL 5 %:
 
 >>> from lotwise.design.single import Targets
 >>> from lotwise.plans import Scope, SinglePlan
->>> a = audit_plan(SinglePlan(n=80, c=2), Targets(aql=0.01, rql=0.08), Scope())
+>>> a = audit_plan(SinglePlan(n=80, c=2), Targets(aql=0.01, rql=0.05), Scope())
 >>> a.meets, round(a.risks["binomial"].beta, 3)
-(False, 0.1)
+(False, 0.231)
 """
 
 from __future__ import annotations

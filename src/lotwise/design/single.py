@@ -60,7 +60,7 @@ from .. import oc
 from ..plans import Scope, SinglePlan
 from ..quantities import InputError, Infeasible, format_level, format_pct
 
-__all__ = ["Targets", "SingleDesign", "design_single", "lot_targets"]
+__all__ = ["Targets", "SingleDesign", "design_single", "lot_targets", "min_sample_size"]
 
 _TOL = 1e-12  # slack for floating-point ties at a risk boundary
 
@@ -370,3 +370,34 @@ def _cap_infeasible(kernel: _Kernel, targets: Targets, cap: int | None, lot_size
         f"c = {cc}: alpha {format_pct(a)} (target {format_pct(targets.alpha)}), beta "
         f"{format_pct(b)} (target {format_pct(targets.beta)})",
         {"n": cap, "c": cc, "alpha": a, "beta": b})
+
+
+def min_sample_size(*, c: int, rql: float, beta: float, lot_size: int | None = None,
+                    model: str | None = None, defects: bool = False) -> int:
+    """Smallest ``n`` with ``Pa(RQL; n, c) <= beta``: the consumer's side alone.
+
+    This is the sample size that shows, with confidence ``1 - beta``, that the
+    fraction nonconforming is below ``rql`` when at most ``c`` nonconforming
+    items are found (a "confidence/reliability" sample with
+    ``rql = 1 - reliability``).
+
+    Examples
+    --------
+    Accept-on-zero sample for 95 % confidence that at least 95 % conform:
+
+    >>> min_sample_size(c=0, rql=0.05, beta=0.05)
+    59
+    """
+    scope = Scope(lot_size=lot_size, defects=defects)
+    model = scope.check_model(model)
+    if c < 0:
+        raise InputError(f"c ({c}) must be at least 0")
+    t = Targets(aql=rql / 2, rql=rql, alpha=0.5, beta=beta)
+    kernel = _Kernel(model, t, scope)
+    if model == "hypergeometric" and kernel.d2 <= c:
+        raise Infeasible(f"a lot of {lot_size} at the RQL holds only {kernel.d2} nonconforming "
+                         f"item(s): c = {c} accepts it whatever the sample")
+    nm = int(_n_min(kernel, np.array([c]), beta, lot_size)[0])
+    if nm < 0:
+        raise Infeasible(f"no sample up to the lot size meets beta with c = {c}")
+    return nm
