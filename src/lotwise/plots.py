@@ -58,6 +58,7 @@ def new_axes(ax=None, size=(6.4, 4.0)):
     plt = _mpl()
     if ax is None:
         fig, ax = plt.subplots(figsize=size, dpi=110)
+        fig._lotwise_own = True
     else:
         fig = ax.figure
     for side in ("top", "right"):
@@ -66,6 +67,12 @@ def new_axes(ax=None, size=(6.4, 4.0)):
     ax.set_axisbelow(True)
     ax.tick_params(labelsize=8.5)
     return fig, ax
+
+
+def _tidy(fig):
+    """Tight layout only for figures made here, never for a caller's page."""
+    if getattr(fig, "_lotwise_own", False):
+        fig.tight_layout()
 
 
 def _pct_axis(ax, per_unit: bool, which: str = "x"):
@@ -146,7 +153,7 @@ def oc_figure(items, *, models=None, aql=None, rql=None, alpha=None, beta=None,
     if title:
         ax.set_title(title, fontsize=10.5, loc="left")
     ax.legend(fontsize=7.5, frameon=False, loc="upper right")
-    fig.tight_layout()
+    _tidy(fig)
     return fig
 
 
@@ -175,5 +182,5 @@ def curve_figure(x, curves, *, xlabel, ylabel, per_unit=False, ax=None, title=No
     if title:
         ax.set_title(title, fontsize=10.5, loc="left")
     ax.legend(fontsize=7.5, frameon=False)
-    fig.tight_layout()
+    _tidy(fig)
     return fig

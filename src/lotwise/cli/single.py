@@ -80,6 +80,7 @@ def design(
 
 @app.command()
 def check(
+    paths: Optional[List[str]] = typer.Argument(None, help="Plan files or folders to re-verify."),
     plan: Optional[str] = typer.Option(None, "--plan", help='Plan notation, e.g. "n=80,c=2".'),
     n: Optional[str] = typer.Option(None, "--n", help="Sample size."),
     c: Optional[str] = typer.Option(None, "--c", help="Acceptance number."),
@@ -92,13 +93,20 @@ def check(
     defects: bool = common.DEFECTS,
     as_json: bool = common.JSON,
 ):
-    """Audit a plan: the risks it really carries and its own quality levels.
+    """Audit a plan (or re-verify plan files): the risks it really carries.
 
-    Exit 0 when it meets both targets, 1 when it falls short.
+    Exit 0 when it meets both targets, 1 when it falls short. With plan files
+    or folders, one summary row per characteristic.
     """
     from ..design.single import Targets
     from ..report import render_single, single_report
 
+    if paths:
+        if plan is not None or n is not None or c is not None:
+            raise InputError("give plan files/folders or --plan/--n/--c, not both")
+        from .sheets import check_folder
+
+        raise typer.Exit(check_folder(paths, as_json))
     p = _plan_from(plan, n, c)
     a, r = common.levels(aql, rql, defects)
     al, be = common.risks(alpha, beta)

@@ -1,0 +1,198 @@
+"""``lotwise sheet``, ``compare``, ``demo`` and the folder audit behind ``check PATH``."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import List, Optional
+
+import typer
+
+from . import app, common
+from ..quantities import InputError
+
+
+def _resolve_files(paths):
+    from ..partplan import resolve
+    from ..planfile import load, plan_files
+
+    out = []
+    for f in plan_files(paths):
+        out.append(resolve(load(f)))
+    return out
+
+
+def check_folder(paths, as_json: bool) -> int:
+    """One summary row per characteristic; 1 if any falls short or has no plan."""
+    from ..quantities import format_pct
+
+    rows, items = [], []
+    for pp in _resolve_files(paths):
+        req = pp.request
+        if pp.n is None:
+            rows.append([Path(req.path).name, req.part_id, "-", "-", "no plan", "-", "-",
+                         "NO PLAN"])
+            items.append({"file": req.path, "part": req.part_id, "characteristic": None,
+                          "meets": False, "problem": pp.problem})
+            continue
+        for rep in pp.reports:
+            ch = rep["characteristic"]
+            r = rep["models"][rep["model"]]
+            t = rep["targets"]
+            rows.append([Path(req.path).name, req.part_id, ch["id"], ch["class"],
+                         f"n={rep['n']}, c={rep['c']}",
+                         f"{format_pct(r['alpha'])} / {format_pct(t['alpha'])}",
+                         f"{format_pct(r['beta'])} / {format_pct(t['beta'])}",
+                         "meets" if r["meets"] else "FALLS SHORT"])
+            items.append({"file": req.path, "part": req.part_id, "characteristic": ch["id"],
+                          "class": ch["class"], "n": rep["n"], "c": rep["c"],
+                          "model": rep["model"], "alpha": r["alpha"], "beta": r["beta"],
+                          "targets": t, "meets": r["meets"],
+                          "designed": pp.designed})
+    ok = all(i["meets"] for i in items)
+    if as_json:
+        common.emit_json({"meets": ok, "characteristics": items})
+    else:
+        typer.echo(common.table(rows, ["file", "part", "char.", "class", "plan",
+                                       "alpha / target", "beta / target", "verdict"]))
+        short = sum(not i["meets"] for i in items)
+        typer.echo(f"\n  {len(items)} characteristic(s) checked; "
+                   + ("all meet their targets." if ok else f"{short} fall(s) short."))
+    return 0 if ok else 1
+
+
+@app.command()
+def sheet(
+    files: List[str] = typer.Argument(..., help="Plan files (or folders of them)."),
+    out: str = typer.Option("sheets", "--out", "-o", help="Folder for the sheets."),
+    force: bool = typer.Option(False, "--force", help="Overwrite files lotwise did not write."),
+    as_json: bool = common.JSON,
+):
+    """Write the plan sheet (PDF, Markdown, OC plot and table, pick list) per plan file."""
+    from ..sheets import write_sheets
+
+    results = []
+    for pp in _resolve_files(files):
+        paths = write_sheets(pp, out, force=force)
+        results.append((pp, paths))
+    if as_json:
+        common.emit_json({"sheets": [{"file": pp.request.path, "part": pp.request.part_id,
+                                      "n": pp.n, "meets": pp.meets,
+                                      "paths": {k: str(v) for k, v in paths.items()}}
+                                     for pp, paths in results]})
+    else:
+        _summary(results)
+    raise typer.Exit(0 if all(pp.meets for pp, _ in results) else 1)
+
+
+def _summary(results):
+    rows = []
+    for pp, paths in results:
+        cs = ", ".join(f"{r['characteristic']['id']}:c={r['c']}" for r in pp.reports) or "-"
+        rows.append([pp.request.part_id, "-" if pp.n is None else str(pp.n), cs, pp.model or "-",
+                     "meets" if pp.meets else ("NO PLAN" if pp.n is None else "FALLS SHORT"),
+                     str(paths.get("pdf", ""))])
+    typer.echo(common.table(rows, ["part", "n", "acceptance numbers", "model", "verdict",
+                                   "sheet"]))
+
+
+@app.command()
+def compare(
+    files: Optional[List[str]] = typer.Argument(None, help="Plan files whose plans to include."),
+    plan: Optional[List[str]] = typer.Option(None, "--plan", help='Plan notation (repeatable), e.g. "n=80,c=2".'),
+    aql: Optional[str] = common.AQL,
+    rql: Optional[str] = common.RQL,
+    alpha: str = common.ALPHA,
+    beta: str = common.BETA,
+    lot: Optional[str] = common.LOT,
+    model: Optional[str] = common.MODEL,
+    defects: bool = common.DEFECTS,
+    plot: Optional[str] = typer.Option(None, "--plot", help="OC curves of all plans to PATH.png/.svg."),
+    force: bool = typer.Option(False, "--force", help="Overwrite files lotwise did not write."),
+    as_json: bool = common.JSON,
+):
+    """Several plans side by side: risks, quality levels, one OC plot."""
+    from ..design.single import Targets
+    from ..plans import Scope, parse_plan
+    from ..quantities import format_level, format_pct
+    from ..report import single_report
+
+    entries = []  # (label, plan, targets, scope, model)
+    for pp in _resolve_files(files or []):
+        for rep in pp.reports:
+            from ..plans import SinglePlan
+
+            t = rep["targets"]
+            entries.append((f"{pp.request.part_id}/{rep['characteristic']['id']}",
+                            SinglePlan(n=rep["n"], c=rep["c"]),
+                            Targets(**t), pp.request.scope, pp.request.model))
+    if plan:
+        a, r = common.levels(aql, rql, defects)
+        al, be = common.risks(alpha, beta)
+        scope = Scope(lot_size=common.lot_size(lot), defects=defects)
+        mdl = scope.check_model(model)
+        for i, text in enumerate(plan, 1):
+            p = parse_plan(text, f"--plan #{i}")
+            if scope.lot_size and getattr(p, "n", 0) > scope.lot_size:
+                raise InputError(f"--plan #{i} ({text}): n must not be greater than --lot-size "
+                                 f"({scope.lot_size})")
+            entries.append((p.label, p, Targets(aql=a, rql=r, alpha=al, beta=be), scope, mdl))
+    if len(entries) < 2:
+        raise InputError("compare needs at least two plans: give --plan twice or more, or plan "
+                         "files")
+    if plot is not None and not plot.lower().endswith((".png", ".svg", ".pdf")):
+        raise InputError(f"--plot ({plot}) must end in .png, .svg or .pdf")
+    reps = [(label, single_report(p, t, s, m, verdict=False)) for label, p, t, s, m in entries]
+    if plot is not None:
+        from ..files import save_figure
+        from ..plots import oc_figure
+
+        t0 = entries[0][2]
+        fig = oc_figure([(p, s) for _, p, _, s, _ in entries], models=[entries[0][3].exact_model],
+                        aql=t0.aql, rql=t0.rql, labels=[e[0] for e in entries],
+                        max_p=max(1.3 * e[2].rql for e in entries))
+        save_figure(fig, plot, force=force)
+    if as_json:
+        common.emit_json({"plans": [dict(rep, label=label) for label, rep in reps]})
+        return
+    rows = []
+    for label, rep in reps:
+        r = rep["models"][rep["model"]]
+        q = rep["plan_quality"]
+        per = rep["defects"]
+        rows.append([label, rep["model"], f"{r['pa_aql']:.4f}", format_pct(r["alpha"]),
+                     f"{r['pa_rql']:.4f}", format_pct(r["beta"]), format_level(q["producer"], per),
+                     format_level(q["indifference"], per), format_level(q["consumer"], per),
+                     "yes" if r["meets"] else "NO"])
+    typer.echo(common.table(rows, ["plan", "model", "Pa(AQL)", "alpha", "Pa(RQL)", "beta",
+                                   "Pa=1-alpha at", "Pa=0.5 at", "Pa=beta at", "meets"]))
+    if plot:
+        typer.echo(f"  wrote {plot}")
+
+
+def _project_root() -> Path:
+    return Path(__file__).resolve().parents[3]
+
+
+@app.command()
+def demo(
+    out: str = typer.Option("lotwise-demo", "--out", "-o", help="Folder for the demo's sheets."),
+    force: bool = typer.Option(False, "--force", help="Overwrite files lotwise did not write."),
+):
+    """Run the main job end to end on the invented demo scenario in plans/."""
+    from ..sheets import write_sheets
+
+    plans = _project_root() / "plans"
+    if not plans.is_dir():
+        raise InputError(f"demo: the scenario folder {plans} is missing; run lotwise from a "
+                         "clone of the project (pip install -e .)")
+    typer.echo("lotwise demo: receiving inspection at Quillmoor Pumps (an invented company), "
+               f"{len(list(plans.glob('*.toml')))} purchased parts from {plans}\n")
+    results = []
+    for pp in _resolve_files([plans]):
+        results.append((pp, write_sheets(pp, out, force=force)))
+    _summary(results)
+    short = [pp.request.part_id for pp, _ in results if not pp.meets]
+    typer.echo(f"\n  Sheets written to {out}/ (PDF, Markdown, OC plot and table, pick list).")
+    if short:
+        typer.echo("  Falls short on audit (as the scenario intends): " + ", ".join(short))
+    typer.echo("  Next: lotwise check plans/   re-verifies every plan file against its targets.")

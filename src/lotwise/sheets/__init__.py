@@ -1,0 +1,273 @@
+"""Plan sheets: the document handed to the supplier and the auditor.
+
+For each plan file :func:`write_sheets` writes, into one folder,
+
+* ``<stem>.pdf`` -- one printable A4 page;
+* ``<stem>.md`` -- the same content and numbers as Markdown;
+* ``<stem>-oc.png`` -- the OC curves (exact and Poisson);
+* ``<stem>-oc.csv`` -- the OC table under every model;
+* ``<stem>-picklist.csv`` -- the seeded random selection of units, when the
+  lot size is known.
+
+Both documents are rendered from one :class:`SheetContent`, built by
+:func:`build_content` from the same result dictionaries as ``--json``, so a
+number on the sheet is the number the command line reports. Every write is
+atomic and never replaces a file the tool did not write (see
+:mod:`lotwise.files`).
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from .. import __version__
+from ..quantities import format_level, format_pct
+
+__all__ = ["CAUTION", "SheetContent", "build_content", "write_sheets", "fmt_pa"]
+
+CAUTION = (
+    "Acceptance sampling judges lots; it cannot guarantee that an accepted lot is free of "
+    "nonconforming items, and a plan's protection holds only under random selection and the "
+    "stated model. Critical (safety-related) characteristics call for 100 % inspection, "
+    "error-proofing or the stricter plans a contract or regulation requires. The user remains "
+    "responsible for meeting the applicable standards, customer requirements and regulations; "
+    "this sheet supports, and does not replace, the judgement of a qualified quality "
+    "professional."
+)
+
+DEFAULT_REJECTED = (
+    "Hold and tag the lot as rejected; do not release it to production. Notify the supplier. "
+    "Disposition under the nonconforming-material procedure: return to the supplier, or screen "
+    "every item and replace the nonconforming ones (rectifying inspection), with the decision "
+    "recorded against the lot."
+)
+
+_MODEL_TEXT = {
+    "hypergeometric": "hypergeometric (finite lot, sampling without replacement; type A OC)",
+    "binomial": "binomial (process fraction nonconforming; type B OC)",
+    "poisson": "Poisson",
+}
+
+
+def fmt_pa(x: float) -> str:
+    """Acceptance probabilities on sheets: four decimals."""
+    return f"{x:.4f}"
+
+
+@dataclass(frozen=True, kw_only=True)
+class SheetContent:
+    """Everything a sheet says, already formatted; both renderers use it."""
+
+    title: str
+    subtitle: str
+    scope: list  # (label, text)
+    plan_line: str
+    plan_rows: list  # [id, class, c, r, aql/alpha, rql/beta]
+    risk_rows: list  # [id, model, Pa(AQL), alpha, target, Pa(RQL), beta, target, verdict]
+    guarantees: list  # sentences
+    poisson: list  # sentences
+    model_note: str
+    selection: str
+    rejected: str
+    cautions: list
+    rationale: str
+    footer: str
+    verdict: str
+    picks: list = field(default_factory=list)
+
+
+PLAN_HEADER = ["Characteristic", "Class", "Accept (c)", "Reject (r)", "AQL / alpha", "RQL / beta"]
+RISK_HEADER = ["Char.", "Model", "Pa(AQL)", "alpha", "target", "Pa(RQL)", "beta", "target",
+               "Verdict"]
+
+
+def _lvl(x, per_unit):
+    return format_level(x, per_unit)
+
+
+def build_content(pp, *, picks=None, today: _dt.date | None = None) -> SheetContent:
+    """Format a :class:`~lotwise.partplan.PartPlan` for the sheets."""
+    req = pp.request
+    scope = req.scope
+    per_unit = scope.defects
+    today = today or _dt.date.today()
+    title = f"Sampling plan: {req.part_id}" + (f", {req.part_description}"
+                                               if req.part_description else "")
+    verdict = ("Meets every target." if pp.meets else
+               ("NO PLAN: " + pp.problem) if pp.n is None else "FALLS SHORT of a target.")
+    sub = f"{'Designed plan' if pp.designed else 'Audit of a fixed plan'} ({Path(req.path).name}): {verdict}"
+    counted = "nonconformities per unit" if per_unit else "nonconforming items"
+    lot = (f"{scope.lot_size:,} items" if scope.lot_size else "not stated (treated as a process "
+           "or very large lot)")
+    scope_rows = [("Part", req.part_id + (f": {req.part_description}" if req.part_description
+                                         else ""))]
+    if req.supplier:
+        scope_rows.append(("Supplier", req.supplier))
+    scope_rows.append(("Lot", (req.lot_definition + "; " if req.lot_definition else "")
+                       + f"lot size {lot}"))
+    scope_rows.append(("Counted", counted))
+    scope_rows.append(("Characteristics", "; ".join(
+        f"{c.id} {c.description} [{c.klass}]".replace("  ", " ") for c in req.characteristics)))
+
+    plan_rows, risk_rows, guar, pois = [], [], [], []
+    for rep in pp.reports:
+        ch = rep["characteristic"]
+        t = rep["targets"]
+        plan_rows.append([ch["id"], ch["class"], str(rep["c"]), str(rep["r"]),
+                          f"{_lvl(t['aql'], per_unit)} / {format_pct(t['alpha'])}",
+                          f"{_lvl(t['rql'], per_unit)} / {format_pct(t['beta'])}"])
+        for m, r in rep["models"].items():
+            star = "*" if m == rep["model"] else ""
+            risk_rows.append([ch["id"], m + star, fmt_pa(r["pa_aql"]), format_pct(r["alpha"]),
+                              format_pct(t["alpha"]), fmt_pa(r["pa_rql"]), format_pct(r["beta"]),
+                              format_pct(t["beta"]), "meets" if r["meets"] else "SHORT"])
+        q = rep["plan_quality"]
+        unit = "" if per_unit else " nonconforming"
+        guar.append(
+            f"{ch['id']} (n = {rep['n']}, c = {rep['c']}): accepts lots at "
+            f"{_lvl(q['producer'], per_unit)}{unit} {format_pct(1 - t['alpha'])} of the time (the "
+            f"AQL it really protects), at {_lvl(q['indifference'], per_unit)} half the time, and at "
+            f"{_lvl(q['consumer'], per_unit)} {format_pct(t['beta'])} of the time (the RQL it "
+            "really gives).")
+        if "poisson_verdict" in rep:
+            pois.append(f"{ch['id']}: {rep['poisson_verdict']['summary']}")
+    if pp.n is not None:
+        plan_line = (f"Inspect n = {pp.n} units drawn at random from each lot"
+                     + (f" of {scope.lot_size:,}" if scope.lot_size else "")
+                     + ". For each characteristic, accept the lot if the count found is at most "
+                     "c; reject it at r or more. A lot is accepted only if every characteristic "
+                     "is accepted.")
+        if pp.reports and pp.reports[0].get("full_inspection"):
+            plan_line += " The sample is the whole lot: 100 % inspection."
+    else:
+        plan_line = "No plan meets these targets: " + pp.problem
+    model = pp.model or (scope.exact_model)
+    note = f"Model judged by: {_MODEL_TEXT.get(model, model)} (marked *)."
+    if scope.lot_size and pp.reports and "lot_counts" in pp.reports[0]:
+        parts = []
+        for rep in pp.reports:
+            lc = rep["lot_counts"]
+            parts.append(f"{rep['characteristic']['id']}: AQL -> {lc['aql']}, RQL -> {lc['rql']}")
+        note += (" Lot counts of nonconforming items, rounded up at the AQL and down at the RQL "
+                 "(the conservative way for each risk): " + "; ".join(parts) + ".")
+    if picks is not None:
+        first = ", ".join(str(u) for u in picks.units[:12])
+        more = " ..." if len(picks.units) > 12 else ""
+        selection = (f"Simple random sample without replacement"
+                     + (f", stratified ({picks.method})" if picks.method != "simple random" else "")
+                     + f". Pick list seed {picks.seed}; first units: {first}{more} (full list in "
+                     f"{req.stem}-picklist.csv). Re-create with: lotwise draw --lot-size "
+                     f"{scope.lot_size} --n {pp.n} --seed {picks.seed}"
+                     + (f" --strata \"{req.strata}\"" if req.strata else "") + ".")
+    else:
+        selection = ("Draw the units at random from the whole lot (every unit equally likely), "
+                     "for example with a seeded pick list from `lotwise draw` once the lot size "
+                     "is known.")
+    cautions = [CAUTION]
+    if any(c.klass == "critical" for c in req.characteristics):
+        cautions.insert(0, "This part has a CRITICAL characteristic: a sampling plan cannot make "
+                        "it safe. Use 100 % inspection, error-proofing or the stricter plan your "
+                        "contract or regulation requires; this plan is a check on top of those.")
+    footer = (f"Prepared {today.isoformat()} with lotwise {__version__}; input fingerprint "
+              f"{req.fingerprint()} (SHA-256 of the plan file's parsed content). Re-create with: "
+              f"lotwise sheet {req.path}")
+    return SheetContent(title=title, subtitle=sub, scope=scope_rows, plan_line=plan_line,
+                        plan_rows=plan_rows, risk_rows=risk_rows, guarantees=guar, poisson=pois,
+                        model_note=note, selection=selection,
+                        rejected=req.rejected_lot or DEFAULT_REJECTED, cautions=cautions,
+                        rationale=req.rationale, footer=footer, verdict=verdict,
+                        picks=list(picks.units) if picks is not None else [])
+
+
+def oc_rows(pp, points: int = 41):
+    """OC table (header, rows) for every characteristic's plan under every model."""
+    import numpy as np
+
+    from ..audit import oc_grid, quality_at
+    from ..plans import SinglePlan
+
+    scope = pp.request.scope
+    top = 0.0
+    for rep in pp.reports:
+        plan = SinglePlan(n=rep["n"], c=rep["c"])
+        top = max(top, 1.25 * rep["targets"]["rql"],
+                  quality_at(plan, 0.01, scope.exact_model, scope, "consumer"))
+    if not scope.defects:
+        top = min(top, 1.0)
+    ps = np.linspace(0.0, top, points)
+    header = ["p"]
+    cols = []
+    for rep in pp.reports:
+        plan = SinglePlan(n=rep["n"], c=rep["c"])
+        g = oc_grid(plan, scope, scope.models, ps)
+        for m in scope.models:
+            header.append(f"{rep['characteristic']['id']}_{m}")
+            cols.append(g[m])
+    if "hypergeometric" in scope.models:
+        header.append("lot_count")
+        cols.append(g["lot_count"])
+    rows = [[float(ps[i])] + [c[i] for c in cols] for i in range(len(ps))]
+    return header, rows
+
+
+def oc_plot(pp, ax=None):
+    """The sheet's OC figure: each characteristic's exact curve and the first's
+    Poisson curve, with AQL and RQL points marked."""
+    from ..plans import SinglePlan
+    from ..plots import oc_figure
+
+    scope = pp.request.scope
+    items = [(SinglePlan(n=r["n"], c=r["c"]), scope) for r in pp.reports]
+    labels = [f"{r['characteristic']['id']} (n={r['n']}, c={r['c']})" for r in pp.reports]
+    first = pp.reports[0]["targets"]
+    top = max(1.25 * r["targets"]["rql"] for r in pp.reports)
+    fig = oc_figure(items, aql=first["aql"], rql=first["rql"], labels=labels, ax=ax,
+                    max_p=None if len(items) == 1 else top)
+    return fig
+
+
+def _csv_value(v) -> str:
+    import numpy as np
+
+    if isinstance(v, (int, np.integer)):
+        return str(int(v))
+    return repr(float(v))
+
+
+def write_sheets(pp, out_dir, *, force: bool = False, today=None) -> dict:
+    """Write the PDF, Markdown, PNG and CSV files for one resolved plan file.
+
+    Returns ``{kind: path}``.
+    """
+    from ..files import save_figure, write_bytes, write_text
+    from . import markdown, pdf
+
+    out = Path(out_dir)
+    req = pp.request
+    stem = req.stem
+    picks = None
+    paths = {}
+    if pp.n is not None and req.scope.lot_size:
+        from ..draw import draw_units
+
+        seed = req.seed if req.seed is not None else int(req.fingerprint()[:8], 16)
+        picks = draw_units(lot_size=req.scope.lot_size, n=pp.n, seed=seed, strata=req.strata)
+    content = build_content(pp, picks=picks, today=today)
+    if pp.n is not None:
+        header, rows = oc_rows(pp)
+        csv = ",".join(header) + "\n" + "".join(
+            ",".join(_csv_value(v) for v in row) + "\n" for row in rows)
+        paths["csv"] = write_text(out / f"{stem}-oc.csv", csv, force=force, option="sheet")
+        paths["png"] = save_figure(oc_plot(pp), out / f"{stem}-oc.png", force=force,
+                                   option="sheet", dpi=150)
+        if picks is not None:
+            paths["picklist"] = write_text(out / f"{stem}-picklist.csv", picks.to_csv(),
+                                           force=force, option="sheet")
+    paths["md"] = write_text(out / f"{stem}.md", markdown.render(content, png=f"{stem}-oc.png"
+                                                                 if pp.n is not None else None),
+                             force=force, option="sheet")
+    paths["pdf"] = write_bytes(out / f"{stem}.pdf", pdf.render(content, pp), force=force,
+                               option="sheet")
+    return paths
