@@ -1,0 +1,166 @@
+"""Plan sheets: the numbers on the PDF and Markdown equal the --json results,
+the PDF is one page, writes are atomic and never clobber a user's file."""
+
+from __future__ import annotations
+
+import json
+import os
+import re
+import time
+from pathlib import Path
+
+import pytest
+from pypdf import PdfReader
+
+from lotwise import files
+from lotwise.cli import main
+from lotwise.quantities import InputError, format_pct
+
+ROOT = Path(__file__).resolve().parents[1]
+PLANS = ROOT / "plans"
+
+
+def pdf_text(path) -> str:
+    r = PdfReader(str(path))
+    assert len(r.pages) == 1
+    return " ".join(r.pages[0].extract_text().split())
+
+
+def cli_json(capsys, *args):
+    code = main(list(args) + ["--json"])
+    out, _ = capsys.readouterr()
+    return code, json.loads(out)
+
+
+def targets_args(t):
+    return ["--aql", repr(t["aql"]), "--rql", repr(t["rql"]), "--alpha", repr(t["alpha"]),
+            "--beta", repr(t["beta"])]
+
+
+@pytest.mark.parametrize("name", ["qp-2210-manifold-block", "qp-6630-gasket-proposal",
+                                  "qp-3305-housing-finish", "qp-1104-relief-spring"])
+def test_sheet_numbers_equal_json(tmp_path, capsys, name):
+    src = PLANS / f"{name}.toml"
+    code = main(["sheet", str(src), "--out", str(tmp_path)])
+    capsys.readouterr()
+    assert code in (0, 1)
+    text = pdf_text(tmp_path / f"{name}.pdf")
+    md = " ".join((tmp_path / f"{name}.md").read_text().split())
+    from lotwise.planfile import load
+
+    req = load(src)
+    _, sheet_json = cli_json(capsys, "sheet", str(src), "--out", str(tmp_path))
+    n = sheet_json["sheets"][0]["n"]
+    for ch in req.characteristics:
+        t = ch.targets.as_dict()
+        lot = ["--lot-size", str(req.scope.lot_size)] if req.scope.lot_size else []
+        extra = ["--defects"] if req.scope.defects else []
+        # The same characteristic through `check` with the sheet's plan.
+        c = re.search(rf"\| {re.escape(ch.id)} \| {ch.klass} \| (\d+) \|", md).group(1)
+        _, rep = cli_json(capsys, "check", "--n", str(n), "--c", c, *targets_args(t), *lot, *extra)
+        if ch.c is None and not req.fixed:
+            # and it is what `design --n` picks for that sample size
+            _, d = cli_json(capsys, "design", "--n", str(n), *targets_args(t), *lot, *extra)
+            assert d["c"] == int(c)
+        for doc in (text, md):
+            assert f"n = {n}" in doc
+            for m, r in rep["models"].items():
+                for key in ("pa_aql", "pa_rql"):
+                    assert f"{r[key]:.4f}" in doc, (m, key)
+                for key in ("alpha", "beta"):
+                    assert format_pct(r[key]) in doc, (m, key)
+            q = rep["plan_quality"]
+            from lotwise.quantities import format_level
+
+            for key in ("producer", "indifference", "consumer"):
+                assert format_level(q[key], req.scope.defects) in doc, key
+
+
+def test_sheet_has_required_parts(tmp_path, capsys):
+    main(["sheet", str(PLANS / "qp-1104-relief-spring.toml"), "--out", str(tmp_path)])
+    capsys.readouterr()
+    text = pdf_text(tmp_path / "qp-1104-relief-spring.pdf")
+    for needle in ("Scope", "Targets against achieved risks", "OC curve", "Selecting the sample",
+                   "A rejected lot", "Cautions", "CRITICAL", "fingerprint", "lotwise 0.1.0",
+                   "hypergeometric", "rounded up at the AQL and down at the RQL", "seed 110401",
+                   "100 % inspection"):
+        assert needle in text, needle
+    assert (tmp_path / "qp-1104-relief-spring-oc.png").read_bytes()[:4] == b"\x89PNG"
+    assert (tmp_path / "qp-1104-relief-spring-oc.csv").read_text().startswith("p,C1_hypergeometric")
+    assert (tmp_path / "qp-1104-relief-spring-picklist.csv").exists()
+
+
+def test_sheet_refuses_to_overwrite_user_file(tmp_path, capsys):
+    mine = tmp_path / "qp-2210-manifold-block.md"
+    mine.write_text("my own notes")
+    code = main(["sheet", str(PLANS / "qp-2210-manifold-block.toml"), "--out", str(tmp_path)])
+    _, err = capsys.readouterr()
+    assert code == 2 and "--force" in err and mine.read_text() == "my own notes"
+    code = main(["sheet", str(PLANS / "qp-2210-manifold-block.toml"), "--out", str(tmp_path),
+                 "--force"])
+    assert code == 0 and mine.read_text().startswith("# Sampling plan")
+    # Re-running over its own, unchanged output needs no --force.
+    assert main(["sheet", str(PLANS / "qp-2210-manifold-block.toml"), "--out", str(tmp_path)]) == 0
+
+
+def test_atomic_write_survives_failure_mid_write(tmp_path, monkeypatch):
+    target = tmp_path / "sheet.md"
+    files.write_text(target, "first version\n")
+
+    real_fdopen = os.fdopen
+
+    class Boom:
+        def __init__(self, fh):
+            self.fh = fh
+
+        def __enter__(self):
+            return self
+
+        def __exit__(self, *exc):
+            self.fh.close()
+            return False
+
+        def write(self, data):
+            self.fh.write(data[: len(data) // 2])  # half written, then the disk "fails"
+            raise OSError(28, "No space left on device")
+
+    monkeypatch.setattr(os, "fdopen", lambda fd, mode: Boom(real_fdopen(fd, mode)))
+    with pytest.raises(InputError, match="cannot be written"):
+        files.write_text(target, "second version, much longer than the first\n")
+    monkeypatch.undo()
+    assert target.read_text() == "first version\n"  # the old file is intact
+    assert [p.name for p in tmp_path.iterdir() if p.name.endswith(".tmp")] == []
+
+
+def test_check_folder_summary_and_exit(capsys):
+    code = main(["check", str(PLANS)])
+    out, _ = capsys.readouterr()
+    assert code == 1  # the supplier's gasket proposal falls short, by design of the scenario
+    assert "QP-6630" in out and "FALLS SHORT" in out and "QP-1104" in out
+    code, d = cli_json(capsys, "check", str(PLANS / "qp-2210-manifold-block.toml"))
+    assert code == 0 and d["meets"] and d["characteristics"][0]["n"] > 0
+
+
+def test_compare_table_and_plot(tmp_path, capsys):
+    png = tmp_path / "cmp.png"
+    code = main(["compare", "--plan", "n=32,c=1", "--plan", "n=50,c=1", "--plan", "n=29,c=0",
+                 "--aql", "1%", "--rql", "8%", "--plot", str(png)])
+    out, _ = capsys.readouterr()
+    assert code == 0 and "n=32, c=1" in out and png.exists()
+    code, d = cli_json(capsys, "compare", "--plan", "n=32,c=1", "--plan", "n=29,c=0",
+                       "--aql", "1%", "--rql", "8%")
+    assert [p["label"] for p in d["plans"]] == ["n=32, c=1", "n=29, c=0"]
+
+
+def test_demo_runs_fast_and_writes_six_sheets(tmp_path, capsys):
+    t = time.perf_counter()
+    code = main(["demo", "--out", str(tmp_path)])
+    elapsed = time.perf_counter() - t
+    out, _ = capsys.readouterr()
+    assert code == 0
+    pdfs = sorted(tmp_path.glob("*.pdf"))
+    assert len(pdfs) >= 6
+    for p in pdfs:
+        assert str(p) in out or p.name in out
+        assert len(PdfReader(str(p)).pages) == 1
+    assert elapsed < 30
