@@ -154,6 +154,8 @@ class Draw:
         One entry per unit, ascending: pick number, unit, stratum, position.
     numpy_version : str
         The numpy release the list was drawn with.
+    strata_spec : str or None
+        The strata as written (``"cartons=40"``), for the re-create command.
     """
 
     lot_size: int
