@@ -1,0 +1,119 @@
+"""``lotwise draw``: which units to pull, as a seeded pick list."""
+
+from __future__ import annotations
+
+import shlex
+from typing import Optional
+
+import typer
+
+from . import app, common
+from ..quantities import InputError, parse_count
+
+CAUTION = ("Pull exactly these units: swapping one for a unit that is easier to reach\n"
+           "undoes the random selection the plan's risks rely on.")
+
+
+def rows_of(numbers, per_row: int = 10, indent: str = "  ") -> str:
+    """Numbers right-aligned in rows of ``per_row``."""
+    numbers = list(numbers)
+    if not numbers:
+        return indent + "(none)"
+    w = max(len(str(v)) for v in numbers)
+    return "\n".join(indent + " ".join(str(v).rjust(w) for v in numbers[i:i + per_row])
+                     for i in range(0, len(numbers), per_row))
+
+
+def recreate_command(d) -> str:
+    """The command line that re-creates the pick list ``d``."""
+    args = ["lotwise", "draw", "--lot-size", str(d.lot_size), "--n", str(d.n),
+            "--seed", str(d.seed)]
+    if d.strata_spec is not None:
+        args += ["--strata", d.strata_spec]
+    return " ".join(shlex.quote(a) for a in args)
+
+
+def render_draw(d) -> str:
+    """The pick list as the terminal shows it."""
+    lines = []
+    if d.strata is None:
+        lines.append(f"Pick list: {d.n:,} of {d.lot_size:,} units, simple random without "
+                     "replacement")
+    else:
+        lines.append(f"Pick list: {d.n:,} of {d.lot_size:,} units, stratified across "
+                     f"{len(d.strata):,} strata in proportion to their size")
+    lines.append(f"Seed: {d.seed} (numpy {d.numpy_version}, PCG64 Generator)")
+    if d.strata is not None:
+        by = {}
+        for p in d.picks:
+            by.setdefault(p.stratum, []).append(p.position)
+        rows = [[s.label, f"{s.first_unit:,}-{s.last_unit:,}", f"{s.size:,}", str(s.allocated),
+                 " ".join(map(str, by[s.label]))]
+                for s in d.strata if s.allocated > 0]
+        lines.append("")
+        lines.append(common.table(rows, ["stratum", "units", "size", "pull",
+                                         "positions within the stratum"]))
+        empty = sum(1 for s in d.strata if s.allocated == 0)
+        if empty:
+            lines.append(f"  {empty:,} of {len(d.strata):,} strata get no unit (quota below one "
+                         "after rounding), so units in them\n  can never be drawn. With fewer "
+                         "units to pull than strata, use fewer, larger strata\n  or a simple "
+                         "random draw.")
+    lines.append("")
+    lines.append("Unit numbers in the lot:" if d.strata is not None else "Unit numbers:")
+    lines.append(rows_of(d.units))
+    lines.append("")
+    lines.append(f"Re-create this list with: {recreate_command(d)}")
+    lines.append(CAUTION)
+    return "\n".join(lines)
+
+
+@app.command()
+def draw(
+    lot: Optional[str] = typer.Option(None, "--lot-size", "-N",
+                                      help="Units in the lot, numbered 1 to N."),
+    n: Optional[str] = typer.Option(None, "--n", help="Units to pull."),
+    seed: Optional[str] = typer.Option(
+        None, "--seed", help="Whole number 0 to 2**128-1; omitted: a fresh seed, recorded."),
+    strata: Optional[str] = typer.Option(
+        None, "--strata",
+        help='"cartons=40" (40 equal consecutive strata) or "cartons=120,120,80" (sizes).'),
+    csv: Optional[str] = typer.Option(
+        None, "--csv", help="Write the pick list as CSV to PATH, or - for stdout."),
+    force: bool = typer.Option(False, "--force", help="Overwrite files not written by lotwise."),
+    as_json: bool = common.JSON,
+):
+    """Which units to pull: a reproducible random pick list, seed recorded."""
+    from ..draw import MAX_LOT, MAX_N, draw_units
+
+    if lot is None:
+        raise InputError("--lot-size is required (for example --lot-size 1000)")
+    if n is None:
+        raise InputError("--n is required (for example --n 80)")
+    N = parse_count(lot, "--lot-size", minimum=1, maximum=MAX_LOT)
+    nn = parse_count(n, "--n", minimum=1)
+    if nn > N:
+        raise InputError(f"--n ({nn}) must not be greater than --lot-size ({N})")
+    if nn > MAX_N:
+        raise InputError(f"--n ({nn}) must be at most {MAX_N:,} (a pick list is pulled by hand)")
+    if csv == "-" and as_json:
+        raise InputError("--csv (-) cannot be combined with --json: both would write to "
+                         "stdout; give --csv a file name")
+    if csv is not None and csv != "-":
+        from ..files import check_writable
+
+        check_writable(csv, force=force, option="--csv")  # refuse before drawing
+    d = draw_units(lot_size=N, n=nn, seed=seed, strata=strata)
+    if csv is not None:
+        if csv == "-":
+            typer.echo(d.to_csv(), nl=False)
+        else:
+            from ..files import write_text
+
+            write_text(csv, d.to_csv(), force=force, option="--csv")
+    if as_json:
+        common.emit_json(d.as_dict())
+    elif csv != "-":
+        typer.echo(render_draw(d))
+        if csv:
+            typer.echo(f"  wrote {csv}")
