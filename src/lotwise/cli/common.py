@@ -9,7 +9,6 @@ import sys
 import typer
 
 from ..quantities import InputError, Infeasible, parse_count, parse_level, parse_risk
-from ..report import table  # noqa: F401  (re-exported for the command modules)
 
 # Option declarations reused by several commands (values are parsed by us so
 # that every message names the option, the value and what is allowed).
@@ -76,3 +75,10 @@ def infeasible(exc: Infeasible, as_json: bool, base: dict | None = None):
     payload = dict(base or {})
     payload.update({"feasible": False, "reason": str(exc), "reachable": exc.reachable})
     fail(f"no plan: {exc}", 1, payload, as_json)
+
+
+def table(rows, header, indent: str = "  ") -> str:
+    """A compact text table (imported lazily: ``report`` loads scipy)."""
+    from ..report import table as _table
+
+    return _table(rows, header, indent)

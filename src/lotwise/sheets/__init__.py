@@ -155,8 +155,9 @@ def build_content(pp, *, picks=None, today: _dt.date | None = None) -> SheetCont
     if picks is not None:
         first = ", ".join(str(u) for u in picks.units[:12])
         more = " ..." if len(picks.units) > 12 else ""
-        selection = (f"Simple random sample without replacement"
-                     + (f", stratified ({picks.method})" if picks.method != "simple random" else "")
+        selection = ("Simple random sample without replacement"
+                     + (f", stratified in proportion to stratum size ({req.strata})"
+                        if req.strata else "")
                      + f". Pick list seed {picks.seed}; first units: {first}{more} (full list in "
                      f"{req.stem}-picklist.csv). Re-create with: lotwise draw --lot-size "
                      f"{scope.lot_size} --n {pp.n} --seed {picks.seed}"
