@@ -571,8 +571,14 @@ def render_rectifying(rep: dict, per_unit: bool = False) -> str:
     """Terminal lines for the keys added by :func:`rectifying_summary`."""
     r = rep["rectifying"]
     N = r["lot_size"]
-    lines = [f"  Rectifying inspection (rejected lots of {N} screened 100 %):",
-             f"    {FORMULA_TEXT[r['formula']]}; ATI = n + (1 - Pa)(N - n)"]
+    lines = [f"  Rectifying inspection (rejected lots of {N} screened 100 %):"]
+    text = FORMULA_TEXT[r["formula"]]
+    if "; finite lot:" in text:
+        head, _, tail = text.partition("; finite lot:")
+        lines += [f"    {head})", f"    finite lot, exact: {tail.strip()[:-1]}"]
+    else:
+        lines.append(f"    {text}")
+    lines.append("    ATI = n + (1 - Pa)(N - n)")
     rows = []
     for m, e in r["models"].items():
         mark = " *" if m == r["model"] else ""
@@ -621,6 +627,14 @@ def _curve_grid(plan, scope: Scope, max_p, points):
     return np.linspace(0.0, max_p, points)
 
 
+def _style_order(models, scope: Scope) -> tuple:
+    """Exact model first (solid), then Poisson (dashed), then the binomial
+    (dotted), matching :func:`lotwise.plots.oc_figure`."""
+    exact = scope.exact_model
+    rest = [m for m in ("poisson", "binomial", "hypergeometric") if m in models and m != exact]
+    return tuple(([exact] if exact in models else []) + rest)
+
+
 def aoq_figure(plan, scope: Scope, ax=None, *, models=None, formula: str = "screened",
                max_p=None, points: int = 401, title=None):
     """AOQ curves of ``plan`` (exact model solid, the others dashed/dotted),
@@ -632,7 +646,7 @@ def aoq_figure(plan, scope: Scope, ax=None, *, models=None, formula: str = "scre
     from .plots import curve_figure
 
     check_formula(formula, "formula")
-    models = tuple(models or scope.models)
+    models = _style_order(models or scope.models, scope)
     ps = _curve_grid(plan, scope, max_p, points)
     curves, marks = [], []
     for m in models:
@@ -663,7 +677,7 @@ def ati_figure(plan, scope: Scope, ax=None, *, models=None, max_p=None, points: 
     from .plots import curve_figure
 
     N = _need_lot(scope, "ATI curve")
-    models = tuple(models or scope.models)
+    models = _style_order(models or scope.models, scope)
     ps = _curve_grid(plan, scope, max_p, points)
     curves = []
     for m in models:

@@ -124,6 +124,8 @@ class LeastATIDesign:
     aoql: object
     full_inspection: bool = False
     searched: tuple = ()
+    aql: float | None = None
+    alpha: float = 0.05
 
     @property
     def n(self) -> int:
@@ -139,6 +141,8 @@ class LeastATIDesign:
             t.update({"rql": self.rql, "beta": self.beta})
         else:
             t["aoql"] = self.aoql_limit
+        if self.aql is not None:
+            t.update({"aql": self.aql, "alpha": self.alpha})
         return t
 
     def report(self) -> dict:
@@ -158,7 +162,8 @@ def _pa_at(model: str, n, c, level: float, N: int, rounding: str):
 
 def design_least_ati(*, lot_size: int, process_average: float, rql: float | None = None,
                      beta: float = 0.10, aoql: float | None = None, model: str | None = None,
-                     defects: bool = False, formula: str = "screened") -> LeastATIDesign:
+                     defects: bool = False, formula: str = "screened",
+                     aql: float | None = None, alpha: float = 0.05) -> LeastATIDesign:
     """Single plan with the smallest ATI at the process average.
 
     Parameters
@@ -177,6 +182,9 @@ def design_least_ati(*, lot_size: int, process_average: float, rql: float | None
         Nonconformities per unit (Poisson model).
     formula : {'screened', 'simple'}
         AOQ formula for the AOQL constraint and the report.
+    aql, alpha : float, optional
+        Report the producer's risk at this AQL (not imposed: the search
+        minimises the ATI under the constraint alone).
 
     Raises
     ------
@@ -263,7 +271,7 @@ def design_least_ati(*, lot_size: int, process_average: float, rql: float | None
                           beta=beta if constraint == "rql" else None, aoql_limit=aoql,
                           formula=formula, ati_process_average=ati_pa,
                           aoql=plan_aoql(plan, scope, model, formula), full_inspection=full,
-                          searched=tuple(searched))
+                          searched=tuple(searched), aql=aql, alpha=alpha)
 
 
 def _n_min_aoql(cs, limit, model, N, formula, aoql_many):
@@ -314,6 +322,15 @@ def least_ati_report(d: LeastATIDesign) -> dict:
             e.update({"pa_rql": pa_r, "beta": pa_r, "meets": bool(pa_r <= d.beta + _TOL)})
         else:
             e["meets"] = bool(a.value <= d.aoql_limit + _TOL)
+        if d.aql is not None:
+            if m == "hypergeometric":
+                d1 = oc.lot_count(d.aql, N, "up")
+                pa_q = float(plan.pa_count(d1, scope))
+                e["lot_counts"]["aql"] = d1
+            else:
+                pa_q = float(plan.pa(d.aql, m, scope))
+            e.update({"pa_aql": pa_q, "alpha": 1.0 - pa_q,
+                      "meets_alpha": bool(1.0 - pa_q <= d.alpha + _TOL)})
         models[m] = e
     main = models[d.model]
     out = {
@@ -361,6 +378,10 @@ def _statements(d: LeastATIDesign, main: dict) -> list[str]:
     else:
         out.append(f"The AOQL is {format_pct(d.aoql.value, 4)} (limit {format_pct(d.aoql_limit, 4)}), "
                    f"reached when lots arrive at {lv(d.aoql.at)}.")
+    if d.aql is not None:
+        out.append(f"Lots at the AQL {lv(d.aql)} are rejected {format_pct(main['alpha'])} of the "
+                   f"time (producer's risk; {format_pct(d.alpha)} asked, not imposed by this "
+                   "design).")
     out.append("The saving rests on the supplier's process average: re-estimate it from recent "
                "lots, since a worse process means more lots screened.")
     out.append("Sampling cannot guarantee a lot free of nonconforming items; critical "
