@@ -168,8 +168,9 @@ def demonstrate(
 
     if confidence is None:
         raise InputError("--confidence is required (for example --confidence 95%)")
-    C = parse_risk(confidence, "--confidence")
-    R = parse_risk(reliability, "--reliability") if reliability is not None else None
+    # "95%" is read as 95 * 0.01 = 0.9500000000000001; tidy such binary noise.
+    C = _tidy(parse_risk(confidence, "--confidence"))
+    R = _tidy(parse_risk(reliability, "--reliability")) if reliability is not None else None
     k = parse_count(failures, "--failures", minimum=0)
     N = common.lot_size(lot)
     if tested is not None:
@@ -205,6 +206,10 @@ def demonstrate(
                  f"  test n = {rep['n']} units, allow {k} failure{'s' if k != 1 else ''}", ""]
         lines += [f"  - {s}" for s in rep["statements"]]
         typer.echo("\n".join(lines))
+
+
+def _tidy(x: float) -> float:
+    return float(f"{x:.12g}")
 
 
 def _render_bound(rep: dict) -> str:
