@@ -35,11 +35,12 @@ grid maximum brackets the peak, and Brent's method (golden section with
 parabolic steps, [1]_) polishes it. ``p Pa(p)`` is unimodal there: ``Pa`` is
 the survival function of a beta (binomial) or gamma (Poisson) law with
 log-concave density, hence log-concave, and so is ``p Pa(p)``. Under the
-hypergeometric model the AOQL is the maximum over whole counts ``D``: a
-window of counts around the binomial peak is evaluated at once and moved
-until its maximum is interior (the finite-lot AOQ is unimodal in ``D``; the
-tests check this exhaustively for small lots); lots up to 160 items are
-simply evaluated at every count.
+hypergeometric model the AOQL is the maximum over whole counts ``D``:
+a window of counts around the binomial peak is evaluated at once and moved
+(and widened) until its maximum is interior, which is exact because the
+finite-lot AOQ is unimodal in ``D`` (the tests check this exhaustively for
+small lots and against a full scan for large ones); lots up to 160 items
+are simply evaluated at every count.
 
 The **ATI** is ``ATI(p) = n + (1 - Pa(p)) (N - n)``: the sample of every lot
 plus the remainder of every rejected lot.
@@ -118,7 +119,7 @@ FORMULA_TEXT = {
 
 _PA_FLOOR = 1e-9    # the AOQ grid reaches the level where Pa has fallen to this
 _GRID = 48          # grid points bracketing the peak on continuous curves
-_WINDOW = 80        # whole counts evaluated at once on the finite-lot curve
+_WINDOW = 64        # whole counts evaluated at once on the finite-lot curve
 _ALL_COUNTS = 160   # lots up to this size are evaluated at every count
 
 
@@ -338,9 +339,26 @@ def _top_level(plan, model: str, scope: Scope) -> float:
     return q if scope.defects or model == "poisson" else min(1.0, q)
 
 
+def _scalar_aoq_single(plan, model, scope, formula):
+    """``p -> AOQ(p)`` for a single plan on Python floats: the same incomplete
+    beta/gamma expressions as :mod:`lotwise.oc`, without array overhead, for
+    the many evaluations of Brent's method."""
+    n, c = float(plan.n), float(plan.c)
+    N = scope.lot_size
+    k = 1.0 if (not N or formula == "simple") else (N - n) / N
+    if model == "poisson":
+        return lambda p: p * float(special.gammaincc(c + 1.0, n * p)) * k if p > 0 else 0.0
+    if c >= n:
+        return lambda p: p * k
+    return lambda p: (p * float(special.betaincc(c + 1.0, n - c, p)) * k) if 0 < p < 1 else 0.0
+
+
 def _aoql_continuous(plan, model, scope, formula) -> AOQL:
     top = _top_level(plan, model, scope)
-    f = lambda x: float(aoq(plan, x, model, scope, formula))  # noqa: E731
+    if _is_single(plan) and not hasattr(plan, "aoq"):
+        f = _scalar_aoq_single(plan, model, scope, formula)
+    else:
+        f = lambda x: float(aoq(plan, x, model, scope, formula))  # noqa: E731
     grid = np.linspace(0.0, top, _GRID + 1)
     vals = np.asarray(aoq(plan, grid, model, scope, formula), dtype=float)
     while int(np.argmax(vals)) == len(grid) - 1 and (scope.defects or model == "poisson"
@@ -372,29 +390,27 @@ def _aoql_counts(plan, scope, formula) -> AOQL:
         i = int(np.argmax(vals))
         return AOQL(value=float(vals[i]), at=float(d[i] / N), count=int(d[i]),
                     model="hypergeometric", formula=formula, lot_size=N)
-    # Start from the binomial peak, then walk a window of whole counts.
+    # Start from the binomial peak, then walk a window of whole counts until
+    # its maximum is interior: exact for a unimodal AOQ (see the module notes).
     start = _aoql_continuous(plan, "binomial", scope, formula).at
     centre = int(round(start * N))
     half = _WINDOW // 2
-    best = None
     for _ in range(10_000):
         lo = max(0, centre - half)
-        hi = min(N, lo + _WINDOW)
-        lo = max(0, hi - _WINDOW)
+        hi = min(N, lo + 2 * half)
+        lo = max(0, hi - 2 * half)
         d = np.arange(lo, hi + 1, dtype=float)
         vals = g(d)
         i = int(np.argmax(vals))
-        best = (float(vals[i]), int(d[i]))
         at_low_edge = i == 0 and lo > 0
         at_high_edge = i == len(d) - 1 and hi < N
         if not (at_low_edge or at_high_edge):
             break
         # The maximum sits on an edge: move the window that way, widening it.
-        centre = int(d[i]) + (-half if at_low_edge else half)
         half = min(2 * half, N)
-    value, count = best
-    return AOQL(value=value, at=count / N, count=count, model="hypergeometric",
-                formula=formula, lot_size=N)
+        centre = int(d[i]) + (-half if at_low_edge else half)
+    return AOQL(value=float(vals[i]), at=float(d[i] / N), count=int(d[i]),
+                model="hypergeometric", formula=formula, lot_size=N)
 
 
 def aoql(plan, scope: Scope, model: str | None = None, formula: str = "screened") -> AOQL:
