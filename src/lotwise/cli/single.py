@@ -174,7 +174,10 @@ def _grid(p, scope, mdl, max_p, points, at, rql):
     if max_p is not None:
         top = parse_level(max_p, "--max-p", per_unit=scope.defects)
     else:
-        top = quality_at(p, 0.01, mdl, scope, "consumer") if p.c < p.n else 1.0
+        accepts_all = getattr(p, "c", 0) >= getattr(p, "n", 1)
+        # (the count search of quality_at is for single plans; others use the binomial)
+        m_top = mdl if (mdl != "hypergeometric" or p.scheme == "single") else "binomial"
+        top = quality_at(p, 0.01, m_top, scope, "consumer") if not accepts_all else 1.0
         if rql is not None:
             top = max(top, 1.25 * rql)
         top = _nice(min(top, 1.0) if not scope.defects else top)
@@ -257,7 +260,8 @@ def oc_table(
         fig = oc_figure([(p, scope)], models=scope.models, aql=a, rql=r, max_p=float(ps.max()) if len(ps) else None)
         save_figure(fig, plot, force=force, option="--plot")
     if as_json:
-        common.emit_json({"scheme": p.scheme, "n": p.n, "c": p.c, "lot_size": scope.lot_size,
+        common.emit_json({"scheme": p.scheme, "n": p.n, "c": getattr(p, "c", None),
+                          **p.to_dict(), "lot_size": scope.lot_size,
                           "model": mdl, "columns": header, "rows": rows})
     elif csv != "-":
         shown = [[_fmt_level(row[0], defects)] + [f"{v:.5f}" for v in row[1:1 + len(scope.models)]]
