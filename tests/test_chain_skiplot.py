@@ -238,3 +238,14 @@ def test_cli_bad_input(argv, word, capsys):
     assert main(argv) == 2
     err = capsys.readouterr().err.strip().splitlines()
     assert len(err) == 1 and word in err[0]
+
+
+@pytest.mark.parametrize("n, i, N, D", [(15, 2, 500, 28), (5, 1, 20, 3), (30, 4, 100, 1)])
+def test_chain_finite_lot_aoq_against_mpmath(n, i, N, D):
+    # mpmath, 30 digits, the definition: E[(D - X) 1{accept}] / N with
+    # P(accept | X = 0) = 1, P(accept | X = 1) = P0^i (Dodge 1955); rel 1e-12.
+    mp.mp.dps = 30
+    h = lambda x: mp.binomial(D, x) * mp.binomial(N - D, n - x) / mp.binomial(N, n)  # noqa: E731
+    want = (D * h(0) + (D - 1) * h(1) * h(0) ** i) / N
+    got = R.aoq_count(ChainPlan(n=n, i=i), D, Scope(lot_size=N))
+    assert got == pytest.approx(float(want), rel=1e-12)

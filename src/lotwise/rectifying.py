@@ -554,13 +554,17 @@ def rectifying_summary(plan, scope: Scope, model: str, targets=None,
             entry["ati"] = _ati_at_targets(plan, scope, m, targets)
         per_model[m] = entry
     main = per_model[model]
+    expression = FORMULA_TEXT[formula]
+    if formula == "screened" and not _is_single(plan):
+        expression = (expression.split("; finite lot:")[0]
+                      + "; finite lot: the plan's exact E[(D - X) 1{accept}] / N)")
     out = {
         "aoql": main["aoql"],
         "aoql_p": main["aoql_p"],
         "rectifying": {
             "lot_size": N,
             "formula": formula,
-            "aoq_expression": FORMULA_TEXT[formula],
+            "aoq_expression": expression,
             "ati_expression": "ATI = n + (1 - Pa)(N - n)",
             "model": model,
             "models": per_model,
@@ -588,7 +592,7 @@ def render_rectifying(rep: dict, per_unit: bool = False) -> str:
     r = rep["rectifying"]
     N = r["lot_size"]
     lines = [f"  Rectifying inspection (rejected lots of {N} screened 100 %):"]
-    text = FORMULA_TEXT[r["formula"]]
+    text = r["aoq_expression"]
     if "; finite lot:" in text:
         head, _, tail = text.partition("; finite lot:")
         lines += [f"    {head})", f"    finite lot, exact: {tail.strip()[:-1]}"]
