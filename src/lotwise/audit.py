@@ -146,14 +146,15 @@ def quality_at(plan: SinglePlan, prob: float, model: str, scope: Scope,
     ``D/N`` with ``Pa >= prob``; any other side the smallest ``D/N`` with
     ``Pa <= prob``.
     """
-    if model != "hypergeometric" and not isinstance(plan, SinglePlan):
-        return _invert(plan, prob, model, scope)
-    n, c = plan.n, plan.c
-    if c >= n and model != "poisson":
-        return 1.0
-    if model == "binomial":
-        return float(special.betainccinv(c + 1.0, n - c, prob))
-    if model == "poisson":
+    single = isinstance(plan, SinglePlan)
+    if single and plan.c >= plan.n and model != "poisson":
+        return 1.0  # accepts every lot
+    if model != "hypergeometric":
+        if not single:
+            return _invert(plan, prob, model, scope)
+        n, c = plan.n, plan.c
+        if model == "binomial":
+            return float(special.betainccinv(c + 1.0, n - c, prob))
         return float(special.gammainccinv(c + 1.0, prob)) / n
     N = scope.lot_size
     lo, hi = 0, N  # Pa(D=0) = 1; Pa falls in D

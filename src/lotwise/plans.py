@@ -178,10 +178,14 @@ def _split_notation(text: str, option: str) -> dict[str, str]:
 #: (see :data:`KEYS_HINT`).
 NOTATIONS: dict[str, str] = {
     "single": "lotwise.plans:_parse_single",
+    "chain": "lotwise.chain:_parse_chain",
+    "skiplot": "lotwise.skiplot:_parse_skiplot",
 }
 
 #: Keys that identify a notation written without a prefix: ``key -> kind``.
-KEYS_HINT: dict[str, str] = {}
+KEYS_HINT: dict[str, str] = {
+    "f": "skiplot",
+}
 
 
 def _parse_single(pairs: dict, text: str, option: str) -> SinglePlan:

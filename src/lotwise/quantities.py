@@ -52,7 +52,7 @@ class Infeasible(Exception):
 
 _NUMBER = r"[+-]?(?:\d+(?:[._]\d+)*(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?"
 _LEVEL_RE = re.compile(rf"^\s*({_NUMBER})\s*(%|ppm|ppb)?\s*$", re.IGNORECASE)
-_SCALE = {None: 1.0, "%": 1e-2, "ppm": 1e-6, "ppb": 1e-9}
+_SCALE = {None: 1.0, "%": 1e2, "ppm": 1e6, "ppb": 1e9}  # divisors
 
 
 def parse_fraction(text, name: str) -> float:
@@ -70,7 +70,7 @@ def parse_fraction(text, name: str) -> float:
             raise InputError(f"{name} ({text!r}) must be a number such as 0.01, 1% or 250ppm")
         number = m.group(1).replace("_", "")
         unit = m.group(2).lower() if m.group(2) else None
-        value = float(number) * _SCALE[unit]
+        value = float(number) / _SCALE[unit]  # 95% -> 0.95 exactly, not 0.9500000000000001
     if not math.isfinite(value):
         raise InputError(f"{name} ({text!r}) must be a finite number")
     return value

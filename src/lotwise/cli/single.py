@@ -45,18 +45,33 @@ def design(
     lot: Optional[str] = common.LOT,
     model: Optional[str] = common.MODEL,
     defects: bool = common.DEFECTS,
-    scheme: str = typer.Option("single", "--scheme", help="Plan family: single."),
+    scheme: str = typer.Option("single", "--scheme", help="Plan family: single or chain (ChSP-1)."),
     c: Optional[str] = typer.Option(None, "--c", help="Fix the acceptance number (0 for accept-on-zero)."),
     n: Optional[str] = typer.Option(None, "--n", help="Fix the sample size and find c."),
     max_n: Optional[str] = typer.Option(None, "--max-n", help="Largest affordable sample."),
+    minimize: Optional[str] = typer.Option(None, "--minimize", help="ati: the least average total inspection at --process-average (rectifying inspection)."),
+    process_average: Optional[str] = typer.Option(None, "--process-average", help="Supplier's process average, for --minimize ati."),
+    aoql: Optional[str] = typer.Option(None, "--aoql", help="AOQL limit, for --minimize ati (instead of --rql)."),
+    aoq_formula: str = typer.Option("screened", "--aoq-formula", help="screened: AOQ = p Pa (N - n)/N; simple: p Pa."),
     as_json: bool = common.JSON,
 ):
     """Design the plan with the smallest sample meeting both risks."""
     from ..design.single import Targets, design_single
     from ..report import render_single, single_report
 
-    if scheme != "single":
-        raise InputError(f"--scheme ({scheme}) must be one of: single")
+    if scheme not in ("single", "chain"):
+        raise InputError(f"--scheme ({scheme}) must be one of: single, chain")
+    if minimize is not None or scheme == "chain":
+        from . import rectifying as rect_cli
+
+        return rect_cli.design_dispatch(
+            scheme=scheme, minimize=minimize, aql=aql, rql=rql, alpha=alpha, beta=beta, lot=lot,
+            model=model, defects=defects, c=c, n=n, max_n=max_n,
+            process_average=process_average, aoql=aoql, aoq_formula=aoq_formula,
+            as_json=as_json)
+    for name, val in (("--process-average", process_average), ("--aoql", aoql)):
+        if val is not None:
+            raise InputError(f"{name} ({val}) needs --minimize ati")
     a, r = common.levels(aql, rql, defects)
     al, be = common.risks(alpha, beta)
     scope, mdl = _scope_and_model(lot, defects, model)
@@ -91,15 +106,22 @@ def check(
     lot: Optional[str] = common.LOT,
     model: Optional[str] = common.MODEL,
     defects: bool = common.DEFECTS,
+    aoq_formula: Optional[str] = typer.Option(None, "--aoq-formula", help="With --lot-size: screened (AOQ = p Pa (N - n)/N, default) or simple (p Pa)."),
+    skip_lot: Optional[str] = typer.Option(None, "--skip-lot", help='Compare with skip-lot SkSP-2 over this plan, e.g. "i=4,f=0.25".'),
+    aoq_plot: Optional[str] = typer.Option(None, "--aoq-plot", help="With --lot-size: draw OC, AOQ and ATI curves to PATH.png, .svg or .pdf."),
+    force: bool = typer.Option(False, "--force", help="Overwrite files not written by lotwise."),
     as_json: bool = common.JSON,
 ):
     """Audit a plan (or re-verify plan files): the risks it really carries.
 
-    Exit 0 when it meets both targets, 1 when it falls short. With plan files
-    or folders, one summary row per characteristic.
+    With --lot-size also AOQ/AOQL and ATI of rectifying inspection. Exit 0
+    when it meets both targets (and so does the skip-lot plan, if asked), 1
+    when it falls short. With plan files or folders, one summary row per
+    characteristic.
     """
     from ..design.single import Targets
     from ..report import render_single, single_report
+    from . import rectifying as rect_cli
 
     if paths:
         if plan is not None or n is not None or c is not None:
@@ -108,6 +130,10 @@ def check(
 
         raise typer.Exit(check_folder(paths, as_json))
     p = _plan_from(plan, n, c)
+    if p.scheme == "skiplot":  # "skiplot: n=..,c=..,i=..,f=.." = reference plan + --skip-lot
+        if skip_lot is not None:
+            raise InputError("--skip-lot cannot be combined with a skiplot --plan")
+        p, skip_lot = p.reference, (p.i, p.f)
     a, r = common.levels(aql, rql, defects)
     al, be = common.risks(alpha, beta)
     scope, mdl = _scope_and_model(lot, defects, model)
@@ -116,13 +142,20 @@ def check(
     if not r > a:
         _levels_out_of_order(a, r, defects, as_json)
     targets = Targets(aql=a, rql=r, alpha=al, beta=be)
+    if p.scheme == "chain":
+        return rect_cli.check_chain(p, targets, scope, mdl, aoq_formula=aoq_formula,
+                                    skip_lot=skip_lot, aoq_plot=aoq_plot, as_json=as_json)
     rep = single_report(p, targets, scope, mdl)
+    rep = rect_cli.check_extras(rep, p, scope, mdl, targets, aoq_formula=aoq_formula,
+                                skip_lot=skip_lot, aoq_plot=aoq_plot, force=force)
+    meets = rep["meets"] and rep.get("skip_lot", {}).get("meets", True)
     if as_json:
         common.emit_json(rep)
     else:
         verdict = "meets both targets" if rep["meets"] else "FALLS SHORT"
-        typer.echo(render_single(rep, f"Audit of {p.label}: {verdict}"))
-    raise typer.Exit(0 if rep["meets"] else 1)
+        typer.echo(render_single(rep, f"Audit of {p.label}: {verdict}")
+                   + rect_cli.render_extras(rep))
+    raise typer.Exit(0 if meets else 1)
 
 
 def _levels_out_of_order(a, r, defects, as_json):
@@ -149,7 +182,10 @@ def _grid(p, scope, mdl, max_p, points, at, rql):
     if max_p is not None:
         top = parse_level(max_p, "--max-p", per_unit=scope.defects)
     else:
-        top = quality_at(p, 0.01, mdl, scope, "consumer") if p.c < p.n else 1.0
+        accepts_all = getattr(p, "c", 0) >= getattr(p, "n", 1)
+        # (the count search of quality_at is for single plans; others use the binomial)
+        m_top = mdl if (mdl != "hypergeometric" or p.scheme == "single") else "binomial"
+        top = quality_at(p, 0.01, m_top, scope, "consumer") if not accepts_all else 1.0
         if rql is not None:
             top = max(top, 1.25 * rql)
         top = _nice(min(top, 1.0) if not scope.defects else top)
@@ -232,7 +268,8 @@ def oc_table(
         fig = oc_figure([(p, scope)], models=scope.models, aql=a, rql=r, max_p=float(ps.max()) if len(ps) else None)
         save_figure(fig, plot, force=force, option="--plot")
     if as_json:
-        common.emit_json({"scheme": p.scheme, "n": p.n, "c": p.c, "lot_size": scope.lot_size,
+        common.emit_json({"scheme": p.scheme, "n": p.n, "c": getattr(p, "c", None),
+                          **p.to_dict(), "lot_size": scope.lot_size,
                           "model": mdl, "columns": header, "rows": rows})
     elif csv != "-":
         shown = [[_fmt_level(row[0], defects)] + [f"{v:.5f}" for v in row[1:1 + len(scope.models)]]

@@ -1,0 +1,227 @@
+"""Command-line glue for rectifying inspection, least-inspection designs,
+chain and skip-lot plans (called from ``design`` and ``check`` in
+:mod:`lotwise.cli.single`), and the ``zero`` and ``demonstrate`` commands."""
+
+from __future__ import annotations
+
+from typing import Optional
+
+import typer
+
+from . import app, common
+from ..quantities import InputError, Infeasible, parse_count, parse_level, parse_risk
+
+MINIMIZE = ("ati",)
+
+
+# --- design --minimize ati / --scheme chain ----------------------------------------
+
+def design_dispatch(*, scheme, minimize, aql, rql, alpha, beta, lot, model, defects, c, n,
+                    max_n, process_average, aoql, aoq_formula, as_json):
+    """``lotwise design`` for ``--minimize ati`` and ``--scheme chain``."""
+    if minimize is not None:
+        if minimize not in MINIMIZE:
+            raise InputError(f"--minimize ({minimize}) must be one of: {', '.join(MINIMIZE)}")
+        if scheme != "single":
+            raise InputError(f"--minimize ati designs single plans; --scheme ({scheme}) must "
+                             "be single")
+        for name, val in (("--c", c), ("--n", n), ("--max-n", max_n)):
+            if val is not None:
+                raise InputError(f"{name} ({val}) cannot be combined with --minimize ati")
+        return _least_ati(aql, rql, alpha, beta, lot, model, defects, process_average, aoql,
+                          aoq_formula, as_json)
+    for name, val in (("--process-average", process_average), ("--aoql", aoql)):
+        if val is not None:
+            raise InputError(f"{name} ({val}) needs --minimize ati")
+    for name, val in (("--c", c), ("--n", n)):
+        if val is not None:
+            raise InputError(f"{name} ({val}) does not apply to --scheme chain (its plan is "
+                             "n and i)")
+    return _chain(aql, rql, alpha, beta, lot, model, defects, max_n, as_json)
+
+
+def _least_ati(aql, rql, alpha, beta, lot, model, defects, process_average, aoql, formula,
+               as_json):
+    from ..design.least_ati import design_least_ati
+    from ..plans import Scope
+    from ..rectifying import check_formula
+
+    if lot is None:
+        raise InputError("--minimize ati needs --lot-size (the ATI is counted per lot)")
+    if process_average is None:
+        raise InputError("--minimize ati needs --process-average (for example "
+                         "--process-average 0.5%)")
+    N = parse_count(lot, "--lot-size", minimum=2, maximum=10**12)
+    pbar = parse_level(process_average, "--process-average", per_unit=defects)
+    if (rql is None) == (aoql is None):
+        raise InputError("--minimize ati needs either --rql (with --beta) or --aoql")
+    r = parse_level(rql, "--rql", per_unit=defects) if rql is not None else None
+    lim = parse_level(aoql, "--aoql", per_unit=defects) if aoql is not None else None
+    be = parse_risk(beta, "--beta")
+    al = parse_risk(alpha, "--alpha")
+    a = parse_level(aql, "--aql", per_unit=defects) if aql is not None else None
+    check_formula(formula)
+    mdl = Scope(lot_size=N, defects=defects).check_model(model)
+    base = {"scheme": "single", "minimize": "ati", "model": mdl, "lot_size": N,
+            "process_average": pbar}
+    try:
+        d = design_least_ati(lot_size=N, process_average=pbar, rql=r, beta=be, aoql=lim,
+                             model=mdl, defects=defects, formula=formula, aql=a, alpha=al)
+    except Infeasible as exc:
+        common.infeasible(exc, as_json, base)
+    rep = d.report()
+    if as_json:
+        common.emit_json(rep)
+        return
+    typer.echo(render_least_ati(rep))
+
+
+def render_least_ati(rep: dict) -> str:
+    from ..quantities import format_level, format_pct
+    from ..report import table
+
+    pu = rep["defects"]
+    lv = lambda x: format_level(x, pu)  # noqa: E731
+    t = rep["targets"]
+    what = (f"RQL {lv(t['rql'])} at beta {format_pct(t['beta'])}" if rep["constraint"] == "rql"
+            else f"AOQL at most {format_pct(t['aoql'], 4)}")
+    lines = ["Least-inspection single plan (smallest ATI at the process average)",
+             f"  plan      n = {rep['n']}, accept on c = {rep['c']}, reject on {rep['r']}",
+             f"  lot of {rep['lot_size']:,}; process average {lv(rep['process_average'])}; "
+             f"protection: {what}; designed under {rep['model']}",
+             f"  {rep['ati_process_average']:,.1f} items inspected per lot on average at the "
+             f"process average; AOQL {format_pct(rep['aoql'], 4)} at {lv(rep['aoql_p'])}", ""]
+    rows = []
+    for m, e in rep["models"].items():
+        row = [m + (" *" if m == rep["model"] else ""), f"{e['pa_process_average']:.5f}",
+               f"{e['ati_process_average']:,.1f}", format_pct(e["aoql"], 4)]
+        if rep["constraint"] == "rql":
+            row.append(f"{e['pa_rql']:.5f}")
+        row.append("yes" if e["meets"] else "NO")
+        rows.append(row)
+    header = ["model", "Pa(avg)", "ATI(avg)", "AOQL"]
+    if rep["constraint"] == "rql":
+        header.append("Pa(RQL)")
+    header.append("meets")
+    lines.append(table(rows, header))
+    lines.append("  (* the model the plan is designed under; avg: the process average)")
+    lines.append("")
+    lines += [f"  - {s}" for s in rep["statements"]]
+    return "\n".join(lines)
+
+
+def _chain(aql, rql, alpha, beta, lot, model, defects, max_n, as_json):
+    from ..chain import design_chain, render_chain
+    from ..design.single import Targets
+    from ..plans import Scope
+
+    a, r = common.levels(aql, rql, defects)
+    al, be = common.risks(alpha, beta)
+    N = common.lot_size(lot)
+    mdl = Scope(lot_size=N, defects=defects).check_model(model)
+    cap = parse_count(max_n, "--max-n", minimum=1) if max_n is not None else None
+    base = {"scheme": "chain", "model": mdl, "lot_size": N,
+            "targets": Targets(aql=a, rql=r, alpha=al, beta=be).as_dict()}
+    try:
+        d = design_chain(aql=a, rql=r, alpha=al, beta=be, lot_size=N, model=mdl,
+                         defects=defects, max_n=cap)
+    except Infeasible as exc:
+        common.infeasible(exc, as_json, base)
+    rep = d.report()
+    if as_json:
+        common.emit_json(rep)
+    else:
+        typer.echo(render_chain(rep, "Chain sampling plan ChSP-1 (smallest n meeting both risks)"))
+
+
+# --- check: rectifying, skip-lot, chain plans -------------------------------------
+
+def check_extras(rep: dict, plan, scope, model, targets, *, aoq_formula, skip_lot, aoq_plot,
+                 force) -> dict:
+    """Add the rectifying keys (with a lot size) and the skip-lot comparison to a
+    single-plan check report; draw the OC/AOQ/ATI figure if asked."""
+    from ..rectifying import check_formula, rectifying_summary
+
+    if aoq_formula is not None:
+        check_formula(aoq_formula)
+    if scope.lot_size:
+        rep.update(rectifying_summary(plan, scope, model, targets, aoq_formula or "screened"))
+    elif aoq_formula is not None:
+        raise InputError(f"--aoq-formula ({aoq_formula}) needs --lot-size (AOQ and ATI are "
+                         "computed for lots of a known size)")
+    if skip_lot is not None:
+        from ..skiplot import SkipLotPlan, parse_skip, skiplot_report
+
+        i, f = parse_skip(skip_lot) if isinstance(skip_lot, str) else skip_lot
+        sk = SkipLotPlan(reference=plan, i=i, f=f)
+        rep["skip_lot"] = skiplot_report(sk, targets, scope, model)
+        if scope.lot_size:
+            from ..rectifying import aoql
+
+            a = aoql(sk, scope, model, aoq_formula or "screened")
+            rep["skip_lot"]["aoql"] = a.value
+            rep["skip_lot"]["aoql_p"] = a.at
+    if aoq_plot is not None:
+        if not scope.lot_size:
+            raise InputError(f"--aoq-plot ({aoq_plot}) needs --lot-size")
+        if not aoq_plot.lower().endswith((".png", ".svg", ".pdf")):
+            raise InputError(f"--aoq-plot ({aoq_plot}) must end in .png, .svg or .pdf")
+        from ..files import check_writable, save_figure
+        from ..rectifying import rectifying_figure
+
+        check_writable(aoq_plot, force=force, option="--aoq-plot")
+        fig = rectifying_figure(plan, scope, formula=aoq_formula or "screened",
+                                aql=targets.aql, rql=targets.rql)
+        save_figure(fig, aoq_plot, force=force, option="--aoq-plot")
+        rep["aoq_plot"] = aoq_plot
+    return rep
+
+
+def render_extras(rep: dict) -> str:
+    from ..rectifying import render_rectifying
+    from ..skiplot import render_skiplot
+
+    parts = []
+    if "rectifying" in rep:
+        parts.append(render_rectifying(rep, rep.get("defects", False)))
+    if "skip_lot" in rep:
+        sk = render_skiplot(rep["skip_lot"], rep.get("defects", False))
+        if "aoql" in rep["skip_lot"]:
+            from ..quantities import format_level, format_pct
+
+            sk += (f"\n    - With rejected lots screened, its AOQL is "
+                   f"{format_pct(rep['skip_lot']['aoql'], 4)} at "
+                   f"{format_level(rep['skip_lot']['aoql_p'], rep.get('defects', False))}.")
+        parts.append(sk)
+    if "aoq_plot" in rep:
+        parts.append(f"  wrote {rep['aoq_plot']}")
+    return ("\n\n" + "\n\n".join(parts)) if parts else ""
+
+
+def check_chain(plan, targets, scope, model, *, aoq_formula, skip_lot, aoq_plot, as_json):
+    """``lotwise check --plan "chain: n=..,i=.."``: risks, c = 0 comparison and,
+    with a lot size, AOQL and ATI."""
+    from ..chain import chain_report, render_chain
+    from ..rectifying import check_formula, rectifying_summary
+
+    if skip_lot is not None:
+        raise InputError("--skip-lot applies to a single reference plan, not to a chain plan")
+    if aoq_plot is not None:
+        raise InputError("--aoq-plot is drawn for single plans only")
+    rep = chain_report(plan, targets, scope, model)
+    if scope.lot_size:
+        rep.update(rectifying_summary(plan, scope, model, targets,
+                                      check_formula(aoq_formula or "screened")))
+    elif aoq_formula is not None:
+        raise InputError(f"--aoq-formula ({aoq_formula}) needs --lot-size")
+    if as_json:
+        common.emit_json(rep)
+    else:
+        verdict = "meets both targets" if rep["meets"] else "FALLS SHORT"
+        text = render_chain(rep, f"Audit of {plan.label}: {verdict}")
+        if "rectifying" in rep:
+            from ..rectifying import render_rectifying
+
+            text += "\n\n" + render_rectifying(rep, scope.defects)
+        typer.echo(text)
+    raise typer.Exit(0 if rep["meets"] else 1)

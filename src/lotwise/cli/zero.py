@@ -1,0 +1,226 @@
+"""``lotwise zero`` (accept-on-zero plans and equivalents) and ``lotwise
+demonstrate`` (confidence/reliability tests)."""
+
+from __future__ import annotations
+
+from typing import Optional
+
+import typer
+
+from . import app, common
+from ..quantities import InputError, Infeasible, parse_count, parse_level, parse_risk
+
+
+@app.command()
+def zero(
+    rql: Optional[str] = common.RQL,
+    beta: str = common.BETA,
+    aql: Optional[str] = typer.Option(None, "--aql", help="Show the producer's risk at this AQL."),
+    alpha: str = common.ALPHA,
+    plan: Optional[str] = typer.Option(None, "--plan", help='Find the c = 0 plan equivalent to this plan, e.g. "n=125,c=3".'),
+    n: Optional[str] = typer.Option(None, "--n", help="Sample size of the plan to match."),
+    c: Optional[str] = typer.Option(None, "--c", help="Acceptance number of the plan to match."),
+    lot: Optional[str] = common.LOT,
+    model: Optional[str] = common.MODEL,
+    defects: bool = common.DEFECTS,
+    max_n: Optional[str] = typer.Option(None, "--max-n", help="Largest affordable sample."),
+    plot: Optional[str] = typer.Option(None, "--plot", help="Draw the OC curve(s) to PATH.png, .svg or .pdf."),
+    force: bool = typer.Option(False, "--force", help="Overwrite files not written by lotwise."),
+    as_json: bool = common.JSON,
+):
+    """Accept-on-zero plans: design one for an RQL, or find the c = 0 plan
+    equivalent to a given plan (same RQL point), with its producer's risk."""
+    from ..plans import Scope
+
+    from .single import _plan_from
+
+    scope = Scope(lot_size=common.lot_size(lot), defects=defects)
+    mdl = scope.check_model(model)
+    be = parse_risk(beta, "--beta")
+    al = parse_risk(alpha, "--alpha")
+    a = parse_level(aql, "--aql", per_unit=defects) if aql is not None else None
+    if plot is not None and not plot.lower().endswith((".png", ".svg", ".pdf")):
+        raise InputError(f"--plot ({plot}) must end in .png, .svg or .pdf")
+    given = _plan_from(plan, n, c, required=False)
+    if given is not None:
+        if rql is not None:
+            raise InputError(f"--rql ({rql}) cannot be combined with --plan: the equivalent "
+                             "uses the plan's own RQL point (where its Pa equals --beta)")
+        if max_n is not None:
+            raise InputError(f"--max-n ({max_n}) does not apply to --plan")
+        return _equivalent(given, scope, mdl, be, a, al, plot, force, as_json)
+    if rql is None:
+        raise InputError("--rql is required (for example --rql 5%), or give --plan to find "
+                         "the c = 0 plan equivalent to it")
+    r = parse_level(rql, "--rql", per_unit=defects)
+    cap = parse_count(max_n, "--max-n", minimum=1) if max_n is not None else None
+    from ..zero import design_zero
+
+    base = {"scheme": "single", "c": 0, "model": mdl, "lot_size": scope.lot_size}
+    try:
+        z = design_zero(rql=r, beta=be, lot_size=scope.lot_size, model=mdl, defects=defects,
+                        aql=a, alpha=al, max_n=cap)
+    except Infeasible as exc:
+        common.infeasible(exc, as_json, base)
+    rep = z.report()
+    if plot is not None:
+        from ..files import save_figure
+        from ..plots import oc_figure
+
+        fig = oc_figure([(z.plan, scope)], aql=a, rql=r,
+                        title=f"Accept on zero: {z.plan.label}")
+        save_figure(fig, plot, force=force, option="--plot")
+        rep["plot"] = plot
+    if as_json:
+        common.emit_json(rep)
+    else:
+        typer.echo(_render_zero(rep))
+
+
+def _render_zero(rep: dict) -> str:
+    from ..quantities import format_level, format_pct
+    from ..report import table
+
+    pu = rep["defects"]
+    t = rep["targets"]
+    lot = f"lot of {rep['lot_size']}" if rep["lot_size"] else "no lot size (process)"
+    lines = ["Accept-on-zero plan (c = 0, smallest sample meeting the consumer's risk)"]
+    if rep["full_inspection"]:
+        lines.append(f"  100 % inspection: no sample smaller than the lot of {rep['lot_size']} "
+                     "meets the consumer's risk with c = 0.")
+    lines += [f"  plan      n = {rep['n']}, accept on 0, reject on 1",
+              f"  judged by {rep['model']}; {lot}",
+              f"  target    RQL {format_level(t['rql'], pu)} at beta {format_pct(t['beta'])}"]
+    if rep["producers_risk"] is not None:
+        lines += ["", f"  PRODUCER'S RISK at the AQL {format_level(t['aql'], pu)}: "
+                      f"{format_pct(rep['producers_risk'])} of lots rejected "
+                      f"(target {format_pct(t['alpha'])})"]
+    else:
+        lines += ["", f"  PRODUCER'S SIDE: a lot must be at {format_level(rep['producer_quality'], pu)} "
+                      "or better to be accepted 95 % of the time (give --aql for the risk at "
+                      "your AQL)"]
+    rows = []
+    for m, e in rep["models"].items():
+        row = [m + (" *" if m == rep["model"] else ""), f"{e['pa_rql']:.5f}",
+               format_pct(e["beta"])]
+        if "pa_aql" in e:
+            row += [f"{e['pa_aql']:.5f}", format_pct(e["alpha"])]
+        rows.append(row)
+    header = ["model", "Pa(RQL)", "beta"] + (["Pa(AQL)", "alpha"] if "aql" in t else [])
+    lines += ["", table(rows, header), "  (* the model the plan is judged by)", ""]
+    lines += [f"  - {s}" for s in rep["statements"]]
+    if rep.get("plot"):
+        lines.append(f"  wrote {rep['plot']}")
+    return "\n".join(lines)
+
+
+def _equivalent(given, scope, mdl, be, a, al, plot, force, as_json):
+    from ..quantities import format_level, format_pct
+    from ..report import table
+    from ..zero import equivalent_figure, zero_equivalent
+
+    if scope.lot_size is not None and getattr(given, "n", 0) > scope.lot_size:
+        raise InputError(f"--n ({given.n}) must not be greater than --lot-size ({scope.lot_size})")
+    try:
+        eq = zero_equivalent(given, scope, mdl, beta=be, aql=a, alpha=al)
+    except Infeasible as exc:
+        common.infeasible(exc, as_json, {"model": mdl, "lot_size": scope.lot_size})
+    rep = eq.report()
+    if plot is not None:
+        from ..files import save_figure
+
+        save_figure(equivalent_figure(eq), plot, force=force, option="--plot")
+        rep["plot"] = plot
+    if as_json:
+        common.emit_json(rep)
+        return
+    pu = scope.defects
+    lab = getattr(given, "label", str(given))
+    where = "AQL" if eq.level_kind == "aql" else "plan's 95 % point"
+    rows = [[lab, str(rep["sample_sizes"]["plan"]), f"{eq.pa_point['plan']:.5f}",
+             f"{eq.pa_level['plan']:.5f}", format_pct(1 - eq.pa_level["plan"])],
+            [eq.zero_plan.label, str(eq.zero_plan.n), f"{eq.pa_point['zero_plan']:.5f}",
+             f"{eq.pa_level['zero_plan']:.5f}", format_pct(1 - eq.pa_level["zero_plan"])]]
+    lines = [f"Accept-on-zero equivalent of {lab} ({mdl}"
+             + (f", lot of {scope.lot_size})" if scope.lot_size else ")"),
+             f"  shared RQL point {format_level(eq.point, pu)} (Pa = {format_pct(be)} for {lab}); "
+             f"compared at the {where} {format_level(eq.level, pu)}", "",
+             table(rows, ["plan", "n", "Pa(RQL point)", f"Pa({where})", "producer's risk"]), ""]
+    lines += [f"  - {s}" for s in rep["statements"]]
+    if plot:
+        lines.append(f"  wrote {plot}")
+    typer.echo("\n".join(lines))
+
+
+@app.command()
+def demonstrate(
+    confidence: Optional[str] = typer.Option(None, "--confidence", help="Confidence, e.g. 95%."),
+    reliability: Optional[str] = typer.Option(None, "--reliability", help="Reliability to demonstrate, e.g. 99% (fraction conforming)."),
+    failures: str = typer.Option("0", "--failures", help="Failures allowed (sizing) or found (with --tested)."),
+    tested: Optional[str] = typer.Option(None, "--tested", help="Units already tested: give the exact upper bound instead of a sample size."),
+    lot: Optional[str] = typer.Option(None, "--lot-size", "-N", help="Finite lot or build size (hypergeometric, exact)."),
+    as_json: bool = common.JSON,
+):
+    """Confidence/reliability tests: the sample size demonstrating "C %
+    confidence that at least R % conform" with k failures allowed, or the
+    exact upper bound after n units tested with k failures."""
+    from ..reliability import demonstration_size, upper_bound
+
+    if confidence is None:
+        raise InputError("--confidence is required (for example --confidence 95%)")
+    # "95%" is read as 95 * 0.01 = 0.9500000000000001; tidy such binary noise.
+    C = _tidy(parse_risk(confidence, "--confidence"))
+    R = _tidy(parse_risk(reliability, "--reliability")) if reliability is not None else None
+    k = parse_count(failures, "--failures", minimum=0)
+    N = common.lot_size(lot)
+    if tested is not None:
+        n = parse_count(tested, "--tested", minimum=1)
+        if k > n:
+            raise InputError(f"--failures ({k}) must not be greater than --tested ({n})")
+        if N is not None and n > N:
+            raise InputError(f"--tested ({n}) must not be greater than --lot-size ({N})")
+        b = upper_bound(tested=n, failures=k, confidence=C, lot_size=N, reliability=R)
+        rep = b.report()
+        if as_json:
+            common.emit_json(rep)
+        else:
+            typer.echo(_render_bound(rep))
+        return
+    if R is None:
+        raise InputError("--reliability is required for sizing (for example --reliability 99%), "
+                         "or give --tested for the bound from a test already run")
+    try:
+        d = demonstration_size(confidence=C, reliability=R, failures=k, lot_size=N)
+    except Infeasible as exc:
+        common.infeasible(exc, as_json, {"failures": k, "confidence": C, "reliability": R,
+                                         "lot_size": N})
+    rep = d.report()
+    if as_json:
+        common.emit_json(rep)
+    else:
+        from ..quantities import format_pct
+
+        lot_txt = f"lot of {N}, hypergeometric" if N else "no lot size, binomial"
+        lines = [f"Demonstration test: {format_pct(C)} confidence that at least "
+                 f"{format_pct(R)} conform ({lot_txt})",
+                 f"  test n = {rep['n']} units, allow {k} failure{'s' if k != 1 else ''}", ""]
+        lines += [f"  - {s}" for s in rep["statements"]]
+        typer.echo("\n".join(lines))
+
+
+def _tidy(x: float) -> float:
+    return float(f"{x:.12g}")
+
+
+def _render_bound(rep: dict) -> str:
+    from ..quantities import format_pct
+
+    lot_txt = f"lot of {rep['lot_size']}" if rep["lot_size"] else "no lot size"
+    lines = [f"Upper confidence bound after {rep['failures']} failure(s) in {rep['tested']} "
+             f"tested ({lot_txt}, {rep['method']})",
+             f"  nonconforming at most {format_pct(rep['upper_bound'], 4)}"
+             + (f" ({rep['upper_bound_count']} units)" if "upper_bound_count" in rep else "")
+             + f" at {format_pct(rep['confidence'])} confidence; reliability demonstrated "
+             f"{format_pct(rep['reliability_demonstrated'], 4)}", ""]
+    lines += [f"  - {s}" for s in rep["statements"]]
+    return "\n".join(lines)
