@@ -33,7 +33,7 @@ A casting carries a major and a minor characteristic on one sample:
 ... ''')
 >>> pp = resolve(req)
 >>> pp.n, [r["c"] for r in pp.reports]
-(110, [3, 7])
+(110, [3, 6])
 """
 
 from __future__ import annotations
