@@ -178,10 +178,11 @@ def _split_notation(text: str, option: str) -> dict[str, str]:
 #: (see :data:`KEYS_HINT`).
 NOTATIONS: dict[str, str] = {
     "single": "lotwise.plans:_parse_single",
+    "variables": "lotwise.variables:_parse_variables",
 }
 
 #: Keys that identify a notation written without a prefix: ``key -> kind``.
-KEYS_HINT: dict[str, str] = {}
+KEYS_HINT: dict[str, str] = {"k": "variables"}
 
 
 def _parse_single(pairs: dict, text: str, option: str) -> SinglePlan:
