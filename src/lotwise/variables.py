@@ -126,7 +126,10 @@ __all__ = [
     "estimate_known",
     "estimate_unknown",
     "max_estimate_for_k",
+    "k_for_estimate",
     "simulate_estimate_method",
+    "estimate_totals",
+    "OC_REPS",
     "SPLIT_SHARES",
     "SIM_REPS",
     "SIM_SEED",
@@ -138,11 +141,14 @@ VARIABLES_MODELS = ("normal-known-sigma", "noncentral-t", "estimate-simulated")
 
 #: Shares of the total fraction nonconforming put beyond the *lower* limit
 #: when the split is unknown (0 is the one-tail case, 0.5 the centred mean).
-SPLIT_SHARES = (0.0, 0.005, 0.01, 0.02, 0.05, 0.1, 0.15, 0.2, 0.3, 0.4, 0.5)
+SPLIT_SHARES = (0.0, 0.01, 0.05, 0.15, 0.3, 0.5)
 
 #: Default repetitions and seed of the estimate-method simulation.
 SIM_REPS = 20_000
 SIM_SEED = 20_061
+#: Repetitions per level when :meth:`VariablesPlan.pa` draws a whole
+#: estimate-method OC curve (standard error at most 0.008).
+OC_REPS = 4_000
 
 _LIMITS = ("upper", "lower", "both")
 
@@ -336,6 +342,78 @@ def max_estimate_for_k(n, k):
     return float(estimate_unknown(k, n))
 
 
+def _draws(n, reps, seed):
+    """The simulation's draws ``(xbar - mu)/sigma`` and ``s/sigma`` for samples
+    of ``n``, by Latin hypercube sampling: each of the two uniforms is
+    stratified into ``reps`` equal strata (one draw per stratum, strata
+    paired at random) and mapped through the exact inverse distribution
+    functions (normal; chi-square with ``n - 1`` degrees of freedom). The
+    variance of such an estimate is never much above that of plain random
+    sampling (McKay, Beckman and Conover, 1979), so the binomial standard
+    error ``sqrt(pa (1 - pa)/reps)`` reported with it is conservative."""
+    rng = np.random.default_rng(seed)
+    u1 = (rng.permutation(reps) + rng.random(reps)) / reps
+    u2 = (rng.permutation(reps) + rng.random(reps)) / reps
+    dz = special.ndtri(u1) / math.sqrt(n)
+    r = np.sqrt(special.chdtri(n - 1.0, u2) / (n - 1.0))
+    return dz, r
+
+
+def estimate_totals(n, p, shares=SPLIT_SHARES, reps=SIM_REPS, seed=SIM_SEED):
+    """Simulated estimates ``p_U + p_L`` of the total fraction nonconforming.
+
+    Returns an array of shape ``(len(p), len(shares), reps)``: for each total
+    fraction ``p`` and share of it beyond the lower limit, the estimates of
+    ``reps`` simulated samples (common random numbers throughout; see
+    :func:`simulate_estimate_method`).
+    """
+    if n < 3:
+        raise InputError(f"n ({n}) must be at least 3 for the estimate method")
+    p = np.clip(np.atleast_1d(np.asarray(p, dtype=float)), 0.0, 1.0)
+    shares = np.asarray(shares, dtype=float)
+    dz, r = _draws(n, reps, seed)
+    c = math.sqrt(n) / (2.0 * (n - 1.0))
+    b = 0.5 * n - 1.0
+
+    def est(qz):
+        return special.betainc(b, b, np.clip(0.5 - qz * c, 0.0, 1.0))
+
+    out = np.empty((p.size, shares.size, reps))
+    for i, pv in enumerate(p):
+        for j, sh in enumerate(shares):
+            if pv <= 0.0:
+                out[i, j] = 0.0
+                continue
+            if pv >= 1.0:
+                out[i, j] = 2.0
+                continue
+            pl, pu = sh * pv, (1.0 - sh) * pv
+            tot = est((float(z_upper(pu)) - dz) / r)
+            if pl > 0.0:
+                tot = tot + est((float(z_upper(pl)) + dz) / r)
+            out[i, j] = tot
+    return out
+
+
+_SIM_CACHE: dict = {}
+
+
+def k_for_estimate(n, m):
+    """Inverse of :func:`max_estimate_for_k`: the ``k`` at which the one-limit
+    estimate equals ``m`` (the estimate falls in ``Q``; bisection)."""
+    top = (n - 1) / math.sqrt(n)
+    lo, hi = -top, top
+    for _ in range(200):
+        mid = 0.5 * (lo + hi)
+        if float(estimate_unknown(mid, n)) > m:
+            lo = mid
+        else:
+            hi = mid
+        if hi - lo < 1e-14:
+            break
+    return 0.5 * (lo + hi)
+
+
 def simulate_estimate_method(n, m, p, shares=SPLIT_SHARES, reps=SIM_REPS, seed=SIM_SEED):
     """Simulated ``Pa`` of the two-limit estimate method (sigma unknown).
 
@@ -365,35 +443,18 @@ def simulate_estimate_method(n, m, p, shares=SPLIT_SHARES, reps=SIM_REPS, seed=S
         Acceptance fractions and their standard errors
         ``sqrt(pa (1 - pa)/reps)``.
     """
-    if n < 3:
-        raise InputError(f"n ({n}) must be at least 3 for the estimate method")
-    p = np.clip(np.atleast_1d(np.asarray(p, dtype=float)), 0.0, 1.0)
-    shares = np.asarray(shares, dtype=float)
-    rng = np.random.default_rng(seed)
-    dz = rng.standard_normal(reps) / math.sqrt(n)
-    r = np.sqrt(rng.chisquare(n - 1, reps) / (n - 1.0))
-    c = math.sqrt(n) / (2.0 * (n - 1.0))
-    b = 0.5 * n - 1.0
-
-    def est(qz):
-        return special.betainc(b, b, np.clip(0.5 - qz * c, 0.0, 1.0))
-
-    pa = np.empty((p.size, shares.size))
-    for i, pv in enumerate(p):
-        for j, sh in enumerate(shares):
-            pl, pu = sh * pv, (1.0 - sh) * pv
-            if pv <= 0.0:
-                pa[i, j] = 1.0
-                continue
-            if pv >= 1.0:
-                pa[i, j] = 0.0
-                continue
-            tot = est((float(z_upper(pu)) - dz) / r)
-            if pl > 0.0:
-                tot = tot + est((float(z_upper(pl)) + dz) / r)
-            pa[i, j] = np.count_nonzero(tot <= m) / reps
-    se = np.sqrt(pa * (1.0 - pa) / reps)
-    return pa, se
+    p = np.atleast_1d(np.asarray(p, dtype=float))
+    key = (int(n), float(m), p.tobytes(), tuple(np.asarray(shares, dtype=float)), int(reps),
+           int(seed))
+    hit = _SIM_CACHE.get(key)
+    if hit is None:
+        tot = estimate_totals(n, p, shares, reps, seed)
+        pa = np.count_nonzero(tot <= m, axis=2) / reps
+        hit = (pa, np.sqrt(pa * (1.0 - pa) / reps))
+        if len(_SIM_CACHE) > 64:
+            _SIM_CACHE.clear()
+        _SIM_CACHE[key] = hit
+    return hit[0].copy(), hit[1].copy()
 
 
 # --- the plan -----------------------------------------------------------------
@@ -602,7 +663,7 @@ class VariablesPlan:
         if model == "noncentral-t":
             return pa_unknown(self.n, k_eq, p)
         scalar = np.ndim(p) == 0
-        pa, _ = simulate_estimate_method(self.n, self.m, p, reps=4000)
+        pa, _ = simulate_estimate_method(self.n, self.m, p, reps=OC_REPS)
         pa = pa.max(axis=1) if envelope == "upper" else pa.min(axis=1)
         return float(pa[0]) if scalar else pa
 
@@ -612,18 +673,7 @@ class VariablesPlan:
         exactly when the estimate from that limit is at most ``M``."""
         if self.k is not None:
             return float(self.k)
-        # The estimate falls in Q; invert by bisection on [-(n-1)/sqrt(n), (n-1)/sqrt(n)].
-        top = (self.n - 1) / math.sqrt(self.n)
-        lo, hi = -top, top
-        for _ in range(200):
-            mid = 0.5 * (lo + hi)
-            if float(estimate_unknown(mid, self.n)) > self.m:
-                lo = mid
-            else:
-                hi = mid
-            if hi - lo < 1e-14:
-                break
-        return 0.5 * (lo + hi)
+        return k_for_estimate(self.n, self.m)
 
     def pa_count(self, d, scope):
         """``Pa`` for a lot of ``scope.lot_size`` holding ``d`` nonconforming

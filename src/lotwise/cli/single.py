@@ -45,18 +45,30 @@ def design(
     lot: Optional[str] = common.LOT,
     model: Optional[str] = common.MODEL,
     defects: bool = common.DEFECTS,
-    scheme: str = typer.Option("single", "--scheme", help="Plan family: single."),
+    scheme: str = typer.Option("single", "--scheme", help="Plan family: single or variables."),
     c: Optional[str] = typer.Option(None, "--c", help="Fix the acceptance number (0 for accept-on-zero)."),
     n: Optional[str] = typer.Option(None, "--n", help="Fix the sample size and find c."),
     max_n: Optional[str] = typer.Option(None, "--max-n", help="Largest affordable sample."),
+    sigma: Optional[str] = typer.Option(None, "--sigma", help="variables: known or unknown."),
+    sigma_value: Optional[str] = typer.Option(None, "--sigma-value", help="variables: the known sigma."),
+    limit: Optional[str] = typer.Option(None, "--limit", help="variables: upper, lower or both."),
+    lower: Optional[str] = typer.Option(None, "--lower", help="variables: lower specification limit."),
+    upper: Optional[str] = typer.Option(None, "--upper", help="variables: upper specification limit."),
     as_json: bool = common.JSON,
 ):
     """Design the plan with the smallest sample meeting both risks."""
     from ..design.single import Targets, design_single
     from ..report import render_single, single_report
 
+    if scheme == "variables":
+        from .variables import design_cmd
+
+        return design_cmd(aql=aql, rql=rql, alpha=alpha, beta=beta, sigma=sigma,
+                          sigma_value=sigma_value, limit=limit, lower=lower, upper=upper,
+                          max_n=max_n, lot=lot, model=model, defects=defects, c=c, n=n,
+                          as_json=as_json)
     if scheme != "single":
-        raise InputError(f"--scheme ({scheme}) must be one of: single")
+        raise InputError(f"--scheme ({scheme}) must be one of: single, variables")
     a, r = common.levels(aql, rql, defects)
     al, be = common.risks(alpha, beta)
     scope, mdl = _scope_and_model(lot, defects, model)
@@ -100,6 +112,10 @@ def check(
     from ..report import render_single, single_report
 
     p = _plan_from(plan, n, c)
+    if p.scheme == "variables":
+        from .variables import check_cmd
+
+        return check_cmd(p, aql=aql, rql=rql, alpha=alpha, beta=beta, as_json=as_json)
     a, r = common.levels(aql, rql, defects)
     al, be = common.risks(alpha, beta)
     scope, mdl = _scope_and_model(lot, defects, model)
@@ -183,6 +199,11 @@ def oc_table(
     from ..audit import oc_grid
 
     p = _plan_from(plan, n, c)
+    if p.scheme == "variables":
+        from .variables import oc_cmd
+
+        return oc_cmd(p, max_p=max_p, points=points, at=at, aql=aql, rql=rql, csv=csv,
+                      plot=plot, force=force, as_json=as_json)
     scope, mdl = _scope_and_model(lot, defects, model)
     if scope.lot_size is not None and p.n > scope.lot_size:
         raise InputError(f"--n ({p.n}) must not be greater than --lot-size ({scope.lot_size})")

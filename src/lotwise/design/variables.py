@@ -263,7 +263,8 @@ class VariablesDesign:
 
     @property
     def k(self) -> float:
-        return float(self.plan.k)
+        """``k`` (for the estimate method: the one-limit equivalent of ``M``)."""
+        return float(self.plan.k_equivalent)
 
     @property
     def alpha(self) -> float:
@@ -345,7 +346,7 @@ class VariablesDesign:
             "method": p.method,
             "model": p.exact_model,
             "n": int(p.n),
-            "k": float(p.k),
+            "k": self.k,
             "pa_aql": self.pa_aql,
             "pa_rql": self.pa_rql,
             "alpha": self.alpha,
@@ -481,6 +482,9 @@ def design_variables(*, aql: float, rql: float, alpha: float = 0.05, beta: float
                 f"{format_level(p_min)} beyond the limits; a smaller sigma is needed",
                 {"p_min": p_min, "width_sigma": width})
 
+    if limit == "both" and sigma == "unknown":
+        return _design_estimate_method(targets, lower=lower, upper=upper, k_rule=k_rule,
+                                       max_n=max_n, attributes=attributes, reps=reps, seed=seed)
     w = width if (limit == "both" and sigma == "known") else None
     start = _min_n(sigma, limit)
     cap = _N_CAP if max_n is None else max_n
@@ -563,25 +567,8 @@ def design_variables(*, aql: float, rql: float, alpha: float = 0.05, beta: float
             notes.append("Two limits, tolerance width not given: the risks are met wherever the "
                          "mean sits and however wide the tolerance (worst case); give "
                          "--sigma-value with --lower and --upper for the exact curve.")
-    elif limit == "both":
-        two = _simulation_report(plan, targets, reps, seed)
-        worst_a, worst_r = two["worst_aql"], two["worst_rql"]
-        notes.append(
-            f"Estimate method: accept when the estimated fraction beyond both limits is at most "
-            f"M = {format_pct(plan.m, 4)}. Risks are exact with the mean near one limit; by "
-            f"simulation ({reps:,} samples, seed {seed}) the worst split of the nonconforming "
-            f"between the tails gives alpha {format_pct(1 - worst_a['pa'])} and beta "
-            f"{format_pct(worst_r['pa'])} (standard error about "
-            f"{max(worst_a['se'], worst_r['se']):.4f}).")
 
-    att, note = None, ""
-    if attributes:
-        from .single import design_single
-
-        try:
-            att = design_single(aql=aql, rql=rql, alpha=alpha, beta=beta)
-        except Infeasible as exc:
-            note = f"No attributes single plan for the same points: {exc}"
+    att, note = _attributes(targets, attributes)
     return VariablesDesign(plan=plan, targets=targets, k_low=k_lo, k_high=k_hi, k_rule=k_rule,
                            k_decimals=dec, pa_aql=float(pa_aql), pa_rql=float(pa_rql),
                            approximation=approx, known_sigma_n=known_n, attributes=att,
@@ -589,12 +576,157 @@ def design_variables(*, aql: float, rql: float, alpha: float = 0.05, beta: float
                            notes=notes)
 
 
-def _simulation_report(plan, targets, reps, seed) -> dict:
+def _attributes(targets: Targets, wanted: bool):
+    """The attributes single plan (binomial) for the same two points."""
+    if not wanted:
+        return None, ""
+    from .single import design_single
+
+    try:
+        return design_single(aql=targets.aql, rql=targets.rql, alpha=targets.alpha,
+                             beta=targets.beta), ""
+    except Infeasible as exc:
+        return None, f"No attributes single plan for the same points: {exc}"
+
+
+def _m_window(n, targets: Targets, reps: int, seed: int):
+    """``(M_low, M_high)`` at ``n`` for the estimate method, from the simulated
+    estimates at the AQL and RQL over every split in :data:`SPLIT_SHARES`:
+    ``M >= M_low`` keeps ``Pa(AQL) >= 1 - alpha`` and ``M < M_high`` keeps
+    ``Pa(RQL) <= beta`` for every split (empirical order statistics)."""
+    tot = V.estimate_totals(n, [targets.aql, targets.rql], V.SPLIT_SHARES, reps, seed)
+    return _m_window_from(tot, targets, reps), tot
+
+
+def _m_window_from(tot, targets: Targets, reps: int):
+    ta = np.sort(tot[0], axis=1)
+    tr = np.sort(tot[1], axis=1)
+    ia = max(math.ceil((1.0 - targets.alpha) * reps - 1e-9) - 1, 0)
+    jr = math.floor(targets.beta * reps + 1e-9)
+    m_lo = float(ta[:, ia].max())
+    m_hi = float(tr[:, jr].min()) if jr < reps else 2.0
+    return m_lo, m_hi
+
+
+def _design_estimate_method(targets: Targets, *, lower, upper, k_rule, max_n, attributes,
+                            reps, seed) -> VariablesDesign:
+    """Two limits, sigma unknown: the smallest ``n`` and an ``M`` meeting both
+    risks in the worst simulated split (see :func:`design_variables`)."""
+    cap = _N_CAP if max_n is None else max_n
+    if cap < 3:
+        raise InputError(f"--max-n ({cap}) must be at least 3 for this method")
+
+    def one_tail(n):
+        lo, hi = k_window(n, targets, "unknown", "upper")
+        return lo <= hi
+
+    n1 = _smallest_n(one_tail, 3, cap)
+    if n1 is None:
+        lo, hi = k_window(cap, targets, "unknown", "upper")
+        raise Infeasible(f"no plan with n <= {cap} meets both risks even with the mean near "
+                         f"one limit: at n = {cap} the consumer's risk needs k >= {lo:.4f} and "
+                         f"the producer's k <= {hi:.4f}", {"n": cap, "k_low": lo, "k_high": hi})
+    windows: dict = {}
+
+    totals: dict = {}
+
+    def window(n):
+        if n not in windows:
+            windows[n], totals[n] = _m_window(n, targets, reps, seed)
+        return windows[n]
+
+    def ok(n):
+        lo, hi = window(n)
+        return lo < hi
+
+    # Gallop up from the one-tail n (no split needs fewer), then bisect.
+    last_bad, n, step = n1 - 1, n1, 1
+    while not ok(n):
+        if n >= cap:
+            lo, hi = window(n)
+            raise Infeasible(f"no plan with n <= {cap} meets both risks for every split of the "
+                             f"nonconforming between the tails (simulated): at n = {cap} alpha "
+                             f"needs M >= {lo:.5f} and beta M < {hi:.5f}",
+                             {"n": cap, "m_low": lo, "m_high": hi})
+        last_bad, n, step = n, min(n + step, cap), step * 2
+    lo_n, hi_n = last_bad, n
+    while hi_n - lo_n > 1:
+        mid = (lo_n + hi_n) // 2
+        if ok(mid):
+            hi_n = mid
+        else:
+            lo_n = mid
+    n = hi_n
+    m_lo, m_hi = window(n)
+    m, dec = _choose_m(m_lo, m_hi, k_rule)
+    plan = V.VariablesPlan(n=n, m=m, sigma="unknown", limit="both", lower=lower, upper=upper)
+    two = _simulation_report(plan, targets, reps, seed, totals[n])
+    two["m_range"] = {"low": m_lo, "high": m_hi, "strict_high": True}
+    two["one_tail_n"] = n1
+    pa_aql, pa_rql = two["worst_aql"]["pa"], two["worst_rql"]["pa"]
+    approx = wallis(targets)
+    approx["alpha"] = 1.0 - float(V.pa_unknown(approx["n"], approx["k"], targets.aql))
+    approx["beta"] = float(V.pa_unknown(approx["n"], approx["k"], targets.rql))
+    approx["exact_minus_approximation"] = int(n - approx["n"])
+    approx["meets"] = bool(approx["alpha"] <= targets.alpha + _TOL
+                           and approx["beta"] <= targets.beta + _TOL)
+    approx["method"] += "; one-limit s-method for the total fraction"
+    za, zb, z1, z2 = _z(targets)
+    known_n = _ceil(closed_form_known(za, zb, z1, z2)[0])
+    se = max(two["worst_aql"]["se"], two["worst_rql"]["se"])
+    notes = [
+        f"Estimate method: accept when the estimated fraction beyond both limits is at most "
+        f"M = {m:.5g}, equivalent with one limit to k = {plan.k_equivalent:.4f}. The two-limit "
+        f"risks come from a simulation ({reps:,} samples, seed {seed}, every split of the "
+        f"nonconforming between the tails from one tail to centred), standard error about "
+        f"{se:.4f}; any M from {m_lo:.5f} up to (not including) {m_hi:.5f} meets both risks "
+        f"in every split with n = {n}.",
+        f"With the mean near one limit the risks are exact (noncentral t): alpha "
+        f"{format_pct(1 - two['one_tail_exact']['pa_aql'])}, beta "
+        f"{format_pct(two['one_tail_exact']['pa_rql'])}; that case alone needs n = {n1}.",
+    ]
+    prev = window(n - 1) if n - 1 >= 3 and (n - 1) in windows else None
+    if prev is not None:
+        prev = (V.k_for_estimate(n - 1, prev[1]) if prev[1] < 1 else float("-inf"),
+                V.k_for_estimate(n - 1, prev[0]))
+    att, note = _attributes(targets, attributes)
+    return VariablesDesign(plan=plan, targets=targets,
+                           k_low=V.k_for_estimate(n, min(m_hi, 0.999999)),
+                           k_high=V.k_for_estimate(n, m_lo), k_rule=k_rule, k_decimals=dec,
+                           pa_aql=float(pa_aql), pa_rql=float(pa_rql), approximation=approx,
+                           known_sigma_n=known_n, attributes=att, attributes_note=note,
+                           previous_window=prev, two_limit=two, notes=notes)
+
+
+def _choose_m(m_lo: float, m_hi: float, rule: str) -> tuple[float, int]:
+    """``M`` in ``[m_lo, m_hi)`` by ``rule`` (midpoint; 'low' k = largest M;
+    'high' k = smallest M), rounded to the fewest significant digits (>= 3)
+    that stay inside."""
+    target = {"midpoint": 0.5 * (m_lo + m_hi), "low": m_hi, "high": m_lo}[rule]
+    for d in range(3, 16):
+        e = 10.0 ** (d - 1 - math.floor(math.log10(target)))
+        if rule == "midpoint":
+            mr = round(target * e) / e
+        elif rule == "low":
+            mr = (math.ceil(target * e) - 1) / e
+        else:
+            mr = math.ceil(target * e) / e
+        if m_lo <= mr < m_hi:
+            return mr, d
+    return target, 17
+
+
+def _simulation_report(plan, targets, reps, seed, totals=None) -> dict:
     """Simulated two-limit risks of an estimate-method plan (see
-    :func:`lotwise.variables.simulate_estimate_method`)."""
+    :func:`lotwise.variables.simulate_estimate_method`); ``totals`` are the
+    simulated estimates when already at hand (same draws)."""
     shares = V.SPLIT_SHARES
-    pa, se = V.simulate_estimate_method(plan.n, plan.m, [targets.aql, targets.rql], shares,
-                                        reps, seed)
+    if totals is not None:
+        pa = np.count_nonzero(totals <= plan.m, axis=2) / reps
+        se = np.sqrt(pa * (1.0 - pa) / reps)
+    else:
+        pa, se = V.simulate_estimate_method(plan.n, plan.m, [targets.aql, targets.rql], shares,
+                                            reps, seed)
     ia, ir = int(np.argmin(pa[0])), int(np.argmax(pa[1]))
     one = V.pa_unknown(plan.n, plan.k_equivalent, np.array([targets.aql, targets.rql]))
     return {
