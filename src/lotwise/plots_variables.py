@@ -38,20 +38,20 @@ def variables_oc_figure(plan, *, aql=None, rql=None, max_p=None, attributes_plan
     ps = np.linspace(0.0, max_p, points)
     band = plan.limit == "both" and (plan.sigma == "unknown" or plan.width is None)
     if band and plan.sigma == "unknown":
-        ps = np.linspace(0.0, max_p, min(points, 81))
+        ps = np.linspace(0.0, max_p, min(points, 41))
     hi = np.asarray(plan.pa(ps), dtype=float)
-    name = f"{plan.label}: {plan.exact_model}"
     if band:
         lo = np.asarray(plan.pa(ps, envelope="lower"), dtype=float)
         ax.fill_between(ps, lo, hi, color="0.88", linewidth=0)
-        ax.plot(ps, hi, label=name + " (upper edge: consumer's worst case)", **STYLE["exact"])
-        ax.plot(ps, lo, label="lower edge: producer's worst case", **STYLE["poisson"])
+        sim = " (simulated)" if plan.sigma == "unknown" else ""
+        ax.plot(ps, hi, label=f"upper edge: consumer's worst case{sim}", **STYLE["exact"])
+        ax.plot(ps, lo, label=f"lower edge: producer's worst case{sim}", **STYLE["poisson"])
         if plan.sigma == "unknown":
             one = plan.pa(ps, "noncentral-t")
             ax.plot(ps, one, label="mean near one limit: noncentral t (exact)",
                     **STYLE["binomial"])
     else:
-        ax.plot(ps, hi, label=name + " (exact)", **STYLE["exact"])
+        ax.plot(ps, hi, label=f"{plan.exact_model} (exact)", **STYLE["exact"])
     if attributes_plan is not None:
         from .oc import pa_binomial
 
@@ -60,7 +60,13 @@ def variables_oc_figure(plan, *, aql=None, rql=None, max_p=None, attributes_plan
     for level, marker, tag, env in ((aql, "o", "AQL", "lower"), (rql, "s", "RQL", "upper")):
         if level is None:
             continue
-        y = float(plan.pa(level, envelope=env))
+        if plan.exact_model == "estimate-simulated":  # the full simulation, as designed
+            from .variables import simulate_estimate_method
+
+            sim_pa, _ = simulate_estimate_method(plan.n, plan.m, [level])
+            y = float(sim_pa.min() if env == "lower" else sim_pa.max())
+        else:
+            y = float(plan.pa(level, envelope=env))
         ax.plot([level, level], [0, y], color="0.55", linewidth=0.7, linestyle=":")
         ax.plot([0, level], [y, y], color="0.55", linewidth=0.7, linestyle=":")
         ax.plot([level], [y], marker=marker, markersize=7, markerfacecolor="white",
@@ -72,8 +78,7 @@ def variables_oc_figure(plan, *, aql=None, rql=None, max_p=None, attributes_plan
     ax.set_xlabel("Process fraction nonconforming (%)"
                   + (" beyond both limits" if plan.limit == "both" else ""), fontsize=9.5)
     _pct_axis(ax, False)
-    if title:
-        ax.set_title(title, fontsize=10.5, loc="left")
+    ax.set_title(title or plan.label, fontsize=9.5, loc="left")
     ax.legend(fontsize=7.5, frameon=False, loc="upper right")
     fig.tight_layout()
     return fig
