@@ -121,6 +121,7 @@ __all__ = [
     "z_upper",
     "pa_known",
     "pa_unknown",
+    "nct_sf_quadrature",
     "pa_known_two",
     "tail_split",
     "estimate_known",
@@ -181,16 +182,51 @@ def pa_unknown(n, k, p):
 
     ``P(T >= k sqrt(n))`` with ``T`` noncentral t, ``n - 1`` degrees of
     freedom, noncentrality ``sqrt(n) z_p``; evaluated as the lower tail of
-    ``-T`` so that small values keep their relative accuracy. ``n >= 2``.
+    ``-T`` so that small values keep their relative accuracy, else as one
+    minus the lower tail of ``T``. Where ``scipy.special.nctdtr`` gives up
+    (NaN, far in a tail), :func:`nct_sf_quadrature` is used. ``n >= 2``.
     """
     n, k, p = np.broadcast_arrays(*(np.asarray(a, dtype=float) for a in (n, k, p)))
     rn = np.sqrt(n)
     inner = (p > 0.0) & (p < 1.0)
     ps = np.where(inner, p, 0.5)
+    nc = rn * z_upper(ps)
+    t = k * rn
     with np.errstate(all="ignore"):
-        pa = special.nctdtr(n - 1.0, -rn * z_upper(ps), -k * rn)
+        pa = special.nctdtr(n - 1.0, -nc, -t)
+        bad = np.isnan(pa)
+        if bad.any():
+            pa = np.where(bad, 1.0 - special.nctdtr(n - 1.0, nc, t), pa)
+            bad = np.isnan(pa)
+            if bad.any():
+                pa = np.array(pa, dtype=float)
+                pa[bad] = nct_sf_quadrature(n[bad] - 1.0, nc[bad], t[bad])
     pa = np.where(p <= 0.0, 1.0, np.where(p >= 1.0, 0.0, pa))
-    return _finish(np.nan_to_num(pa, nan=0.0))
+    return _finish(pa)
+
+
+_GL_X, _GL_W = np.polynomial.legendre.leggauss(400)
+
+
+def nct_sf_quadrature(df, nc, t):
+    """``P(T >= t)`` for the noncentral t by quadrature over ``W = sqrt(chi2/df)``:
+    ``int Phi(nc - t w) f_W(w) dw`` (400-point Gauss-Legendre over the bulk of
+    ``W``, +-14 of its approximate standard deviations ``1/sqrt(2 df)``).
+    A fallback for the far tails where :func:`scipy.special.nctdtr` fails."""
+    df, nc, t = (np.atleast_1d(np.asarray(a, dtype=float)) for a in (df, nc, t))
+    sd = 1.0 / np.sqrt(2.0 * df)
+    mode = np.sqrt(np.maximum(df - 1.0, 0.0) / df)
+    lo = np.maximum(mode - 14.0 * sd, 0.0)
+    hi = mode + 14.0 * sd
+    half = 0.5 * (hi - lo)
+    w = lo[:, None] + half[:, None] * (_GL_X[None, :] + 1.0)
+    with np.errstate(all="ignore"):
+        logf = (math.log(2.0) + 0.5 * df[:, None] * np.log(0.5 * df[:, None])
+                - special.gammaln(0.5 * df[:, None]) + (df[:, None] - 1.0) * np.log(w)
+                - 0.5 * df[:, None] * w * w)
+        f = np.where(w > 0, np.exp(logf), 0.0)
+    vals = special.ndtr(nc[:, None] - t[:, None] * w) * f
+    return np.clip((vals * _GL_W[None, :]).sum(axis=1) * half, 0.0, 1.0)
 
 
 # --- two limits, sigma known --------------------------------------------------
