@@ -410,6 +410,7 @@ def test_estimate_method_design_meets_simulated_worst_case():
     "variables: n=15,k=1.896,lower=24.7,upper=25.0,sigma=0.05",
     "variables: n=43,m=0.02657,lower=24.8,upper=25.0",
     "n=42,k=1.9,limit=upper",
+    "variables: n=17,k=1.919,upper=25.0,limit=both,sigma=0.05",
 ])
 def test_notation_round_trip(text):
     p = parse_plan(text)

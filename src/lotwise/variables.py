@@ -783,7 +783,7 @@ def _parse_variables(pairs: dict, text: str, option: str) -> VariablesPlan:
         if lv not in _LIMITS:
             raise InputError(f"{option} limit ({pairs['limit']!r}) must be one of: "
                              + ", ".join(_LIMITS))
-        if limit is not None and lv != limit:
+        if limit is not None and lv != limit and lv != "both":
             raise InputError(f"{option} limit ({lv}) disagrees with the limits given ({limit})")
         limit = lv
     if limit is None:

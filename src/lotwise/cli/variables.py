@@ -8,6 +8,17 @@ the first line (any text that is not a number); blank lines at the end are
 ignored. Rows are counted as lines of the file, the header being row 1. A
 blank line or ``NA``/``nan`` before the end is a missing value and is
 refused, as is any row that is not a number or holds more than one field.
+
+Examples
+--------
+Receiving inspection of shafts (upper limit 25.00 mm, sigma not known)
+designs the plan once and judges each lot's 42 measurements with it::
+
+    $ lotwise design --scheme variables --sigma unknown --upper 25.00 --aql 1% --rql 6%
+    $ lotwise judge --plan "variables: n=42,k=1.901,upper=25.0" shafts.csv --plot shafts.png
+
+``judge`` exits 0 when the lot is accepted, 1 when it is rejected and 2 on
+malformed input (one line on stderr naming the file row or the option).
 """
 
 from __future__ import annotations
