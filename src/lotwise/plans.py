@@ -180,11 +180,13 @@ NOTATIONS: dict[str, str] = {
     "single": "lotwise.plans:_parse_single",
     "chain": "lotwise.chain:_parse_chain",
     "skiplot": "lotwise.skiplot:_parse_skiplot",
+    "variables": "lotwise.variables:_parse_variables",
 }
 
 #: Keys that identify a notation written without a prefix: ``key -> kind``.
 KEYS_HINT: dict[str, str] = {
     "f": "skiplot",
+    "k": "variables",
 }
 
 

@@ -25,7 +25,7 @@ app = typer.Typer(
 
 def _register() -> None:
     # Imported for their side effect of adding commands to ``app``.
-    from . import draw, rectifying, sheets, single, zero  # noqa: F401
+    from . import draw, rectifying, sheets, single, variables, zero  # noqa: F401
 
 
 def main(argv: list[str] | None = None) -> int:

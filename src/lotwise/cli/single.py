@@ -45,7 +45,7 @@ def design(
     lot: Optional[str] = common.LOT,
     model: Optional[str] = common.MODEL,
     defects: bool = common.DEFECTS,
-    scheme: str = typer.Option("single", "--scheme", help="Plan family: single or chain (ChSP-1)."),
+    scheme: str = typer.Option("single", "--scheme", help="Plan family: single, chain (ChSP-1) or variables."),
     c: Optional[str] = typer.Option(None, "--c", help="Fix the acceptance number (0 for accept-on-zero)."),
     n: Optional[str] = typer.Option(None, "--n", help="Fix the sample size and find c."),
     max_n: Optional[str] = typer.Option(None, "--max-n", help="Largest affordable sample."),
@@ -53,14 +53,26 @@ def design(
     process_average: Optional[str] = typer.Option(None, "--process-average", help="Supplier's process average, for --minimize ati."),
     aoql: Optional[str] = typer.Option(None, "--aoql", help="AOQL limit, for --minimize ati (instead of --rql)."),
     aoq_formula: str = typer.Option("screened", "--aoq-formula", help="screened: AOQ = p Pa (N - n)/N; simple: p Pa."),
+    sigma: Optional[str] = typer.Option(None, "--sigma", help="variables: known or unknown."),
+    sigma_value: Optional[str] = typer.Option(None, "--sigma-value", help="variables: the known sigma."),
+    limit: Optional[str] = typer.Option(None, "--limit", help="variables: upper, lower or both."),
+    lower: Optional[str] = typer.Option(None, "--lower", help="variables: lower specification limit."),
+    upper: Optional[str] = typer.Option(None, "--upper", help="variables: upper specification limit."),
     as_json: bool = common.JSON,
 ):
     """Design the plan with the smallest sample meeting both risks."""
     from ..design.single import Targets, design_single
     from ..report import render_single, single_report
 
+    if scheme == "variables":
+        from .variables import design_cmd
+
+        return design_cmd(aql=aql, rql=rql, alpha=alpha, beta=beta, sigma=sigma,
+                          sigma_value=sigma_value, limit=limit, lower=lower, upper=upper,
+                          max_n=max_n, lot=lot, model=model, defects=defects, c=c, n=n,
+                          as_json=as_json)
     if scheme not in ("single", "chain"):
-        raise InputError(f"--scheme ({scheme}) must be one of: single, chain")
+        raise InputError(f"--scheme ({scheme}) must be one of: single, chain, variables")
     if minimize is not None or scheme == "chain":
         from . import rectifying as rect_cli
 
@@ -130,6 +142,10 @@ def check(
 
         raise typer.Exit(check_folder(paths, as_json))
     p = _plan_from(plan, n, c)
+    if p.scheme == "variables":
+        from .variables import check_cmd
+
+        return check_cmd(p, aql=aql, rql=rql, alpha=alpha, beta=beta, as_json=as_json)
     if p.scheme == "skiplot":  # "skiplot: n=..,c=..,i=..,f=.." = reference plan + --skip-lot
         if skip_lot is not None:
             raise InputError("--skip-lot cannot be combined with a skiplot --plan")
@@ -227,6 +243,11 @@ def oc_table(
     from ..audit import oc_grid
 
     p = _plan_from(plan, n, c)
+    if p.scheme == "variables":
+        from .variables import oc_cmd
+
+        return oc_cmd(p, max_p=max_p, points=points, at=at, aql=aql, rql=rql, csv=csv,
+                      plot=plot, force=force, as_json=as_json)
     scope, mdl = _scope_and_model(lot, defects, model)
     if scope.lot_size is not None and p.n > scope.lot_size:
         raise InputError(f"--n ({p.n}) must not be greater than --lot-size ({scope.lot_size})")

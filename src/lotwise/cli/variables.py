@@ -1,0 +1,544 @@
+"""Command-line glue for variables plans: ``lotwise design --scheme variables``,
+``check``/``oc`` of a variables plan (dispatched from :mod:`lotwise.cli.single`)
+and ``lotwise judge`` (the verdict for a measured sample).
+
+Measurements file (``lotwise judge ... FILE``): plain text or CSV with one
+column of numbers, one per line, decimal point ``.``; an optional header on
+the first line (any text that is not a number); blank lines at the end are
+ignored. Rows are counted as lines of the file, the header being row 1. A
+blank line or ``NA``/``nan`` before the end is a missing value and is
+refused, as is any row that is not a number or holds more than one field.
+
+Examples
+--------
+Receiving inspection of shafts (upper limit 25.00 mm, sigma not known)
+designs the plan once and judges each lot's 42 measurements with it::
+
+    $ lotwise design --scheme variables --sigma unknown --upper 25.00 --aql 1% --rql 6%
+    $ lotwise judge --plan "variables: n=42,k=1.901,upper=25.0" shafts.csv --plot shafts.png
+
+``judge`` exits 0 when the lot is accepted, 1 when it is rejected and 2 on
+malformed input (one line on stderr naming the file row or the option).
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Optional
+
+import typer
+
+from . import app, common
+from ..quantities import InputError, Infeasible
+
+#: Shapiro-Wilk p-value below which normality is called doubtful.
+NORMALITY_LEVEL = 0.05
+
+_MISSING = {"", "na", "n/a", "nan", "null", "none", "-", "?"}
+
+
+def number(text, option: str) -> float | None:
+    """A finite real number such as ``25.4`` or ``-1e-3``, or None."""
+    if text is None:
+        return None
+    try:
+        v = float(str(text).strip())
+    except ValueError:
+        raise InputError(f"{option} ({text!r}) must be a number such as 25.4") from None
+    if not math.isfinite(v):
+        raise InputError(f"{option} ({text!r}) must be a finite number")
+    return v
+
+
+# --- design --------------------------------------------------------------------
+
+def design_cmd(*, aql, rql, alpha, beta, sigma, sigma_value, limit, lower, upper, max_n,
+               lot, model, defects, c, n, as_json):
+    """``lotwise design --scheme variables``."""
+    from ..design.variables import design_variables
+    from ..quantities import parse_count
+
+    for opt, val in (("--model", model), ("--c", c), ("--n", n)):
+        if val is not None:
+            raise InputError(f"{opt} ({val}) does not apply to --scheme variables")
+    if defects:
+        raise InputError("--defects does not apply to --scheme variables: a variables plan "
+                         "judges a fraction nonconforming from measurements")
+    if sigma is None:
+        raise InputError("--sigma is required with --scheme variables: known or unknown")
+    sigma = sigma.strip().lower()
+    if sigma not in ("known", "unknown"):
+        raise InputError(f"--sigma ({sigma}) must be 'known' or 'unknown'")
+    limit = (limit or "").strip().lower() or None
+    lo, up = number(lower, "--lower"), number(upper, "--upper")
+    if limit is None:
+        limit = "both" if (lo is not None and up is not None) else (
+            "lower" if lo is not None else "upper")
+    if limit not in ("upper", "lower", "both"):
+        raise InputError(f"--limit ({limit}) must be one of: upper, lower, both")
+    sv = number(sigma_value, "--sigma-value")
+    if sv is not None and not sv > 0:
+        raise InputError(f"--sigma-value ({sigma_value}) must be a positive number")
+    if lo is not None and up is not None and not lo < up:
+        raise InputError(f"--lower ({lo:g}) must be below --upper ({up:g})")
+    a, r = common.levels(aql, rql, False)
+    al, be = common.risks(alpha, beta)
+    cap = parse_count(max_n, "--max-n", minimum=1) if max_n is not None else None
+    nlot = common.lot_size(lot)
+    base = {"scheme": "variables", "sigma": sigma, "limit": limit,
+            "targets": {"aql": a, "alpha": al, "rql": r, "beta": be}}
+    try:
+        d = design_variables(aql=a, rql=r, alpha=al, beta=be, sigma=sigma, limit=limit,
+                             sigma_value=sv, lower=lo, upper=up, max_n=cap)
+    except Infeasible as exc:
+        common.infeasible(exc, as_json, base)
+    rep = d.as_dict()
+    rep["feasible"] = True
+    rep["lot_size"] = nlot
+    if nlot is not None and d.n >= nlot:
+        rep["full_inspection"] = True
+        rep["statements"].insert(0, f"The sample ({d.n}) is not smaller than the lot of {nlot}: "
+                                    "measure every item.")
+    if as_json:
+        common.emit_json(rep)
+    else:
+        typer.echo(render_design(rep))
+
+
+def _pct(x):
+    from ..quantities import format_pct
+
+    return format_pct(x)
+
+
+def render_design(rep: dict) -> str:
+    from ..quantities import format_level
+
+    t = rep["targets"]
+    lines = [f"Variables plan, {rep['method']} (smallest sample meeting both risks)"]
+    kr = rep["k_range"]
+    plan = f"  plan      n = {rep['n']}, k = {rep['k']:g}"
+    if rep.get("m") is not None:
+        plan += f", M = {rep['m']:.5f} (maximum estimated fraction nonconforming)"
+    lines.append(plan)
+    lines.append(f"  notation  {rep['notation']}")
+    lines.append(f"  targets   AQL {format_level(t['aql'])} at alpha {_pct(t['alpha'])}, "
+                 f"RQL {format_level(t['rql'])} at beta {_pct(t['beta'])}")
+    rows = [["exact plan", str(rep["n"]), f"{rep['k']:.4f}", f"{rep['pa_aql']:.5f}",
+             _pct(rep["alpha"]), f"{rep['pa_rql']:.5f}", _pct(rep["beta"]),
+             "yes" if rep["meets"] else "NO"]]
+    ap = rep["approximation"]
+    if rep["sigma"] == "unknown":
+        rows.append(["Wallis", str(ap["n"]), f"{ap['k']:.4f}", f"{1 - ap['alpha']:.5f}",
+                     _pct(ap["alpha"]), f"{ap['beta']:.5f}", _pct(ap["beta"]),
+                     "yes" if ap["meets"] else "NO"])
+    else:
+        rows.append(["closed form", f"{ap['n']} ({ap['n_unrounded']:.2f})", f"{ap['k']:.4f}",
+                     "", "", "", "", ""])
+    if rep.get("attributes"):
+        at = rep["attributes"]
+        rows.append([f"attributes c = {at['c']}", str(at["n"]), "", "", "", "", "", "binomial"])
+    lines.append("")
+    lines.append(common.table(rows, ["", "n", "k", "Pa(AQL)", "alpha", "Pa(RQL)", "beta",
+                                     "meets"]))
+    lines.append(f"  k window at n = {rep['n']}: {kr['low']:.5f} .. {kr['high']:.5f} "
+                 f"(slack {kr['slack']:.5f}; k = {rep['k']:g} is the {kr['rule']}, "
+                 f"kept to {kr['decimals']} decimals)")
+    if rep.get("saved"):
+        s = rep["saved"]
+        lines.append(f"  sample saved against attributes: {s['n']} units ({_pct(s['fraction'])})")
+    lines.append("")
+    for s in rep["statements"]:
+        lines.append(f"  - {s}")
+    return "\n".join(lines)
+
+
+# --- check and oc of a given plan -------------------------------------------------
+
+def _risks(plan, a, r):
+    """Exact Pa at the AQL and RQL, the worst case for two-limit plans."""
+    return float(plan.pa(a, envelope="lower")), float(plan.pa(r, envelope="upper"))
+
+
+def check_cmd(plan, *, aql, rql, alpha, beta, as_json):
+    """``lotwise check --plan "variables: ..."``: exit 0 when it meets both risks."""
+    from ..quantities import format_level
+
+    a, r = common.levels(aql, rql, False)
+    al, be = common.risks(alpha, beta)
+    if not r > a:
+        common.fail(f"the RQL ({format_level(r)}) must be above the AQL ({format_level(a)})", 1,
+                    {"feasible": False, "reason": "rql must be above aql"}, as_json)
+    sim = plan.exact_model == "estimate-simulated"
+    if sim:
+        from ..variables import simulate_estimate_method
+
+        pa, se = simulate_estimate_method(plan.n, plan.m, [a, r])
+        pa_a, pa_r = float(pa[0].min()), float(pa[1].max())
+        se_a, se_r = float(se[0][pa[0].argmin()]), float(se[1][pa[1].argmax()])
+    else:
+        pa_a, pa_r = _risks(plan, a, r)
+    meets = (1 - pa_a) <= al + 1e-12 and pa_r <= be + 1e-12
+    rep = {"scheme": "variables", **plan.to_dict(), "targets": {"aql": a, "alpha": al,
+                                                                 "rql": r, "beta": be},
+           "pa_aql": pa_a, "pa_rql": pa_r, "alpha": 1 - pa_a, "beta": pa_r, "meets": meets}
+    if sim:
+        one = plan.pa([a, r], "noncentral-t")
+        rep["simulated"] = {"se_aql": se_a, "se_rql": se_r}
+        rep["one_tail_exact"] = {"pa_aql": float(one[0]), "pa_rql": float(one[1])}
+    if plan.limit == "both" and plan.sigma == "known" and plan.width is None:
+        rep["convention"] = "worst case over where the mean sits (tolerance width not given)"
+    if as_json:
+        common.emit_json(rep)
+    else:
+        verdict = "meets both targets" if meets else "FALLS SHORT"
+        lines = [f"Audit of variables plan {plan.label}: {verdict}",
+                 f"  method    {plan.method}; model {plan.exact_model}",
+                 f"  accepts at the AQL {format_level(a)}: Pa {pa_a:.5f}, alpha {_pct(1 - pa_a)} "
+                 f"(target {_pct(al)})",
+                 f"  accepts at the RQL {format_level(r)}: Pa {pa_r:.5f}, beta {_pct(pa_r)} "
+                 f"(target {_pct(be)})"]
+        if sim:
+            lines.append(f"  (simulated worst split of the nonconforming between the tails, "
+                         f"standard error {max(se_a, se_r):.4f}; with the mean near one limit "
+                         f"exactly {rep['one_tail_exact']['pa_aql']:.5f} and "
+                         f"{rep['one_tail_exact']['pa_rql']:.5f})")
+        if "convention" in rep:
+            lines.append(f"  (two limits: {rep['convention']})")
+        from ..design.variables import SAFETY
+
+        lines.append(f"  - {SAFETY}")
+        typer.echo("\n".join(lines))
+    raise typer.Exit(0 if meets else 1)
+
+
+def oc_cmd(plan, *, max_p, points, at, aql, rql, csv, plot, force, as_json):
+    """``lotwise oc --plan "variables: ..."``: the exact OC table (and plot)."""
+    import numpy as np
+
+    from ..quantities import parse_count, parse_level
+
+    if plot is not None and not plot.lower().endswith((".png", ".svg", ".pdf")):
+        raise InputError(f"--plot ({plot}) must end in .png, .svg or .pdf")
+    a, r = common.levels(aql, rql, False, need=False)
+    if at:
+        vals = [parse_level(part, "--at") for item in at for part in str(item).split(",")
+                if part.strip()]
+        ps = np.array(vals, dtype=float)
+    else:
+        k = parse_count(points, "--points", minimum=2, maximum=100_000)
+        top = parse_level(max_p, "--max-p") if max_p is not None else _top(plan, r)
+        ps = np.linspace(0.0, top, k)
+    band = plan.limit == "both" and (plan.sigma == "unknown" or plan.width is None)
+    header = ["p", "pa"]
+    cols = [np.asarray(plan.pa(ps), dtype=float)]
+    if band:
+        header.append("pa_lower")
+        cols.append(np.asarray(plan.pa(ps, envelope="lower"), dtype=float))
+    if plan.exact_model == "estimate-simulated":
+        header.append("pa_one_tail_noncentral_t")
+        cols.append(np.asarray(plan.pa(ps, "noncentral-t"), dtype=float))
+    rows = [[float(pv)] + [float(c[i]) for c in cols] for i, pv in enumerate(ps)]
+    if csv is not None:
+        from ..files import write_text
+
+        text = ",".join(header) + "\n" + "".join(
+            ",".join(repr(v) if v != 0 else "0" for v in row) + "\n" for row in rows)
+        if csv == "-":
+            typer.echo(text, nl=False)
+        else:
+            write_text(csv, text, force=force, option="--csv")
+    if plot is not None:
+        from ..files import save_figure
+        from ..plots_variables import variables_oc_figure
+
+        fig = variables_oc_figure(plan, aql=a, rql=r, max_p=float(ps.max()) if len(ps) else None)
+        save_figure(fig, plot, force=force, option="--plot")
+    if as_json:
+        out = {"scheme": "variables", **plan.to_dict(), "columns": header, "rows": rows}
+        if plan.exact_model == "estimate-simulated":
+            from ..variables import SPLIT_SHARES
+
+            out["simulation"] = {"reps": 4000, "lower_tail_shares": list(SPLIT_SHARES),
+                                 "se_max": 0.5 / math.sqrt(4000)}
+        common.emit_json(out)
+    elif csv != "-":
+        typer.echo(f"OC table for variables plan {plan.label} (model: {plan.exact_model})")
+        if band:
+            typer.echo("  pa = largest Pa over where the mean sits (consumer's worst case), "
+                       "pa_lower = smallest (producer's)")
+        if plan.exact_model == "estimate-simulated":
+            typer.echo("  simulated with 4,000 samples per level (standard error at most 0.008)")
+        shown = [[f"{100 * row[0]:.4g} %"] + [f"{v:.5f}" for v in row[1:]] for row in rows]
+        typer.echo(common.table(shown, header))
+        for path in (csv, plot):
+            if path:
+                typer.echo(f"  wrote {path}")
+
+
+def _top(plan, rql):
+    """Right end of the default grid: where Pa has fallen to 1 %, or 1.25 RQL."""
+    lo, hi = 0.0, 1.0
+    for _ in range(60):
+        mid = 0.5 * (lo + hi)
+        if float(plan.pa(mid) if plan.exact_model != "estimate-simulated"
+                 else plan.pa(mid, "noncentral-t")) > 0.01:
+            lo = mid
+        else:
+            hi = mid
+    top = max(1.1 * hi, 1.25 * rql if rql else 0.0)
+    from .single import _nice
+
+    return _nice(min(top, 1.0))
+
+
+# --- judge -----------------------------------------------------------------------
+
+def read_measurements(path: str) -> list[float]:
+    """Numbers from a one-column file (see the module notes); refuses a bad
+    row naming it."""
+    try:
+        with open(path, encoding="utf-8-sig") as fh:
+            text = fh.read()
+    except FileNotFoundError:
+        raise InputError(f"measurements ({path}) does not exist") from None
+    except IsADirectoryError:
+        raise InputError(f"measurements ({path}) is a folder; give a file") from None
+    except UnicodeDecodeError:
+        raise InputError(f"measurements ({path}) is not a text file (UTF-8)") from None
+    except OSError as exc:
+        raise InputError(f"measurements ({path}) cannot be read: {exc.strerror}") from None
+    lines = text.splitlines()
+    while lines and not lines[-1].strip():
+        lines.pop()
+    out: list[float] = []
+    for i, raw in enumerate(lines, start=1):
+        cell = raw.strip()
+        fields = [f.strip() for f in cell.replace(";", ",").replace("\t", ",").split(",")]
+        if len(fields) > 1:
+            if all(f == "" for f in fields[1:]):
+                fields = fields[:1]  # a trailing separator
+            else:
+                raise InputError(f"measurements ({path}) row {i} ({raw.strip()!r}) holds "
+                                 f"{len(fields)} fields; the file must be one column of numbers")
+        cell = fields[0].strip().strip('"').strip("'").strip()
+        if cell.lower() in _MISSING:
+            raise InputError(f"measurements ({path}) row {i} is a missing value "
+                             f"({raw.strip()!r}); every measurement must be there")
+        try:
+            v = float(cell)
+        except ValueError:
+            if i == 1 and not out:
+                continue  # header
+            raise InputError(f"measurements ({path}) row {i} ({cell!r}) is not a number") \
+                from None
+        if not math.isfinite(v):
+            raise InputError(f"measurements ({path}) row {i} ({cell!r}) is not a finite number")
+        out.append(v)
+    if not out:
+        raise InputError(f"measurements ({path}) holds no numbers")
+    return out
+
+
+def parse_values(text: str) -> list[float]:
+    """``--values 1.2,1.3,...`` (commas or spaces between values)."""
+    items = [s.strip() for s in str(text).replace(";", ",").split(",")]
+    if len(items) == 1:
+        items = str(text).split()
+    out = []
+    for i, item in enumerate(items, start=1):
+        if item.lower() in _MISSING:
+            raise InputError(f"--values value {i} is missing ({text!r}); every measurement "
+                             "must be there")
+        try:
+            v = float(item)
+        except ValueError:
+            raise InputError(f"--values value {i} ({item!r}) is not a number") from None
+        if not math.isfinite(v):
+            raise InputError(f"--values value {i} ({item!r}) is not a finite number")
+        out.append(v)
+    return out
+
+
+def judge_sample(plan, values) -> dict:
+    """Verdict, statistics, estimated fraction nonconforming and normality check."""
+    import numpy as np
+
+    from ..variables import estimate_known, estimate_unknown
+
+    x = np.asarray(values, dtype=float)
+    n = x.size
+    xbar = float(x.mean())
+    s = float(x.std(ddof=1)) if n > 1 else float("nan")
+    known = plan.sigma == "known"
+    dev = plan.sigma_value if known else s
+    out = {"scheme": "variables", "plan": plan.to_dict(), "notation": plan.notation(), "n": n,
+           "xbar": xbar, "s": s, "sigma_used": dev,
+           "deviation": "sigma (known)" if known else "s (sample)"}
+    q = {}
+    if plan.upper is not None:
+        q["upper"] = (plan.upper - xbar) / dev
+    if plan.lower is not None:
+        q["lower"] = (xbar - plan.lower) / dev
+    est = {}
+    for side, qv in q.items():
+        if known:
+            est[side] = float(estimate_known(qv, n))
+        elif n >= 3:
+            est[side] = float(estimate_unknown(qv, n))
+    p_hat = sum(est.values()) if len(est) == len(q) else None
+    if plan.limit == "both" and not known:
+        accept = p_hat <= plan.m
+        out["statistic"] = {"estimate_total": p_hat, "m": plan.m, "q": q,
+                            "rule": "accept when the estimated fraction beyond both limits "
+                                    "is at most M"}
+    else:
+        accept = all(v >= plan.k for v in q.values())
+        out["statistic"] = {"q": q, "k": plan.k,
+                            "rule": "accept when (limit distance)/" + ("sigma" if known else "s")
+                                    + " >= k at every limit"}
+    out["verdict"] = "accept" if accept else "reject"
+    out["accept"] = bool(accept)
+    out["p_hat"] = {"by_limit": est, "total": p_hat,
+                    "method": "minimum-variance unbiased estimate (Lieberman-Resnikoff)"}
+    out["normality"] = normality(x)
+    warnings = []
+    if out["normality"]["doubtful"]:
+        warnings.append(out["normality"]["warning"])
+    out["warnings"] = warnings
+    return out
+
+
+def normality(x) -> dict:
+    """Shapiro-Wilk test (scipy.stats, imported here only)."""
+    n = len(x)
+    if n < 3:
+        return {"test": "Shapiro-Wilk", "w": None, "p_value": None, "doubtful": False,
+                "level": NORMALITY_LEVEL,
+                "note": f"{n} value(s) are too few to check normality (3 needed)"}
+    import warnings
+
+    from scipy import stats
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        w, pv = stats.shapiro(x)
+    w, pv = float(w), float(pv)
+    doubtful = bool(pv < NORMALITY_LEVEL)
+    d = {"test": "Shapiro-Wilk", "w": w, "p_value": pv, "doubtful": doubtful,
+         "level": NORMALITY_LEVEL}
+    if doubtful:
+        d["warning"] = (f"Normality is doubtful (Shapiro-Wilk W = {w:.4f}, p = {pv:.4f} < "
+                        f"{NORMALITY_LEVEL:g}): the plan's risks assume normally distributed "
+                        "measurements and may not hold; look at the normal probability plot "
+                        "(--plot), investigate the process, and do not rely on this verdict "
+                        "alone (the attributes plan for the same targets needs no such "
+                        "assumption).")
+    else:
+        d["note"] = (f"Shapiro-Wilk W = {w:.4f}, p = {pv:.4f}: no evidence against normality "
+                     "at the 5 % level (a small sample shows only gross departures).")
+    return d
+
+
+@app.command()
+def judge(
+    measurements: Optional[str] = typer.Argument(
+        None, help="File of measurements: one column of numbers, optional header."),
+    plan: Optional[str] = typer.Option(
+        None, "--plan", help='Variables plan, e.g. "variables: n=42,k=1.901,upper=25.0" '
+                             '(lower=, both limits, sigma= for a known sigma).'),
+    values: Optional[str] = typer.Option(None, "--values",
+                                         help="Measurements on the command line: 1.2,1.3,..."),
+    plot: Optional[str] = typer.Option(None, "--plot",
+                                       help="Draw a normal probability plot to PATH.png."),
+    force: bool = typer.Option(False, "--force", help="Overwrite files not written by lotwise."),
+    as_json: bool = common.JSON,
+):
+    """Judge a measured sample with a variables plan: accept (exit 0) or reject (exit 1)."""
+    from ..plans import parse_plan
+
+    if plan is None:
+        raise InputError('--plan is required, e.g. --plan "variables: n=42,k=1.901,upper=25.0"')
+    p = parse_plan(plan)
+    if p.scheme != "variables":
+        raise InputError(f"--plan ({plan!r}) must be a variables plan, e.g. "
+                         "\"variables: n=42,k=1.901,upper=25.0\"")
+    for side in ("upper", "lower"):
+        if p.limit in (side, "both") and getattr(p, side) is None:
+            raise InputError(f"--plan ({plan!r}) lacks {side}=...: judging a sample needs the "
+                             "specification limit's value")
+    if p.sigma == "known" and p.sigma_value is None:
+        raise InputError(f"--plan ({plan!r}) lacks sigma=...: a known-sigma plan needs the "
+                         "value of sigma to judge a sample")
+    if plot is not None and not plot.lower().endswith(".png"):
+        raise InputError(f"--plot ({plot}) must end in .png")
+    if (measurements is None) == (values is None):
+        raise InputError("give the measurements either as a FILE or as --values 1.2,1.3,... "
+                         "(one of them)")
+    if values is not None:
+        xs, source = parse_values(values), "--values"
+    else:
+        xs, source = read_measurements(measurements), measurements
+    if len(xs) != p.n:
+        where = "--values" if values is not None else f"measurements ({measurements})"
+        raise InputError(f"{where} holds {len(xs)} values; the plan needs n = {p.n}")
+    if p.sigma == "unknown" and len(set(xs)) == 1:
+        raise InputError(f"{source}: all {len(xs)} values are equal ({xs[0]:g}), so s = 0 and "
+                         "the plan cannot judge the sample; check the gauge's resolution")
+    rep = judge_sample(p, xs)
+    rep["source"] = source
+    if plot is not None:
+        from ..files import save_figure
+        from ..plots_variables import normal_probability_figure
+
+        nm = rep["normality"]
+        note = None if nm["w"] is None else (f"Shapiro-Wilk W = {nm['w']:.3f}, p = "
+                                              f"{nm['p_value']:.3f}")
+        fig = normal_probability_figure(xs, lower=p.lower, upper=p.upper, note=note,
+                                        title=f"Normal probability plot, {len(xs)} measurements")
+        save_figure(fig, plot, force=force, option="--plot")
+        rep["plot"] = plot
+    if as_json:
+        common.emit_json(rep)
+    else:
+        typer.echo(render_judge(rep, p))
+    raise typer.Exit(0 if rep["accept"] else 1)
+
+
+def render_judge(rep: dict, plan) -> str:
+    from ..design.variables import SAFETY
+
+    verdict = "ACCEPT" if rep["accept"] else "REJECT"
+    lines = [f"Verdict: {verdict} the lot  (plan {plan.label}; {plan.method})",
+             f"  sample    n = {rep['n']} from {rep['source']}",
+             f"  mean      xbar = {rep['xbar']:.6g}",
+             f"  std dev   s = {rep['s']:.6g}" + (f"; judged with the known sigma = "
+                                                 f"{plan.sigma_value:g}" if plan.sigma == "known"
+                                                 else "")]
+    st = rep["statistic"]
+    for side, qv in st["q"].items():
+        lim = plan.upper if side == "upper" else plan.lower
+        dev = "sigma" if plan.sigma == "known" else "s"
+        expr = (f"({lim:g} - xbar)/{dev}" if side == "upper" else f"(xbar - {lim:g})/{dev}")
+        tail = ""
+        if "k" in st:
+            tail = f"  {'>=' if qv >= st['k'] else '<'} k = {st['k']:g}"
+        lines.append(f"  {side:<9} {expr} = {qv:.4f}{tail}")
+    ph = rep["p_hat"]
+    if "estimate_total" in st:
+        lines.append(f"  estimate  p_hat = {st['estimate_total']:.5f} "
+                     f"{'<=' if rep['accept'] else '>'} M = {st['m']:.5f}")
+    if ph["total"] is not None:
+        parts = ", ".join(f"{k} {_pct(v)}" for k, v in ph["by_limit"].items())
+        lines.append(f"  estimated fraction nonconforming {_pct(ph['total'])}"
+                     + (f" ({parts})" if len(ph["by_limit"]) > 1 else "")
+                     + " (minimum-variance unbiased estimate)")
+    else:
+        lines.append("  estimated fraction nonconforming: needs at least 3 values with s")
+    nm = rep["normality"]
+    lines.append("  normality " + (nm.get("warning") and "WARNING: " + nm["warning"]
+                                   or nm.get("note", "")))
+    if rep.get("plot"):
+        lines.append(f"  wrote {rep['plot']}")
+    lines.append(f"  - {SAFETY}")
+    return "\n".join(lines)
