@@ -92,8 +92,10 @@ def resolve(req, *, verdict: bool = True) -> PartPlan:
     scope, model = req.scope, req.model
     chars = req.characteristics
     if req.fixed:
-        reps = [_with_char(single_report(SinglePlan(n=req.n, c=ch.c), ch.targets, scope, model,
-                                         verdict=verdict), ch) for ch in chars]
+        plans = [SinglePlan(n=req.n, c=ch.c) for ch in chars]
+        reps = [_with_char(single_report(p, ch.targets, scope, model, verdict=verdict), ch)
+                for p, ch in zip(plans, chars)]
+        _add_rectifying(reps, plans, chars, scope)
         return PartPlan(request=req, n=req.n, reports=reps, designed=False)
 
     cap = req.max_n
@@ -145,4 +147,16 @@ def resolve(req, *, verdict: bool = True) -> PartPlan:
             for p, ch in zip(plans, chars)]
     for rep in reps:
         rep["full_inspection"] = bool(scope.lot_size and n >= scope.lot_size)
+    _add_rectifying(reps, plans, chars, scope)
     return PartPlan(request=req, n=n, reports=reps, designed=True)
+
+
+def _add_rectifying(reps, plans, chars, scope) -> None:
+    """AOQL and ATI (rejected lots screened 100 %) when the lot size is known."""
+    if not scope.lot_size or scope.defects:
+        return
+    from .rectifying import rectifying_summary
+
+    for rep, plan, ch in zip(reps, plans, chars):
+        if plan.n < scope.lot_size:
+            rep.update(rectifying_summary(plan, scope, rep["model"], ch.targets))

@@ -131,6 +131,11 @@ def build_content(pp, *, picks=None, today: _dt.date | None = None) -> SheetCont
             f"AQL it really protects), at {_lvl(q['indifference'], per_unit)} half the time, and at "
             f"{_lvl(q['consumer'], per_unit)} {format_pct(t['beta'])} of the time (the RQL it "
             "really gives).")
+        if "aoql" in rep:
+            guar.append(
+                f"{ch['id']}, rejected lots screened 100 %: AOQL {format_pct(rep['aoql'], 3)} "
+                f"(reached at {_lvl(rep['aoql_p'], per_unit)}); average items inspected per lot "
+                f"{rep['ati']['aql']:,.0f} at the AQL, {rep['ati']['rql']:,.0f} at the RQL.")
         if "poisson_verdict" in rep:
             pois.append(f"{ch['id']}: {rep['poisson_verdict']['summary']}")
     if pp.n is not None:
@@ -237,6 +242,17 @@ def _csv_value(v) -> str:
     return repr(float(v))
 
 
+def aoq_plot(pp, ax=None):
+    """AOQ curve of the first characteristic's plan (lot size known)."""
+    from ..plans import SinglePlan
+    from ..rectifying import aoq_figure
+
+    rep = pp.reports[0]
+    plan = SinglePlan(n=rep["n"], c=rep["c"])
+    return aoq_figure(plan, pp.request.scope, ax=ax,
+                      title=f"AOQ, {rep['characteristic']['id']} (n={rep['n']}, c={rep['c']})")
+
+
 def write_sheets(pp, out_dir, *, force: bool = False, today=None) -> dict:
     """Write the PDF, Markdown, PNG and CSV files for one resolved plan file.
 
@@ -263,11 +279,21 @@ def write_sheets(pp, out_dir, *, force: bool = False, today=None) -> dict:
         paths["csv"] = write_text(out / f"{stem}-oc.csv", csv, force=force, option="sheet")
         paths["png"] = save_figure(oc_plot(pp), out / f"{stem}-oc.png", force=force,
                                    option="sheet", dpi=150)
+        if "aoql" in pp.reports[0]:
+            from ..plans import SinglePlan
+            from ..rectifying import rectifying_figure
+
+            rep = pp.reports[0]
+            paths["rectifying_png"] = save_figure(
+                rectifying_figure(SinglePlan(n=rep["n"], c=rep["c"]), req.scope,
+                                  aql=rep["targets"]["aql"], rql=rep["targets"]["rql"]),
+                out / f"{stem}-oc-aoq-ati.png", force=force, option="sheet", dpi=110)
         if picks is not None:
             paths["picklist"] = write_text(out / f"{stem}-picklist.csv", picks.to_csv(),
                                            force=force, option="sheet")
-    paths["md"] = write_text(out / f"{stem}.md", markdown.render(content, png=f"{stem}-oc.png"
-                                                                 if pp.n is not None else None),
+    paths["md"] = write_text(out / f"{stem}.md", markdown.render(
+        content, png=f"{stem}-oc.png" if pp.n is not None else None,
+        extra_png=f"{stem}-oc-aoq-ati.png" if "rectifying_png" in paths else None),
                              force=force, option="sheet")
     paths["pdf"] = write_bytes(out / f"{stem}.pdf", pdf.render(content, pp), force=force,
                                option="sheet")

@@ -11,7 +11,7 @@ def _table(header, rows) -> str:
     return "\n".join(out)
 
 
-def render(content, png: str | None = None) -> str:
+def render(content, png: str | None = None, extra_png: str | None = None) -> str:
     """The sheet as Markdown; ``png`` is the OC figure's file name beside it."""
     from . import PLAN_HEADER, RISK_HEADER
 
@@ -28,6 +28,8 @@ def render(content, png: str | None = None) -> str:
         lines += ["## What the plan guarantees", ""] + [f"- {g}" for g in c.guarantees] + [""]
     if png:
         lines += [f"![OC curves: exact model solid, Poisson approximation dashed]({png})", ""]
+    if extra_png:
+        lines += [f"![OC, AOQ and ATI under rectifying inspection]({extra_png})", ""]
     if c.poisson:
         lines += ["## The Poisson approximation", ""] + [f"- {p}" for p in c.poisson] + [""]
     lines += ["## Selecting the sample", "", c.selection, "",

@@ -80,7 +80,7 @@ def _hline(fig, x0, x1, y):
 
 def _layout(content, pp, scale: float):
     from ..plots import _mpl
-    from . import PLAN_HEADER, RISK_HEADER, oc_plot
+    from . import PLAN_HEADER, RISK_HEADER, aoq_plot, oc_plot
 
     plt = _mpl()
     fig = plt.figure(figsize=(PAGE_W, PAGE_H))
@@ -108,18 +108,37 @@ def _layout(content, pp, scale: float):
         pg.text(c.model_note, size=6.8, color="0.2")
     if pp.n is not None and pp.reports:
         pg.heading("OC curve and what the plan guarantees")
-        plot_h = 2.95 * scale
-        plot_w = 4.05
+        plot_h = 2.75 * scale
         top = pg.y - 0.05
+        rect = "aoql" in pp.reports[0]
+        plot_w = 4.1 if rect else 4.05
         ax = fig.add_axes([MARGIN / PAGE_W + 0.045, (top - plot_h) / PAGE_H + 0.028,
                            plot_w / PAGE_W, (plot_h - 0.35) / PAGE_H])
         oc_plot(pp, ax=ax)
-        right_x = MARGIN + plot_w + 0.75
-        pg.y = top
-        for g in c.guarantees:
-            pg.text(g, size=6.9, x=right_x, width=PAGE_W - MARGIN - right_x)
-            pg.y -= 0.05
-        pg.y = min(pg.y, top - plot_h)
+        if rect:
+            ax2 = fig.add_axes([(MARGIN + plot_w + 0.75) / PAGE_W, (top - plot_h) / PAGE_H
+                                + 0.028, (PAGE_W - 2 * MARGIN - plot_w - 0.8) / PAGE_W,
+                                (plot_h - 0.5) / PAGE_H])
+            aoq_plot(pp, ax=ax2)
+            for t in (ax2.title, ax2._left_title):
+                t.set_fontsize(7.5)
+            ax2.xaxis.label.set_fontsize(7)
+            ax2.yaxis.label.set_fontsize(7)
+            ax2.tick_params(labelsize=6.5)
+            leg = ax2.get_legend()
+            if leg is not None:
+                for t in leg.get_texts():
+                    t.set_fontsize(6)
+            pg.y = top - plot_h - 0.05
+            for g in c.guarantees:
+                pg.text(g, size=6.8)
+        else:
+            right_x = MARGIN + plot_w + 0.75
+            pg.y = top
+            for g in c.guarantees:
+                pg.text(g, size=6.9, x=right_x, width=PAGE_W - MARGIN - right_x)
+                pg.y -= 0.05
+            pg.y = min(pg.y, top - plot_h)
     if c.poisson:
         pg.heading("The Poisson approximation beside the exact model")
         for p in c.poisson:
