@@ -123,15 +123,17 @@ def oc_figure(items, *, models=None, aql=None, rql=None, alpha=None, beta=None,
         if m not in models:
             continue
         if m == exact:
-            style, name = STYLE["exact"], f"{labels[0]}: {m} (exact)"
+            own = getattr(plan0, "exact_model", None) or m
+            style, name = STYLE["exact"], f"{labels[0]}: {own} (exact)"
         else:
             style, name = STYLE.get(m, STYLE["poisson"]), f"{labels[0]}: {m}"
         ax.plot(ps, plan0.pa(ps, m, scope0), label=name, **style)
 
     for i, (plan, scope) in enumerate(items[1:]):
         style = STYLE["other"][i % len(STYLE["other"])]
-        ax.plot(ps, plan.pa(ps, scope.exact_model, scope), label=f"{labels[i + 1]}: "
-                f"{scope.exact_model}", **style)
+        own = getattr(plan, "exact_model", None) or scope.exact_model
+        ax.plot(ps, plan.pa(ps, scope.exact_model, scope), label=f"{labels[i + 1]}: {own}",
+                **style)
 
     for level, marker, name in ((aql, "o", "AQL"), (rql, "s", "RQL")):
         if level is None:

@@ -114,8 +114,6 @@ def compare(
     from ..design.single import Targets
     from ..plans import Scope, parse_plan
     from ..quantities import format_level, format_pct
-    from ..report import single_report
-
     entries = []  # (label, plan, targets, scope, model)
     for pp in _resolve_files(files or []):
         for rep in pp.reports:
@@ -132,7 +130,7 @@ def compare(
         mdl = scope.check_model(model)
         for i, text in enumerate(plan, 1):
             p = parse_plan(text, f"--plan #{i}")
-            if scope.lot_size and getattr(p, "n", 0) > scope.lot_size:
+            if scope.lot_size and (getattr(p, "n", 0) or 0) > scope.lot_size:
                 raise InputError(f"--plan #{i} ({text}): n must not be greater than --lot-size "
                                  f"({scope.lot_size})")
             entries.append((p.label, p, Targets(aql=a, rql=r, alpha=al, beta=be), scope, mdl))
@@ -141,30 +139,34 @@ def compare(
                          "files")
     if plot is not None and not plot.lower().endswith((".png", ".svg", ".pdf")):
         raise InputError(f"--plot ({plot}) must end in .png, .svg or .pdf")
-    reps = [(label, single_report(p, t, s, m, verdict=False)) for label, p, t, s, m in entries]
+    from ..compare import compare_plans
+
+    rows_ = compare_plans(entries)
     if plot is not None:
         from ..files import save_figure
         from ..plots import oc_figure
 
         t0 = entries[0][2]
-        fig = oc_figure([(p, s) for _, p, _, s, _ in entries], models=[entries[0][3].exact_model],
+        fig = oc_figure([(p, s) for _, p, _, s, _ in entries], models=[rows_[0]["model"]],
                         aql=t0.aql, rql=t0.rql, labels=[e[0] for e in entries],
                         max_p=max(1.3 * e[2].rql for e in entries))
         save_figure(fig, plot, force=force)
     if as_json:
-        common.emit_json({"plans": [dict(rep, label=label) for label, rep in reps]})
+        common.emit_json({"plans": rows_})
         return
     rows = []
-    for label, rep in reps:
-        r = rep["models"][rep["model"]]
-        q = rep["plan_quality"]
-        per = rep["defects"]
-        rows.append([label, rep["model"], f"{r['pa_aql']:.4f}", format_pct(r["alpha"]),
+    for r in rows_:
+        q = r["plan_quality"]
+        per = r["defects"]
+        asn = r.get("asn")
+        rows.append([r["label"], r["model"], f"{r['pa_aql']:.4f}", format_pct(r["alpha"]),
                      f"{r['pa_rql']:.4f}", format_pct(r["beta"]), format_level(q["producer"], per),
                      format_level(q["indifference"], per), format_level(q["consumer"], per),
+                     f"{asn['aql']:.1f} / {asn['rql']:.1f}" if asn else "fixed",
                      "yes" if r["meets"] else "NO"])
     typer.echo(common.table(rows, ["plan", "model", "Pa(AQL)", "alpha", "Pa(RQL)", "beta",
-                                   "Pa=1-alpha at", "Pa=0.5 at", "Pa=beta at", "meets"]))
+                                   "Pa=1-alpha at", "Pa=0.5 at", "Pa=beta at",
+                                   "ASN (AQL/RQL)", "meets"]))
     if plot:
         typer.echo(f"  wrote {plot}")
 
