@@ -133,13 +133,20 @@ def _pa(model: str, n, c, level, count, N):
     return np.asarray(oc.pa_hypergeometric(n, c, N, count), dtype=float)
 
 
-def _n_min(model, c, rql, d2, N, beta, cap):
+def _n_min(model, c, rql, d2, N, beta, cap, fails_aql=None):
     """Smallest ``n`` with ``Pa(RQL; n, c) <= beta`` for each element (flat
     arrays); ``-1`` where none exists up to ``cap`` (``inf`` for none).
 
     Integer bisection (``Pa`` falls in ``n``, documented in
     :mod:`lotwise.oc`) on a bracket around the Poisson guess; the guessed ends
     are checked and replaced by the full range where they fail.
+
+    ``fails_aql(idx, n)``, when given, tells where ``(n, c)`` misses the
+    producer's risk. Once a lower end ``lo`` is known to miss the consumer's
+    risk, ``n_min > lo``; if ``(lo + 1, c)`` already misses the producer's
+    risk, so does ``(n_min, c)`` (``Pa`` falls in ``n``), and the element is
+    returned as ``-2`` (a sample size exists, the acceptance number cannot
+    work) without bisecting.
     """
     c = c.astype(float)
     size = c.shape[0]
@@ -147,23 +154,40 @@ def _n_min(model, c, rql, d2, N, beta, cap):
         return np.zeros(0, dtype=np.int64)
     pa = lambda idx, n: _pa(model, n, c[idx], rql[idx], d2[idx], N[idx])  # noqa: E731
     bad = lambda idx, n: pa(idx, n) > beta[idx] + _TOL  # noqa: E731
+    # Bracket: the Poisson size lambda/p and lambda/(-log(1 - p)) (exact for
+    # c = 0), with the finite-lot factor 1/(1 + n/N) on the lower one; as a
+    # rule n_min lies between them. Each end is checked before it is used.
     lam = special.gammainccinv(c + 1.0, beta)
     with np.errstate(divide="ignore", invalid="ignore"):
+        p = d2 / N if model == "hypergeometric" else rql
+        upper_g = lam / p
+        lower_g = upper_g if model == "poisson" else lam / -np.log1p(-p)
         if model == "hypergeometric":
-            p2 = d2 / N
-            guess = lam / p2
-            guess = guess / (1.0 + np.maximum(guess - 1.0, 0.0) / N)
-        else:
-            guess = lam / rql
-    guess = np.where(np.isfinite(guess), guess, c + 1.0)
+            lower_g = lower_g / (1.0 + np.maximum(lower_g - 1.0, 0.0) / N)
+    upper_g = np.where(np.isfinite(upper_g), upper_g, c + 1.0)
+    lower_g = np.where(np.isfinite(lower_g), lower_g, c)
     floor_ = c.copy()  # n = c accepts every lot: Pa = 1 > beta
-    hi = np.minimum(np.ceil(1.3 * guess) + 2.0, cap)
-    hi = np.maximum(hi, np.minimum(c + 1.0, cap))
-    lo = np.maximum(np.floor(0.8 * guess) - 2.0, floor_)
-    lo = np.minimum(lo, hi - 1.0)
-    idx = np.arange(size)
-    ok_hi = ~bad(idx, hi)
-    # Grow where the guessed upper end still accepts too often.
+    hi = np.minimum(np.maximum(np.ceil(upper_g) + 1.0, c + 1.0), cap)
+    lo = np.minimum(np.maximum(np.floor(lower_g) - 1.0, floor_), hi - 1.0)
+    hi_known = np.zeros(size, dtype=bool)
+    # 1. The lower end must still miss beta; where it does not, n_min <= lo.
+    chk = np.flatnonzero(lo > floor_)
+    if chk.size:
+        wrong = chk[~bad(chk, lo[chk])]
+        hi[wrong] = lo[wrong]
+        lo[wrong] = floor_[wrong]
+        hi_known[wrong] = True
+    # 2. n_min > lo; if (lo + 1, c) already misses alpha, c cannot work.
+    doomed = np.zeros(size, dtype=bool)
+    if fails_aql is not None:
+        probe = np.flatnonzero(hi - lo > 1)
+        if probe.size:
+            doomed[probe[fails_aql(probe, lo[probe] + 1.0)]] = True
+    # 3. The upper end must meet beta; grow it where it does not.
+    ok_hi = np.ones(size, dtype=bool)
+    chk = np.flatnonzero(~hi_known & ~doomed)
+    if chk.size:
+        ok_hi[chk] = ~bad(chk, hi[chk])
     grow = np.flatnonzero(~ok_hi & (hi < cap))
     while grow.size:
         lo[grow] = hi[grow]
@@ -172,14 +196,7 @@ def _n_min(model, c, rql, d2, N, beta, cap):
         ok_hi[grow] = good
         grow = grow[~good & (hi[grow] < cap[grow])]
     none = ~ok_hi  # no n up to the cap meets beta
-    # Check the guessed lower end: it must still fail beta.
-    chk = np.flatnonzero(ok_hi & (lo > floor_))
-    if chk.size:
-        passes = ~bad(chk, lo[chk])
-        wrong = chk[passes]
-        hi[wrong] = lo[wrong]
-        lo[wrong] = floor_[wrong]
-    act = np.flatnonzero(ok_hi & (hi - lo > 1))
+    act = np.flatnonzero(ok_hi & ~doomed & (hi - lo > 1))
     while act.size:
         mid = np.floor((lo[act] + hi[act]) / 2.0)
         good = ~bad(act, mid)
@@ -187,6 +204,7 @@ def _n_min(model, c, rql, d2, N, beta, cap):
         lo[act] = np.where(good, lo[act], mid)
         act = act[hi[act] - lo[act] > 1]
     out = hi.astype(np.int64)
+    out[doomed] = -2
     out[none] = -1
     return out
 
@@ -263,13 +281,16 @@ def design_many(*, model: str, aql, rql, alpha, beta, lot_size=None, fixed_c=Non
         return pa >= 1.0 - alpha[rows] - _TOL
 
     def n_min(rows, c):
-        return _n_min(model, c, rql[rows], d2[rows], N[rows], beta[rows], cap[rows])
+        def fails(idx, n):
+            return ~aql_ok(rows[idx], n, c[idx])
+
+        return _n_min(model, c, rql[rows], d2[rows], N[rows], beta[rows], cap[rows], fails)
 
     # Fixed acceptance numbers: one n each.
     fx = np.flatnonzero((fixed >= 0) & (fixed < c_limit))
     if fx.size:
         nm = n_min(fx, fixed[fx])
-        have = nm >= 0
+        have = nm >= 0  # -2: the fixed c cannot meet alpha; left to design_single
         good = np.zeros(fx.size, dtype=bool)
         good[have] = aql_ok(fx[have], nm[have], fixed[fx][have])
         n_out[fx[good]] = nm[good]
@@ -306,7 +327,7 @@ def design_many(*, model: str, aql, rql, alpha, beta, lot_size=None, fixed_c=Non
             if owner.size:
                 ends = np.cumsum(width) - 1
                 nz = width > 0
-                last_none[nz] = ~have[ends[nz]]
+                last_none[nz] = nm[ends[nz]] == -1
             start = start + width
             stop = done | last_none | (start >= lim) | (width == 0)
             keep = ~stop
@@ -389,13 +410,15 @@ def read_catalogue(path, option: str = "CATALOGUE"):
 
 
 def catalogue_frame(t):
+    """A :class:`lotwise.csvio.Table` as the DataFrame :func:`read_catalogue` returns."""
     import pandas as pd
 
-    df = pd.DataFrame([r.fields for r in t.rows], columns=t.header, dtype=object)
-    if not len(t.rows):
+    if len(t):
+        df = pd.DataFrame(t.fields, columns=t.header, dtype=object)
+    else:
         df = pd.DataFrame({h: pd.Series(dtype=object) for h in t.header})
-    df["_line"] = [r.line for r in t.rows]
-    df["_shape"] = [r.problem for r in t.rows]
+    df["_line"] = np.asarray(t.lines, dtype=np.int64)
+    df["_shape"] = t.problem_list()
     return df
 
 
@@ -449,41 +472,52 @@ def design_catalogue(df, *, deliveries_per_year: float | None = None, progress=N
         df = df.drop(columns=list(dropped))
     df = df.reset_index(drop=True)
     m = len(df)
-    text = {c: (df[c].fillna("").astype(str).str.strip() if c in df.columns
-                else pd.Series([""] * m, dtype=object)) for c in REQUIRED + OPTIONAL}
-    error = pd.Series(df["_shape"].fillna("").astype(str).to_numpy(), dtype=object)
-    error = error.where(error == "", "the line " + error)
 
-    def column(name, parse, default=None):
-        vals = text[name]
-        table = _parse_unique(vals.tolist(), lambda v: default if v == "" else parse(v))
-        parsed = vals.map(lambda v: table[v][0])
-        errs = vals.map(lambda v: table[v][1])
-        return parsed, errs
+    def stripped(c):
+        if c not in df.columns:
+            return np.full(m, "", dtype=object)
+        return np.array([str(v).strip() if v is not None else "" for v in df[c].tolist()],
+                        dtype=object)
 
-    def note(errs):
+    text = {c: stripped(c) for c in REQUIRED + OPTIONAL}
+    shape = np.array([str(v) if v else "" for v in df["_shape"].tolist()], dtype=object)
+    error = np.where(shape == "", "", "the line " + shape).astype(object)
+
+    def column(name, parse, default=None, rows=None):
+        """Parse each distinct text of column ``name`` once: ``(values, errors)``
+        as object arrays (``rows`` restricts to a boolean mask)."""
+        vals = text[name] if rows is None else text[name][rows]
+        uniq, inv = np.unique(vals.astype(str), return_inverse=True)
+        table = _parse_unique(uniq.tolist(), lambda v: default if v == "" else parse(v))
+        parsed = np.array([table[v][0] for v in uniq.tolist()] + [None], dtype=object)[:-1]
+        errs = np.array([table[v][1] for v in uniq.tolist()] + [None], dtype=object)[:-1]
+        return parsed[inv], errs[inv]
+
+    def note(errs, rows=None):
         nonlocal error
-        error = error.where(error != "", errs)
+        if rows is None:
+            error = np.where(error != "", error, errs).astype(object)
+        else:
+            sub = error[rows]
+            error[rows] = np.where(sub != "", sub, errs)
 
     defects, e = column("defects", lambda v: _flag(v, "defects"), False)
     note(e)
+    defects = np.array([bool(v) for v in defects], dtype=bool)
     lot, e = column("lot_size", lambda v: parse_count(v, "lot_size", minimum=1,
                                                        maximum=10**12), None)
     note(e)
     # Levels depend on defects (per unit or a fraction): parse under each.
-    aql = pd.Series([None] * m, dtype=object)
-    rql = pd.Series([None] * m, dtype=object)
+    aql = np.full(m, None, dtype=object)
+    rql = np.full(m, None, dtype=object)
     for flag in (False, True):
-        sel = (defects == flag).to_numpy()
+        sel = defects == flag
         if not sel.any():
             continue
         for name, target in (("aql", aql), ("rql", rql)):
-            vals = text[name][sel]
-            tab = _parse_unique(vals.tolist(), lambda v, f=flag, nm=name: _level(v, nm, f))
-            target[sel] = vals.map(lambda v: tab[v][0]).to_numpy()
-            errs = pd.Series([""] * m, dtype=object)
-            errs[sel] = vals.map(lambda v: tab[v][1]).to_numpy()
-            note(errs)
+            vals, e = column(name, lambda v, f=flag, nm=name: _level(v, nm, f), None, sel)
+            target[sel] = vals
+            note(e, sel)
     alpha, e = column("alpha", lambda v: parse_risk(v, "alpha"), 0.05)
     note(e)
     beta, e = column("beta", lambda v: parse_risk(v, "beta"), 0.10)
@@ -499,28 +533,27 @@ def design_catalogue(df, *, deliveries_per_year: float | None = None, progress=N
     note(e)
 
     # Resolve the model per row (the lot size decides the exact one).
-    model_text = text["model"].str.lower()
-    has_lot = lot.notna()
-    combos = pd.DataFrame({"m": model_text, "lot": has_lot, "d": defects.astype(bool)})
-    resolved = {}
-    for key in set(map(tuple, combos.drop_duplicates().to_numpy().tolist())):
-        mt, hl, dd = key
-        scope = Scope(lot_size=1 if hl else None, defects=bool(dd))
+    has_lot = np.array([v is not None for v in lot], dtype=bool)
+    combo = np.array([f"{mt.lower()}|{int(hl)}|{int(dd)}" for mt, hl, dd in
+                      zip(text["model"].tolist(), has_lot.tolist(), defects.tolist())])
+    ucombo, cinv = np.unique(combo, return_inverse=True)
+    res_model = np.full(ucombo.size, None, dtype=object)
+    res_err = np.full(ucombo.size, "", dtype=object)
+    for j, key in enumerate(ucombo.tolist()):
+        mt, hl, dd = key.split("|")
+        scope = Scope(lot_size=1 if hl == "1" else None, defects=dd == "1")
         try:
-            resolved[key] = (scope.check_model(mt or None, "model"), "")
+            res_model[j] = scope.check_model(mt or None, "model")
         except InputError as exc:
-            msg = str(exc).replace("(--lot-size)", "(a lot_size value)")
-            resolved[key] = (None, msg)
-    keys = list(map(tuple, combos.to_numpy().tolist()))
-    model = pd.Series([resolved[k][0] for k in keys], dtype=object)
-    note(pd.Series([resolved[k][1] for k in keys], dtype=object))
+            res_err[j] = str(exc).replace("(--lot-size)", "(a lot_size value)")
+    model = res_model[cinv]
+    note(res_err[cinv])
 
-    # Target checks that need no search; their messages come from design_single.
-    ok = (error == "").to_numpy()
+    ok = error == ""
     prob = pd.DataFrame({
         "model": model, "aql": aql, "rql": rql, "alpha": alpha, "beta": beta,
-        "lot": lot.fillna(0), "fixed_c": fixed_c.fillna(-1), "max_n": max_n.fillna(0),
-        "defects": defects.astype(bool), "scheme": scheme,
+        "lot": np.where(has_lot, lot, 0), "fixed_c": fixed_c, "max_n": max_n,
+        "defects": defects, "scheme": scheme,
     })
     n_col = np.full(m, -1, dtype=np.int64)
     c_col = np.full(m, -1, dtype=np.int64)
@@ -580,7 +613,7 @@ def design_catalogue(df, *, deliveries_per_year: float | None = None, progress=N
             try:
                 res = _design_one(row)
             except (Infeasible, InputError) as exc:
-                uerr[i] = str(exc)
+                uerr[i] = str(exc).replace("--max-n", "max_n").replace("--lot-size", "lot_size")
             else:
                 un[i], uc[i], ua[i], ub[i] = res["n"], res["c"], res["alpha_actual"], \
                     res["beta_actual"]
@@ -601,24 +634,23 @@ def design_catalogue(df, *, deliveries_per_year: float | None = None, progress=N
         b_col[rows_ok] = ub[codes]
         plan_col[rows_ok] = uplan[codes]
         full_col[rows_ok] = ufull[codes]
-        err_rows = pd.Series(uerr[codes], index=rows_ok, dtype=object)
-        error.iloc[rows_ok] = err_rows.to_numpy()
+        error[rows_ok] = uerr[codes]
 
-    designed = (error == "").to_numpy() & (n_col >= 0)
+    designed = (error == "") & (n_col >= 0)
     out = df.drop(columns=["_line", "_shape"]).copy()
     out["n"] = pd.array(np.where(designed, n_col, 0), dtype="Int64")
     out.loc[~designed, "n"] = pd.NA
     out["c"] = pd.array(np.where(designed, c_col, 0), dtype="Int64")
     out.loc[~designed, "c"] = pd.NA
     out["plan"] = np.where(designed, plan_col, "")
-    out["model_used"] = np.where(designed, model.fillna("").to_numpy(dtype=object), "")
+    out["model_used"] = np.where(designed, np.where(model == None, "", model), "")  # noqa: E711
     out["alpha_actual"] = np.where(designed, a_col, np.nan)
     out["beta_actual"] = np.where(designed, b_col, np.nan)
     out["full_inspection"] = np.where(designed, np.where(full_col, "yes", "no"), "")
-    rate = pd.to_numeric(deliv, errors="coerce").to_numpy(dtype=float)
+    rate = np.array([np.nan if v is None else float(v) for v in deliv], dtype=float)
     per_year = np.where(designed & np.isfinite(rate), n_col * rate, np.nan)
     out["units_per_year"] = per_year
-    out["error"] = error.to_numpy()
+    out["error"] = error
     units_lot = int(n_col[designed].sum())
     have_rate = designed & np.isfinite(rate)
     units_year = int(round(float(np.nansum(per_year)))) if have_rate.any() else None

@@ -13,7 +13,7 @@ A receiving clerk exports the lot log; the second data row lost a field:
 
 >>> import io
 >>> t = read_table(io.StringIO("part,lot_size\\nA-1,500\\nA-2\\n"), "lots.csv")
->>> t.header, t.rows[1].line, t.rows[1].problem
+>>> t.header, t.lines[1], t.problems[1]
 (['part', 'lot_size'], 3, 'has 1 field(s), the header has 2')
 """
 
@@ -41,17 +41,38 @@ class Row:
 
 @dataclass(frozen=True, kw_only=True)
 class Table:
-    """A CSV file: the header as written, the normalised column names and the rows."""
+    """A CSV file: the header as written, the normalised column names, and the
+    data as ``fields`` (one list per row, padded or cut to the header's
+    length, not yet stripped), ``lines`` (the line each row starts on) and ``problems``
+    (row index -> what is wrong with its shape)."""
 
     source: str
     raw_header: list
     header: list
-    rows: list
+    fields: list
+    lines: list
+    problems: dict
+
+    @property
+    def rows(self) -> list:
+        """The rows as :class:`Row` objects."""
+        return [Row(line=ln, fields=f, problem=self.problems.get(i, ""))
+                for i, (ln, f) in enumerate(zip(self.lines, self.fields))]
+
+    def __len__(self) -> int:
+        return len(self.fields)
 
     def column(self, name: str) -> list:
-        """The values of column ``name`` ('' where absent)."""
+        """The values of column ``name``, stripped."""
         i = self.header.index(name)
-        return [r.fields[i] for r in self.rows]
+        return [f[i].strip() for f in self.fields]
+
+    def problem_list(self) -> list:
+        """The shape problem of every row ('' where none)."""
+        out = [""] * len(self.fields)
+        for i, p in self.problems.items():
+            out[i] = p
+        return out
 
 
 def normalise_name(name: str) -> str:
@@ -87,24 +108,27 @@ def read_table(path, option: str) -> Table:
     delimiter = ";" if (";" in first and "," not in first) else ","
     reader = csv.reader(io.StringIO(text, newline=""), delimiter=delimiter)
     header = None
-    rows: list[Row] = []
+    fields_out: list = []
+    lines: list = []
+    problems: dict = {}
     start = 1
     try:
         for fields in reader:
             line = start
             start = reader.line_num + 1
-            if not fields or all(not f.strip() for f in fields):
-                continue
+            if not fields or (not fields[0].strip() and all(not f.strip() for f in fields)):
+                continue  # blank lines and lines of empty fields
             if header is None:
                 header = [f.strip() for f in fields]
                 header_line = line
+                width = len(header)
                 continue
-            problem = ""
-            width = len(header)
             if len(fields) != width:
-                problem = f"has {len(fields)} field(s), the header has {width}"
+                problems[len(fields_out)] = (f"has {len(fields)} field(s), the header has "
+                                             f"{width}")
                 fields = (fields + [""] * width)[:width]
-            rows.append(Row(line=line, fields=[f.strip() for f in fields], problem=problem))
+            fields_out.append(fields)
+            lines.append(line)
     except csv.Error as exc:
         raise InputError(f"{option} ({source}) is not a readable CSV file near line "
                          f"{reader.line_num}: {exc}") from None
@@ -119,4 +143,5 @@ def read_table(path, option: str) -> Table:
         if name in seen:
             raise InputError(f"{option} ({source}) names the column {raw_name!r} twice")
         seen.add(name)
-    return Table(source=source, raw_header=header, header=names, rows=rows)
+    return Table(source=source, raw_header=header, header=names, fields=fields_out, lines=lines,
+                 problems=problems)

@@ -337,90 +337,105 @@ def read_records(path, *, plans_dir=None, option: str = "RECORDS") -> LotRecords
 
 
 def records_frame(t, *, plans_dir=None) -> LotRecords:
-    """Parse a :class:`lotwise.csvio.Table` of lot records (vectorised)."""
+    """Parse a :class:`lotwise.csvio.Table` of lot records (vectorised; the
+    messages are written only for the rows that need them)."""
     import pandas as pd
 
-    m = len(t.rows)
-    cols = {h: [r.fields[i] for r in t.rows] for i, h in enumerate(t.header)}
-    get = lambda name: pd.Series(cols.get(name, [""] * m), dtype=object)  # noqa: E731
-    line = np.array([r.line for r in t.rows], dtype=np.int64)
-    reason = pd.Series([r.problem and f"the line {r.problem}" for r in t.rows], dtype=object)
+    m = len(t.fields)
+    where = {h: i for i, h in enumerate(t.header)}
+    columns = list(zip(*t.fields)) if m else [()] * len(t.header)
+    text: dict = {}
 
-    def note(mask, messages):
-        nonlocal reason
-        mask = np.asarray(mask, dtype=bool) & (reason == "").to_numpy()
-        if mask.any():
-            msgs = messages if isinstance(messages, pd.Series) else \
-                pd.Series([messages] * m, dtype=object)
-            reason = reason.where(~mask, msgs)
+    def get(name):
+        """Column ``name`` as stripped text (an array of str)."""
+        if name not in text:
+            if name in where:
+                text[name] = np.array([v.strip() for v in columns[where[name]]], dtype=object)
+            else:
+                text[name] = np.full(m, "", dtype=object)
+        return text[name]
+
+    line = np.asarray(t.lines, dtype=np.int64)
+    reasons: dict[int, list] = {}
+
+    def note(mask, message):
+        """Record ``message(i)`` (or a fixed text) for each row ``i`` in ``mask``."""
+        for i in np.flatnonzero(mask):
+            reasons.setdefault(int(i), []).append(message(i) if callable(message) else message)
 
     for name in REQUIRED:
-        note(get(name).str.len() == 0, f"missing {name}")
-    plan_txt = get("plan")
-    file_txt = get("plan_file")
+        note(get(name) == "", f"missing {name}")
+    plan_txt, file_txt = get("plan"), get("plan_file")
     note((plan_txt == "") & (file_txt == ""), "missing plan (give plan or plan_file)")
     note((plan_txt != "") & (file_txt != ""), "give plan or plan_file, not both")
 
     def whole(name, minimum):
+        """Whole numbers of column ``name`` and where they are valid."""
         txt = get(name)
-        num = pd.to_numeric(txt.str.replace("_", "", regex=False), errors="coerce")
-        v = num.to_numpy(dtype=float)
-        badnum = ~np.isfinite(v) | (v != np.floor(v))
-        note(badnum & (txt != "").to_numpy(),
-             txt.map(lambda s: f"{name} ({s!r}) must be a whole number"))
-        low = np.isfinite(v) & (v < minimum)
-        note(low, txt.map(lambda s: f"{name} ({s}) must be at least {minimum}"))
-        return np.where(np.isfinite(v), v, 0).astype(np.int64)
+        try:  # the common case: every cell a plain whole number
+            v = txt.astype(str).astype(np.int64).astype(float)
+        except (ValueError, OverflowError):
+            num = pd.to_numeric(pd.Series(txt).str.replace("_", "", regex=False),
+                                errors="coerce")
+            v = num.to_numpy(dtype=float)
+        with np.errstate(invalid="ignore"):
+            badnum = ~np.isfinite(v) | (v != np.floor(v))
+        note(badnum & (txt != ""), lambda i: f"{name} ({txt[i]!r}) must be a whole number")
+        low = ~badnum & (np.where(badnum, minimum, v) < minimum)
+        note(low, lambda i: f"{name} ({txt[i]}) must be at least {minimum}")
+        return np.where(badnum, 0, v).astype(np.int64), ~badnum & ~low
 
-    lot = whole("lot_size", 1)
-    sample = whole("sample_size", 1)
-    found = whole("found", 0)
-    note(found > sample, pd.Series([f"found ({f}) is more than sample_size ({s})"
-                                    for f, s in zip(found, sample)], dtype=object))
-    note(sample > lot, pd.Series([f"sample_size ({s}) is more than lot_size ({n})"
-                                  for s, n in zip(sample, lot)], dtype=object))
+    lot, lot_ok = whole("lot_size", 1)
+    sample, sample_ok = whole("sample_size", 1)
+    found, found_ok = whole("found", 0)
+    note(found_ok & sample_ok & (found > sample),
+         lambda i: f"found ({found[i]}) is more than sample_size ({sample[i]})")
+    note(sample_ok & lot_ok & (sample > lot),
+         lambda i: f"sample_size ({sample[i]}) is more than lot_size ({lot[i]})")
     dtxt = get("date")
-    dates = pd.to_datetime(dtxt, format="ISO8601", errors="coerce")
-    note(dates.isna().to_numpy() & (dtxt != "").to_numpy(),
-         dtxt.map(lambda s: f"date ({s!r}) must be a date written YYYY-MM-DD"))
+    dates = pd.to_datetime(pd.Series(dtxt), format="ISO8601", errors="coerce")
+    note(dates.isna().to_numpy() & (dtxt != ""),
+         lambda i: f"date ({dtxt[i]!r}) must be a date written YYYY-MM-DD")
     disp_txt = get("disposition")
-    disp = disp_txt.str.lower().map(_ACCEPT)
-    note(disp.isna().to_numpy() & (disp_txt != "").to_numpy(),
-         disp_txt.map(lambda s: f"disposition ({s!r}) must be accept or reject"))
+    dv, dinv = np.unique(disp_txt.astype(str), return_inverse=True)
+    disp = pd.Series(np.array([_ACCEPT.get(v.lower()) for v in dv], dtype=object)[dinv])
+    note(disp.isna().to_numpy() & (disp_txt != ""),
+         lambda i: f"disposition ({disp_txt[i]!r}) must be accept or reject")
 
     # Plans: each distinct text parsed (or file resolved) once.
     plans: dict = {}
     plan_err: dict = {}
-    key = pd.Series(np.where(plan_txt != "", "plan:" + plan_txt, "file:" + file_txt),
-                    dtype=object)
-    for k in key.unique():
-        kind, _, text = k.partition(":")
-        if not text:
+    key = np.where(plan_txt != "", "plan:" + plan_txt, "file:" + file_txt).astype(object)
+    uniq, inv = np.unique(key.astype(str), return_inverse=True)
+    failed = np.zeros(uniq.size, dtype=bool)
+    for j, k in enumerate(uniq):
+        kind, _, txt = k.partition(":")
+        if not txt:
             continue
         try:
-            if kind == "plan":
-                plans[k] = parse_plan(text, "plan")
-            else:
-                plans[k] = resolve_plan_file(text, plans_dir)
+            plans[k] = parse_plan(txt, "plan") if kind == "plan" else \
+                resolve_plan_file(txt, plans_dir)
         except InputError as exc:
             plan_err[k] = str(exc)
-    note(key.map(lambda k: k in plan_err).to_numpy(),
-         key.map(lambda k: plan_err.get(k, "")))
+            failed[j] = True
+    note(failed[inv], lambda i: plan_err[str(key[i])])
 
-    bad = (reason != "").to_numpy()
-    bad_rows = [BadRow(line=int(ln), reason=str(rs)) for ln, rs in
-                zip(line[bad], reason[bad])]
+    for i, problem in t.problems.items():
+        reasons[i] = [f"the line {problem}"]  # its fields are unreliable
+    bad = np.zeros(m, dtype=bool)
+    bad[list(reasons)] = True
+    bad_rows = [BadRow(line=int(line[i]), reason="; ".join(reasons[i])) for i in sorted(reasons)]
     good = ~bad
     frame = pd.DataFrame({
         "line": line[good],
         "date": dates[good].reset_index(drop=True),
-        "supplier": get("supplier")[good].reset_index(drop=True),
-        "part": get("part")[good].reset_index(drop=True),
-        "lot_id": get("lot_id")[good].reset_index(drop=True),
+        "supplier": get("supplier")[good],
+        "part": get("part")[good],
+        "lot_id": get("lot_id")[good],
         "lot_size": lot[good],
         "sample_size": sample[good],
         "found": found[good],
-        "plan_key": key[good].reset_index(drop=True),
+        "plan_key": uniq[inv][good].astype(object),
         "accepted": disp[good].astype(bool).reset_index(drop=True),
     })
     used = set(frame["plan_key"].unique())
@@ -550,45 +565,152 @@ def summarise(records: LotRecords, *, confidence: float = 0.95,
     """Summarise lot records per supplier and part (see the module notes).
 
     ``supplier``/``part`` restrict the summary to one supplier or part.
-    ``charts`` keeps each group's run chart table (needed for plots).
+    ``charts`` keeps each group's run chart (needed for plots). The work is
+    done on whole columns: per-group sums by ``bincount``, the limits once
+    per distinct (group, sample size), ``Pa`` once per (plan, group).
     """
-    import pandas as pd
-
     df = records.frame
     if supplier is not None:
         df = df[df["supplier"] == supplier]
     if part is not None:
         df = df[df["part"] == part]
-    df = df.reset_index(drop=True)
     plans = records.plans
+    if not len(df):
+        return RecordsSummary(groups=[], findings=[], bad_rows=list(records.bad_rows),
+                              rows_read=records.rows_read, rows_used=0,
+                              confidence=confidence, significance=significance,
+                              source=records.source)
+    # Inspection order within each supplier and part.
+    df = df.sort_values(["supplier", "part", "date", "line"], kind="stable")
+    df = df.reset_index(drop=True)
+    lot = df["lot_size"].to_numpy()
+    sample = df["sample_size"].to_numpy()
+    found = df["found"].to_numpy()
+    accepted = df["accepted"].to_numpy(dtype=bool)
+    keys = df["plan_key"].to_numpy()
+    pkeys, pinv = np.unique(keys.astype(str), return_inverse=True)
 
     # Per-lot disposition check: vectorised for single plans, per lot otherwise.
     expect = np.full(len(df), -1, dtype=np.int8)  # 1 accept, 0 reject, -1 unknown
     deviation = np.zeros(len(df), dtype=bool)
-    notes = np.full(len(df), "", dtype=object)
-    for key, idx in df.groupby("plan_key", sort=False).indices.items():
+    notes: dict[int, str] = {}
+    for j, key in enumerate(pkeys):
         plan = plans[key]
-        sub = df.iloc[idx]
+        idx = np.flatnonzero(pinv == j)
         if isinstance(plan, SinglePlan):
-            want = np.minimum(plan.n, sub["lot_size"].to_numpy())
-            expect[idx] = (sub["found"].to_numpy() <= plan.c).astype(np.int8)
-            dev = sub["sample_size"].to_numpy() != want
+            want = np.minimum(plan.n, lot[idx])
+            expect[idx] = (found[idx] <= plan.c).astype(np.int8)
+            dev = sample[idx] != want
             deviation[idx] = dev
-            if dev.any():
-                notes[idx[dev]] = [f"sample_size ({s}) differs from the plan's n ({w})"
-                                   for s, w in zip(sub["sample_size"].to_numpy()[dev],
-                                                   want[dev])]
+            for i, w in zip(idx[dev], want[dev]):
+                notes[int(i)] = f"sample_size ({sample[i]}) differs from the plan's n ({w})"
         else:
-            for j, (n_lot, s, f) in zip(idx, sub[["lot_size", "sample_size", "found"]]
-                                        .itertuples(index=False, name=None)):
-                acc, nt = expected_disposition(plan, int(n_lot), int(s), int(f))
-                expect[j] = -1 if acc is None else int(acc)
-                notes[j] = nt
-    recorded = df["accepted"].to_numpy()
-    mismatch = (expect >= 0) & (expect != recorded.astype(np.int8))
+            for i in idx:
+                acc, nt = expected_disposition(plan, int(lot[i]), int(sample[i]),
+                                               int(found[i]))
+                expect[i] = -1 if acc is None else int(acc)
+                if nt:
+                    notes[int(i)] = nt
+    mismatch = (expect >= 0) & (expect != accepted.astype(np.int8))
+    findings = _findings(df, plans, expect, mismatch, deviation, notes)
 
-    findings = []
-    for j in np.flatnonzero(mismatch | deviation):
+    # Groups: supplier and part, in sorted order (df is sorted by them).
+    gid = df.groupby(["supplier", "part"], sort=True).ngroup().to_numpy()
+    G = int(gid.max()) + 1
+    first = np.flatnonzero(np.r_[True, gid[1:] != gid[:-1]])
+    last = np.r_[first[1:] - 1, len(df) - 1]
+    count = lambda w=None: np.bincount(gid, weights=w, minlength=G)  # noqa: E731
+    lots = np.bincount(gid, minlength=G)
+    acc = np.rint(count(accepted.astype(float))).astype(np.int64)
+    n_tot = np.rint(count(sample.astype(float))).astype(np.int64)
+    d_tot = np.rint(count(found.astype(float))).astype(np.int64)
+    p = d_tot / n_tot
+    lo, hi = clopper_pearson(d_tot, n_tot, confidence)
+    lo, hi = np.atleast_1d(lo), np.atleast_1d(hi)
+    n_mis = np.bincount(gid, weights=mismatch, minlength=G).astype(np.int64)
+    n_dev = np.bincount(gid, weights=deviation, minlength=G).astype(np.int64)
+    n_unk = np.bincount(gid, weights=expect < 0, minlength=G).astype(np.int64)
+
+    # Pa of each plan at each group's process average (type B: lots from the process).
+    pair = gid.astype(np.int64) * len(pkeys) + pinv
+    upair, pair_inv = np.unique(pair, return_inverse=True)
+    pg, pp = upair // len(pkeys), upair % len(pkeys)
+    pair_lots = np.bincount(pair_inv)
+    pair_acc = np.bincount(pair_inv, weights=accepted).astype(np.int64)
+    pair_pa = np.empty(upair.size)
+    for j in np.unique(pp):
+        sel = pp == j
+        pair_pa[sel] = np.asarray(plans[pkeys[j]].pa(p[pg[sel]], "binomial", Scope()),
+                                  dtype=float)
+    multi = np.bincount(pg, minlength=G) > 1
+    low = np.empty(G)
+    high = np.empty(G)
+    expected = np.bincount(pg, weights=pair_lots * pair_pa, minlength=G)
+    one = ~multi
+    if one.any():
+        # One plan: the number accepted is binomial; tails by the incomplete beta.
+        sel = np.flatnonzero(one)
+        at = np.searchsorted(pg, sel)  # the group's single pair (pg is sorted)
+        L, a, q = lots[sel], acc[sel], pair_pa[at]
+        low[sel] = np.where(a >= L, 1.0, oc.pa_binomial(L, np.minimum(a, L), q))
+        high[sel] = np.where(a <= 0, 1.0, 1.0 - np.asarray(
+            oc.pa_binomial(L, np.maximum(a - 1, 0), q)))
+    for g in np.flatnonzero(multi):
+        sel = pg == g
+        low[g], high[g], _ = accepted_tails(list(zip(pair_lots[sel], pair_pa[sel])),
+                                            int(acc[g]))
+    two = np.minimum(1.0, 2.0 * np.minimum(low, high))
+
+    # Run-chart limits once per distinct (group, sample size).
+    gs = gid.astype(np.int64) * (int(sample.max()) + 1) + sample
+    ugs, gs_inv = np.unique(gs, return_inverse=True)
+    l_u, u_u = binomial_limits(ugs % (int(sample.max()) + 1), p[ugs // (int(sample.max()) + 1)])
+    l_cnt, u_cnt = np.atleast_1d(l_u)[gs_inv], np.atleast_1d(u_u)[gs_inv]
+    out = (found < l_cnt) | (found > u_cnt)
+    n_out = np.bincount(gid, weights=out, minlength=G).astype(np.int64)
+
+    sup = df["supplier"].to_numpy()
+    prt = df["part"].to_numpy()
+    dates = df["date"].dt.strftime("%Y-%m-%d").to_numpy()[np.r_[first, last]]
+    firsts, lasts = dates[:G], dates[G:]
+    pair_start = np.searchsorted(pg, np.arange(G))
+    pair_stop = np.searchsorted(pg, np.arange(G), side="right")
+    groups = []
+    for g in range(G):
+        by_plan = []
+        for k in range(pair_start[g], pair_stop[g]):
+            plan = plans[pkeys[pp[k]]]
+            by_plan.append({"plan": plan.label, "scheme": plan.scheme,
+                            "lots": int(pair_lots[k]), "accepted": int(pair_acc[k]),
+                            "pa_at_process_average": float(pair_pa[k])})
+        chart = None
+        if charts:
+            a, b = first[g], last[g] + 1
+            chart = {"line": df["line"].to_numpy()[a:b], "fraction": found[a:b] / sample[a:b],
+                     "lower": l_cnt[a:b] / sample[a:b], "upper": u_cnt[a:b] / sample[a:b],
+                     "out": out[a:b], "accepted": accepted[a:b]}
+        groups.append(GroupSummary(
+            supplier=str(sup[first[g]]), part=str(prt[first[g]]), lots=int(lots[g]),
+            accepted=int(acc[g]), units_inspected=int(n_tot[g]), nonconforming=int(d_tot[g]),
+            process_average=float(p[g]), interval=(float(lo[g]), float(hi[g])),
+            confidence=confidence, expected_accepted=float(expected[g]),
+            tails=(float(low[g]), float(high[g])), two_sided=float(two[g]),
+            consistent=bool(two[g] >= significance), plans=by_plan,
+            first_date=str(firsts[g]), last_date=str(lasts[g]), out_of_limits=int(n_out[g]),
+            disposition_mismatches=int(n_mis[g]), sample_deviations=int(n_dev[g]),
+            unchecked=int(n_unk[g]), chart=chart))
+    return RecordsSummary(groups=groups, findings=findings, bad_rows=list(records.bad_rows),
+                          rows_read=records.rows_read, rows_used=len(df),
+                          confidence=confidence, significance=significance,
+                          source=records.source)
+
+
+def _findings(df, plans, expect, mismatch, deviation, notes) -> list:
+    """Per-lot findings, in file order: wrong dispositions and off-plan samples."""
+    out = []
+    idx = np.flatnonzero(mismatch | deviation)
+    idx = idx[np.argsort(df["line"].to_numpy()[idx], kind="stable")]
+    for j in idx:
         row = df.iloc[j]
         plan = plans[row["plan_key"]]
         item = {"line": int(row["line"]), "supplier": row["supplier"], "part": row["part"],
@@ -596,67 +718,15 @@ def summarise(records: LotRecords, *, confidence: float = 0.95,
                 "plan": plan.label, "sample_size": int(row["sample_size"]),
                 "found": int(row["found"]),
                 "recorded": "accept" if row["accepted"] else "reject"}
+        note = notes.get(int(j), "")
         if mismatch[j]:
             item["expected"] = "accept" if expect[j] else "reject"
             item["finding"] = (f"recorded {item['recorded']}, but the plan {plan.label} "
                                f"says {item['expected']} on {item['found']} found")
+            if note:
+                item["finding"] += f"; {note}"
         else:
             item["expected"] = item["recorded"]
-            item["finding"] = notes[j]
-        if mismatch[j] and notes[j]:
-            item["finding"] += f"; {notes[j]}"
-        findings.append(item)
-
-    groups = []
-    if len(df):
-        df = df.assign(_mismatch=mismatch, _dev=deviation, _unk=expect < 0)
-        for (sup, prt), g in df.groupby(["supplier", "part"], sort=True):
-            groups.append(_group(sup, prt, g, plans, confidence, significance, charts))
-    return RecordsSummary(groups=groups, findings=findings, bad_rows=list(records.bad_rows),
-                          rows_read=records.rows_read, rows_used=len(df),
-                          confidence=confidence, significance=significance,
-                          source=records.source)
-
-
-def _group(sup, prt, g, plans, confidence, significance, charts) -> GroupSummary:
-    import pandas as pd
-
-    g = g.sort_values(["date", "line"], kind="stable")
-    lots = len(g)
-    acc = int(g["accepted"].sum())
-    n_tot = int(g["sample_size"].sum())
-    d_tot = int(g["found"].sum())
-    p = d_tot / n_tot
-    lo, hi = clopper_pearson(d_tot, n_tot, confidence)
-    by_plan = []
-    parts = []
-    for key, sub in g.groupby("plan_key", sort=False):
-        plan = plans[key]
-        pa = float(plan.pa(p, "binomial", Scope()))
-        parts.append((len(sub), pa))
-        by_plan.append({"plan": plan.label, "scheme": plan.scheme, "lots": len(sub),
-                        "accepted": int(sub["accepted"].sum()), "pa_at_process_average": pa})
-    low, high, expected = accepted_tails(parts, acc)
-    two = min(1.0, 2.0 * min(low, high))
-    # Run chart limits per distinct sample size.
-    sizes = g["sample_size"].to_numpy()
-    uniq, inv = np.unique(sizes, return_inverse=True)
-    l_cnt, u_cnt = binomial_limits(uniq, np.full(uniq.shape, p))
-    l_cnt, u_cnt = np.atleast_1d(l_cnt)[inv], np.atleast_1d(u_cnt)[inv]
-    f = g["found"].to_numpy()
-    out = (f < l_cnt) | (f > u_cnt)
-    chart = None
-    if charts:
-        chart = pd.DataFrame({"date": g["date"].to_numpy(), "line": g["line"].to_numpy(),
-                              "fraction": f / sizes, "lower": l_cnt / sizes,
-                              "upper": u_cnt / sizes, "out": out,
-                              "accepted": g["accepted"].to_numpy()})
-    return GroupSummary(
-        supplier=str(sup), part=str(prt), lots=lots, accepted=acc, units_inspected=n_tot,
-        nonconforming=d_tot, process_average=p, interval=(float(lo), float(hi)),
-        confidence=confidence, expected_accepted=expected, tails=(low, high), two_sided=two,
-        consistent=bool(two >= significance), plans=by_plan,
-        first_date=g["date"].iloc[0].date().isoformat(),
-        last_date=g["date"].iloc[-1].date().isoformat(),
-        out_of_limits=int(out.sum()), disposition_mismatches=int(g["_mismatch"].sum()),
-        sample_deviations=int(g["_dev"].sum()), unchecked=int(g["_unk"].sum()), chart=chart)
+            item["finding"] = note
+        out.append(item)
+    return out
