@@ -36,11 +36,11 @@ __all__ = ["run_chart_figure", "run_charts_figure", "tradeoff_figure"]
 def run_chart_figure(chart, *, process_average: float, title: str | None = None, ax=None,
                      tail: float = 0.00135):
     """Run chart of one group's lots (``chart`` as kept by
-    :func:`lotwise.records.summarise`: columns ``fraction, lower, upper, out,
-    accepted``, in inspection order)."""
+    :func:`lotwise.records.summarise`: a mapping or DataFrame with columns
+    ``fraction, lower, upper, out, accepted``, in inspection order)."""
     fig, ax = new_axes(ax, size=(7.0, 3.2))
-    x = np.arange(1, len(chart) + 1)
     y = np.asarray(chart["fraction"], dtype=float)
+    x = np.arange(1, y.size + 1)
     out = np.asarray(chart["out"], dtype=bool)
     acc = np.asarray(chart["accepted"], dtype=bool)
     ax.plot(x, y, color="0.55", linewidth=0.8, zorder=2)
@@ -65,7 +65,7 @@ def run_chart_figure(chart, *, process_average: float, title: str | None = None,
             label=f"exact binomial limits ({100 * tail:.3g} % each side)")
     if np.any(lower > 0):
         ax.step(x, lower, where="mid", **lim)
-    ax.set_xlim(0.5, max(len(chart), 1) + 0.5)
+    ax.set_xlim(0.5, max(y.size, 1) + 0.5)
     top = max(float(np.max(upper, initial=0)), float(np.max(y, initial=0)), process_average)
     ax.set_ylim(bottom=0, top=(top or 0.01) * 1.45)  # headroom for the legend
     ax.set_xlabel("Lot, in inspection order", fontsize=9.5)
