@@ -261,3 +261,28 @@ def test_catalogue_reader_keeps_line_numbers():
     t = design_catalogue(df).table
     assert t["error"].tolist()[1:] == ["the line has 3 field(s), the header has 4",
                                        "the line has 5 field(s), the header has 4"]
+
+
+def test_progress_is_reported_and_the_bar_stays_off_without_a_terminal():
+    from lotwise.batch import progress_bar
+
+    calls = []
+    cat = catalogue(300, seed=2)
+    res = design_catalogue(cat, progress=lambda done, total: calls.append((done, total)),
+                           chunk=50)
+    assert calls[0] == (0, res.distinct) and calls[-1] == (res.distinct, res.distinct)
+    assert all(a[0] <= b[0] for a, b in zip(calls, calls[1:]))
+    cb, close = progress_bar(300, stream=io.StringIO())
+    assert cb is None
+    close()
+
+
+def test_a_rerun_of_the_output_replaces_the_old_plan_columns(tmp_path, capsys):
+    src = tmp_path / "cat.csv"
+    src.write_text("part,lot_size,aql,rql\nA,,1%,6%\n")
+    out = tmp_path / "plans.csv"
+    assert main(["batch", str(src), "--out", str(out)]) == 0
+    again = tmp_path / "again.csv"
+    assert main(["batch", str(out), "--out", str(again)]) == 0
+    capsys.readouterr()
+    assert again.read_text() == out.read_text()

@@ -443,7 +443,7 @@ def _flag(text: str, column: str) -> bool:
 
 
 def design_catalogue(df, *, deliveries_per_year: float | None = None, progress=None,
-                     chunk: int = 20_000) -> BatchResult:
+                     chunk: int = 5_000) -> BatchResult:
     """Design every row of a catalogue.
 
     Parameters
@@ -594,6 +594,8 @@ def design_catalogue(df, *, deliveries_per_year: float | None = None, progress=N
             simple &= ~hyper | ((d2 >= 1) & (d1 < d2))
         done = 0
         total = distinct
+        if progress is not None:
+            progress(0, total)
         for mdl in ("hypergeometric", "binomial", "poisson"):
             idx = np.flatnonzero(simple & (u["model"] == mdl).to_numpy())
             for s in range(0, idx.size, chunk):

@@ -558,8 +558,6 @@ def _fmt(v) -> str:
     if isinstance(v, int):
         return str(v)
     if isinstance(v, float):
-        if v != 0 and (abs(v) < 1e-4 or abs(v) >= 1e6):
-            return f"{v:.10e}"
         return f"{v:.10g}"
     return str(v)
 
@@ -620,55 +618,59 @@ def pdf_report(val: Validation) -> bytes:
     plt = _mpl()
     import matplotlib
 
-    lines: list[tuple[str, str]] = []  # (style, text)
-    add = lambda style, text="": lines.append((style, text))  # noqa: E731
-    add("title", f"lotwise validation report, {val.started.date().isoformat()}")
-    add("body", f"Run: {val.started.strftime('%Y-%m-%d %H:%M UTC')}")
-    add("bold", f"Verdict: {val.verdict}: {len(val.results)} cases, {val.passed} passed, "
-                f"{val.failed} failed, {val.skipped} skipped")
-    for chunk in textwrap.wrap("Versions: " + ", ".join(f"{k} {v}" for k, v in
-                                                        val.versions.items()), 105):
-        add("body", chunk)
-    add("body")
-    for chunk in textwrap.wrap(_INTRO, 105):
-        add("body", chunk)
+    blocks: list[list[tuple[str, str]]] = []  # kept together on a page
+
+    def block(*items):
+        blocks.append(list(items))
+
+    block(("title", f"lotwise validation report, {val.started.date().isoformat()}"),
+          ("body", f"Run: {val.started.strftime('%Y-%m-%d %H:%M UTC')}"),
+          ("bold", f"Verdict: {val.verdict}: {len(val.results)} cases, {val.passed} passed, "
+                   f"{val.failed} failed, {val.skipped} skipped"),
+          *[("body", t) for t in textwrap.wrap(
+              "Versions: " + ", ".join(f"{k} {v}" for k, v in val.versions.items()), 105)],
+          ("body", ""), *[("body", t) for t in textwrap.wrap(_INTRO, 105)])
     area = None
     for r, row in _rows(val):
+        head = []
         if r.case.area != area:
             area = r.case.area
-            add("body")
-            add("heading", area[0].upper() + area[1:])
-        add("bold", f"{row[0]}: {row[5]}")
-        for chunk in textwrap.wrap(f"{r.case.description}. Source: {r.case.source}.", 100):
-            add("small", "    " + chunk)
-        add("small", f"    expected {row[1]}, computed {row[2]}, tolerance {row[3]}, "
-                     f"difference {row[4]}")
-    add("body")
-    add("heading", "Note")
-    for chunk in textwrap.wrap(_SAFETY, 105):
-        add("body", chunk)
+            head = [("body", ""), ("heading", area[0].upper() + area[1:])]
+        block(*head, ("bold", f"{row[0]}: {row[5]}"),
+              *[("small", "    " + t) for t in textwrap.wrap(
+                  f"{r.case.description}. Source: {r.case.source}.", 100)],
+              ("small", f"    expected {row[1]}, computed {row[2]}, tolerance {row[3]}, "
+                        f"difference {row[4]}"))
+    block(("body", ""), ("heading", "Note"), *[("body", t) for t in textwrap.wrap(_SAFETY, 105)])
 
     size = {"title": 13, "heading": 10.5, "bold": 8.2, "body": 8.2, "small": 7.4}
     step = {"title": 0.03, "heading": 0.024, "bold": 0.0165, "body": 0.0165, "small": 0.0148}
+    top, bottom = 0.95, 0.06
+    pages: list[list] = [[]]
+    y = top
+    for blk in blocks:
+        need = sum(step[st] for st, _ in blk)
+        if y - need < bottom and pages[-1]:
+            pages.append([])
+            y = top
+        pages[-1].append(blk)
+        y -= need
     buf = io.BytesIO()
     with matplotlib.rc_context({"pdf.fonttype": 42, "font.family": "DejaVu Sans"}):
         with PdfPages(buf, metadata={"Creator": "lotwise", "Title": "lotwise validation report"}) \
                 as pdf:
-            page = 0
-            i = 0
-            while i < len(lines):
-                page += 1
+            for k, page in enumerate(pages, start=1):
                 fig = plt.figure(figsize=(8.27, 11.69))  # A4
-                y = 0.95
-                while i < len(lines) and y > 0.06:
-                    style, text = lines[i]
-                    fig.text(0.07, y, text, fontsize=size[style],
-                             fontweight="bold" if style in ("title", "heading", "bold") else
-                             "normal", va="top", ha="left")
-                    y -= step[style]
-                    i += 1
-                fig.text(0.07, 0.03, f"lotwise validation report, page {page}", fontsize=7,
-                         color="0.4")
+                y = top
+                for blk in page:
+                    for style, text in blk:
+                        fig.text(0.07, y, text, fontsize=size[style], va="top", ha="left",
+                                 fontweight="bold" if style in ("title", "heading", "bold")
+                                 else "normal")
+                        y -= step[style]
+                fig.text(0.07, 0.03, f"lotwise validation report, "
+                         f"{val.started.date().isoformat()}, page {k} of {len(pages)}",
+                         fontsize=7, color="0.4")
                 pdf.savefig(fig)
                 plt.close(fig)
     return buf.getvalue()
