@@ -37,6 +37,11 @@ without them) and ``error`` (empty when the row was designed; otherwise the
 reason, and the plan columns are empty). A row that cannot be designed never
 stops the batch.
 
+``lotwise batch --json`` prints ``{"rows", "designed", "failed",
+"distinct_designs", "units_per_lot", "units_per_year",
+"rows_without_deliveries", "out", "errors": [{"line", "part", "error"}],
+"dropped_columns"}``.
+
 Method
 ------
 Rows are normalised (levels parsed to fractions, the model resolved) and

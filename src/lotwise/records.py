@@ -54,6 +54,21 @@ What is computed, per supplier and part
 * dispositions that disagree with the plan (for a single plan: accept when
   ``found <= c``) and samples whose size differs from the plan's.
 
+JSON (``lotwise records --json``)
+--------------------------------
+``{"source", "rows_read", "rows_used", "bad_rows": [{"line", "reason"}],
+"confidence", "significance", "limit_tail", "groups": [...], "findings":
+[...], "plot"}``; each group ``{"supplier", "part", "lots", "accepted",
+"rejected", "acceptance_rate", "units_inspected", "nonconforming",
+"process_average", "interval": {"lower", "upper", "confidence", "method"},
+"oc_check": {"expected_acceptance_rate", "expected_accepted",
+"p_at_most_observed", "p_at_least_observed", "two_sided", "consistent"},
+"plans": [{"plan", "scheme", "lots", "accepted", "pa_at_process_average"}],
+"first_date", "last_date", "out_of_limits", "disposition_mismatches",
+"sample_deviations", "dispositions_unchecked"}``; each finding ``{"line",
+"supplier", "part", "lot_id", "date", "plan", "sample_size", "found",
+"recorded", "expected", "finding"}``.
+
 References
 ----------
 .. [1] C. J. Clopper and E. S. Pearson, "The use of confidence or fiducial

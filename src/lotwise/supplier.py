@@ -30,6 +30,20 @@ supplier's expected rejection rate at its process average. Tightening the
 RQL at a fixed AQL never shrinks the sample: every plan meeting the tighter
 RQL also meets the looser one, so the smallest sample can only grow.
 
+JSON
+----
+``lotwise supplier --json``: ``{"plan", "posterior": {"prior", "a", "b",
+"nonconforming", "inspected", "estimate", "mean", "interval": {"lower",
+"upper", "probability"}}, "p_reject_predictive", "p_reject_at_estimate",
+"method", "deliveries_per_year", "rejected_per_year": {"expected", "lower",
+"upper", "probability"} or null, "supplier", "part", "lots_in_records"}``.
+``lotwise tradeoff --json``: ``{"alpha", "beta", "lot_size", "model",
+"process_average", "posterior", "lots_in_records", "supplier", "part",
+"deliveries_per_year", "rows": [{"aql", "rql", "ratio", "n", "c",
+"alpha_actual", "beta_actual", "supplier_p_reject",
+"supplier_p_reject_predictive", "rejected_per_year", "full_inspection",
+"reason"}], "csv", "plot"}``.
+
 References
 ----------
 .. [1] L. D. Brown, T. T. Cai and A. DasGupta, "Interval estimation for a

@@ -15,6 +15,12 @@ a string, or a callable computing it at run time, as the mpmath
 cross-checks do), an absolute ``tolerance`` (0 for exact agreement) and
 ``compute``, a callable returning what the tool gives.
 
+``lotwise validate --json`` prints ``{"verdict" (PASSED, FAILED or
+INCOMPLETE), "cases", "passed", "failed", "skipped", "date", "versions",
+"results": [{"id", "area", "description", "source", "expected", "computed",
+"tolerance", "difference", "verdict", "note"}], "report": {"markdown",
+"pdf"}}``.
+
 Adding cases
 ------------
 Cases come from *providers*: functions with no arguments returning a list of

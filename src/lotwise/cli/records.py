@@ -326,8 +326,8 @@ def tradeoff(
     shown = []
     for r in rows:
         if r.plan is None:
-            shown.append([format_level(r.aql), format_level(r.rql), f"{r.ratio:.3g}", "-",
-                          "-", "-", "-", "-", "no plan: " + r.reason.split(";")[0][:60]])
+            shown.append([format_level(r.aql), format_level(r.rql), f"{r.ratio:.3g}",
+                          "no plan", "-", "-", "-", "-", "-"])
             continue
         rej = r.p_reject_predictive if r.p_reject_predictive is not None else r.p_reject
         cells = [format_level(r.aql), format_level(r.rql), f"{r.ratio:.3g}", str(r.n),
@@ -339,6 +339,10 @@ def tradeoff(
         shown.append(cells)
     typer.echo(common.table(shown, ["AQL", "RQL", "RQL/AQL", "n", "c", "alpha", "beta (buyer)",
                                     "supplier rejects", "rejected/year"]))
+    for r in rows:
+        if r.plan is None:
+            typer.echo(f"  no plan for AQL {format_level(r.aql)}, RQL {format_level(r.rql)}: "
+                       f"{r.reason}")
     typer.echo("  beta (buyer): the plan's real consumer's risk at the RQL; supplier rejects: "
                "share of the supplier's lots rejected at its process average"
                + (" (predictive, over the posterior)" if post else "") + ".")
