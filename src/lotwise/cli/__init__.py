@@ -25,7 +25,8 @@ app = typer.Typer(
 
 def _register() -> None:
     # Imported for their side effect of adding commands to ``app``.
-    from . import draw, rectifying, sheets, single, variables, zero  # noqa: F401
+    from . import (batch, draw, records, rectifying, sheets, single, validate,  # noqa: F401
+                   variables, zero)
 
 
 def main(argv: list[str] | None = None) -> int:

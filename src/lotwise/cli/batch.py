@@ -1,0 +1,82 @@
+"""``lotwise batch``: one design per catalogue row."""
+
+from __future__ import annotations
+
+import sys
+from typing import Optional
+
+import typer
+
+from . import app, common
+from ..quantities import InputError
+
+
+@app.command()
+def batch(
+    path: str = typer.Argument(..., metavar="CATALOGUE", help="CSV with part, lot_size, aql, rql (optional alpha, beta, scheme, model, fixed_c, max_n, defects, deliveries_per_year)."),
+    out: Optional[str] = typer.Option(None, "--out", "-o", help="Where to write the plans (CSV), or - for stdout."),
+    deliveries: Optional[str] = typer.Option(None, "--deliveries-per-year", help="Lots per year for rows without a deliveries_per_year value."),
+    force: bool = typer.Option(False, "--force", help="Overwrite files not written by lotwise."),
+    as_json: bool = common.JSON,
+):
+    """Design a plan for every row of a part catalogue.
+
+    The output holds the input columns, then n, c, plan, model_used,
+    alpha_actual, beta_actual, full_inspection, units_per_year and error
+    (empty when the row was designed). A row that cannot be designed gets its
+    reason in error; the batch goes on.
+    """
+    from ..batch import SAFETY_NOTE, design_catalogue, progress_bar, read_catalogue, _rate
+    from ..files import check_writable, write_text
+
+    if out is None:
+        raise InputError("--out is required (for example --out plans.csv, or - for stdout)")
+    if out == "-" and as_json:
+        raise InputError("--out - (the plans on stdout) cannot be combined with --json")
+    rate = _rate(deliveries, "--deliveries-per-year") if deliveries is not None else None
+    if out != "-":
+        check_writable(out, force=force, option="--out")
+    df = read_catalogue(path, "CATALOGUE")
+    cb, close = progress_bar(len(df)) if len(df) >= 2000 else (None, lambda: None)
+    try:
+        res = design_catalogue(df, deliveries_per_year=rate, progress=cb)
+    finally:
+        close()
+    table = res.table
+    for col in ("units_per_year",):
+        vals = table[col]
+        if vals.notna().any() and (vals.dropna() % 1 == 0).all():
+            table[col] = vals.round().astype("Int64")
+    text = table.to_csv(index=False, lineterminator="\n")
+    if out == "-":
+        sys.stdout.write(text)
+    else:
+        write_text(out, text, force=force, option="--out")
+    errors = table["error"] != ""
+    lines = df["_line"].to_numpy()
+    failed = [{"line": int(lines[i]), "part": str(table["part"].iloc[i]),
+               "error": str(table["error"].iloc[i])} for i in errors.to_numpy().nonzero()[0]]
+    if as_json:
+        d = res.summary()
+        d.update({"out": out, "errors": failed, "dropped_columns": list(res.dropped_columns)})
+        common.emit_json(d)
+        return
+    say = (lambda s: print(s, file=sys.stderr)) if out == "-" else typer.echo
+    if res.dropped_columns:
+        say(f"  note: input column(s) {', '.join(res.dropped_columns)} replaced by the "
+            "batch's own")
+    say(f"Batch {path}: {res.rows} row(s), {res.designed} designed, {res.failed} not "
+        f"designed; {res.distinct} distinct design(s) computed")
+    load = f"  inspection load: {res.units_per_lot:,} units for one lot of every designed part"
+    say(load)
+    if res.units_per_year is not None:
+        extra = (f" ({res.rows_without_deliveries} designed row(s) without a delivery rate "
+                 "left out)") if res.rows_without_deliveries else ""
+        say(f"  per year: {res.units_per_year:,} units{extra}")
+    for f in failed[:10]:
+        say(f"  - line {f['line']} ({f['part']}): {f['error']}")
+    if len(failed) > 10:
+        say(f"  ... and {len(failed) - 10} more (see the error column)")
+    if out != "-":
+        say(f"  wrote {out}")
+    say(f"  {SAFETY_NOTE}")
