@@ -276,15 +276,19 @@ def accepted_tails(groups, observed: int):
 def resolve_plan_file(name: str, plans_dir) -> object:
     """The plan stored in the plan file ``name`` inside ``plans_dir``.
 
-    The name must stay inside the folder (no absolute paths or ``..``). For
-    now a plan file is read as plan notation (its first line that is neither
-    blank nor a ``#`` comment, e.g. ``n=80,c=2``).
+    The name must stay inside the folder (no absolute paths or ``..``). A
+    TOML plan file (see :mod:`lotwise.planfile`) is designed or audited as
+    ``lotwise sheet`` would; a file with several characteristics needs the
+    one meant after a ``#``: ``qp-1104-relief-spring.toml#M1``. Any other
+    file is read as plan notation (its first line that is neither blank nor a
+    ``#`` comment, e.g. ``n=80,c=2``).
 
     Raises :class:`InputError` saying why the plan cannot be had.
     """
     if plans_dir is None:
         raise InputError(f"plan_file ({name}) needs the plans folder: give --plans DIR")
     base = Path(plans_dir)
+    name, _, which = str(name).partition("#")
     rel = Path(name)
     if rel.is_absolute() or ".." in rel.parts:
         raise InputError(f"plan_file ({name}) must be a file name inside the plans folder "
@@ -297,6 +301,8 @@ def resolve_plan_file(name: str, plans_dir) -> object:
                 break
         else:
             raise InputError(f"plan_file ({name}) is not in the plans folder ({base})")
+    if path.suffix == ".toml":
+        return _plan_from_toml(path, name, which)
     try:
         text = path.read_text(encoding="utf-8")
     except (OSError, UnicodeDecodeError) as exc:
@@ -306,6 +312,27 @@ def resolve_plan_file(name: str, plans_dir) -> object:
         if s and not s.startswith("#"):
             return parse_plan(s, f"plan_file {name}")
     raise InputError(f"plan_file ({name}) holds no plan")
+
+
+def _plan_from_toml(path, name: str, which: str):
+    from .partplan import resolve
+    from .planfile import load
+    from .plans import SinglePlan
+
+    pp = resolve(load(path), verdict=False)
+    if pp.n is None:
+        raise InputError(f"plan_file ({name}) yields no plan: {pp.problem}")
+    ids = [r["characteristic"]["id"] for r in pp.reports]
+    if not which:
+        if len(ids) > 1:
+            raise InputError(f"plan_file ({name}) holds {len(ids)} characteristics "
+                             f"({', '.join(ids)}); name one, e.g. {name}#{ids[0]}")
+        which = ids[0]
+    if which not in ids:
+        raise InputError(f"plan_file ({name}#{which}): no characteristic {which!r}; it holds "
+                         + ", ".join(ids))
+    rep = pp.reports[ids.index(which)]
+    return SinglePlan(n=rep["n"], c=rep["c"])
 
 
 def expected_disposition(plan, lot_size: int, sample_size: int, found: int):

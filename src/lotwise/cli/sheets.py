@@ -197,4 +197,11 @@ def demo(
     typer.echo(f"\n  Sheets written to {out}/ (PDF, Markdown, OC plot and table, pick list).")
     if short:
         typer.echo("  Falls short on audit (as the scenario intends): " + ", ".join(short))
-    typer.echo("  Next: lotwise check plans/   re-verifies every plan file against its targets.")
+    ex = _project_root() / "examples"
+    typer.echo("  Next, on the same invented scenario:")
+    for cmd in ("lotwise check plans/                       # re-verify every plan file",
+                f"lotwise records {ex / 'lots.csv'} --plans plans/",
+                f"lotwise batch {ex / 'catalogue.csv'} --out {out}/catalogue-plans.csv",
+                f"lotwise judge --plan \"variables: n=42,k=1.901,upper=25.0\" {ex / 'shafts.csv'}",
+                "lotwise validate --out " + out):
+        typer.echo("    " + cmd)
