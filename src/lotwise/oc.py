@@ -262,7 +262,7 @@ def _lower_tail_sum(x, red, black, n):
     lo = np.maximum(0.0, n - black)
     active = np.flatnonzero(x > lo)
     done = 0
-    block = 16
+    block = int(min(16.0, max(1.0, float(np.max(x[active] - lo[active]))))) if active.size else 1
     while active.size:
         steps = np.arange(block, dtype=float)
         k = x[active, None] - done - steps[None, :]

@@ -199,8 +199,8 @@ def demo(
         typer.echo("  Falls short on audit (as the scenario intends): " + ", ".join(short))
     ex = _project_root() / "examples"
     typer.echo("  Next, on the same invented scenario:")
-    for cmd in ("lotwise check plans/                       # re-verify every plan file",
-                f"lotwise records {ex / 'lots.csv'} --plans plans/",
+    for cmd in (f"lotwise check {plans}   # re-verify every plan file",
+                f"lotwise records {ex / 'lots.csv'} --plans {plans}",
                 f"lotwise batch {ex / 'catalogue.csv'} --out {out}/catalogue-plans.csv",
                 f"lotwise judge --plan \"variables: n=42,k=1.901,upper=25.0\" {ex / 'shafts.csv'}",
                 "lotwise validate --out " + out):
