@@ -78,10 +78,10 @@ def test_an_altered_reference_value_fails_loudly():
 
 
 def test_cli_exits_1_when_a_value_is_altered(tmp_path, capsys, monkeypatch):
-    monkeypatch.setitem(validation.__dict__, "PROVIDERS", ["test_validation:_perturbed"])
+    monkeypatch.setitem(validation.__dict__, "PROVIDERS", [f"{__name__}:_perturbed"])
     code = main(["validate", "--out", str(tmp_path), "--json"])
     cap = capsys.readouterr()
-    assert code == 1
+    assert code == 1, cap.err
     d = json.loads(cap.out)
     assert d["verdict"] == "FAILED" and d["failed"] == 1
     assert "validation FAILED: zero-acceptance-c0-95-95" in cap.err

@@ -23,18 +23,45 @@ app = typer.Typer(
 )
 
 
-def _register() -> None:
-    # Imported for their side effect of adding commands to ``app``.
-    from . import (batch, draw, records, rectifying, sheets, single, validate,  # noqa: F401
-                   variables, zero)
+@app.callback()
+def _group() -> None:
+    """Design, audit and document acceptance sampling plans, computed exactly."""
+    # A callback keeps typer treating the app as a group of commands even when
+    # only the one command being run has been imported.
+
+
+#: Which module defines each command, in the order ``lotwise --help`` lists them.
+COMMANDS = {
+    "design": "single", "check": "single", "oc": "single",
+    "sheet": "sheets", "compare": "sheets", "demo": "sheets",
+    "draw": "draw", "zero": "zero", "demonstrate": "zero",
+    "judge": "variables",
+    "records": "records", "supplier": "records", "tradeoff": "records",
+    "batch": "batch", "validate": "validate",
+}
+
+
+def _register(args: list[str]) -> None:
+    """Import the command modules (each adds its commands to ``app``).
+
+    Only the module of the command being run is imported, which keeps the
+    start-up of ``design``, ``check`` and ``oc`` short; help and unknown
+    commands import them all.
+    """
+    import importlib
+
+    first = next((a for a in args if not a.startswith("-")), None)
+    wanted = [COMMANDS[first]] if first in COMMANDS else list(dict.fromkeys(COMMANDS.values()))
+    for mod in wanted:
+        importlib.import_module(f"{__name__}.{mod}")
 
 
 def main(argv: list[str] | None = None) -> int:
     """Run the CLI; returns (and exits with) the process exit code."""
     from ..quantities import InputError
 
-    _register()
     args = sys.argv[1:] if argv is None else list(argv)
+    _register(args)
     try:
         rv = app(args=args, prog_name="lotwise", standalone_mode=False)
         code = rv if isinstance(rv, int) else 0
