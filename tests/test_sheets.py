@@ -56,7 +56,7 @@ def test_sheet_numbers_equal_json(tmp_path, capsys, name):
         lot = ["--lot-size", str(req.scope.lot_size)] if req.scope.lot_size else []
         extra = ["--defects"] if req.scope.defects else []
         # The same characteristic through `check` with the sheet's plan.
-        c = re.search(rf"\| {re.escape(ch.id)} \| {ch.klass} \| (\d+) \|", md).group(1)
+        c = re.search(rf"\| {re.escape(ch.id)} \| {ch.klass} \| n = \d+ \| (\d+) \|", md).group(1)
         _, rep = cli_json(capsys, "check", "--n", str(n), "--c", c, *targets_args(t), *lot, *extra)
         if ch.c is None and not req.fixed:
             # and it is what `design --n` picks for that sample size
@@ -164,3 +164,24 @@ def test_demo_runs_fast_and_writes_six_sheets(tmp_path, capsys):
         assert str(p) in out or p.name in out
         assert len(PdfReader(str(p)).pages) == 1
     assert elapsed < 30
+
+
+def test_variables_characteristic_on_the_sheet(tmp_path, capsys):
+    # A measured characteristic designed as a variables plan sits beside an
+    # attributes characteristic; the sheet's numbers equal `check --json` of
+    # the same variables plan.
+    name = "qp-7730-drive-shaft"
+    assert main(["sheet", str(PLANS / f"{name}.toml"), "--out", str(tmp_path)]) == 0
+    capsys.readouterr()
+    text = pdf_text(tmp_path / f"{name}.pdf")
+    md = (tmp_path / f"{name}.md").read_text()
+    _, d = cli_json(capsys, "design", "--scheme", "variables", "--sigma", "unknown", "--upper",
+                    "25", "--aql", "1%", "--rql", "6%")
+    _, rep = cli_json(capsys, "check", "--plan", f"variables: n={d['n']},k={d['k']},upper=25",
+                      "--aql", "1%", "--rql", "6%")
+    for doc in (text, " ".join(md.split())):
+        assert f"n={d['n']}, k={d['k']:g}" in doc
+        assert f"{rep['pa_aql']:.4f}" in doc and f"{rep['pa_rql']:.4f}" in doc
+        assert f"n = {d['attributes']['n']}, c = {d['attributes']['c']}" in doc
+    # the attributes characteristic is judged on the same, larger sample
+    assert "| m1 | minor | n = 42 |" in md

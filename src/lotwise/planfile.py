@@ -45,6 +45,14 @@ Format
     alpha = "5%"                                 # default 5 %
     beta = "5%"                                  # default 10 %
     c = 0                                        # fixed acceptance number (optional)
+    # plan = "n1=50,c1=1,r1=4,n2=100,c2=3"       # or a given plan of any type (audited)
+    # scheme = "variables"                       # a measured characteristic: variables plan
+    # sigma = "unknown"                          #   known or unknown
+    # sigma_value = 0.02                         #   the known sigma
+    # upper = 25.00                              #   specification limit(s): upper, lower
+
+A characteristic with a ``plan`` or ``scheme = "variables"`` is judged on a
+plan of its own; the others share the part's common attributes sample.
 
 Examples
 --------
@@ -83,7 +91,9 @@ _TOP = {"rationale", "part", "lot", "sampling", "characteristic"}
 _PART = {"id", "description", "supplier", "drawing", "revision"}
 _LOT = {"size", "definition", "counts"}
 _SAMPLING = {"model", "n", "max_n", "cost_per_unit", "seed", "strata", "rejected_lot"}
-_CHAR = {"id", "description", "class", "aql", "rql", "alpha", "beta", "c"}
+_CHAR = {"id", "description", "class", "aql", "rql", "alpha", "beta", "c", "plan", "scheme",
+         "sigma", "sigma_value", "lower", "upper"}
+_VAR_KEYS = ("sigma", "sigma_value", "lower", "upper")
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -95,6 +105,15 @@ class Characteristic:
     klass: str
     targets: Targets
     c: int | None = None
+    plan: object | None = None
+    scheme: str = "single"
+    variables: dict = field(default_factory=dict)
+
+    @property
+    def own_sample(self) -> bool:
+        """Judged on a plan of its own (a given plan notation, or a variables
+        design) rather than on the part's common attributes sample."""
+        return self.plan is not None or self.scheme != "single"
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -124,7 +143,11 @@ class PlanRequest:
 
     @property
     def fixed(self) -> bool:
-        return self.n is not None and all(ch.c is not None for ch in self.characteristics)
+        """Every plan is given: the sheet audits instead of designing."""
+        common = [ch for ch in self.characteristics if not ch.own_sample]
+        own = [ch for ch in self.characteristics if ch.own_sample]
+        return (all(ch.plan is not None for ch in own)
+                and (not common or (self.n is not None and all(ch.c is not None for ch in common))))
 
     @property
     def stem(self) -> str:
@@ -270,9 +293,46 @@ def loads(text: str, path: str = "<plan>") -> PlanRequest:
             c = v
             if n is not None and c > n:
                 raise InputError(f"{path}: {w}c ({c}) must not be greater than sampling.n ({n})")
+        plan = None
+        if "plan" in ch:
+            from .plans import parse_plan
+
+            plan = parse_plan(_text(ch, "plan", w, path, required=True), f"{path}: {w}plan")
+            if c is not None:
+                raise InputError(f"{path}: {w}c ({c}) cannot be combined with {w}plan; the plan "
+                                 "notation holds the acceptance numbers")
+        scheme = ch.get("scheme", "single")
+        if scheme not in ("single", "variables"):
+            raise InputError(f"{path}: {w}scheme ({scheme!r}) must be 'single' or 'variables'")
+        var = {}
+        for key in _VAR_KEYS:
+            if key in ch:
+                if scheme != "variables":
+                    raise InputError(f"{path}: {w}{key} needs {w}scheme = \"variables\"")
+                v = ch[key]
+                if key == "sigma":
+                    if v not in ("known", "unknown"):
+                        raise InputError(f"{path}: {w}sigma ({v!r}) must be 'known' or 'unknown'")
+                elif isinstance(v, bool) or not isinstance(v, (int, float)):
+                    raise InputError(f"{path}: {w}{key} ({v!r}) must be a number")
+                var[key] = v
+        if scheme == "variables":
+            if defects:
+                raise InputError(f"{path}: {w}scheme (variables) does not apply to "
+                                 "nonconformities per unit")
+            if "lower" not in var and "upper" not in var:
+                raise InputError(f"{path}: {w}scheme (variables) needs {w}upper and/or "
+                                 f"{w}lower (specification limits)")
+            var.setdefault("sigma", "known" if "sigma_value" in var else "unknown")
+            if var["sigma"] == "known" and "sigma_value" not in var:
+                raise InputError(f"{path}: {w}sigma (known) needs {w}sigma_value")
+            if c is not None or plan is not None:
+                raise InputError(f"{path}: {w}scheme (variables) cannot be combined with "
+                                 f"{w}c or {w}plan")
         chars.append(Characteristic(id=cid, description=_text(ch, "description", w, path),
                                     klass=klass, targets=Targets(aql=aql, rql=rql, alpha=alpha,
-                                                                 beta=beta), c=c))
+                                                                 beta=beta), c=c, plan=plan,
+                                    scheme=scheme, variables=var))
     return PlanRequest(
         path=str(path), part_id=part_id, part_description=_text(part, "description", "part.", path),
         supplier=_text(part, "supplier", "part.", path),

@@ -106,8 +106,10 @@ def oc_figure(items, *, models=None, aql=None, rql=None, alpha=None, beta=None,
     fig, ax = new_axes(ax)
     plan0, scope0 = items[0]
     per_unit = scope0.defects
-    models = tuple(models or scope0.models)
-    exact = scope0.exact_model
+    exact = getattr(plan0, "exact_model", None) or scope0.exact_model
+    models = tuple(models or getattr(plan0, "models", None) or scope0.models)
+    if plan0.scheme != "single":
+        models = (exact,)
     if max_p is None:
         from .audit import quality_at
 
@@ -123,8 +125,7 @@ def oc_figure(items, *, models=None, aql=None, rql=None, alpha=None, beta=None,
         if m not in models:
             continue
         if m == exact:
-            own = getattr(plan0, "exact_model", None) or m
-            style, name = STYLE["exact"], f"{labels[0]}: {own} (exact)"
+            style, name = STYLE["exact"], f"{labels[0]}: {m} (exact)"
         else:
             style, name = STYLE.get(m, STYLE["poisson"]), f"{labels[0]}: {m}"
         ax.plot(ps, plan0.pa(ps, m, scope0), label=name, **style)

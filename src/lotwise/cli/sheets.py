@@ -39,12 +39,13 @@ def check_folder(paths, as_json: bool) -> int:
             r = rep["models"][rep["model"]]
             t = rep["targets"]
             rows.append([Path(req.path).name, req.part_id, ch["id"], ch["class"],
-                         f"n={rep['n']}, c={rep['c']}",
+                         rep["label"] if rep.get("own_sample") else f"n={rep['n']}, c={rep['c']}",
                          f"{format_pct(r['alpha'])} / {format_pct(t['alpha'])}",
                          f"{format_pct(r['beta'])} / {format_pct(t['beta'])}",
                          "meets" if r["meets"] else "FALLS SHORT"])
             items.append({"file": req.path, "part": req.part_id, "characteristic": ch["id"],
-                          "class": ch["class"], "n": rep["n"], "c": rep["c"],
+                          "class": ch["class"], "n": rep["n"], "c": rep.get("c"),
+                          "scheme": rep["scheme"], "plan": rep.get("plan"),
                           "model": rep["model"], "alpha": r["alpha"], "beta": r["beta"],
                           "targets": t, "meets": r["meets"],
                           "designed": pp.designed})
@@ -87,7 +88,8 @@ def sheet(
 def _summary(results):
     rows = []
     for pp, paths in results:
-        cs = ", ".join(f"{r['characteristic']['id']}:c={r['c']}" for r in pp.reports) or "-"
+        cs = ", ".join(f"{r['characteristic']['id']}:" + (f"c={r['c']}" if "c" in r else
+                                                         r["label"]) for r in pp.reports) or "-"
         rows.append([pp.request.part_id, "-" if pp.n is None else str(pp.n), cs, pp.model or "-",
                      "meets" if pp.meets else ("NO PLAN" if pp.n is None else "FALLS SHORT"),
                      str(paths.get("pdf", ""))])
@@ -116,13 +118,9 @@ def compare(
     from ..quantities import format_level, format_pct
     entries = []  # (label, plan, targets, scope, model)
     for pp in _resolve_files(files or []):
-        for rep in pp.reports:
-            from ..plans import SinglePlan
-
-            t = rep["targets"]
-            entries.append((f"{pp.request.part_id}/{rep['characteristic']['id']}",
-                            SinglePlan(n=rep["n"], c=rep["c"]),
-                            Targets(**t), pp.request.scope, pp.request.model))
+        for rep, p in zip(pp.reports, pp.plans):
+            entries.append((f"{pp.request.part_id}/{rep['characteristic']['id']}", p,
+                            Targets(**rep["targets"]), pp.request.scope, pp.request.model))
     if plan:
         a, r = common.levels(aql, rql, defects)
         al, be = common.risks(alpha, beta)

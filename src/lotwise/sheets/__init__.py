@@ -78,7 +78,8 @@ class SheetContent:
     picks: list = field(default_factory=list)
 
 
-PLAN_HEADER = ["Characteristic", "Class", "Accept (c)", "Reject (r)", "AQL / alpha", "RQL / beta"]
+PLAN_HEADER = ["Characteristic", "Class", "Sample", "Accept (c)", "Reject (r)", "AQL / alpha",
+               "RQL / beta"]
 RISK_HEADER = ["Char.", "Model", "Pa(AQL)", "alpha", "target", "Pa(RQL)", "beta", "target",
                "Verdict"]
 
@@ -115,9 +116,17 @@ def build_content(pp, *, picks=None, today: _dt.date | None = None) -> SheetCont
     for rep in pp.reports:
         ch = rep["characteristic"]
         t = rep["targets"]
-        plan_rows.append([ch["id"], ch["class"], str(rep["c"]), str(rep["r"]),
-                          f"{_lvl(t['aql'], per_unit)} / {format_pct(t['alpha'])}",
-                          f"{_lvl(t['rql'], per_unit)} / {format_pct(t['beta'])}"])
+        own = rep.get("own_sample", False)
+        levels = [f"{_lvl(t['aql'], per_unit)} / {format_pct(t['alpha'])}",
+                  f"{_lvl(t['rql'], per_unit)} / {format_pct(t['beta'])}"]
+        if own:
+            k = rep["plan"].get("k")
+            rule = f"statistic >= k = {k:g}" if k is not None else "see the plan above"
+            plan_rows.append([ch["id"], ch["class"], f"n = {rep['n']}" if rep["n"] else "varies",
+                              rule, "otherwise", *levels])
+        else:
+            plan_rows.append([ch["id"], ch["class"], f"n = {rep['n']}", str(rep["c"]),
+                              str(rep["r"]), *levels])
         for m, r in rep["models"].items():
             star = "*" if m == rep["model"] else ""
             risk_rows.append([ch["id"], m + star, fmt_pa(r["pa_aql"]), format_pct(r["alpha"]),
@@ -125,8 +134,9 @@ def build_content(pp, *, picks=None, today: _dt.date | None = None) -> SheetCont
                               format_pct(t["beta"]), "meets" if r["meets"] else "SHORT"])
         q = rep["plan_quality"]
         unit = "" if per_unit else " nonconforming"
+        name = _plan_name(rep)
         guar.append(
-            f"{ch['id']} (n = {rep['n']}, c = {rep['c']}): accepts lots at "
+            f"{ch['id']} ({name}): accepts lots at "
             f"{_lvl(q['producer'], per_unit)}{unit} {format_pct(1 - t['alpha'])} of the time (the "
             f"AQL it really protects), at {_lvl(q['indifference'], per_unit)} half the time, and at "
             f"{_lvl(q['consumer'], per_unit)} {format_pct(t['beta'])} of the time (the RQL it "
@@ -146,13 +156,29 @@ def build_content(pp, *, picks=None, today: _dt.date | None = None) -> SheetCont
                      "is accepted.")
         if pp.reports and pp.reports[0].get("full_inspection"):
             plan_line += " The sample is the whole lot: 100 % inspection."
+        owns = [r for r in pp.reports if r.get("own_sample")]
+        if owns:
+            plan_line = plan_line.replace("For each characteristic", "For each attributes "
+                                          "characteristic") if len(owns) < len(pp.reports) else (
+                f"Inspect each lot with the plan of each characteristic (largest sample "
+                f"{pp.n} units, drawn at random; a smaller sample is the first units of the "
+                "pick list). A lot is accepted only if every characteristic is accepted.")
+            for r in owns:
+                extra = ""
+                if r.get("attributes"):
+                    extra = (f" (an attributes plan for the same two points needs "
+                             f"n = {r['attributes']['n']}, c = {r['attributes']['c']})")
+                plan_line += f" {r['characteristic']['id']}: {r['label']}{extra}."
+                if r["n"] is not None and pp.n is not None and r["n"] < pp.n:
+                    plan_line += (f" Judge it on {r['n']} of the sampled units chosen at random "
+                                  "(for example with lotwise draw from the sample).")
     else:
         plan_line = "No plan meets these targets: " + pp.problem
     model = pp.model or (scope.exact_model)
     note = f"Model judged by: {_MODEL_TEXT.get(model, model)} (marked *)."
-    if scope.lot_size and pp.reports and "lot_counts" in pp.reports[0]:
+    if scope.lot_size and any("lot_counts" in r for r in pp.reports):
         parts = []
-        for rep in pp.reports:
+        for rep in (r for r in pp.reports if "lot_counts" in r):
             lc = rep["lot_counts"]
             parts.append(f"{rep['characteristic']['id']}: AQL -> {lc['aql']}, RQL -> {lc['rql']}")
         note += (" Lot counts of nonconforming items, rounded up at the AQL and down at the RQL "
@@ -188,50 +214,66 @@ def build_content(pp, *, picks=None, today: _dt.date | None = None) -> SheetCont
 
 
 def oc_rows(pp, points: int = 41):
-    """OC table (header, rows) for every characteristic's plan under every model."""
+    """OC table (header, rows) for every characteristic's plan under every model
+    that applies to it (a plan of another type under its own model)."""
     import numpy as np
 
     from ..audit import oc_grid, quality_at
-    from ..plans import SinglePlan
 
     scope = pp.request.scope
     top = 0.0
-    for rep in pp.reports:
-        plan = SinglePlan(n=rep["n"], c=rep["c"])
-        top = max(top, 1.25 * rep["targets"]["rql"],
-                  quality_at(plan, 0.01, scope.exact_model, scope, "consumer"))
+    for rep, plan in zip(pp.reports, pp.plans):
+        if plan.scheme == "single":
+            q = quality_at(plan, 0.01, scope.exact_model, scope, "consumer")
+        else:
+            q = 1.25 * rep["plan_quality"]["consumer"]
+        top = max(top, 1.25 * rep["targets"]["rql"], q)
     if not scope.defects:
         top = min(top, 1.0)
     ps = np.linspace(0.0, top, points)
     header = ["p"]
     cols = []
-    for rep in pp.reports:
-        plan = SinglePlan(n=rep["n"], c=rep["c"])
-        g = oc_grid(plan, scope, scope.models, ps)
-        for m in scope.models:
-            header.append(f"{rep['characteristic']['id']}_{m}")
-            cols.append(g[m])
-    if "hypergeometric" in scope.models:
+    lot_count = None
+    for rep, plan in zip(pp.reports, pp.plans):
+        if plan.scheme == "single":
+            g = oc_grid(plan, scope, scope.models, ps)
+            for m in scope.models:
+                header.append(f"{rep['characteristic']['id']}_{m}")
+                cols.append(g[m])
+            lot_count = g.get("lot_count", lot_count)
+        else:
+            header.append(f"{rep['characteristic']['id']}_{rep['model']}")
+            cols.append(np.asarray(plan.pa(ps, rep["model"], scope), dtype=float))
+    if lot_count is not None:
         header.append("lot_count")
-        cols.append(g["lot_count"])
+        cols.append(lot_count)
     rows = [[float(ps[i])] + [c[i] for c in cols] for i in range(len(ps))]
     return header, rows
+
+
+def _plan_name(rep) -> str:
+    """Short plan name for legends and sentences."""
+    if not rep.get("own_sample"):
+        return f"n={rep['n']}, c={rep['c']}"
+    plan = rep["plan"]
+    if plan.get("scheme") == "variables" and plan.get("k") is not None:
+        return f"variables n={plan['n']}, k={plan['k']:g}"
+    return rep["label"]
 
 
 def oc_plot(pp, ax=None):
     """The sheet's OC figure: each characteristic's exact curve and the first's
     Poisson curve, with AQL and RQL points marked."""
-    from ..plans import SinglePlan
     from ..plots import oc_figure
 
     scope = pp.request.scope
-    items = [(SinglePlan(n=r["n"], c=r["c"]), scope) for r in pp.reports]
-    labels = [f"{r['characteristic']['id']} (n={r['n']}, c={r['c']})" for r in pp.reports]
+    items = [(plan, scope) for plan in pp.plans]
+    labels = [f"{r['characteristic']['id']} ({_plan_name(r)})" for r in pp.reports]
     first = pp.reports[0]["targets"]
     top = max(1.25 * r["targets"]["rql"] for r in pp.reports)
-    fig = oc_figure(items, aql=first["aql"], rql=first["rql"], labels=labels, ax=ax,
-                    max_p=None if len(items) == 1 else top)
-    return fig
+    models = None if pp.plans[0].scheme == "single" else [pp.reports[0]["model"]]
+    return oc_figure(items, models=models, aql=first["aql"], rql=first["rql"], labels=labels,
+                     ax=ax, max_p=None if len(items) == 1 else top)
 
 
 def _csv_value(v) -> str:

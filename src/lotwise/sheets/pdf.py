@@ -100,7 +100,7 @@ def _layout(content, pp, scale: float):
     pg.heading("Plan")
     pg.text(c.plan_line, size=8.0, weight="bold")
     if c.plan_rows:
-        pg.table(PLAN_HEADER, c.plan_rows, [1.3, 0.9, 0.9, 0.9, 1.7, 1.7])
+        pg.table(PLAN_HEADER, c.plan_rows, [1.0, 0.7, 0.85, 1.4, 0.8, 1.35, 1.35])
     if c.risk_rows:
         pg.heading("Targets against achieved risks (every applicable model)")
         pg.table(RISK_HEADER, c.risk_rows, [0.75, 1.25, 0.7, 0.65, 0.65, 0.7, 0.65, 0.65, 0.7],
