@@ -173,6 +173,8 @@ def quality_at(plan: SinglePlan, prob: float, model: str, scope: Scope,
     # smallest D with Pa(D) <= prob
     if pa(0) <= prob:
         return 0.0
+    if pa(N) > prob + _TOL:
+        return 1.0
     while hi - lo > 1:
         mid = (lo + hi) // 2
         if pa(mid) <= prob + _TOL:

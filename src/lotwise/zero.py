@@ -66,42 +66,11 @@ _TOL = 1e-12
 
 
 def quality_level(plan, prob: float, model: str, scope: Scope, side: str = "consumer") -> float:
-    """Quality level where ``Pa`` of any plan equals ``prob`` under ``model``.
-
-    :func:`lotwise.audit.quality_at` for single plans and continuous models;
-    for other plans under the hypergeometric model a bisection on whole
-    counts with ``plan.pa_count`` (``Pa`` falls in ``D``): ``side='producer'``
-    gives the largest ``D/N`` with ``Pa >= prob``, any other side the
-    smallest ``D/N`` with ``Pa <= prob``.
-    """
+    """Quality level where ``Pa`` of any plan equals ``prob`` under ``model``:
+    :func:`lotwise.audit.quality_at` (kept under this name for callers)."""
     from .audit import quality_at
 
-    if model != "hypergeometric" or isinstance(plan, SinglePlan):
-        return quality_at(plan, prob, model, scope, side)
-    N = int(scope.lot_size)
-    pa = lambda d: float(plan.pa_count(d, scope))  # noqa: E731
-    lo, hi = 0, N
-    if side == "producer":
-        if pa(N) >= prob - _TOL:
-            return 1.0
-        while hi - lo > 1:
-            mid = (lo + hi) // 2
-            if pa(mid) >= prob - _TOL:
-                lo = mid
-            else:
-                hi = mid
-        return lo / N
-    if pa(0) <= prob + _TOL:
-        return 0.0
-    if pa(N) > prob + _TOL:
-        return 1.0
-    while hi - lo > 1:
-        mid = (lo + hi) // 2
-        if pa(mid) <= prob + _TOL:
-            hi = mid
-        else:
-            lo = mid
-    return hi / N
+    return quality_at(plan, prob, model, scope, side)
 
 
 def _pa(plan, level, model, scope, rounding):
