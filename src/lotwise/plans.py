@@ -178,10 +178,16 @@ def _split_notation(text: str, option: str) -> dict[str, str]:
 #: (see :data:`KEYS_HINT`).
 NOTATIONS: dict[str, str] = {
     "single": "lotwise.plans:_parse_single",
+    "double": "lotwise.multistage:_parse_double",
+    "multiple": "lotwise.multistage:_parse_multiple",
+    "sequential": "lotwise.sequential:_parse_sequential",
 }
 
 #: Keys that identify a notation written without a prefix: ``key -> kind``.
-KEYS_HINT: dict[str, str] = {}
+KEYS_HINT: dict[str, str] = {
+    "n1": "double",
+    "h1": "sequential",
+}
 
 
 def _parse_single(pairs: dict, text: str, option: str) -> SinglePlan:

@@ -26,6 +26,7 @@ app = typer.Typer(
 def _register() -> None:
     # Imported for their side effect of adding commands to ``app``.
     from . import single  # noqa: F401
+    from . import multistage  # noqa: F401
 
 
 def main(argv: list[str] | None = None) -> int:

@@ -45,10 +45,22 @@ def design(
     lot: Optional[str] = common.LOT,
     model: Optional[str] = common.MODEL,
     defects: bool = common.DEFECTS,
-    scheme: str = typer.Option("single", "--scheme", help="Plan family: single."),
+    scheme: str = typer.Option("single", "--scheme",
+                               help="Plan family: single, double, sequential or compare-all "
+                                    "(the three side by side)."),
     c: Optional[str] = typer.Option(None, "--c", help="Fix the acceptance number (0 for accept-on-zero)."),
     n: Optional[str] = typer.Option(None, "--n", help="Fix the sample size and find c."),
     max_n: Optional[str] = typer.Option(None, "--max-n", help="Largest affordable sample."),
+    ratio: Optional[str] = typer.Option(None, "--ratio", help="double: n2 / n1 (default 2)."),
+    minimize: Optional[str] = typer.Option(None, "--minimize",
+                                           help="double: asn-aql (default) or asn-max."),
+    truncate: Optional[str] = typer.Option(None, "--truncate",
+                                           help="sequential: most units to inspect "
+                                                "(default 3 x the single plan's n)."),
+    plot: Optional[str] = typer.Option(None, "--plot",
+                                       help="double, sequential, compare-all: draw the chart "
+                                            "to PATH.png, .svg or .pdf."),
+    force: bool = typer.Option(False, "--force", help="Overwrite files not written by lotwise."),
     as_json: bool = common.JSON,
 ):
     """Design the plan with the smallest sample meeting both risks."""
@@ -56,7 +68,17 @@ def design(
     from ..report import render_single, single_report
 
     if scheme != "single":
-        raise InputError(f"--scheme ({scheme}) must be one of: single")
+        from .multistage import design_other
+
+        return design_other(scheme=scheme, aql=aql, rql=rql, alpha=alpha, beta=beta, lot=lot,
+                            model=model, defects=defects, n=n, c=c, max_n=max_n, ratio=ratio,
+                            minimize=minimize, truncate=truncate, plot=plot, force=force,
+                            as_json=as_json)
+    for opt, val in (("--ratio", ratio), ("--minimize", minimize), ("--truncate", truncate),
+                     ("--plot", plot)):
+        if val is not None:
+            raise InputError(f"{opt} ({val}) applies to --scheme double, sequential or "
+                             "compare-all, not single")
     a, r = common.levels(aql, rql, defects)
     al, be = common.risks(alpha, beta)
     scope, mdl = _scope_and_model(lot, defects, model)
@@ -100,6 +122,11 @@ def check(
     from ..report import render_single, single_report
 
     p = _plan_from(plan, n, c)
+    if p.scheme != "single":
+        from .multistage import check_other
+
+        return check_other(p, aql=aql, rql=rql, alpha=alpha, beta=beta, lot=lot, model=model,
+                           defects=defects, as_json=as_json)
     a, r = common.levels(aql, rql, defects)
     al, be = common.risks(alpha, beta)
     scope, mdl = _scope_and_model(lot, defects, model)
@@ -183,6 +210,12 @@ def oc_table(
     from ..audit import oc_grid
 
     p = _plan_from(plan, n, c)
+    if p.scheme != "single":
+        from .multistage import oc_other
+
+        return oc_other(p, lot=lot, model=model, defects=defects, max_p=max_p, points=points,
+                        at=at, aql=aql, rql=rql, csv=csv, plot=plot, force=force,
+                        as_json=as_json)
     scope, mdl = _scope_and_model(lot, defects, model)
     if scope.lot_size is not None and p.n > scope.lot_size:
         raise InputError(f"--n ({p.n}) must not be greater than --lot-size ({scope.lot_size})")
