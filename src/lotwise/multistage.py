@@ -38,8 +38,8 @@ as the decision is certain. It is computed exactly by a dynamic program over
 (units inspected, count found), unit by unit, with these stopping rules
 inside stage ``i`` after ``m`` units (``m_i`` the stage's last unit):
 
-* reject once the count reaches ``r_i`` (or exceeds every acceptance
-  number still to come): the count can only grow;
+* reject once the count reaches ``r_i``: the count can only grow (and
+  since ``r_i <= a_k + 1`` no other count is certain to be rejected);
 * accept once ``count + (m_i - m) <= a_i``: even if every remaining unit of
   the stage were nonconforming the stage would accept. Under the Poisson
   model a unit may carry several nonconformities, so acceptance is never
@@ -290,8 +290,8 @@ def unit_walk(acc, rej, model, x, N=None, *, lot_size=None) -> WalkResult:
 
     After the ``m``-th unit (``m = 1 .. M``) the lot is accepted if the
     count found is at most ``acc[m]`` and rejected if it is at least
-    ``rej[m]`` (index 0 unused). At ``m = M`` every lot must be decided
-    (``rej[M] = acc[M] + 1``). The dynamic program carries the probability
+    ``rej[m]`` (index 0 unused); where both apply the rejection wins. At
+    ``m = M`` every lot must be decided (``rej[M] <= acc[M] + 1``). The dynamic program carries the probability
     of each count among undecided lots, unit by unit; only the band of
     counts between the two numbers is stored, so the cost is ``M`` times the
     band width times the number of quality levels.
@@ -311,7 +311,7 @@ def unit_walk(acc, rej, model, x, N=None, *, lot_size=None) -> WalkResult:
     M = len(acc) - 1
     if M < 1:
         raise ValueError("unit_walk needs at least one unit")
-    if rej[M] != acc[M] + 1:
+    if rej[M] > acc[M] + 1:
         raise ValueError("the last unit must decide every lot")
     finite = rej[1:][rej[1:] < _BIG]
     R = int(finite.max())
@@ -505,12 +505,14 @@ class _Staged:
         start = 0
         for i, (n, a, r) in enumerate(zip(self.sizes, self.acc, self.rej)):
             end = start + n
+            if n == 0:  # an empty stage (n2 = 0) decides with the stage before
+                accn[end] = max(accn[end], a)
+                rejn[end] = min(rejn[end], r)
+                continue
             curtail = stages == "all" or i == self.k - 1
-            future_a = max(self.acc[i:])
-            r_eff = min(r, future_a + 1)
             for m in range(start + 1, end + 1):
                 if curtail:
-                    rejn[m] = r_eff
+                    rejn[m] = r
                     if early_accept:
                         accn[m] = a - (end - m) if a >= 0 else -1
                 if m == end:
@@ -585,7 +587,6 @@ class _Staged:
                                         f"not have exceeded {found}, which is within its "
                                         f"acceptance number {self.acc[j]}: the lot was "
                                         "accepted there"))
-        future_a = max(self.acc[stage:])
         if inspected == end:
             if a >= 0 and found <= a:
                 return Decision(action="accept", inspected=inspected, found=found,
@@ -610,12 +611,8 @@ class _Staged:
                                    f"{a if a >= 0 else '(none)'} and the rejection number {r}; "
                                    f"take stage {nxt + 1} ({self.sizes[nxt]} units)")
         # Inside a stage: the decision waits for the stage's end unless it is certain.
-        r_eff = min(r, future_a + 1)
-        if found >= r_eff:
-            why = (f"{found} has reached the rejection number {r} of stage {stage + 1}"
-                   if found >= r else
-                   f"{found} already exceeds every acceptance number still to come "
-                   f"(largest {future_a})")
+        if found >= r:
+            why = f"{found} has reached the rejection number {r} of stage {stage + 1}"
             return Decision(action="reject", inspected=inspected, found=found, stage=stage + 1,
                             next_decision_at=end, more_to_next=end - inspected, more_at_most=0,
                             accept_number=an, reject_number=r, certain_early=True,
@@ -948,6 +945,8 @@ def _parse_staged(pairs: dict, text: str, option: str):
             raise InputError(f"{option} r2 ({rs[1]}) must be c2 + 1 ({cs[1] + 1}): the second "
                              "sample decides")
         return DoublePlan(n1=ns[0], c1=cs[0], r1=rs[0], n2=ns[1], c2=cs[1])
+    if rs is None:
+        rs = [None] * k
     if any(v is None for v in rs[:-1]):
         i = next(j for j, v in enumerate(rs[:-1]) if v is None)
         raise InputError(f"{option} ({text!r}) lacks r{i + 1}, the rejection number of stage "

@@ -246,6 +246,15 @@ def _wald(plan, targets, scope: Scope) -> dict:
             "asn_rql": float(plan.wald_asn(targets.rql, per_unit))}
 
 
+def _pct_vs(x: float, target: float) -> str:
+    """``format_pct(x)``, with more digits when rounding would make a risk
+    that misses its target look equal to it."""
+    a = format_pct(x)
+    if a == format_pct(target) and abs(x - target) > _TOL:
+        return format_pct(x, 6)
+    return a
+
+
 def _statements(rep: dict, plan, scope: Scope) -> list[str]:
     t, m = rep["targets"], rep["models"][rep["model"]]
     per_unit = scope.defects
@@ -257,10 +266,10 @@ def _statements(rep: dict, plan, scope: Scope) -> list[str]:
     a = rep["asn"]
     out = [
         f"Accepts {lots} {lvl(t['aql'])} (the AQL) {format_pct(m['pa_aql'])} of the time: "
-        f"producer's risk {format_pct(m['alpha'])} against a target of "
+        f"producer's risk {_pct_vs(m['alpha'], t['alpha'])} against a target of "
         f"{format_pct(t['alpha'])}, {ok(m['meets_alpha'])}.",
         f"Accepts {lots} {lvl(t['rql'])} (the RQL) {format_pct(m['pa_rql'])} of the time: "
-        f"consumer's risk {format_pct(m['beta'])} against a target of "
+        f"consumer's risk {_pct_vs(m['beta'], t['beta'])} against a target of "
         f"{format_pct(t['beta'])}, {ok(m['meets_beta'])}.",
         f"The AQL it really protects: {lots} {lvl(q['producer'])} are accepted "
         f"{format_pct(1 - t['alpha'])} of the time; indifference quality "
@@ -349,8 +358,8 @@ def render_plan(rep: dict, title: str) -> str:
         mark = " *" if m == rep["model"] else ""
         short = [] if r["meets"] else [w for w, ok in (("alpha", r["meets_alpha"]),
                                                         ("beta", r["meets_beta"])) if not ok]
-        rows.append([m + mark, f"{r['pa_aql']:.5f}", format_pct(r["alpha"]),
-                     f"{r['pa_rql']:.5f}", format_pct(r["beta"]), f"{r['asn_aql']:.1f}",
+        rows.append([m + mark, f"{r['pa_aql']:.5f}", _pct_vs(r["alpha"], t["alpha"]),
+                     f"{r['pa_rql']:.5f}", _pct_vs(r["beta"], t["beta"]), f"{r['asn_aql']:.1f}",
                      f"{r['asn_rql']:.1f}",
                      "yes" if r["meets"] else "NO (" + ", ".join(short) + ")"])
     if "wald" in rep:

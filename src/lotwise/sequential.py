@@ -462,35 +462,3 @@ def _parse_sequential(pairs: dict, text: str, option: str) -> SequentialPlan:
     h1, h2, s = sprt_lines(p1, al, p2, be)
     return SequentialPlan(h1=h1, h2=h2, s=s, truncate=t)
 
-
-def simulate_sprt(p: float, h1: float, h2: float, s: float, runs: int, seed: int,
-                  max_units: int = 1_000_000):
-    """Seeded simulation of the untruncated SPRT for 0/1 items (for tests).
-
-    Returns ``(fraction accepted, mean units inspected)``. Unit outcomes are
-    drawn in blocks; a run stops at the first crossing of a line.
-    """
-    rng = np.random.default_rng(seed)
-    accepted = 0
-    total = 0
-    block = 256
-    for _ in range(runs):
-        d = 0
-        n = 0
-        decided = False
-        while not decided and n < max_units:
-            xs = rng.random(block) < p
-            cum = d + np.cumsum(xs)
-            ns = n + np.arange(1, block + 1)
-            acc = cum <= s * ns - h1 + _EPS
-            rej = cum >= s * ns + h2 - _EPS
-            hit = np.flatnonzero(acc | rej)
-            if hit.size:
-                i = int(hit[0])
-                total += int(ns[i])
-                accepted += int(acc[i])
-                decided = True
-            else:
-                d = int(cum[-1])
-                n = int(ns[-1])
-    return accepted / runs, total / runs

@@ -12,7 +12,7 @@ from typing import List, Optional
 import typer
 
 from . import app, common
-from ..quantities import InputError, Infeasible, parse_count, parse_fraction, parse_level
+from ..quantities import InputError, Infeasible, parse_count, parse_level
 
 SCHEMES = ("single", "double", "sequential", "compare-all")
 
@@ -39,7 +39,10 @@ def _not_for(scheme, **given):
 def _ratio(text) -> float:
     if text is None:
         return 2.0
-    v = parse_fraction(text, "--ratio")
+    try:
+        v = float(str(text).strip())
+    except ValueError:
+        v = float("nan")
     if not 0.1 <= v <= 10:
         raise InputError(f"--ratio ({text}) must be a number from 0.1 to 10 (n2 / n1)")
     return v
