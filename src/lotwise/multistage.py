@@ -316,70 +316,98 @@ def unit_walk(acc, rej, model, x, N=None, *, lot_size=None) -> WalkResult:
     finite = rej[1:][rej[1:] < _BIG]
     R = int(finite.max())
     lot = lot_size if lot_size is not None else N
-    band = np.ones((P, 1))
-    lo = 0
-    over = np.zeros(P)  # counts >= R: never acceptable, still being inspected
-    pa = np.zeros(P)
-    asn = np.zeros(P)
-    acc_units = np.zeros(P)
-    left = np.zeros(P) if lot is not None else None
-    xc = x[:, None]
-    if model == "poisson":
-        jmax = R + 1
-        pois = _pois_pmf(np.arange(jmax + 1, dtype=float)[None, :], xc)
-    elif model == "binomial":
-        pnc = np.clip(xc, 0.0, 1.0)
-    elif model != "hypergeometric":
+    if model not in oc.MODELS:
         raise InputError(f"model ({model}) must be one of: {', '.join(oc.MODELS)}")
+    # S[d] (one row per count, one column per quality level) is the
+    # probability that the lot is undecided with count d; only rows lo..hi
+    # are non-zero and hi <= R - 1 (counts >= R can never be accepted: they
+    # are rejected, or carried in ``over`` until the next unit that has a
+    # rejection number). The probabilities of stopping at each unit are
+    # written to ``acc_at`` and ``rej_at`` and reduced at the end.
+    S = np.zeros((R + 1, P))
+    S[0] = 1.0
+    lo = hi = 0
+    over = np.zeros(P)
+    has_over = False
+    acc_at = np.zeros((M + 1, P))
+    rej_at = np.zeros((M + 1, P))
+    left = np.zeros(P) if lot is not None else None
+    xr = x[None, :]
+    if model == "poisson":
+        pois = _pois_pmf(np.arange(R + 2, dtype=float)[:, None], xr)
+    elif model == "binomial":
+        pnc = np.clip(xr, 0.0, 1.0)
+        qnc = 1.0 - pnc
+    accl = acc.tolist()
+    rejl = rej.tolist()
+    last = M
     for m in range(1, M + 1):
-        alive = band.sum(axis=1) + over
-        asn += alive
-        w = band.shape[1]
-        r = int(rej[m])
-        top = min(r, R) - 1  # highest count kept in the band after this unit
-        keep = max(0, top - lo + 1)
-        if model == "poisson":
-            new = np.zeros((P, keep))
-            for u in range(min(w, keep)):
-                width = keep - u
-                new[:, u:] += band[:, u:u + 1] * pois[:, :width]
-            beyond = np.maximum(band.sum(axis=1) - new.sum(axis=1), 0.0)
-        else:
-            if model == "binomial":
-                q = pnc
+        r = rejl[m]
+        top = (r if r < R else R) - 1  # highest count still undecided or acceptable
+        beyond = None
+        if lo <= hi:
+            if model == "poisson":
+                width = top - lo + 1
+                band = S[lo:hi + 1].copy()
+                mass = band.sum(axis=0)
+                S[lo:hi + 1] = 0.0
+                if width > 0:
+                    new = np.zeros((width, P))
+                    for u in range(min(band.shape[0], width)):
+                        new[u:] += band[u:u + 1] * pois[:width - u]
+                    S[lo:top + 1] = new
+                    beyond = np.maximum(mass - new.sum(axis=0), 0.0)
+                    hi = top
+                else:
+                    beyond = mass
+                    hi = lo - 1
             else:
-                d = lo + np.arange(w, dtype=float)[None, :]
-                q = np.clip((xc - d) / (N - (m - 1)), 0.0, 1.0)
-            new = np.zeros((P, w + 1))
-            new[:, :w] = band * (1.0 - q)
-            new[:, 1:] += band * q
-            if keep < w + 1:
-                beyond = new[:, keep:].sum(axis=1)
-                new = new[:, :keep]
-            else:
-                beyond = 0.0
+                if model == "binomial":
+                    q, keep = pnc, qnc
+                else:
+                    d = np.arange(lo, hi + 1, dtype=float)[:, None]
+                    q = np.clip((xr - d) / (N - (m - 1)), 0.0, 1.0)
+                    keep = 1.0 - q
+                moved = S[lo:hi + 1] * q
+                S[lo:hi + 1] *= keep
+                S[lo + 1:hi + 2] += moved
+                hi += 1
+                if hi > top:
+                    beyond = S[top + 1:hi + 1].sum(axis=0)
+                    S[top + 1:hi + 1] = 0.0
+                    hi = top
         if r <= R:
-            over = np.zeros(P)  # counts >= R >= r are rejected now
-        else:
+            if beyond is not None:
+                rej_at[m] = beyond
+            if has_over:
+                rej_at[m] += over
+                over = np.zeros(P)
+                has_over = False
+        elif beyond is not None:
             over = over + beyond
-        a = int(acc[m])
-        if a >= lo and new.shape[1]:
-            k = min(a - lo + 1, new.shape[1])
-            took = new[:, :k]
-            got = took.sum(axis=1)
-            pa += got
-            acc_units += m * got
+            has_over = True
+        a = accl[m]
+        if a >= lo and lo <= hi:
+            k = a if a < hi else hi
+            took = S[lo:k + 1]
+            got = acc_at[m]
+            took.sum(axis=0, out=got)
             if left is not None:
                 if model == "hypergeometric":
-                    dd = lo + np.arange(k, dtype=float)[None, :]
-                    left += (took * (xc - dd)).sum(axis=1)
+                    dd = np.arange(lo, k + 1, dtype=float)[:, None]
+                    left += (took * (xr - dd)).sum(axis=0)
                 else:
                     left += got * x * (lot - m)
-            new = new[:, k:]
-            lo += k
-        band = new
-        if band.shape[1] == 0 and not over.any():
+            S[lo:k + 1] = 0.0
+            lo = k + 1
+        if lo > hi and not has_over:
+            last = m
             break
+    ms = np.arange(last + 1, dtype=float)
+    acc_at, rej_at = acc_at[:last + 1], rej_at[:last + 1]
+    pa = acc_at.sum(axis=0)
+    acc_units = ms @ acc_at
+    asn = acc_units + ms @ rej_at
     return WalkResult(pa=pa, asn=asn, accepted_units=acc_units, left_in_accepted=left)
 
 
@@ -965,9 +993,9 @@ def _parse_multiple(pairs: dict, text: str, option: str):
 def max_asn(plan, model: str, scope: Scope, points: int = 201):
     """Largest ASN over the OC curve and the quality level where it occurs.
 
-    A grid over the range where ``Pa`` falls from 1 to 0.001, refined by a
-    golden-section search around the grid maximum (whole lot counts under
-    the hypergeometric model). For double plans under the binomial and
+    A grid over the range where ``Pa`` falls from 1 to 0.001, refined by
+    repeated finer grids around the grid maximum (whole lot counts under the
+    hypergeometric model). For double plans under the binomial and
     Poisson models :func:`lotwise.design.double.double_max_asn` gives the
     closed form; this generic search agrees with it to the refinement
     tolerance.
@@ -996,23 +1024,19 @@ def max_asn(plan, model: str, scope: Scope, points: int = 201):
     ps = np.linspace(0.0, hi, points)
     vals = np.asarray(plan.asn(ps, model, scope))
     i = int(np.argmax(vals))
+    best = (float(vals[i]), float(ps[i]))
+    # Zoom: a fresh 101-point grid over the two cells around the maximum,
+    # five times (each pass narrows the bracket 50-fold).
     a, b = ps[max(i - 1, 0)], ps[min(i + 1, points - 1)]
-    g = (math.sqrt(5.0) - 1.0) / 2.0
-    f = lambda t: float(plan.asn(t, model, scope))  # noqa: E731
-    x1, x2 = b - g * (b - a), a + g * (b - a)
-    f1, f2 = f(x1), f(x2)
-    for _ in range(60):
-        if f1 < f2:
-            a, x1, f1 = x1, x2, f2
-            x2 = a + g * (b - a)
-            f2 = f(x2)
-        else:
-            b, x2, f2 = x2, x1, f1
-            x1 = b - g * (b - a)
-            f1 = f(x1)
+    for _ in range(6):
+        xs = np.linspace(a, b, 101)
+        v = np.asarray(plan.asn(xs, model, scope))
+        j = int(np.argmax(v))
+        if v[j] > best[0]:
+            best = (float(v[j]), float(xs[j]))
+        a, b = xs[max(j - 1, 0)], xs[min(j + 1, 100)]
         if b - a < 1e-12 * max(b, 1e-12):
             break
-    best = max((float(vals[i]), float(ps[i])), (f1, x1), (f2, x2))
     return best
 
 

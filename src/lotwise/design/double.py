@@ -28,9 +28,9 @@ step rests on one of these facts:
 3. **ASN >= n1** (every plan inspects the first sample), and the largest ASN
    is at least the ASN at the AQL. So once a plan with objective ``A`` is
    known, only ``n1 <= A`` can do better.
-4. **A lower bound for each c2.** The double plan accepts only if
-   ``S(n1) <= c2``... and accepts whenever ``S(n1 + n2) <= c2``, so its
-   ``Pa`` is at least that of the single plan ``(n1 + n2, c2)``. Meeting the
+4. **A lower bound for each c2.** The double plan accepts whenever
+   ``S(n1 + n2) <= c2``, so its ``Pa`` is at least that of the single plan
+   ``(n1 + n2, c2)``. Meeting the
    consumer's risk therefore needs ``n1 + n2 >= n_single(c2)``, the smallest
    single sample with acceptance number ``c2`` meeting it, which gives
    ``n1 >= L(c2)``. ``n_single`` does not decrease in ``c2`` (fact 2 for
@@ -56,7 +56,14 @@ second sample twice the first:
 
 >>> d = design_double(aql=0.01, rql=0.05, ratio=2)
 >>> d.plan.label
-'n1=38, c1=0, r1=4, n2=76, c2=3'
+'n1=79, c1=1, r1=6, n2=158, c2=5'
+>>> round(d.asn["aql"], 1), round(d.asn["rql"], 1)
+(108.6, 190.8)
+
+against 132 units every time for the single plan (n = 132, c = 3). A
+smaller first sample wins at the RQL side instead: ``minimize="asn-max"``
+gives ``n1=58, c1=0, r1=5, n2=116, c2=4`` with at most 153.7 units on
+average at any quality.
 """
 
 from __future__ import annotations
