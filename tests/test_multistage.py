@@ -455,6 +455,12 @@ def test_double_decisions(n, d, action, more):
         assert dec.more_to_next == more
 
 
+def test_decision_empty_second_sample():
+    plan = DoublePlan(n1=50, c1=1, n2=0, c2=3)
+    assert plan.decide(50, 2).action == "accept"
+    assert plan.decide(50, 4).action == "reject"
+
+
 def test_decision_defects_no_early_acceptance():
     # With nonconformities per unit one unit can carry several, so a count
     # within c1 is not yet an acceptance before the stage ends.

@@ -630,6 +630,13 @@ class _Staged:
                                        f"number {r}")
             nxt = stage + 1
             na = self.acc[nxt]
+            if self.sizes[nxt] == 0:  # an empty last stage (n2 = 0) decides now
+                act = "accept" if found <= na else "reject"
+                return Decision(action=act, inspected=inspected, found=found, stage=nxt + 1,
+                                next_decision_at=None, more_to_next=0, more_at_most=0,
+                                accept_number=na, reject_number=self.rej[nxt],
+                                reason=f"the second sample is empty (n2 = 0): {found} "
+                                       f"{'<=' if act == 'accept' else '>'} {na}")
             return Decision(action="continue", inspected=inspected, found=found,
                             stage=nxt + 1, next_decision_at=cum[nxt],
                             more_to_next=self.sizes[nxt], more_at_most=total_left,

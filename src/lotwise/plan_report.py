@@ -21,6 +21,19 @@ The keys are those of the single report -- ``scheme``, the plan's own keys
 
 For a :class:`~lotwise.plans.SinglePlan` :func:`plan_report` returns
 :func:`lotwise.report.single_report` unchanged.
+
+Examples
+--------
+An auditor checks a supplier's double plan for castings against AQL 1 %
+and RQL 5 %: it protects the producer but lets lots at the RQL through
+29 % of the time.
+
+>>> from lotwise.design.single import Targets
+>>> from lotwise.multistage import DoublePlan
+>>> rep = plan_report(DoublePlan(n1=50, c1=1, n2=100, c2=3), Targets(aql=0.01, rql=0.05),
+...                   Scope())
+>>> rep["meets"], round(rep["models"]["binomial"]["beta"], 4), round(rep["asn"]["rql"], 2)
+(False, 0.2904, 98.1)
 """
 
 from __future__ import annotations
@@ -248,11 +261,17 @@ def _wald(plan, targets, scope: Scope) -> dict:
             "asn_rql": float(plan.wald_asn(targets.rql, per_unit))}
 
 
+def _pct(x: float) -> str:
+    """``format_pct`` of ``x`` rounded to 12 decimals (so 0.0999999999999999
+    prints as 10.0 %, not 10.00 %)."""
+    return format_pct(round(float(x), 12))
+
+
 def _pct_vs(x: float, target: float) -> str:
-    """``format_pct(x)``, with more digits when rounding would make a risk
-    that misses its target look equal to it."""
-    a = format_pct(x)
-    if a == format_pct(target) and abs(x - target) > _TOL:
+    """:func:`_pct`, with more digits when rounding would make a risk that
+    misses its target look equal to it."""
+    a = _pct(x)
+    if a == _pct(target) and abs(x - target) > 1e-9:
         return format_pct(x, 6)
     return a
 
@@ -267,16 +286,16 @@ def _statements(rep: dict, plan, scope: Scope) -> list[str]:
     q = rep["plan_quality"]
     a = rep["asn"]
     out = [
-        f"Accepts {lots} {lvl(t['aql'])} (the AQL) {format_pct(m['pa_aql'])} of the time: "
+        f"Accepts {lots} {lvl(t['aql'])} (the AQL) {_pct(m['pa_aql'])} of the time: "
         f"producer's risk {_pct_vs(m['alpha'], t['alpha'])} against a target of "
-        f"{format_pct(t['alpha'])}, {ok(m['meets_alpha'])}.",
-        f"Accepts {lots} {lvl(t['rql'])} (the RQL) {format_pct(m['pa_rql'])} of the time: "
+        f"{_pct(t['alpha'])}, {ok(m['meets_alpha'])}.",
+        f"Accepts {lots} {lvl(t['rql'])} (the RQL) {_pct(m['pa_rql'])} of the time: "
         f"consumer's risk {_pct_vs(m['beta'], t['beta'])} against a target of "
-        f"{format_pct(t['beta'])}, {ok(m['meets_beta'])}.",
+        f"{_pct(t['beta'])}, {ok(m['meets_beta'])}.",
         f"The AQL it really protects: {lots} {lvl(q['producer'])} are accepted "
-        f"{format_pct(1 - t['alpha'])} of the time; indifference quality "
+        f"{_pct(1 - t['alpha'])} of the time; indifference quality "
         f"{lvl(q['indifference'])}; the RQL it really gives: {lvl(q['consumer'])} (accepted "
-        f"{format_pct(t['beta'])} of the time).",
+        f"{_pct(t['beta'])} of the time).",
         f"Average sample number: {a['aql']:.1f} units at the AQL and {a['rql']:.1f} at the RQL; "
         f"the largest average is {a['max']:.1f} at {lvl(a['max_at'])}; never more than "
         f"{rep['n_max']} units.",
@@ -353,8 +372,8 @@ def render_plan(rep: dict, title: str) -> str:
     lot = f"lot of {rep['lot_size']}" if rep["lot_size"] else "no lot size (process)"
     lines.append(f"  judged by {_MODEL_WORDS[rep['model']]}; {counted}; {lot}")
     lines.append(f"  targets   AQL {format_level(t['aql'], per_unit)} at alpha "
-                 f"{format_pct(t['alpha'])}, RQL {format_level(t['rql'], per_unit)} at beta "
-                 f"{format_pct(t['beta'])}")
+                 f"{_pct(t['alpha'])}, RQL {format_level(t['rql'], per_unit)} at beta "
+                 f"{_pct(t['beta'])}")
     rows = []
     for m, r in rep["models"].items():
         mark = " *" if m == rep["model"] else ""
@@ -366,8 +385,8 @@ def render_plan(rep: dict, title: str) -> str:
                      "yes" if r["meets"] else "NO (" + ", ".join(short) + ")"])
     if "wald" in rep:
         w = rep["wald"]
-        rows.append(["Wald approx.", f"{w['pa_aql']:.5f}", format_pct(1 - w["pa_aql"]),
-                     f"{w['pa_rql']:.5f}", format_pct(w["pa_rql"]), f"{w['asn_aql']:.1f}",
+        rows.append(["Wald approx.", f"{w['pa_aql']:.5f}", _pct(1 - w["pa_aql"]),
+                     f"{w['pa_rql']:.5f}", _pct(w["pa_rql"]), f"{w['asn_aql']:.1f}",
                      f"{w['asn_rql']:.1f}", "(untruncated)"])
     lines.append("")
     lines.append(table(rows, ["model", "Pa(AQL)", "alpha", "Pa(RQL)", "beta", "ASN(AQL)",

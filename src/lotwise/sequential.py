@@ -406,12 +406,13 @@ class SequentialPlan:
         a1, r1 = self.acceptance_number(n + 1), self.rejection_number(n + 1)
         acc_txt = ("acceptance is possible after " f"{m_acc - n} more conforming unit(s)"
                    if m_acc is not None else "acceptance is no longer possible")
+        then = (f"accept then on at most {a1}, reject on {r1}" if a1 >= 0 else
+                f"no acceptance yet at n = {n + 1}, reject on {r1}")
         return Decision(action="continue", inspected=n, found=d, stage=None,
                         next_decision_at=n + 1, more_to_next=1, more_at_most=n0 - n,
                         accept_number=a1 if a1 >= 0 else None, reject_number=r1,
                         reason=(f"{d} lies between the lines at n = {n}: inspect the next unit "
-                                f"(accept then on at most {a1 if a1 >= 0 else '(not yet)'}, "
-                                f"reject on {r1}); {acc_txt}; at most {n0 - n} more "
+                                f"({then}); {acc_txt}; at most {n0 - n} more "
                                 f"unit(s) to the truncation point {n0}; the earliest "
                                 f"decision comes after {nxt - n} unit(s)"))
 

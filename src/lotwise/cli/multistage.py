@@ -12,7 +12,7 @@ from typing import List, Optional
 import typer
 
 from . import app, common
-from ..quantities import InputError, Infeasible, parse_count, parse_level
+from ..quantities import InputError, Infeasible, format_pct, parse_count, parse_level
 
 SCHEMES = ("single", "double", "sequential", "compare-all")
 
@@ -142,7 +142,8 @@ def _design_double(targets, scope, mdl, ratio, minimize, cap, plot, force, as_js
         verdict = "meets" if pdd["meets"] else "does NOT meet"
         typer.echo(f"  A Poisson-based double design picks n1={pdd['n1']}, c1={pdd['c1']}, "
                    f"n2={pdd['n2']}, c2={pdd['c2']}; under the {mdl} model it carries alpha "
-                   f"{pdd['alpha']:.2%} and beta {pdd['beta']:.2%}: it {verdict} the targets.")
+                   f"{format_pct(pdd['alpha'])} and beta {format_pct(pdd['beta'])}: it "
+                   f"{verdict} the targets.")
     s = d.search
     typer.echo(f"  Search: c1 < c2, c2 from 1 to {s['c2_searched'][1]} ({s['plans_evaluated']:,} "
                f"plans evaluated); stopped because {s['stopped']}.")
@@ -191,8 +192,9 @@ def _design_sequential(targets, scope, mdl, truncate, plot, force, as_json, base
     typer.echo(render_plan(rep, "Item-by-item sequential plan (Wald's SPRT), truncated"))
     typer.echo(f"  Truncation point: {d.plan.truncate} units ({d.truncate_source}).")
     e = d.exact
-    typer.echo(f"  Exact truncated plan under the {mdl} model: alpha {e['alpha']:.2%}, beta "
-               f"{e['beta']:.2%} ({'meets' if e['meets'] else 'does NOT meet'} the targets).")
+    typer.echo(f"  Exact truncated plan under the {mdl} model: alpha {format_pct(e['alpha'])}, "
+               f"beta {format_pct(e['beta'])} ({'meets' if e['meets'] else 'does NOT meet'} the "
+               "targets).")
     typer.echo("")
     typer.echo("  Acceptance and rejection numbers (- : not possible yet; acceptance "
                f"starts at n = {d.plan.first_acceptance}):")
@@ -203,7 +205,7 @@ def _design_sequential(targets, scope, mdl, truncate, plot, force, as_json, base
 
 
 def _compare_all(targets, scope, mdl, ratio, minimize, truncate, plot, force, as_json):
-    from ..quantities import format_level, format_pct
+    from ..quantities import format_level
     from ..tradeoff import asn_tradeoff
 
     if truncate is not None and scope.lot_size is not None and truncate > scope.lot_size:
