@@ -60,8 +60,11 @@ def test_figures():
     assert fig.axes[0].get_xlabel() == "Units inspected n"
     fig = oc_asn_figure(plan, Scope(), aql=0.01, rql=0.05)
     assert len(fig.axes) == 2
-    fig = tradeoff_figure(asn_tradeoff(Targets(aql=0.02, rql=0.10), Scope()))
+    t = asn_tradeoff(Targets(aql=0.02, rql=0.10), Scope())
+    fig = tradeoff_figure(t)
     assert len(fig.axes) == 2
+    fig = asn_figure(t)
+    assert len(fig.axes) == 1 and len(fig.axes[0].lines) >= 3
 
 
 @pytest.mark.parametrize("args", [

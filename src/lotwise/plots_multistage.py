@@ -39,9 +39,10 @@ def asn_figure(items, *, model=None, aql=None, rql=None, max_p=None, labels=None
 
     Parameters
     ----------
-    items : list of (plan, Scope)
+    items : list of (plan, Scope), or a :class:`lotwise.tradeoff.Tradeoff`
         Plans with an ``asn`` method; a single plan is drawn as a flat line
-        at its sample size.
+        at its sample size. A trade-off result is drawn as its ASN panel
+        (see :func:`tradeoff_figure`).
     model : str, optional
         Model for every curve (default each scope's exact model).
     aql, rql : float, optional
@@ -50,6 +51,9 @@ def asn_figure(items, *, model=None, aql=None, rql=None, max_p=None, labels=None
         Also draw each plan's curtailed ASN (thin, same style), labelled by
         ``curtailed_label`` (``{label}`` is the plan's label).
     """
+    if hasattr(items, "asn_curves"):
+        fig, ax = new_axes(ax)
+        return tradeoff_figure(items, ax=ax, title=title)
     fig, ax = new_axes(ax)
     scope0 = items[0][1]
     per_unit = scope0.defects
@@ -111,7 +115,7 @@ def tradeoff_figure(result, *, ax=None, title=None):
     per_unit = result.scope.defects
     if ax is None:
         plt = _mpl()
-        fig, (a1, a2) = plt.subplots(1, 2, figsize=(10.5, 4.2), dpi=110)
+        fig, (a1, a2) = plt.subplots(1, 2, figsize=(10.5, 5.0), dpi=110)
         new_axes(a1)
         new_axes(a2)
     else:
@@ -133,7 +137,8 @@ def tradeoff_figure(result, *, ax=None, title=None):
     a1.set_ylabel("Average sample number (units)", fontsize=9.5)
     a1.set_title(title or f"ASN, {result.model} model (AQL o, RQL s)", fontsize=10, loc="left")
     _pct_axis(a1, per_unit)
-    a1.legend(fontsize=7, frameon=False, loc="upper right")
+    below = dict(fontsize=7, frameon=False, loc="upper center", bbox_to_anchor=(0.5, -0.14))
+    a1.legend(**below)
     if a2 is not None:
         for i, (label, y) in enumerate(result.pa_curves.items()):
             a2.plot(result.ps, y, label=label, **styles[i % len(styles)])
@@ -146,7 +151,7 @@ def tradeoff_figure(result, *, ax=None, title=None):
         a2.set_ylabel("Probability of acceptance Pa", fontsize=9.5)
         a2.set_title("OC curves with the two risk points", fontsize=10, loc="left")
         _pct_axis(a2, per_unit)
-        a2.legend(fontsize=7, frameon=False, loc="upper right")
+        a2.legend(**below)
     fig.tight_layout()
     return fig
 
