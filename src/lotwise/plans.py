@@ -181,12 +181,17 @@ NOTATIONS: dict[str, str] = {
     "chain": "lotwise.chain:_parse_chain",
     "skiplot": "lotwise.skiplot:_parse_skiplot",
     "variables": "lotwise.variables:_parse_variables",
+    "double": "lotwise.multistage:_parse_double",
+    "multiple": "lotwise.multistage:_parse_multiple",
+    "sequential": "lotwise.sequential:_parse_sequential",
 }
 
 #: Keys that identify a notation written without a prefix: ``key -> kind``.
 KEYS_HINT: dict[str, str] = {
     "f": "skiplot",
     "k": "variables",
+    "n1": "double",
+    "h1": "sequential",
 }
 
 

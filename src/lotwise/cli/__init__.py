@@ -35,7 +35,7 @@ COMMANDS = {
     "design": "single", "check": "single", "oc": "single",
     "sheet": "sheets", "compare": "sheets", "demo": "sheets",
     "draw": "draw", "zero": "zero", "demonstrate": "zero",
-    "judge": "variables",
+    "next": "multistage", "judge": "variables",
     "records": "records", "supplier": "records", "tradeoff": "records",
     "batch": "batch", "validate": "validate",
 }

@@ -45,11 +45,11 @@ def design(
     lot: Optional[str] = common.LOT,
     model: Optional[str] = common.MODEL,
     defects: bool = common.DEFECTS,
-    scheme: str = typer.Option("single", "--scheme", help="Plan family: single, chain (ChSP-1) or variables."),
+    scheme: str = typer.Option("single", "--scheme", help="Plan family: single, double, sequential, compare-all (the three side by side), chain (ChSP-1) or variables."),
     c: Optional[str] = typer.Option(None, "--c", help="Fix the acceptance number (0 for accept-on-zero)."),
     n: Optional[str] = typer.Option(None, "--n", help="Fix the sample size and find c."),
     max_n: Optional[str] = typer.Option(None, "--max-n", help="Largest affordable sample."),
-    minimize: Optional[str] = typer.Option(None, "--minimize", help="ati: the least average total inspection at --process-average (rectifying inspection)."),
+    minimize: Optional[str] = typer.Option(None, "--minimize", help="single: ati (least average total inspection at --process-average); double: asn-aql (default) or asn-max."),
     process_average: Optional[str] = typer.Option(None, "--process-average", help="Supplier's process average, for --minimize ati."),
     aoql: Optional[str] = typer.Option(None, "--aoql", help="AOQL limit, for --minimize ati (instead of --rql)."),
     aoq_formula: str = typer.Option("screened", "--aoq-formula", help="screened: AOQ = p Pa (N - n)/N; simple: p Pa."),
@@ -58,6 +58,14 @@ def design(
     limit: Optional[str] = typer.Option(None, "--limit", help="variables: upper, lower or both."),
     lower: Optional[str] = typer.Option(None, "--lower", help="variables: lower specification limit."),
     upper: Optional[str] = typer.Option(None, "--upper", help="variables: upper specification limit."),
+    ratio: Optional[str] = typer.Option(None, "--ratio", help="double: n2 / n1 (default 2)."),
+    truncate: Optional[str] = typer.Option(None, "--truncate",
+                                           help="sequential: most units to inspect "
+                                                "(default 3 x the single plan's n)."),
+    plot: Optional[str] = typer.Option(None, "--plot",
+                                       help="double, sequential, compare-all: draw the chart "
+                                            "to PATH.png, .svg or .pdf."),
+    force: bool = typer.Option(False, "--force", help="Overwrite files not written by lotwise."),
     as_json: bool = common.JSON,
 ):
     """Design the plan with the smallest sample meeting both risks."""
@@ -71,8 +79,16 @@ def design(
                           sigma_value=sigma_value, limit=limit, lower=lower, upper=upper,
                           max_n=max_n, lot=lot, model=model, defects=defects, c=c, n=n,
                           as_json=as_json)
+    if scheme in ("double", "sequential", "compare-all"):
+        from .multistage import design_other
+
+        return design_other(scheme=scheme, aql=aql, rql=rql, alpha=alpha, beta=beta, lot=lot,
+                            model=model, defects=defects, n=n, c=c, max_n=max_n, ratio=ratio,
+                            minimize=minimize, truncate=truncate, plot=plot, force=force,
+                            as_json=as_json)
     if scheme not in ("single", "chain"):
-        raise InputError(f"--scheme ({scheme}) must be one of: single, chain, variables")
+        raise InputError(f"--scheme ({scheme}) must be one of: single, double, sequential, "
+                         "compare-all, chain, variables")
     if minimize is not None or scheme == "chain":
         from . import rectifying as rect_cli
 
@@ -84,6 +100,10 @@ def design(
     for name, val in (("--process-average", process_average), ("--aoql", aoql)):
         if val is not None:
             raise InputError(f"{name} ({val}) needs --minimize ati")
+    for opt, val in (("--ratio", ratio), ("--truncate", truncate), ("--plot", plot)):
+        if val is not None:
+            raise InputError(f"{opt} ({val}) applies to --scheme double, sequential or "
+                             "compare-all, not single")
     a, r = common.levels(aql, rql, defects)
     al, be = common.risks(alpha, beta)
     scope, mdl = _scope_and_model(lot, defects, model)
@@ -150,6 +170,11 @@ def check(
         if skip_lot is not None:
             raise InputError("--skip-lot cannot be combined with a skiplot --plan")
         p, skip_lot = p.reference, (p.i, p.f)
+    if p.scheme in ("double", "multiple", "sequential"):
+        from .multistage import check_other
+
+        return check_other(p, aql=aql, rql=rql, alpha=alpha, beta=beta, lot=lot, model=model,
+                           defects=defects, as_json=as_json)
     a, r = common.levels(aql, rql, defects)
     al, be = common.risks(alpha, beta)
     scope, mdl = _scope_and_model(lot, defects, model)
@@ -248,6 +273,12 @@ def oc_table(
 
         return oc_cmd(p, max_p=max_p, points=points, at=at, aql=aql, rql=rql, csv=csv,
                       plot=plot, force=force, as_json=as_json)
+    if p.scheme in ("double", "multiple", "sequential"):
+        from .multistage import oc_other
+
+        return oc_other(p, lot=lot, model=model, defects=defects, max_p=max_p, points=points,
+                        at=at, aql=aql, rql=rql, csv=csv, plot=plot, force=force,
+                        as_json=as_json)
     scope, mdl = _scope_and_model(lot, defects, model)
     if scope.lot_size is not None and p.n > scope.lot_size:
         raise InputError(f"--n ({p.n}) must not be greater than --lot-size ({scope.lot_size})")

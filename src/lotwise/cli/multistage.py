@@ -1,0 +1,432 @@
+"""Command-line glue for double, multiple and sequential plans.
+
+``design --scheme double|sequential|compare-all``, ``check`` and ``oc`` for
+plans whose sample size varies dispatch here from :mod:`lotwise.cli.single`;
+``lotwise next`` (accept, reject or continue on the bench) is defined here.
+"""
+
+from __future__ import annotations
+
+from typing import List, Optional
+
+import typer
+
+from . import app, common
+from ..quantities import InputError, Infeasible, format_pct, parse_count, parse_level
+
+SCHEMES = ("single", "double", "sequential", "compare-all")
+
+
+def _scope(lot, defects, model):
+    from .single import _scope_and_model
+
+    return _scope_and_model(lot, defects, model)
+
+
+def _plot_path(plot):
+    if plot is not None and not plot.lower().endswith((".png", ".svg", ".pdf")):
+        raise InputError(f"--plot ({plot}) must end in .png, .svg or .pdf")
+    return plot
+
+
+def _not_for(scheme, **given):
+    for opt, val in given.items():
+        if val is not None and val is not False:
+            raise InputError(f"--{opt.replace('_', '-')} ({val}) does not apply to --scheme "
+                             f"{scheme}")
+
+
+def _ratio(text) -> float:
+    if text is None:
+        return 2.0
+    try:
+        v = float(str(text).strip())
+    except ValueError:
+        v = float("nan")
+    if not 0.1 <= v <= 10:
+        raise InputError(f"--ratio ({text}) must be a number from 0.1 to 10 (n2 / n1)")
+    return v
+
+
+def _minimize(text) -> str:
+    from ..design.double import MINIMIZE
+
+    if text is None:
+        return "asn-aql"
+    t = str(text).strip().lower()
+    if t not in MINIMIZE:
+        raise InputError(f"--minimize ({text}) must be one of: {', '.join(MINIMIZE)}")
+    return t
+
+
+def design_other(*, scheme, aql, rql, alpha, beta, lot, model, defects, n, c, max_n, ratio,
+                 minimize, truncate, plot, force, as_json):
+    """``lotwise design`` for every scheme but single."""
+    from ..design.single import Targets
+
+    if scheme not in SCHEMES:
+        raise InputError(f"--scheme ({scheme}) must be one of: {', '.join(SCHEMES)}")
+    _not_for(scheme, n=n, c=c)
+    a, r = common.levels(aql, rql, defects)
+    al, be = common.risks(alpha, beta)
+    scope, mdl = _scope(lot, defects, model)
+    plot = _plot_path(plot)
+    targets = Targets(aql=a, rql=r, alpha=al, beta=be)
+    base = {"scheme": scheme, "model": mdl, "lot_size": scope.lot_size,
+            "targets": targets.as_dict()}
+    if scheme == "double":
+        _not_for(scheme, truncate=truncate)
+        cap = parse_count(max_n, "--max-n", minimum=2) if max_n is not None else None
+        return _design_double(targets, scope, mdl, _ratio(ratio), _minimize(minimize), cap,
+                              plot, force, as_json, base)
+    if scheme == "sequential":
+        _not_for(scheme, ratio=ratio, minimize=minimize, max_n=max_n)
+        t = parse_count(truncate, "--truncate", minimum=1, maximum=10_000_000) \
+            if truncate is not None else None
+        return _design_sequential(targets, scope, mdl, t, plot, force, as_json, base)
+    _not_for(scheme, max_n=max_n)
+    t = parse_count(truncate, "--truncate", minimum=1, maximum=10_000_000) \
+        if truncate is not None else None
+    return _compare_all(targets, scope, mdl, _ratio(ratio), _minimize(minimize), t, plot, force,
+                        as_json)
+
+
+def _poisson_double(targets, scope, mdl, ratio, minimize):
+    """What a Poisson-based double design would pick, judged exactly."""
+    from ..audit import risks_under
+    from ..design.double import design_double
+
+    if mdl == "poisson" or scope.defects:
+        return None
+    try:
+        pd = design_double(aql=targets.aql, rql=targets.rql, alpha=targets.alpha,
+                           beta=targets.beta, model="poisson", ratio=ratio, minimize=minimize)
+    except Infeasible as exc:
+        return {"note": f"a Poisson-based design finds no plan: {exc}"}
+    if scope.lot_size and pd.plan.n_max > scope.lot_size:
+        return {"note": f"a Poisson-based design picks {pd.plan.label}, more than the lot"}
+    rk = risks_under(pd.plan, targets, scope, mdl)
+    out = pd.plan.to_dict()
+    out.update({"alpha": rk.alpha, "beta": rk.beta, "meets": rk.meets, "model": mdl})
+    return out
+
+
+def _design_double(targets, scope, mdl, ratio, minimize, cap, plot, force, as_json, base):
+    from ..design.double import design_double
+    from ..plan_report import plan_report, render_plan
+
+    base.update({"ratio": ratio, "minimize": minimize})
+    try:
+        d = design_double(aql=targets.aql, rql=targets.rql, alpha=targets.alpha,
+                          beta=targets.beta, lot_size=scope.lot_size, model=mdl,
+                          defects=scope.defects, ratio=ratio, minimize=minimize, max_n=cap)
+    except Infeasible as exc:
+        common.infeasible(exc, as_json, base)
+    rep = plan_report(d.plan, targets, scope, mdl, design=d)
+    pdd = _poisson_double(targets, scope, mdl, ratio, minimize)
+    rep["poisson_design"] = pdd
+    if plot:
+        from ..files import save_figure
+        from ..plots_multistage import oc_asn_figure
+
+        fig = oc_asn_figure(d.plan, scope, model=mdl, aql=targets.aql, rql=targets.rql)
+        save_figure(fig, plot, force=force, option="--plot")
+    if as_json:
+        common.emit_json(rep)
+        return
+    what = "ASN at the AQL" if minimize == "asn-aql" else "largest ASN over the OC curve"
+    text = render_plan(rep, f"Double sampling plan (smallest {what}; n2 = {ratio:g} x n1, "
+                            "r1 = c2 + 1)")
+    typer.echo(text)
+    if pdd and "n1" in pdd:
+        verdict = "meets" if pdd["meets"] else "does NOT meet"
+        typer.echo(f"  A Poisson-based double design picks n1={pdd['n1']}, c1={pdd['c1']}, "
+                   f"n2={pdd['n2']}, c2={pdd['c2']}; under the {mdl} model it carries alpha "
+                   f"{format_pct(pdd['alpha'])} and beta {format_pct(pdd['beta'])}: it "
+                   f"{verdict} the targets.")
+    s = d.search
+    typer.echo(f"  Search: c1 < c2, c2 from 1 to {s['c2_searched'][1]} ({s['plans_evaluated']:,} "
+               f"plans evaluated); stopped because {s['stopped']}.")
+    if plot:
+        typer.echo(f"  wrote {plot}")
+
+
+def _number_ranges(numbers: dict) -> list[list[str]]:
+    """Rows ``n from-to, accept on <=, reject on >=`` where the numbers are constant."""
+    rows = []
+    ns, acc, rej = numbers["n"], numbers["accept"], numbers["reject"]
+    start = 0
+    for i in range(1, len(ns) + 1):
+        if i == len(ns) or acc[i] != acc[start] or rej[i] != rej[start] or i == len(ns) - 1:
+            lo, hi = ns[start], ns[i - 1]
+            span = f"{lo}" if lo == hi else f"{lo}-{hi}"
+            rows.append([span, "-" if acc[start] is None else str(acc[start]),
+                         "-" if rej[start] is None else str(rej[start])])
+            start = i
+    if rows and start < len(ns):  # the truncation point on its own row
+        rows.append([str(ns[-1]), str(acc[-1]), "-" if rej[-1] is None else str(rej[-1])])
+    return rows
+
+
+def _design_sequential(targets, scope, mdl, truncate, plot, force, as_json, base):
+    from ..design.sequential import design_sequential
+    from ..plan_report import plan_report, render_plan
+
+    try:
+        d = design_sequential(aql=targets.aql, rql=targets.rql, alpha=targets.alpha,
+                              beta=targets.beta, lot_size=scope.lot_size, model=mdl,
+                              defects=scope.defects, truncate=truncate)
+    except Infeasible as exc:
+        common.infeasible(exc, as_json, base)
+    rep = plan_report(d.plan, targets, scope, mdl, design=d)
+    if plot:
+        from ..files import save_figure
+        from ..plots_multistage import sequential_figure
+
+        fig = sequential_figure(d.plan, per_unit=scope.defects,
+                                title=f"Sequential plan: {d.plan.label}")
+        save_figure(fig, plot, force=force, option="--plot")
+    if as_json:
+        common.emit_json(rep)
+        return
+    typer.echo(render_plan(rep, "Item-by-item sequential plan (Wald's SPRT), truncated"))
+    typer.echo(f"  Truncation point: {d.plan.truncate} units ({d.truncate_source}).")
+    e = d.exact
+    typer.echo(f"  Exact truncated plan under the {mdl} model: alpha {format_pct(e['alpha'])}, "
+               f"beta {format_pct(e['beta'])} ({'meets' if e['meets'] else 'does NOT meet'} the "
+               "targets).")
+    typer.echo("")
+    typer.echo("  Acceptance and rejection numbers (- : not possible yet; acceptance "
+               f"starts at n = {d.plan.first_acceptance}):")
+    typer.echo(common.table(_number_ranges(d.numbers()),
+                            ["units inspected n", "accept on <=", "reject on >="]))
+    if plot:
+        typer.echo(f"  wrote {plot}")
+
+
+def _compare_all(targets, scope, mdl, ratio, minimize, truncate, plot, force, as_json):
+    from ..quantities import format_level
+    from ..tradeoff import asn_tradeoff
+
+    if truncate is not None and scope.lot_size is not None and truncate > scope.lot_size:
+        raise InputError(f"--truncate ({truncate}) must not be greater than the lot size "
+                         f"({scope.lot_size})")
+    res = asn_tradeoff(targets, scope, model=mdl, ratio=ratio, minimize=minimize,
+                       truncate=truncate)
+    if plot:
+        from ..files import save_figure
+        from ..plots_multistage import tradeoff_figure
+
+        save_figure(tradeoff_figure(res), plot, force=force, option="--plot")
+    if as_json:
+        common.emit_json(res.as_dict())
+        return
+    per_unit = scope.defects
+    typer.echo(f"Trade-off for AQL {format_level(targets.aql, per_unit)} at alpha "
+               f"{format_pct(targets.alpha)}, RQL {format_level(targets.rql, per_unit)} at beta "
+               f"{format_pct(targets.beta)} ({mdl} model"
+               + (f", lot of {scope.lot_size}" if scope.lot_size else "") + ")")
+    rows = []
+    for row in res.rows:
+        if row.plan is None:
+            rows.append([row.scheme, "-", "-", "-", "-", "-", "-", "-", row.note[:60]])
+            continue
+        rows.append([row.scheme, row.label, f"{row.pa_aql:.4f}", f"{row.pa_rql:.4f}",
+                     f"{row.asn_aql:.1f}", f"{row.asn_rql:.1f}", f"{row.asn_max:.1f}",
+                     str(row.n_max), "yes" if row.meets else "NO"])
+    typer.echo(common.table(rows, ["scheme", "plan", "Pa(AQL)", "Pa(RQL)", "ASN(AQL)",
+                                   "ASN(RQL)", "ASN max", "at most", "meets"]))
+    typer.echo("  ASN: average units inspected per lot with every stage in full; a single "
+               "plan always inspects n. 'at most' is the most units any lot can take.")
+    from ..plan_report import SAFETY
+
+    typer.echo(f"  {SAFETY}")
+    if plot:
+        typer.echo(f"  wrote {plot}")
+
+
+# --- check and oc ------------------------------------------------------------
+
+def _fits_lot(p, scope):
+    if scope.lot_size is not None and p.n_max > scope.lot_size:
+        raise InputError(f"--plan ({p.label}) inspects up to {p.n_max} units, more than "
+                         f"--lot-size ({scope.lot_size})")
+
+
+def check_other(p, *, aql, rql, alpha, beta, lot, model, defects, as_json):
+    """``lotwise check`` for a double, multiple or sequential plan."""
+    from ..design.single import Targets
+    from ..plan_report import plan_report, render_plan
+    from .single import _levels_out_of_order
+
+    a, r = common.levels(aql, rql, defects)
+    al, be = common.risks(alpha, beta)
+    scope, mdl = _scope(lot, defects, model)
+    _fits_lot(p, scope)
+    if not r > a:
+        _levels_out_of_order(a, r, defects, as_json)
+    targets = Targets(aql=a, rql=r, alpha=al, beta=be)
+    rep = plan_report(p, targets, scope, mdl)
+    if as_json:
+        common.emit_json(rep)
+    else:
+        verdict = "meets both targets" if rep["meets"] else "FALLS SHORT"
+        typer.echo(render_plan(rep, f"Audit of the {p.scheme} plan {p.label}: {verdict}"))
+    raise typer.Exit(0 if rep["meets"] else 1)
+
+
+def _grid(p, scope, mdl, max_p, points, at, rql):
+    import numpy as np
+
+    from ..plan_report import quality_level
+    from .single import _nice
+
+    if at:
+        vals = []
+        for item in at:
+            for part in str(item).split(","):
+                if part.strip():
+                    vals.append(parse_level(part, "--at", per_unit=scope.defects))
+        return np.array(vals, dtype=float)
+    k = parse_count(points, "--points", minimum=2, maximum=100_000)
+    if max_p is not None:
+        top = parse_level(max_p, "--max-p", per_unit=scope.defects)
+    else:
+        top = quality_level(p, 0.01, mdl, scope, "consumer")
+        if rql is not None:
+            top = max(top, 1.25 * rql)
+        top = _nice(min(top, 1.0) if not scope.defects else top)
+    return np.linspace(0.0, top, k)
+
+
+def oc_other(p, *, lot, model, defects, max_p, points, at, aql, rql, csv, plot, force, as_json):
+    """``lotwise oc`` for plans whose sample size varies: the OC columns of
+    the single table plus ``asn`` and ``asn_curtailed`` under the design
+    model, ``aoq`` and ``ati`` with a lot size, and Wald's approximations for
+    a sequential plan."""
+    import numpy as np
+
+    from ..audit import oc_grid
+    from .single import _csv_num, _fmt_level
+
+    scope, mdl = _scope(lot, defects, model)
+    _fits_lot(p, scope)
+    a, r = common.levels(aql, rql, defects, need=False)
+    plot = _plot_path(plot)
+    ps = _grid(p, scope, mdl, max_p, points, at, r)
+    cols = oc_grid(p, scope, scope.models, ps)
+    exact = scope.exact_model
+    header = ["p"] + list(scope.models)
+    extra = {}
+    if exact != "poisson":
+        extra["poisson_minus_exact"] = cols["poisson"] - cols[exact]
+    if "lot_count" in cols:
+        extra["lot_count"] = cols["lot_count"]
+    extra["asn"] = np.atleast_1d(p.asn(ps, mdl, scope))
+    extra["asn_curtailed"] = np.atleast_1d(p.asn_curtailed(ps, mdl, scope))
+    if scope.lot_size:
+        extra["aoq"] = np.atleast_1d(p.aoq(ps, mdl, scope))
+        extra["ati"] = np.atleast_1d(p.ati(ps, mdl, scope))
+    if p.scheme == "sequential":
+        extra["wald_pa"] = np.atleast_1d(p.wald_pa(ps, defects))
+        extra["wald_asn"] = np.atleast_1d(p.wald_asn(ps, defects))
+    header += list(extra)
+    rows = []
+    for i, pv in enumerate(ps):
+        row = [float(pv)] + [float(cols[m][i]) for m in scope.models]
+        for key, vals in extra.items():
+            row.append(int(vals[i]) if key == "lot_count" else float(vals[i]))
+        rows.append(row)
+    if csv is not None:
+        from ..files import write_text
+
+        text = ",".join(header) + "\n" + "".join(
+            ",".join(_csv_num(v) for v in row) + "\n" for row in rows)
+        if csv == "-":
+            typer.echo(text, nl=False)
+        else:
+            write_text(csv, text, force=force, option="--csv")
+    if plot is not None:
+        from ..files import save_figure
+        from ..plots_multistage import oc_asn_figure
+
+        fig = oc_asn_figure(p, scope, model=mdl, aql=a, rql=r,
+                            max_p=float(ps.max()) if len(ps) and ps.max() > 0 else None)
+        save_figure(fig, plot, force=force, option="--plot")
+    if as_json:
+        out = {"scheme": p.scheme}
+        out.update(p.to_dict())
+        out.update({"lot_size": scope.lot_size, "model": mdl, "columns": header, "rows": rows})
+        common.emit_json(out)
+    elif csv != "-":
+        nm = len(scope.models)
+        shown = []
+        for row in rows:
+            cells = [_fmt_level(row[0], defects)] + [f"{v:.5f}" for v in row[1:1 + nm]]
+            for key, v in zip(header[1 + nm:], row[1 + nm:]):
+                if key == "poisson_minus_exact":
+                    cells.append(f"{v:+.5f}")
+                elif key == "lot_count":
+                    cells.append(str(v))
+                elif key in ("aoq", "wald_pa"):
+                    cells.append(f"{v:.5f}")
+                else:
+                    cells.append(f"{v:.1f}")
+            shown.append(cells)
+        typer.echo(f"OC and ASN table for the {p.scheme} plan {p.label}"
+                   + (f", lot of {scope.lot_size}" if scope.lot_size else "")
+                   + f" (exact model: {exact}; ASN under {mdl})")
+        typer.echo(common.table(shown, header))
+        if csv:
+            typer.echo(f"  wrote {csv}")
+        if plot:
+            typer.echo(f"  wrote {plot}")
+
+
+# --- next -------------------------------------------------------------------
+
+@app.command("next")
+def next_unit(
+    plan: Optional[str] = typer.Option(None, "--plan",
+                                       help='Plan notation: "n1=50,c1=1,r1=4,n2=100,c2=3", '
+                                            '"multiple: n=20/20/20; c=-/1/3; r=2/3/4", '
+                                            '"sequential: h1=..,h2=..,s=..,truncate=.." '
+                                            'or "n=80,c=2".'),
+    inspected: Optional[str] = typer.Option(None, "--inspected",
+                                            help="Units inspected so far (all stages)."),
+    found: Optional[str] = typer.Option(None, "--found",
+                                        help="Nonconforming items (or nonconformities) found "
+                                             "so far, all stages together."),
+    defects: bool = common.DEFECTS,
+    as_json: bool = common.JSON,
+):
+    """On the bench: accept, reject or continue, and how many more units at most."""
+    from ..multistage import decide_single
+    from ..plans import parse_plan
+
+    if plan is None:
+        raise InputError("--plan is required, for example --plan \"n1=50,c1=1,n2=100,c2=3\"")
+    if inspected is None:
+        raise InputError("--inspected is required (units inspected so far, for example 50)")
+    if found is None:
+        raise InputError("--found is required (nonconforming found so far, for example 2)")
+    p = parse_plan(plan)
+    n = parse_count(inspected, "--inspected", minimum=0)
+    d = parse_count(found, "--found", minimum=0)
+    if p.scheme == "single":
+        dec = decide_single(p, n, d, defects=defects)
+    else:
+        dec = p.decide(n, d, defects=defects)
+    if as_json:
+        out = {"scheme": p.scheme, "plan": p.to_dict(), "notation": getattr(p, "notation", None)}
+        out.update(dec.as_dict())
+        common.emit_json(out)
+        return
+    head = {"accept": "ACCEPT the lot", "reject": "REJECT the lot",
+            "continue": "CONTINUE inspecting"}[dec.action]
+    typer.echo(f"{head}  ({p.scheme} plan {p.label}; {n} inspected, {d} found)")
+    typer.echo(f"  {dec.reason}.")
+    if dec.action == "continue":
+        typer.echo(f"  Next decision point after {dec.more_to_next} more unit(s) "
+                   f"(n = {dec.next_decision_at}); at most {dec.more_at_most} more unit(s) "
+                   "before the plan has decided.")

@@ -1,0 +1,32 @@
+"""Benchmarks for double and sequential plans (see benchmark.py).
+
+Goals from issue 5: the exact OC and ASN of a sequential plan truncated at
+n = 2,000 over 200 quality levels under 200 ms, and the double-plan designer
+for AQL 1 %/RQL 5 % under 1 s in-process.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from lotwise.design.double import design_double
+from lotwise.plans import Scope
+from lotwise.sequential import SequentialPlan, sprt_lines
+
+H1, H2, S = sprt_lines(0.01, 0.05, 0.06, 0.10)
+PLAN = SequentialPlan(h1=H1, h2=H2, s=S, truncate=2000)
+PS = np.linspace(0.0, 0.15, 200)
+LOT = Scope(lot_size=10_000)
+
+CASES = [
+    {"name": "sequential exact OC+ASN, truncated at 2,000, 200 levels, binomial",
+     "func": lambda: PLAN.oc_asn(PS, "binomial", Scope()), "goal_ms": 200, "repeat": 9},
+    {"name": "sequential exact OC+ASN, truncated at 2,000, 200 levels, hypergeometric "
+             "(lot 10,000)",
+     "func": lambda: PLAN.oc_asn(PS, "hypergeometric", LOT), "goal_ms": 200, "repeat": 9},
+    {"name": "double-plan designer, AQL 1 %/RQL 5 %, binomial, ratio 2",
+     "func": lambda: design_double(aql=0.01, rql=0.05), "goal_ms": 1000, "repeat": 5},
+    {"name": "double-plan designer, AQL 1 %/RQL 5 %, hypergeometric (lot 1,000), ratio 2",
+     "func": lambda: design_double(aql=0.01, rql=0.05, lot_size=1000), "goal_ms": 1000,
+     "repeat": 5},
+]
