@@ -232,7 +232,7 @@ def test_cli_check_chain_and_skip_lot(capsys):
      "--skip-lot"),
     (["check", "--plan", "chain: n=20", "--aql", "1%", "--rql", "8%"], "--plan"),
     (["design", "--scheme", "chain", "--aql", "1%", "--rql", "8%", "--c", "1"], "--c"),
-    (["design", "--scheme", "double", "--aql", "1%", "--rql", "8%"], "--scheme"),
+    (["design", "--scheme", "triple", "--aql", "1%", "--rql", "8%"], "--scheme"),
 ])
 def test_cli_bad_input(argv, word, capsys):
     assert main(argv) == 2

@@ -164,8 +164,17 @@ def k_window(n: int, targets: Targets, sigma: str, limit: str, width: float | No
     if limit != "both" or sigma == "unknown":
         if sigma == "known":
             return z2 + zb / rn, z1 - za / rn
-        return (float(special.nctdtrit(n - 1.0, rn * z2, 1.0 - targets.beta)) / rn,
-                float(special.nctdtrit(n - 1.0, rn * z1, targets.alpha)) / rn)
+        k_lo = float(special.nctdtrit(n - 1.0, rn * z2, 1.0 - targets.beta)) / rn
+        k_hi = float(special.nctdtrit(n - 1.0, rn * z1, targets.alpha)) / rn
+        # nctdtrit returns NaN in some far tails: fall back on bisection of the
+        # exact curve (Pa falls in k), bracketed around the known-sigma window.
+        if not math.isfinite(k_lo):
+            k_lo = _bisect_k(lambda k: V.pa_unknown(n, k, targets.rql), targets.beta,
+                             z2 + zb / rn - 40.0, z2 + zb / rn + 40.0, False)
+        if not math.isfinite(k_hi):
+            k_hi = _bisect_k(lambda k: V.pa_unknown(n, k, targets.aql), 1.0 - targets.alpha,
+                             z1 - za / rn - 40.0, z1 - za / rn + 40.0, True)
+        return k_lo, k_hi
     # two limits, sigma known: Pa falls in k, bisection on the exact two-tail Pa.
     one_lo, one_hi = z2 + zb / rn, z1 - za / rn
     if width is not None:
