@@ -185,3 +185,27 @@ def test_variables_characteristic_on_the_sheet(tmp_path, capsys):
         assert f"n = {d['attributes']['n']}, c = {d['attributes']['c']}" in doc
     # the attributes characteristic is judged on the same, larger sample
     assert "| m1 | minor | n = 42 |" in md
+
+
+def test_double_plan_in_a_plan_file_is_audited(tmp_path, capsys):
+    # A characteristic may carry a given plan of any type; the sheet audits it
+    # with the same numbers as `check --json` (ASN included).
+    f = tmp_path / "dbl.toml"
+    f.write_text('[part]\nid = "X-1"\n[lot]\nsize = 2000\n[[characteristic]]\nid = "M1"\n'
+                 'class = "major"\naql = "1%"\nrql = "5%"\nplan = "n1=50,c1=1,r1=4,n2=100,c2=3"\n')
+    code = main(["sheet", str(f), "--out", str(tmp_path / "out")])
+    capsys.readouterr()
+    assert code == 1  # beta is 28.5 % against 10 %
+    text = pdf_text(tmp_path / "out" / "dbl.pdf")
+    _, rep = cli_json(capsys, "check", "--plan", "n1=50,c1=1,r1=4,n2=100,c2=3", "--aql", "1%",
+                      "--rql", "5%", "--lot-size", "2000")
+    r = rep["models"]["hypergeometric"]
+    assert f"{r['pa_aql']:.4f}" in text and f"{r['pa_rql']:.4f}" in text
+    assert f"{rep['asn']['aql']:.1f} at the AQL" in text
+
+
+def test_sheet_shows_the_tradeoff_view(tmp_path, capsys):
+    main(["sheet", str(PLANS / "qp-2210-manifold-block.toml"), "--out", str(tmp_path)])
+    capsys.readouterr()
+    md = (tmp_path / "qp-2210-manifold-block.md").read_text()
+    assert "same two risk points with a varying sample: double" in md and "sequential" in md

@@ -148,6 +148,19 @@ def _common_sample(req, chars, floor: int = 0) -> tuple[int, list]:
         n += 1
 
 
+def largest_sample(plan) -> int | None:
+    """Most units a plan may inspect in one lot (its sample size, when fixed)."""
+    n = getattr(plan, "n", None)
+    if isinstance(n, (tuple, list)):  # multiple plans: stage sizes
+        return int(sum(n))
+    if n is not None:
+        return int(n)
+    if hasattr(plan, "n1"):
+        return int(plan.n1 + plan.n2)
+    t = getattr(plan, "truncate", None)
+    return int(t) if t is not None else None
+
+
 def own_report(plan, ch, scope, model=None, design=None) -> dict:
     """Report for a characteristic judged on a plan of its own (any plan type):
     the keys of :func:`~lotwise.report.single_report` that apply."""
@@ -160,7 +173,7 @@ def own_report(plan, ch, scope, model=None, design=None) -> dict:
           "meets_beta": bool(row["beta"] <= t.beta + 1e-12)}
     mr["meets"] = mr["meets_alpha"] and mr["meets_beta"]
     rep = {"scheme": plan.scheme, "plan": plan.to_dict(), "label": plan.label,
-           "n": getattr(plan, "n", None), "model": row["model"], "lot_size": scope.lot_size,
+           "n": largest_sample(plan), "model": row["model"], "lot_size": scope.lot_size,
            "defects": scope.defects, "targets": row["targets"], "models": {row["model"]: mr},
            "meets": mr["meets"], "plan_quality": row["plan_quality"], "own_sample": True}
     if "asn" in row:
@@ -195,7 +208,7 @@ def resolve(req, *, verdict: bool = True) -> PartPlan:
     common = [ch for ch in chars if not ch.own_sample]
     try:
         own = {ch.id: _own_plan(ch, req) for ch in chars if ch.own_sample}
-        floor = max((getattr(p, "n", 0) or 0 for p, _ in own.values()), default=0)
+        floor = max((largest_sample(p) or 0 for p, _ in own.values()), default=0)
         n, common_plans = _common_sample(req, common, floor) if common else (None, [])
     except Infeasible as exc:
         return PartPlan(request=req, n=None, reports=[], designed=not req.fixed,

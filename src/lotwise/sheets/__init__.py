@@ -76,6 +76,7 @@ class SheetContent:
     footer: str
     verdict: str
     picks: list = field(default_factory=list)
+    alternatives: str = ""
 
 
 PLAN_HEADER = ["Characteristic", "Class", "Sample", "Accept (c)", "Reject (r)", "AQL / alpha",
@@ -88,7 +89,41 @@ def _lvl(x, per_unit):
     return format_level(x, per_unit)
 
 
-def build_content(pp, *, picks=None, today: _dt.date | None = None) -> SheetContent:
+def alternatives(pp) -> str:
+    """The trade-off view in one sentence: for the first designed attributes
+    characteristic, the double and sequential plans for the same two risk
+    points and their average sample numbers beside the single plan."""
+    if not pp.designed or pp.n is None:
+        return ""
+    single = {r["characteristic"]["id"] for r in pp.reports
+              if r.get("scheme") == "single" and not r.get("own_sample")}
+    ch = next((c for c in pp.request.characteristics if c.id in single and c.c is None), None)
+    if ch is None:
+        return ""
+    from ..tradeoff import asn_tradeoff
+
+    try:
+        tr = asn_tradeoff(ch.targets, pp.request.scope, model=pp.request.model)
+    except Exception:  # the view is an extra; never let it stop a sheet
+        return ""
+    parts, single_n = [], None
+    for row in tr.rows:
+        if row.scheme == "single" and row.plan is not None:
+            single_n = row.n_max
+        if row.plan is None or row.scheme == "single":
+            continue
+        verdict = "" if row.meets else ", NOT meeting a target exactly"
+        parts.append(f"{row.scheme} {row.label} (average sample {row.asn_aql:.1f} at the AQL, "
+                     f"{row.asn_rql:.1f} at the RQL, at most {row.n_max}{verdict})")
+    if not parts or single_n is None:
+        return ""
+    return (f"{ch.id}, same two risk points with a varying sample: " + "; ".join(parts)
+            + f"; against {single_n} units every lot for its single plan alone (see lotwise "
+            "design --scheme compare-all).")
+
+
+def build_content(pp, *, picks=None, today: _dt.date | None = None,
+                  alternatives_text: str = "") -> SheetContent:
     """Format a :class:`~lotwise.partplan.PartPlan` for the sheets."""
     req = pp.request
     scope = req.scope
@@ -122,8 +157,9 @@ def build_content(pp, *, picks=None, today: _dt.date | None = None) -> SheetCont
         if own:
             k = rep["plan"].get("k")
             rule = f"statistic >= k = {k:g}" if k is not None else "see the plan above"
-            plan_rows.append([ch["id"], ch["class"], f"n = {rep['n']}" if rep["n"] else "varies",
-                              rule, "otherwise", *levels])
+            fixed = rep["plan"].get("scheme") == "variables"
+            size = f"n = {rep['n']}" if fixed else f"up to {rep['n']}"
+            plan_rows.append([ch["id"], ch["class"], size, rule, "otherwise", *levels])
         else:
             plan_rows.append([ch["id"], ch["class"], f"n = {rep['n']}", str(rep["c"]),
                               str(rep["r"]), *levels])
@@ -135,6 +171,9 @@ def build_content(pp, *, picks=None, today: _dt.date | None = None) -> SheetCont
         q = rep["plan_quality"]
         unit = "" if per_unit else " nonconforming"
         name = _plan_name(rep)
+        if "asn" in rep:
+            name += (f"; average sample {rep['asn']['aql']:.1f} at the AQL, "
+                     f"{rep['asn']['rql']:.1f} at the RQL")
         guar.append(
             f"{ch['id']} ({name}): accepts lots at "
             f"{_lvl(q['producer'], per_unit)}{unit} {format_pct(1 - t['alpha'])} of the time (the "
@@ -210,7 +249,8 @@ def build_content(pp, *, picks=None, today: _dt.date | None = None) -> SheetCont
                         model_note=note, selection=selection,
                         rejected=req.rejected_lot or DEFAULT_REJECTED, cautions=cautions,
                         rationale=req.rationale, footer=footer, verdict=verdict,
-                        picks=list(picks.units) if picks is not None else [])
+                        picks=list(picks.units) if picks is not None else [],
+                        alternatives=alternatives_text)
 
 
 def oc_rows(pp, points: int = 41):
@@ -313,7 +353,7 @@ def write_sheets(pp, out_dir, *, force: bool = False, today=None) -> dict:
 
         seed = req.seed if req.seed is not None else int(req.fingerprint()[:8], 16)
         picks = draw_units(lot_size=req.scope.lot_size, n=pp.n, seed=seed, strata=req.strata)
-    content = build_content(pp, picks=picks, today=today)
+    content = build_content(pp, picks=picks, today=today, alternatives_text=alternatives(pp))
     if pp.n is not None:
         header, rows = oc_rows(pp)
         csv = ",".join(header) + "\n" + "".join(

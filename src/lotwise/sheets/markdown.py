@@ -21,6 +21,8 @@ def render(content, png: str | None = None, extra_png: str | None = None) -> str
     lines += ["", "## Plan", "", c.plan_line, ""]
     if c.plan_rows:
         lines += [_table(PLAN_HEADER, c.plan_rows), ""]
+    if c.alternatives:
+        lines += [c.alternatives, ""]
     if c.risk_rows:
         lines += ["## Targets against achieved risks", "", _table(RISK_HEADER, c.risk_rows), "",
                   c.model_note, ""]

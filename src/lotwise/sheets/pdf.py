@@ -101,6 +101,8 @@ def _layout(content, pp, scale: float):
     pg.text(c.plan_line, size=8.0, weight="bold")
     if c.plan_rows:
         pg.table(PLAN_HEADER, c.plan_rows, [1.0, 0.7, 0.85, 1.4, 0.8, 1.35, 1.35])
+    if c.alternatives:
+        pg.text(c.alternatives, size=6.8, color="0.2")
     if c.risk_rows:
         pg.heading("Targets against achieved risks (every applicable model)")
         pg.table(RISK_HEADER, c.risk_rows, [0.75, 1.25, 0.7, 0.65, 0.65, 0.7, 0.65, 0.65, 0.7],
