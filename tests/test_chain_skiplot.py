@@ -1,4 +1,4 @@
-"""ChSP-1 chain sampling and SkSP-2 skip-lot sampling: OC functions against
+"""ChSP-1 chain sampling and SkSP-2 skip-lot plans: OC functions against
 direct simulation of many lots, mpmath, and brute-force design search."""
 
 from __future__ import annotations

@@ -1,4 +1,4 @@
-"""lotwise: exact acceptance sampling plans for incoming inspection."""
+"""lotwise: exact sampling plans for lot acceptance for incoming inspection."""
 
 __version__ = "0.1.0"
 

@@ -61,8 +61,8 @@ messages are those of ``lotwise design``.
 
 References
 ----------
-.. [1] E. G. Schilling and D. V. Neubauer, *Acceptance Sampling in Quality
-   Control*, 2nd ed., ch. 5 (two-point single plans).
+.. [1] E. G. Schilling and D. V. Neubauer, 2nd ed. (CRC Press,
+    2009), ch. 5 (two-point single plans).
 
 Examples
 --------

@@ -34,8 +34,8 @@ References
 ----------
 .. [1] H. F. Dodge, "Chain sampling inspection plan", *Industrial Quality
    Control* 11(4) (1955) 10-13.
-.. [2] E. G. Schilling and D. V. Neubauer, *Acceptance Sampling in Quality
-   Control*, 2nd ed., ch. 13 (chain sampling).
+.. [2] E. G. Schilling and D. V. Neubauer, 2nd ed. (CRC Press,
+    2009), ch. 13 (chain sampling).
 
 Examples
 --------

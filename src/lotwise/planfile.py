@@ -87,7 +87,7 @@ __all__ = ["Characteristic", "PlanRequest", "load", "loads", "CLASSES"]
 CLASSES = ("critical", "major", "minor")
 COUNTS = ("items", "nonconformities")
 
-_TOP = {"rationale", "part", "lot", "sampling", "characteristic"}
+_TOP = {"rationale", "part", "sampling", "lot", "characteristic"}
 _PART = {"id", "description", "supplier", "drawing", "revision"}
 _LOT = {"size", "definition", "counts"}
 _SAMPLING = {"model", "n", "max_n", "cost_per_unit", "seed", "strata", "rejected_lot"}
@@ -250,7 +250,7 @@ def loads(text: str, path: str = "<plan>") -> PlanRequest:
                              "least 0")
         cost = float(v)
     strata = _text(smp, "strata", "sampling.", path) or None
-    rejected = _text(smp, "rejected_lot", "sampling.", path)
+    rejected = _text(smp, "rejected_lot", where="sampling.", path=path)
     rationale = _text(doc, "rationale", "", path)
 
     chars_raw = doc.get("characteristic")

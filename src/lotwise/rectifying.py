@@ -63,8 +63,8 @@ References
    Prentice-Hall, 1973, ch. 5.
 .. [2] H. F. Dodge and H. G. Romig, *Sampling Inspection Tables*, 2nd ed.,
    Wiley, 1959 (AOQ, AOQL and ATI of rectifying inspection).
-.. [3] E. G. Schilling and D. V. Neubauer, *Acceptance Sampling in Quality
-   Control*, 2nd ed., ch. 10 (rectifying inspection; AOQL factors).
+.. [3] E. G. Schilling and D. V. Neubauer, 2nd ed. (CRC Press,
+    2009), ch. 10 (rectifying inspection; AOQL factors).
 
 Examples
 --------

@@ -1,4 +1,4 @@
-"""Skip-lot sampling, Perry's SkSP-2 [1]_: inspect only a fraction of the
+"""Skip-lot plans, Perry's SkSP-2 [1]_: inspect only a fraction of the
 lots once a supplier has a clean record.
 
 Rule, with a *reference plan* (any lot-by-lot plan, e.g. single sampling),
@@ -29,10 +29,10 @@ inspecting every characteristic the contract calls for.
 
 References
 ----------
-.. [1] R. L. Perry, "Skip-lot sampling plans", *Journal of Quality
-   Technology* 5(3) (1973) 123-130.
-.. [2] E. G. Schilling and D. V. Neubauer, *Acceptance Sampling in Quality
-   Control*, 2nd ed., ch. 13.
+.. [1] R. L. Perry, *Journal of Quality Technology* 5(3) (1973) 123-130
+   (the paper that introduced SkSP-2).
+.. [2] E. G. Schilling and D. V. Neubauer, 2nd ed. (CRC Press,
+    2009), ch. 13.
 
 Examples
 --------

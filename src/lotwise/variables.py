@@ -89,7 +89,7 @@ References
    by variables", *Journal of the American Statistical Association* 50
    (1955), 457-516.
 .. [3] D. C. Montgomery, *Introduction to Statistical Quality Control*,
-   chapter on acceptance sampling by variables.
+   chapter on variables sampling plans.
 .. [4] D. B. Owen, "A survey of properties and applications of the
    noncentral t-distribution", *Technometrics* 10 (1968), 445-478.
 

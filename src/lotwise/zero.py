@@ -25,8 +25,8 @@ References
 ----------
 .. [1] N. L. Squeglia, *Zero Acceptance Number Sampling Plans*, 5th ed., ASQ
    Quality Press, 2008 (the case for and against c = 0 plans).
-.. [2] E. G. Schilling and D. V. Neubauer, *Acceptance Sampling in Quality
-   Control*, 2nd ed., ch. 5.
+.. [2] E. G. Schilling and D. V. Neubauer, 2nd ed. (CRC Press,
+    2009), ch. 5.
 
 Examples
 --------

@@ -14,7 +14,7 @@ import typer
 
 app = typer.Typer(
     name="lotwise",
-    help="Design, audit and document acceptance sampling plans, computed exactly.",
+    help="Design, audit and document sampling plans for lot acceptance, computed exactly.",
     add_completion=False,
     no_args_is_help=True,
     pretty_exceptions_enable=False,
@@ -25,7 +25,7 @@ app = typer.Typer(
 
 @app.callback()
 def _group() -> None:
-    """Design, audit and document acceptance sampling plans, computed exactly."""
+    """Design, audit and document sampling plans for lot acceptance, computed exactly."""
     # A callback keeps typer treating the app as a group of commands even when
     # only the one command being run has been imported.
 

@@ -45,8 +45,8 @@ References
 ----------
 .. [1] D. C. Montgomery, *Introduction to Statistical Quality Control*,
    section 15.3.
-.. [2] E. G. Schilling and D. V. Neubauer, *Acceptance Sampling in Quality
-   Control*, 2nd ed., ch. 6 (double sampling plans matched to two points).
+.. [2] E. G. Schilling and D. V. Neubauer, 2nd ed. (CRC Press,
+    2009), ch. 6 (double sampling plans matched to two points).
 
 Examples
 --------

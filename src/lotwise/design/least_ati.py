@@ -52,8 +52,8 @@ References
 ----------
 .. [1] H. F. Dodge and H. G. Romig, *Sampling Inspection Tables*, 2nd ed.,
    Wiley, 1959.
-.. [2] E. G. Schilling and D. V. Neubauer, *Acceptance Sampling in Quality
-   Control*, 2nd ed., ch. 10.
+.. [2] E. G. Schilling and D. V. Neubauer, 2nd ed. (CRC Press,
+    2009), ch. 10.
 
 Examples
 --------

@@ -34,8 +34,8 @@ down at the RQL (``D2 = floor(RQL N)``).
 
 References
 ----------
-.. [1] E. G. Schilling and D. V. Neubauer, *Acceptance Sampling in Quality
-   Control*, 2nd ed., ch. 5 (two-point single plans).
+.. [1] E. G. Schilling and D. V. Neubauer, 2nd ed. (CRC Press,
+    2009), ch. 5 (two-point single plans).
 .. [2] D. C. Montgomery, *Introduction to Statistical Quality Control*,
    section 15.2 (design of single sampling plans with specified OC points).
 

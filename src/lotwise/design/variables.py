@@ -70,7 +70,7 @@ References
 .. [2] G. J. Lieberman and G. J. Resnikoff, "Sampling plans for inspection
    by variables", *J. Amer. Statist. Assoc.* 50 (1955), 457-516.
 .. [3] D. C. Montgomery, *Introduction to Statistical Quality Control*,
-   chapter on acceptance sampling by variables.
+   chapter on variables sampling plans.
 
 Examples
 --------

@@ -28,7 +28,7 @@ from ..quantities import format_level, format_pct
 __all__ = ["CAUTION", "SheetContent", "build_content", "write_sheets", "fmt_pa"]
 
 CAUTION = (
-    "Acceptance sampling judges lots; it cannot guarantee that an accepted lot is free of "
+    "Sampling inspection judges lots; it cannot guarantee that an accepted lot is free of "
     "nonconforming items, and a plan's protection holds only under random selection and the "
     "stated model. Critical (safety-related) characteristics call for 100 % inspection, "
     "error-proofing or the stricter plans a contract or regulation requires. The user remains "
@@ -45,7 +45,7 @@ DEFAULT_REJECTED = (
 )
 
 _MODEL_TEXT = {
-    "hypergeometric": "hypergeometric (finite lot, sampling without replacement; type A OC)",
+    "hypergeometric": "hypergeometric (finite lot, drawn without replacement; type A OC)",
     "binomial": "binomial (process fraction nonconforming; type B OC)",
     "poisson": "Poisson",
 }
