@@ -452,6 +452,14 @@ def records_cases() -> list:
 PROVIDERS: list[str] = [
     "lotwise.validation:single_sampling_cases",
     "lotwise.validation:records_cases",
+    "lotwise.validation_plans:rectifying_cases",
+    "lotwise.validation_plans:least_inspection_cases",
+    "lotwise.validation_plans:zero_acceptance_cases",
+    "lotwise.validation_plans:reliability_cases",
+    "lotwise.validation_plans:chain_skiplot_cases",
+    "lotwise.validation_plans:multistage_cases",
+    "lotwise.validation_plans:sequential_cases",
+    "lotwise.validation_plans:variables_cases",
 ]
 
 

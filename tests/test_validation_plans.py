@@ -1,0 +1,110 @@
+"""The reference cases of the plan families beyond single sampling: each one
+passes, each provider is registered, and an altered reference value fails."""
+
+from __future__ import annotations
+
+import dataclasses
+import time
+
+import pytest
+
+import lotwise.validation as validation
+import lotwise.validation_plans as plans
+from lotwise.validation import all_cases, markdown_report, run_cases
+
+SPECS = [f"lotwise.validation_plans:{name}" for name in plans.__all__]
+
+
+@pytest.fixture(scope="module")
+def timed():
+    start = time.perf_counter()
+    val = run_cases(all_cases(SPECS))
+    return val, time.perf_counter() - start
+
+
+def test_every_new_case_passes(timed):
+    val, _ = timed
+    bad = [(r.case.id, r.expected, r.computed, r.note) for r in val.results
+           if r.verdict != "pass"]
+    assert bad == [] and val.verdict == "PASSED"
+
+
+def test_new_cases_are_fast(timed):
+    # The whole `lotwise validate` must stay well under 30 s; these cases take
+    # a few seconds (a generous bound for a shared machine).
+    assert timed[1] < 20
+
+
+def test_every_provider_is_registered_and_yields_cases():
+    for spec in SPECS:
+        assert spec in validation.PROVIDERS
+    ids = {c.id for c in all_cases()}  # all registered providers: no duplicate id
+    for name in plans.__all__:
+        cases = getattr(plans, name)()
+        assert cases, name
+        assert len({c.area for c in cases}) == 1  # one area per provider
+        for c in cases:
+            assert c.id in ids and c.source and c.description and c.tolerance >= 0
+
+
+def test_registry_covers_the_plan_family_references():
+    ids = {c.id for c in all_cases(SPECS)}
+    for needed in ("aoql-factor-c0", "aoql-factor-c5", "homework-aoql-n20-c1-N4000",
+                   "demonstration-c95-r90-k0", "demonstration-c95-r90-k1",
+                   "demonstration-c80-r80-k0", "demonstration-c70-r70-k0",
+                   "demonstration-c95-r95-k0", "demonstration-finite-lot-N20",
+                   "demonstration-finite-lot-N100", "zero-finite-lot-N20", "rule-of-three-n20",
+                   "clopper-pearson-1-of-10-c95", "montgomery-double-pa",
+                   "montgomery-double-asn", "montgomery-double-pa-first",
+                   "montgomery-double-pa-second", "montgomery-sprt-h1", "montgomery-sprt-h2",
+                   "montgomery-sprt-s", "nist-double-r1-c2-c4-pa95", "nist-double-r1-c2-c4-pa10",
+                   "nist-double-r2-c1-c4-pa95", "known-sigma-closed-form-n-exact-z",
+                   "known-sigma-closed-form-k-exact-z", "montgomery-variables-known-n",
+                   "montgomery-variables-unknown-n", "noncentral-t-n42-k1_901-p6pct-scipy",
+                   "least-ati-N80-hypergeometric", "chain-design-aql1-rql15"):
+        assert needed in ids, needed
+
+
+def test_sources_as_the_tests_word_them():
+    by_id = {c.id: c for c in all_cases(SPECS)}
+    assert by_id["aoql-factor-c3"].source.endswith("from memory")
+    assert "common practice, no source" in by_id["demonstration-c95-r95-k0"].source
+    assert "common practice, no source" in by_id["rule-of-three-n20"].source
+    assert "scipy.stats.binomtest" in by_id["clopper-pearson-3-of-1000-c80"].source
+    assert "scipy.stats.nct" in by_id["noncentral-t-n10-k1_5-p5pct-scipy"].source
+    assert "NIST/SEMATECH" in by_id["nist-double-r1-c2-c4-pa10"].source
+    # the two values kept with the test's looser convention say why
+    assert "5.3847" in by_id["nist-double-r1-c2-c4-pa10"].description
+    assert "nomograph" in by_id["montgomery-variables-unknown-n"].description
+    assert by_id["nist-double-r1-c2-c4-pa10"].tolerance == 0.006
+    assert by_id["montgomery-variables-unknown-n"].tolerance == 3
+
+
+def test_report_lists_the_new_cases_with_sources(timed):
+    md = markdown_report(timed[0])
+    for r in timed[0].results:
+        assert f"| {r.case.id} | {r.case.description.replace('|', '/')} | " \
+               f"{r.case.source.replace('|', '/')} |" in md
+    for area in ("Rectifying inspection", "Double and multiple plans", "Variables plans",
+                 "Sequential plans", "Chain and skip-lot sampling"):
+        assert f"## {area}" in md
+
+
+# One literal, one tuple and one run-time reference, each moved just outside
+# its tolerance.
+@pytest.mark.parametrize("case_id, change", [
+    ("montgomery-double-asn", lambda c: 98.20),
+    ("nist-double-r1-c2-c4-pa10", lambda c: 5.40),
+    ("chain-design-aql1-rql15", lambda c: (15, 3)),
+    ("aoql-factor-c2-mpmath", lambda c: (lambda f=c.expected: f() + 1e-9)),
+    ("montgomery-variables-unknown-n", lambda c: 38),
+])
+def test_an_altered_reference_value_fails_loudly(case_id, change):
+    cases = [dataclasses.replace(c, expected=change(c)) if c.id == case_id else c
+             for c in all_cases(SPECS)]
+    val = run_cases(cases)
+    failed = [r for r in val.results if r.verdict != "pass"]
+    assert [(r.case.id, r.verdict) for r in failed] == [(case_id, "FAIL")]
+    assert val.verdict == "FAILED"
+    md = markdown_report(val)
+    assert "Verdict: **FAILED**" in md and f"| {case_id} |" in md
