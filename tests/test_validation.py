@@ -122,7 +122,7 @@ def test_errors_and_skips_are_not_passes():
 
 def test_duplicate_ids_are_refused(monkeypatch):
     with pytest.raises(ValueError, match="registered twice"):
-        all_cases(["test_validation:_broken", "test_validation:_broken"])
+        all_cases([f"{__name__}:_broken", f"{__name__}:_broken"])
 
 
 def test_cli_out_must_be_a_folder(tmp_path, capsys):

@@ -3,8 +3,9 @@
 A quality system that relies on this tool to justify sampling must show
 that the tool computes what it claims (software validation). ``lotwise
 validate`` runs a registry of *reference cases* -- published tables and
-worked examples, facts of the trade and cross-checks against the mpmath
-arbitrary-precision library computed at run time -- and writes a dated
+worked examples, facts of the trade and cross-checks computed at run time
+against general-purpose reference libraries (mpmath, scipy.stats) -- and
+writes a dated
 report, in Markdown and PDF, of every case: what was expected, what the tool
 computed, the tolerance and the verdict, with the versions of the tool and
 of its dependencies.
@@ -584,7 +585,9 @@ def _rows(val: Validation):
 
 
 _INTRO = ("Each case reproduces a published table value or worked example, a fact of the "
-          "trade, or an exact-arithmetic cross-check computed at run time with mpmath. A case "
+          "trade, or a cross-check computed at run time with a general-purpose reference "
+          "library (mpmath for exact arithmetic, scipy.stats where our code does not call "
+          "it). A case "
           "passes when the computed value lies within the stated absolute tolerance of the "
           "expected one (0 means exact agreement).")
 
