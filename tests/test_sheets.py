@@ -209,3 +209,16 @@ def test_sheet_shows_the_tradeoff_view(tmp_path, capsys):
     capsys.readouterr()
     md = (tmp_path / "qp-2210-manifold-block.md").read_text()
     assert "same two risk points with a varying sample: double" in md and "sequential" in md
+
+
+def test_compare_designed_tradeoff(capsys):
+    # The trade-off view in compare: single, double and sequential plans for
+    # the same two points, each meeting them (exact), with the ASN of the
+    # varying-sample plans below the single plan's fixed n at the AQL.
+    code, d = cli_json(capsys, "compare", "--designed", "--aql", "1%", "--rql", "6%")
+    assert code == 0
+    by = {p["scheme"]: p for p in d["plans"]}
+    assert set(by) == {"single", "double", "sequential"}
+    assert (by["single"]["plan"]["n"], by["single"]["plan"]["c"]) == (110, 3)
+    for s in ("double", "sequential"):
+        assert by[s]["meets"] and by[s]["asn"]["aql"] < 110

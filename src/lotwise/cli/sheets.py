@@ -108,11 +108,12 @@ def compare(
     lot: Optional[str] = common.LOT,
     model: Optional[str] = common.MODEL,
     defects: bool = common.DEFECTS,
+    designed: bool = typer.Option(False, "--designed", help="Add the single, double and sequential plans designed for --aql/--rql (the trade-off view)."),
     plot: Optional[str] = typer.Option(None, "--plot", help="OC curves of all plans to PATH.png/.svg."),
     force: bool = typer.Option(False, "--force", help="Overwrite files lotwise did not write."),
     as_json: bool = common.JSON,
 ):
-    """Several plans side by side: risks, quality levels, one OC plot."""
+    """Several plans side by side: risks, quality levels, ASN, one OC plot."""
     from ..design.single import Targets
     from ..plans import Scope, parse_plan
     from ..quantities import format_level, format_pct
@@ -121,12 +122,20 @@ def compare(
         for rep, p in zip(pp.reports, pp.plans):
             entries.append((f"{pp.request.part_id}/{rep['characteristic']['id']}", p,
                             Targets(**rep["targets"]), pp.request.scope, pp.request.model))
-    if plan:
+    if plan or designed:
         a, r = common.levels(aql, rql, defects)
         al, be = common.risks(alpha, beta)
         scope = Scope(lot_size=common.lot_size(lot), defects=defects)
         mdl = scope.check_model(model)
-        for i, text in enumerate(plan, 1):
+        if designed:
+            from ..tradeoff import asn_tradeoff
+
+            tr = asn_tradeoff(Targets(aql=a, rql=r, alpha=al, beta=be), scope, model=mdl)
+            for row in tr.rows:
+                if row.plan is not None:
+                    entries.append((f"designed {row.scheme}: {row.label}", row.plan,
+                                    Targets(aql=a, rql=r, alpha=al, beta=be), scope, mdl))
+        for i, text in enumerate(plan or [], 1):
             p = parse_plan(text, f"--plan #{i}")
             if scope.lot_size and (getattr(p, "n", 0) or 0) > scope.lot_size:
                 raise InputError(f"--plan #{i} ({text}): n must not be greater than --lot-size "
