@@ -41,6 +41,10 @@ def median_ms(func, repeat: int) -> float:
     return 1000.0 * statistics.median(times)
 
 
+def _ratio(r: float) -> str:
+    return f"{r:,.0f}x" if r >= 10 else f"{r:.2f}x"
+
+
 def load_cases():
     sys.path.insert(0, str(HERE))
     for path in sorted(HERE.glob("bench_*.py")):
@@ -71,10 +75,10 @@ def main(argv=None) -> int:
             base = median_ms(case["baseline"], case.get("baseline_repeat", 3))
             ratio = base / med if med > 0 else float("inf")
             rg = case.get("ratio_goal")
-            if rg is not None and ratio < rg:
-                status = "SLOW"
+            if rg is not None:
+                status = "SLOW" if ratio < rg or status == "SLOW" else "ok"
         rows.append((case["name"], med, goal, ratio, case.get("ratio_goal"), status))
-        r = "" if ratio is None else f"  ratio {ratio:,.0f}x (goal >= {case.get('ratio_goal')}x)"
+        r = "" if ratio is None else f"  ratio {_ratio(ratio)} (goal >= {case.get('ratio_goal')}x)"
         g = "" if goal is None else f" (goal <= {goal:g} ms)"
         print(f"{case['name']}: median {med:.2f} ms{g}{r}  {status}", flush=True)
     print()
@@ -82,7 +86,7 @@ def main(argv=None) -> int:
     print("|---|---|---|---|---|")
     for name, med, goal, ratio, rg, status in rows:
         print(f"| {name} | {med:.2f} ms | {'' if goal is None else f'<= {goal:g} ms'} | "
-              f"{'' if ratio is None else f'{ratio:,.0f}x (goal >= {rg}x)'} | {status or '-'} |")
+              f"{'' if ratio is None else f'{_ratio(ratio)} (goal >= {rg}x)'} | {status or '-'} |")
     return 1 if any(r[-1] == "SLOW" for r in rows) else 0
 
 

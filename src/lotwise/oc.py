@@ -182,7 +182,11 @@ def _bd0(x, m):
     total = (x - m) * v
     ej = 2.0 * x * v
     v2 = v * v
-    for j in range(1, 10):
+    # Terms shrink by v^2 <= 0.01 each; take as many as the largest v needs
+    # to fall below double precision (at most nine).
+    top = float(v2.max()) if v2.size else 0.0
+    terms = 9 if top >= 0.01 else (0 if top == 0.0 else min(9, int(-16.5 / np.log10(top)) + 1))
+    for j in range(1, terms + 1):
         ej = ej * v2
         total = total + ej / (2 * j + 1)
     return np.where(near, total, far)

@@ -154,12 +154,15 @@ class _Kernel:
 
 
 def _initial_upper(kernel: _Kernel, c: np.ndarray, beta: float) -> np.ndarray:
-    """A sample size meeting the consumer's risk for each ``c`` (or the cap)."""
-    if kernel.model == "hypergeometric":
-        return np.full(c.shape, kernel.N, dtype=np.int64)
+    """A first guess at a sample size meeting the consumer's risk for each
+    ``c``, from the Poisson approximation; :func:`_n_min` checks it and
+    doubles it (up to the cap) where it falls short."""
     lam = special.gammainccinv(c + 1.0, beta)  # Poisson mean with Pa = beta
     guess = np.ceil(1.05 * lam / kernel.t.rql) + 2
-    return np.maximum(guess, c + 1).astype(np.int64)
+    guess = np.maximum(guess, c + 1)
+    if kernel.model == "hypergeometric":
+        guess = np.minimum(guess, kernel.N)
+    return guess.astype(np.int64)
 
 
 def _n_min(kernel: _Kernel, c: np.ndarray, beta: float, cap: int | None) -> np.ndarray:
@@ -190,6 +193,14 @@ def _n_min(kernel: _Kernel, c: np.ndarray, beta: float, cap: int | None) -> np.n
         ok[grow] = kernel.at_rql(hi[grow], c[grow]) <= beta + _TOL
     lo = np.minimum(c, hi - 1)  # n = c accepts every lot, so Pa = 1 > beta
     lo = np.maximum(lo, 0)
+    # A tighter lower end where the answer is not far below the bracket's top
+    # (checked: only a size whose Pa still exceeds beta may serve as ``lo``).
+    near = np.maximum(lo, (0.8 * hi).astype(np.int64))
+    try_ = ok & (near > lo) & (near < hi)
+    if try_.any():
+        above = kernel.at_rql(near[try_], c[try_]) > beta + _TOL
+        idx = np.flatnonzero(try_)[above]
+        lo[idx] = near[idx]
     act = ok & (hi - lo > 1)
     while act.any():
         mid = (lo[act] + hi[act]) // 2
