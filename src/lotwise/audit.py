@@ -156,48 +156,55 @@ def quality_at(plan: SinglePlan, prob: float, model: str, scope: Scope,
         if model == "binomial":
             return float(special.betainccinv(c + 1.0, n - c, prob))
         return float(special.gammainccinv(c + 1.0, prob)) / n
+    return _count_search(plan, prob, scope, side)
+
+
+def _count_search(plan, prob: float, scope: Scope, side: str) -> float:
+    """Whole-count search under the hypergeometric model (Pa falls in ``D``):
+    ``side='producer'`` gives the largest ``D/N`` with ``Pa >= prob``, any other
+    side the smallest ``D/N`` with ``Pa <= prob``. Each pass evaluates up to 127
+    counts inside the bracket in one vectorised call and keeps the
+    sub-interval where ``Pa`` crosses ``prob`` (a 128-fold narrowing)."""
     N = scope.lot_size
-    lo, hi = 0, N  # Pa(D=0) = 1; Pa falls in D
-    pa = lambda d: float(plan.pa_count(d, scope))  # noqa: E731
     if side == "producer":
-        # largest D with Pa(D) >= prob
-        if pa(N) >= prob:
-            return 1.0
-        while hi - lo > 1:
-            mid = (lo + hi) // 2
-            if pa(mid) >= prob - _TOL:
-                lo = mid
-            else:
-                hi = mid
-        return lo / N
-    # smallest D with Pa(D) <= prob
-    if pa(0) <= prob:
-        return 0.0
-    if pa(N) > prob + _TOL:
+        good = lambda pa: pa >= prob - _TOL  # noqa: E731  (true for small D)
+    else:
+        good = lambda pa: pa > prob + _TOL  # noqa: E731
+    if good(float(plan.pa_count(N, scope))):
         return 1.0
+    if not good(float(plan.pa_count(0, scope))):
+        return 0.0
+    lo, hi = 0, N  # good(lo) holds, good(hi) does not
     while hi - lo > 1:
-        mid = (lo + hi) // 2
-        if pa(mid) <= prob + _TOL:
-            hi = mid
-        else:
-            lo = mid
-    return hi / N
+        ds = np.unique(np.linspace(lo, hi, 129).round().astype(np.int64)[1:-1])
+        ds = ds[(ds > lo) & (ds < hi)]
+        if not ds.size:
+            break
+        ok = good(np.atleast_1d(np.asarray(plan.pa_count(ds, scope), dtype=float)))
+        if ok.any():
+            lo = int(ds[np.flatnonzero(ok)[-1]])
+        if (~ok).any():
+            hi = int(ds[np.flatnonzero(~ok)[0]])
+    return (lo if side == "producer" else hi) / N
 
 
 def _invert(plan, prob: float, model: str, scope: Scope) -> float:
-    """Quality level where ``plan.pa`` equals ``prob``, by bisection on ``p``
-    (Pa falls in p); for plan types without a closed-form inverse."""
+    """Quality level where ``plan.pa`` equals ``prob`` under a continuous model,
+    for plan types without a closed-form inverse: ``Pa`` falls in ``p``, so each
+    pass evaluates 127 levels inside the bracket in one vectorised call and
+    keeps the sub-interval where ``Pa`` crosses ``prob``."""
     lo, hi = 0.0, 1.0
     if scope.defects:  # nonconformities per unit have no upper bound
         while float(plan.pa(hi, model, scope)) > prob and hi < 1e6:
             hi *= 2.0
-    for _ in range(200):
-        mid = 0.5 * (lo + hi)
-        if float(plan.pa(mid, model, scope)) > prob:
-            lo = mid
-        else:
-            hi = mid
-        if hi - lo <= 1e-15 * max(hi, 1e-300):
+    for _ in range(40):
+        xs = np.linspace(lo, hi, 129)[1:-1]
+        above = np.atleast_1d(np.asarray(plan.pa(xs, model, scope), dtype=float)) > prob
+        if above.any():
+            lo = float(xs[np.flatnonzero(above)[-1]])
+        if (~above).any():
+            hi = float(xs[np.flatnonzero(~above)[0]])
+        if hi - lo <= 1e-13 * max(hi, 1e-300):
             break
     return 0.5 * (lo + hi)
 

@@ -31,7 +31,7 @@ _TOL = 1e-12
 
 def row_for(label, plan, targets, scope, model=None) -> dict:
     """One comparison row (JSON-ready)."""
-    from .audit import _invert
+    from .audit import quality_at
     from .report import single_report
 
     if plan.scheme == "single":
@@ -51,9 +51,9 @@ def row_for(label, plan, targets, scope, model=None) -> dict:
            "meets": bool(1 - pa_aql <= targets.alpha + _TOL and pa_rql <= targets.beta + _TOL),
            "targets": targets.as_dict(), "defects": scope.defects,
            "plan_quality": {
-               "producer": _invert(plan, 1 - targets.alpha, mdl, scope),
-               "indifference": _invert(plan, 0.5, mdl, scope),
-               "consumer": _invert(plan, targets.beta, mdl, scope)}}
+               "producer": quality_at(plan, 1 - targets.alpha, mdl, scope, "producer"),
+               "indifference": quality_at(plan, 0.5, mdl, scope, "indifference"),
+               "consumer": quality_at(plan, targets.beta, mdl, scope, "consumer")}}
     if hasattr(plan, "asn"):
         row["asn"] = {"aql": float(plan.asn(targets.aql, mdl, scope)),
                       "rql": float(plan.asn(targets.rql, mdl, scope))}

@@ -57,57 +57,11 @@ SAFETY = ("Sampling cannot guarantee a lot free of nonconforming items; critical
 
 
 def quality_level(plan, prob: float, model: str, scope: Scope, side: str = "producer") -> float:
-    """Quality level where ``Pa`` equals ``prob`` (any plan).
+    """Quality level where ``Pa`` equals ``prob`` (any plan): see
+    :func:`lotwise.audit.quality_at`."""
+    from .audit import quality_at
 
-    ``Pa`` falls as quality worsens for every plan here (a rejection can only
-    come sooner when a conforming unit is replaced by a nonconforming one),
-    so a bracketing search applies: on ``p`` for the binomial and Poisson
-    models, on the whole count ``D`` under the hypergeometric model, where
-    ``side='producer'`` gives the largest ``D/N`` with ``Pa >= prob`` and
-    any other side the smallest ``D/N`` with ``Pa <= prob``. Each pass
-    evaluates 127 points inside the bracket in one vectorised call and keeps
-    the sub-interval where ``Pa`` crosses ``prob`` (a 128-fold narrowing).
-    """
-    if isinstance(plan, SinglePlan):
-        from .audit import quality_at
-
-        return quality_at(plan, prob, model, scope, side)
-    if model == "hypergeometric":
-        N = scope.lot_size
-        if side == "producer":
-            good = lambda pa: pa >= prob - _TOL  # noqa: E731  (true for small D)
-        else:
-            good = lambda pa: pa > prob + _TOL  # noqa: E731
-        lo, hi = 0, N  # good(lo) holds (Pa(0) = 1), good(hi) is checked
-        if good(float(plan.pa_count(N, scope))):
-            return 1.0
-        if not good(float(plan.pa_count(0, scope))):
-            return 0.0
-        while hi - lo > 1:
-            ds = np.unique(np.linspace(lo, hi, 129).round().astype(np.int64)[1:-1])
-            ds = ds[(ds > lo) & (ds < hi)]
-            if not ds.size:
-                break
-            ok = np.asarray([good(v) for v in np.atleast_1d(plan.pa_count(ds, scope))])
-            if ok.any():
-                lo = int(ds[np.flatnonzero(ok)[-1]])
-            if (~ok).any():
-                hi = int(ds[np.flatnonzero(~ok)[0]])
-        return (lo if side == "producer" else hi) / N
-    lo, hi = 0.0, 1.0
-    if scope.defects:
-        while float(plan.pa(hi, model, scope)) > prob and hi < 1e6:
-            hi *= 2.0
-    for _ in range(40):
-        xs = np.linspace(lo, hi, 129)[1:-1]
-        above = np.atleast_1d(plan.pa(xs, model, scope)) > prob
-        if above.any():
-            lo = float(xs[np.flatnonzero(above)[-1]])
-        if (~above).any():
-            hi = float(xs[np.flatnonzero(~above)[0]])
-        if hi - lo <= 1e-13 * max(hi, 1e-300):
-            break
-    return 0.5 * (lo + hi)
+    return quality_at(plan, prob, model, scope, side)
 
 
 def plan_quality(plan, targets, scope: Scope, model: str) -> PlanQuality:

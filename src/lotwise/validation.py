@@ -51,7 +51,6 @@ from __future__ import annotations
 import importlib
 import math
 import platform
-import sys
 from dataclasses import dataclass, field
 from datetime import datetime, timezone
 from typing import Any, Callable
@@ -543,7 +542,6 @@ def run_cases(cases=None) -> Validation:
 
 def versions() -> dict:
     """Versions of the tool, Python, the platform and the dependencies."""
-    from importlib import metadata
 
     out = {"lotwise": _version("lotwise"), "python": platform.python_version(),
            "platform": platform.platform()}

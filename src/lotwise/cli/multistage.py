@@ -7,12 +7,12 @@ plans whose sample size varies dispatch here from :mod:`lotwise.cli.single`;
 
 from __future__ import annotations
 
-from typing import List, Optional
+from typing import Optional
 
 import typer
 
 from . import app, common
-from ..quantities import InputError, Infeasible, format_pct, parse_count, parse_level
+from ..quantities import InputError, Infeasible, format_pct, parse_count
 
 SCHEMES = ("single", "double", "sequential", "compare-all")
 
@@ -275,30 +275,6 @@ def check_other(p, *, aql, rql, alpha, beta, lot, model, defects, as_json):
     raise typer.Exit(0 if rep["meets"] else 1)
 
 
-def _grid(p, scope, mdl, max_p, points, at, rql):
-    import numpy as np
-
-    from ..plan_report import quality_level
-    from .single import _nice
-
-    if at:
-        vals = []
-        for item in at:
-            for part in str(item).split(","):
-                if part.strip():
-                    vals.append(parse_level(part, "--at", per_unit=scope.defects))
-        return np.array(vals, dtype=float)
-    k = parse_count(points, "--points", minimum=2, maximum=100_000)
-    if max_p is not None:
-        top = parse_level(max_p, "--max-p", per_unit=scope.defects)
-    else:
-        top = quality_level(p, 0.01, mdl, scope, "consumer")
-        if rql is not None:
-            top = max(top, 1.25 * rql)
-        top = _nice(min(top, 1.0) if not scope.defects else top)
-    return np.linspace(0.0, top, k)
-
-
 def oc_other(p, *, lot, model, defects, max_p, points, at, aql, rql, csv, plot, force, as_json):
     """``lotwise oc`` for plans whose sample size varies: the OC columns of
     the single table plus ``asn`` and ``asn_curtailed`` under the design
@@ -307,13 +283,14 @@ def oc_other(p, *, lot, model, defects, max_p, points, at, aql, rql, csv, plot, 
     import numpy as np
 
     from ..audit import oc_grid
+    from .single import _grid
     from .single import _csv_num, _fmt_level
 
     scope, mdl = _scope(lot, defects, model)
     _fits_lot(p, scope)
     a, r = common.levels(aql, rql, defects, need=False)
     plot = _plot_path(plot)
-    ps = _grid(p, scope, mdl, max_p, points, at, r)
+    ps = _grid(p, scope, mdl, max_p, points, at, r)  # the single plans' grid
     cols = oc_grid(p, scope, scope.models, ps)
     exact = scope.exact_model
     header = ["p"] + list(scope.models)

@@ -4,11 +4,10 @@ chain and skip-lot plans (called from ``design`` and ``check`` in
 
 from __future__ import annotations
 
-from typing import Optional
 
 import typer
 
-from . import app, common
+from . import common
 from ..quantities import InputError, Infeasible, parse_count, parse_level, parse_risk
 
 MINIMIZE = ("ati",)

@@ -223,10 +223,7 @@ def _grid(p, scope, mdl, max_p, points, at, rql):
     if max_p is not None:
         top = parse_level(max_p, "--max-p", per_unit=scope.defects)
     else:
-        accepts_all = getattr(p, "c", 0) >= getattr(p, "n", 1)
-        # (the count search of quality_at is for single plans; others use the binomial)
-        m_top = mdl if (mdl != "hypergeometric" or p.scheme == "single") else "binomial"
-        top = quality_at(p, 0.01, m_top, scope, "consumer") if not accepts_all else 1.0
+        top = quality_at(p, 0.01, mdl, scope, "consumer")
         if rql is not None:
             top = max(top, 1.25 * rql)
         top = _nice(min(top, 1.0) if not scope.defects else top)

@@ -175,7 +175,7 @@ def render(content, pp) -> bytes:
                 break
             plt.close(fig)
         buf = io.BytesIO()
-        fig.savefig(buf, format="pdf", metadata={"Creator": f"lotwise",
+        fig.savefig(buf, format="pdf", metadata={"Creator": "lotwise",
                                                  "Title": content.title})
         plt.close(fig)
     return buf.getvalue()
