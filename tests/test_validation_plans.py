@@ -86,7 +86,7 @@ def test_report_lists_the_new_cases_with_sources(timed):
         assert f"| {r.case.id} | {r.case.description.replace('|', '/')} | " \
                f"{r.case.source.replace('|', '/')} |" in md
     for area in ("Rectifying inspection", "Double and multiple plans", "Variables plans",
-                 "Sequential plans", "Chain and skip-lot sampling"):
+                 "Sequential plans", "Chain and skip-lot plans"):
         assert f"## {area}" in md
 
 

@@ -3,7 +3,7 @@
 Providers for :mod:`lotwise.validation` (registered in its ``PROVIDERS``),
 one function per area: rectifying inspection (AOQ, AOQL, ATI), least
 inspection, accept-on-zero plans, confidence/reliability demonstration,
-chain and skip-lot sampling, double and multiple plans, item-by-item
+chain and skip-lot plans, double and multiple plans, item-by-item
 sequential plans and variables plans. Each case reproduces a value that the
 tests of that area check, with the source worded as the test words it and
 the test's tolerance (a relative tolerance of a test is given here as the
@@ -21,11 +21,11 @@ References
    Wiley, 1959 (AOQL, ATI).
 .. [2] Dodge, H. F., "Chain sampling inspection plan", *Industrial Quality
    Control* 11(4), 1955.
-.. [3] Perry, R. L., "Skip-lot sampling plans", *Journal of Quality
+.. [3] Perry, R. L., *Journal of Quality
    Technology* 5(3), 1973.
 .. [4] Wald, A., *Sequential Analysis*, Wiley, 1947.
 .. [5] Montgomery, D. C., *Introduction to Statistical Quality Control*,
-   Wiley (acceptance-sampling chapters).
+   Wiley (the chapters on lot acceptance).
 .. [6] NIST/SEMATECH e-Handbook of Statistical Methods, section 6.2.4.
 
 Examples
@@ -346,7 +346,7 @@ def _mp_k0_upper(n, one_minus_c):
         return float(1 - mp.power(mp.mpf(one_minus_c), mp.mpf(1) / n))
 
 
-# --- chain and skip-lot sampling (tests/test_chain_skiplot.py) ------------------
+# --- chain and skip-lot plans (tests/test_chain_skiplot.py) ------------------
 
 def _mp_chain(n, i, p, model):
     """ChSP-1: ``Pa = P0 + P1 P0^i`` (binomial or Poisson masses, mpmath)."""
@@ -378,7 +378,7 @@ def _brute_chain(aql, rql, alpha=0.05, beta=0.10):
 
 def chain_skiplot_cases() -> list:
     """ChSP-1 and SkSP-2 OC formulas, and the chain designer."""
-    area = "chain and skip-lot sampling"
+    area = "chain and skip-lot plans"
 
     def chain_pa(n, i, p, model):
         from .chain import ChainPlan
