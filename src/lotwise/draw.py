@@ -29,10 +29,16 @@ old seeds re-create, and is therefore a breaking change.
 4. *Allocation* in proportion to size by the largest-remainder (Hamilton)
    method [2]_, [3]_, in exact integer arithmetic: stratum ``k`` first gets
    ``floor(n * s_k / N)`` units; the units still unallocated go one each to
-   the strata with the largest remainders ``(n * s_k) mod N``, ties broken
-   by stratum order. Every stratum thus gets its quota ``n * s_k / N``
-   rounded down or up, never more than its size, and the allocations add up
-   to ``n``.
+   the strata with the largest remainders ``(n * s_k) mod N``. When strata
+   with equal remainders straddle the cut (say 2 units left for 5 equal
+   cartons), the generator decides among them first: the tied strata, in
+   stratum order, are reordered by ``rng.permutation`` of their count, and
+   the first ones in that order get the units. Without such a tie the
+   generator is not touched here. Every stratum thus gets its quota
+   ``n * s_k / N`` rounded down or up, never more than its size, the
+   allocations add up to ``n``, and no stratum is left out by its position
+   in the lot (with fewer units than equal cartons, each carton is chosen
+   with the same probability).
 5. The strata are then visited in order and each stratum with an
    allocation ``a_k > 0`` draws ``rng.choice(s_k, a_k, replace=False)``
    from the same generator (strata with ``a_k = 0`` draw nothing); adding 1
@@ -291,12 +297,14 @@ def split_strata(lot_size: int, strata) -> tuple[str, list[int]]:
     return name, sizes
 
 
-def allocate(n: int, sizes: Sequence[int]) -> list[int]:
+def allocate(n: int, sizes: Sequence[int], rng=None) -> list[int]:
     """Allocate ``n`` units to strata in proportion to ``sizes`` (largest remainders).
 
     Exact integer arithmetic: stratum ``k`` gets ``floor(n * s_k / N)``, the
-    rest go one each to the largest remainders ``(n * s_k) mod N``, ties to
-    the earlier stratum.
+    rest go one each to the largest remainders ``(n * s_k) mod N``. Strata
+    tied on the remainder at the cut are taken in stratum order, or, with a
+    generator ``rng``, in the order of ``rng.permutation`` of the tied group
+    (see the module's recipe, step 4).
 
     >>> allocate(4, [10, 10, 10])
     [2, 1, 1]
@@ -308,6 +316,11 @@ def allocate(n: int, sizes: Sequence[int]) -> list[int]:
     rem = [n * s % total for s in sizes]
     left = n - sum(base)
     order = sorted(range(len(sizes)), key=lambda k: (-rem[k], k))
+    if rng is not None and 0 < left < len(order) and rem[order[left - 1]] == rem[order[left]]:
+        cut = rem[order[left]]
+        tied = [k for k in order if rem[k] == cut]
+        start = order.index(tied[0])
+        order[start:start + len(tied)] = [tied[i] for i in rng.permutation(len(tied))]
     for k in order[:left]:
         base[k] += 1
     return base
@@ -362,7 +375,7 @@ def draw_units(*, lot_size, n, seed=None, strata=None) -> Draw:
                     numpy_version=np.__version__)
 
     name, sizes = split_strata(N, strata)
-    alloc = allocate(n, sizes)
+    alloc = allocate(n, sizes, rng)
     rows: list[tuple[str, int, int]] = []
     out: list[Stratum] = []
     first = 1

@@ -55,10 +55,10 @@ def render_draw(d) -> str:
                                          "positions within the stratum"]))
         empty = sum(1 for s in d.strata if s.allocated == 0)
         if empty:
-            lines.append(f"  {empty:,} of {len(d.strata):,} strata get no unit (quota below one "
-                         "after rounding), so units in them\n  can never be drawn. With fewer "
-                         "units to pull than strata, use fewer, larger strata\n  or a simple "
-                         "random draw.")
+            lines.append(f"  {empty:,} of {len(d.strata):,} strata get no unit this time (quota "
+                         "below one); which ones is decided\n  by the seed. With fewer units to "
+                         "pull than strata, consider fewer, larger strata\n  or a simple random "
+                         "draw.")
     lines.append("")
     lines.append("Unit numbers in the lot:" if d.strata is not None else "Unit numbers:")
     lines.append(rows_of(d.units))
