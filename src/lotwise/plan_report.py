@@ -278,13 +278,6 @@ def _statements(rep: dict, plan, scope: Scope) -> list[str]:
     return out
 
 
-_MODEL_WORDS = {
-    "hypergeometric": "hypergeometric (finite lot, type A)",
-    "binomial": "binomial (process or large lot, type B)",
-    "poisson": "Poisson",
-}
-
-
 def _plan_lines(rep: dict) -> list[str]:
     s = rep["scheme"]
     if s == "double":
@@ -314,29 +307,20 @@ def _plan_lines(rep: dict) -> list[str]:
 
 def render_plan(rep: dict, title: str) -> str:
     """Terminal text for a :func:`plan_report` dictionary."""
-    from .report import render_single, table
+    from .report import context_lines, render_single, table, verdict_word
 
     if rep["scheme"] == "single":
         return render_single(rep, title)
-    per_unit = rep["defects"]
     t = rep["targets"]
     lines = [title]
     lines += _plan_lines(rep)
-    counted = "nonconformities per unit" if per_unit else "fraction nonconforming"
-    lot = f"lot of {rep['lot_size']}" if rep["lot_size"] else "no lot size (process)"
-    lines.append(f"  judged by {_MODEL_WORDS[rep['model']]}; {counted}; {lot}")
-    lines.append(f"  targets   AQL {format_level(t['aql'], per_unit)} at alpha "
-                 f"{_pct(t['alpha'])}, RQL {format_level(t['rql'], per_unit)} at beta "
-                 f"{_pct(t['beta'])}")
+    lines += context_lines(rep, _pct)
     rows = []
     for m, r in rep["models"].items():
         mark = " *" if m == rep["model"] else ""
-        short = [] if r["meets"] else [w for w, ok in (("alpha", r["meets_alpha"]),
-                                                        ("beta", r["meets_beta"])) if not ok]
         rows.append([m + mark, f"{r['pa_aql']:.5f}", _pct_vs(r["alpha"], t["alpha"]),
                      f"{r['pa_rql']:.5f}", _pct_vs(r["beta"], t["beta"]), f"{r['asn_aql']:.1f}",
-                     f"{r['asn_rql']:.1f}",
-                     "yes" if r["meets"] else "NO (" + ", ".join(short) + ")"])
+                     f"{r['asn_rql']:.1f}", verdict_word(r)])
     if "wald" in rep:
         w = rep["wald"]
         rows.append(["Wald approx.", f"{w['pa_aql']:.5f}", _pct(1 - w["pa_aql"]),

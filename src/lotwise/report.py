@@ -67,29 +67,38 @@ _MODEL_WORDS = {
 }
 
 
-def render_single(rep: dict, title: str) -> str:
-    """Compact terminal text for a :func:`single_report` dictionary."""
+def context_lines(rep: dict, pct=format_pct) -> list[str]:
+    """The "judged by ..." and "targets ..." lines of a report."""
     per_unit = rep["defects"]
     t = rep["targets"]
+    counted = "nonconformities per unit" if per_unit else "fraction nonconforming"
+    lot = f"lot of {rep['lot_size']}" if rep["lot_size"] else "no lot size (process)"
+    return [f"  judged by {_MODEL_WORDS[rep['model']]}; {counted}; {lot}",
+            f"  targets   AQL {format_level(t['aql'], per_unit)} at alpha {pct(t['alpha'])}, "
+            f"RQL {format_level(t['rql'], per_unit)} at beta {pct(t['beta'])}"]
+
+
+def verdict_word(r: dict) -> str:
+    """"yes", or "NO (alpha, beta)" naming the risks a model's row misses."""
+    if r["meets"]:
+        return "yes"
+    short = [w for w, ok in (("alpha", r["meets_alpha"]), ("beta", r["meets_beta"])) if not ok]
+    return "NO (" + ", ".join(short) + ")"
+
+
+def render_single(rep: dict, title: str) -> str:
+    """Compact terminal text for a :func:`single_report` dictionary."""
     lines = [title]
     if rep.get("full_inspection"):
         lines.append(f"  100 % inspection: no sample smaller than the lot of {rep['lot_size']} "
                      "meets both risks; inspect every item.")
     lines.append(f"  plan      n = {rep['n']}, accept on c = {rep['c']}, reject on {rep['r']}")
-    counted = "nonconformities per unit" if per_unit else "fraction nonconforming"
-    lot = f"lot of {rep['lot_size']}" if rep["lot_size"] else "no lot size (process)"
-    lines.append(f"  judged by {_MODEL_WORDS[rep['model']]}; {counted}; {lot}")
-    lines.append(f"  targets   AQL {format_level(t['aql'], per_unit)} at alpha "
-                 f"{format_pct(t['alpha'])}, RQL {format_level(t['rql'], per_unit)} at beta "
-                 f"{format_pct(t['beta'])}")
+    lines += context_lines(rep)
     rows = []
     for m, r in rep["models"].items():
         mark = " *" if m == rep["model"] else ""
-        short = [] if r["meets"] else [w for w, ok in (("alpha", r["meets_alpha"]),
-                                                        ("beta", r["meets_beta"])) if not ok]
         rows.append([m + mark, f"{r['pa_aql']:.5f}", format_pct(r["alpha"]),
-                     f"{r['pa_rql']:.5f}", format_pct(r["beta"]),
-                     "yes" if r["meets"] else "NO (" + ", ".join(short) + ")"])
+                     f"{r['pa_rql']:.5f}", format_pct(r["beta"]), verdict_word(r)])
     lines.append("")
     lines.append(table(rows, ["model", "Pa(AQL)", "alpha", "Pa(RQL)", "beta", "meets"]))
     lines.append("  (* the model the plan is judged by)")

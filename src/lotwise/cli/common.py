@@ -82,3 +82,22 @@ def table(rows, header, indent: str = "  ") -> str:
     from ..report import table as _table
 
     return _table(rows, header, indent)
+
+
+def csv_cell(v) -> str:
+    """A number as CSV text: whole numbers plainly, floats to full precision."""
+    if isinstance(v, int):
+        return str(v)
+    return repr(float(v)) if v != 0 else "0"
+
+
+def write_csv(dest: str, header, rows, *, force: bool, cell=csv_cell) -> None:
+    """Table to ``dest`` (a path, written safely, or ``-`` for stdout)."""
+    text = ",".join(header) + "\n" + "".join(
+        ",".join(cell(v) for v in row) + "\n" for row in rows)
+    if dest == "-":
+        typer.echo(text, nl=False)
+    else:
+        from ..files import write_text
+
+        write_text(dest, text, force=force, option="--csv")

@@ -284,7 +284,7 @@ def oc_other(p, *, lot, model, defects, max_p, points, at, aql, rql, csv, plot, 
 
     from ..audit import oc_grid
     from .single import _grid
-    from .single import _csv_num, _fmt_level
+    from .single import _fmt_level
 
     scope, mdl = _scope(lot, defects, model)
     _fits_lot(p, scope)
@@ -315,14 +315,7 @@ def oc_other(p, *, lot, model, defects, max_p, points, at, aql, rql, csv, plot, 
             row.append(int(vals[i]) if key == "lot_count" else float(vals[i]))
         rows.append(row)
     if csv is not None:
-        from ..files import write_text
-
-        text = ",".join(header) + "\n" + "".join(
-            ",".join(_csv_num(v) for v in row) + "\n" for row in rows)
-        if csv == "-":
-            typer.echo(text, nl=False)
-        else:
-            write_text(csv, text, force=force, option="--csv")
+        common.write_csv(csv, header, rows, force=force)
     if plot is not None:
         from ..files import save_figure
         from ..plots_multistage import oc_asn_figure

@@ -292,14 +292,8 @@ def tradeoff(
               "supplier_p_reject", "supplier_p_reject_predictive", "rejected_per_year",
               "full_inspection", "reason"]
     if csv is not None:
-        text = ",".join(header) + "\n" + "".join(
-            ",".join(_cell(r.as_dict()[h]) for h in header) + "\n" for r in rows)
-        if csv == "-":
-            typer.echo(text, nl=False)
-        else:
-            from ..files import write_text
-
-            write_text(csv, text, force=force, option="--csv")
+        common.write_csv(csv, header, [[r.as_dict()[h] for h in header] for r in rows],
+                         force=force, cell=_cell)
     if plot is not None:
         from ..charts import tradeoff_figure
         from ..files import save_figure

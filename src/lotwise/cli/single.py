@@ -302,14 +302,7 @@ def oc_table(
         rows.append(row)
 
     if csv is not None:
-        from ..files import write_text
-
-        text = ",".join(header) + "\n" + "".join(
-            ",".join(_csv_num(v) for v in row) + "\n" for row in rows)
-        if csv == "-":
-            typer.echo(text, nl=False)
-        else:
-            write_text(csv, text, force=force, option="--csv")
+        common.write_csv(csv, header, rows, force=force)
     if plot is not None:
         from ..plots import oc_figure
         from ..files import save_figure
@@ -334,10 +327,6 @@ def oc_table(
             typer.echo(f"  wrote {plot}")
 
 
-def _csv_num(v) -> str:
-    if isinstance(v, int):
-        return str(v)
-    return repr(float(v)) if v != 0 else "0"
 
 
 def _fmt_level(x: float, per_unit: bool) -> str:

@@ -240,14 +240,7 @@ def oc_cmd(plan, *, max_p, points, at, aql, rql, csv, plot, force, as_json):
         cols.append(np.asarray(plan.pa(ps, "noncentral-t"), dtype=float))
     rows = [[float(pv)] + [float(c[i]) for c in cols] for i, pv in enumerate(ps)]
     if csv is not None:
-        from ..files import write_text
-
-        text = ",".join(header) + "\n" + "".join(
-            ",".join(repr(v) if v != 0 else "0" for v in row) + "\n" for row in rows)
-        if csv == "-":
-            typer.echo(text, nl=False)
-        else:
-            write_text(csv, text, force=force, option="--csv")
+        common.write_csv(csv, header, rows, force=force)
     if plot is not None:
         from ..files import save_figure
         from ..plots_variables import variables_oc_figure
