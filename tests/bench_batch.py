@@ -22,8 +22,8 @@ import pandas as pd
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 
 from generated import catalogue, history  # noqa: E402
-from lotwise.batch import design_catalogue, read_catalogue  # noqa: E402
-from lotwise.records import read_records, summarise  # noqa: E402
+from lotwise.data.batch import design_catalogue, read_catalogue
+from lotwise.data.records import read_records, summarise
 
 _DIR = Path(tempfile.mkdtemp(prefix="lotwise-bench-"))
 _CAT = _DIR / "catalogue.csv"

@@ -5,7 +5,7 @@ from __future__ import annotations
 import subprocess
 import sys
 
-from lotwise.draw import draw_units
+from lotwise.data.draw import draw_units
 
 CASES = [
     {"name": "draw 80 of 5,000, simple random", "goal_ms": 1,

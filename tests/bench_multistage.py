@@ -9,9 +9,9 @@ from __future__ import annotations
 
 import numpy as np
 
-from lotwise.design.double import design_double
-from lotwise.plans import Scope
-from lotwise.sequential import SequentialPlan, sprt_lines
+from lotwise.families.double import design_double
+from lotwise.families.base import Scope
+from lotwise.families.sequential import SequentialPlan, sprt_lines
 
 H1, H2, S = sprt_lines(0.01, 0.05, 0.06, 0.10)
 PLAN = SequentialPlan(h1=H1, h2=H2, s=S, truncate=2000)

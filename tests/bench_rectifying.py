@@ -2,9 +2,9 @@
 
 from __future__ import annotations
 
-from lotwise import rectifying
-from lotwise.design.least_ati import design_least_ati
-from lotwise.plans import Scope, SinglePlan
+from lotwise.analysis import rectifying
+from lotwise.analysis.least_ati import design_least_ati
+from lotwise.families.base import Scope, SinglePlan
 
 PLAN = SinglePlan(n=125, c=3)
 BIG = Scope(lot_size=100_000)

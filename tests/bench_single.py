@@ -7,9 +7,9 @@ import sys
 
 import numpy as np
 
-from lotwise import oc
-from lotwise.design.single import design_single
-from lotwise.plans import Scope, SinglePlan
+from lotwise.core import kernels as oc
+from lotwise.families.single import design_single
+from lotwise.families.base import Scope, SinglePlan
 
 AQL, RQL, ALPHA, BETA = 0.001, 0.0015, 0.05, 0.10
 

@@ -4,8 +4,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from lotwise.design.variables import design_variables
-from lotwise.variables import VariablesPlan
+from lotwise.families.variables_design import design_variables
+from lotwise.families.variables import VariablesPlan
 
 PLAN = VariablesPlan(n=42, k=1.901, sigma="unknown", limit="upper")
 PS = np.linspace(0.0, 0.3, 500)

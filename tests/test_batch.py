@@ -12,15 +12,15 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from generated import catalogue
-from lotwise.audit import risks_under
-from lotwise.batch import OUTPUT, design_catalogue, design_many, read_catalogue
+from lotwise.analysis.audit import risks_under
+from lotwise.data.batch import OUTPUT, design_catalogue, design_many, read_catalogue
 from lotwise.cli import main
-from lotwise.design.single import design_single
-from lotwise.quantities import Infeasible, InputError, parse_level, parse_risk
+from lotwise.families.single import design_single
+from lotwise.core.quantities import Infeasible, InputError, parse_level, parse_risk
 
 
 def _reference(row):
-    """What lotwise.design.single.design_single says for one catalogue row."""
+    """What lotwise.families.single.design_single says for one catalogue row."""
     lot = int(row["lot_size"]) if row["lot_size"] else None
     kw = dict(aql=parse_level(row["aql"], "aql"), rql=parse_level(row["rql"], "rql"),
               alpha=parse_risk(row["alpha"], "alpha") if row["alpha"] else 0.05,
@@ -42,7 +42,7 @@ def thousand():
 
 
 def test_every_row_agrees_with_the_single_designer(thousand):
-    # Reference: lotwise.design.single.design_single, row by row (exact agreement of
+    # Reference: lotwise.families.single.design_single, row by row (exact agreement of
     # n, c and the model; risks to 1e-12; the same message for rows without a plan).
     cat, res = thousand
     out = res.table
@@ -92,7 +92,7 @@ def test_inspection_load_sums(thousand):
 
 
 def test_identical_designs_are_computed_once(monkeypatch):
-    import lotwise.batch as batch
+    import lotwise.data.batch as batch
 
     sizes = []
     real = batch.design_many
@@ -264,7 +264,7 @@ def test_catalogue_reader_keeps_line_numbers():
 
 
 def test_progress_is_reported_and_the_bar_stays_off_without_a_terminal():
-    from lotwise.batch import progress_bar
+    from lotwise.data.batch import progress_bar
 
     calls = []
     cat = catalogue(300, seed=2)

@@ -10,12 +10,12 @@ import numpy as np
 import pytest
 from hypothesis import given, settings, strategies as st
 
-from lotwise import rectifying as R
-from lotwise.chain import ChainPlan, design_chain
+from lotwise.analysis import rectifying as R
+from lotwise.families.chain import ChainPlan, design_chain
 from lotwise.cli import main
-from lotwise.plans import Scope, SinglePlan, parse_plan
-from lotwise.quantities import Infeasible
-from lotwise.skiplot import SkipLotPlan, parse_skip
+from lotwise.families.base import Scope, SinglePlan, parse_plan
+from lotwise.core.quantities import Infeasible
+from lotwise.families.skiplot import SkipLotPlan, parse_skip
 
 
 def _simulate_chain(n, i, p, chains=4000, lots=80, seed=12345):
@@ -85,11 +85,11 @@ def test_chain_pa_falls_in_n(model, i, p):
     N = 400
     n = np.arange(1, N)
     if model == "hypergeometric":
-        from lotwise.chain import _pa_chain
+        from lotwise.families.chain import _pa_chain
 
         pa = _pa_chain(model, n, i, round(p * N), N)
     else:
-        from lotwise.chain import _pa_chain
+        from lotwise.families.chain import _pa_chain
 
         pa = _pa_chain(model, n, i, p)
     assert np.all(np.diff(pa) <= 1e-14)
@@ -102,8 +102,8 @@ def test_chain_pa_falls_in_n(model, i, p):
 def test_chain_design_brute_force(aql, rql, model, N):
     # Brute force over every n up to 200 and i up to 40: the smallest n meeting
     # both risks, then the smallest i.
-    from lotwise.chain import _pa_chain
-    from lotwise import oc
+    from lotwise.families.chain import _pa_chain
+    from lotwise.core import kernels as oc
 
     a1 = oc.lot_count(aql, N, "up") if N else aql
     r1 = oc.lot_count(rql, N, "down") if N else rql

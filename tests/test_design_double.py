@@ -7,12 +7,12 @@ import numpy as np
 import pytest
 from scipy import stats
 
-from lotwise.design.double import design_double
-from lotwise.design.sequential import design_sequential
-from lotwise.design.single import design_single
-from lotwise.multistage import DoublePlan
-from lotwise.plans import Scope
-from lotwise.quantities import InputError, Infeasible
+from lotwise.families.double import design_double
+from lotwise.families.sequential_design import design_sequential
+from lotwise.families.single import design_single
+from lotwise.families.multistage import DoublePlan
+from lotwise.families.base import Scope
+from lotwise.core.quantities import InputError, Infeasible
 
 
 def _brute(aql, rql, alpha, beta, ratio, model, lot=None, n1_max=200, c2_max=12,

@@ -7,12 +7,12 @@ import numpy as np
 import pytest
 from hypothesis import given, settings, strategies as st
 
-from lotwise import oc
-from lotwise.approximation import poisson_verdict, rule_of_thumb
-from lotwise.audit import audit_plan, quality_at
-from lotwise.design.single import Targets, design_single, min_sample_size
-from lotwise.plans import Scope, SinglePlan
-from lotwise.quantities import InputError, Infeasible
+from lotwise.core import kernels as oc
+from lotwise.analysis.approximation import poisson_verdict, rule_of_thumb
+from lotwise.analysis.audit import audit_plan, quality_at
+from lotwise.families.single import Targets, design_single, min_sample_size
+from lotwise.families.base import Scope, SinglePlan
+from lotwise.core.quantities import InputError, Infeasible
 
 # Cameron (1952) unity values for single sampling at alpha = 0.05, beta = 0.10:
 # Poisson n*p at Pa = 0.95 and at Pa = 0.10 (from memory), +-0.002 for the

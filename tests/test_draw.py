@@ -1,4 +1,4 @@
-"""The seeded pick list (lotwise.draw, ``lotwise draw``): reproducible, without
+"""The seeded pick list (lotwise.data.draw, ``lotwise draw``): reproducible, without
 replacement, strata respected, uniform by chi-square over many seeds."""
 
 from __future__ import annotations
@@ -14,8 +14,8 @@ from hypothesis import given, settings, strategies as st
 from scipy import stats
 
 from lotwise.cli import main
-from lotwise.draw import allocate, draw_units, split_strata
-from lotwise.quantities import InputError
+from lotwise.data.draw import allocate, draw_units, split_strata
+from lotwise.core.quantities import InputError
 
 
 # --------------------------------------------------------------------------

@@ -9,8 +9,8 @@ import importlib
 import pytest
 
 
-@pytest.mark.parametrize("name", ["lotwise.csvio", "lotwise.records", "lotwise.supplier",
-                                  "lotwise.batch", "lotwise.charts", "lotwise.validation"])
+@pytest.mark.parametrize("name", ["lotwise.data.csvio", "lotwise.data.records", "lotwise.analysis.supplier",
+                                  "lotwise.data.batch", "lotwise.documents.plots.charts", "lotwise.validation.runner"])
 def test_docstring_examples(name):
     mod = importlib.import_module(name)
     failed, tried = doctest.testmod(mod, optionflags=doctest.ELLIPSIS)

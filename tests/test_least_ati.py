@@ -8,10 +8,11 @@ import numpy as np
 import pytest
 from hypothesis import given, settings, strategies as st
 
-from lotwise import oc, rectifying as R
+from lotwise.core import kernels as oc
+from lotwise.analysis import rectifying as R
 from lotwise.cli import main
-from lotwise.design.least_ati import design_least_ati
-from lotwise.plans import Scope, SinglePlan
+from lotwise.analysis.least_ati import design_least_ati
+from lotwise.families.base import Scope, SinglePlan
 
 
 def _brute(N, pbar, model, rql=None, beta=0.10, aoql=None, formula="screened"):
@@ -95,7 +96,7 @@ def test_large_lot_design_meets_constraint_and_beats_neighbours():
 
 
 def test_bad_requests():
-    from lotwise.quantities import InputError, Infeasible
+    from lotwise.core.quantities import InputError, Infeasible
 
     with pytest.raises(InputError):
         design_least_ati(lot_size=1000, process_average=0.01)

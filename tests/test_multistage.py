@@ -10,10 +10,10 @@ import numpy as np
 import pytest
 from hypothesis import given, settings, strategies as st
 
-from lotwise.multistage import DoublePlan, MultiplePlan, decide_single, double_max_asn, max_asn
-from lotwise.plan_report import quality_level
-from lotwise.plans import Scope, SinglePlan, parse_plan
-from lotwise.quantities import InputError
+from lotwise.families.multistage import (DoublePlan, MultiplePlan, decide_single, double_max_asn, max_asn)
+from lotwise.analysis.plan_report import quality_level
+from lotwise.families.base import Scope, SinglePlan, parse_plan
+from lotwise.core.quantities import InputError
 
 PROCESS = Scope()
 PER_UNIT = Scope(defects=True)

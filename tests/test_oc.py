@@ -10,7 +10,7 @@ import numpy as np
 import pytest
 from hypothesis import given, settings, strategies as st
 
-from lotwise import oc
+from lotwise.core import kernels as oc
 
 mp.mp.dps = 40
 TOL = 1e-10  # absolute, as the issue asks

@@ -5,8 +5,8 @@ from __future__ import annotations
 
 import pytest
 
-from lotwise.planfile import load, loads
-from lotwise.quantities import InputError
+from lotwise.documents.planfile import load, loads
+from lotwise.core.quantities import InputError
 
 GOOD = '''
 [part]

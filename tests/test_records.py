@@ -13,10 +13,9 @@ from scipy import stats
 
 from generated import history
 from lotwise.cli import main
-from lotwise.plans import SinglePlan
-from lotwise.quantities import InputError
-from lotwise.records import (accepted_tails, binomial_limits, clopper_pearson, read_records,
-                             resolve_plan_file, summarise)
+from lotwise.families.base import SinglePlan
+from lotwise.core.quantities import InputError
+from lotwise.data.records import (accepted_tails, binomial_limits, clopper_pearson, read_records, resolve_plan_file, summarise)
 
 HEADER = "date,supplier,part,lot_id,lot_size,sample_size,found,plan,disposition\n"
 

@@ -10,9 +10,9 @@ import numpy as np
 import pytest
 from hypothesis import given, settings, strategies as st
 
-from lotwise import rectifying as R
+from lotwise.analysis import rectifying as R
 from lotwise.cli import main
-from lotwise.plans import Scope, SinglePlan
+from lotwise.families.base import Scope, SinglePlan
 
 
 # Dodge-Romig / Schilling AOQL factors y for single sampling with a Poisson OC

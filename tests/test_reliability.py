@@ -9,9 +9,8 @@ import mpmath as mp
 import pytest
 
 from lotwise.cli import main
-from lotwise.quantities import Infeasible, InputError
-from lotwise.reliability import (clopper_pearson_upper, demonstration_size,
-                                 hypergeometric_upper_count, upper_bound)
+from lotwise.core.quantities import Infeasible, InputError
+from lotwise.analysis.reliability import (clopper_pearson_upper, demonstration_size, hypergeometric_upper_count, upper_bound)
 
 
 # Confidence/reliability sample sizes (common practice, no source); exact integers.

@@ -10,9 +10,9 @@ import re
 import numpy as np
 import pytest
 
-from lotwise.plans import Scope, parse_plan
-from lotwise.quantities import InputError
-from lotwise.sequential import SequentialPlan, sprt_lines, wald_asn, wald_pa
+from lotwise.families.base import Scope, parse_plan
+from lotwise.core.quantities import InputError
+from lotwise.families.sequential import SequentialPlan, sprt_lines, wald_asn, wald_pa
 
 PROCESS = Scope()
 

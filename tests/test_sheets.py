@@ -12,9 +12,9 @@ from pathlib import Path
 import pytest
 from pypdf import PdfReader
 
-from lotwise import files
+from lotwise.data import files
 from lotwise.cli import main
-from lotwise.quantities import InputError, format_pct
+from lotwise.core.quantities import InputError, format_pct
 
 ROOT = Path(__file__).resolve().parents[1]
 PLANS = ROOT / "plans"
@@ -46,7 +46,7 @@ def test_sheet_numbers_equal_json(tmp_path, capsys, name):
     assert code in (0, 1)
     text = pdf_text(tmp_path / f"{name}.pdf")
     md = " ".join((tmp_path / f"{name}.md").read_text().split())
-    from lotwise.planfile import load
+    from lotwise.documents.planfile import load
 
     req = load(src)
     _, sheet_json = cli_json(capsys, "sheet", str(src), "--out", str(tmp_path))
@@ -70,7 +70,7 @@ def test_sheet_numbers_equal_json(tmp_path, capsys, name):
                 for key in ("alpha", "beta"):
                     assert format_pct(r[key]) in doc, (m, key)
             q = rep["plan_quality"]
-            from lotwise.quantities import format_level
+            from lotwise.core.quantities import format_level
 
             for key in ("producer", "indifference", "consumer"):
                 assert format_level(q[key], req.scope.defects) in doc, key

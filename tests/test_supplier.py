@@ -11,10 +11,10 @@ from hypothesis import strategies as st
 
 from generated import history
 from lotwise.cli import main
-from lotwise.design.single import design_single
-from lotwise.plans import Scope, SinglePlan
-from lotwise.quantities import Infeasible, InputError
-from lotwise.supplier import Posterior, parse_levels, rejection_outlook, tradeoff
+from lotwise.families.single import design_single
+from lotwise.families.base import Scope, SinglePlan
+from lotwise.core.quantities import Infeasible, InputError
+from lotwise.analysis.supplier import Posterior, parse_levels, rejection_outlook, tradeoff
 
 
 def _mp_predictive_accept(n, c, a, b):

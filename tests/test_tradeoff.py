@@ -8,11 +8,11 @@ import sys
 import numpy as np
 import pytest
 
-from lotwise.design.single import Targets, design_single
-from lotwise.multistage import DoublePlan
-from lotwise.plans import Scope
-from lotwise.sequential import SequentialPlan
-from lotwise.tradeoff import asn_tradeoff
+from lotwise.families.single import Targets, design_single
+from lotwise.families.multistage import DoublePlan
+from lotwise.families.base import Scope
+from lotwise.families.sequential import SequentialPlan
+from lotwise.analysis.tradeoff import asn_tradeoff
 
 
 @pytest.fixture(scope="module")
@@ -49,8 +49,7 @@ def test_infeasible_row_is_listed():
 
 
 def test_figures():
-    from lotwise.plots_multistage import (asn_figure, oc_asn_figure, sequential_figure,
-                                          tradeoff_figure)
+    from lotwise.documents.plots.multistage import (asn_figure, oc_asn_figure, sequential_figure, tradeoff_figure)
 
     plan = DoublePlan(n1=50, c1=1, n2=100, c2=3)
     fig = asn_figure([(plan, Scope())], aql=0.01, rql=0.05, curtailed=True)

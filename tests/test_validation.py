@@ -9,10 +9,9 @@ import json
 import pypdf
 import pytest
 
-import lotwise.validation as validation
+import lotwise.validation.runner as validation
 from lotwise.cli import main
-from lotwise.validation import (ReferenceCase, all_cases, markdown_report, pdf_report,
-                                run_cases)
+from lotwise.validation.runner import (ReferenceCase, all_cases, markdown_report, pdf_report, run_cases)
 
 
 @pytest.fixture(scope="module")

@@ -8,11 +8,11 @@ import time
 
 import pytest
 
-import lotwise.validation as validation
-import lotwise.validation_plans as plans
-from lotwise.validation import all_cases, markdown_report, run_cases
+import lotwise.validation.runner as validation
+import lotwise.validation.cases as plans
+from lotwise.validation.runner import all_cases, markdown_report, run_cases
 
-SPECS = [f"lotwise.validation_plans:{name}" for name in plans.__all__]
+SPECS = [f"lotwise.validation.cases:{name}" for name in plans.__all__]
 
 
 @pytest.fixture(scope="module")

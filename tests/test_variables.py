@@ -12,11 +12,11 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from lotwise import variables as V
-from lotwise.design.single import Targets, design_single
-from lotwise.design.variables import (closed_form_known, design_variables, k_window, wallis)
-from lotwise.plans import parse_plan
-from lotwise.quantities import InputError, Infeasible
+from lotwise.families import variables as V
+from lotwise.families.single import Targets, design_single
+from lotwise.families.variables_design import closed_form_known, design_variables, k_window, wallis
+from lotwise.families.base import parse_plan
+from lotwise.core.quantities import InputError, Infeasible
 
 ndtr = lambda x: 0.5 * math.erfc(-x / math.sqrt(2))  # noqa: E731
 
@@ -438,7 +438,7 @@ def test_notation_errors(text, fragment):
 
 
 def test_common_interface():
-    from lotwise.plans import Scope
+    from lotwise.families.base import Scope
 
     p = parse_plan("variables: n=42,k=1.901,upper=25")
     ps = np.array([0.0, 0.01, 0.06, 1.0])

@@ -8,11 +8,11 @@ import math
 import pytest
 from hypothesis import given, settings, strategies as st
 
-from lotwise.chain import ChainPlan
+from lotwise.families.chain import ChainPlan
 from lotwise.cli import main
-from lotwise.plans import Scope, SinglePlan
-from lotwise.quantities import Infeasible
-from lotwise.zero import design_zero, equivalent_figure, zero_equivalent
+from lotwise.families.base import Scope, SinglePlan
+from lotwise.core.quantities import Infeasible
+from lotwise.analysis.zero import design_zero, equivalent_figure, zero_equivalent
 
 
 @pytest.mark.parametrize("rql, beta", [(0.05, 0.10), (0.01, 0.05), (0.2, 0.1), (0.001, 0.1)])
@@ -46,7 +46,7 @@ def test_zero_design_full_inspection_and_producers_risk():
 def test_zero_design_reuses_design_single():
     # design_single(c = 0) gives the same n whenever it meets alpha too
     # (the same integer search; consistency with the single-plan engine).
-    from lotwise.design.single import design_single
+    from lotwise.families.single import design_single
 
     d = design_single(aql=0.0005, rql=0.05, c=0)
     assert design_zero(rql=0.05, aql=0.0005).n == d.n

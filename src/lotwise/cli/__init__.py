@@ -58,7 +58,7 @@ def _register(args: list[str]) -> None:
 
 def main(argv: list[str] | None = None) -> int:
     """Run the CLI; returns (and exits with) the process exit code."""
-    from ..quantities import InputError
+    from lotwise.core.quantities import InputError
 
     args = sys.argv[1:] if argv is None else list(argv)
     _register(args)

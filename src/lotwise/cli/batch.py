@@ -8,7 +8,7 @@ from typing import Optional
 import typer
 
 from . import app, common
-from ..quantities import InputError
+from lotwise.core.quantities import InputError
 
 
 @app.command()
@@ -26,8 +26,8 @@ def batch(
     (empty when the row was designed). A row that cannot be designed gets its
     reason in error; the batch goes on.
     """
-    from ..batch import SAFETY_NOTE, design_catalogue, progress_bar, read_catalogue, _rate
-    from ..files import check_writable, write_text
+    from lotwise.data.batch import (SAFETY_NOTE, design_catalogue, progress_bar, read_catalogue, _rate)
+    from lotwise.data.files import check_writable, write_text
 
     if out is None:
         raise InputError("--out is required (for example --out plans.csv, or - for stdout)")

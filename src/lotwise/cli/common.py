@@ -8,7 +8,7 @@ import sys
 
 import typer
 
-from ..quantities import InputError, Infeasible, parse_count, parse_level, parse_risk
+from lotwise.core.quantities import InputError, Infeasible, parse_count, parse_level, parse_risk
 
 # Option declarations reused by several commands (values are parsed by us so
 # that every message names the option, the value and what is allowed).
@@ -79,7 +79,7 @@ def infeasible(exc: Infeasible, as_json: bool, base: dict | None = None):
 
 def table(rows, header, indent: str = "  ") -> str:
     """A compact text table (imported lazily: ``report`` loads scipy)."""
-    from ..report import table as _table
+    from lotwise.analysis.report import table as _table
 
     return _table(rows, header, indent)
 
@@ -98,6 +98,6 @@ def write_csv(dest: str, header, rows, *, force: bool, cell=csv_cell) -> None:
     if dest == "-":
         typer.echo(text, nl=False)
     else:
-        from ..files import write_text
+        from lotwise.data.files import write_text
 
         write_text(dest, text, force=force, option="--csv")

@@ -8,7 +8,7 @@ from typing import Optional
 import typer
 
 from . import app, common
-from ..quantities import InputError, parse_count
+from lotwise.core.quantities import InputError, parse_count
 
 CAUTION = ("Pull exactly these units: swapping one for a unit that is easier to reach\n"
            "undoes the random selection the plan's risks rely on.")
@@ -84,7 +84,7 @@ def draw(
     as_json: bool = common.JSON,
 ):
     """Which units to pull: a reproducible random pick list, seed recorded."""
-    from ..draw import MAX_LOT, MAX_N, draw_units
+    from lotwise.data.draw import MAX_LOT, MAX_N, draw_units
 
     if lot is None:
         raise InputError("--lot-size is required (for example --lot-size 1000)")
@@ -100,7 +100,7 @@ def draw(
         raise InputError("--csv (-) cannot be combined with --json: both would write to "
                          "stdout; give --csv a file name")
     if csv is not None and csv != "-":
-        from ..files import check_writable
+        from lotwise.data.files import check_writable
 
         check_writable(csv, force=force, option="--csv")  # refuse before drawing
     d = draw_units(lot_size=N, n=nn, seed=seed, strata=strata)
@@ -108,7 +108,7 @@ def draw(
         if csv == "-":
             typer.echo(d.to_csv(), nl=False)
         else:
-            from ..files import write_text
+            from lotwise.data.files import write_text
 
             write_text(csv, d.to_csv(), force=force, option="--csv")
     if as_json:

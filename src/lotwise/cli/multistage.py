@@ -12,7 +12,7 @@ from typing import Optional
 import typer
 
 from . import app, common
-from ..quantities import InputError, Infeasible, format_pct, parse_count
+from lotwise.core.quantities import InputError, Infeasible, format_pct, parse_count
 
 SCHEMES = ("single", "double", "sequential", "compare-all")
 
@@ -49,7 +49,7 @@ def _ratio(text) -> float:
 
 
 def _minimize(text) -> str:
-    from ..design.double import MINIMIZE
+    from lotwise.families.double import MINIMIZE
 
     if text is None:
         return "asn-aql"
@@ -62,7 +62,7 @@ def _minimize(text) -> str:
 def design_other(*, scheme, aql, rql, alpha, beta, lot, model, defects, n, c, max_n, ratio,
                  minimize, truncate, plot, force, as_json):
     """``lotwise design`` for every scheme but single."""
-    from ..design.single import Targets
+    from lotwise.families.single import Targets
 
     if scheme not in SCHEMES:
         raise InputError(f"--scheme ({scheme}) must be one of: {', '.join(SCHEMES)}")
@@ -93,8 +93,8 @@ def design_other(*, scheme, aql, rql, alpha, beta, lot, model, defects, n, c, ma
 
 def _poisson_double(targets, scope, mdl, ratio, minimize):
     """What a Poisson-based double design would pick, judged exactly."""
-    from ..audit import risks_under
-    from ..design.double import design_double
+    from lotwise.analysis.audit import risks_under
+    from lotwise.families.double import design_double
 
     if mdl == "poisson" or scope.defects:
         return None
@@ -112,8 +112,8 @@ def _poisson_double(targets, scope, mdl, ratio, minimize):
 
 
 def _design_double(targets, scope, mdl, ratio, minimize, cap, plot, force, as_json, base):
-    from ..design.double import design_double
-    from ..plan_report import plan_report, render_plan
+    from lotwise.families.double import design_double
+    from lotwise.analysis.plan_report import plan_report, render_plan
 
     base.update({"ratio": ratio, "minimize": minimize})
     try:
@@ -126,8 +126,8 @@ def _design_double(targets, scope, mdl, ratio, minimize, cap, plot, force, as_js
     pdd = _poisson_double(targets, scope, mdl, ratio, minimize)
     rep["poisson_design"] = pdd
     if plot:
-        from ..files import save_figure
-        from ..plots_multistage import oc_asn_figure
+        from lotwise.data.files import save_figure
+        from lotwise.documents.plots.multistage import oc_asn_figure
 
         fig = oc_asn_figure(d.plan, scope, model=mdl, aql=targets.aql, rql=targets.rql)
         save_figure(fig, plot, force=force, option="--plot")
@@ -169,8 +169,8 @@ def _number_ranges(numbers: dict) -> list[list[str]]:
 
 
 def _design_sequential(targets, scope, mdl, truncate, plot, force, as_json, base):
-    from ..design.sequential import design_sequential
-    from ..plan_report import plan_report, render_plan
+    from lotwise.families.sequential_design import design_sequential
+    from lotwise.analysis.plan_report import plan_report, render_plan
 
     try:
         d = design_sequential(aql=targets.aql, rql=targets.rql, alpha=targets.alpha,
@@ -180,8 +180,8 @@ def _design_sequential(targets, scope, mdl, truncate, plot, force, as_json, base
         common.infeasible(exc, as_json, base)
     rep = plan_report(d.plan, targets, scope, mdl, design=d)
     if plot:
-        from ..files import save_figure
-        from ..plots_multistage import sequential_figure
+        from lotwise.data.files import save_figure
+        from lotwise.documents.plots.multistage import sequential_figure
 
         fig = sequential_figure(d.plan, per_unit=scope.defects,
                                 title=f"Sequential plan: {d.plan.label}")
@@ -205,8 +205,8 @@ def _design_sequential(targets, scope, mdl, truncate, plot, force, as_json, base
 
 
 def _compare_all(targets, scope, mdl, ratio, minimize, truncate, plot, force, as_json):
-    from ..quantities import format_level
-    from ..tradeoff import asn_tradeoff
+    from lotwise.core.quantities import format_level
+    from lotwise.analysis.tradeoff import asn_tradeoff
 
     if truncate is not None and scope.lot_size is not None and truncate > scope.lot_size:
         raise InputError(f"--truncate ({truncate}) must not be greater than the lot size "
@@ -214,8 +214,8 @@ def _compare_all(targets, scope, mdl, ratio, minimize, truncate, plot, force, as
     res = asn_tradeoff(targets, scope, model=mdl, ratio=ratio, minimize=minimize,
                        truncate=truncate)
     if plot:
-        from ..files import save_figure
-        from ..plots_multistage import tradeoff_figure
+        from lotwise.data.files import save_figure
+        from lotwise.documents.plots.multistage import tradeoff_figure
 
         save_figure(tradeoff_figure(res), plot, force=force, option="--plot")
     if as_json:
@@ -238,7 +238,7 @@ def _compare_all(targets, scope, mdl, ratio, minimize, truncate, plot, force, as
                                    "ASN(RQL)", "ASN max", "at most", "meets"]))
     typer.echo("  ASN: average units inspected per lot with every stage in full; a single "
                "plan always inspects n. 'at most' is the most units any lot can take.")
-    from ..plan_report import SAFETY
+    from lotwise.analysis.plan_report import SAFETY
 
     typer.echo(f"  {SAFETY}")
     if plot:
@@ -255,8 +255,8 @@ def _fits_lot(p, scope):
 
 def check_other(p, *, aql, rql, alpha, beta, lot, model, defects, as_json):
     """``lotwise check`` for a double, multiple or sequential plan."""
-    from ..design.single import Targets
-    from ..plan_report import plan_report, render_plan
+    from lotwise.families.single import Targets
+    from lotwise.analysis.plan_report import plan_report, render_plan
     from .single import _levels_out_of_order
 
     a, r = common.levels(aql, rql, defects)
@@ -282,7 +282,7 @@ def oc_other(p, *, lot, model, defects, max_p, points, at, aql, rql, csv, plot, 
     a sequential plan."""
     import numpy as np
 
-    from ..audit import oc_grid
+    from lotwise.analysis.audit import oc_grid
     from .single import _grid
     from .single import _fmt_level
 
@@ -317,8 +317,8 @@ def oc_other(p, *, lot, model, defects, max_p, points, at, aql, rql, csv, plot, 
     if csv is not None:
         common.write_csv(csv, header, rows, force=force)
     if plot is not None:
-        from ..files import save_figure
-        from ..plots_multistage import oc_asn_figure
+        from lotwise.data.files import save_figure
+        from lotwise.documents.plots.multistage import oc_asn_figure
 
         fig = oc_asn_figure(p, scope, model=mdl, aql=a, rql=r,
                             max_p=float(ps.max()) if len(ps) and ps.max() > 0 else None)
@@ -371,8 +371,8 @@ def next_unit(
     as_json: bool = common.JSON,
 ):
     """On the bench: accept, reject or continue, and how many more units at most."""
-    from ..multistage import decide_single
-    from ..plans import parse_plan
+    from lotwise.families.multistage import decide_single
+    from lotwise.families.base import parse_plan
 
     if plan is None:
         raise InputError("--plan is required, for example --plan \"n1=50,c1=1,n2=100,c2=3\"")

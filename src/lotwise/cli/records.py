@@ -9,7 +9,7 @@ from typing import Optional
 import typer
 
 from . import app, common
-from ..quantities import InputError, format_level, format_pct, parse_count, parse_risk
+from lotwise.core.quantities import InputError, format_level, format_pct, parse_count, parse_risk
 
 
 def _bad_rows(records) -> None:
@@ -18,7 +18,7 @@ def _bad_rows(records) -> None:
 
 
 def _load(path, plans_dir, option="RECORDS"):
-    from ..records import read_records
+    from lotwise.data.records import read_records
 
     if plans_dir is not None:
         from pathlib import Path
@@ -93,7 +93,7 @@ def records(
     "n=80,c=2") or plan_file, disposition (accept/reject); lot_id optional.
     Bad rows are reported by line on stderr and skipped.
     """
-    from ..records import LIMIT_TAIL, summarise
+    from lotwise.data.records import LIMIT_TAIL, summarise
 
     conf = float(f"{parse_risk(confidence, '--confidence'):.12g}")
     sig = float(f"{parse_risk(significance, '--significance'):.12g}")
@@ -103,8 +103,8 @@ def records(
     s = summarise(recs, confidence=conf, significance=sig, supplier=supplier, part=part,
                   charts=plot is not None)
     if plot is not None:
-        from ..charts import run_charts_figure
-        from ..files import save_figure
+        from lotwise.documents.plots.charts import run_charts_figure
+        from lotwise.data.files import save_figure
 
         order = sorted(s.groups, key=lambda g: -g.lots)
         fig = run_charts_figure(order, limit=8)
@@ -156,7 +156,7 @@ def records(
 
 
 def _posterior_from(records_path, supplier, part, plans, prior):
-    from ..supplier import Posterior
+    from lotwise.analysis.supplier import Posterior
 
     recs = _load(records_path, plans, option="--records")
     if supplier is None:
@@ -186,8 +186,8 @@ def supplier(
     The process average comes from the counts with its uncertainty (a beta
     posterior); lots come from the process, so the OC is type B (binomial).
     """
-    from ..plans import parse_plan
-    from ..supplier import Posterior, rejection_outlook
+    from lotwise.families.base import parse_plan
+    from lotwise.analysis.supplier import Posterior, rejection_outlook
 
     if plan is None:
         raise InputError('--plan is required (for example --plan "n=80,c=2")')
@@ -262,15 +262,15 @@ def tradeoff(
     Levels: a list 1%,2%,3%, a range start..stop:step (1%..3%:0.5%, both
     ends included) or a mix of both.
     """
-    from ..quantities import parse_level
-    from ..supplier import parse_levels
-    from ..supplier import tradeoff as grid
+    from lotwise.core.quantities import parse_level
+    from lotwise.analysis.supplier import parse_levels
+    from lotwise.analysis.supplier import tradeoff as grid
 
     aqls = parse_levels(aql, "--aql")
     rqls = parse_levels(rql, "--rql")
     al, be = common.risks(alpha, beta)
     N = common.lot_size(lot)
-    from ..plans import Scope
+    from lotwise.families.base import Scope
 
     mdl = Scope(lot_size=N).check_model(model)
     _plot_path(plot)
@@ -295,8 +295,8 @@ def tradeoff(
         common.write_csv(csv, header, [[r.as_dict()[h] for h in header] for r in rows],
                          force=force, cell=_cell)
     if plot is not None:
-        from ..charts import tradeoff_figure
-        from ..files import save_figure
+        from lotwise.documents.plots.charts import tradeoff_figure
+        from lotwise.data.files import save_figure
 
         if not any(r.plan is not None for r in rows):
             raise InputError("--plot: no pair of the grid has a plan; nothing to draw")
@@ -340,7 +340,7 @@ def tradeoff(
     typer.echo("  beta (buyer): the plan's real consumer's risk at the RQL; supplier rejects: "
                "share of the supplier's lots rejected at its process average"
                + (" (predictive, over the posterior)" if post else "") + ".")
-    from ..batch import SAFETY_NOTE
+    from lotwise.data.batch import SAFETY_NOTE
 
     typer.echo(f"  {SAFETY_NOTE}")
     for f, what in ((csv, "--csv"), (plot, "--plot")):

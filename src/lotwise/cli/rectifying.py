@@ -8,7 +8,7 @@ from __future__ import annotations
 import typer
 
 from . import common
-from ..quantities import InputError, Infeasible, parse_count, parse_level, parse_risk
+from lotwise.core.quantities import InputError, Infeasible, parse_count, parse_level, parse_risk
 
 MINIMIZE = ("ati",)
 
@@ -41,9 +41,9 @@ def design_dispatch(*, scheme, minimize, aql, rql, alpha, beta, lot, model, defe
 
 def _least_ati(aql, rql, alpha, beta, lot, model, defects, process_average, aoql, formula,
                as_json):
-    from ..design.least_ati import design_least_ati
-    from ..plans import Scope
-    from ..rectifying import check_formula
+    from lotwise.analysis.least_ati import design_least_ati
+    from lotwise.families.base import Scope
+    from lotwise.analysis.rectifying import check_formula
 
     if lot is None:
         raise InputError("--minimize ati needs --lot-size (the ATI is counted per lot)")
@@ -76,8 +76,8 @@ def _least_ati(aql, rql, alpha, beta, lot, model, defects, process_average, aoql
 
 
 def render_least_ati(rep: dict) -> str:
-    from ..quantities import format_level, format_pct
-    from ..report import table
+    from lotwise.core.quantities import format_level, format_pct
+    from lotwise.analysis.report import table
 
     pu = rep["defects"]
     lv = lambda x: format_level(x, pu)  # noqa: E731
@@ -110,9 +110,9 @@ def render_least_ati(rep: dict) -> str:
 
 
 def _chain(aql, rql, alpha, beta, lot, model, defects, max_n, as_json):
-    from ..chain import design_chain, render_chain
-    from ..design.single import Targets
-    from ..plans import Scope
+    from lotwise.families.chain import design_chain, render_chain
+    from lotwise.families.single import Targets
+    from lotwise.families.base import Scope
 
     a, r = common.levels(aql, rql, defects)
     al, be = common.risks(alpha, beta)
@@ -139,7 +139,7 @@ def check_extras(rep: dict, plan, scope, model, targets, *, aoq_formula, skip_lo
                  force) -> dict:
     """Add the rectifying keys (with a lot size) and the skip-lot comparison to a
     single-plan check report; draw the OC/AOQ/ATI figure if asked."""
-    from ..rectifying import check_formula, rectifying_summary
+    from lotwise.analysis.rectifying import check_formula, rectifying_summary
 
     if aoq_formula is not None:
         check_formula(aoq_formula)
@@ -149,13 +149,13 @@ def check_extras(rep: dict, plan, scope, model, targets, *, aoq_formula, skip_lo
         raise InputError(f"--aoq-formula ({aoq_formula}) needs --lot-size (AOQ and ATI are "
                          "computed for lots of a known size)")
     if skip_lot is not None:
-        from ..skiplot import SkipLotPlan, parse_skip, skiplot_report
+        from lotwise.families.skiplot import SkipLotPlan, parse_skip, skiplot_report
 
         i, f = parse_skip(skip_lot) if isinstance(skip_lot, str) else skip_lot
         sk = SkipLotPlan(reference=plan, i=i, f=f)
         rep["skip_lot"] = skiplot_report(sk, targets, scope, model)
         if scope.lot_size:
-            from ..rectifying import aoql
+            from lotwise.analysis.rectifying import aoql
 
             a = aoql(sk, scope, model, aoq_formula or "screened")
             rep["skip_lot"]["aoql"] = a.value
@@ -165,8 +165,8 @@ def check_extras(rep: dict, plan, scope, model, targets, *, aoq_formula, skip_lo
             raise InputError(f"--aoq-plot ({aoq_plot}) needs --lot-size")
         if not aoq_plot.lower().endswith((".png", ".svg", ".pdf")):
             raise InputError(f"--aoq-plot ({aoq_plot}) must end in .png, .svg or .pdf")
-        from ..files import check_writable, save_figure
-        from ..rectifying import rectifying_figure
+        from lotwise.data.files import check_writable, save_figure
+        from lotwise.analysis.rectifying import rectifying_figure
 
         check_writable(aoq_plot, force=force, option="--aoq-plot")
         fig = rectifying_figure(plan, scope, formula=aoq_formula or "screened",
@@ -177,8 +177,8 @@ def check_extras(rep: dict, plan, scope, model, targets, *, aoq_formula, skip_lo
 
 
 def render_extras(rep: dict) -> str:
-    from ..rectifying import render_rectifying
-    from ..skiplot import render_skiplot
+    from lotwise.analysis.rectifying import render_rectifying
+    from lotwise.families.skiplot import render_skiplot
 
     parts = []
     if "rectifying" in rep:
@@ -186,7 +186,7 @@ def render_extras(rep: dict) -> str:
     if "skip_lot" in rep:
         sk = render_skiplot(rep["skip_lot"], rep.get("defects", False))
         if "aoql" in rep["skip_lot"]:
-            from ..quantities import format_level, format_pct
+            from lotwise.core.quantities import format_level, format_pct
 
             sk += (f"\n    - With rejected lots screened, its AOQL is "
                    f"{format_pct(rep['skip_lot']['aoql'], 4)} at "
@@ -200,8 +200,8 @@ def render_extras(rep: dict) -> str:
 def check_chain(plan, targets, scope, model, *, aoq_formula, skip_lot, aoq_plot, as_json):
     """``lotwise check --plan "chain: n=..,i=.."``: risks, c = 0 comparison and,
     with a lot size, AOQL and ATI."""
-    from ..chain import chain_report, render_chain
-    from ..rectifying import check_formula, rectifying_summary
+    from lotwise.families.chain import chain_report, render_chain
+    from lotwise.analysis.rectifying import check_formula, rectifying_summary
 
     if skip_lot is not None:
         raise InputError("--skip-lot applies to a single reference plan, not to a chain plan")
@@ -219,7 +219,7 @@ def check_chain(plan, targets, scope, model, *, aoq_formula, skip_lot, aoq_plot,
         verdict = "meets both targets" if rep["meets"] else "FALLS SHORT"
         text = render_chain(rep, f"Audit of {plan.label}: {verdict}")
         if "rectifying" in rep:
-            from ..rectifying import render_rectifying
+            from lotwise.analysis.rectifying import render_rectifying
 
             text += "\n\n" + render_rectifying(rep, scope.defects)
         typer.echo(text)

@@ -8,12 +8,12 @@ from typing import List, Optional
 import typer
 
 from . import app, common
-from ..quantities import InputError
+from lotwise.core.quantities import InputError
 
 
 def _resolve_files(paths):
-    from ..partplan import resolve
-    from ..planfile import load, plan_files
+    from lotwise.documents.partplan import resolve
+    from lotwise.documents.planfile import load, plan_files
 
     out = []
     for f in plan_files(paths):
@@ -23,7 +23,7 @@ def _resolve_files(paths):
 
 def check_folder(paths, as_json: bool) -> int:
     """One summary row per characteristic; 1 if any falls short or has no plan."""
-    from ..quantities import format_pct
+    from lotwise.core.quantities import format_pct
 
     rows, items = [], []
     for pp in _resolve_files(paths):
@@ -69,7 +69,7 @@ def sheet(
     as_json: bool = common.JSON,
 ):
     """Write the plan sheet (PDF, Markdown, OC plot and table, pick list) per plan file."""
-    from ..sheets import write_sheets
+    from lotwise.documents.sheets import write_sheets
 
     results = []
     for pp in _resolve_files(files):
@@ -114,9 +114,9 @@ def compare(
     as_json: bool = common.JSON,
 ):
     """Several plans side by side: risks, quality levels, ASN, one OC plot."""
-    from ..design.single import Targets
-    from ..plans import Scope, parse_plan
-    from ..quantities import format_level, format_pct
+    from lotwise.families.single import Targets
+    from lotwise.families.base import Scope, parse_plan
+    from lotwise.core.quantities import format_level, format_pct
     entries = []  # (label, plan, targets, scope, model)
     for pp in _resolve_files(files or []):
         for rep, p in zip(pp.reports, pp.plans):
@@ -128,7 +128,7 @@ def compare(
         scope = Scope(lot_size=common.lot_size(lot), defects=defects)
         mdl = scope.check_model(model)
         if designed:
-            from ..tradeoff import asn_tradeoff
+            from lotwise.analysis.tradeoff import asn_tradeoff
 
             tr = asn_tradeoff(Targets(aql=a, rql=r, alpha=al, beta=be), scope, model=mdl)
             for row in tr.rows:
@@ -146,12 +146,12 @@ def compare(
                          "files")
     if plot is not None and not plot.lower().endswith((".png", ".svg", ".pdf")):
         raise InputError(f"--plot ({plot}) must end in .png, .svg or .pdf")
-    from ..compare import compare_plans
+    from lotwise.analysis.compare import compare_plans
 
     rows_ = compare_plans(entries)
     if plot is not None:
-        from ..files import save_figure
-        from ..plots import oc_figure
+        from lotwise.data.files import save_figure
+        from lotwise.documents.plots.style import oc_figure
 
         t0 = entries[0][2]
         fig = oc_figure([(p, s) for _, p, _, s, _ in entries], models=[rows_[0]["model"]],
@@ -188,7 +188,7 @@ def demo(
     force: bool = typer.Option(False, "--force", help="Overwrite files lotwise did not write."),
 ):
     """Run the main job end to end on the invented demo scenario in plans/."""
-    from ..sheets import write_sheets
+    from lotwise.documents.sheets import write_sheets
 
     plans = _project_root() / "plans"
     if not plans.is_dir():

@@ -7,18 +7,18 @@ from typing import List, Optional
 import typer
 
 from . import app, common
-from ..quantities import InputError, Infeasible, parse_count, parse_level
+from lotwise.core.quantities import InputError, Infeasible, parse_count, parse_level
 
 
 def _scope_and_model(lot, defects, model):
-    from ..plans import Scope
+    from lotwise.families.base import Scope
 
     scope = Scope(lot_size=common.lot_size(lot), defects=defects)
     return scope, scope.check_model(model)
 
 
 def _plan_from(plan_text, n, c, *, required=True):
-    from ..plans import SinglePlan, parse_plan
+    from lotwise.families.base import SinglePlan, parse_plan
 
     if plan_text is not None:
         if n is not None or c is not None:
@@ -69,8 +69,8 @@ def design(
     as_json: bool = common.JSON,
 ):
     """Design the plan with the smallest sample meeting both risks."""
-    from ..design.single import Targets, design_single
-    from ..report import render_single, single_report
+    from lotwise.families.single import Targets, design_single
+    from lotwise.analysis.report import render_single, single_report
 
     if scheme == "variables":
         from .variables import design_cmd
@@ -151,8 +151,8 @@ def check(
     when it falls short. With plan files or folders, one summary row per
     characteristic.
     """
-    from ..design.single import Targets
-    from ..report import render_single, single_report
+    from lotwise.families.single import Targets
+    from lotwise.analysis.report import render_single, single_report
     from . import rectifying as rect_cli
 
     if paths:
@@ -200,7 +200,7 @@ def check(
 
 
 def _levels_out_of_order(a, r, defects, as_json):
-    from ..quantities import format_level
+    from lotwise.core.quantities import format_level
 
     common.fail(f"the RQL ({format_level(r, defects)}) must be above the AQL "
                 f"({format_level(a, defects)})", 1,
@@ -210,7 +210,7 @@ def _levels_out_of_order(a, r, defects, as_json):
 def _grid(p, scope, mdl, max_p, points, at, rql):
     import numpy as np
 
-    from ..audit import quality_at
+    from lotwise.analysis.audit import quality_at
 
     if at:
         vals = []
@@ -262,7 +262,7 @@ def oc_table(
     as_json: bool = common.JSON,
 ):
     """OC table: exact and Poisson acceptance probabilities side by side."""
-    from ..audit import oc_grid
+    from lotwise.analysis.audit import oc_grid
 
     p = _plan_from(plan, n, c)
     if p.scheme == "variables":
@@ -304,8 +304,8 @@ def oc_table(
     if csv is not None:
         common.write_csv(csv, header, rows, force=force)
     if plot is not None:
-        from ..plots import oc_figure
-        from ..files import save_figure
+        from lotwise.documents.plots.style import oc_figure
+        from lotwise.data.files import save_figure
 
         fig = oc_figure([(p, scope)], models=scope.models, aql=a, rql=r, max_p=float(ps.max()) if len(ps) else None)
         save_figure(fig, plot, force=force, option="--plot")

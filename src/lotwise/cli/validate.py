@@ -22,9 +22,9 @@ def validate(
     """
     from pathlib import Path
 
-    from ..files import check_writable, write_bytes, write_text
-    from ..quantities import InputError
-    from ..validation import markdown_report, pdf_report, run_cases
+    from lotwise.data.files import check_writable, write_bytes, write_text
+    from lotwise.core.quantities import InputError
+    from lotwise.validation.runner import markdown_report, pdf_report, run_cases
 
     folder = Path(out)
     if folder.exists() and not folder.is_dir():
@@ -57,7 +57,7 @@ def validate(
 
 
 def _short(v) -> str:
-    from ..validation import _fmt
+    from lotwise.validation.runner import _fmt
 
     s = _fmt(v)
     return s if len(s) <= 40 else s[:37] + "..."

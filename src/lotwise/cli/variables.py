@@ -29,7 +29,7 @@ from typing import Optional
 import typer
 
 from . import app, common
-from ..quantities import InputError, Infeasible
+from lotwise.core.quantities import InputError, Infeasible
 
 #: Shapiro-Wilk p-value below which normality is called doubtful.
 NORMALITY_LEVEL = 0.05
@@ -55,8 +55,8 @@ def number(text, option: str) -> float | None:
 def design_cmd(*, aql, rql, alpha, beta, sigma, sigma_value, limit, lower, upper, max_n,
                lot, model, defects, c, n, as_json):
     """``lotwise design --scheme variables``."""
-    from ..design.variables import design_variables
-    from ..quantities import parse_count
+    from lotwise.families.variables_design import design_variables
+    from lotwise.core.quantities import parse_count
 
     for opt, val in (("--model", model), ("--c", c), ("--n", n)):
         if val is not None:
@@ -106,13 +106,13 @@ def design_cmd(*, aql, rql, alpha, beta, sigma, sigma_value, limit, lower, upper
 
 
 def _pct(x):
-    from ..quantities import format_pct
+    from lotwise.core.quantities import format_pct
 
     return format_pct(x)
 
 
 def render_design(rep: dict) -> str:
-    from ..quantities import format_level
+    from lotwise.core.quantities import format_level
 
     t = rep["targets"]
     lines = [f"Variables plan, {rep['method']} (smallest sample meeting both risks)"]
@@ -162,7 +162,7 @@ def _risks(plan, a, r):
 
 def check_cmd(plan, *, aql, rql, alpha, beta, as_json):
     """``lotwise check --plan "variables: ..."``: exit 0 when it meets both risks."""
-    from ..quantities import format_level
+    from lotwise.core.quantities import format_level
 
     a, r = common.levels(aql, rql, False)
     al, be = common.risks(alpha, beta)
@@ -171,7 +171,7 @@ def check_cmd(plan, *, aql, rql, alpha, beta, as_json):
                     {"feasible": False, "reason": "rql must be above aql"}, as_json)
     sim = plan.exact_model == "estimate-simulated"
     if sim:
-        from ..variables import simulate_estimate_method
+        from lotwise.families.variables import simulate_estimate_method
 
         pa, se = simulate_estimate_method(plan.n, plan.m, [a, r])
         pa_a, pa_r = float(pa[0].min()), float(pa[1].max())
@@ -205,7 +205,7 @@ def check_cmd(plan, *, aql, rql, alpha, beta, as_json):
                          f"{rep['one_tail_exact']['pa_rql']:.5f})")
         if "convention" in rep:
             lines.append(f"  (two limits: {rep['convention']})")
-        from ..design.variables import SAFETY
+        from lotwise.families.variables_design import SAFETY
 
         lines.append(f"  - {SAFETY}")
         typer.echo("\n".join(lines))
@@ -216,7 +216,7 @@ def oc_cmd(plan, *, max_p, points, at, aql, rql, csv, plot, force, as_json):
     """``lotwise oc --plan "variables: ..."``: the exact OC table (and plot)."""
     import numpy as np
 
-    from ..quantities import parse_count, parse_level
+    from lotwise.core.quantities import parse_count, parse_level
 
     if plot is not None and not plot.lower().endswith((".png", ".svg", ".pdf")):
         raise InputError(f"--plot ({plot}) must end in .png, .svg or .pdf")
@@ -242,15 +242,15 @@ def oc_cmd(plan, *, max_p, points, at, aql, rql, csv, plot, force, as_json):
     if csv is not None:
         common.write_csv(csv, header, rows, force=force)
     if plot is not None:
-        from ..files import save_figure
-        from ..plots_variables import variables_oc_figure
+        from lotwise.data.files import save_figure
+        from lotwise.documents.plots.variables import variables_oc_figure
 
         fig = variables_oc_figure(plan, aql=a, rql=r, max_p=float(ps.max()) if len(ps) else None)
         save_figure(fig, plot, force=force, option="--plot")
     if as_json:
         out = {"scheme": "variables", **plan.to_dict(), "columns": header, "rows": rows}
         if plan.exact_model == "estimate-simulated":
-            from ..variables import SPLIT_SHARES
+            from lotwise.families.variables import SPLIT_SHARES
 
             out["simulation"] = {"reps": 4000, "lower_tail_shares": list(SPLIT_SHARES),
                                  "se_max": 0.5 / math.sqrt(4000)}
@@ -357,7 +357,7 @@ def judge_sample(plan, values) -> dict:
     """Verdict, statistics, estimated fraction nonconforming and normality check."""
     import numpy as np
 
-    from ..variables import estimate_known, estimate_unknown
+    from lotwise.families.variables import estimate_known, estimate_unknown
 
     x = np.asarray(values, dtype=float)
     n = x.size
@@ -448,7 +448,7 @@ def judge(
     as_json: bool = common.JSON,
 ):
     """Judge a measured sample with a variables plan: accept (exit 0) or reject (exit 1)."""
-    from ..plans import parse_plan
+    from lotwise.families.base import parse_plan
 
     if plan is None:
         raise InputError('--plan is required, e.g. --plan "variables: n=42,k=1.901,upper=25.0"')
@@ -481,8 +481,8 @@ def judge(
     rep = judge_sample(p, xs)
     rep["source"] = source
     if plot is not None:
-        from ..files import save_figure
-        from ..plots_variables import normal_probability_figure
+        from lotwise.data.files import save_figure
+        from lotwise.documents.plots.variables import normal_probability_figure
 
         nm = rep["normality"]
         note = None if nm["w"] is None else (f"Shapiro-Wilk W = {nm['w']:.3f}, p = "
@@ -499,7 +499,7 @@ def judge(
 
 
 def render_judge(rep: dict, plan) -> str:
-    from ..design.variables import SAFETY
+    from lotwise.families.variables_design import SAFETY
 
     verdict = "ACCEPT" if rep["accept"] else "REJECT"
     lines = [f"Verdict: {verdict} the lot  (plan {plan.label}; {plan.method})",

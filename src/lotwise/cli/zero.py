@@ -8,7 +8,7 @@ from typing import Optional
 import typer
 
 from . import app, common
-from ..quantities import InputError, Infeasible, parse_count, parse_level, parse_risk
+from lotwise.core.quantities import InputError, Infeasible, parse_count, parse_level, parse_risk
 
 
 @app.command()
@@ -30,7 +30,7 @@ def zero(
 ):
     """Accept-on-zero plans: design one for an RQL, or find the c = 0 plan
     equivalent to a given plan (same RQL point), with its producer's risk."""
-    from ..plans import Scope
+    from lotwise.families.base import Scope
 
     from .single import _plan_from
 
@@ -54,7 +54,7 @@ def zero(
                          "the c = 0 plan equivalent to it")
     r = parse_level(rql, "--rql", per_unit=defects)
     cap = parse_count(max_n, "--max-n", minimum=1) if max_n is not None else None
-    from ..zero import design_zero
+    from lotwise.analysis.zero import design_zero
 
     base = {"scheme": "single", "c": 0, "model": mdl, "lot_size": scope.lot_size}
     try:
@@ -64,8 +64,8 @@ def zero(
         common.infeasible(exc, as_json, base)
     rep = z.report()
     if plot is not None:
-        from ..files import save_figure
-        from ..plots import oc_figure
+        from lotwise.data.files import save_figure
+        from lotwise.documents.plots.style import oc_figure
 
         fig = oc_figure([(z.plan, scope)], aql=a, rql=r,
                         title=f"Accept on zero: {z.plan.label}")
@@ -78,8 +78,8 @@ def zero(
 
 
 def _render_zero(rep: dict) -> str:
-    from ..quantities import format_level, format_pct
-    from ..report import table
+    from lotwise.core.quantities import format_level, format_pct
+    from lotwise.analysis.report import table
 
     pu = rep["defects"]
     t = rep["targets"]
@@ -115,9 +115,9 @@ def _render_zero(rep: dict) -> str:
 
 
 def _equivalent(given, scope, mdl, be, a, al, plot, force, as_json):
-    from ..quantities import format_level, format_pct
-    from ..report import table
-    from ..zero import equivalent_figure, zero_equivalent
+    from lotwise.core.quantities import format_level, format_pct
+    from lotwise.analysis.report import table
+    from lotwise.analysis.zero import equivalent_figure, zero_equivalent
 
     if scope.lot_size is not None and getattr(given, "n", 0) > scope.lot_size:
         raise InputError(f"--n ({given.n}) must not be greater than --lot-size ({scope.lot_size})")
@@ -127,7 +127,7 @@ def _equivalent(given, scope, mdl, be, a, al, plot, force, as_json):
         common.infeasible(exc, as_json, {"model": mdl, "lot_size": scope.lot_size})
     rep = eq.report()
     if plot is not None:
-        from ..files import save_figure
+        from lotwise.data.files import save_figure
 
         save_figure(equivalent_figure(eq), plot, force=force, option="--plot")
         rep["plot"] = plot
@@ -164,7 +164,7 @@ def demonstrate(
     """Confidence/reliability tests: the sample size demonstrating "C %
     confidence that at least R % conform" with k failures allowed, or the
     exact upper bound after n units tested with k failures."""
-    from ..reliability import demonstration_size, upper_bound
+    from lotwise.analysis.reliability import demonstration_size, upper_bound
 
     if confidence is None:
         raise InputError("--confidence is required (for example --confidence 95%)")
@@ -198,7 +198,7 @@ def demonstrate(
     if as_json:
         common.emit_json(rep)
     else:
-        from ..quantities import format_pct
+        from lotwise.core.quantities import format_pct
 
         lot_txt = f"lot of {N}, hypergeometric" if N else "no lot size, binomial"
         lines = [f"Demonstration test: {format_pct(C)} confidence that at least "
@@ -213,7 +213,7 @@ def _tidy(x: float) -> float:
 
 
 def _render_bound(rep: dict) -> str:
-    from ..quantities import format_pct
+    from lotwise.core.quantities import format_pct
 
     lot_txt = f"lot of {rep['lot_size']}" if rep["lot_size"] else "no lot size"
     lines = [f"Upper confidence bound after {rep['failures']} failure(s) in {rep['tested']} "

@@ -1,0 +1,732 @@
+"""Rectifying inspection: average outgoing quality (AOQ), its limit (AOQL) and
+the average total inspection (ATI) of a plan, exact under each model.
+
+Rectifying inspection means that every rejected lot is screened 100 % and
+its nonconforming items are replaced by conforming ones; accepted lots go
+on as they are, less the nonconforming items found in their sample (also
+replaced). For a lot of ``N`` items inspected with a sample of ``n``:
+
+``screened`` (the default formula)
+    ``AOQ(p) = p Pa(p) (N - n) / N``. Exact under the binomial and Poisson
+    models: the ``N - n`` items left unsampled in an accepted lot hold on
+    average ``p (N - n)`` nonconforming ones, whatever the sample showed.
+    Under the hypergeometric model the unsampled remainder is *not*
+    independent of the sample, and the exact expectation of the outgoing
+    fraction for a lot holding ``D`` nonconforming items is
+
+        ``AOQ(D) = E[(D - X) 1{X <= c}] / N = (D/N) ((N - n)/N) Pa(n, c | N - 1, D - 1)``
+
+    (from ``(D - x) C(D, x) = D C(D - 1, x)``), with ``Pa(n, c | N - 1, D - 1)``
+    the acceptance probability for a lot of ``N - 1`` items holding ``D - 1``.
+    It is slightly below the plug-in ``(D/N) Pa(D) (N - n)/N`` because an
+    accepted lot's sample holds few nonconforming items.
+``simple``
+    ``AOQ(p) = p Pa(p)``, the form some texts use: nonconforming items found
+    in the sample of an accepted lot are not replaced (or the lot is so
+    large that ``(N - n)/N`` is taken as 1). Exact under every model for that
+    convention (``(D/N) Pa(D)`` for the finite lot).
+
+Without a lot size both formulas reduce to ``p Pa(p)``, the large-lot limit.
+
+The **AOQL** is the largest AOQ over all quality levels. On the continuous
+binomial and Poisson curves it is found by a proper maximisation: the AOQ is
+evaluated on a grid reaching the level where ``Pa`` has fallen to 1e-9, the
+grid maximum brackets the peak, and Brent's method (golden section with
+parabolic steps, [1]_) polishes it. ``p Pa(p)`` is unimodal there: ``Pa`` is
+the survival function of a beta (binomial) or gamma (Poisson) law with
+log-concave density, hence log-concave, and so is ``p Pa(p)``. Under the
+hypergeometric model the AOQL is the maximum over whole counts ``D``:
+a window of counts around the binomial peak is evaluated at once and moved
+(and widened) until its maximum is interior, which is exact because the
+finite-lot AOQ is unimodal in ``D`` (the tests check this exhaustively for
+small lots and against a full scan for large ones); lots up to 160 items
+are simply evaluated at every count.
+
+The **ATI** is ``ATI(p) = n + (1 - Pa(p)) (N - n)``: the sample of every lot
+plus the remainder of every rejected lot.
+
+Plans whose sample size varies (double, multiple, sequential, skip-lot)
+plug in through hooks, looked up on the plan object in this order:
+
+* ``plan.ati(p, model, scope)`` / ``plan.aoq(p, model, scope, formula)`` /
+  ``plan.aoq_count(d, scope, formula)`` / ``plan.ati_count(d, scope)``: the
+  plan's own exact expressions, used as they are;
+* otherwise, if the plan has ``asn(p, model, scope)``, the usual expressions
+  with the average sample number in place of ``n``:
+  ``ATI = ASN + (1 - Pa)(N - ASN)`` and ``AOQ = p Pa (N - ASN)/N`` (an
+  approximation where the sample size and the decision are dependent);
+* otherwise the plan's fixed sample size ``plan.n``.
+
+References
+----------
+.. [1] R. P. Brent, *Algorithms for Minimization without Derivatives*,
+   Prentice-Hall, 1973, ch. 5.
+.. [2] H. F. Dodge and H. G. Romig, *Sampling Inspection Tables*, 2nd ed.,
+   Wiley, 1959 (AOQ, AOQL and ATI of rectifying inspection).
+.. [3] E. G. Schilling and D. V. Neubauer, 2nd ed. (CRC Press,
+    2009), ch. 10 (rectifying inspection; AOQL factors).
+
+Examples
+--------
+Receiving screens every rejected lot of 4000 printed boards and samples 20
+boards per lot, accepting on one nonconforming. The worst average outgoing
+quality it lets through, reached when lots arrive near 7.7 % nonconforming:
+
+>>> from lotwise.families.base import Scope, SinglePlan
+>>> r = aoql(SinglePlan(n=20, c=1), Scope(lot_size=4000), "binomial", formula="simple")
+>>> round(r.value, 4), round(r.at, 3)
+(0.0414, 0.077)
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+from scipy import special
+
+from lotwise.core import kernels as oc
+from lotwise.families.base import Scope, lot_counts
+from lotwise.core.quantities import InputError, format_level, format_pct
+
+__all__ = [
+    "FORMULAS",
+    "FORMULA_TEXT",
+    "AOQL",
+    "aoq",
+    "aoq_count",
+    "ati",
+    "ati_count",
+    "aoql",
+    "rectifying_summary",
+    "render_rectifying",
+    "aoq_figure",
+    "ati_figure",
+    "rectifying_figure",
+]
+
+#: AOQ conventions: rejected lots screened and the sample's nonconforming
+#: items replaced (``screened``), or the form without ``(N - n)/N``.
+FORMULAS = ("screened", "simple")
+
+FORMULA_TEXT = {
+    "screened": "AOQ = p Pa (N - n)/N (rejected lots screened, nonconforming items found "
+                "replaced; finite lot: (D/N)((N - n)/N) Pa(n, c | N - 1, D - 1))",
+    "simple": "AOQ = p Pa (the form without (N - n)/N: nonconforming items found in an "
+              "accepted lot's sample are not replaced)",
+}
+
+_PA_FLOOR = 1e-9    # the AOQ grid reaches the level where Pa has fallen to this
+_GRID = 48          # grid points bracketing the peak on continuous curves
+_WINDOW = 64        # whole counts evaluated at once on the finite-lot curve
+_ALL_COUNTS = 160   # lots up to this size are evaluated at every count
+
+
+def check_formula(formula: str, option: str = "--aoq-formula") -> str:
+    if formula not in FORMULAS:
+        raise InputError(f"{option} ({formula}) must be one of: {', '.join(FORMULAS)}")
+    return formula
+
+
+def _is_single(plan) -> bool:
+    return getattr(plan, "scheme", None) == "single" and hasattr(plan, "c")
+
+
+def _sample_used(plan, p, model, scope):
+    """Sample size to use in the ATI/AOQ expressions: the ASN for plans with
+    a varying sample, else the fixed ``n``."""
+    if hasattr(plan, "asn"):
+        return np.asarray(plan.asn(p, model, scope), dtype=float)
+    return float(plan.n)
+
+
+def _need_lot(scope: Scope, what: str) -> int:
+    if not scope.lot_size:
+        raise InputError(f"the {what} needs a lot size (--lot-size)")
+    return int(scope.lot_size)
+
+
+# --- AOQ and ATI at given quality levels ------------------------------------------
+
+def aoq_count(plan, d, scope: Scope, formula: str = "screened"):
+    """Exact AOQ (a fraction) for lots of ``scope.lot_size`` holding ``d``
+    nonconforming items (hypergeometric model)."""
+    check_formula(formula, "formula")
+    N = _need_lot(scope, "hypergeometric AOQ")
+    if hasattr(plan, "aoq_count"):
+        return plan.aoq_count(d, scope, formula)
+    d = np.asarray(d, dtype=float)
+    if formula == "simple":
+        return _finish(d / N * np.asarray(plan.pa_count(d, scope), dtype=float))
+    if _is_single(plan):
+        return _finish(_aoq_hyper_single(plan.n, plan.c, N, d))
+    # Generic plug-in with the fixed or average sample size (see module notes).
+    pa = np.asarray(plan.pa_count(d, scope), dtype=float)
+    used = _sample_used(plan, d / N, "hypergeometric", scope)
+    return _finish(d / N * pa * (N - used) / N)
+
+
+def _aoq_hyper_single(n, c, N, d):
+    """``(D/N)((N - n)/N) Pa(n, c | N - 1, D - 1)``, zero at ``D = 0`` or ``n = N``."""
+    d = np.asarray(d, dtype=float)
+    n = np.asarray(n, dtype=float)
+    inside = (d >= 1) & (n < N)
+    nn = np.where(inside, n, 1.0)
+    dd = np.where(inside, d - 1.0, 0.0)
+    pa = np.asarray(oc.pa_hypergeometric(nn, c, N - 1.0, dd), dtype=float)
+    return np.where(inside, d / N * (N - n) / N * pa, 0.0)
+
+
+def aoq(plan, p, model: str, scope: Scope, formula: str = "screened",
+        rounding: str = "nearest"):
+    """AOQ of ``plan`` at quality level(s) ``p`` under ``model``.
+
+    Under the hypergeometric model ``p`` is turned into whole counts with
+    ``rounding`` and :func:`aoq_count` is used. Without a lot size the
+    large-lot limit ``p Pa(p)`` is returned.
+    """
+    check_formula(formula, "formula")
+    if hasattr(plan, "aoq"):
+        return plan.aoq(p, model, scope, formula)
+    p = np.asarray(p, dtype=float)
+    if model == "hypergeometric":
+        N = _need_lot(scope, "hypergeometric AOQ")
+        return aoq_count(plan, lot_counts(p, N, rounding), scope, formula)
+    pa = np.asarray(plan.pa(p, model, scope), dtype=float)
+    N = scope.lot_size
+    if not N or formula == "simple":
+        return _finish(p * pa)
+    used = _sample_used(plan, p, model, scope)
+    return _finish(p * pa * (N - used) / N)
+
+
+def ati_count(plan, d, scope: Scope):
+    """ATI (items inspected per lot) for lots holding ``d`` nonconforming items."""
+    N = _need_lot(scope, "ATI")
+    if hasattr(plan, "ati_count"):
+        return plan.ati_count(d, scope)
+    d = np.asarray(d, dtype=float)
+    pa = np.asarray(plan.pa_count(d, scope), dtype=float)
+    used = _sample_used(plan, d / N, "hypergeometric", scope)
+    return _finish(used + (1.0 - pa) * (N - used), clip=False)
+
+
+def ati(plan, p, model: str, scope: Scope, rounding: str = "nearest"):
+    """ATI ``n + (1 - Pa)(N - n)`` at quality level(s) ``p`` under ``model``."""
+    N = _need_lot(scope, "ATI")
+    if hasattr(plan, "ati"):
+        return plan.ati(p, model, scope)
+    p = np.asarray(p, dtype=float)
+    if model == "hypergeometric":
+        return ati_count(plan, lot_counts(p, N, rounding), scope)
+    pa = np.asarray(plan.pa(p, model, scope), dtype=float)
+    used = _sample_used(plan, p, model, scope)
+    return _finish(used + (1.0 - pa) * (N - used), clip=False)
+
+
+def _finish(x, clip: bool = True):
+    x = np.asarray(x, dtype=float)
+    if clip:
+        x = np.clip(x, 0.0, None)
+    return float(x) if x.ndim == 0 else x
+
+
+# --- AOQL --------------------------------------------------------------------------
+
+@dataclass(frozen=True, kw_only=True)
+class AOQL:
+    """The average outgoing quality limit of a plan under one model.
+
+    Attributes
+    ----------
+    value : float
+        The AOQL (fraction nonconforming, or nonconformities per unit).
+    at : float
+        The quality level where it occurs (``count / N`` under the
+        hypergeometric model).
+    count : int or None
+        The whole number of nonconforming items in the lot there
+        (hypergeometric model only).
+    model, formula : str
+    lot_size : int or None
+    """
+
+    value: float
+    at: float
+    model: str
+    formula: str
+    lot_size: int | None
+    count: int | None = None
+
+    def as_dict(self) -> dict:
+        d = {"aoql": self.value, "aoql_p": self.at, "model": self.model,
+             "formula": self.formula}
+        if self.count is not None:
+            d["aoql_count"] = self.count
+        return d
+
+
+def brent_max(f, a: float, b: float, *, rtol: float = 3e-9, maxiter: int = 200):
+    """Maximum of a unimodal ``f`` on ``[a, b]`` by Brent's method [1]_.
+
+    Golden-section steps, replaced by a parabola through the three best
+    points whenever that parabola's vertex falls well inside the bracket
+    and the step is shrinking. Returns ``(x, f(x))``.
+    """
+    golden = 0.5 * (3.0 - math.sqrt(5.0))
+    x = w = v = a + golden * (b - a)
+    fx = fw = fv = -f(x)
+    d = e = 0.0
+    for _ in range(maxiter):
+        mid = 0.5 * (a + b)
+        tol1 = rtol * abs(x) + 1e-300
+        tol2 = 2.0 * tol1
+        if abs(x - mid) <= tol2 - 0.5 * (b - a):
+            break
+        parabolic = False
+        if abs(e) > tol1:
+            r = (x - w) * (fx - fv)
+            q = (x - v) * (fx - fw)
+            s = (x - v) * q - (x - w) * r
+            q = 2.0 * (q - r)
+            if q > 0.0:
+                s = -s
+            q = abs(q)
+            e_prev, e = e, d
+            if abs(s) < abs(0.5 * q * e_prev) and q * (a - x) < s < q * (b - x):
+                d = s / q
+                u = x + d
+                if u - a < tol2 or b - u < tol2:
+                    d = tol1 if x < mid else -tol1
+                parabolic = True
+        if not parabolic:
+            e = (a - x) if x >= mid else (b - x)
+            d = golden * e
+        u = x + (d if abs(d) >= tol1 else (tol1 if d > 0 else -tol1))
+        fu = -f(u)
+        if fu <= fx:
+            if u >= x:
+                a = x
+            else:
+                b = x
+            v, fv, w, fw, x, fx = w, fw, x, fx, u, fu
+        else:
+            if u < x:
+                a = u
+            else:
+                b = u
+            if fu <= fw or w == x:
+                v, fv, w, fw = w, fw, u, fu
+            elif fu <= fv or v == x or v == w:
+                v, fv = u, fu
+    return x, -fx
+
+
+def _top_level(plan, model: str, scope: Scope) -> float:
+    """A quality level beyond the AOQ peak: where ``Pa`` has fallen to 1e-9."""
+    if _is_single(plan):
+        n, c = plan.n, plan.c
+        if model == "poisson":
+            return float(special.gammainccinv(c + 1.0, _PA_FLOOR)) / n
+        if c >= n:
+            return 1.0
+        return float(special.betainccinv(c + 1.0, n - c, _PA_FLOOR))
+    from lotwise.analysis.audit import quality_at
+
+    q = quality_at(plan, _PA_FLOOR, "poisson" if model == "poisson" else "binomial",
+                   scope, "consumer")
+    return q if scope.defects or model == "poisson" else min(1.0, q)
+
+
+def _scalar_aoq_single(plan, model, scope, formula):
+    """``p -> AOQ(p)`` for a single plan on Python floats: the same incomplete
+    beta/gamma expressions as :mod:`lotwise.core.kernels`, without array overhead, for
+    the many evaluations of Brent's method."""
+    n, c = float(plan.n), float(plan.c)
+    N = scope.lot_size
+    k = 1.0 if (not N or formula == "simple") else (N - n) / N
+    if model == "poisson":
+        return lambda p: p * float(special.gammaincc(c + 1.0, n * p)) * k if p > 0 else 0.0
+    if c >= n:
+        return lambda p: p * k
+    return lambda p: (p * float(special.betaincc(c + 1.0, n - c, p)) * k) if 0 < p < 1 else 0.0
+
+
+def _aoql_continuous(plan, model, scope, formula) -> AOQL:
+    top = _top_level(plan, model, scope)
+    if _is_single(plan) and not hasattr(plan, "aoq"):
+        f = _scalar_aoq_single(plan, model, scope, formula)
+    else:
+        f = lambda x: float(aoq(plan, x, model, scope, formula))  # noqa: E731
+    grid = np.linspace(0.0, top, _GRID + 1)
+    vals = np.asarray(aoq(plan, grid, model, scope, formula), dtype=float)
+    while int(np.argmax(vals)) == len(grid) - 1 and (scope.defects or model == "poisson"
+                                                     or grid[-1] < 1.0):
+        # The curve still rises at the end: extend the range.
+        hi = grid[-1] * 2.0
+        if not (scope.defects or model == "poisson"):
+            hi = min(hi, 1.0)
+        grid = np.linspace(0.0, hi, _GRID + 1)
+        vals = np.asarray(aoq(plan, grid, model, scope, formula), dtype=float)
+    i = int(np.argmax(vals))
+    if i == len(grid) - 1:  # every lot accepted (c >= n): the peak is at p = 1
+        return AOQL(value=float(vals[i]), at=float(grid[i]), model=model, formula=formula,
+                    lot_size=scope.lot_size)
+    lo, hi = grid[max(i - 1, 0)], grid[i + 1]
+    x, fx = brent_max(f, float(lo), float(hi))
+    if fx < vals[i]:  # cannot happen for a unimodal curve; keep the better point
+        x, fx = float(grid[i]), float(vals[i])
+    return AOQL(value=float(fx), at=float(x), model=model, formula=formula,
+                lot_size=scope.lot_size)
+
+
+def _aoql_counts(plan, scope, formula) -> AOQL:
+    N = int(scope.lot_size)
+    g = lambda d: np.asarray(aoq_count(plan, d, scope, formula), dtype=float)  # noqa: E731
+    if N + 1 <= _ALL_COUNTS:
+        d = np.arange(0, N + 1, dtype=float)
+        vals = g(d)
+        i = int(np.argmax(vals))
+        return AOQL(value=float(vals[i]), at=float(d[i] / N), count=int(d[i]),
+                    model="hypergeometric", formula=formula, lot_size=N)
+    # Start from the binomial peak, then walk a window of whole counts until
+    # its maximum is interior: exact for a unimodal AOQ (see the module notes).
+    start = _aoql_continuous(plan, "binomial", scope, formula).at
+    centre = int(round(start * N))
+    half = _WINDOW // 2
+    for _ in range(10_000):
+        lo = max(0, centre - half)
+        hi = min(N, lo + 2 * half)
+        lo = max(0, hi - 2 * half)
+        d = np.arange(lo, hi + 1, dtype=float)
+        vals = g(d)
+        i = int(np.argmax(vals))
+        at_low_edge = i == 0 and lo > 0
+        at_high_edge = i == len(d) - 1 and hi < N
+        if not (at_low_edge or at_high_edge):
+            break
+        # The maximum sits on an edge: move the window that way, widening it.
+        half = min(2 * half, N)
+        centre = int(d[i]) + (-half if at_low_edge else half)
+    return AOQL(value=float(vals[i]), at=float(d[i] / N), count=int(d[i]),
+                model="hypergeometric", formula=formula, lot_size=N)
+
+
+def aoql(plan, scope: Scope, model: str | None = None, formula: str = "screened") -> AOQL:
+    """Average outgoing quality limit of ``plan`` and where it occurs.
+
+    Parameters
+    ----------
+    plan
+        Any plan object with ``pa`` (and ``pa_count`` for a finite lot).
+    scope : Scope
+        With ``lot_size`` for the ``(N - n)/N`` factor and the
+        hypergeometric model; without, the large-lot limit ``max p Pa(p)``.
+    model : str, optional
+        Default the scope's exact model.
+    formula : {'screened', 'simple'}
+
+    Returns
+    -------
+    AOQL
+    """
+    check_formula(formula, "formula")
+    model = scope.check_model(model)
+    if model == "hypergeometric":
+        return _aoql_counts(plan, scope, formula)
+    return _aoql_continuous(plan, model, scope, formula)
+
+
+# --- vectorised AOQL of many single plans (used by the least-inspection designer) -
+
+def aoql_single_many(n, c, model: str, lot_size: int, formula: str = "screened",
+                     rounds: int = 9, points: int = 33):
+    """AOQL of the single plans ``(n[k], c[k])`` at once, for a lot of ``lot_size``.
+
+    Continuous models: successive grids of ``points`` levels, each spanning
+    two steps of the previous one around its maximum (valid because the AOQ
+    curve is unimodal), ``rounds`` times: the bracket shrinks 16-fold per
+    round. Hypergeometric: a window of whole counts around the binomial
+    peak, moved until its maximum is interior. Returns ``(aoql, level)``
+    arrays.
+    """
+    n = np.atleast_1d(np.asarray(n, dtype=float))
+    c = np.atleast_1d(np.asarray(c, dtype=float))
+    n, c = np.broadcast_arrays(n, c)
+    N = float(lot_size)
+    per_unit_model = model == "poisson"
+    if model == "hypergeometric":
+        return _aoql_many_counts(n, c, int(lot_size), formula)
+    if per_unit_model:
+        top = special.gammainccinv(c + 1.0, _PA_FLOOR) / n
+    else:
+        top = np.where(c >= n, 1.0, special.betainccinv(c + 1.0, np.maximum(n - c, 1.0),
+                                                         _PA_FLOOR))
+    factor = np.ones_like(n) if formula == "simple" else (N - n) / N
+    kern = oc.pa_poisson if per_unit_model else oc.pa_binomial
+
+    def f(ps):
+        pa = np.asarray(kern(n[:, None], c[:, None], ps), dtype=float)
+        return ps * pa * factor[:, None]
+
+    lo = np.zeros_like(n)
+    hi = top.copy()
+    t = np.linspace(0.0, 1.0, points)
+    best_p = np.zeros_like(n)
+    best_v = np.zeros_like(n)
+    for _ in range(rounds):
+        ps = lo[:, None] + (hi - lo)[:, None] * t[None, :]
+        vals = f(ps)
+        i = np.argmax(vals, axis=1)
+        rows = np.arange(len(n))
+        v = vals[rows, i]
+        better = v >= best_v
+        best_v = np.where(better, v, best_v)
+        best_p = np.where(better, ps[rows, i], best_p)
+        step = (hi - lo) / (points - 1)
+        lo, hi = (np.maximum(ps[rows, i] - step, 0.0),
+                  np.minimum(ps[rows, i] + step, top if per_unit_model else
+                             np.minimum(top, 1.0)))
+    return best_v, best_p
+
+
+def _aoql_many_counts(n, c, N, formula):
+    cont_v, cont_p = aoql_single_many(n, c, "binomial", N, formula)
+    rows = np.arange(len(n))
+    if N + 1 <= _ALL_COUNTS:
+        d = np.arange(0, N + 1, dtype=float)[None, :]
+        vals = _hyper_aoq_grid(n, c, N, d, formula)
+        i = np.argmax(vals, axis=1)
+        return vals[rows, i], d[0, i] / N
+    centre = np.round(cont_p * N)
+    half = _WINDOW // 2
+    best_v = np.zeros(len(n))
+    best_d = np.zeros(len(n))
+    todo = rows.copy()
+    while todo.size:
+        lo = np.clip(centre[todo] - half, 0, max(N - _WINDOW, 0))
+        d = lo[:, None] + np.arange(_WINDOW + 1)[None, :]
+        d = np.minimum(d, N)
+        vals = _hyper_aoq_grid(n[todo], c[todo], N, d, formula)
+        i = np.argmax(vals, axis=1)
+        r = np.arange(todo.size)
+        best_v[todo] = vals[r, i]
+        best_d[todo] = d[r, i]
+        low_edge = (i == 0) & (lo > 0)
+        high_edge = (i == _WINDOW) & (d[:, -1] < N)
+        move = low_edge | high_edge
+        centre[todo] = np.where(low_edge, d[r, i] - half + 1,
+                                np.where(high_edge, d[r, i] + half - 1, centre[todo]))
+        todo = todo[move]
+    return best_v, best_d / N
+
+
+def _hyper_aoq_grid(n, c, N, d, formula):
+    nn = n[:, None]
+    cc = c[:, None]
+    if formula == "simple":
+        return d / N * np.asarray(oc.pa_hypergeometric(nn, cc, N, d), dtype=float)
+    return _aoq_hyper_single(nn, cc, N, d)
+
+
+# --- report -----------------------------------------------------------------------
+
+def rectifying_summary(plan, scope: Scope, model: str, targets=None,
+                       formula: str = "screened") -> dict:
+    """The rectifying-inspection part of a check report (JSON-ready).
+
+    Top-level keys, under ``model`` (the model the plan is judged by):
+    ``aoql``, ``aoql_p`` (the level where it occurs) and ``ati`` with the ATI
+    at the AQL and at the RQL (``{"aql", "rql"}``, at the same conservative
+    whole counts as the risks under the hypergeometric model). ``rectifying``
+    holds the formula, the AOQL count and the same figures under every model
+    that applies.
+    """
+    check_formula(formula, "formula")
+    N = _need_lot(scope, "rectifying inspection")
+    per_model = {}
+    for m in scope.models:
+        a = aoql(plan, scope, m, formula)
+        entry = a.as_dict()
+        del entry["model"], entry["formula"]
+        if targets is not None:
+            entry["ati"] = _ati_at_targets(plan, scope, m, targets)
+        per_model[m] = entry
+    main = per_model[model]
+    expression = FORMULA_TEXT[formula]
+    if formula == "screened" and not _is_single(plan):
+        expression = (expression.split("; finite lot:")[0]
+                      + "; finite lot: the plan's exact E[(D - X) 1{accept}] / N)")
+    out = {
+        "aoql": main["aoql"],
+        "aoql_p": main["aoql_p"],
+        "rectifying": {
+            "lot_size": N,
+            "formula": formula,
+            "aoq_expression": expression,
+            "ati_expression": "ATI = n + (1 - Pa)(N - n)",
+            "model": model,
+            "models": per_model,
+        },
+    }
+    if "aoql_count" in main:
+        out["rectifying"]["aoql_count"] = main["aoql_count"]
+    if targets is not None:
+        out["ati"] = main["ati"]
+    return out
+
+
+def _ati_at_targets(plan, scope: Scope, model: str, targets) -> dict:
+    N = scope.lot_size
+    if model == "hypergeometric":
+        d1 = oc.lot_count(targets.aql, N, "up")
+        d2 = oc.lot_count(targets.rql, N, "down")
+        return {"aql": float(ati_count(plan, d1, scope)), "rql": float(ati_count(plan, d2, scope))}
+    return {"aql": float(ati(plan, targets.aql, model, scope)),
+            "rql": float(ati(plan, targets.rql, model, scope))}
+
+
+def render_rectifying(rep: dict, per_unit: bool = False) -> str:
+    """Terminal lines for the keys added by :func:`rectifying_summary`."""
+    r = rep["rectifying"]
+    N = r["lot_size"]
+    lines = [f"  Rectifying inspection (rejected lots of {N} screened 100 %):"]
+    text = r["aoq_expression"]
+    if "; finite lot:" in text:
+        head, _, tail = text.partition("; finite lot:")
+        lines += [f"    {head})", f"    finite lot, exact: {tail.strip()[:-1]}"]
+    else:
+        lines.append(f"    {text}")
+    lines.append("    ATI = n + (1 - Pa)(N - n)")
+    rows = []
+    for m, e in r["models"].items():
+        mark = " *" if m == r["model"] else ""
+        where = format_level(e["aoql_p"], per_unit)
+        if "aoql_count" in e:
+            where += f" ({e['aoql_count']} in the lot)"
+        row = [m + mark, _level_or_pct(e["aoql"], per_unit), where]
+        if "ati" in e:
+            row += [f"{e['ati']['aql']:,.1f}", f"{e['ati']['rql']:,.1f}"]
+        rows.append(row)
+    from lotwise.analysis.report import table
+
+    header = ["model", "AOQL", "at quality"]
+    if "ati" in rep:
+        header += ["ATI at AQL", "ATI at RQL"]
+    lines.append(table(rows, header, indent="    "))
+    lines.append(f"    - Whatever the incoming quality, the outgoing quality averages no worse "
+                 f"than {_level_or_pct(rep['aoql'], per_unit)} (the AOQL), reached when lots "
+                 f"arrive at {format_level(rep['aoql_p'], per_unit)}.")
+    if "ati" in rep:
+        lines.append(f"    - Items inspected per lot of {N}: {rep['ati']['aql']:,.1f} on average "
+                     f"at the AQL, {rep['ati']['rql']:,.1f} at the RQL.")
+    lines.append("    - The AOQL is an average over many lots: any single accepted lot may be "
+                 "worse. Critical characteristics need 100 % inspection or stricter plans as "
+                 "contracts and regulations require.")
+    return "\n".join(lines)
+
+
+def _level_or_pct(x: float, per_unit: bool) -> str:
+    return f"{x:.4g} per unit" if per_unit else format_pct(x, 4)
+
+
+# --- figures ----------------------------------------------------------------------
+
+def _curve_grid(plan, scope: Scope, max_p, points):
+    if max_p is None:
+        top = _top_level(plan, scope.exact_model if scope.exact_model != "hypergeometric"
+                         else "binomial", scope)
+        from lotwise.analysis.audit import quality_at
+
+        q = quality_at(plan, 0.002, "poisson" if scope.defects else "binomial", scope,
+                       "consumer")
+        max_p = min(top, q * 1.1) if q > 0 else top
+        if not scope.defects:
+            max_p = min(max_p, 1.0)
+    return np.linspace(0.0, max_p, points)
+
+
+def _style_order(models, scope: Scope) -> tuple:
+    """Exact model first (solid), then Poisson (dashed), then the binomial
+    (dotted), matching :func:`lotwise.documents.plots.style.oc_figure`."""
+    exact = scope.exact_model
+    rest = [m for m in ("poisson", "binomial", "hypergeometric") if m in models and m != exact]
+    return tuple(([exact] if exact in models else []) + rest)
+
+
+def aoq_figure(plan, scope: Scope, ax=None, *, models=None, formula: str = "screened",
+               max_p=None, points: int = 401, title=None):
+    """AOQ curves of ``plan`` (exact model solid, the others dashed/dotted),
+    with each model's AOQL marked. Returns the figure.
+
+    Under the hypergeometric model the curve is drawn at the whole counts the
+    lot can hold.
+    """
+    from lotwise.documents.plots.style import curve_figure
+
+    check_formula(formula, "formula")
+    models = _style_order(models or scope.models, scope)
+    ps = _curve_grid(plan, scope, max_p, points)
+    curves, marks = [], []
+    for m in models:
+        x = ps
+        if m == "hypergeometric":
+            x = lot_counts(ps, scope.lot_size, "nearest") / scope.lot_size
+        y = np.asarray(aoq(plan, x, m, scope, formula), dtype=float)
+        tag = " (exact)" if m == scope.exact_model else ""
+        curves.append((f"{m}{tag}", y))
+        a = aoql(plan, scope, m, formula)
+        if m == scope.exact_model:
+            marks.append((a.at, a.value, f"AOQL {_level_or_pct(a.value, scope.defects)} at "
+                          f"{format_level(a.at, scope.defects)}"))
+    lot = f", lot of {scope.lot_size}" if scope.lot_size else " (large lot)"
+    fig = curve_figure(ps, curves, xlabel=("Incoming quality: nonconformities per unit"
+                                           if scope.defects else
+                                           "Incoming quality: nonconforming (%)"),
+                       ylabel="Average outgoing quality" + ("" if scope.defects else " (%)"),
+                       per_unit=scope.defects, ax=ax, y_percent=not scope.defects,
+                       marks=marks, title=title or f"AOQ of {plan.label}{lot}")
+    return fig
+
+
+def ati_figure(plan, scope: Scope, ax=None, *, models=None, max_p=None, points: int = 401,
+               title=None, marks=()):
+    """ATI curves of ``plan`` for the lot size in ``scope`` (items inspected per
+    lot), with guide lines at ``n`` and ``N``. Returns the figure."""
+    from lotwise.documents.plots.style import curve_figure
+
+    N = _need_lot(scope, "ATI curve")
+    models = _style_order(models or scope.models, scope)
+    ps = _curve_grid(plan, scope, max_p, points)
+    curves = []
+    for m in models:
+        tag = " (exact)" if m == scope.exact_model else ""
+        curves.append((f"{m}{tag}", np.asarray(ati(plan, ps, m, scope), dtype=float)))
+    fig = curve_figure(ps, curves, xlabel=("Incoming quality: nonconformities per unit"
+                                           if scope.defects else
+                                           "Incoming quality: nonconforming (%)"),
+                       ylabel="Average total inspection per lot", per_unit=scope.defects,
+                       ax=ax, marks=list(marks),
+                       title=title or f"ATI of {plan.label}, lot of {N}")
+    ax_ = fig.axes[0] if ax is None else ax
+    ax_.axhline(N, color="0.55", linewidth=0.8, linestyle=":")
+    ax_.set_ylim(0, N * 1.05)
+    return fig
+
+
+def rectifying_figure(plan, scope: Scope, *, formula: str = "screened", aql=None, rql=None,
+                      max_p=None):
+    """OC, AOQ and ATI of ``plan`` one above the other (for a known lot size)."""
+    from lotwise.documents.plots.style import _mpl, oc_figure
+
+    plt = _mpl()
+    fig, axes = plt.subplots(3, 1, figsize=(6.4, 10.5), dpi=110)
+    ps = _curve_grid(plan, scope, max_p, 3)
+    top = float(ps[-1])
+    oc_figure([(plan, scope)], aql=aql, rql=rql, max_p=top, ax=axes[0],
+              title=f"OC of {plan.label}, lot of {scope.lot_size}")
+    aoq_figure(plan, scope, ax=axes[1], formula=formula, max_p=top)
+    ati_figure(plan, scope, ax=axes[2], max_p=top)
+    fig.tight_layout()
+    return fig

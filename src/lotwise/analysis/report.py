@@ -1,0 +1,123 @@
+"""One result dictionary per design or check, shared by ``--json``, the
+terminal tables and the plan sheets, so all of them show the same numbers.
+
+The keys follow the project's JSON contract (see README): ``scheme``, ``n``,
+``c``, ``model``, ``lot_size``, ``targets``, ``models`` (one entry per
+applicable model with ``pa_aql``, ``pa_rql``, ``alpha``, ``beta``,
+``meets``), ``meets``, ``plan_quality`` and, for designs,
+``poisson_design``. More keys may be added; none is ever renamed.
+"""
+
+from __future__ import annotations
+
+from lotwise.analysis.approximation import poisson_verdict
+from lotwise.analysis.audit import audit_plan
+from lotwise.families.base import Scope
+from lotwise.core.quantities import format_level, format_pct
+
+__all__ = ["single_report", "render_single", "table"]
+
+
+def single_report(plan, targets, scope: Scope, model: str | None = None, *, design=None,
+                  verdict: bool = True) -> dict:
+    """The full result for a single plan judged against ``targets``.
+
+    ``design`` (a :class:`~lotwise.families.single.SingleDesign`) adds what the
+    designer knows: whether the answer is 100 % inspection, and the lot
+    counts used.
+    """
+    audit = audit_plan(plan, targets, scope, model)
+    out = {
+        "scheme": "single",
+        "n": plan.n,
+        "c": plan.c,
+        "r": plan.r,
+        "model": audit.model,
+        "lot_size": scope.lot_size,
+        "defects": scope.defects,
+        "targets": targets.as_dict(),
+        "models": {m: r.as_dict() for m, r in audit.risks.items()},
+        "meets": audit.meets,
+        "plan_quality": audit.quality.as_dict(),
+        "statements": audit.statements(),
+    }
+    if audit.model == "hypergeometric":
+        r = audit.risks["hypergeometric"]
+        out["lot_counts"] = {"aql": r.count_aql, "rql": r.count_rql,
+                             "aql_rounding": "up", "rql_rounding": "down"}
+    if design is not None:
+        out["feasible"] = True
+        out["full_inspection"] = design.full_inspection
+    if verdict:
+        v = poisson_verdict(plan, targets, scope)
+        out["poisson_verdict"] = v.as_dict()
+        out["poisson_verdict"]["summary"] = v.summary()
+        pd = v.as_dict()["poisson_design"]
+        if pd is not None:
+            out["poisson_design"] = pd
+        else:
+            out["poisson_design"] = None
+    return out
+
+
+_MODEL_WORDS = {
+    "hypergeometric": "hypergeometric (finite lot, type A)",
+    "binomial": "binomial (process or large lot, type B)",
+    "poisson": "Poisson",
+}
+
+
+def context_lines(rep: dict, pct=format_pct) -> list[str]:
+    """The "judged by ..." and "targets ..." lines of a report."""
+    per_unit = rep["defects"]
+    t = rep["targets"]
+    counted = "nonconformities per unit" if per_unit else "fraction nonconforming"
+    lot = f"lot of {rep['lot_size']}" if rep["lot_size"] else "no lot size (process)"
+    return [f"  judged by {_MODEL_WORDS[rep['model']]}; {counted}; {lot}",
+            f"  targets   AQL {format_level(t['aql'], per_unit)} at alpha {pct(t['alpha'])}, "
+            f"RQL {format_level(t['rql'], per_unit)} at beta {pct(t['beta'])}"]
+
+
+def verdict_word(r: dict) -> str:
+    """"yes", or "NO (alpha, beta)" naming the risks a model's row misses."""
+    if r["meets"]:
+        return "yes"
+    short = [w for w, ok in (("alpha", r["meets_alpha"]), ("beta", r["meets_beta"])) if not ok]
+    return "NO (" + ", ".join(short) + ")"
+
+
+def render_single(rep: dict, title: str) -> str:
+    """Compact terminal text for a :func:`single_report` dictionary."""
+    lines = [title]
+    if rep.get("full_inspection"):
+        lines.append(f"  100 % inspection: no sample smaller than the lot of {rep['lot_size']} "
+                     "meets both risks; inspect every item.")
+    lines.append(f"  plan      n = {rep['n']}, accept on c = {rep['c']}, reject on {rep['r']}")
+    lines += context_lines(rep)
+    rows = []
+    for m, r in rep["models"].items():
+        mark = " *" if m == rep["model"] else ""
+        rows.append([m + mark, f"{r['pa_aql']:.5f}", format_pct(r["alpha"]),
+                     f"{r['pa_rql']:.5f}", format_pct(r["beta"]), verdict_word(r)])
+    lines.append("")
+    lines.append(table(rows, ["model", "Pa(AQL)", "alpha", "Pa(RQL)", "beta", "meets"]))
+    lines.append("  (* the model the plan is judged by)")
+    lines.append("")
+    for s in rep["statements"]:
+        lines.append(f"  - {s}")
+    if "poisson_verdict" in rep:
+        lines.append("")
+        lines.append("  Poisson approximation: " + rep["poisson_verdict"]["summary"])
+    return "\n".join(lines)
+
+
+def table(rows: list[list[str]], header: list[str], indent: str = "  ") -> str:
+    """A compact left-aligned text table."""
+    cols = [header] + rows
+    widths = [max(len(str(r[i])) for r in cols) for i in range(len(header))]
+
+    def fmt(r):
+        return indent + "  ".join(str(v).ljust(w) for v, w in zip(r, widths)).rstrip()
+
+    return "\n".join([fmt(header), indent + "  ".join("-" * w for w in widths)]
+                     + [fmt(r) for r in rows])

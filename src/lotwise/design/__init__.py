@@ -1,1 +1,0 @@
-"""Plan designers, one module per plan family."""

@@ -1,0 +1,242 @@
+"""A part's plan: one sample, one acceptance number per characteristic.
+
+Characteristics listed in one plan file are judged on the same sample, each
+with its own acceptance number and its own risks. :func:`resolve` turns a
+:class:`~lotwise.documents.planfile.PlanRequest` into a :class:`PartPlan`:
+
+* a file that fixes ``sampling.n`` and every ``c`` is audited as it stands;
+* otherwise each characteristic is designed on its own (smallest ``n``
+  meeting its two risks, honouring a fixed ``c``); the common sample is the
+  largest of those ``n``, and every characteristic then gets the smallest
+  ``c`` meeting its producer's risk at the common ``n``. If a characteristic's
+  consumer's risk is no longer met there (possible for discrete plans, if
+  rare), ``n`` is raised one unit at a time until all are met, up to the cap.
+
+Examples
+--------
+A casting carries a major and a minor characteristic on one sample:
+
+>>> from lotwise.documents.planfile import loads
+>>> req = loads('''
+... [part]
+... id = "K-9"
+... [[characteristic]]
+... id = "M1"
+... class = "major"
+... aql = "1%"
+... rql = "6%"
+... [[characteristic]]
+... id = "m1"
+... class = "minor"
+... aql = "2.5%"
+... rql = "15%"
+... ''')
+>>> pp = resolve(req)
+>>> pp.n, [r["c"] for r in pp.reports]
+(110, [3, 6])
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+from lotwise.families.single import design_single
+from lotwise.families.base import SinglePlan
+from lotwise.core.quantities import Infeasible
+from lotwise.analysis.report import single_report
+
+__all__ = ["PartPlan", "resolve"]
+
+
+@dataclass(frozen=True, kw_only=True)
+class PartPlan:
+    """A resolved plan file.
+
+    Attributes
+    ----------
+    request : PlanRequest
+    n : int or None
+        The common attributes sample size (None when no plan could be found);
+        for a file whose characteristics all have plans of their own, the
+        largest of their sample sizes.
+    reports : list of dict
+        One :func:`~lotwise.analysis.report.single_report` per characteristic, in file
+        order, each with ``"characteristic"`` (id, description, class) added.
+    designed : bool
+        False when the file fixed the plan (an audit).
+    problem : str
+        Why no plan could be found, if so.
+    plans : list
+        The plan object of each characteristic, in file order.
+    """
+
+    request: object
+    n: int | None
+    reports: list
+    designed: bool
+    problem: str = ""
+    plans: list = field(default_factory=list)
+
+    @property
+    def meets(self) -> bool:
+        return self.n is not None and all(r["meets"] for r in self.reports)
+
+    @property
+    def model(self) -> str:
+        return self.reports[0]["model"] if self.reports else ""
+
+
+def _with_char(rep: dict, ch) -> dict:
+    rep = dict(rep)
+    rep["characteristic"] = {"id": ch.id, "description": ch.description, "class": ch.klass}
+    return rep
+
+
+def _common_sample(req, chars, floor: int = 0) -> tuple[int, list]:
+    """The common attributes sample for ``chars`` and each one's single plan.
+
+    ``floor``: the sample is at least this large (the largest plan of its own
+    among the part's other characteristics, so that every unit sampled serves
+    every characteristic). Raises :class:`Infeasible` when no common sample
+    meets every risk.
+    """
+    scope, model = req.scope, req.model
+    if req.fixed:
+        return req.n, [SinglePlan(n=req.n, c=ch.c) for ch in chars]
+    cap = req.max_n
+    if scope.lot_size is not None:
+        cap = scope.lot_size if cap is None else min(cap, scope.lot_size)
+    if req.n is not None:
+        n = req.n
+    else:
+        n = max(design_single(aql=ch.targets.aql, rql=ch.targets.rql, alpha=ch.targets.alpha,
+                              beta=ch.targets.beta, lot_size=scope.lot_size, model=model,
+                              defects=scope.defects, c=ch.c, max_n=cap).n for ch in chars)
+        n = max(n, min(floor, cap) if cap is not None else floor)
+    while True:
+        plans, short = [], None
+        for ch in chars:
+            t = ch.targets
+            if ch.c is not None:
+                plan = SinglePlan(n=n, c=ch.c)
+                risk = single_report(plan, t, scope, model, verdict=False)
+                mr = risk["models"][risk["model"]]
+                if not mr["meets_alpha"]:
+                    # A larger sample only lowers Pa at the AQL further.
+                    raise Infeasible(
+                        f"at the common sample n = {n}, characteristic {ch.id} with its fixed "
+                        f"c = {ch.c} carries alpha {100 * mr['alpha']:.3g} % (target "
+                        f"{100 * t.alpha:.3g} %); relax its AQL or inspect it on a sample "
+                        "of its own")
+                if not mr["meets_beta"]:
+                    short = ch
+                    break
+            else:
+                try:
+                    plan = design_single(aql=t.aql, rql=t.rql, alpha=t.alpha, beta=t.beta,
+                                         lot_size=scope.lot_size, model=model,
+                                         defects=scope.defects, n=n).plan
+                except Infeasible:
+                    short = ch
+                    break
+            plans.append(plan)
+        if short is None:
+            return n, plans
+        if req.n is not None or (cap is not None and n >= cap):
+            raise Infeasible(f"no common sample size up to {n} meets the risks of "
+                             f"characteristic {short.id}")
+        n += 1
+
+
+def largest_sample(plan) -> int | None:
+    """Most units a plan may inspect in one lot (its sample size, when fixed)."""
+    n = getattr(plan, "n", None)
+    if isinstance(n, (tuple, list)):  # multiple plans: stage sizes
+        return int(sum(n))
+    if n is not None:
+        return int(n)
+    if hasattr(plan, "n1"):
+        return int(plan.n1 + plan.n2)
+    t = getattr(plan, "truncate", None)
+    return int(t) if t is not None else None
+
+
+def own_report(plan, ch, scope, model=None, design=None) -> dict:
+    """Report for a characteristic judged on a plan of its own (any plan type):
+    the keys of :func:`~lotwise.analysis.report.single_report` that apply."""
+    from lotwise.analysis.compare import row_for
+
+    row = row_for(plan.label, plan, ch.targets, scope, model)
+    t = ch.targets
+    mr = {"pa_aql": row["pa_aql"], "pa_rql": row["pa_rql"], "alpha": row["alpha"],
+          "beta": row["beta"], "meets_alpha": bool(row["alpha"] <= t.alpha + 1e-12),
+          "meets_beta": bool(row["beta"] <= t.beta + 1e-12)}
+    mr["meets"] = mr["meets_alpha"] and mr["meets_beta"]
+    rep = {"scheme": plan.scheme, "plan": plan.to_dict(), "label": plan.label,
+           "n": largest_sample(plan), "model": row["model"], "lot_size": scope.lot_size,
+           "defects": scope.defects, "targets": row["targets"], "models": {row["model"]: mr},
+           "meets": mr["meets"], "plan_quality": row["plan_quality"], "own_sample": True}
+    if "asn" in row:
+        rep["asn"] = row["asn"]
+    if design is not None and hasattr(design, "as_dict"):
+        d = design.as_dict()
+        for key in ("attributes", "approximation", "k_range"):
+            if key in d:
+                rep[key] = d[key]
+    return _with_char(rep, ch)
+
+
+def _own_plan(ch, req):
+    """The given plan, or the variables design, of a characteristic."""
+    if ch.plan is not None:
+        return ch.plan, None
+    from lotwise.families.variables_design import design_variables
+
+    v = ch.variables
+    limit = "both" if ("lower" in v and "upper" in v) else ("upper" if "upper" in v else "lower")
+    t = ch.targets
+    d = design_variables(aql=t.aql, rql=t.rql, alpha=t.alpha, beta=t.beta, sigma=v["sigma"],
+                         limit=limit, sigma_value=v.get("sigma_value"), lower=v.get("lower"),
+                         upper=v.get("upper"), max_n=req.max_n)
+    return d.plan, d
+
+
+def resolve(req, *, verdict: bool = True) -> PartPlan:
+    """Design (or audit) the plan a plan file asks for."""
+    scope, model = req.scope, req.model
+    chars = req.characteristics
+    common = [ch for ch in chars if not ch.own_sample]
+    try:
+        own = {ch.id: _own_plan(ch, req) for ch in chars if ch.own_sample}
+        floor = max((largest_sample(p) or 0 for p, _ in own.values()), default=0)
+        n, common_plans = _common_sample(req, common, floor) if common else (None, [])
+    except Infeasible as exc:
+        return PartPlan(request=req, n=None, reports=[], designed=not req.fixed,
+                        problem=str(exc))
+    by_id = dict(zip((ch.id for ch in common), common_plans))
+    reps, plans = [], []
+    for ch in chars:
+        if ch.id in by_id:
+            p = by_id[ch.id]
+            rep = _with_char(single_report(p, ch.targets, scope, model, verdict=verdict), ch)
+            rep["full_inspection"] = bool(scope.lot_size and p.n >= scope.lot_size)
+            _add_rectifying([rep], [p], [ch], scope)
+        else:
+            p, design = own[ch.id]
+            rep = own_report(p, ch, scope, model, design)
+        reps.append(rep)
+        plans.append(p)
+    if n is None:
+        n = max((r["n"] or 0) for r in reps) or None
+    return PartPlan(request=req, n=n, reports=reps, plans=plans, designed=not req.fixed)
+
+
+def _add_rectifying(reps, plans, chars, scope) -> None:
+    """AOQL and ATI (rejected lots screened 100 %) when the lot size is known."""
+    if not scope.lot_size or scope.defects:
+        return
+    from lotwise.analysis.rectifying import rectifying_summary
+
+    for rep, plan, ch in zip(reps, plans, chars):
+        if plan.n < scope.lot_size:
+            rep.update(rectifying_summary(plan, scope, rep["model"], ch.targets))

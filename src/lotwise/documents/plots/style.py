@@ -1,0 +1,189 @@
+"""Figures: OC curves (exact beside Poisson) and the helpers later curves reuse.
+
+matplotlib is imported inside each function (Agg backend), so importing
+this module costs nothing on the command line's fast paths. Every helper
+takes an optional ``ax`` and returns the figure.
+
+The style is plain and survives grey print: the exact model is a solid
+line, the Poisson approximation dashed, the binomial dotted where it is not
+the exact model, further plans dash-dotted; the AQL point is marked with an
+open circle and the RQL point with an open square, each with a thin guide
+line to the axes.
+
+Examples
+--------
+>>> from lotwise.families.base import Scope, SinglePlan
+>>> fig = oc_figure([(SinglePlan(n=80, c=2), Scope())], aql=0.01, rql=0.08)
+>>> fig.axes[0].get_xlabel()
+'Quality level: nonconforming (%)'
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+__all__ = ["oc_figure", "curve_figure", "new_axes", "STYLE"]
+
+#: Line styles by role; grey levels rather than hues.
+STYLE = {
+    "exact": {"color": "0.05", "linestyle": "-", "linewidth": 1.8},
+    "poisson": {"color": "0.35", "linestyle": (0, (5, 3)), "linewidth": 1.4},
+    "binomial": {"color": "0.45", "linestyle": (0, (1, 2)), "linewidth": 1.4},
+    "other": [
+        {"color": "0.25", "linestyle": (0, (6, 2, 1, 2)), "linewidth": 1.5},
+        {"color": "0.5", "linestyle": (0, (2, 1)), "linewidth": 1.5},
+        {"color": "0.15", "linestyle": (0, (8, 2, 1, 2, 1, 2)), "linewidth": 1.2},
+        {"color": "0.6", "linestyle": "-", "linewidth": 2.6},
+    ],
+}
+
+_MARKERS = ("o", "s", "^", "D", "v", "P")
+
+
+def _mpl():
+    import matplotlib
+
+    if matplotlib.get_backend().lower() not in ("agg", "pdf", "svg", "module://matplotlib_inline.backend_inline"):
+        try:
+            matplotlib.use("Agg")
+        except Exception:  # pragma: no cover - a backend already chosen interactively
+            pass
+    import matplotlib.pyplot as plt
+
+    return plt
+
+
+def new_axes(ax=None, size=(6.4, 4.0)):
+    """An ``(fig, ax)`` pair in the project's plain style."""
+    plt = _mpl()
+    if ax is None:
+        fig, ax = plt.subplots(figsize=size, dpi=110)
+        fig._lotwise_own = True
+    else:
+        fig = ax.figure
+    for side in ("top", "right"):
+        ax.spines[side].set_visible(False)
+    ax.grid(True, color="0.88", linewidth=0.6)
+    ax.set_axisbelow(True)
+    ax.tick_params(labelsize=8.5)
+    return fig, ax
+
+
+def _tidy(fig):
+    """Tight layout only for figures made here, never for a caller's page."""
+    if getattr(fig, "_lotwise_own", False):
+        fig.tight_layout()
+
+
+def _pct_axis(ax, per_unit: bool, which: str = "x"):
+    from matplotlib.ticker import FuncFormatter
+
+    if per_unit:
+        return
+    fmt = FuncFormatter(lambda v, _: f"{100 * v:.3g}")
+    (ax.xaxis if which == "x" else ax.yaxis).set_major_formatter(fmt)
+
+
+def oc_figure(items, *, models=None, aql=None, rql=None, alpha=None, beta=None,
+              max_p=None, labels=None, ax=None, points: int = 401, title=None):
+    """OC curves of one or more plans.
+
+    Parameters
+    ----------
+    items : list of (plan, Scope)
+        The first plan is drawn under every model in ``models`` (exact solid,
+        Poisson dashed); further plans under their exact model only.
+    models : sequence of str, optional
+        Models for the first plan; default the scope's models.
+    aql, rql : float, optional
+        Quality levels to mark (with the first plan's exact ``Pa`` there).
+    max_p : float, optional
+        Right end of the quality axis.
+    labels : list of str, optional
+        Legend labels for the plans.
+    ax : matplotlib Axes, optional
+    """
+    fig, ax = new_axes(ax)
+    plan0, scope0 = items[0]
+    per_unit = scope0.defects
+    exact = getattr(plan0, "exact_model", None) or scope0.exact_model
+    models = tuple(models or getattr(plan0, "models", None) or scope0.models)
+    if plan0.scheme != "single":
+        models = (exact,)
+    if max_p is None:
+        from lotwise.analysis.audit import quality_at
+
+        max_p = max(quality_at(plan0, 0.005, exact, scope0, "consumer") * 1.1,
+                    (rql or 0) * 1.3, 1e-6)
+        if not per_unit:
+            max_p = min(max_p, 1.0)
+    ps = np.linspace(0.0, max_p, points)
+    labels = labels or [getattr(p, "label", str(p)) for p, _ in items]
+
+    order = [exact] + [m for m in models if m != exact]
+    for m in order:
+        if m not in models:
+            continue
+        if m == exact:
+            style, name = STYLE["exact"], f"{labels[0]}: {m} (exact)"
+        else:
+            style, name = STYLE.get(m, STYLE["poisson"]), f"{labels[0]}: {m}"
+        ax.plot(ps, plan0.pa(ps, m, scope0), label=name, **style)
+
+    for i, (plan, scope) in enumerate(items[1:]):
+        style = STYLE["other"][i % len(STYLE["other"])]
+        own = getattr(plan, "exact_model", None) or scope.exact_model
+        ax.plot(ps, plan.pa(ps, scope.exact_model, scope), label=f"{labels[i + 1]}: {own}",
+                **style)
+
+    for level, marker, name in ((aql, "o", "AQL"), (rql, "s", "RQL")):
+        if level is None:
+            continue
+        y = float(plan0.pa(level, exact, scope0))
+        ax.plot([level, level], [0, y], color="0.55", linewidth=0.7, linestyle=":")
+        ax.plot([0, level], [y, y], color="0.55", linewidth=0.7, linestyle=":")
+        ax.plot([level], [y], marker=marker, markersize=7, markerfacecolor="white",
+                markeredgecolor="0.0", markeredgewidth=1.3, linestyle="none",
+                label=f"{name} {100 * level:.3g} %: Pa {y:.3f}" if not per_unit
+                else f"{name} {level:g}/unit: Pa {y:.3f}")
+
+    ax.set_xlim(0, max_p)
+    ax.set_ylim(0, 1.02)
+    ax.set_ylabel("Probability of acceptance Pa", fontsize=9.5)
+    ax.set_xlabel("Quality level: nonconformities per unit" if per_unit
+                  else "Quality level: nonconforming (%)", fontsize=9.5)
+    _pct_axis(ax, per_unit)
+    if title:
+        ax.set_title(title, fontsize=10.5, loc="left")
+    ax.legend(fontsize=7.5, frameon=False, loc="upper right")
+    _tidy(fig)
+    return fig
+
+
+def curve_figure(x, curves, *, xlabel, ylabel, per_unit=False, ax=None, title=None,
+                 y_percent=False, marks=()):
+    """A generic family of curves (AOQ, ATI, ASN ...) in the same style.
+
+    ``curves`` is a list of ``(label, y)``; ``marks`` a list of
+    ``(x, y, label)`` points drawn with open markers.
+    """
+    fig, ax = new_axes(ax)
+    styles = [STYLE["exact"], STYLE["poisson"], STYLE["binomial"]] + STYLE["other"]
+    for i, (label, y) in enumerate(curves):
+        ax.plot(x, y, label=label, **styles[i % len(styles)])
+    for i, (mx, my, label) in enumerate(marks):
+        ax.plot([mx], [my], marker=_MARKERS[i % len(_MARKERS)], markersize=7,
+                markerfacecolor="white", markeredgecolor="0.0", markeredgewidth=1.3,
+                linestyle="none", label=label)
+    ax.set_xlabel(xlabel, fontsize=9.5)
+    ax.set_ylabel(ylabel, fontsize=9.5)
+    ax.set_xlim(0, float(np.max(x)) if len(x) else 1)
+    ax.set_ylim(bottom=0)
+    _pct_axis(ax, per_unit)
+    if y_percent:
+        _pct_axis(ax, False, "y")
+    if title:
+        ax.set_title(title, fontsize=10.5, loc="left")
+    ax.legend(fontsize=7.5, frameon=False)
+    _tidy(fig)
+    return fig

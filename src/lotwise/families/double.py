@@ -1,0 +1,436 @@
+"""Two-risk design of double sampling plans, by exact search.
+
+Find the double plan ``(n1, c1, r1 = c2 + 1, n2 = round(ratio n1), c2)``
+meeting ``Pa(AQL) >= 1 - alpha`` and ``Pa(RQL) <= beta`` under the chosen
+model that has the smallest average sample number: at the AQL
+(``minimize="asn-aql"``, the default: the quality the supplier is expected
+to ship) or the largest over the whole OC curve (``"asn-max"``). The model
+is exact by default (hypergeometric with a lot size, binomial otherwise,
+Poisson for nonconformities per unit); no Poisson table is involved.
+
+Search and why it is exhaustive
+-------------------------------
+Bounds: ``0 <= c1 < c2 <= 2,000``; ``n1 >= 1`` with ``n1 + n2`` at most the
+lot size (and ``--max-n``); ``n2 = round(ratio n1)`` (halves up),
+``r1 = c2 + 1``. Within them no plan is skipped, because every pruning
+step rests on one of these facts:
+
+1. **Pa falls in n1** for fixed ``(c1, c2)`` (``n2`` does not decrease as
+   ``n1`` grows). Coupling: with ``r1 = c2 + 1`` the plan accepts exactly
+   when ``S(n1) <= c1`` or ``S(n1 + n2) <= c2``, ``S(m)`` the count in the
+   first ``m`` units inspected; ``S`` does not decrease in ``m``, so a larger
+   plan accepts only lots the smaller one accepts. (The same coupling holds
+   without replacement and for a Poisson process.) Hence the consumer's
+   risk holds exactly for ``n1 >= n_lo(c1, c2)`` and the producer's for
+   ``n1 <= n_hi(c1, c2)``; both ends are found by integer bisection.
+2. **Pa rises in c1 and in c2** (the acceptance event grows), so
+   ``n_lo`` does not decrease in ``c1``.
+3. **ASN >= n1** (every plan inspects the first sample), and the largest ASN
+   is at least the ASN at the AQL. So once a plan with objective ``A`` is
+   known, only ``n1 <= A`` can do better.
+4. **A lower bound for each c2.** The double plan accepts whenever
+   ``S(n1 + n2) <= c2``, so its ``Pa`` is at least that of the single plan
+   ``(n1 + n2, c2)``. Meeting the
+   consumer's risk therefore needs ``n1 + n2 >= n_single(c2)``, the smallest
+   single sample with acceptance number ``c2`` meeting it, which gives
+   ``n1 >= L(c2)``. ``n_single`` does not decrease in ``c2`` (fact 2 for
+   single plans), nor does ``L``. The search takes ``c2 = 1, 2, ...`` and
+   stops at the first ``c2`` with ``L(c2) > A``: no larger ``c2`` can win.
+
+For each ``c2`` every ``c1 < c2`` and every ``n1`` in
+``[n_lo, min(n_hi, A)]`` is evaluated (vectorised). Ties in the objective
+(within 1e-9 relative) go to the smaller ``n1``, then ``c2``, then ``c1``.
+
+References
+----------
+.. [1] D. C. Montgomery, *Introduction to Statistical Quality Control*,
+   section 15.3.
+.. [2] E. G. Schilling and D. V. Neubauer, 2nd ed. (CRC Press,
+    2009), ch. 6 (double sampling plans matched to two points).
+
+Examples
+--------
+A buyer of brake-hose fittings (destructive burst test) agrees AQL 1 % and
+RQL 5 % with the supplier and wants the fewest tests on average at the AQL,
+second sample twice the first:
+
+>>> d = design_double(aql=0.01, rql=0.05, ratio=2)
+>>> d.plan.label
+'n1=79, c1=1, r1=6, n2=158, c2=5'
+>>> round(d.asn["aql"], 1), round(d.asn["rql"], 1)
+(108.6, 190.8)
+
+against 132 units every time for the single plan (n = 132, c = 3). A
+smaller first sample wins at the RQL side instead: ``minimize="asn-max"``
+gives ``n1=58, c1=0, r1=5, n2=116, c2=4`` with at most 153.7 units on
+average at any quality.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from lotwise.families.multistage import DoublePlan, double_max_asn, stage_cdf, stage_pmf
+from lotwise.families.base import Scope
+from lotwise.core.quantities import InputError, Infeasible, format_level, format_pct
+from lotwise.families.single import (Targets, _check_lot, _check_targets, _Kernel, _n_min, lot_targets)
+
+__all__ = ["DoubleDesign", "design_double", "MINIMIZE", "C2_CAP"]
+
+MINIMIZE = ("asn-aql", "asn-max")
+C2_CAP = 2000
+_TOL = 1e-12
+
+
+@dataclass(frozen=True, kw_only=True)
+class DoubleDesign:
+    """Result of :func:`design_double`.
+
+    Attributes
+    ----------
+    plan : DoublePlan
+    model, scope, targets
+    ratio : float
+    minimize : str
+    objective : float
+        The minimised ASN.
+    asn : dict
+        ``{"aql", "rql", "max", "max_at"}`` under the design model.
+    search : dict
+        Bounds used, plans evaluated and why the search stopped.
+    lot_counts : tuple or None
+    """
+
+    plan: DoublePlan
+    model: str
+    scope: Scope
+    targets: Targets
+    ratio: float
+    minimize: str
+    objective: float
+    asn: dict
+    search: dict = field(default_factory=dict)
+    lot_counts: tuple | None = None
+
+    def report_extra(self) -> dict:
+        return {"feasible": True, "ratio": self.ratio, "minimize": self.minimize,
+                "objective": self.objective, "search": self.search}
+
+
+def _n2(n1, ratio):
+    return np.floor(np.asarray(n1, dtype=float) * ratio + 0.5).astype(np.int64)
+
+
+class _Eval:
+    """Pa at both risk points and the objective for arrays of plans."""
+
+    def __init__(self, model, targets, scope):
+        self.model = model
+        self.N = scope.lot_size
+        self.t = targets
+        if model == "hypergeometric":
+            self.x_aql, self.x_rql = (float(v) for v in lot_targets(targets, self.N))
+        else:
+            self.x_aql, self.x_rql = targets.aql, targets.rql
+        self.evaluated = 0
+
+    def parts(self, n1, c1, c2, n2, x):
+        """``(Pa, P(second sample))`` for arrays of plans; every first-sample
+        count ``c1 < d1 <= c2`` is taken in one broadcast kernel call."""
+        n1, c1, c2, n2 = (np.asarray(v, dtype=float) for v in np.broadcast_arrays(n1, c1, c2, n2))
+        self.evaluated += n1.size
+        N = self.N
+        acc = stage_cdf(c1, n1, self.model, x, N)
+        jmax = int(np.max(c2 - c1)) if n1.size else 0
+        if jmax <= 0:
+            return acc, np.zeros(n1.shape)
+        j = np.arange(1, jmax + 1, dtype=float).reshape((-1,) + (1,) * n1.ndim)
+        d1 = c1 + j
+        valid = d1 <= c2
+        f = np.where(valid, stage_pmf(d1, n1, self.model, x, N), 0.0)
+        g = stage_cdf(np.where(valid, c2 - d1, -1.0), n2, self.model, x, N, n1,
+                      np.where(valid, d1, 0.0))
+        return acc + (f * g).sum(axis=0), f.sum(axis=0)
+
+    def pa_rql(self, n1, c1, c2, n2):
+        return self.parts(n1, c1, c2, n2, self.x_rql)[0]
+
+    def at_aql(self, n1, c1, c2, n2):
+        return self.parts(n1, c1, c2, n2, self.x_aql)
+
+
+def design_double(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 0.10,
+                  lot_size: int | None = None, model: str | None = None,
+                  defects: bool = False, ratio: float = 2.0, minimize: str = "asn-aql",
+                  max_n: int | None = None) -> DoubleDesign:
+    """Double plan with the smallest ASN meeting both risks (see module notes).
+
+    Parameters
+    ----------
+    aql, rql, alpha, beta, lot_size, model, defects
+        As for :func:`lotwise.families.single.design_single`.
+    ratio : float
+        ``n2 / n1`` (``n2`` is rounded to a whole number), between 0.1 and 10.
+    minimize : {'asn-aql', 'asn-max'}
+        ASN at the AQL, or the largest ASN over the OC curve.
+    max_n : int, optional
+        Largest affordable ``n1 + n2``.
+
+    Raises
+    ------
+    Infeasible
+        No double plan within the bounds meets both risks.
+    """
+    scope = Scope(lot_size=lot_size, defects=defects)
+    model = scope.check_model(model)
+    targets = Targets(aql=aql, rql=rql, alpha=alpha, beta=beta)
+    _check_targets(targets, defects)
+    if isinstance(ratio, bool) or not isinstance(ratio, (int, float)) or not math.isfinite(ratio) \
+            or not 0.1 <= ratio <= 10:
+        raise InputError(f"--ratio ({ratio}) must be a number from 0.1 to 10 (n2 / n1)")
+    if minimize not in MINIMIZE:
+        raise InputError(f"--minimize ({minimize}) must be one of: {', '.join(MINIMIZE)}")
+    if max_n is not None and max_n < 2:
+        raise InputError(f"--max-n ({max_n}) must be at least 2 for a double plan")
+    ev = _Eval(model, targets, scope)
+    counts = None
+    if model == "hypergeometric":
+        counts = lot_targets(targets, lot_size)
+        _check_lot(targets, lot_size, counts)
+    kernel = _Kernel(model, targets, scope)
+
+    # Largest n1 the bounds allow (n1 + n2 within the lot and --max-n).
+    cap_total = max_n
+    if lot_size is not None:
+        cap_total = lot_size if cap_total is None else min(cap_total, lot_size)
+    n1_cap = None
+    if cap_total is not None:
+        n1_cap = int(max(0, math.floor(cap_total / (1 + ratio))) + 2)
+        while n1_cap > 0 and n1_cap + int(_n2(n1_cap, ratio)) > cap_total:
+            n1_cap -= 1
+        if n1_cap < 1:
+            raise Infeasible(f"no double plan fits in {cap_total} units with ratio {ratio}")
+
+    def lower_bound(c2: int) -> int | None:
+        """Smallest n1 with n1 + n2 >= n_single(c2); None if no single n fits."""
+        ns = int(_n_min(kernel, np.array([c2]), beta, cap_total)[0])
+        if ns < 0:
+            return None
+        n1 = max(1, int(math.floor((ns - 0.5) / (1 + ratio))) - 1)
+        while n1 + int(_n2(n1, ratio)) < ns:
+            n1 += 1
+        return n1
+
+    best = None  # (objective, n1, c2, c1)
+    stopped = f"c2 reached the cap of {C2_CAP}"
+    c2_last = 0
+    for c2 in range(1, C2_CAP + 1):
+        lb = lower_bound(c2)
+        if lb is None:
+            stopped = (f"no sample within {cap_total} units meets the consumer's risk with "
+                       f"c2 = {c2}, nor with any larger c2")
+            break
+        if best is not None and lb > best[0] * (1 + 1e-9):
+            stopped = (f"for c2 = {c2} every plan meeting beta has n1 >= {lb}, above the best "
+                       f"ASN {best[0]:.4f}; larger c2 only raise this bound")
+            break
+        if n1_cap is not None and lb > n1_cap:
+            stopped = f"for c2 = {c2} meeting beta needs n1 >= {lb}, beyond the cap of {n1_cap}"
+            break
+        c2_last = c2
+        found = _search_c2(ev, c2, lb, ratio, n1_cap, beta, alpha, minimize, best)
+        if found is not None and (best is None or _better(found, best)):
+            best = found
+    if best is None:
+        raise Infeasible(
+            f"no double plan with ratio {ratio} meets both risks (AQL "
+            f"{format_level(aql, defects)} at alpha {format_pct(alpha)}, RQL "
+            f"{format_level(rql, defects)} at beta {format_pct(beta)}): {stopped}",
+            {"ratio": ratio, "c2_searched": c2_last})
+    obj, n1, c2, c1 = best
+    plan = DoublePlan(n1=int(n1), c1=int(c1), n2=int(_n2(n1, ratio)), c2=int(c2))
+    asn_aql = float(plan.asn(ev.x_aql / lot_size if lot_size and model == "hypergeometric"
+                             else ev.x_aql, model, scope))
+    asn_rql = float(plan.asn(ev.x_rql / lot_size if lot_size and model == "hypergeometric"
+                             else ev.x_rql, model, scope))
+    amax, at = double_max_asn(plan.n1, plan.c1, plan.r1, plan.n2, model, lot_size)
+    search = {"c1": [0, "c2 - 1"], "c2_searched": [1, c2_last], "c2_cap": C2_CAP,
+              "n1_cap": n1_cap, "ratio": ratio, "r1": "c2 + 1",
+              "plans_evaluated": ev.evaluated, "stopped": stopped}
+    return DoubleDesign(plan=plan, model=model, scope=scope, targets=targets, ratio=ratio,
+                        minimize=minimize, objective=float(obj),
+                        asn={"aql": asn_aql, "rql": asn_rql, "max": amax, "max_at": at},
+                        search=search, lot_counts=counts)
+
+
+def _better(a, b) -> bool:
+    """Order on (objective, n1, c2, c1) with a relative tie tolerance."""
+    if a[0] < b[0] * (1 - 1e-9):
+        return True
+    if a[0] > b[0] * (1 + 1e-9):
+        return False
+    return a[1:] < b[1:]
+
+
+def _bisect_lo(ev, c1, c2, lo, hi, ratio, beta):
+    """Smallest n1 in (lo, hi] with Pa(RQL) <= beta, given it fails at lo and
+    holds at hi (Pa falls in n1)."""
+    lo = lo.copy()
+    hi = hi.copy()
+    act = hi - lo > 1
+    while act.any():
+        mid = (lo + hi) // 2
+        good = ev.pa_rql(mid[act], c1[act], c2, _n2(mid[act], ratio)) <= beta + _TOL
+        h, l_ = hi[act], lo[act]
+        hi[act] = np.where(good, mid[act], h)
+        lo[act] = np.where(good, l_, mid[act])
+        act = hi - lo > 1
+    return hi
+
+
+def _bisect_hi(ev, c1, c2, lo, hi, ratio, alpha):
+    """Largest n1 in [lo, hi) with Pa(AQL) >= 1 - alpha, given it holds at lo
+    and fails at hi."""
+    lo = lo.copy()
+    hi = hi.copy()
+    act = hi - lo > 1
+    while act.any():
+        mid = (lo + hi) // 2
+        good = ev.at_aql(mid[act], c1[act], c2, _n2(mid[act], ratio))[0] >= 1 - alpha - _TOL
+        h, l_ = hi[act], lo[act]
+        lo[act] = np.where(good, mid[act], l_)
+        hi[act] = np.where(good, h, mid[act])
+        act = hi - lo > 1
+    return lo
+
+
+def _objective(ev, n1, c1, c2, n2, minimize):
+    _, second = ev.at_aql(n1, c1, c2, n2)
+    asn_aql = n1 + n2 * second
+    if minimize == "asn-aql":
+        return asn_aql
+    mx, _ = double_max_asn(n1, c1, c2 + 1, n2, ev.model, ev.N)
+    return np.maximum(mx, asn_aql)
+
+
+def _search_c2(ev, c2, lb, ratio, n1_cap, beta, alpha, minimize, best):
+    """Best plan with this c2 (or None), scanning every c1 < c2 and every
+    feasible n1 not above the best objective so far."""
+    c1 = np.arange(0, c2, dtype=np.int64)
+    # Upper bracket for beta: the single plan (n_single(c2), c2) meets it and
+    # the double plan accepts less often; start from a sample that size.
+    hi0 = max(lb, 1)
+    hi = np.full(c1.shape, hi0, dtype=np.int64)
+    limit = n1_cap if n1_cap is not None else None
+    ok = ev.pa_rql(hi, c1, c2, _n2(hi, ratio)) <= beta + _TOL
+    while not ok.all():
+        grow = ~ok
+        if limit is not None:
+            grow &= hi < limit
+        if best is not None:
+            grow &= hi <= best[0]
+        if not grow.any():
+            break
+        new = hi[grow] * 2
+        if limit is not None:
+            new = np.minimum(new, limit)
+        hi[grow] = new
+        ok[grow] = ev.pa_rql(new, c1[grow], c2, _n2(new, ratio)) <= beta + _TOL
+    if not ok.any():
+        return None
+    c1, hi = c1[ok], hi[ok]
+    # Fact 4: every n1 below the bound fails beta, so lb - 1 is a failing end.
+    lo = np.full(c1.shape, max(lb - 1, 0), dtype=np.int64)
+    n_lo = _bisect_lo(ev, c1, c2, lo, hi, ratio, beta)
+    if best is not None:
+        keep = n_lo <= best[0] * (1 + 1e-9)
+        c1, n_lo = c1[keep], n_lo[keep]
+        if not c1.size:
+            return None
+    # Producer's risk at n_lo; where it fails no n1 works for that c1.
+    a_ok = ev.at_aql(n_lo, c1, c2, _n2(n_lo, ratio))[0] >= 1 - alpha - _TOL
+    c1, n_lo = c1[a_ok], n_lo[a_ok]
+    if not c1.size:
+        return None
+    # A first answer from the smallest n1 of each c1, to bound the scan.
+    obj0 = _objective(ev, n_lo, c1, c2, _n2(n_lo, ratio), minimize)
+    i0 = int(np.argmin(obj0))
+    cand = (float(obj0[i0]), int(n_lo[i0]), c2, int(c1[i0]))
+    bound = cand[0] if best is None or _better(cand, best) else best[0]
+    top = math.floor(bound * (1 + 1e-9))
+    if n1_cap is not None:
+        top = min(top, n1_cap)
+    # n_hi: largest n1 meeting alpha, searched only up to the bound.
+    upper = np.full(c1.shape, top + 1, dtype=np.int64)
+    if n1_cap is not None and top + 1 > n1_cap:
+        fails = np.ones(c1.shape, dtype=bool)  # beyond the cap: treated as failing
+    else:
+        fails = ev.at_aql(upper, c1, c2, _n2(upper, ratio))[0] < 1 - alpha - _TOL
+    n_hi = np.where(fails, _bisect_hi(ev, c1, c2, n_lo, upper, ratio, alpha), top)
+    n_hi = np.minimum(n_hi, top)
+    start = cand if best is None or _better(cand, best) else best
+    return _branch_and_bound(ev, c1, c2, n_lo, n_hi, ratio, minimize, start)
+
+
+def _interval_bound(ev, c1, c2, a, b, ratio):
+    """Lower bound of the ASN at the AQL over ``a <= n1 <= b``.
+
+    ``ASN = n1 + n2 (P(d1 > c1) - P(d1 > c2))``; both tail probabilities rise
+    with ``n1`` (the coupling of fact 1), ``n2`` does not fall, so over the
+    interval ``ASN >= a + n2(a) max(0, P_a(d1 > c1) - P_b(d1 > c2))``.
+    """
+    x = ev.x_aql
+    t1 = 1.0 - stage_cdf(c1, a, ev.model, x, ev.N)
+    t2 = 1.0 - stage_cdf(c2, b, ev.model, x, ev.N)
+    return a + _n2(a, ratio) * np.maximum(0.0, t1 - t2)
+
+
+def _branch_and_bound(ev, c1, c2, n_lo, n_hi, ratio, minimize, cand):
+    """Best (objective, n1, c2, c1) over ``n_lo <= n1 <= n_hi`` for each c1,
+    or ``cand`` (the best so far) if none beats it.
+
+    Intervals whose lower bound (:func:`_interval_bound`; the largest ASN is
+    at least the ASN at the AQL, so the bound serves both objectives) exceeds
+    the best objective found are dropped; the others are halved until they
+    are short enough to evaluate point by point. Nothing is skipped that
+    could beat or tie the answer.
+    """
+    best = cand
+    keep = n_hi >= n_lo
+    ci, a, b = c1[keep], n_lo[keep], n_hi[keep]
+    while ci.size:
+        lb = _interval_bound(ev, ci, c2, a, b, ratio)
+        live = lb <= best[0] * (1 + 1e-9)
+        ci, a, b = ci[live], a[live], b[live]
+        if not ci.size:
+            break
+        short = b - a < 16
+        if short.any():
+            sc, sa, sb = ci[short], a[short], b[short]
+            spans = sb - sa + 1
+            rep_c1 = np.repeat(sc, spans)
+            offs = np.arange(spans.sum()) - np.repeat(np.cumsum(spans) - spans, spans)
+            n1s = np.repeat(sa, spans) + offs
+            obj = _objective(ev, n1s, rep_c1, c2, _n2(n1s, ratio), minimize)
+            order = np.lexsort((rep_c1, n1s, obj))
+            for i in order[:64]:
+                c = (float(obj[i]), int(n1s[i]), c2, int(rep_c1[i]))
+                if _better(c, best):
+                    best = c
+        long_ = ~short
+        ci, a, b = ci[long_], a[long_], b[long_]
+        if not ci.size:
+            break
+        mid = (a + b) // 2
+        # Evaluate each midpoint: a cheap way to tighten the best so far.
+        obj = _objective(ev, mid, ci, c2, _n2(mid, ratio), minimize)
+        i = int(np.argmin(obj))
+        c = (float(obj[i]), int(mid[i]), c2, int(ci[i]))
+        if _better(c, best):
+            best = c
+        ci = np.concatenate([ci, ci])
+        a, b = np.concatenate([a, mid + 1]), np.concatenate([mid, b])
+    return best

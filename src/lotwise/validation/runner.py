@@ -1,0 +1,691 @@
+"""Software validation: the tool's reference cases, run and reported.
+
+A quality system that relies on this tool to justify sampling must show
+that the tool computes what it claims (software validation). ``lotwise
+validate`` runs a registry of *reference cases* -- published tables and
+worked examples, facts of the trade and cross-checks computed at run time
+against general-purpose reference libraries (mpmath, scipy.stats) -- and
+writes a dated
+report, in Markdown and PDF, of every case: what was expected, what the tool
+computed, the tolerance and the verdict, with the versions of the tool and
+of its dependencies.
+
+Each case is a :class:`ReferenceCase`: an ``id``, a description, the
+``source`` as the tests name it, the ``expected`` value (a number, a tuple,
+a string, or a callable computing it at run time, as the mpmath
+cross-checks do), an absolute ``tolerance`` (0 for exact agreement) and
+``compute``, a callable returning what the tool gives.
+
+``lotwise validate --json`` prints ``{"verdict" (PASSED, FAILED or
+INCOMPLETE), "cases", "passed", "failed", "skipped", "date", "versions",
+"results": [{"id", "area", "description", "source", "expected", "computed",
+"tolerance", "difference", "verdict", "note"}], "report": {"markdown",
+"pdf"}}``.
+
+Adding cases
+------------
+Cases come from *providers*: functions with no arguments returning a list of
+:class:`ReferenceCase`. :data:`PROVIDERS` lists them as ``"module:function"``
+strings, imported when the report is made. A new plan type adds its cases
+by appending one string, e.g.
+``PROVIDERS.append("lotwise.double_cases:validation_cases")`` at the end of
+this module (or in the provider's own module, imported before the run), and
+writing the function beside its tests, with each case's ``source`` worded as
+in the test that checks the same value. Ids must be unique; a duplicate
+stops the run.
+
+A case that cannot be computed (its callable raises) is reported as an
+error, and a case whose reference needs mpmath when mpmath is not installed
+is skipped; either way the validation is not passed (exit code 1).
+
+Examples
+--------
+>>> cases = [c for c in all_cases() if c.id.startswith("zero-acceptance")]
+>>> result = run_cases(cases)
+>>> [(r.case.id, r.computed, r.verdict) for r in result.results][:1]
+[('zero-acceptance-c0-95-95', 59, 'pass')]
+"""
+
+from __future__ import annotations
+
+import importlib
+import math
+import platform
+from dataclasses import dataclass, field
+from datetime import datetime, timezone
+from typing import Any, Callable
+
+__all__ = ["ReferenceCase", "CaseResult", "Validation", "PROVIDERS", "all_cases",
+           "run_cases", "versions", "markdown_report", "pdf_report"]
+
+
+@dataclass(frozen=True, kw_only=True)
+class ReferenceCase:
+    """One reference value the tool must reproduce.
+
+    Attributes
+    ----------
+    id : str
+        Short unique name (letters, digits, hyphens).
+    description : str
+        What is computed, in words.
+    source : str
+        Where the expected value comes from, worded as in the tests
+        ("from memory", "common practice, no source" where so).
+    expected : number, tuple, str or callable
+        The reference; a callable is evaluated at run time (cross-checks).
+    tolerance : float
+        Largest absolute difference accepted (each element of a tuple).
+    compute : callable
+        Returns the tool's value.
+    area : str
+        Group heading in the report.
+    needs : tuple of str
+        Modules the reference needs (a missing one skips the case).
+    """
+
+    id: str
+    description: str
+    source: str
+    expected: Any
+    tolerance: float
+    compute: Callable[[], Any]
+    area: str = "single sampling"
+    needs: tuple = ()
+
+
+@dataclass(frozen=True, kw_only=True)
+class CaseResult:
+    case: ReferenceCase
+    expected: Any
+    computed: Any
+    difference: float | None
+    verdict: str  # pass, FAIL, ERROR, skipped
+    note: str = ""
+
+    def as_dict(self) -> dict:
+        return {"id": self.case.id, "area": self.case.area,
+                "description": self.case.description, "source": self.case.source,
+                "expected": _plain(self.expected), "computed": _plain(self.computed),
+                "tolerance": self.case.tolerance, "difference": self.difference,
+                "verdict": self.verdict, "note": self.note}
+
+
+@dataclass(frozen=True, kw_only=True)
+class Validation:
+    results: list
+    started: datetime
+    versions: dict = field(default_factory=dict)
+
+    @property
+    def passed(self) -> int:
+        return sum(r.verdict == "pass" for r in self.results)
+
+    @property
+    def failed(self) -> int:
+        return sum(r.verdict in ("FAIL", "ERROR") for r in self.results)
+
+    @property
+    def skipped(self) -> int:
+        return sum(r.verdict == "skipped" for r in self.results)
+
+    @property
+    def verdict(self) -> str:
+        if self.failed:
+            return "FAILED"
+        if self.skipped:
+            return "INCOMPLETE"
+        return "PASSED"
+
+    def as_dict(self) -> dict:
+        return {"verdict": self.verdict, "cases": len(self.results), "passed": self.passed,
+                "failed": self.failed, "skipped": self.skipped,
+                "date": self.started.isoformat(timespec="seconds"),
+                "versions": self.versions, "results": [r.as_dict() for r in self.results]}
+
+
+def _plain(v):
+    if isinstance(v, tuple):
+        return [_plain(x) for x in v]
+    if hasattr(v, "item") and not isinstance(v, (str, bytes)):
+        return v.item()
+    return v
+
+
+# --- the single-sampling cases (issue 2 references) ---------------------------
+
+def _scope(lot=None, defects=False):
+    from lotwise.families.base import Scope
+
+    return Scope(lot_size=lot, defects=defects)
+
+
+def _pa(n, c, p, model="binomial", lot=None):
+    from lotwise.families.base import SinglePlan
+
+    return float(SinglePlan(n=n, c=c).pa(p, model, _scope(lot)))
+
+
+def _unity(c, prob):
+    """``n p`` at which the Poisson ``Pa`` of an ``(n, c)`` plan equals ``prob``."""
+    from lotwise.analysis.audit import quality_at
+    from lotwise.families.base import SinglePlan
+
+    n = 1_000_000
+    return quality_at(SinglePlan(n=n, c=c), prob, "poisson", _scope()) * n
+
+
+def _design(**kw):
+    from lotwise.families.single import design_single
+
+    d = design_single(**kw)
+    return (d.n, d.c)
+
+
+def _infeasible(**kw):
+    from lotwise.families.single import design_single
+    from lotwise.core.quantities import Infeasible
+
+    try:
+        d = design_single(**kw)
+    except Infeasible:
+        return "infeasible"
+    return f"n={d.n},c={d.c}"
+
+
+def single_sampling_cases() -> list:
+    """Reference cases of single sampling by attributes (the issue-2 tests)."""
+    cases = []
+    cameron = {0: (0.051, 2.303), 1: (0.355, 3.890), 2: (0.818, 5.322), 3: (1.366, 6.681),
+               4: (1.970, 7.994), 5: (2.613, 9.275), 6: (3.286, 10.532), 7: (3.981, 11.771),
+               8: (4.695, 12.995), 9: (5.426, 14.206), 10: (6.169, 15.407)}
+    for c, (u95, u10) in cameron.items():
+        for prob, val in ((0.95, u95), (0.10, u10)):
+            cases.append(ReferenceCase(
+                id=f"cameron-c{c}-pa{int(round(prob * 100)):02d}",
+                description=f"Poisson unity value n*p at Pa = {prob:.2f} for c = {c}",
+                source="Cameron (1952) unity values for single sampling, alpha 0.05, "
+                       "beta 0.10; from memory",
+                expected=val, tolerance=0.002,
+                compute=lambda c=c, prob=prob: _unity(c, prob)))
+    mont = (0.93969, 0.73658, 0.49848, 0.30416, 0.17208)
+    for k, val in enumerate(mont, start=1):
+        cases.append(ReferenceCase(
+            id=f"montgomery-n89-c2-p{k}pct",
+            description=f"binomial Pa of n = 89, c = 2 at p = {k} %",
+            source="Montgomery, Introduction to Statistical Quality Control, "
+                   "single-sampling example; from memory",
+            expected=val, tolerance=5e-6,
+            compute=lambda p=k / 100: _pa(89, 2, p)))
+    cases += [
+        ReferenceCase(
+            id="montgomery-n89-c2-alpha",
+            description="producer's risk of the nomograph plan n = 89, c = 2 at AQL 1 %",
+            source="Montgomery, Introduction to Statistical Quality Control (alpha about "
+                   "6.0 %); from memory",
+            expected=0.060, tolerance=0.0005, compute=lambda: 1.0 - _pa(89, 2, 0.01)),
+        ReferenceCase(
+            id="montgomery-design-binomial",
+            description="exact binomial design, AQL 1 %/alpha 5 %, RQL 6 %/beta 10 %: (n, c)",
+            source="Montgomery example targets; exact search result stated in issue 2",
+            expected=(110, 3), tolerance=0,
+            compute=lambda: _design(aql=0.01, rql=0.06)),
+        ReferenceCase(
+            id="montgomery-design-poisson",
+            description="Poisson-based design for the same targets: (n, c)",
+            source="Montgomery example targets; Poisson design stated in issue 2",
+            expected=(112, 3), tolerance=0,
+            compute=lambda: _design(aql=0.01, rql=0.06, model="poisson")),
+    ]
+    table = {0.005: 0.97387, 0.01: 0.91056, 0.02: 0.73577, 0.03: 0.55528, 0.04: 0.40048,
+             0.05: 0.27943, 0.06: 0.19000, 0.08: 0.08271}
+    for p, val in table.items():
+        cases.append(ReferenceCase(
+            id=f"textbook-n50-c1-p{p * 100:g}pct".replace(".", "_"),
+            description=f"binomial Pa of n = 50, c = 1 at p = {p * 100:g} %",
+            source="textbook exercise table, plan n = 50, c = 1 (binomial)",
+            expected=val, tolerance=5e-6, compute=lambda p=p: _pa(50, 1, p)))
+    cases.append(ReferenceCase(
+        id="chisquare-design-c2-n54",
+        description="two-point Poisson design, p1 1 %/alpha 5 %, p2 10 %/beta 10 %: (n, c)",
+        source="course exercise, chi-square/Poisson method",
+        expected=(54, 2), tolerance=0,
+        compute=lambda: _design(aql=0.01, rql=0.10, model="poisson")))
+    for c, val in ((0, 44.89), (1, 10.95), (2, 6.51)):
+        cases.append(ReferenceCase(
+            id=f"chisquare-operating-ratio-c{c}",
+            description=f"operating ratio np(Pa = 0.10) / np(Pa = 0.95) for c = {c}",
+            source="course exercise, chi-square/Poisson method (two decimals)",
+            expected=val, tolerance=0.005,
+            compute=lambda c=c: _unity(c, 0.10) / _unity(c, 0.95)))
+    cases += [
+        ReferenceCase(
+            id="binomial-design-n19-c1",
+            description="exact binomial design, AQL 2 %/alpha 10 %, RQL 15 %/beta 20 %",
+            source="exact binomial search stated in issue 2",
+            expected=(19, 1), tolerance=0,
+            compute=lambda: _design(aql=0.02, rql=0.15, alpha=0.10, beta=0.20)),
+        ReferenceCase(
+            id="binomial-design-c0-infeasible",
+            description="the same targets with c = 0 fixed have no plan",
+            source="exact binomial search stated in issue 2",
+            expected="infeasible", tolerance=0,
+            compute=lambda: _infeasible(aql=0.02, rql=0.15, alpha=0.10, beta=0.20, c=0)),
+    ]
+    for cid, c, conf, rel, val in (("c0-95-95", 0, 0.95, 0.95, 59), ("c0-90-90", 0, 0.90, 0.90, 22),
+                                   ("c0-95-99", 0, 0.95, 0.99, 299), ("c1-95-95", 1, 0.95, 0.95, 93)):
+        cases.append(ReferenceCase(
+            id=f"zero-acceptance-{cid}" if c == 0 else f"acceptance-{cid}",
+            description=f"smallest n with c = {c} showing {rel:.0%} reliability at "
+                        f"{conf:.0%} confidence",
+            source="zero-acceptance confidence/reliability sizes; common practice, no source",
+            expected=val, tolerance=0,
+            compute=lambda c=c, conf=conf, rel=rel: _design(
+                aql=1e-9, rql=1.0 - rel, beta=1.0 - conf, c=c, model="binomial")[0]))
+    cases.append(ReferenceCase(
+        id="design-aql0_1-rql0_15",
+        description="exact binomial design, AQL 0.1 %/alpha 5 %, RQL 0.15 %/beta 10 %",
+        source="issue 2 speed reference (n = 42,399, c = 53)",
+        expected=(42399, 53), tolerance=0,
+        compute=lambda: _design(aql=0.001, rql=0.0015)))
+    cases += _mpmath_cases()
+    return cases
+
+
+def _mp_binomial(n, c, p):
+    """``P(X <= c)``, ``X ~ Binomial(n, p)``: the masses summed at 60 digits,
+    each from the previous by the exact ratio ``(n - k + 1) p / (k (1 - p))``."""
+    import mpmath as mp
+
+    with mp.workdps(60):
+        p = mp.mpf(p)
+        term = (1 - p) ** n
+        total = term
+        r = p / (1 - p)
+        for k in range(1, c + 1):
+            term = term * (n - k + 1) * r / k
+            total += term
+        return float(total)
+
+
+def _mp_poisson(lam, c):
+    import mpmath as mp
+
+    with mp.workdps(60):
+        lam = mp.mpf(lam)
+        term = mp.exp(-lam)
+        total = term
+        for k in range(1, c + 1):
+            term = term * lam / k
+            total += term
+        return float(total)
+
+
+def _mp_hyper(n, c, N, D):
+    """Hypergeometric ``P(X <= c)`` from exact binomial coefficients (integers)."""
+    import mpmath as mp
+
+    with mp.workdps(80):
+        tot = mp.binomial(N, n)
+        return float(mp.fsum(mp.binomial(D, k) * mp.binomial(N - D, n - k)
+                             for k in range(c + 1)) / tot)
+
+
+def _mp_bisect(f, lo, hi, steps=200):
+    """Root of a function that changes sign on ``[lo, hi]``, by bisection."""
+    import mpmath as mp
+
+    lo, hi = mp.mpf(lo), mp.mpf(hi)
+    flo = f(lo)
+    for _ in range(steps):
+        mid = (lo + hi) / 2
+        fm = f(mid)
+        if (fm > 0) == (flo > 0):
+            lo, flo = mid, fm
+        else:
+            hi = mid
+    return (lo + hi) / 2
+
+
+def _mpmath_cases() -> list:
+    src = "mpmath arbitrary-precision sum, computed at run time"
+    pts = [
+        ("mpmath-binomial-n1e7", "binomial Pa, n = 10,000,000, c = 9,950, p = 0.001",
+         lambda: _mp_binomial(10_000_000, 9_950, 0.001),
+         lambda: _pa(10_000_000, 9_950, 0.001)),
+        ("mpmath-binomial-small-p", "binomial Pa, n = 1,000, c = 0, p = 1e-9",
+         lambda: _mp_binomial(1000, 0, 1e-9), lambda: _pa(1000, 0, 1e-9)),
+        ("mpmath-binomial-n80-c2", "binomial Pa, n = 80, c = 2, p = 3 %",
+         lambda: _mp_binomial(80, 2, 0.03), lambda: _pa(80, 2, 0.03)),
+        ("mpmath-poisson-n125-c3", "Poisson Pa, n = 125, c = 3, p = 2.5 %",
+         lambda: _mp_poisson(125 * 0.025, 3), lambda: _pa(125, 3, 0.025, "poisson")),
+        ("mpmath-poisson-large", "Poisson Pa, n = 200,000, c = 480, p = 0.25 %",
+         lambda: _mp_poisson(200_000 * 0.0025, 480),
+         lambda: _pa(200_000, 480, 0.0025, "poisson")),
+        ("mpmath-hypergeometric-lot500", "hypergeometric Pa, N = 500, D = 25, n = 50, c = 2",
+         lambda: _mp_hyper(50, 2, 500, 25),
+         lambda: _pa(50, 2, 25 / 500, "hypergeometric", 500)),
+        ("mpmath-hypergeometric-lot1e9", "hypergeometric Pa, N = 1e9, D = 1e6, n = 2,000, c = 3",
+         lambda: _mp_hyper(2000, 3, 10**9, 10**6),
+         lambda: _pa(2000, 3, 10**6 / 10**9, "hypergeometric", 10**9)),
+    ]
+    return [ReferenceCase(id=i, description=d, source=src, expected=e, tolerance=1e-10,
+                          compute=f, area="exact arithmetic cross-checks", needs=("mpmath",))
+            for i, d, e, f in pts]
+
+
+# --- cases of the lot records and supplier view --------------------------------
+
+def records_cases() -> list:
+    """Reference cases of lot records and the supplier view."""
+    def cp_upper():
+        from lotwise.data.records import clopper_pearson
+
+        return clopper_pearson(0, 59, 0.90)[1]
+
+    def cp_interval():
+        from lotwise.data.records import clopper_pearson
+
+        lo, hi = clopper_pearson(5, 320, 0.95)
+        return (lo, hi)
+
+    def mp_cp():
+        import mpmath as mp
+
+        # Clopper-Pearson ends solve P(X >= 5 | p) = 0.025 and P(X <= 5 | p) = 0.025.
+        with mp.workdps(40):
+            def cdf(p, c):
+                return mp.fsum(mp.binomial(320, k) * p**k * (1 - p)**(320 - k)
+                               for k in range(c + 1))
+            lo = _mp_bisect(lambda p: (1 - cdf(p, 4)) - mp.mpf("0.025"), 1e-6, 0.2)
+            hi = _mp_bisect(lambda p: cdf(p, 5) - mp.mpf("0.025"), 1e-6, 0.2)
+        return (float(lo), float(hi))
+
+    def bb():
+        from lotwise.families.base import SinglePlan
+        from lotwise.analysis.supplier import Posterior, rejection_outlook
+
+        return rejection_outlook(SinglePlan(n=80, c=2), Posterior.from_counts(14, 3200)).p_reject
+
+    def mp_bb():
+        import mpmath as mp
+
+        with mp.workdps(40):
+            a, b = mp.mpf(14.5), mp.mpf(3186.5)
+            acc = mp.fsum(mp.binomial(80, k) * mp.beta(k + a, 80 - k + b) / mp.beta(a, b)
+                          for k in range(3))
+        return float(1 - acc)
+
+    def quad():
+        from lotwise.families.base import SinglePlan
+        from lotwise.analysis.supplier import Posterior
+
+        post = Posterior.from_counts(14, 3200)
+        return 1.0 - post.expect(lambda p: SinglePlan(n=80, c=2).pa(p, "binomial", _scope()))
+
+    return [
+        ReferenceCase(
+            id="clopper-pearson-0-of-59", area="lot records and supplier view",
+            description="upper end of the 90 % Clopper-Pearson interval for 0 found in 59",
+            source="closed form 1 - 0.05^(1/59) for x = 0 (exact arithmetic)",
+            expected=1.0 - 0.05 ** (1.0 / 59.0), tolerance=1e-12, compute=cp_upper),
+        ReferenceCase(
+            id="clopper-pearson-5-of-320", area="lot records and supplier view",
+            description="95 % Clopper-Pearson interval for 5 found in 320",
+            source="mpmath root of the binomial tail equations, computed at run time",
+            expected=mp_cp, tolerance=1e-10, compute=cp_interval, needs=("mpmath",)),
+        ReferenceCase(
+            id="predictive-rejection-beta-binomial", area="lot records and supplier view",
+            description="predictive P(reject) of n = 80, c = 2, Jeffreys posterior from "
+                        "14 in 3,200",
+            source="mpmath beta-binomial sum, computed at run time",
+            expected=mp_bb, tolerance=1e-10, compute=bb, needs=("mpmath",)),
+        ReferenceCase(
+            id="predictive-rejection-quadrature", area="lot records and supplier view",
+            description="the same by the quadrature other plan types use",
+            source="mpmath beta-binomial sum, computed at run time",
+            expected=mp_bb, tolerance=1e-9, compute=quad, needs=("mpmath",)),
+    ]
+
+
+#: Providers of reference cases, ``"module:function"``; see the module notes.
+PROVIDERS: list[str] = [
+    "lotwise.validation.runner:single_sampling_cases",
+    "lotwise.validation.runner:records_cases",
+    "lotwise.validation.cases:rectifying_cases",
+    "lotwise.validation.cases:least_inspection_cases",
+    "lotwise.validation.cases:zero_acceptance_cases",
+    "lotwise.validation.cases:reliability_cases",
+    "lotwise.validation.cases:chain_skiplot_cases",
+    "lotwise.validation.cases:multistage_cases",
+    "lotwise.validation.cases:sequential_cases",
+    "lotwise.validation.cases:variables_cases",
+]
+
+
+def all_cases(providers=None) -> list:
+    """Every registered case, in provider order; raises ValueError on a
+    duplicate id."""
+    out, seen = [], set()
+    for spec in providers or PROVIDERS:
+        mod, func = spec.split(":")
+        for case in getattr(importlib.import_module(mod), func)():
+            if case.id in seen:
+                raise ValueError(f"reference case id {case.id!r} is registered twice")
+            seen.add(case.id)
+            out.append(case)
+    return out
+
+
+def _compare(expected, computed, tol):
+    """``(ok, difference)``; numbers and tuples of numbers within ``tol``,
+    everything else equal."""
+    if isinstance(expected, tuple):
+        if not isinstance(computed, tuple) or len(computed) != len(expected):
+            return False, None
+        diffs = []
+        for e, c in zip(expected, computed):
+            ok, d = _compare(e, c, tol)
+            if not ok:
+                return False, d
+            diffs.append(d or 0.0)
+        return True, max(diffs) if diffs else 0.0
+    if isinstance(expected, (int, float)) and not isinstance(expected, bool):
+        try:
+            d = abs(float(computed) - float(expected))
+        except (TypeError, ValueError):
+            return False, None
+        return bool(math.isfinite(d) and d <= tol), d
+    return expected == computed, None
+
+
+def _available(mod: str) -> bool:
+    try:
+        importlib.import_module(mod)
+    except ImportError:
+        return False
+    return True
+
+
+def run_cases(cases=None) -> Validation:
+    """Run ``cases`` (default :func:`all_cases`) and collect the verdicts."""
+    started = datetime.now(timezone.utc)
+    cases = all_cases() if cases is None else list(cases)
+    results = []
+    for case in cases:
+        missing = [m for m in case.needs if not _available(m)]
+        if missing:
+            results.append(CaseResult(case=case, expected=None, computed=None, difference=None,
+                                      verdict="skipped",
+                                      note=f"needs {', '.join(missing)} (pip install "
+                                           f"{' '.join(missing)})"))
+            continue
+        try:
+            expected = case.expected() if callable(case.expected) else case.expected
+        except Exception as exc:  # a reference that cannot be had is not a pass
+            results.append(CaseResult(case=case, expected=None, computed=None, difference=None,
+                                      verdict="ERROR",
+                                      note=f"reference failed: {type(exc).__name__}: {exc}"))
+            continue
+        try:
+            computed = case.compute()
+        except Exception as exc:
+            results.append(CaseResult(case=case, expected=expected, computed=None,
+                                      difference=None, verdict="ERROR",
+                                      note=f"{type(exc).__name__}: {exc}"))
+            continue
+        ok, diff = _compare(expected, computed, case.tolerance)
+        results.append(CaseResult(case=case, expected=expected, computed=computed,
+                                  difference=diff, verdict="pass" if ok else "FAIL"))
+    return Validation(results=results, started=started, versions=versions())
+
+
+def versions() -> dict:
+    """Versions of the tool, Python, the platform and the dependencies."""
+
+    out = {"lotwise": _version("lotwise"), "python": platform.python_version(),
+           "platform": platform.platform()}
+    for dist in ("numpy", "scipy", "pandas", "matplotlib", "typer", "mpmath"):
+        out[dist] = _version(dist)
+    return out
+
+
+def _version(dist: str) -> str:
+    from importlib import metadata
+
+    try:
+        return metadata.version(dist)
+    except metadata.PackageNotFoundError:
+        return "not installed"
+
+
+# --- the report ----------------------------------------------------------------
+
+def _fmt(v) -> str:
+    if v is None:
+        return "-"
+    if isinstance(v, tuple):
+        return "(" + ", ".join(_fmt(x) for x in v) + ")"
+    if isinstance(v, bool):
+        return str(v)
+    if isinstance(v, int):
+        return str(v)
+    if isinstance(v, float):
+        return f"{v:.10g}"
+    return str(v)
+
+
+def _rows(val: Validation):
+    for r in val.results:
+        diff = "-" if r.difference is None else f"{r.difference:.2e}"
+        yield r, [r.case.id, _fmt(r.expected), _fmt(r.computed), _fmt(r.case.tolerance), diff,
+                  r.verdict + (f" ({r.note})" if r.note else "")]
+
+
+_INTRO = ("Each case reproduces a published table value or worked example, a fact of the "
+          "trade, or a cross-check computed at run time with a general-purpose reference "
+          "library (mpmath for exact arithmetic, scipy.stats where our code does not call "
+          "it). A case "
+          "passes when the computed value lies within the stated absolute tolerance of the "
+          "expected one (0 means exact agreement).")
+
+_SAFETY = ("Validation shows that the tool computes what it documents; it does not make a "
+           "sampling plan adequate. Sampling cannot guarantee a lot free of nonconforming "
+           "items; critical characteristics need 100 % inspection or stricter plans as "
+           "contract and regulation require; defer to your applicable standards and qualified "
+           "quality professionals.")
+
+
+def markdown_report(val: Validation) -> str:
+    """The report as Markdown."""
+    when = val.started.strftime("%Y-%m-%d %H:%M UTC")
+    lines = [f"# lotwise validation report, {val.started.date().isoformat()}", "",
+             f"- Run: {when}",
+             f"- Verdict: **{val.verdict}**: {len(val.results)} cases, {val.passed} passed, "
+             f"{val.failed} failed, {val.skipped} skipped",
+             "- Versions: " + ", ".join(f"{k} {v}" for k, v in val.versions.items()), "",
+             _INTRO, ""]
+    areas: dict = {}
+    for r, row in _rows(val):
+        areas.setdefault(r.case.area, []).append((r, row))
+    for area, items in areas.items():
+        lines += [f"## {area[0].upper() + area[1:]}", "",
+                  "| id | description | source | expected | computed | tolerance | "
+                  "difference | verdict |",
+                  "|---|---|---|---|---|---|---|---|"]
+        for r, row in items:
+            cells = [row[0], r.case.description, r.case.source] + row[1:]
+            lines.append("| " + " | ".join(c.replace("|", "/") for c in cells) + " |")
+        lines.append("")
+    lines += ["## Note", "", _SAFETY, ""]
+    return "\n".join(lines)
+
+
+def pdf_report(val: Validation) -> bytes:
+    """The report as a text-extractable PDF (fonts embedded as TrueType)."""
+    import io
+    import textwrap
+
+    from matplotlib.backends.backend_pdf import PdfPages
+
+    from lotwise.documents.plots.style import _mpl
+
+    plt = _mpl()
+    import matplotlib
+
+    blocks: list[list[tuple[str, str]]] = []  # kept together on a page
+
+    def block(*items):
+        blocks.append(list(items))
+
+    block(("title", f"lotwise validation report, {val.started.date().isoformat()}"),
+          ("body", f"Run: {val.started.strftime('%Y-%m-%d %H:%M UTC')}"),
+          ("bold", f"Verdict: {val.verdict}: {len(val.results)} cases, {val.passed} passed, "
+                   f"{val.failed} failed, {val.skipped} skipped"),
+          *[("body", t) for t in textwrap.wrap(
+              "Versions: " + ", ".join(f"{k} {v}" for k, v in val.versions.items()), 105)],
+          ("body", ""), *[("body", t) for t in textwrap.wrap(_INTRO, 105)])
+    area = None
+    for r, row in _rows(val):
+        head = []
+        if r.case.area != area:
+            area = r.case.area
+            head = [("body", ""), ("heading", area[0].upper() + area[1:])]
+        block(*head, ("bold", f"{row[0]}: {row[5]}"),
+              *[("small", "    " + t) for t in textwrap.wrap(
+                  f"{r.case.description}. Source: {r.case.source}.", 100)],
+              ("small", f"    expected {row[1]}, computed {row[2]}, tolerance {row[3]}, "
+                        f"difference {row[4]}"))
+    block(("body", ""), ("heading", "Note"), *[("body", t) for t in textwrap.wrap(_SAFETY, 105)])
+
+    size = {"title": 13, "heading": 10.5, "bold": 8.2, "body": 8.2, "small": 7.4}
+    step = {"title": 0.03, "heading": 0.024, "bold": 0.0165, "body": 0.0165, "small": 0.0148}
+    top, bottom = 0.95, 0.06
+    pages: list[list] = [[]]
+    y = top
+    for blk in blocks:
+        need = sum(step[st] for st, _ in blk)
+        if y - need < bottom and pages[-1]:
+            pages.append([])
+            y = top
+        pages[-1].append(blk)
+        y -= need
+    buf = io.BytesIO()
+    with matplotlib.rc_context({"pdf.fonttype": 42, "font.family": "DejaVu Sans"}):
+        with PdfPages(buf, metadata={"Creator": "lotwise", "Title": "lotwise validation report"}) \
+                as pdf:
+            for k, page in enumerate(pages, start=1):
+                fig = plt.figure(figsize=(8.27, 11.69))  # A4
+                y = top
+                for blk in page:
+                    for style, text in blk:
+                        fig.text(0.07, y, text, fontsize=size[style], va="top", ha="left",
+                                 fontweight="bold" if style in ("title", "heading", "bold")
+                                 else "normal")
+                        y -= step[style]
+                fig.text(0.07, 0.03, f"lotwise validation report, "
+                         f"{val.started.date().isoformat()}, page {k} of {len(pages)}",
+                         fontsize=7, color="0.4")
+                pdf.savefig(fig)
+                plt.close(fig)
+    return buf.getvalue()
