@@ -10,7 +10,7 @@ from __future__ import annotations
 import numpy as np
 
 from lotwise.families.double import design_double
-from lotwise.families.base import Scope
+from lotwise.core.types import Scope
 from lotwise.families.sequential import SequentialPlan, sprt_lines
 
 H1, H2, S = sprt_lines(0.01, 0.05, 0.06, 0.10)

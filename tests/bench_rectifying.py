@@ -4,7 +4,8 @@ from __future__ import annotations
 
 from lotwise.analysis import rectifying
 from lotwise.analysis.least_ati import design_least_ati
-from lotwise.families.base import Scope, SinglePlan
+from lotwise.core.types import Scope
+from lotwise.families.single import SinglePlan
 
 PLAN = SinglePlan(n=125, c=3)
 BIG = Scope(lot_size=100_000)

@@ -9,7 +9,8 @@ import numpy as np
 
 from lotwise.core import kernels as oc
 from lotwise.families.single import design_single
-from lotwise.families.base import Scope, SinglePlan
+from lotwise.core.types import Scope
+from lotwise.families.single import SinglePlan
 
 AQL, RQL, ALPHA, BETA = 0.001, 0.0015, 0.05, 0.10
 

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from lotwise.families.variables_design import design_variables
+from lotwise.families.variables import design_variables
 from lotwise.families.variables import VariablesPlan
 
 PLAN = VariablesPlan(n=42, k=1.901, sigma="unknown", limit="upper")

@@ -13,7 +13,9 @@ from hypothesis import given, settings, strategies as st
 from lotwise.analysis import rectifying as R
 from lotwise.families.chain import ChainPlan, design_chain
 from lotwise.cli import main
-from lotwise.families.base import Scope, SinglePlan, parse_plan
+from lotwise.core.types import Scope
+from lotwise.families.single import SinglePlan
+from lotwise.families.base import parse_plan
 from lotwise.core.quantities import Infeasible
 from lotwise.families.skiplot import SkipLotPlan, parse_skip
 

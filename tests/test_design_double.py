@@ -8,10 +8,10 @@ import pytest
 from scipy import stats
 
 from lotwise.families.double import design_double
-from lotwise.families.sequential_design import design_sequential
+from lotwise.families.sequential import design_sequential
 from lotwise.families.single import design_single
-from lotwise.families.multistage import DoublePlan
-from lotwise.families.base import Scope
+from lotwise.families.double import DoublePlan
+from lotwise.core.types import Scope
 from lotwise.core.quantities import InputError, Infeasible
 
 

@@ -10,8 +10,10 @@ from hypothesis import given, settings, strategies as st
 from lotwise.core import kernels as oc
 from lotwise.analysis.approximation import poisson_verdict, rule_of_thumb
 from lotwise.analysis.audit import audit_plan, quality_at
-from lotwise.families.single import Targets, design_single, min_sample_size
-from lotwise.families.base import Scope, SinglePlan
+from lotwise.core.types import Targets
+from lotwise.families.single import design_single, min_sample_size
+from lotwise.core.types import Scope
+from lotwise.families.single import SinglePlan
 from lotwise.core.quantities import InputError, Infeasible
 
 # Cameron (1952) unity values for single sampling at alpha = 0.05, beta = 0.10:

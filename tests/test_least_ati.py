@@ -12,7 +12,8 @@ from lotwise.core import kernels as oc
 from lotwise.analysis import rectifying as R
 from lotwise.cli import main
 from lotwise.analysis.least_ati import design_least_ati
-from lotwise.families.base import Scope, SinglePlan
+from lotwise.core.types import Scope
+from lotwise.families.single import SinglePlan
 
 
 def _brute(N, pbar, model, rql=None, beta=0.10, aoql=None, formula="screened"):

@@ -10,9 +10,13 @@ import numpy as np
 import pytest
 from hypothesis import given, settings, strategies as st
 
-from lotwise.families.multistage import (DoublePlan, MultiplePlan, decide_single, double_max_asn, max_asn)
+from lotwise.families.double import DoublePlan, double_max_asn
+from lotwise.families.multiple import MultiplePlan
+from lotwise.core.search import maximise_over_levels
 from lotwise.analysis.plan_report import quality_level
-from lotwise.families.base import Scope, SinglePlan, parse_plan
+from lotwise.core.types import Scope
+from lotwise.families.single import SinglePlan
+from lotwise.families.base import parse_plan
 from lotwise.core.quantities import InputError
 
 PROCESS = Scope()
@@ -383,14 +387,14 @@ def test_double_max_asn_closed_form(plan, model, lot):
     else:
         grid = plan.asn(np.linspace(0, 1, 300_001), model, scope)
     assert got == pytest.approx(float(np.max(grid)), rel=1e-7)
-    assert max_asn(plan, model, scope)[0] == pytest.approx(got, rel=1e-12)
+    assert plan.max_asn(model, scope)[0] == pytest.approx(got, rel=1e-12)
 
 
 def test_generic_max_asn_on_multiple_plan():
     # Reference: brute-force grid of 200,001 points; tolerance 1e-6 relative.
     plan = MultiplePlan(n=(20, 20, 20), c=(None, 1, 3), r=(2, 3, 4))
     grid = plan.asn(np.linspace(0, 0.5, 200_001), "binomial", PROCESS)
-    assert max_asn(plan, "binomial", PROCESS)[0] == pytest.approx(float(grid.max()), rel=1e-6)
+    assert maximise_over_levels(plan.asn, plan, "binomial", PROCESS)[0] == pytest.approx(float(grid.max()), rel=1e-6)
 
 
 # --- notation and validation --------------------------------------------------------
@@ -409,7 +413,7 @@ def test_generic_max_asn_on_multiple_plan():
 def test_notation(text, expected):
     plan = parse_plan(text)
     assert plan == expected
-    assert parse_plan(plan.notation) == plan
+    assert parse_plan(plan.notation()) == plan
 
 
 @pytest.mark.parametrize("text, words", [
@@ -481,10 +485,10 @@ def test_multiple_decisions():
 
 def test_single_decisions():
     plan = SinglePlan(n=80, c=2)
-    assert decide_single(plan, 10, 3).action == "reject"
-    assert decide_single(plan, 78, 0).action == "accept"
-    assert decide_single(plan, 78, 1).action == "continue"
-    assert decide_single(plan, 80, 2).action == "accept"
+    assert plan.decide(10, 3).action == "reject"
+    assert plan.decide(78, 0).action == "accept"
+    assert plan.decide(78, 1).action == "continue"
+    assert plan.decide(80, 2).action == "accept"
 
 
 @pytest.mark.parametrize("n, d, words", [

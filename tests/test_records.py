@@ -13,7 +13,7 @@ from scipy import stats
 
 from generated import history
 from lotwise.cli import main
-from lotwise.families.base import SinglePlan
+from lotwise.families.single import SinglePlan
 from lotwise.core.quantities import InputError
 from lotwise.data.records import (accepted_tails, binomial_limits, clopper_pearson, read_records, resolve_plan_file, summarise)
 

@@ -12,7 +12,8 @@ from hypothesis import given, settings, strategies as st
 
 from lotwise.analysis import rectifying as R
 from lotwise.cli import main
-from lotwise.families.base import Scope, SinglePlan
+from lotwise.core.types import Scope
+from lotwise.families.single import SinglePlan
 
 
 # Dodge-Romig / Schilling AOQL factors y for single sampling with a Poisson OC

@@ -10,7 +10,8 @@ import re
 import numpy as np
 import pytest
 
-from lotwise.families.base import Scope, parse_plan
+from lotwise.core.types import Scope
+from lotwise.families.base import parse_plan
 from lotwise.core.quantities import InputError
 from lotwise.families.sequential import SequentialPlan, sprt_lines, wald_asn, wald_pa
 
@@ -319,7 +320,7 @@ def test_sequential_notation():
     plan = parse_plan("sequential: h1=1.22,h2=1.57,s=0.0281,truncate=300")
     assert (plan.h1, plan.h2, plan.s, plan.truncate) == (1.22, 1.57, 0.0281, 300)
     assert parse_plan("h1=1.22,h2=1.57,s=0.0281,truncate=300") == plan
-    assert parse_plan(plan.notation) == plan
+    assert parse_plan(plan.notation()) == plan
     from_risks = parse_plan("sequential: p1=1%,alpha=5%,p2=6%,beta=10%,truncate=300")
     assert (from_risks.h1, from_risks.h2, from_risks.s) == pytest.approx((H1, H2, S))
 

@@ -12,7 +12,8 @@ from hypothesis import strategies as st
 from generated import history
 from lotwise.cli import main
 from lotwise.families.single import design_single
-from lotwise.families.base import Scope, SinglePlan
+from lotwise.core.types import Scope
+from lotwise.families.single import SinglePlan
 from lotwise.core.quantities import Infeasible, InputError
 from lotwise.analysis.supplier import Posterior, parse_levels, rejection_outlook, tradeoff
 

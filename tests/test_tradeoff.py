@@ -8,9 +8,10 @@ import sys
 import numpy as np
 import pytest
 
-from lotwise.families.single import Targets, design_single
-from lotwise.families.multistage import DoublePlan
-from lotwise.families.base import Scope
+from lotwise.core.types import Targets
+from lotwise.families.single import design_single
+from lotwise.families.double import DoublePlan
+from lotwise.core.types import Scope
 from lotwise.families.sequential import SequentialPlan
 from lotwise.analysis.tradeoff import asn_tradeoff
 

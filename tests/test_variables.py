@@ -13,8 +13,9 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from lotwise.families import variables as V
-from lotwise.families.single import Targets, design_single
-from lotwise.families.variables_design import closed_form_known, design_variables, k_window, wallis
+from lotwise.core.types import Targets
+from lotwise.families.single import design_single
+from lotwise.families.variables import closed_form_known, design_variables, k_window, wallis
 from lotwise.families.base import parse_plan
 from lotwise.core.quantities import InputError, Infeasible
 
@@ -438,7 +439,7 @@ def test_notation_errors(text, fragment):
 
 
 def test_common_interface():
-    from lotwise.families.base import Scope
+    from lotwise.core.types import Scope
 
     p = parse_plan("variables: n=42,k=1.901,upper=25")
     ps = np.array([0.0, 0.01, 0.06, 1.0])

@@ -10,7 +10,8 @@ from hypothesis import given, settings, strategies as st
 
 from lotwise.families.chain import ChainPlan
 from lotwise.cli import main
-from lotwise.families.base import Scope, SinglePlan
+from lotwise.core.types import Scope
+from lotwise.families.single import SinglePlan
 from lotwise.core.quantities import Infeasible
 from lotwise.analysis.zero import design_zero, equivalent_figure, zero_equivalent
 

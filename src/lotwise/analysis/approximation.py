@@ -21,8 +21,9 @@ Examples
 A bracket is sampled from a process with AQL 1 % and RQL 6 %; the exact
 binomial plan is n = 110, c = 3, the Poisson-based one n = 112, c = 3:
 
->>> from lotwise.families.single import Targets
->>> from lotwise.families.base import Scope, SinglePlan
+>>> from lotwise.core.types import Targets
+>>> from lotwise.core.types import Scope
+>>> from lotwise.families.single import SinglePlan
 >>> v = poisson_verdict(SinglePlan(n=110, c=3), Targets(aql=0.01, rql=0.06), Scope())
 >>> (v.poisson_plan.n, v.poisson_plan.c, v.poisson_plan_meets)
 (112, 3, True)
@@ -34,7 +35,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from lotwise.families.base import Scope, SinglePlan
+from lotwise.core.types import Scope
+from lotwise.families.single import SinglePlan
 from lotwise.core.quantities import Infeasible
 
 __all__ = ["PoissonVerdict", "poisson_verdict", "rule_of_thumb", "max_curve_error"]

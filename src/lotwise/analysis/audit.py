@@ -23,8 +23,9 @@ Examples
 --------
 A supplier quotes "sample 80, accept on 2" against AQL 1 % and RQL 5 %:
 
->>> from lotwise.families.single import Targets
->>> from lotwise.families.base import Scope, SinglePlan
+>>> from lotwise.core.types import Targets
+>>> from lotwise.core.types import Scope
+>>> from lotwise.families.single import SinglePlan
 >>> a = audit_plan(SinglePlan(n=80, c=2), Targets(aql=0.01, rql=0.05), Scope())
 >>> a.meets, round(a.risks["binomial"].beta, 3)
 (False, 0.231)
@@ -38,7 +39,8 @@ import numpy as np
 from scipy import special
 
 from lotwise.core import kernels as oc
-from lotwise.families.base import Scope, SinglePlan, lot_counts
+from lotwise.core.types import Scope, lot_counts
+from lotwise.families.single import SinglePlan
 from lotwise.core.quantities import format_level, format_pct
 
 __all__ = ["ModelRisk", "PlanQuality", "Audit", "audit_plan", "quality_at"]

@@ -13,8 +13,9 @@ Examples
 --------
 A supplier's "32, accept on 1" against the designed plan for AQL 1 %, RQL 8 %:
 
->>> from lotwise.families.single import Targets
->>> from lotwise.families.base import Scope, SinglePlan
+>>> from lotwise.core.types import Targets
+>>> from lotwise.core.types import Scope
+>>> from lotwise.families.single import SinglePlan
 >>> t = Targets(aql=0.01, rql=0.08)
 >>> rows = compare_plans([("supplier", SinglePlan(n=32, c=1), t, Scope(), None),
 ...                       ("designed", SinglePlan(n=65, c=2), t, Scope(), None)])

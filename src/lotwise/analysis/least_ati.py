@@ -73,9 +73,12 @@ from dataclasses import dataclass
 import numpy as np
 
 from lotwise.core import kernels as oc
-from lotwise.families.base import Scope, SinglePlan
+from lotwise.core.types import Scope
+from lotwise.families.single import SinglePlan
 from lotwise.core.quantities import InputError, Infeasible, format_level, format_pct
-from lotwise.families.single import Targets, _Kernel, _n_min
+from lotwise.core.types import Targets
+from lotwise.core import search
+from lotwise.core.search import Kernel
 
 __all__ = ["LeastATIDesign", "design_least_ati"]
 
@@ -212,7 +215,7 @@ def design_least_ati(*, lot_size: int, process_average: float, rql: float | None
         raise InputError(f"--aoql ({aoql}) must be above 0")
 
     if constraint == "rql":
-        kernel = _Kernel(model, Targets(aql=process_average, rql=rql, beta=beta), scope)
+        kernel = Kernel(model, Targets(aql=process_average, rql=rql, beta=beta), scope)
         if model == "hypergeometric" and kernel.d2 < 1:
             raise Infeasible(
                 f"the RQL ({format_level(rql, defects)}) rounds down to no nonconforming item in "
@@ -221,7 +224,7 @@ def design_least_ati(*, lot_size: int, process_average: float, rql: float | None
         c_limit = kernel.d2 if model == "hypergeometric" else None
 
         def n_min(cs):
-            return _n_min(kernel, cs, beta, N)
+            return search.n_min(kernel, cs, beta, N)
     else:
         c_limit = None
 

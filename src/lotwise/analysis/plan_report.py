@@ -28,8 +28,8 @@ An auditor checks a supplier's double plan for castings against AQL 1 %
 and RQL 5 %: it protects the producer but lets lots at the RQL through
 29 % of the time.
 
->>> from lotwise.families.single import Targets
->>> from lotwise.families.multistage import DoublePlan
+>>> from lotwise.core.types import Targets
+>>> from lotwise.families.double import DoublePlan
 >>> rep = plan_report(DoublePlan(n1=50, c1=1, n2=100, c2=3), Targets(aql=0.01, rql=0.05),
 ...                   Scope())
 >>> rep["meets"], round(rep["models"]["binomial"]["beta"], 4), round(rep["asn"]["rql"], 2)
@@ -41,7 +41,8 @@ from __future__ import annotations
 import numpy as np
 
 from lotwise.analysis.audit import ModelRisk, PlanQuality, risks_under
-from lotwise.families.base import Scope, SinglePlan
+from lotwise.core.types import Scope
+from lotwise.families.single import SinglePlan
 from lotwise.core.quantities import format_level, format_pct
 
 __all__ = ["quality_level", "plan_quality", "plan_report", "render_plan", "curve_error",
@@ -124,9 +125,8 @@ def plan_report(plan, targets, scope: Scope, model: str | None = None, *, design
     la, lr = _levels(targets, scope, model)
     asn_aql = float(plan.asn(la, model, scope))
     asn_rql = float(plan.asn(lr, model, scope))
-    from lotwise.families.multistage import max_asn
 
-    amax, amax_at = max_asn(plan, model, scope)
+    amax, amax_at = plan.max_asn(model, scope)
     if hasattr(plan, "asn_curtailed"):
         cur = {"aql": float(plan.asn_curtailed(la, model, scope)),
                "rql": float(plan.asn_curtailed(lr, model, scope))}
@@ -143,7 +143,7 @@ def plan_report(plan, targets, scope: Scope, model: str | None = None, *, design
     out.update(plan.to_dict())
     out.update({
         "label": plan.label,
-        "notation": plan.notation,
+        "notation": plan.notation(),
         "n_max": plan.n_max,
         "model": model,
         "lot_size": scope.lot_size,

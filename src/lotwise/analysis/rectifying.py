@@ -72,7 +72,8 @@ Receiving screens every rejected lot of 4000 printed boards and samples 20
 boards per lot, accepting on one nonconforming. The worst average outgoing
 quality it lets through, reached when lots arrive near 7.7 % nonconforming:
 
->>> from lotwise.families.base import Scope, SinglePlan
+>>> from lotwise.core.types import Scope
+>>> from lotwise.families.single import SinglePlan
 >>> r = aoql(SinglePlan(n=20, c=1), Scope(lot_size=4000), "binomial", formula="simple")
 >>> round(r.value, 4), round(r.at, 3)
 (0.0414, 0.077)
@@ -87,7 +88,9 @@ import numpy as np
 from scipy import special
 
 from lotwise.core import kernels as oc
-from lotwise.families.base import Scope, lot_counts
+from lotwise.core.types import Scope, lot_counts
+from lotwise.families.base import need_lot
+from lotwise.families.single import aoq_hyper_single
 from lotwise.core.quantities import InputError, format_level, format_pct
 
 __all__ = [
@@ -129,100 +132,37 @@ def check_formula(formula: str, option: str = "--aoq-formula") -> str:
     return formula
 
 
-def _is_single(plan) -> bool:
-    return getattr(plan, "scheme", None) == "single" and hasattr(plan, "c")
-
-
-def _sample_used(plan, p, model, scope):
-    """Sample size to use in the ATI/AOQ expressions: the ASN for plans with
-    a varying sample, else the fixed ``n``."""
-    if hasattr(plan, "asn"):
-        return np.asarray(plan.asn(p, model, scope), dtype=float)
-    return float(plan.n)
-
-
 def _need_lot(scope: Scope, what: str) -> int:
-    if not scope.lot_size:
-        raise InputError(f"the {what} needs a lot size (--lot-size)")
-    return int(scope.lot_size)
+    return need_lot(scope, what)
 
 
-# --- AOQ and ATI at given quality levels ------------------------------------------
+# --- AOQ and ATI at given quality levels: the plan's own methods ----------------
 
 def aoq_count(plan, d, scope: Scope, formula: str = "screened"):
     """Exact AOQ (a fraction) for lots of ``scope.lot_size`` holding ``d``
-    nonconforming items (hypergeometric model)."""
+    nonconforming items (hypergeometric model); see :meth:`Plan.aoq_count`."""
     check_formula(formula, "formula")
-    N = _need_lot(scope, "hypergeometric AOQ")
-    if hasattr(plan, "aoq_count"):
-        return plan.aoq_count(d, scope, formula)
-    d = np.asarray(d, dtype=float)
-    if formula == "simple":
-        return _finish(d / N * np.asarray(plan.pa_count(d, scope), dtype=float))
-    if _is_single(plan):
-        return _finish(_aoq_hyper_single(plan.n, plan.c, N, d))
-    # Generic plug-in with the fixed or average sample size (see module notes).
-    pa = np.asarray(plan.pa_count(d, scope), dtype=float)
-    used = _sample_used(plan, d / N, "hypergeometric", scope)
-    return _finish(d / N * pa * (N - used) / N)
-
-
-def _aoq_hyper_single(n, c, N, d):
-    """``(D/N)((N - n)/N) Pa(n, c | N - 1, D - 1)``, zero at ``D = 0`` or ``n = N``."""
-    d = np.asarray(d, dtype=float)
-    n = np.asarray(n, dtype=float)
-    inside = (d >= 1) & (n < N)
-    nn = np.where(inside, n, 1.0)
-    dd = np.where(inside, d - 1.0, 0.0)
-    pa = np.asarray(oc.pa_hypergeometric(nn, c, N - 1.0, dd), dtype=float)
-    return np.where(inside, d / N * (N - n) / N * pa, 0.0)
+    _need_lot(scope, "hypergeometric AOQ")
+    return plan.aoq_count(d, scope, formula=formula)
 
 
 def aoq(plan, p, model: str, scope: Scope, formula: str = "screened",
         rounding: str = "nearest"):
-    """AOQ of ``plan`` at quality level(s) ``p`` under ``model``.
-
-    Under the hypergeometric model ``p`` is turned into whole counts with
-    ``rounding`` and :func:`aoq_count` is used. Without a lot size the
-    large-lot limit ``p Pa(p)`` is returned.
-    """
+    """AOQ of ``plan`` at quality level(s) ``p`` under ``model``; see :meth:`Plan.aoq`."""
     check_formula(formula, "formula")
-    if hasattr(plan, "aoq"):
-        return plan.aoq(p, model, scope, formula)
-    p = np.asarray(p, dtype=float)
-    if model == "hypergeometric":
-        N = _need_lot(scope, "hypergeometric AOQ")
-        return aoq_count(plan, lot_counts(p, N, rounding), scope, formula)
-    pa = np.asarray(plan.pa(p, model, scope), dtype=float)
-    N = scope.lot_size
-    if not N or formula == "simple":
-        return _finish(p * pa)
-    used = _sample_used(plan, p, model, scope)
-    return _finish(p * pa * (N - used) / N)
+    return plan.aoq(p, model, scope, formula=formula, rounding=rounding)
 
 
 def ati_count(plan, d, scope: Scope):
     """ATI (items inspected per lot) for lots holding ``d`` nonconforming items."""
-    N = _need_lot(scope, "ATI")
-    if hasattr(plan, "ati_count"):
-        return plan.ati_count(d, scope)
-    d = np.asarray(d, dtype=float)
-    pa = np.asarray(plan.pa_count(d, scope), dtype=float)
-    used = _sample_used(plan, d / N, "hypergeometric", scope)
-    return _finish(used + (1.0 - pa) * (N - used), clip=False)
+    _need_lot(scope, "ATI")
+    return plan.ati_count(d, scope)
 
 
 def ati(plan, p, model: str, scope: Scope, rounding: str = "nearest"):
-    """ATI ``n + (1 - Pa)(N - n)`` at quality level(s) ``p`` under ``model``."""
-    N = _need_lot(scope, "ATI")
-    if hasattr(plan, "ati"):
-        return plan.ati(p, model, scope)
-    p = np.asarray(p, dtype=float)
-    if model == "hypergeometric":
-        return ati_count(plan, lot_counts(p, N, rounding), scope)
-    pa = np.asarray(plan.pa(p, model, scope), dtype=float)
-    used = _sample_used(plan, p, model, scope)
-    return _finish(used + (1.0 - pa) * (N - used), clip=False)
+    """ATI ``ASN + (1 - Pa)(N - ASN)`` at quality level(s) ``p`` under ``model``."""
+    _need_lot(scope, "ATI")
+    return plan.ati(p, model, scope, rounding=rounding)
 
 
 def _finish(x, clip: bool = True):
@@ -325,40 +265,14 @@ def brent_max(f, a: float, b: float, *, rtol: float = 3e-9, maxiter: int = 200):
 
 def _top_level(plan, model: str, scope: Scope) -> float:
     """A quality level beyond the AOQ peak: where ``Pa`` has fallen to 1e-9."""
-    if _is_single(plan):
-        n, c = plan.n, plan.c
-        if model == "poisson":
-            return float(special.gammainccinv(c + 1.0, _PA_FLOOR)) / n
-        if c >= n:
-            return 1.0
-        return float(special.betainccinv(c + 1.0, n - c, _PA_FLOOR))
-    from lotwise.analysis.audit import quality_at
-
-    q = quality_at(plan, _PA_FLOOR, "poisson" if model == "poisson" else "binomial",
-                   scope, "consumer")
+    q = plan.quality_at(_PA_FLOOR, "poisson" if model == "poisson" else "binomial", scope,
+                        "consumer")
     return q if scope.defects or model == "poisson" else min(1.0, q)
-
-
-def _scalar_aoq_single(plan, model, scope, formula):
-    """``p -> AOQ(p)`` for a single plan on Python floats: the same incomplete
-    beta/gamma expressions as :mod:`lotwise.core.kernels`, without array overhead, for
-    the many evaluations of Brent's method."""
-    n, c = float(plan.n), float(plan.c)
-    N = scope.lot_size
-    k = 1.0 if (not N or formula == "simple") else (N - n) / N
-    if model == "poisson":
-        return lambda p: p * float(special.gammaincc(c + 1.0, n * p)) * k if p > 0 else 0.0
-    if c >= n:
-        return lambda p: p * k
-    return lambda p: (p * float(special.betaincc(c + 1.0, n - c, p)) * k) if 0 < p < 1 else 0.0
 
 
 def _aoql_continuous(plan, model, scope, formula) -> AOQL:
     top = _top_level(plan, model, scope)
-    if _is_single(plan) and not hasattr(plan, "aoq"):
-        f = _scalar_aoq_single(plan, model, scope, formula)
-    else:
-        f = lambda x: float(aoq(plan, x, model, scope, formula))  # noqa: E731
+    f = plan.aoq_function(model, scope, formula=formula)
     grid = np.linspace(0.0, top, _GRID + 1)
     vals = np.asarray(aoq(plan, grid, model, scope, formula), dtype=float)
     while int(np.argmax(vals)) == len(grid) - 1 and (scope.defects or model == "poisson"
@@ -527,7 +441,7 @@ def _hyper_aoq_grid(n, c, N, d, formula):
     cc = c[:, None]
     if formula == "simple":
         return d / N * np.asarray(oc.pa_hypergeometric(nn, cc, N, d), dtype=float)
-    return _aoq_hyper_single(nn, cc, N, d)
+    return aoq_hyper_single(nn, cc, N, d)
 
 
 # --- report -----------------------------------------------------------------------
@@ -555,7 +469,7 @@ def rectifying_summary(plan, scope: Scope, model: str, targets=None,
         per_model[m] = entry
     main = per_model[model]
     expression = FORMULA_TEXT[formula]
-    if formula == "screened" and not _is_single(plan):
+    if formula == "screened" and not plan.exact_finite_aoq:
         expression = (expression.split("; finite lot:")[0]
                       + "; finite lot: the plan's exact E[(D - X) 1{accept}] / N)")
     out = {
@@ -718,9 +632,9 @@ def ati_figure(plan, scope: Scope, ax=None, *, models=None, max_p=None, points: 
 def rectifying_figure(plan, scope: Scope, *, formula: str = "screened", aql=None, rql=None,
                       max_p=None):
     """OC, AOQ and ATI of ``plan`` one above the other (for a known lot size)."""
-    from lotwise.documents.plots.style import _mpl, oc_figure
+    from lotwise.documents.plots.style import mpl, oc_figure
 
-    plt = _mpl()
+    plt = mpl()
     fig, axes = plt.subplots(3, 1, figsize=(6.4, 10.5), dpi=110)
     ps = _curve_grid(plan, scope, max_p, 3)
     top = float(ps[-1])

@@ -12,7 +12,7 @@ from __future__ import annotations
 
 from lotwise.analysis.approximation import poisson_verdict
 from lotwise.analysis.audit import audit_plan
-from lotwise.families.base import Scope
+from lotwise.core.types import Scope
 from lotwise.core.quantities import format_level, format_pct
 
 __all__ = ["single_report", "render_single", "table"]

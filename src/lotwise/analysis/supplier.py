@@ -55,7 +55,7 @@ Examples
 A fastener supplier's last 40 lots showed 14 nonconforming in 3,200 units
 inspected; the buyer proposes n = 80, c = 2 and receives 52 lots a year:
 
->>> from lotwise.families.base import SinglePlan
+>>> from lotwise.families.single import SinglePlan
 >>> post = Posterior.from_counts(14, 3200)
 >>> out = rejection_outlook(SinglePlan(n=80, c=2), post, deliveries_per_year=52)
 >>> round(out.p_reject, 4), round(out.p_reject_at_estimate, 4)
@@ -74,7 +74,8 @@ import numpy as np
 from scipy import special
 
 from lotwise.core import kernels as oc
-from lotwise.families.base import Scope, SinglePlan
+from lotwise.core.types import Scope
+from lotwise.families.single import SinglePlan
 from lotwise.core.quantities import InputError, Infeasible, parse_level
 
 __all__ = ["PRIORS", "Posterior", "Outlook", "rejection_outlook", "parse_levels",

@@ -15,8 +15,8 @@ Examples
 An incoming-inspection engineer weighs a destructive test of fuses
 (AQL 1 %, RQL 5 %) for a continuous supply:
 
->>> from lotwise.families.single import Targets
->>> from lotwise.families.base import Scope
+>>> from lotwise.core.types import Targets
+>>> from lotwise.core.types import Scope
 >>> t = asn_tradeoff(Targets(aql=0.01, rql=0.05), Scope())
 >>> [row.scheme for row in t.rows]
 ['single', 'double', 'sequential']
@@ -30,7 +30,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from lotwise.families.base import Scope
+from lotwise.core.types import Scope
 from lotwise.core.quantities import Infeasible
 
 __all__ = ["TradeoffRow", "Tradeoff", "asn_tradeoff"]
@@ -94,7 +94,6 @@ def _levels(targets, scope: Scope, model: str):
 
 def _row(scheme, plan, targets, scope, model, note=""):
     from lotwise.analysis.audit import risks_under
-    from lotwise.families.multistage import max_asn
 
     la, lr = _levels(targets, scope, model)
     r = risks_under(plan, targets, scope, model)
@@ -104,7 +103,7 @@ def _row(scheme, plan, targets, scope, model, note=""):
     else:
         asn_aql = float(plan.asn(la, model, scope))
         asn_rql = float(plan.asn(lr, model, scope))
-        amax = float(max_asn(plan, model, scope)[0])
+        amax = float(plan.max_asn(model, scope)[0])
         n_max = plan.n_max
     return TradeoffRow(scheme=scheme, plan=plan, label=plan.label, pa_aql=r.pa_aql,
                        pa_rql=r.pa_rql, asn_aql=asn_aql, asn_rql=asn_rql, asn_max=amax,
@@ -138,7 +137,7 @@ def asn_tradeoff(targets, scope: Scope, *, model: str | None = None, ratio: floa
         note saying why.
     """
     from lotwise.families.double import design_double
-    from lotwise.families.sequential_design import design_sequential
+    from lotwise.families.sequential import design_sequential
     from lotwise.families.single import design_single
 
     model = scope.check_model(model)

@@ -39,7 +39,8 @@ with 10 % consumer's risk; the supplier's AQL is 1 %:
 
 The c = 0 plan that protects like "sample 125, accept on 3":
 
->>> from lotwise.families.base import Scope, SinglePlan
+>>> from lotwise.core.types import Scope
+>>> from lotwise.families.single import SinglePlan
 >>> e = zero_equivalent(SinglePlan(n=125, c=3), Scope())
 >>> e.zero_plan.n
 43
@@ -51,7 +52,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from lotwise.families.base import Scope, SinglePlan
+from lotwise.core.types import Scope
+from lotwise.families.single import SinglePlan
 from lotwise.core.quantities import InputError, Infeasible, format_level, format_pct
 
 __all__ = ["ZeroDesign", "ZeroEquivalent", "design_zero", "zero_equivalent",
@@ -178,7 +180,8 @@ def design_zero(*, rql: float, beta: float = 0.10, lot_size: int | None = None,
         Largest affordable sample.
     """
     from lotwise.analysis import audit
-    from lotwise.families.single import Targets, _Kernel, _n_min
+    from lotwise.core.types import Targets
+    from lotwise.core.search import Kernel, n_min
 
     scope = Scope(lot_size=lot_size, defects=defects)
     model = scope.check_model(model)
@@ -187,7 +190,7 @@ def design_zero(*, rql: float, beta: float = 0.10, lot_size: int | None = None,
                          f"({format_level(aql, defects)})", {"aql": aql, "rql": rql})
     if max_n is not None and max_n < 1:
         raise InputError(f"--max-n ({max_n}) must be at least 1")
-    kernel = _Kernel(model, Targets(aql=aql or 0.0, rql=rql, alpha=alpha, beta=beta), scope)
+    kernel = Kernel(model, Targets(aql=aql or 0.0, rql=rql, alpha=alpha, beta=beta), scope)
     if model == "hypergeometric" and kernel.d2 < 1:
         raise Infeasible(f"the RQL ({format_level(rql)}) rounds down to no nonconforming item "
                          f"in a lot of {lot_size}: such a lot is always accepted",
@@ -195,7 +198,7 @@ def design_zero(*, rql: float, beta: float = 0.10, lot_size: int | None = None,
     cap = max_n
     if lot_size is not None:
         cap = lot_size if cap is None else min(cap, lot_size)
-    nm = int(_n_min(kernel, np.array([0]), beta, cap)[0])
+    nm = int(n_min(kernel, np.array([0]), beta, cap)[0])
     full = False
     if nm < 0:
         if lot_size is not None and (max_n is None or max_n >= lot_size):
@@ -334,16 +337,17 @@ def zero_equivalent(plan, scope: Scope, model: str | None = None, *, beta: float
         producer's quality level (``Pa = 1 - alpha``).
     alpha : float
     """
-    from lotwise.families.single import Targets, _Kernel, _n_min
+    from lotwise.core.types import Targets
+    from lotwise.core.search import Kernel, n_min
 
     model = scope.check_model(model)
     point = quality_level(plan, beta, model, scope, "consumer")
     if not point > 0:
         raise Infeasible(f"{getattr(plan, 'label', plan)} accepts no lot even at 0 nonconforming "
                          f"more often than {format_pct(beta)}", {})
-    kernel = _Kernel(model, Targets(aql=0.0, rql=point, alpha=alpha, beta=beta), scope)
+    kernel = Kernel(model, Targets(aql=0.0, rql=point, alpha=alpha, beta=beta), scope)
     cap = scope.lot_size
-    nm = int(_n_min(kernel, np.array([0]), beta, cap)[0])
+    nm = int(n_min(kernel, np.array([0]), beta, cap)[0])
     if nm < 0:
         nm = int(scope.lot_size)
     zplan = SinglePlan(n=nm, c=0)
@@ -369,7 +373,7 @@ def equivalent_figure(eq: ZeroEquivalent, ax=None, *, max_p=None, points: int = 
     """The given plan's OC curve and its c = 0 equivalent's, overlaid, with the
     shared RQL point (open square) and the producer's-side level (open
     circles on both curves). Returns the figure."""
-    from lotwise.documents.plots.style import STYLE, _pct_axis, new_axes
+    from lotwise.documents.plots.style import STYLE, pct_axis, new_axes
 
     fig, ax = new_axes(ax)
     scope, model = eq.scope, eq.model
@@ -400,7 +404,7 @@ def equivalent_figure(eq: ZeroEquivalent, ax=None, *, max_p=None, points: int = 
     ax.set_ylabel("Probability of acceptance Pa", fontsize=9.5)
     ax.set_xlabel("Quality level: nonconformities per unit" if pu
                   else "Quality level: nonconforming (%)", fontsize=9.5)
-    _pct_axis(ax, pu)
+    pct_axis(ax, pu)
     lot = f", lot of {scope.lot_size}" if scope.lot_size else ""
     ax.set_title(title or f"{lab} and its accept-on-zero equivalent ({model}{lot})",
                  fontsize=10.5, loc="left")

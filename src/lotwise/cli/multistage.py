@@ -62,7 +62,7 @@ def _minimize(text) -> str:
 def design_other(*, scheme, aql, rql, alpha, beta, lot, model, defects, n, c, max_n, ratio,
                  minimize, truncate, plot, force, as_json):
     """``lotwise design`` for every scheme but single."""
-    from lotwise.families.single import Targets
+    from lotwise.core.types import Targets
 
     if scheme not in SCHEMES:
         raise InputError(f"--scheme ({scheme}) must be one of: {', '.join(SCHEMES)}")
@@ -169,7 +169,7 @@ def _number_ranges(numbers: dict) -> list[list[str]]:
 
 
 def _design_sequential(targets, scope, mdl, truncate, plot, force, as_json, base):
-    from lotwise.families.sequential_design import design_sequential
+    from lotwise.families.sequential import design_sequential
     from lotwise.analysis.plan_report import plan_report, render_plan
 
     try:
@@ -255,7 +255,7 @@ def _fits_lot(p, scope):
 
 def check_other(p, *, aql, rql, alpha, beta, lot, model, defects, as_json):
     """``lotwise check`` for a double, multiple or sequential plan."""
-    from lotwise.families.single import Targets
+    from lotwise.core.types import Targets
     from lotwise.analysis.plan_report import plan_report, render_plan
     from .single import _levels_out_of_order
 
@@ -371,7 +371,6 @@ def next_unit(
     as_json: bool = common.JSON,
 ):
     """On the bench: accept, reject or continue, and how many more units at most."""
-    from lotwise.families.multistage import decide_single
     from lotwise.families.base import parse_plan
 
     if plan is None:
@@ -384,11 +383,11 @@ def next_unit(
     n = parse_count(inspected, "--inspected", minimum=0)
     d = parse_count(found, "--found", minimum=0)
     if p.scheme == "single":
-        dec = decide_single(p, n, d, defects=defects)
+        dec = p.decide(n, d, defects=defects)
     else:
         dec = p.decide(n, d, defects=defects)
     if as_json:
-        out = {"scheme": p.scheme, "plan": p.to_dict(), "notation": getattr(p, "notation", None)}
+        out = {"scheme": p.scheme, "plan": p.to_dict(), "notation": p.notation()}
         out.update(dec.as_dict())
         common.emit_json(out)
         return

@@ -270,7 +270,7 @@ def tradeoff(
     rqls = parse_levels(rql, "--rql")
     al, be = common.risks(alpha, beta)
     N = common.lot_size(lot)
-    from lotwise.families.base import Scope
+    from lotwise.core.types import Scope
 
     mdl = Scope(lot_size=N).check_model(model)
     _plot_path(plot)

@@ -42,7 +42,7 @@ def design_dispatch(*, scheme, minimize, aql, rql, alpha, beta, lot, model, defe
 def _least_ati(aql, rql, alpha, beta, lot, model, defects, process_average, aoql, formula,
                as_json):
     from lotwise.analysis.least_ati import design_least_ati
-    from lotwise.families.base import Scope
+    from lotwise.core.types import Scope
     from lotwise.analysis.rectifying import check_formula
 
     if lot is None:
@@ -110,9 +110,10 @@ def render_least_ati(rep: dict) -> str:
 
 
 def _chain(aql, rql, alpha, beta, lot, model, defects, max_n, as_json):
-    from lotwise.families.chain import design_chain, render_chain
-    from lotwise.families.single import Targets
-    from lotwise.families.base import Scope
+    from lotwise.families.chain import design_chain
+    from lotwise.analysis.chain_report import chain_report, render_chain
+    from lotwise.core.types import Targets
+    from lotwise.core.types import Scope
 
     a, r = common.levels(aql, rql, defects)
     al, be = common.risks(alpha, beta)
@@ -126,7 +127,7 @@ def _chain(aql, rql, alpha, beta, lot, model, defects, max_n, as_json):
                          defects=defects, max_n=cap)
     except Infeasible as exc:
         common.infeasible(exc, as_json, base)
-    rep = d.report()
+    rep = chain_report(d.plan, d.targets, d.scope, d.model, design=d)
     if as_json:
         common.emit_json(rep)
     else:
@@ -149,7 +150,8 @@ def check_extras(rep: dict, plan, scope, model, targets, *, aoq_formula, skip_lo
         raise InputError(f"--aoq-formula ({aoq_formula}) needs --lot-size (AOQ and ATI are "
                          "computed for lots of a known size)")
     if skip_lot is not None:
-        from lotwise.families.skiplot import SkipLotPlan, parse_skip, skiplot_report
+        from lotwise.families.skiplot import SkipLotPlan, parse_skip
+        from lotwise.analysis.skiplot_report import skiplot_report
 
         i, f = parse_skip(skip_lot) if isinstance(skip_lot, str) else skip_lot
         sk = SkipLotPlan(reference=plan, i=i, f=f)
@@ -178,7 +180,7 @@ def check_extras(rep: dict, plan, scope, model, targets, *, aoq_formula, skip_lo
 
 def render_extras(rep: dict) -> str:
     from lotwise.analysis.rectifying import render_rectifying
-    from lotwise.families.skiplot import render_skiplot
+    from lotwise.analysis.skiplot_report import render_skiplot
 
     parts = []
     if "rectifying" in rep:
@@ -200,7 +202,7 @@ def render_extras(rep: dict) -> str:
 def check_chain(plan, targets, scope, model, *, aoq_formula, skip_lot, aoq_plot, as_json):
     """``lotwise check --plan "chain: n=..,i=.."``: risks, c = 0 comparison and,
     with a lot size, AOQL and ATI."""
-    from lotwise.families.chain import chain_report, render_chain
+    from lotwise.analysis.chain_report import chain_report, render_chain
     from lotwise.analysis.rectifying import check_formula, rectifying_summary
 
     if skip_lot is not None:

@@ -114,8 +114,9 @@ def compare(
     as_json: bool = common.JSON,
 ):
     """Several plans side by side: risks, quality levels, ASN, one OC plot."""
-    from lotwise.families.single import Targets
-    from lotwise.families.base import Scope, parse_plan
+    from lotwise.core.types import Targets
+    from lotwise.core.types import Scope
+    from lotwise.families.base import parse_plan
     from lotwise.core.quantities import format_level, format_pct
     entries = []  # (label, plan, targets, scope, model)
     for pp in _resolve_files(files or []):

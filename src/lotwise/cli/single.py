@@ -11,14 +11,15 @@ from lotwise.core.quantities import InputError, Infeasible, parse_count, parse_l
 
 
 def _scope_and_model(lot, defects, model):
-    from lotwise.families.base import Scope
+    from lotwise.core.types import Scope
 
     scope = Scope(lot_size=common.lot_size(lot), defects=defects)
     return scope, scope.check_model(model)
 
 
 def _plan_from(plan_text, n, c, *, required=True):
-    from lotwise.families.base import SinglePlan, parse_plan
+    from lotwise.families.single import SinglePlan
+    from lotwise.families.base import parse_plan
 
     if plan_text is not None:
         if n is not None or c is not None:
@@ -69,7 +70,8 @@ def design(
     as_json: bool = common.JSON,
 ):
     """Design the plan with the smallest sample meeting both risks."""
-    from lotwise.families.single import Targets, design_single
+    from lotwise.core.types import Targets
+    from lotwise.families.single import design_single
     from lotwise.analysis.report import render_single, single_report
 
     if scheme == "variables":
@@ -151,7 +153,7 @@ def check(
     when it falls short. With plan files or folders, one summary row per
     characteristic.
     """
-    from lotwise.families.single import Targets
+    from lotwise.core.types import Targets
     from lotwise.analysis.report import render_single, single_report
     from . import rectifying as rect_cli
 

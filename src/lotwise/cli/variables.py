@@ -55,7 +55,7 @@ def number(text, option: str) -> float | None:
 def design_cmd(*, aql, rql, alpha, beta, sigma, sigma_value, limit, lower, upper, max_n,
                lot, model, defects, c, n, as_json):
     """``lotwise design --scheme variables``."""
-    from lotwise.families.variables_design import design_variables
+    from lotwise.families.variables import design_variables
     from lotwise.core.quantities import parse_count
 
     for opt, val in (("--model", model), ("--c", c), ("--n", n)):
@@ -205,7 +205,7 @@ def check_cmd(plan, *, aql, rql, alpha, beta, as_json):
                          f"{rep['one_tail_exact']['pa_rql']:.5f})")
         if "convention" in rep:
             lines.append(f"  (two limits: {rep['convention']})")
-        from lotwise.families.variables_design import SAFETY
+        from lotwise.families.variables import SAFETY
 
         lines.append(f"  - {SAFETY}")
         typer.echo("\n".join(lines))
@@ -499,7 +499,7 @@ def judge(
 
 
 def render_judge(rep: dict, plan) -> str:
-    from lotwise.families.variables_design import SAFETY
+    from lotwise.families.variables import SAFETY
 
     verdict = "ACCEPT" if rep["accept"] else "REJECT"
     lines = [f"Verdict: {verdict} the lot  (plan {plan.label}; {plan.method})",

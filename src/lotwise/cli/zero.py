@@ -30,7 +30,7 @@ def zero(
 ):
     """Accept-on-zero plans: design one for an RQL, or find the c = 0 plan
     equivalent to a given plan (same RQL point), with its producer's risk."""
-    from lotwise.families.base import Scope
+    from lotwise.core.types import Scope
 
     from .single import _plan_from
 

@@ -90,7 +90,7 @@ import numpy as np
 from scipy import special
 
 from lotwise.core import kernels as oc
-from lotwise.families.base import Scope
+from lotwise.core.types import Scope
 from lotwise.core.quantities import InputError, Infeasible, parse_count, parse_level, parse_risk
 
 __all__ = ["REQUIRED", "OPTIONAL", "OUTPUT", "SCHEMES", "SAFETY_NOTE", "BatchResult",

@@ -107,7 +107,9 @@ import numpy as np
 from scipy import special
 
 from lotwise.core import kernels as oc
-from lotwise.families.base import Scope, SinglePlan, parse_plan
+from lotwise.core.types import Scope
+from lotwise.families.single import SinglePlan
+from lotwise.families.base import parse_plan
 from lotwise.core.quantities import InputError
 
 __all__ = ["REQUIRED", "LIMIT_TAIL", "BadRow", "LotRecords", "GroupSummary",
@@ -317,7 +319,7 @@ def resolve_plan_file(name: str, plans_dir) -> object:
 def _plan_from_toml(path, name: str, which: str):
     from lotwise.documents.partplan import resolve
     from lotwise.documents.planfile import load
-    from lotwise.families.base import SinglePlan
+    from lotwise.families.single import SinglePlan
 
     pp = resolve(load(path), verdict=False)
     if pp.n is None:

@@ -41,7 +41,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 from lotwise.families.single import design_single
-from lotwise.families.base import SinglePlan
+from lotwise.families.single import SinglePlan
 from lotwise.core.quantities import Infeasible
 from lotwise.analysis.report import single_report
 
@@ -190,7 +190,7 @@ def _own_plan(ch, req):
     """The given plan, or the variables design, of a characteristic."""
     if ch.plan is not None:
         return ch.plan, None
-    from lotwise.families.variables_design import design_variables
+    from lotwise.families.variables import design_variables
 
     v = ch.variables
     limit = "both" if ("lower" in v and "upper" in v) else ("upper" if "upper" in v else "lower")

@@ -78,8 +78,8 @@ import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from lotwise.families.single import Targets
-from lotwise.families.base import Scope
+from lotwise.core.types import Targets
+from lotwise.core.types import Scope
 from lotwise.core.quantities import InputError, parse_count, parse_level, parse_risk
 
 __all__ = ["Characteristic", "PlanRequest", "load", "loads", "CLASSES"]

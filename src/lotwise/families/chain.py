@@ -56,10 +56,12 @@ from dataclasses import dataclass
 import numpy as np
 
 from lotwise.core import kernels as oc
-from lotwise.families.base import Scope, SinglePlan, lot_counts
+from lotwise.core.types import Scope, lot_counts
+from lotwise.families.single import SinglePlan
 from lotwise.core.quantities import InputError, Infeasible, format_level, format_pct
+from lotwise.families.base import Family, Plan
 
-__all__ = ["ChainPlan", "ChainDesign", "design_chain", "chain_report", "render_chain"]
+__all__ = ["ChainPlan", "ChainDesign", "design_chain", "FAMILY"]
 
 _TOL = 1e-12
 
@@ -102,7 +104,7 @@ def _out(x):
 
 
 @dataclass(frozen=True, kw_only=True)
-class ChainPlan:
+class ChainPlan(Plan):
     """ChSP-1: sample ``n``; accept on 0 nonconforming, or on 1 when the ``i``
     preceding samples held none."""
 
@@ -110,6 +112,7 @@ class ChainPlan:
     i: int
 
     scheme = "chain"
+    exact_finite_aoq = True
 
     def __post_init__(self):
         if not isinstance(self.n, (int, np.integer)) or self.n < 1:
@@ -120,6 +123,13 @@ class ChainPlan:
     @property
     def label(self) -> str:
         return f"ChSP-1 n={self.n}, i={self.i}"
+
+    @property
+    def max_sample(self) -> int:
+        return int(self.n)
+
+    def notation(self) -> str:
+        return f"chain: n={self.n},i={self.i}"
 
     def pa(self, p, model: str, scope: Scope, rounding: str = "nearest"):
         """``Pa = P0 + P1 P0^i`` at quality level(s) ``p`` under ``model``."""
@@ -136,7 +146,7 @@ class ChainPlan:
         """``Pa`` for lots of ``scope.lot_size`` holding ``d`` nonconforming items."""
         return _out(_pa_chain("hypergeometric", self.n, self.i, d, scope.lot_size))
 
-    def aoq_count(self, d, scope: Scope, formula: str = "screened"):
+    def aoq_count(self, d, scope: Scope, *, formula: str = "screened"):
         """Exact finite-lot AOQ: ``E[(D - X) 1{accept}] / N``.
 
         With ``(D - x) h(x | N, D) = D ((N - n)/N) h(x | N - 1, D - 1)`` the
@@ -159,7 +169,7 @@ class ChainPlan:
         return {"scheme": "chain", "n": int(self.n), "i": int(self.i)}
 
 
-def _parse_chain(pairs: dict, text: str, option: str) -> ChainPlan:
+def parse_chain(pairs: dict, text: str, option: str) -> ChainPlan:
     from lotwise.core.quantities import parse_count
 
     allowed = {"n", "i"}
@@ -187,9 +197,6 @@ class ChainDesign:
     one_n: int | None
     searched: tuple = ()
 
-    def report(self) -> dict:
-        return chain_report(self.plan, self.targets, self.scope, self.model, design=self)
-
 
 def design_chain(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 0.10,
                  lot_size: int | None = None, model: str | None = None,
@@ -204,23 +211,24 @@ def design_chain(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 0
         :func:`lotwise.families.single.design_single`, is needed); ``reachable``
         holds the best producer's risk found.
     """
-    from lotwise.families.single import Targets, _check_lot, _check_targets, _Kernel, _n_min
+    from lotwise.core.types import Targets
+    from lotwise.core.search import check_lot, check_targets, Kernel, n_min
 
     scope = Scope(lot_size=lot_size, defects=defects)
     model = scope.check_model(model)
     targets = Targets(aql=aql, rql=rql, alpha=alpha, beta=beta)
-    _check_targets(targets, defects)
-    kernel = _Kernel(model, targets, scope)
+    check_targets(targets, defects)
+    kernel = Kernel(model, targets, scope)
     N = lot_size
     if model == "hypergeometric":
-        _check_lot(targets, lot_size, (kernel.d1, kernel.d2))
+        check_lot(targets, lot_size, (kernel.d1, kernel.d2))
         at_aql, at_rql = kernel.d1, kernel.d2
     else:
         at_aql, at_rql = aql, rql
     cap = max_n
     if N is not None:
         cap = N if cap is None else min(cap, N)
-    nz, n1 = (int(v) for v in _n_min(kernel, np.array([0, 1]), beta, cap))
+    nz, n1 = (int(v) for v in n_min(kernel, np.array([0, 1]), beta, cap))
     if nz < 0:
         raise Infeasible(f"no sample up to {cap} meets the consumer's risk even with c = 0",
                          {"n": cap})
@@ -274,115 +282,9 @@ def design_chain(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 0
                        searched=tuple(searched))
 
 
-def _risks(plan, targets, scope, m):
-    if m == "hypergeometric":
-        d1 = oc.lot_count(targets.aql, scope.lot_size, "up")
-        d2 = oc.lot_count(targets.rql, scope.lot_size, "down")
-        pa1, pa2 = float(plan.pa_count(d1, scope)), float(plan.pa_count(d2, scope))
-    else:
-        d1 = d2 = None
-        pa1 = float(plan.pa(targets.aql, m, scope))
-        pa2 = float(plan.pa(targets.rql, m, scope))
-    e = {"pa_aql": pa1, "pa_rql": pa2, "alpha": 1.0 - pa1, "beta": pa2,
-         "meets_alpha": bool(1.0 - pa1 <= targets.alpha + _TOL),
-         "meets_beta": bool(pa2 <= targets.beta + _TOL)}
-    e["meets"] = e["meets_alpha"] and e["meets_beta"]
-    if d1 is not None:
-        e["lot_counts"] = {"aql": d1, "rql": d2}
-    return e
-
-
-def chain_report(plan: ChainPlan, targets, scope: Scope, model: str | None = None, *,
-                 design: ChainDesign | None = None) -> dict:
-    """Result dictionary for a ChSP-1 plan judged against ``targets``.
-
-    Keys: ``scheme`` ("chain"), ``n``, ``i``, ``model``, ``lot_size``,
-    ``targets``, ``models`` (per model ``pa_aql``, ``pa_rql``, ``alpha``,
-    ``beta``, ``meets``), ``pa_aql``, ``pa_rql``, ``alpha``, ``beta``,
-    ``meets`` under ``model``, ``zero_acceptance_same_n`` (the plain c = 0
-    plan of the same ``n`` under ``model``), ``plan_quality`` and
-    ``statements``; designs add ``zero_acceptance_n`` (the c = 0 sample size
-    meeting beta alone) and ``searched``.
-    """
-    from lotwise.analysis.zero import quality_level
-
-    model = scope.check_model(model)
-    models = {m: _risks(plan, targets, scope, m) for m in scope.models}
-    main = models[model]
-    zero = _risks(SinglePlan(n=plan.n, c=0), targets, scope, model)
-    q = {"producer": quality_level(plan, 1.0 - targets.alpha, model, scope, "producer"),
-         "indifference": quality_level(plan, 0.5, model, scope, "indifference"),
-         "consumer": quality_level(plan, targets.beta, model, scope, "consumer")}
-    out = {
-        "scheme": "chain", "n": plan.n, "i": plan.i, "model": model,
-        "lot_size": scope.lot_size, "defects": scope.defects,
-        "targets": targets.as_dict(), "models": models,
-        "pa_aql": main["pa_aql"], "pa_rql": main["pa_rql"], "alpha": main["alpha"],
-        "beta": main["beta"], "meets": main["meets"],
-        "zero_acceptance_same_n": {"n": plan.n, "c": 0, **zero},
-        "plan_quality": q,
-    }
-    if design is not None:
-        out["feasible"] = True
-        out["zero_acceptance_n"] = design.zero_n
-        out["searched"] = [{"i": i, "n": n, "alpha": a} for i, n, a in design.searched]
-    out["statements"] = _statements(out, scope)
-    return out
-
-
-def _statements(r: dict, scope: Scope) -> list[str]:
-    pu = scope.defects
-    t = r["targets"]
-    lv = lambda x: format_level(x, pu)  # noqa: E731
-    z = r["zero_acceptance_same_n"]
-    ok = lambda b: "met" if b else "NOT met"  # noqa: E731
-    m = r["models"][r["model"]]
-    out = [
-        f"Inspect {r['n']} units of every lot; accept on 0 nonconforming, or on 1 if the "
-        f"samples of the {r['i']} preceding lots held none; otherwise reject.",
-        f"Lots at the AQL {lv(t['aql'])} are accepted {format_pct(r['pa_aql'])} of the time: "
-        f"producer's risk {format_pct(r['alpha'])}, target {format_pct(t['alpha'])}, "
-        f"{ok(m['meets_alpha'])}.",
-        f"Lots at the RQL {lv(t['rql'])} are accepted {format_pct(r['pa_rql'])} of the time: "
-        f"consumer's risk {format_pct(r['beta'])}, target {format_pct(t['beta'])}, "
-        f"{ok(m['meets_beta'])}.",
-        f"The plain c = 0 plan with the same n = {r['n']} accepts lots at the AQL only "
-        f"{format_pct(z['pa_aql'])} of the time (producer's risk {format_pct(z['alpha'])}) "
-        f"and lots at the RQL {format_pct(z['pa_rql'])} of the time.",
-        "Chain sampling assumes a continuing series of lots of the same product from a steady "
-        "process, inspected in the order produced; for isolated lots or a new supplier use a "
-        "single plan.",
-        "Sampling cannot guarantee a lot free of nonconforming items; critical characteristics "
-        "need 100 % inspection or stricter plans as contracts and regulations require.",
-    ]
-    if "zero_acceptance_n" in r:
-        out.insert(4, f"A c = 0 plan meeting the consumer's risk alone needs "
-                      f"n = {r['zero_acceptance_n']}.")
-    return out
-
-
-def render_chain(rep: dict, title: str) -> str:
-    from lotwise.analysis.report import table
-
-    pu = rep["defects"]
-    t = rep["targets"]
-    lot = f"lot of {rep['lot_size']}" if rep["lot_size"] else "no lot size (process)"
-    lines = [title,
-             f"  plan      ChSP-1: n = {rep['n']}, i = {rep['i']}",
-             f"  judged by {rep['model']}; {lot}",
-             f"  targets   AQL {format_level(t['aql'], pu)} at alpha {format_pct(t['alpha'])}, "
-             f"RQL {format_level(t['rql'], pu)} at beta {format_pct(t['beta'])}", ""]
-    rows = []
-    for m, r in rep["models"].items():
-        rows.append([m + (" *" if m == rep["model"] else ""), f"{r['pa_aql']:.5f}",
-                     format_pct(r["alpha"]), f"{r['pa_rql']:.5f}", format_pct(r["beta"]),
-                     "yes" if r["meets"] else "NO"])
-    z = rep["zero_acceptance_same_n"]
-    rows.append([f"c = 0, n = {z['n']}", f"{z['pa_aql']:.5f}", format_pct(z["alpha"]),
-                 f"{z['pa_rql']:.5f}", format_pct(z["beta"]), "yes" if z["meets"] else "NO"])
-    lines.append(table(rows, ["model", "Pa(AQL)", "alpha", "Pa(RQL)", "beta", "meets"]))
-    lines.append("  (* the model the plan is judged by; last row: the plain c = 0 plan of the "
-                 "same n under it)")
-    lines.append("")
-    lines += [f"  - {s}" for s in rep["statements"]]
-    return "\n".join(lines)
+FAMILY = Family(
+    name="chain", plan_class=ChainPlan, parse=parse_chain,
+    design=design_chain,
+    design_options={"i": "number of preceding samples the chain looks back on"},
+    description="chain sampling ChSP-1: accept on one nonconforming after i clean samples",
+)

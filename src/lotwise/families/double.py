@@ -72,13 +72,187 @@ import math
 from dataclasses import dataclass, field
 
 import numpy as np
+from scipy import special
 
-from lotwise.families.multistage import DoublePlan, double_max_asn, stage_cdf, stage_pmf
-from lotwise.families.base import Scope
+from lotwise.core import kernels as oc
 from lotwise.core.quantities import InputError, Infeasible, format_level, format_pct
-from lotwise.families.single import (Targets, _check_lot, _check_targets, _Kernel, _n_min, lot_targets)
+from lotwise.core.search import Kernel, check_lot, check_targets, n_min
+from lotwise.core.stages import finish_shape, stage_cdf, stage_pmf
+from lotwise.core.types import Scope, Targets, lot_targets
+from lotwise.families.base import Family
+from lotwise.families.staged import StagedPlan, build_staged, whole
 
-__all__ = ["DoubleDesign", "design_double", "MINIMIZE", "C2_CAP"]
+__all__ = ["DoublePlan", "DoubleDesign", "design_double", "double_max_asn", "MINIMIZE",
+           "C2_CAP", "FAMILY"]
+
+
+@dataclass(frozen=True, kw_only=True)
+class DoublePlan(StagedPlan):
+    """Double sampling by attributes.
+
+    Inspect ``n1`` units; accept if ``d1 <= c1``, reject if ``d1 >= r1``,
+    otherwise inspect ``n2`` more and accept if ``d1 + d2 <= c2``.
+    ``r1`` defaults to ``c2 + 1``. ``n2 = 0`` is allowed (the plan is then
+    the single plan ``(n1, c2)`` when ``r1 = c2 + 1``).
+
+    Examples
+    --------
+    >>> p = DoublePlan(n1=50, c1=1, n2=100, c2=3)
+    >>> p.r1, p.label
+    (4, 'n1=50, c1=1, r1=4, n2=100, c2=3')
+    """
+
+    n1: int
+    c1: int
+    n2: int
+    c2: int
+    r1: int | None = None
+
+    scheme = "double"
+
+    def __post_init__(self):
+        whole(self.n1, "n1", 1)
+        whole(self.c1, "c1", 0)
+        whole(self.n2, "n2", 0)
+        whole(self.c2, "c2", 0)
+        if self.r1 is None:
+            object.__setattr__(self, "r1", int(self.c2) + 1)
+        whole(self.r1, "r1", 1)
+        if self.c2 < self.c1:
+            raise InputError(f"c2 ({self.c2}) must not be smaller than c1 ({self.c1})")
+        if self.r1 <= self.c1:
+            raise InputError(f"r1 ({self.r1}) must be greater than c1 ({self.c1})")
+        if self.r1 > self.c2 + 1:
+            raise InputError(f"r1 ({self.r1}) must not be greater than c2 + 1 "
+                             f"({self.c2 + 1}): a first-sample count above c2 can never be "
+                             "accepted")
+        if self.c1 > self.n1:
+            raise InputError(f"c1 ({self.c1}) must not be greater than n1 ({self.n1})")
+
+    @property
+    def sizes(self):
+        return (int(self.n1), int(self.n2))
+
+    @property
+    def acc(self):
+        return (int(self.c1), int(self.c2))
+
+    @property
+    def rej(self):
+        return (int(self.r1), int(self.c2) + 1)
+
+    @property
+    def label(self) -> str:
+        return f"n1={self.n1}, c1={self.c1}, r1={self.r1}, n2={self.n2}, c2={self.c2}"
+
+    def notation(self) -> str:
+        return f"n1={self.n1},c1={self.c1},r1={self.r1},n2={self.n2},c2={self.c2}"
+
+    def _parts(self, x, model, scope):
+        """First-stage acceptance, second-stage acceptance and the
+        probability of a second sample (the textbook formula)."""
+        N = scope.lot_size
+        acc1 = stage_cdf(self.c1, self.n1, model, x, N)
+        acc2 = np.zeros_like(acc1)
+        second = np.zeros_like(acc1)
+        for d1 in range(self.c1 + 1, self.r1):
+            f = stage_pmf(d1, self.n1, model, x, N)
+            second = second + f
+            acc2 = acc2 + f * stage_cdf(self.c2 - d1, self.n2, model, x, N, self.n1, d1)
+        return acc1, acc2, second
+
+    def pa(self, p, model: str, scope: Scope, rounding: str = "nearest"):
+        x = self._x(p, model, scope, rounding)
+        a1, a2, _ = self._parts(x, model, scope)
+        return finish_shape(a1 + a2, np.shape(p))
+
+    def pa_stages(self, p, model: str, scope: Scope, rounding: str = "nearest"):
+        """``(Pa on the first sample, Pa on the second)``."""
+        x = self._x(p, model, scope, rounding)
+        a1, a2, _ = self._parts(x, model, scope)
+        return finish_shape(a1, np.shape(p)), finish_shape(a2, np.shape(p))
+
+    def pa_count(self, d, scope: Scope):
+        a1, a2, _ = self._parts(np.asarray(d, dtype=float), "hypergeometric", scope)
+        return finish_shape(a1 + a2, np.shape(d))
+
+    def asn(self, p, model: str, scope: Scope, rounding: str = "nearest"):
+        x = self._x(p, model, scope, rounding)
+        _, _, second = self._parts(x, model, scope)
+        return finish_shape(self.n1 + self.n2 * second, np.shape(p))
+
+    def to_dict(self) -> dict:
+        return {"scheme": "double", "n1": int(self.n1), "c1": int(self.c1),
+                "r1": int(self.r1), "n2": int(self.n2), "c2": int(self.c2)}
+
+    def max_asn(self, model: str, scope: Scope) -> tuple[float, float]:
+        """Closed form of the largest ASN (see :func:`double_max_asn`)."""
+        return double_max_asn(self.n1, self.c1, self.r1, self.n2, model, scope.lot_size)
+
+
+def double_max_asn(n1, c1, r1, n2, model: str, N=None):
+    """Largest full-inspection ASN of double plans over the OC curve, closed form.
+
+    ``ASN = n1 + n2 G`` with ``G = P(c1 < d1 <= r1 - 1)``. Under the binomial
+    model ``dG/dp = n1 [b(c1; n1-1, p) - b(r1-1; n1-1, p)]`` (``b`` the
+    binomial mass), and the ratio of the two masses rises in ``p``, so ``G``
+    has one maximum, where ``(p/(1-p))^(r1-1-c1) = C(n1-1, c1) / C(n1-1, r1-1)``.
+    Under the Poisson model ``lambda^(r1-1-c1) = (r1-1)! / c1!``. Under the
+    hypergeometric model ``G(D+1) - G(D)`` has the sign of
+    ``P_D(c1) (n1 - c1) - P_D(r1-1) (n1 - r1 + 1)`` (turning one conforming
+    item nonconforming), which changes sign once because the hypergeometric
+    family has a monotone likelihood ratio in ``D``; the maximum is at the
+    first ``D`` where it is not positive, found by bisection.
+
+    Vectorised over the plan arguments. Returns ``(max ASN, level)`` where
+    the level is ``p`` (or ``D / N``).
+    """
+    n1, c1, r1, n2 = (np.asarray(v, dtype=float) for v in np.broadcast_arrays(n1, c1, r1, n2))
+    top = r1 - 1.0
+    with np.errstate(all="ignore"):
+        if model == "binomial":
+            lc = (special.gammaln(n1) - special.gammaln(c1 + 1) - special.gammaln(n1 - c1))
+            lt = (special.gammaln(n1) - special.gammaln(top + 1) - special.gammaln(n1 - top))
+            odds = np.exp((lc - lt) / np.maximum(top - c1, 1.0))
+            p = odds / (1.0 + odds)
+            p = np.where(top >= n1, 1.0, p)
+            x = p
+            level = p
+        elif model == "poisson":
+            lam = np.exp((special.gammaln(top + 1) - special.gammaln(c1 + 1))
+                         / np.maximum(top - c1, 1.0))
+            x = lam / n1
+            level = x
+        elif model == "hypergeometric":
+            def delta_nonpos(D):
+                a = oc.hypergeometric_pmf(c1, n1, N, D) * (n1 - c1)
+                b = oc.hypergeometric_pmf(top, n1, N, D) * (n1 - top)
+                # Both masses vanish below c1 (G flat at 0: not yet past the
+                # maximum) and a alone vanishes for D so large that more than
+                # c1 are certain (past it).
+                return np.where(a > 0, a <= b, D >= c1)
+            lo = np.full(n1.shape, -1.0)   # delta > 0 below (or D = -1)
+            hi = np.full(n1.shape, float(N))  # G(N) side: treat as non-positive
+            while np.any(hi - lo > 1):
+                mid = np.floor((lo + hi) / 2)
+                ok = delta_nonpos(np.maximum(mid, 0.0)) | (mid >= N)
+                hi = np.where(ok & (hi - lo > 1), mid, hi)
+                lo = np.where(~ok & (hi - lo > 1), mid, lo)
+            x = np.clip(hi, 0.0, float(N))
+            level = x / N
+        else:
+            raise InputError(f"model ({model}) must be one of: {', '.join(oc.MODELS)}")
+        g = np.zeros(n1.shape)
+        jmax = int(np.max(top - c1)) if n1.size else 0
+        for j in range(1, jmax + 1):
+            d1 = c1 + j
+            g = g + np.where(d1 <= top, stage_pmf(d1, n1, model, x, N), 0.0)
+    out = n1 + n2 * g
+    if out.ndim == 0:
+        return float(out), float(level)
+    return out, level
+
+
 
 MINIMIZE = ("asn-aql", "asn-max")
 C2_CAP = 2000
@@ -187,7 +361,7 @@ def design_double(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 
     scope = Scope(lot_size=lot_size, defects=defects)
     model = scope.check_model(model)
     targets = Targets(aql=aql, rql=rql, alpha=alpha, beta=beta)
-    _check_targets(targets, defects)
+    check_targets(targets, defects)
     if isinstance(ratio, bool) or not isinstance(ratio, (int, float)) or not math.isfinite(ratio) \
             or not 0.1 <= ratio <= 10:
         raise InputError(f"--ratio ({ratio}) must be a number from 0.1 to 10 (n2 / n1)")
@@ -199,8 +373,8 @@ def design_double(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 
     counts = None
     if model == "hypergeometric":
         counts = lot_targets(targets, lot_size)
-        _check_lot(targets, lot_size, counts)
-    kernel = _Kernel(model, targets, scope)
+        check_lot(targets, lot_size, counts)
+    kernel = Kernel(model, targets, scope)
 
     # Largest n1 the bounds allow (n1 + n2 within the lot and --max-n).
     cap_total = max_n
@@ -216,7 +390,7 @@ def design_double(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 
 
     def lower_bound(c2: int) -> int | None:
         """Smallest n1 with n1 + n2 >= n_single(c2); None if no single n fits."""
-        ns = int(_n_min(kernel, np.array([c2]), beta, cap_total)[0])
+        ns = int(n_min(kernel, np.array([c2]), beta, cap_total)[0])
         if ns < 0:
             return None
         n1 = max(1, int(math.floor((ns - 0.5) / (1 + ratio))) - 1)
@@ -434,3 +608,17 @@ def _branch_and_bound(ev, c1, c2, n_lo, n_hi, ratio, minimize, cand):
         ci = np.concatenate([ci, ci])
         a, b = np.concatenate([a, mid + 1]), np.concatenate([mid, b])
     return best
+
+
+def parse_double(pairs: dict, text: str, option: str):
+    """Double-plan notation (more indexed stages make a multiple plan)."""
+    return build_staged(pairs, text, option)
+
+
+FAMILY = Family(
+    name="double", plan_class=DoublePlan, parse=parse_double, keys_hint=("n1",),
+    design=design_double,
+    design_options={"ratio": "second sample as a multiple of the first",
+                    "minimize": "asn-aql (default), asn-rql or asn-max"},
+    description="double sampling: a second sample when the first is inconclusive",
+)

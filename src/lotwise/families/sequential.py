@@ -39,7 +39,7 @@ Exact OC and ASN
 ----------------
 The exact acceptance probability and average sample number of the
 truncated plan come from a dynamic program over (units inspected, count
-found), :func:`lotwise.families.multistage.unit_walk`: the probability of every count
+found), :func:`lotwise.core.stages.unit_walk`: the probability of every count
 among still-undecided lots is carried unit by unit, the mass at or below the
 acceptance number accepted and at or above the rejection number rejected.
 Only the band between the lines is stored (width about ``h1 + h2``), so a
@@ -91,11 +91,17 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from lotwise.families.multistage import Decision, _check_record, _finish, _level_to_x, unit_walk
-from lotwise.families.base import Scope
-from lotwise.core.quantities import (InputError, parse_count, parse_fraction, parse_level, parse_risk)
+from lotwise.core.search import check_lot, check_targets
+from lotwise.core.stages import finish_shape, level_to_x, unit_walk
+from lotwise.core.types import Scope, Targets, lot_targets
+from lotwise.families.base import Decision, Family, Plan, check_record
+from lotwise.core import kernels as oc
+from lotwise.core.quantities import (InputError, Infeasible, parse_count, parse_fraction, parse_level,
+                                     parse_risk)
+from lotwise.families.single import design_single
 
-__all__ = ["sprt_lines", "SequentialPlan", "wald_pa", "wald_asn", "wald_theta"]
+__all__ = ['sprt_lines', 'SequentialPlan', 'wald_pa', 'wald_asn', 'wald_theta', 'SequentialDesign', 'design_sequential', 'TRUNCATE_FACTOR']
+
 
 _EPS = 1e-9  # a line value within this of a whole number counts as that number
 
@@ -192,7 +198,7 @@ def wald_pa(p, h1: float, h2: float, s: float, defects: bool = False):
     """Wald's approximate OC of the untruncated SPRT with lines ``h1, h2, s``."""
     shape = np.shape(p)
     out = _pa_of_theta(wald_theta(p, s, defects), h1, h2)
-    return _finish(out, shape)
+    return finish_shape(out, shape)
 
 
 def wald_asn(p, h1: float, h2: float, s: float, defects: bool = False):
@@ -205,7 +211,7 @@ def wald_asn(p, h1: float, h2: float, s: float, defects: bool = False):
         out = (h2 - (h1 + h2) * pa) / (pp - s)
         near = np.abs(pp - s) <= 1e-7 * s
         out = np.where(near, h1 * h2 / var_s, out)
-    return _finish(out, shape)
+    return finish_shape(out, shape)
 
 
 # --- the plan ---------------------------------------------------------------
@@ -219,7 +225,7 @@ def _ceil(x: float) -> int:
 
 
 @dataclass(frozen=True, kw_only=True)
-class SequentialPlan:
+class SequentialPlan(Plan):
     """Wald's item-by-item sequential plan truncated at ``truncate`` units.
 
     Parameters
@@ -292,7 +298,12 @@ class SequentialPlan:
         return (f"h1={self.h1:.4g}, h2={self.h2:.4g}, s={self.s:.4g}, "
                 f"truncate={self.truncate}")
 
+    varying_sample = True
+
     @property
+    def max_sample(self) -> int:
+        return int(self.truncate)
+
     def notation(self) -> str:
         return (f"sequential: h1={self.h1!r},h2={self.h2!r},s={self.s!r},"
                 f"truncate={self.truncate}")
@@ -320,48 +331,61 @@ class SequentialPlan:
         return acc, rej
 
     def _walk(self, p, model, scope, rounding, curtailed=False):
-        x = _level_to_x(p, model, scope, rounding, self.truncate)
+        x = level_to_x(p, model, scope, rounding, self.truncate)
         early = model != "poisson" and not scope.defects
         acc, rej = self._bounds(curtailed, early)
         return unit_walk(acc, rej, model, np.atleast_1d(x), scope.lot_size)
 
     def pa(self, p, model: str, scope: Scope, rounding: str = "nearest"):
         """Exact acceptance probability of the truncated plan."""
-        return _finish(self._walk(p, model, scope, rounding).pa, np.shape(p))
+        return finish_shape(self._walk(p, model, scope, rounding).pa, np.shape(p))
 
     def pa_count(self, d, scope: Scope):
         x = np.atleast_1d(np.asarray(d, dtype=float))
         acc, rej = self._bounds()
         res = unit_walk(acc, rej, "hypergeometric", x, scope.lot_size)
-        return _finish(res.pa, np.shape(d))
+        return finish_shape(res.pa, np.shape(d))
 
     def asn(self, p, model: str, scope: Scope, rounding: str = "nearest"):
         """Exact average sample number of the truncated plan."""
-        return _finish(self._walk(p, model, scope, rounding).asn, np.shape(p))
+        return finish_shape(self._walk(p, model, scope, rounding).asn, np.shape(p))
 
     def asn_curtailed(self, p, model: str, scope: Scope, rounding: str = "nearest"):
         """Exact ASN when the truncation decision is also taken as soon as it
         is certain."""
-        return _finish(self._walk(p, model, scope, rounding, curtailed=True).asn, np.shape(p))
+        return finish_shape(self._walk(p, model, scope, rounding, curtailed=True).asn, np.shape(p))
 
     def oc_asn(self, p, model: str, scope: Scope, rounding: str = "nearest"):
         """``(Pa, ASN)`` from one pass of the dynamic program."""
         res = self._walk(p, model, scope, rounding)
-        return _finish(res.pa, np.shape(p)), _finish(res.asn, np.shape(p))
+        return finish_shape(res.pa, np.shape(p)), finish_shape(res.asn, np.shape(p))
 
-    def aoq(self, p, model: str, scope: Scope, rounding: str = "nearest"):
-        """Average outgoing quality under rectifying inspection (lot size known)."""
-        if not scope.lot_size:
-            raise InputError("AOQ and ATI need a lot size (--lot-size)")
+    exact_finite_aoq = True
+
+    def aoq(self, p, model: str, scope: Scope, *, formula: str = "screened",
+            rounding: str = "nearest"):
+        """Average outgoing quality under rectifying inspection (lot size known):
+        exact, from the walk's expected nonconforming items left in accepted
+        lots (``formula='simple'``: ``p Pa``)."""
+        if formula != "screened" or not scope.lot_size:
+            return super().aoq(p, model, scope, formula=formula, rounding=rounding)
         res = self._walk(p, model, scope, rounding)
-        return _finish(res.left_in_accepted / scope.lot_size, np.shape(p))
+        return finish_shape(res.left_in_accepted / scope.lot_size, np.shape(p))
 
-    def ati(self, p, model: str, scope: Scope, rounding: str = "nearest"):
+    def aoq_count(self, d, scope: Scope, *, formula: str = "screened"):
+        d = np.asarray(d, dtype=float)
+        return self.aoq(d / float(scope.lot_size), "hypergeometric", scope, formula=formula)
+
+    def ati_count(self, d, scope: Scope):
+        d = np.asarray(d, dtype=float)
+        return self.ati(d / float(scope.lot_size), "hypergeometric", scope)
+
+    def ati(self, p, model: str, scope: Scope, *, rounding: str = "nearest"):
         """Average total inspection per lot (rejected lots inspected in full)."""
         if not scope.lot_size:
             raise InputError("AOQ and ATI need a lot size (--lot-size)")
         res = self._walk(p, model, scope, rounding)
-        return _finish(res.accepted_units + scope.lot_size * (1.0 - res.pa), np.shape(p))
+        return finish_shape(res.accepted_units + scope.lot_size * (1.0 - res.pa), np.shape(p))
 
     # Wald ------------------------------------------------------------------
     def wald_pa(self, p, defects: bool = False):
@@ -375,7 +399,7 @@ class SequentialPlan:
     # on the bench ----------------------------------------------------------
     def decide(self, inspected: int, found: int, *, defects: bool = False) -> Decision:
         """Accept, reject or continue after ``inspected`` units with ``found``."""
-        _check_record(inspected, found, self.truncate, defects)
+        check_record(inspected, found, self.truncate, defects)
         n0 = self.truncate
         n, d = inspected, found
         if n >= 1:
@@ -417,7 +441,7 @@ class SequentialPlan:
                                 f"decision comes after {nxt - n} unit(s)"))
 
 
-def _parse_sequential(pairs: dict, text: str, option: str) -> SequentialPlan:
+def parse_sequential(pairs: dict, text: str, option: str) -> SequentialPlan:
     """``sequential: h1=1.22,h2=1.57,s=0.0281,truncate=300`` or
     ``sequential: p1=1%,alpha=5%,p2=6%,beta=10%,truncate=300`` (lines for a
     fraction nonconforming)."""
@@ -463,3 +487,123 @@ def _parse_sequential(pairs: dict, text: str, option: str) -> SequentialPlan:
     h1, h2, s = sprt_lines(p1, al, p2, be)
     return SequentialPlan(h1=h1, h2=h2, s=s, truncate=t)
 
+
+# --- design ------------------------------------------------------------
+
+TRUNCATE_FACTOR = 3
+
+
+@dataclass(frozen=True, kw_only=True)
+class SequentialDesign:
+    """Result of :func:`design_sequential`.
+
+    Attributes
+    ----------
+    plan : SequentialPlan
+    model, scope, targets
+    wald : dict
+        ``pa_aql, pa_rql, asn_aql, asn_rql`` from Wald's approximations.
+    exact : dict
+        The same for the truncated plan, exactly, plus ``alpha``, ``beta``,
+        ``meets`` and the curtailed ASN.
+    truncate_source : str
+        ``"given"`` or how the default was found.
+    single_n : int or None
+        Sample size of the single plan for the same risks.
+    """
+
+    plan: SequentialPlan
+    model: str
+    scope: Scope
+    targets: Targets
+    wald: dict
+    exact: dict
+    truncate_source: str
+    single_n: int | None = None
+
+    def numbers(self) -> dict:
+        """Acceptance and rejection numbers for each n (``None`` where impossible)."""
+        ns, a, r = self.plan.numbers()
+        per_unit = self.scope.defects
+        return {"n": [int(v) for v in ns],
+                "accept": [int(v) if v >= 0 else None for v in a],
+                "reject": [int(rv) if (per_unit or rv <= n) else None for n, rv in zip(ns, r)]}
+
+    def report_extra(self) -> dict:
+        return {"feasible": True, "h1": self.plan.h1, "h2": self.plan.h2, "s": self.plan.s,
+                "truncate": self.plan.truncate, "truncate_source": self.truncate_source,
+                "single_n": self.single_n, "wald": self.wald, "exact": self.exact,
+                "numbers": self.numbers()}
+
+
+def design_sequential(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 0.10,
+                      lot_size: int | None = None, model: str | None = None,
+                      defects: bool = False, truncate: int | None = None) -> SequentialDesign:
+    """Wald's sequential plan for the two risk points, truncated and evaluated exactly.
+
+    Raises
+    ------
+    Infeasible
+        When the risk points are out of order or the lot cannot tell them apart.
+    InputError
+        For a truncation point beyond the lot size or below 1.
+    """
+    scope = Scope(lot_size=lot_size, defects=defects)
+    model = scope.check_model(model)
+    targets = Targets(aql=aql, rql=rql, alpha=alpha, beta=beta)
+    check_targets(targets, defects)
+    if model == "hypergeometric":
+        check_lot(targets, lot_size, lot_targets(targets, lot_size))
+    h1, h2, s = sprt_lines(aql, alpha, rql, beta, defects=defects)
+    single_n = None
+    try:
+        single_n = design_single(aql=aql, rql=rql, alpha=alpha, beta=beta, lot_size=lot_size,
+                                 model=model, defects=defects).n
+    except Infeasible:
+        single_n = None
+    if truncate is not None:
+        if isinstance(truncate, bool) or not isinstance(truncate, int) or truncate < 1:
+            raise InputError(f"--truncate ({truncate}) must be a whole number of at least 1")
+        if lot_size is not None and truncate > lot_size:
+            raise InputError(f"--truncate ({truncate}) must not be greater than the lot size "
+                             f"({lot_size})")
+        source = "given"
+    else:
+        if single_n is None:
+            if lot_size is None:
+                raise Infeasible("no single plan meets the risks, so there is no default "
+                                 "truncation point; give --truncate")
+            truncate, source = lot_size, "the lot size (no single plan meets the risks)"
+        else:
+            truncate = TRUNCATE_FACTOR * single_n
+            source = f"{TRUNCATE_FACTOR} x the single plan's n = {single_n}"
+            if lot_size is not None and truncate > lot_size:
+                truncate, source = lot_size, source + ", capped at the lot size"
+    plan = SequentialPlan(h1=h1, h2=h2, s=s, truncate=int(truncate))
+    wald = {"pa_aql": float(plan.wald_pa(aql, defects)),
+            "pa_rql": float(plan.wald_pa(rql, defects)),
+            "asn_aql": float(plan.wald_asn(aql, defects)),
+            "asn_rql": float(plan.wald_asn(rql, defects))}
+    if model == "hypergeometric":
+        d1, d2 = (oc.lot_count(aql, lot_size, "up"), oc.lot_count(rql, lot_size, "down"))
+        la, lr = d1 / lot_size, d2 / lot_size
+    else:
+        la, lr = aql, rql
+    pa, asn = plan.oc_asn([la, lr], model, scope)
+    cur = plan.asn_curtailed([la, lr], model, scope)
+    tol = 1e-12
+    exact = {"pa_aql": float(pa[0]), "pa_rql": float(pa[1]),
+             "asn_aql": float(asn[0]), "asn_rql": float(asn[1]),
+             "asn_curtailed_aql": float(cur[0]), "asn_curtailed_rql": float(cur[1]),
+             "alpha": 1.0 - float(pa[0]), "beta": float(pa[1]), "model": model,
+             "meets": bool(1.0 - pa[0] <= alpha + tol and pa[1] <= beta + tol)}
+    return SequentialDesign(plan=plan, model=model, scope=scope, targets=targets, wald=wald,
+                            exact=exact, truncate_source=source, single_n=single_n)
+
+
+FAMILY = Family(
+    name="sequential", plan_class=SequentialPlan, parse=parse_sequential, keys_hint=("h1",),
+    design=design_sequential,
+    design_options={"truncate": "largest number of units before a forced decision"},
+    description="item-by-item sequential sampling (Wald's SPRT), truncated",
+)

@@ -57,31 +57,150 @@ import numpy as np
 from scipy import special
 
 from lotwise.core import kernels as oc
-from lotwise.families.base import Scope, SinglePlan
-from lotwise.core.quantities import InputError, Infeasible, format_level, format_pct
+from lotwise.core.quantities import InputError, Infeasible, format_pct, parse_count
+from lotwise.core.search import Kernel, c_min, check_lot, check_targets, n_min
+from lotwise.core.types import TOL, Scope, Targets, lot_counts, lot_targets
+from lotwise.families.base import Decision, Family, Plan
 
-__all__ = ["Targets", "SingleDesign", "design_single", "lot_targets", "min_sample_size"]
-
-_TOL = 1e-12  # slack for floating-point ties at a risk boundary
-
+__all__ = ["SinglePlan", "SingleDesign", "design_single", "min_sample_size", "FAMILY",
+           "Targets", "lot_targets"]
 
 @dataclass(frozen=True, kw_only=True)
-class Targets:
-    """Quality levels and risks agreed between buyer and supplier."""
+class SinglePlan(Plan):
+    """Single sampling by attributes: inspect ``n`` units, accept the lot when
+    at most ``c`` are nonconforming, reject it on ``c + 1`` or more."""
 
-    aql: float
-    rql: float
-    alpha: float = 0.05
-    beta: float = 0.10
+    n: int
+    c: int
 
-    def as_dict(self) -> dict:
-        return {"aql": self.aql, "alpha": self.alpha, "rql": self.rql, "beta": self.beta}
+    exact_finite_aoq = True
+
+    def __post_init__(self):
+        if not isinstance(self.n, (int, np.integer)) or self.n < 1:
+            raise InputError(f"n ({self.n}) must be a whole number of at least 1")
+        if not isinstance(self.c, (int, np.integer)) or self.c < 0:
+            raise InputError(f"c ({self.c}) must be a whole number of at least 0")
+        if self.c > self.n:
+            raise InputError(f"c ({self.c}) must not be greater than n ({self.n})")
+
+    scheme = "single"
+
+    @property
+    def r(self) -> int:
+        """Rejection number."""
+        return self.c + 1
+
+    @property
+    def label(self) -> str:
+        return f"n={self.n}, c={self.c}"
+
+    def pa(self, p, model: str, scope: Scope, rounding: str = "nearest"):
+        """Acceptance probability at quality level(s) ``p`` under ``model``.
+
+        Under the hypergeometric model ``p`` is turned into a whole count of
+        nonconforming items in the lot with ``rounding`` (see
+        :func:`lot_counts`).
+        """
+        if model == "hypergeometric":
+            if not scope.lot_size:
+                raise InputError("the hypergeometric model needs a lot size")
+            if self.n > scope.lot_size:
+                raise InputError(f"n ({self.n}) must not be greater than the lot size "
+                                 f"({scope.lot_size})")
+            d = lot_counts(p, scope.lot_size, rounding)
+            return oc.pa_hypergeometric(self.n, self.c, scope.lot_size, d)
+        if model == "binomial":
+            return oc.pa_binomial(self.n, self.c, p)
+        if model == "poisson":
+            return oc.pa_poisson(self.n, self.c, p)
+        raise InputError(f"model ({model}) must be one of: {', '.join(oc.MODELS)}")
+
+    def pa_count(self, d, scope: Scope):
+        """Acceptance probability for a lot holding ``d`` nonconforming items."""
+        return oc.pa_hypergeometric(self.n, self.c, scope.lot_size, d)
+
+    @property
+    def max_sample(self) -> int:
+        return int(self.n)
+
+    def notation(self) -> str:
+        return f"n={self.n},c={self.c}"
+
+    def quality_at(self, prob: float, model: str, scope: Scope, side: str = "producer") -> float:
+        """Closed forms under the binomial (beta quantile) and Poisson (gamma
+        quantile) models; whole counts under the hypergeometric one."""
+        if self.c >= self.n and model != "poisson":
+            return 1.0  # accepts every lot
+        if model == "binomial":
+            return float(special.betainccinv(self.c + 1.0, self.n - self.c, prob))
+        if model == "poisson":
+            return float(special.gammainccinv(self.c + 1.0, prob)) / self.n
+        return super().quality_at(prob, model, scope, side)
+
+    def aoq_count(self, d, scope: Scope, *, formula: str = "screened"):
+        """Exact finite-lot AOQ ``(D/N)((N - n)/N) Pa(n, c | N - 1, D - 1)``
+        (see :mod:`lotwise.analysis.rectifying`)."""
+        if formula != "screened":
+            return super().aoq_count(d, scope, formula=formula)
+        out = aoq_hyper_single(self.n, self.c, float(scope.lot_size), d)
+        return float(out) if np.ndim(out) == 0 else out
+
+    def aoq_function(self, model: str, scope: Scope, *, formula: str = "screened"):
+        """``p -> AOQ(p)`` on floats: the incomplete beta/gamma expressions of
+        :mod:`lotwise.core.kernels` without array overhead."""
+        if model == "hypergeometric":
+            return super().aoq_function(model, scope, formula=formula)
+        n, c = float(self.n), float(self.c)
+        N = scope.lot_size
+        k = 1.0 if (not N or formula == "simple") else (N - n) / N
+        if model == "poisson":
+            return lambda p: p * float(special.gammaincc(c + 1.0, n * p)) * k if p > 0 else 0.0
+        if c >= n:
+            return lambda p: p * k
+        return lambda p: (p * float(special.betaincc(c + 1.0, n - c, p)) * k) if 0 < p < 1 else 0.0
+
+    def decide(self, inspected: int, found: int, *, defects: bool = False) -> Decision:
+        """Continue to ``n`` units unless the decision is already certain."""
+        from lotwise.families.staged import StagedPlan
+
+        return StagedPlan.single(self).decide(inspected, found, defects=defects)
+
+    def to_dict(self) -> dict:
+        return {"scheme": "single", "n": int(self.n), "c": int(self.c)}
 
 
-def lot_targets(targets: Targets, lot_size: int) -> tuple[int, int]:
-    """Whole counts ``(D1, D2)`` of nonconforming items at the AQL (rounded up)
-    and at the RQL (rounded down) for a lot of ``lot_size``."""
-    return (oc.lot_count(targets.aql, lot_size, "up"), oc.lot_count(targets.rql, lot_size, "down"))
+
+def aoq_hyper_single(n, c, N, d):
+    """Exact finite-lot AOQ of single plans ``(D/N)((N - n)/N) Pa(n, c | N - 1, D - 1)``,
+    zero at ``D = 0`` or ``n = N`` (vectorised over ``n``, ``c`` and ``d``)."""
+    d = np.asarray(d, dtype=float)
+    n = np.asarray(n, dtype=float)
+    inside = (d >= 1) & (n < N)
+    nn = np.where(inside, n, 1.0)
+    dd = np.where(inside, d - 1.0, 0.0)
+    pa = np.asarray(oc.pa_hypergeometric(nn, c, N - 1.0, dd), dtype=float)
+    return np.where(inside, d / N * (N - n) / N * pa, 0.0)
+
+
+def parse_single(pairs: dict, text: str, option: str) -> SinglePlan:
+    allowed = {"n", "c", "r"}
+    unknown = sorted(set(pairs) - allowed)
+    if unknown:
+        raise InputError(f"{option} ({text!r}): unknown key {unknown[0]!r}; "
+                         "a single plan takes n, c and optionally r = c + 1")
+    for key in ("n", "c"):
+        if key not in pairs:
+            raise InputError(f"{option} ({text!r}) lacks {key}; write for example \"n=80,c=2\"")
+    n = parse_count(pairs["n"], f"{option} n", minimum=1)
+    c = parse_count(pairs["c"], f"{option} c", minimum=0)
+    if c > n:
+        raise InputError(f"{option} c ({c}) must not be greater than n ({n})")
+    if "r" in pairs:
+        r = parse_count(pairs["r"], f"{option} r", minimum=1)
+        if r != c + 1:
+            raise InputError(f"{option} r ({r}) must be c + 1 ({c + 1}) for a single plan")
+    return SinglePlan(n=n, c=c)
+
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -129,115 +248,6 @@ class SingleDesign:
                 f"lot_size={self.scope.lot_size}{extra})")
 
 
-class _Kernel:
-    """``Pa`` at the AQL and at the RQL for arrays of ``n`` and ``c``."""
-
-    def __init__(self, model: str, targets: Targets, scope: Scope):
-        self.model = model
-        self.t = targets
-        self.N = scope.lot_size
-        if model == "hypergeometric":
-            self.d1, self.d2 = lot_targets(targets, self.N)
-
-    def at_aql(self, n, c):
-        return self._pa(n, c, self.t.aql, "d1")
-
-    def at_rql(self, n, c):
-        return self._pa(n, c, self.t.rql, "d2")
-
-    def _pa(self, n, c, level, count):
-        if self.model == "binomial":
-            return np.asarray(oc.pa_binomial(n, c, level))
-        if self.model == "poisson":
-            return np.asarray(oc.pa_poisson(n, c, level))
-        return np.asarray(oc.pa_hypergeometric(n, c, self.N, getattr(self, count)))
-
-
-def _initial_upper(kernel: _Kernel, c: np.ndarray, beta: float) -> np.ndarray:
-    """A first guess at a sample size meeting the consumer's risk for each
-    ``c``, from the Poisson approximation; :func:`_n_min` checks it and
-    doubles it (up to the cap) where it falls short."""
-    lam = special.gammainccinv(c + 1.0, beta)  # Poisson mean with Pa = beta
-    guess = np.ceil(1.05 * lam / kernel.t.rql) + 2
-    guess = np.maximum(guess, c + 1)
-    if kernel.model == "hypergeometric":
-        guess = np.minimum(guess, kernel.N)
-    return guess.astype(np.int64)
-
-
-def _n_min(kernel: _Kernel, c: np.ndarray, beta: float, cap: int | None) -> np.ndarray:
-    """Smallest ``n`` with ``Pa(RQL; n, c) <= beta`` for each ``c``; ``-1`` where
-    none exists up to ``cap`` (or the lot size).
-
-    Integer bisection: ``Pa`` falls in ``n`` (documented in :mod:`lotwise.core.kernels`).
-    """
-    c = np.asarray(c, dtype=np.int64)
-    hi = _initial_upper(kernel, c, beta)
-    limit = cap if cap is not None else None
-    if kernel.model == "hypergeometric":
-        limit = kernel.N if limit is None else min(limit, kernel.N)
-    if limit is not None:
-        hi = np.minimum(hi, limit)
-    ok = kernel.at_rql(hi, c) <= beta + _TOL
-    # Grow the bracket where the guess was too small (binomial/poisson only).
-    while True:
-        grow = ~ok
-        if limit is not None:
-            grow &= hi < limit
-        if not grow.any():
-            break
-        new = hi[grow] * 2
-        if limit is not None:
-            new = np.minimum(new, limit)
-        hi[grow] = new
-        ok[grow] = kernel.at_rql(hi[grow], c[grow]) <= beta + _TOL
-    lo = np.minimum(c, hi - 1)  # n = c accepts every lot, so Pa = 1 > beta
-    lo = np.maximum(lo, 0)
-    # A tighter lower end where the answer is not far below the bracket's top
-    # (checked: only a size whose Pa still exceeds beta may serve as ``lo``).
-    near = np.maximum(lo, (0.8 * hi).astype(np.int64))
-    try_ = ok & (near > lo) & (near < hi)
-    if try_.any():
-        above = kernel.at_rql(near[try_], c[try_]) > beta + _TOL
-        idx = np.flatnonzero(try_)[above]
-        lo[idx] = near[idx]
-    act = ok & (hi - lo > 1)
-    while act.any():
-        mid = (lo[act] + hi[act]) // 2
-        good = kernel.at_rql(mid, c[act]) <= beta + _TOL
-        h, l_ = hi[act], lo[act]
-        hi[act] = np.where(good, mid, h)
-        lo[act] = np.where(good, l_, mid)
-        act = ok & (hi - lo > 1)
-    return np.where(ok, hi, -1)
-
-
-def _c_min(kernel: _Kernel, n: int, alpha: float) -> int:
-    """Smallest ``c`` with ``Pa(AQL; n, c) >= 1 - alpha`` (bisection: Pa rises in c)."""
-    lo, hi = -1, n  # c = n accepts every lot
-    while hi - lo > 1:
-        mid = (lo + hi) // 2
-        if float(kernel.at_aql(n, mid)) >= 1.0 - alpha - _TOL:
-            hi = mid
-        else:
-            lo = mid
-    return hi
-
-
-def _check_targets(targets: Targets, per_unit: bool) -> None:
-    if not targets.rql > targets.aql:
-        raise Infeasible(
-            f"the RQL ({format_level(targets.rql, per_unit)}) must be above the AQL "
-            f"({format_level(targets.aql, per_unit)}): no plan can accept the worse quality "
-            "less often than the better",
-            {"aql": targets.aql, "rql": targets.rql})
-    if not targets.alpha + targets.beta < 1:
-        raise Infeasible(
-            f"alpha + beta ({format_pct(targets.alpha)} + {format_pct(targets.beta)}) must be "
-            "below 100 %: otherwise the two risks do not constrain any plan",
-            {"alpha": targets.alpha, "beta": targets.beta})
-
-
 def design_single(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 0.10,
                   lot_size: int | None = None, model: str | None = None,
                   defects: bool = False, n: int | None = None, c: int | None = None,
@@ -277,7 +287,7 @@ def design_single(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 
     scope = Scope(lot_size=lot_size, defects=defects)
     model = scope.check_model(model)
     targets = Targets(aql=aql, rql=rql, alpha=alpha, beta=beta)
-    _check_targets(targets, defects)
+    check_targets(targets, defects)
     if lot_size is not None and lot_size < 1:
         raise InputError(f"--lot-size ({lot_size}) must be at least 1")
     if n is not None and c is not None:
@@ -289,11 +299,11 @@ def design_single(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 
     if n is not None and max_n is not None and n > max_n:
         raise InputError(f"--n ({n}) must not be greater than --max-n ({max_n})")
 
-    kernel = _Kernel(model, targets, scope)
+    kernel = Kernel(model, targets, scope)
     counts = None
     if model == "hypergeometric":
         counts = (kernel.d1, kernel.d2)
-        _check_lot(targets, lot_size, counts)
+        check_lot(targets, lot_size, counts)
 
     def result(nn: int, cc: int) -> SingleDesign:
         full = lot_size is not None and nn >= lot_size
@@ -305,9 +315,9 @@ def design_single(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 
         cap = lot_size if cap is None else min(cap, lot_size)
 
     if n is not None:
-        cc = _c_min(kernel, n, alpha)
+        cc = c_min(kernel, n, alpha)
         b = float(kernel.at_rql(n, cc))
-        if b <= beta + _TOL:
+        if b <= beta + TOL:
             return result(n, cc)
         raise Infeasible(
             f"no acceptance number works with n = {n}: c = {cc} is the smallest that meets "
@@ -316,11 +326,11 @@ def design_single(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 
             {"n": n, "c": cc, "alpha": 1.0 - float(kernel.at_aql(n, cc)), "beta": b})
 
     if c is not None:
-        nm = int(_n_min(kernel, np.array([c]), beta, cap)[0])
+        nm = int(n_min(kernel, np.array([c]), beta, cap)[0])
         if nm < 0:
             raise _cap_infeasible(kernel, targets, cap, lot_size, fixed_c=c)
         a = 1.0 - float(kernel.at_aql(nm, c))
-        if a <= alpha + _TOL:
+        if a <= alpha + TOL:
             return result(nm, c)
         raise Infeasible(
             f"no sample size works with c = {c}: meeting beta ({format_pct(beta)}) needs "
@@ -338,11 +348,11 @@ def design_single(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 
         if stop <= start:
             raise _cap_infeasible(kernel, targets, cap, lot_size)
         cs = np.arange(start, stop, dtype=np.int64)
-        nm = _n_min(kernel, cs, beta, cap)
+        nm = n_min(kernel, cs, beta, cap)
         have = nm >= 0
         feasible = np.zeros_like(have)
         if have.any():
-            feasible[have] = kernel.at_aql(nm[have], cs[have]) >= 1.0 - alpha - _TOL
+            feasible[have] = kernel.at_aql(nm[have], cs[have]) >= 1.0 - alpha - TOL
         if feasible.any():
             i = int(np.argmax(feasible))
             return result(int(nm[i]), int(cs[i]))
@@ -356,23 +366,12 @@ def design_single(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 
                              "the AQL and RQL are too close together")
 
 
-def _check_lot(targets: Targets, lot_size: int, counts: tuple[int, int]) -> None:
-    d1, d2 = counts
-    if d2 < 1 or d1 >= d2:
-        raise Infeasible(
-            f"the lot of {lot_size} is too small to tell the AQL from the RQL: the AQL "
-            f"({format_level(targets.aql)}) rounds up to {d1} nonconforming item(s) and the RQL "
-            f"({format_level(targets.rql)}) rounds down to {d2}; any plan that meets alpha "
-            f"accepts a lot at the RQL at least {format_pct(1 - targets.alpha)} of the time",
-            {"lot_counts": {"aql": d1, "rql": d2}, "beta_min": 1.0 - targets.alpha})
-
-
-def _cap_infeasible(kernel: _Kernel, targets: Targets, cap: int | None, lot_size: int | None,
+def _cap_infeasible(kernel: Kernel, targets: Targets, cap: int | None, lot_size: int | None,
                     fixed_c: int | None = None) -> Infeasible:
     """What is reachable when no plan fits under the cap on ``n``."""
     if cap is None:
         return Infeasible(f"no sample size meets beta with c = {fixed_c}")
-    cc = _c_min(kernel, cap, targets.alpha) if fixed_c is None else fixed_c
+    cc = c_min(kernel, cap, targets.alpha) if fixed_c is None else fixed_c
     a = 1.0 - float(kernel.at_aql(cap, cc))
     b = float(kernel.at_rql(cap, cc))
     what = "the lot size" if lot_size is not None and cap == lot_size else "--max-n"
@@ -404,11 +403,20 @@ def min_sample_size(*, c: int, rql: float, beta: float, lot_size: int | None = N
     if c < 0:
         raise InputError(f"c ({c}) must be at least 0")
     t = Targets(aql=rql / 2, rql=rql, alpha=0.5, beta=beta)
-    kernel = _Kernel(model, t, scope)
+    kernel = Kernel(model, t, scope)
     if model == "hypergeometric" and kernel.d2 <= c:
         raise Infeasible(f"a lot of {lot_size} at the RQL holds only {kernel.d2} nonconforming "
                          f"item(s): c = {c} accepts it whatever the sample")
-    nm = int(_n_min(kernel, np.array([c]), beta, lot_size)[0])
+    nm = int(n_min(kernel, np.array([c]), beta, lot_size)[0])
     if nm < 0:
         raise Infeasible(f"no sample up to the lot size meets beta with c = {c}")
     return nm
+
+
+FAMILY = Family(
+    name="single", plan_class=SinglePlan, parse=parse_single,
+    design=design_single,
+    design_options={"n": "fixed sample size", "c": "fixed acceptance number",
+                    "max_n": "largest affordable sample"},
+    description="single sampling by attributes: inspect n, accept on c or fewer",
+)

@@ -51,13 +51,13 @@ __all__ = ["rectifying_cases", "least_inspection_cases", "zero_acceptance_cases"
 
 
 def _scope(lot=None, defects=False):
-    from lotwise.families.base import Scope
+    from lotwise.core.types import Scope
 
     return Scope(lot_size=lot, defects=defects)
 
 
 def _single(n, c):
-    from lotwise.families.base import SinglePlan
+    from lotwise.families.single import SinglePlan
 
     return SinglePlan(n=n, c=c)
 
@@ -511,7 +511,7 @@ def multistage_cases() -> list:
     area = "double and multiple plans"
 
     def double(**kw):
-        from lotwise.families.multistage import DoublePlan
+        from lotwise.families.double import DoublePlan
 
         return DoublePlan(**kw)
 
@@ -635,7 +635,7 @@ def sequential_cases() -> list:
         return float((wald_pa if what == "pa" else wald_asn)(p, h1, h2, s))
 
     def designed_h1():
-        from lotwise.families.sequential_design import design_sequential
+        from lotwise.families.sequential import design_sequential
 
         return design_sequential(aql=0.01, rql=0.06).plan.h1
 
@@ -705,7 +705,7 @@ def variables_cases() -> list:
     area = "variables plans"
 
     def closed(za, zb, z1, z2):
-        from lotwise.families.variables_design import closed_form_known
+        from lotwise.families.variables import closed_form_known
 
         return closed_form_known(za, zb, z1, z2)
 
@@ -713,7 +713,7 @@ def variables_cases() -> list:
         return closed(_z(0.10), _z(0.10), _z(0.02), _z(0.10))
 
     def design(sigma):
-        from lotwise.families.variables_design import design_variables
+        from lotwise.families.variables import design_variables
 
         return design_variables(aql=0.01, rql=0.06, sigma=sigma, attributes=False)
 

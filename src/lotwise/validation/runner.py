@@ -155,13 +155,13 @@ def _plain(v):
 # --- the single-sampling cases (issue 2 references) ---------------------------
 
 def _scope(lot=None, defects=False):
-    from lotwise.families.base import Scope
+    from lotwise.core.types import Scope
 
     return Scope(lot_size=lot, defects=defects)
 
 
 def _pa(n, c, p, model="binomial", lot=None):
-    from lotwise.families.base import SinglePlan
+    from lotwise.families.single import SinglePlan
 
     return float(SinglePlan(n=n, c=c).pa(p, model, _scope(lot)))
 
@@ -169,7 +169,7 @@ def _pa(n, c, p, model="binomial", lot=None):
 def _unity(c, prob):
     """``n p`` at which the Poisson ``Pa`` of an ``(n, c)`` plan equals ``prob``."""
     from lotwise.analysis.audit import quality_at
-    from lotwise.families.base import SinglePlan
+    from lotwise.families.single import SinglePlan
 
     n = 1_000_000
     return quality_at(SinglePlan(n=n, c=c), prob, "poisson", _scope()) * n
@@ -402,7 +402,7 @@ def records_cases() -> list:
         return (float(lo), float(hi))
 
     def bb():
-        from lotwise.families.base import SinglePlan
+        from lotwise.families.single import SinglePlan
         from lotwise.analysis.supplier import Posterior, rejection_outlook
 
         return rejection_outlook(SinglePlan(n=80, c=2), Posterior.from_counts(14, 3200)).p_reject
@@ -417,7 +417,7 @@ def records_cases() -> list:
         return float(1 - acc)
 
     def quad():
-        from lotwise.families.base import SinglePlan
+        from lotwise.families.single import SinglePlan
         from lotwise.analysis.supplier import Posterior
 
         post = Posterior.from_counts(14, 3200)
@@ -628,9 +628,9 @@ def pdf_report(val: Validation) -> bytes:
 
     from matplotlib.backends.backend_pdf import PdfPages
 
-    from lotwise.documents.plots.style import _mpl
+    from lotwise.documents.plots.style import mpl
 
-    plt = _mpl()
+    plt = mpl()
     import matplotlib
 
     blocks: list[list[tuple[str, str]]] = []  # kept together on a page

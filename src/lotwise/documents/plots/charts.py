@@ -28,7 +28,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from lotwise.documents.plots.style import STYLE, _mpl, _pct_axis, new_axes
+from lotwise.documents.plots.style import STYLE, mpl, pct_axis, new_axes
 
 __all__ = ["run_chart_figure", "run_charts_figure", "tradeoff_figure"]
 
@@ -70,7 +70,7 @@ def run_chart_figure(chart, *, process_average: float, title: str | None = None,
     ax.set_ylim(bottom=0, top=(top or 0.01) * 1.45)  # headroom for the legend
     ax.set_xlabel("Lot, in inspection order", fontsize=9.5)
     ax.set_ylabel("Lot fraction nonconforming (%)", fontsize=9.5)
-    _pct_axis(ax, False, "y")
+    pct_axis(ax, False, "y")
     if title:
         ax.set_title(title, fontsize=10.5, loc="left")
     ax.legend(fontsize=6.8, frameon=False, loc="upper left", ncol=3, columnspacing=1.2)
@@ -81,7 +81,7 @@ def run_chart_figure(chart, *, process_average: float, title: str | None = None,
 def run_charts_figure(groups, *, limit: int = 8):
     """Stacked run charts of up to ``limit`` groups
     (:class:`~lotwise.data.records.GroupSummary` with charts kept)."""
-    plt = _mpl()
+    plt = mpl()
     shown = list(groups)[:limit]
     k = max(len(shown), 1)
     fig, axes = plt.subplots(k, 1, figsize=(7.0, 2.9 * k), dpi=110, squeeze=False)
@@ -99,7 +99,7 @@ def tradeoff_figure(rows, *, axes=None, title: str | None = None):
     ``rows`` are :class:`~lotwise.analysis.supplier.TradeoffRow`; rows without a plan
     are left out. One line per AQL, markers per the plots' marker cycle.
     """
-    plt = _mpl()
+    plt = mpl()
     if axes is None:
         have_rate = any(r.p_reject is not None for r in rows)
         if have_rate:
@@ -136,7 +136,7 @@ def tradeoff_figure(rows, *, axes=None, title: str | None = None):
         axes[1].set_xlabel("Discrimination ratio RQL / AQL", fontsize=9.5)
         axes[1].set_ylabel("Supplier's lots rejected (%)", fontsize=9.5)
         axes[1].set_title("Supplier's expected rejection rate", fontsize=10, loc="left")
-        _pct_axis(axes[1], False, "y")
+        pct_axis(axes[1], False, "y")
         axes[1].set_ylim(bottom=0)
         axes[1].legend(fontsize=7.5, frameon=False)
     from matplotlib.ticker import FixedLocator, FuncFormatter, NullFormatter, NullLocator

@@ -7,8 +7,8 @@ styles that survive black-and-white print.
 
 Examples
 --------
->>> from lotwise.families.multistage import DoublePlan
->>> from lotwise.families.base import Scope
+>>> from lotwise.families.double import DoublePlan
+>>> from lotwise.core.types import Scope
 >>> fig = asn_figure([(DoublePlan(n1=50, c1=1, n2=100, c2=3), Scope())], aql=0.01, rql=0.05)
 >>> fig.axes[0].get_ylabel()
 'Average sample number (units)'
@@ -18,7 +18,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from lotwise.documents.plots.style import STYLE, _MARKERS, _pct_axis, new_axes
+from lotwise.documents.plots.style import STYLE, MARKERS, pct_axis, new_axes
 
 __all__ = ["asn_figure", "tradeoff_figure", "sequential_figure", "oc_asn_figure"]
 
@@ -97,7 +97,7 @@ def asn_figure(items, *, model=None, aql=None, rql=None, max_p=None, labels=None
     ax.set_ylim(0, top * 1.08 + 1)
     ax.set_xlabel(_xlabel(per_unit), fontsize=9.5)
     ax.set_ylabel("Average sample number (units)", fontsize=9.5)
-    _pct_axis(ax, per_unit)
+    pct_axis(ax, per_unit)
     if title:
         ax.set_title(title, fontsize=10.5, loc="left")
     ax.legend(fontsize=7.5, frameon=False, loc="upper right")
@@ -109,12 +109,12 @@ def tradeoff_figure(result, *, ax=None, title=None):
     """ASN curves (left) and OC curves (right) of a
     :class:`lotwise.analysis.tradeoff.Tradeoff`. With ``ax`` given only the ASN panel
     is drawn there."""
-    from lotwise.documents.plots.style import _mpl
+    from lotwise.documents.plots.style import mpl
 
     t = result.targets
     per_unit = result.scope.defects
     if ax is None:
-        plt = _mpl()
+        plt = mpl()
         fig, (a1, a2) = plt.subplots(1, 2, figsize=(10.5, 5.0), dpi=110)
         new_axes(a1)
         new_axes(a2)
@@ -136,7 +136,7 @@ def tradeoff_figure(result, *, ax=None, title=None):
     a1.set_xlabel(_xlabel(per_unit), fontsize=9.5)
     a1.set_ylabel("Average sample number (units)", fontsize=9.5)
     a1.set_title(title or f"ASN, {result.model} model (AQL o, RQL s)", fontsize=10, loc="left")
-    _pct_axis(a1, per_unit)
+    pct_axis(a1, per_unit)
     below = dict(fontsize=7, frameon=False, loc="upper center", bbox_to_anchor=(0.5, -0.14))
     a1.legend(**below)
     if a2 is not None:
@@ -150,7 +150,7 @@ def tradeoff_figure(result, *, ax=None, title=None):
         a2.set_xlabel(_xlabel(per_unit), fontsize=9.5)
         a2.set_ylabel("Probability of acceptance Pa", fontsize=9.5)
         a2.set_title("OC curves with the two risk points", fontsize=10, loc="left")
-        _pct_axis(a2, per_unit)
+        pct_axis(a2, per_unit)
         a2.legend(**below)
     fig.tight_layout()
     return fig
@@ -184,7 +184,7 @@ def sequential_figure(plan, *, per_unit=False, ax=None, title=None, upto=None):
                 markeredgecolor="0.0", linestyle="none",
                 label=f"truncation at n = {n0}: accept on <= {int(a[-1])}")
     first = plan.first_acceptance
-    ax.plot([first], [0], marker=_MARKERS[0], markersize=6, markerfacecolor="white",
+    ax.plot([first], [0], marker=MARKERS[0], markersize=6, markerfacecolor="white",
             markeredgecolor="0.0", linestyle="none",
             label=f"first acceptance possible at n = {first}")
     ax.set_xlim(0, last * 1.02)
@@ -204,9 +204,9 @@ def sequential_figure(plan, *, per_unit=False, ax=None, title=None, upto=None):
 def oc_asn_figure(plan, scope, *, model=None, aql=None, rql=None, max_p=None, title=None):
     """OC curve (exact beside Poisson) and ASN curves (full and curtailed)
     of a double, multiple or sequential plan, side by side."""
-    from lotwise.documents.plots.style import _mpl, oc_figure
+    from lotwise.documents.plots.style import mpl, oc_figure
 
-    plt = _mpl()
+    plt = mpl()
     fig, (a1, a2) = plt.subplots(1, 2, figsize=(10.5, 4.2), dpi=110)
     if max_p is None:
         max_p = 2.5 * rql if rql else None

@@ -12,7 +12,8 @@ line to the axes.
 
 Examples
 --------
->>> from lotwise.families.base import Scope, SinglePlan
+>>> from lotwise.core.types import Scope
+>>> from lotwise.families.single import SinglePlan
 >>> fig = oc_figure([(SinglePlan(n=80, c=2), Scope())], aql=0.01, rql=0.08)
 >>> fig.axes[0].get_xlabel()
 'Quality level: nonconforming (%)'
@@ -37,10 +38,10 @@ STYLE = {
     ],
 }
 
-_MARKERS = ("o", "s", "^", "D", "v", "P")
+MARKERS = ("o", "s", "^", "D", "v", "P")
 
 
-def _mpl():
+def mpl():
     import matplotlib
 
     if matplotlib.get_backend().lower() not in ("agg", "pdf", "svg", "module://matplotlib_inline.backend_inline"):
@@ -55,7 +56,7 @@ def _mpl():
 
 def new_axes(ax=None, size=(6.4, 4.0)):
     """An ``(fig, ax)`` pair in the project's plain style."""
-    plt = _mpl()
+    plt = mpl()
     if ax is None:
         fig, ax = plt.subplots(figsize=size, dpi=110)
         fig._lotwise_own = True
@@ -75,7 +76,7 @@ def _tidy(fig):
         fig.tight_layout()
 
 
-def _pct_axis(ax, per_unit: bool, which: str = "x"):
+def pct_axis(ax, per_unit: bool, which: str = "x"):
     from matplotlib.ticker import FuncFormatter
 
     if per_unit:
@@ -152,7 +153,7 @@ def oc_figure(items, *, models=None, aql=None, rql=None, alpha=None, beta=None,
     ax.set_ylabel("Probability of acceptance Pa", fontsize=9.5)
     ax.set_xlabel("Quality level: nonconformities per unit" if per_unit
                   else "Quality level: nonconforming (%)", fontsize=9.5)
-    _pct_axis(ax, per_unit)
+    pct_axis(ax, per_unit)
     if title:
         ax.set_title(title, fontsize=10.5, loc="left")
     ax.legend(fontsize=7.5, frameon=False, loc="upper right")
@@ -172,16 +173,16 @@ def curve_figure(x, curves, *, xlabel, ylabel, per_unit=False, ax=None, title=No
     for i, (label, y) in enumerate(curves):
         ax.plot(x, y, label=label, **styles[i % len(styles)])
     for i, (mx, my, label) in enumerate(marks):
-        ax.plot([mx], [my], marker=_MARKERS[i % len(_MARKERS)], markersize=7,
+        ax.plot([mx], [my], marker=MARKERS[i % len(MARKERS)], markersize=7,
                 markerfacecolor="white", markeredgecolor="0.0", markeredgewidth=1.3,
                 linestyle="none", label=label)
     ax.set_xlabel(xlabel, fontsize=9.5)
     ax.set_ylabel(ylabel, fontsize=9.5)
     ax.set_xlim(0, float(np.max(x)) if len(x) else 1)
     ax.set_ylim(bottom=0)
-    _pct_axis(ax, per_unit)
+    pct_axis(ax, per_unit)
     if y_percent:
-        _pct_axis(ax, False, "y")
+        pct_axis(ax, False, "y")
     if title:
         ax.set_title(title, fontsize=10.5, loc="left")
     ax.legend(fontsize=7.5, frameon=False)

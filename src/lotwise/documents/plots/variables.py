@@ -17,7 +17,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from lotwise.documents.plots.style import STYLE, _pct_axis, new_axes
+from lotwise.documents.plots.style import STYLE, pct_axis, new_axes
 
 __all__ = ["variables_oc_figure", "normal_probability_figure"]
 
@@ -77,7 +77,7 @@ def variables_oc_figure(plan, *, aql=None, rql=None, max_p=None, attributes_plan
     ax.set_ylabel("Probability of acceptance Pa", fontsize=9.5)
     ax.set_xlabel("Process fraction nonconforming (%)"
                   + (" beyond both limits" if plan.limit == "both" else ""), fontsize=9.5)
-    _pct_axis(ax, False)
+    pct_axis(ax, False)
     ax.set_title(title or plan.label, fontsize=9.5, loc="left")
     ax.legend(fontsize=7.5, frameon=False, loc="upper right")
     fig.tight_layout()

@@ -326,7 +326,7 @@ def _csv_value(v) -> str:
 
 def aoq_plot(pp, ax=None):
     """AOQ curve of the first characteristic's plan (lot size known)."""
-    from lotwise.families.base import SinglePlan
+    from lotwise.families.single import SinglePlan
     from lotwise.analysis.rectifying import aoq_figure
 
     rep = pp.reports[0]
@@ -362,7 +362,7 @@ def write_sheets(pp, out_dir, *, force: bool = False, today=None) -> dict:
         paths["png"] = save_figure(oc_plot(pp), out / f"{stem}-oc.png", force=force,
                                    option="sheet", dpi=150)
         if "aoql" in pp.reports[0]:
-            from lotwise.families.base import SinglePlan
+            from lotwise.families.single import SinglePlan
             from lotwise.analysis.rectifying import rectifying_figure
 
             rep = pp.reports[0]

@@ -79,10 +79,10 @@ def _hline(fig, x0, x1, y):
 
 
 def _layout(content, pp, scale: float):
-    from lotwise.documents.plots.style import _mpl
+    from lotwise.documents.plots.style import mpl
     from lotwise.documents.sheets import PLAN_HEADER, RISK_HEADER, aoq_plot, oc_plot
 
-    plt = _mpl()
+    plt = mpl()
     fig = plt.figure(figsize=(PAGE_W, PAGE_H))
     pg = _Page(fig, scale)
     c = content
@@ -165,9 +165,9 @@ def render(content, pp) -> bytes:
     """PDF bytes of exactly one page."""
     import matplotlib
 
-    from lotwise.documents.plots.style import _mpl
+    from lotwise.documents.plots.style import mpl
 
-    plt = _mpl()
+    plt = mpl()
     with matplotlib.rc_context({"pdf.fonttype": 42, "font.family": "DejaVu Sans"}):
         for scale in (1.0, 0.93, 0.86, 0.8, 0.74, 0.68):
             fig, bottom = _layout(content, pp, scale)

@@ -1,0 +1,345 @@
+"""Exact probabilities of plans that inspect in stages or unit by unit.
+
+* :func:`stage_pmf` / :func:`stage_cdf` -- the count found in one stage,
+  given what earlier stages took from the lot (hypergeometric) or not
+  (binomial, Poisson);
+* :func:`stage_recursion` -- the distribution of the running count stage by
+  stage, with acceptance and rejection numbers (double and multiple plans);
+* :func:`unit_walk` -- the same unit by unit (sequential plans, curtailed
+  inspection), by dynamic programming over (units inspected, count found).
+
+Every function is vectorised over the quality levels ``x`` (fractions, rates
+per unit, or whole counts ``D`` of a lot of ``N`` under the hypergeometric
+model).
+
+References
+----------
+.. [1] D. C. Montgomery, *Introduction to Statistical Quality Control*,
+   section 15.3 (double, multiple and sequential sampling).
+.. [2] E. G. Schilling and D. V. Neubauer, *Acceptance Sampling in Quality
+   Control*, 2nd ed. (CRC Press, 2009), ch. 6-8.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+from scipy import special
+
+from lotwise.core import kernels as oc
+from lotwise.core.quantities import InputError
+from lotwise.core.types import Scope, lot_counts
+
+__all__ = ["stage_pmf", "stage_cdf", "stage_recursion", "unit_walk", "level_to_x",
+           "finish_shape", "StageResult", "WalkResult", "NO_REJECTION"]
+
+NO_REJECTION = 1 << 40  # "no rejection number at this unit"
+
+
+# --- kernels ---------------------------------------------------------------
+
+def _binom_pmf(k, n, p):
+    """Binomial mass ``P(X = k)``, ``X ~ Bin(n, p)``, broadcast; Loader's form."""
+    k, n, p = np.broadcast_arrays(np.asarray(k, float), np.asarray(n, float),
+                                  np.asarray(p, float))
+    with np.errstate(all="ignore"):
+        inside = (p > 0) & (p < 1) & (k >= 0) & (k <= n)
+        ks = np.where(inside, k, 0.0)
+        ns = np.where(inside, n, 1.0)
+        ps = np.where(inside, p, 0.5)
+        out = np.exp(oc._log_dbinom(ks, ns, ps, 1.0 - ps))
+        out = np.where(inside, out, 0.0)
+        out = np.where((p <= 0) & (k == 0) & (n >= 0), 1.0, out)
+        out = np.where((p >= 1) & (k == n) & (n >= 0), 1.0, out)
+    return np.nan_to_num(out, nan=0.0)
+
+
+def _pois_pmf(k, lam):
+    """Poisson mass ``P(X = k)``, ``X ~ Poisson(lam)``, broadcast."""
+    k, lam = np.broadcast_arrays(np.asarray(k, float), np.asarray(lam, float))
+    with np.errstate(all="ignore"):
+        ks = np.maximum(k, 0.0)
+        out = np.exp(special.xlogy(ks, lam) - lam - special.gammaln(ks + 1.0))
+        out = np.where(k < 0, 0.0, out)
+    return np.nan_to_num(out, nan=0.0)
+
+
+def stage_pmf(j, n, model, x, N=None, m=0, d=0):
+    """Probability that a stage of ``n`` units finds exactly ``j`` more.
+
+    ``x`` is the fraction ``p`` (binomial, Poisson) or the lot's whole count
+    ``D`` (hypergeometric, with lot size ``N``); under the hypergeometric
+    model the stage is drawn from the ``N - m`` items left after ``m`` units
+    holding ``d`` nonconforming ones. Broadcast over all arguments.
+    """
+    j = np.asarray(j, float)
+    if model == "binomial":
+        return _binom_pmf(j, n, x)
+    if model == "poisson":
+        return _pois_pmf(j, np.asarray(n, float) * np.asarray(x, float))
+    if model == "hypergeometric":
+        rem = np.asarray(x, float) - d
+        with np.errstate(all="ignore"):
+            out = oc.hypergeometric_pmf(np.maximum(j, 0.0), n, N - m, np.maximum(rem, 0.0))
+        return np.where((rem < 0) | (j < 0), 0.0, out)
+    raise InputError(f"model ({model}) must be one of: {', '.join(oc.MODELS)}")
+
+
+def stage_cdf(c, n, model, x, N=None, m=0, d=0):
+    """Probability that a stage of ``n`` units finds at most ``c`` more
+    (0 for ``c < 0``); arguments as in :func:`stage_pmf`."""
+    c = np.asarray(c, float)
+    n_arr = np.asarray(n, float)
+    cs = np.maximum(c, 0.0)
+    with np.errstate(all="ignore"):
+        if model == "binomial":
+            out = oc.pa_binomial(np.maximum(n_arr, 1.0), cs, x)
+        elif model == "poisson":
+            out = oc.pa_poisson(1.0, cs, n_arr * np.asarray(x, float))
+        elif model == "hypergeometric":
+            rem = np.asarray(x, float) - d
+            out = oc.pa_hypergeometric(np.maximum(n_arr, 1.0), cs, N - m, np.maximum(rem, 0.0))
+            out = np.where(rem < 0, 0.0, out)
+        else:
+            raise InputError(f"model ({model}) must be one of: {', '.join(oc.MODELS)}")
+    out = np.asarray(out, float)
+    out = np.where(n_arr <= 0, 1.0, out)  # an empty stage finds nothing
+    return np.where(c < 0, 0.0, out)
+
+
+def level_to_x(p, model: str, scope: Scope, rounding: str, need: int):
+    """Model argument for quality level(s) ``p``: ``p`` itself, or the whole
+    count ``D`` in the lot under the hypergeometric model."""
+    p = np.asarray(p, dtype=float)
+    if model == "hypergeometric":
+        if not scope.lot_size:
+            raise InputError("the hypergeometric model needs a lot size (--lot-size)")
+        if need > scope.lot_size:
+            raise InputError(f"the plan inspects up to {need} units, more than the lot size "
+                             f"({scope.lot_size})")
+        return lot_counts(p, scope.lot_size, rounding)
+    if model not in oc.MODELS:
+        raise InputError(f"model ({model}) must be one of: {', '.join(oc.MODELS)}")
+    return p
+
+
+def finish_shape(out, shape):
+    out = np.clip(np.asarray(out, dtype=float), 0.0, None).reshape(shape)
+    return float(out) if out.ndim == 0 else out
+
+
+# --- stage-wise recursion --------------------------------------------------
+
+@dataclass(frozen=True, kw_only=True)
+class StageResult:
+    """Outcome probabilities of a staged plan, one array entry per quality level.
+
+    ``accept[i]`` is the probability of accepting at stage ``i`` (0-based),
+    ``reach[i]`` of reaching stage ``i``, and ``accept_found[i]`` (lot size
+    known) the expectation of the count found times the indicator of
+    accepting at stage ``i``.
+    """
+
+    accept: tuple
+    reach: tuple
+    accept_found: tuple | None = None
+
+
+def stage_recursion(sizes, acc, rej, model, x, N=None, track_found=False) -> StageResult:
+    """Exact OC of a ``k``-stage plan by recursion over the cumulative count.
+
+    Parameters
+    ----------
+    sizes : sequence of int
+        Units per stage.
+    acc, rej : sequence of int
+        Cumulative acceptance numbers (``-1`` for none) and rejection
+        numbers per stage; the last stage must decide (``rej = acc + 1``).
+    model : str
+    x : ndarray
+        Fractions (binomial, Poisson) or whole lot counts (hypergeometric).
+    N : int, optional
+        Lot size (hypergeometric).
+    track_found : bool
+        Also return ``E[count found; accepted at stage i]`` (for AOQ).
+    """
+    x = np.asarray(x, dtype=float).ravel()
+    P = x.size
+    band = np.ones((P, 1))
+    lo = 0
+    m_prev = 0
+    accept, reach, found = [], [], []
+    xc = x[:, None]
+    for n, a, r in zip(sizes, acc, rej):
+        reach.append(band.sum(axis=1))
+        new_lo = max(a + 1, 0)
+        new_w = max(0, r - new_lo)
+        new = np.zeros((P, new_w))
+        acc_i = np.zeros(P)
+        fnd_i = np.zeros(P)
+        for u in range(band.shape[1]):
+            mass = band[:, u]
+            if not mass.any():
+                continue
+            d = lo + u
+            cdf = stage_cdf(a - d, n, model, x, N, m_prev, d)
+            acc_i += mass * cdf
+            if track_found and model == "hypergeometric":
+                # E[J; J <= c] = n D'/N' P(J' <= c - 1), J' from one unit fewer.
+                rem = x - d
+                left = N - m_prev
+                with np.errstate(all="ignore"):
+                    ej = np.where((rem > 0) & (n > 0),
+                                  n * rem / left * stage_cdf(a - d - 1, n - 1, model,
+                                                             x - 1, N - 1, m_prev, d),
+                                  0.0)
+                fnd_i += mass * (d * cdf + ej)
+            if new_w:
+                js = np.arange(new_lo - d, r - d, dtype=float)[None, :]
+                new += mass[:, None] * stage_pmf(js, n, model, xc, N, m_prev, d)
+        accept.append(acc_i)
+        found.append(fnd_i)
+        band, lo = new, new_lo
+        m_prev += n
+    return StageResult(accept=tuple(accept), reach=tuple(reach),
+                       accept_found=tuple(found) if track_found else None)
+
+
+# --- unit-by-unit dynamic program -------------------------------------------
+
+@dataclass(frozen=True, kw_only=True)
+class WalkResult:
+    """Result of :func:`unit_walk` (arrays over quality levels)."""
+
+    pa: np.ndarray
+    asn: np.ndarray
+    accepted_units: np.ndarray  # E[units inspected; accepted]
+    left_in_accepted: np.ndarray | None  # E[nonconforming left in accepted lots] (lot known)
+
+
+def unit_walk(acc, rej, model, x, N=None, *, lot_size=None) -> WalkResult:
+    """Exact OC and ASN of an item-by-item decision rule.
+
+    After the ``m``-th unit (``m = 1 .. M``) the lot is accepted if the
+    count found is at most ``acc[m]`` and rejected if it is at least
+    ``rej[m]`` (index 0 unused); where both apply the rejection wins. At
+    ``m = M`` every lot must be decided (``rej[M] <= acc[M] + 1``). The dynamic program carries the probability
+    of each count among undecided lots, unit by unit; only the band of
+    counts between the two numbers is stored, so the cost is ``M`` times the
+    band width times the number of quality levels.
+
+    A unit is nonconforming with probability ``p`` (binomial), with
+    probability ``(D - d) / (N - m)`` given ``d`` found among the first
+    ``m`` (hypergeometric), or carries a Poisson(``p``) number of
+    nonconformities (Poisson).
+
+    ``lot_size`` (or ``N``) adds the expected number of nonconforming items
+    left in accepted lots, for AOQ.
+    """
+    x = np.asarray(x, dtype=float).ravel()
+    P = x.size
+    acc = np.asarray(acc, dtype=np.int64)
+    rej = np.asarray(rej, dtype=np.int64)
+    M = len(acc) - 1
+    if M < 1:
+        raise ValueError("unit_walk needs at least one unit")
+    if rej[M] > acc[M] + 1:
+        raise ValueError("the last unit must decide every lot")
+    finite = rej[1:][rej[1:] < NO_REJECTION]
+    R = int(finite.max())
+    lot = lot_size if lot_size is not None else N
+    if model not in oc.MODELS:
+        raise InputError(f"model ({model}) must be one of: {', '.join(oc.MODELS)}")
+    # S[d] (one row per count, one column per quality level) is the
+    # probability that the lot is undecided with count d; only rows lo..hi
+    # are non-zero and hi <= R - 1 (counts >= R can never be accepted: they
+    # are rejected, or carried in ``over`` until the next unit that has a
+    # rejection number). The probabilities of stopping at each unit are
+    # written to ``acc_at`` and ``rej_at`` and reduced at the end.
+    S = np.zeros((R + 1, P))
+    S[0] = 1.0
+    lo = hi = 0
+    over = np.zeros(P)
+    has_over = False
+    acc_at = np.zeros((M + 1, P))
+    rej_at = np.zeros((M + 1, P))
+    left = np.zeros(P) if lot is not None else None
+    xr = x[None, :]
+    if model == "poisson":
+        pois = _pois_pmf(np.arange(R + 2, dtype=float)[:, None], xr)
+    elif model == "binomial":
+        pnc = np.clip(xr, 0.0, 1.0)
+        qnc = 1.0 - pnc
+    accl = acc.tolist()
+    rejl = rej.tolist()
+    last = M
+    for m in range(1, M + 1):
+        r = rejl[m]
+        top = (r if r < R else R) - 1  # highest count still undecided or acceptable
+        beyond = None
+        if lo <= hi:
+            if model == "poisson":
+                width = top - lo + 1
+                band = S[lo:hi + 1].copy()
+                mass = band.sum(axis=0)
+                S[lo:hi + 1] = 0.0
+                if width > 0:
+                    new = np.zeros((width, P))
+                    for u in range(min(band.shape[0], width)):
+                        new[u:] += band[u:u + 1] * pois[:width - u]
+                    S[lo:top + 1] = new
+                    beyond = np.maximum(mass - new.sum(axis=0), 0.0)
+                    hi = top
+                else:
+                    beyond = mass
+                    hi = lo - 1
+            else:
+                if model == "binomial":
+                    q, keep = pnc, qnc
+                else:
+                    d = np.arange(lo, hi + 1, dtype=float)[:, None]
+                    q = np.clip((xr - d) / (N - (m - 1)), 0.0, 1.0)
+                    keep = 1.0 - q
+                moved = S[lo:hi + 1] * q
+                S[lo:hi + 1] *= keep
+                S[lo + 1:hi + 2] += moved
+                hi += 1
+                if hi > top:
+                    beyond = S[top + 1:hi + 1].sum(axis=0)
+                    S[top + 1:hi + 1] = 0.0
+                    hi = top
+        if r <= R:
+            if beyond is not None:
+                rej_at[m] = beyond
+            if has_over:
+                rej_at[m] += over
+                over = np.zeros(P)
+                has_over = False
+        elif beyond is not None:
+            over = over + beyond
+            has_over = True
+        a = accl[m]
+        if a >= lo and lo <= hi:
+            k = a if a < hi else hi
+            took = S[lo:k + 1]
+            got = acc_at[m]
+            took.sum(axis=0, out=got)
+            if left is not None:
+                if model == "hypergeometric":
+                    dd = np.arange(lo, k + 1, dtype=float)[:, None]
+                    left += (took * (xr - dd)).sum(axis=0)
+                else:
+                    left += got * x * (lot - m)
+            S[lo:k + 1] = 0.0
+            lo = k + 1
+        if lo > hi and not has_over:
+            last = m
+            break
+    ms = np.arange(last + 1, dtype=float)
+    acc_at, rej_at = acc_at[:last + 1], rej_at[:last + 1]
+    pa = acc_at.sum(axis=0)
+    acc_units = ms @ acc_at
+    asn = acc_units + ms @ rej_at
+    return WalkResult(pa=pa, asn=asn, accepted_units=acc_units, left_in_accepted=left)
