@@ -1,0 +1,201 @@
+"""Golden snapshots of every command's ``--json`` output, compared with today's.
+
+Source of the expected values: golden snapshots of lotwise 0.1 output, taken
+before the plan-spine refactor (independent of later code). They are a safety
+net for moving code, not a check of correctness: what the numbers should be is
+checked against published tables, mpmath, scipy and enumeration elsewhere in
+the suite.
+
+Each case of ``tests/golden/cases.toml`` is run in-process through
+``lotwise.cli.main`` and compared with ``tests/golden/snapshots/<name>.json``:
+
+* the exit code must be the same;
+* every key of the snapshot must be in the new output (new keys are allowed),
+  with a value of the same kind (number, string, bool, null, list, object);
+* numbers agree within a relative 1e-9 or an absolute 1e-12 (tolerance for
+  floating-point reordering only); strings, bools and nulls are equal; lists
+  have the same length and agree item by item;
+* keys named in ``IGNORED_KEYS`` (dates, versions, fingerprints, dated file
+  names) are skipped wherever they occur;
+* nothing may end in an internal error ("could not complete the request").
+
+A deliberate difference is named in ``CHANGED`` under ``"case:path"`` with the
+reason; the entry covers that path and everything below it.
+
+Only :func:`lotwise.cli.main` is imported from lotwise, so the test survives a
+reorganisation of the package. ``tests/golden/make_golden.py`` (re)writes the
+snapshots with the same runner.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import io
+import json
+import math
+import os
+import tempfile
+import tomllib
+from pathlib import Path
+
+import pytest
+
+from lotwise.cli import main
+
+GOLDEN = Path(__file__).resolve().parent / "golden"
+ROOT = GOLDEN.parents[1]  # the repository: cases name examples/ and plans/ relative to it
+SNAPSHOTS = GOLDEN / "snapshots"
+TMP = "{tmp}"
+
+#: Keys whose values depend on the day, the machine or the installed versions.
+IGNORED_KEYS = frozenset({
+    "date", "version", "versions", "fingerprint", "generated", "elapsed",
+    "numpy",   # draw: the numpy version the pick list was drawn with
+    "report",  # validate: report paths carry the date
+})
+
+#: Deliberate, named differences: "case_name:json.path" -> reason.
+CHANGED: dict[str, str] = {}
+
+#: What ``main`` prints on stderr when a command failed with an internal error.
+CRASH_MARK = "could not complete the request"
+
+
+def load_cases() -> list[dict]:
+    """The cases of ``cases.toml``: dicts with ``name`` and ``argv``."""
+    with open(GOLDEN / "cases.toml", "rb") as fh:
+        return tomllib.load(fh)["case"]
+
+
+def _replace_strings(value, old: str, new: str):
+    if isinstance(value, str):
+        return value.replace(old, new)
+    if isinstance(value, list):
+        return [_replace_strings(v, old, new) for v in value]
+    if isinstance(value, dict):
+        return {k: _replace_strings(v, old, new) for k, v in value.items()}
+    return value
+
+
+def run_case(argv: list[str]) -> dict:
+    """Run one invocation in-process from the repository root.
+
+    ``{tmp}`` in an argument becomes a fresh scratch folder, written back as
+    ``{tmp}`` in the output. Returns ``exit``, ``json`` (None when stdout is
+    empty), ``stdout`` and ``stderr``; raises ValueError when stdout is not
+    one JSON document.
+    """
+    out, err = io.StringIO(), io.StringIO()
+    cwd = os.getcwd()
+    with tempfile.TemporaryDirectory(prefix="lotwise-golden-") as tmp:
+        args = [a.replace(TMP, tmp) for a in argv]
+        try:
+            os.chdir(ROOT)
+            with contextlib.redirect_stdout(out), contextlib.redirect_stderr(err):
+                code = main(args)
+        finally:
+            os.chdir(cwd)
+        text, stderr = out.getvalue(), err.getvalue()
+        doc = json.loads(text) if text.strip() else None
+        doc = _replace_strings(doc, tmp, TMP)
+        stderr = stderr.replace(tmp, TMP)
+    return {"exit": code, "json": doc, "stdout": text, "stderr": stderr}
+
+
+def _kind(value) -> str:
+    if value is None:
+        return "null"
+    if isinstance(value, bool):  # before numbers: bool is an int in Python
+        return "bool"
+    if isinstance(value, (int, float)):
+        return "number"
+    if isinstance(value, str):
+        return "string"
+    if isinstance(value, list):
+        return "list"
+    if isinstance(value, dict):
+        return "object"
+    raise TypeError(f"not a JSON value: {value!r}")
+
+
+def _numbers_agree(old: float, new: float) -> bool:
+    if math.isnan(old) or math.isnan(new):
+        return math.isnan(old) and math.isnan(new)
+    return math.isclose(old, new, rel_tol=1e-9, abs_tol=1e-12)
+
+
+def _excused(case: str, path: str) -> bool:
+    """True when CHANGED names this path or one above it."""
+    return any(f"{case}:{path}" == key or f"{case}:{path}".startswith(key + sep)
+               for key in CHANGED for sep in (".", "["))
+
+
+def compare(case: str, old, new, path: str = "json") -> list[str]:
+    """Differences of ``new`` from the snapshot ``old``, one line each."""
+    if _excused(case, path):
+        return []
+    where = f"{case}: {path}"
+    if _kind(old) != _kind(new):
+        return [f"{where}: was {_kind(old)} {old!r:.200}, now {_kind(new)} {new!r:.200}"]
+    if isinstance(old, dict):
+        problems = []
+        for key, value in old.items():
+            if key in IGNORED_KEYS:
+                continue
+            sub = f"{path}.{key}"
+            if key not in new:
+                if not _excused(case, sub):
+                    problems.append(f"{case}: {sub}: missing now (was {value!r:.200})")
+                continue
+            problems += compare(case, value, new[key], sub)
+        return problems
+    if isinstance(old, list):
+        if len(old) != len(new):
+            return [f"{where}: list of {len(old)} items, now {len(new)}: "
+                    f"was {old!r:.200}, now {new!r:.200}"]
+        problems = []
+        for i, (a, b) in enumerate(zip(old, new)):
+            problems += compare(case, a, b, f"{path}[{i}]")
+        return problems
+    if _kind(old) == "number":
+        same = _numbers_agree(float(old), float(new))
+    else:
+        same = old == new
+    return [] if same else [f"{where}: was {old!r}, now {new!r}"]
+
+
+CASES = load_cases()
+
+
+def test_cases_are_well_formed():
+    names = [c["name"] for c in CASES]
+    assert len(names) == len(set(names)), "case names must be unique"
+    for c in CASES:
+        assert set(c) == {"name", "argv"}, c
+        assert "--json" in c["argv"], c["name"]
+        assert (SNAPSHOTS / f"{c['name']}.json").is_file(), f"no snapshot for {c['name']}"
+
+
+@pytest.mark.parametrize("case", CASES, ids=[c["name"] for c in CASES])
+def test_golden(case):
+    name = case["name"]
+    snap = json.loads((SNAPSHOTS / f"{name}.json").read_text(encoding="utf-8"))
+    assert snap["argv"] == case["argv"], f"{name}: cases.toml and the snapshot disagree on argv"
+    now = run_case(case["argv"])
+    assert CRASH_MARK not in now["stderr"], f"{name}: internal error: {now['stderr'].strip()}"
+    problems = []
+    if now["exit"] != snap["exit"] and not _excused(name, "exit"):
+        problems.append(f"{name}: exit: was {snap['exit']}, now {now['exit']}")
+    problems += compare(name, snap["json"], now["json"])
+    assert not problems, "\n".join(problems[:40]) + (
+        f"\n... and {len(problems) - 40} more" if len(problems) > 40 else "")
+
+
+def test_changed_names_real_cases():
+    """Every CHANGED entry names an existing case and gives a reason."""
+    names = {c["name"] for c in CASES}
+    for key, reason in CHANGED.items():
+        case, _, path = key.partition(":")
+        assert case in names, f"CHANGED names an unknown case: {key}"
+        assert path == "exit" or path.startswith("json"), f"CHANGED path must be exit or json...: {key}"
+        assert reason.strip(), f"CHANGED needs a reason: {key}"
