@@ -469,9 +469,9 @@ def rectifying_summary(plan, scope: Scope, model: str, targets=None,
         per_model[m] = entry
     main = per_model[model]
     expression = FORMULA_TEXT[formula]
-    if formula == "screened" and not plan.exact_finite_aoq:
+    if formula == "screened":
         expression = (expression.split("; finite lot:")[0]
-                      + "; finite lot: the plan's exact E[(D - X) 1{accept}] / N)")
+                      + f"; finite lot: {plan.finite_aoq_text})")
     out = {
         "aoql": main["aoql"],
         "aoql_p": main["aoql_p"],

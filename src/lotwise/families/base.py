@@ -146,9 +146,8 @@ class Plan(ABC):
     scheme: ClassVar[str] = ""
     #: True when the number of units inspected depends on what is found.
     varying_sample: ClassVar[bool] = False
-    #: True when :meth:`aoq_count` is the exact finite-lot expectation
-    #: ``E[(D - X) 1{accept}] / N`` rather than the plug-in with the ASN.
-    exact_finite_aoq: ClassVar[bool] = False
+    #: How :meth:`aoq_count` computes the finite-lot AOQ, in words for reports.
+    finite_aoq_text: ClassVar[str] = "the plan's exact E[(D - X) 1{accept}] / N"
 
     # -- what a family must say ------------------------------------------------
     @abstractmethod

@@ -112,7 +112,6 @@ class ChainPlan(Plan):
     i: int
 
     scheme = "chain"
-    exact_finite_aoq = True
 
     def __post_init__(self):
         if not isinstance(self.n, (int, np.integer)) or self.n < 1:

@@ -360,8 +360,6 @@ class SequentialPlan(Plan):
         res = self._walk(p, model, scope, rounding)
         return finish_shape(res.pa, np.shape(p)), finish_shape(res.asn, np.shape(p))
 
-    exact_finite_aoq = True
-
     def aoq(self, p, model: str, scope: Scope, *, formula: str = "screened",
             rounding: str = "nearest"):
         """Average outgoing quality under rectifying inspection (lot size known):

@@ -73,7 +73,7 @@ class SinglePlan(Plan):
     n: int
     c: int
 
-    exact_finite_aoq = True
+    finite_aoq_text = "(D/N)((N - n)/N) Pa(n, c | N - 1, D - 1)"
 
     def __post_init__(self):
         if not isinstance(self.n, (int, np.integer)) or self.n < 1:

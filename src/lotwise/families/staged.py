@@ -135,8 +135,6 @@ class StagedPlan(Plan):
             raise InputError("AOQ and ATI need a lot size (--lot-size)")
         return int(scope.lot_size)
 
-    exact_finite_aoq = True
-
     def aoq(self, p, model: str, scope: Scope, *, formula: str = "screened",
             rounding: str = "nearest"):
         """Average outgoing quality under rectifying inspection (fraction):
