@@ -39,7 +39,7 @@ from lotwise.core.types import Scope
 from lotwise.families.single import SinglePlan
 from lotwise.core.quantities import Infeasible
 
-__all__ = ["PoissonVerdict", "poisson_verdict", "rule_of_thumb", "max_curve_error"]
+__all__ = ["PoissonVerdict", "poisson_verdict", "verdict_keys", "rule_of_thumb", "max_curve_error"]
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -84,7 +84,7 @@ class PoissonVerdict:
     def as_dict(self) -> dict:
         pd = None
         if self.poisson_plan is not None:
-            pd = {"n": self.poisson_plan.n, "c": self.poisson_plan.c,
+            pd = {**self.poisson_plan.to_dict(),
                   "alpha": self.poisson_plan_alpha, "beta": self.poisson_plan_beta,
                   "meets": self.poisson_plan_meets, "model": self.exact_model}
         return {
@@ -132,10 +132,7 @@ def rule_of_thumb(n: int, p: float) -> bool:
 def max_curve_error(plan, scope: Scope, exact_model: str, points: int = 801):
     """Largest ``|Pa_poisson - Pa_exact|`` and where, over ``[0, p_end]`` where
     the exact ``Pa`` has dropped to 0.001 (or up to 1)."""
-    from lotwise.analysis.audit import quality_at
-
-    p_end = min(1.0, 1.2 * quality_at(plan, 0.001, exact_model, scope, "consumer")) \
-        if plan.c < plan.n else 1.0
+    p_end = min(1.0, 1.2 * plan.quality_at(0.001, exact_model, scope, "consumer"))
     p_end = max(p_end, 1e-12)
 
     def diff(ps):
@@ -159,17 +156,20 @@ def max_curve_error(plan, scope: Scope, exact_model: str, points: int = 801):
     return float(err[i]), float(ps[i])
 
 
-def poisson_verdict(plan, targets, scope: Scope, exact_model: str | None = None) -> PoissonVerdict:
-    """Compare the Poisson approximation with the exact model for ``plan``.
+def poisson_verdict(plan, targets, scope: Scope, exact_model: str | None = None, *,
+                    options: dict | None = None) -> PoissonVerdict:
+    """Compare the Poisson approximation with the exact model for ``plan`` (any family).
 
     ``exact_model`` defaults to the scope's exact model (hypergeometric when
-    the lot size is known, binomial otherwise).
+    the lot size is known, binomial otherwise). The rule of thumb is applied
+    to the plan's largest sample; the Poisson-designed plan is shown for
+    families whose designer is quick (``Family.poisson_redesign``).
     """
     from lotwise.analysis.audit import risks_under
-    from lotwise.families.single import design_single
+    from lotwise.families.base import family_of
 
     exact = exact_model or scope.exact_model
-    n = plan.n
+    n = int(plan.max_sample)
     if exact == "poisson":
         return PoissonVerdict(exact_model="poisson", n=n, rule_aql=True, rule_rql=True,
                               np_aql=n * targets.aql, np_rql=n * targets.rql, max_error=0.0,
@@ -179,21 +179,31 @@ def poisson_verdict(plan, targets, scope: Scope, exact_model: str | None = None)
     err, at = max_curve_error(plan, scope, exact)
     pplan = pa_ = pb = pm = None
     note = ""
-    try:
-        pd = design_single(aql=targets.aql, rql=targets.rql, alpha=targets.alpha,
-                           beta=targets.beta, model="poisson")
-        pplan = pd.plan
-        if scope.lot_size and pplan.n > scope.lot_size:
-            note = (f"A Poisson-based design picks {pplan.label}, more than the lot of "
-                    f"{scope.lot_size}: it would call for 100 % inspection.")
-            pplan = None
-        else:
-            r = risks_under(pplan, targets, scope, exact)
-            pa_, pb, pm = r.alpha, r.beta, r.meets
-    except Infeasible as exc:
-        note = f"A Poisson-based design finds no plan: {exc}"
+    fam = family_of(plan)
+    if fam.poisson_redesign and fam.design is not None:
+        try:
+            pd = fam.design(aql=targets.aql, rql=targets.rql, alpha=targets.alpha,
+                            beta=targets.beta, model="poisson", **(options or {}))
+            pplan = pd.plan
+            if scope.lot_size and pplan.max_sample > scope.lot_size:
+                note = (f"A Poisson-based design picks {pplan.label}, more than the lot of "
+                        f"{scope.lot_size}: it would call for 100 % inspection.")
+                pplan = None
+            else:
+                r = risks_under(pplan, targets, scope, exact)
+                pa_, pb, pm = r.alpha, r.beta, r.meets
+        except Infeasible as exc:
+            note = f"A Poisson-based design finds no plan: {exc}"
     return PoissonVerdict(exact_model=exact, n=n, rule_aql=rule_of_thumb(n, targets.aql),
                           rule_rql=rule_of_thumb(n, targets.rql), np_aql=n * targets.aql,
                           np_rql=n * targets.rql, max_error=err, max_error_at=at,
                           poisson_plan=pplan, poisson_plan_alpha=pa_, poisson_plan_beta=pb,
                           poisson_plan_meets=pm, poisson_plan_note=note)
+
+
+def verdict_keys(plan, targets, scope: Scope, model: str, options: dict | None = None) -> dict:
+    """The ``poisson_verdict`` and ``poisson_design`` keys of an assessment."""
+    v = poisson_verdict(plan, targets, scope, options=options)
+    d = v.as_dict()
+    d["summary"] = v.summary()
+    return {"poisson_verdict": d, "poisson_design": d["poisson_design"]}

@@ -36,43 +36,15 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 import numpy as np
-from scipy import special
 
-from lotwise.core import kernels as oc
 from lotwise.core.types import Scope, lot_counts
+from lotwise.families.base import ModelRisk
 from lotwise.families.single import SinglePlan
 from lotwise.core.quantities import format_level, format_pct
 
 __all__ = ["ModelRisk", "PlanQuality", "Audit", "audit_plan", "quality_at"]
 
 _TOL = 1e-12
-
-
-@dataclass(frozen=True, kw_only=True)
-class ModelRisk:
-    """Acceptance probabilities and risks of one plan under one model."""
-
-    model: str
-    pa_aql: float
-    pa_rql: float
-    alpha: float
-    beta: float
-    meets_alpha: bool
-    meets_beta: bool
-    count_aql: int | None = None
-    count_rql: int | None = None
-
-    @property
-    def meets(self) -> bool:
-        return self.meets_alpha and self.meets_beta
-
-    def as_dict(self) -> dict:
-        d = {"pa_aql": self.pa_aql, "pa_rql": self.pa_rql, "alpha": self.alpha,
-             "beta": self.beta, "meets": self.meets, "meets_alpha": self.meets_alpha,
-             "meets_beta": self.meets_beta}
-        if self.count_aql is not None:
-            d["lot_counts"] = {"aql": self.count_aql, "rql": self.count_rql}
-        return d
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -123,92 +95,14 @@ class Audit:
 
 
 def risks_under(plan, targets, scope: Scope, model: str) -> ModelRisk:
-    """Risks of ``plan`` at the targets under one model (conservative lot counts)."""
-    ca = cr = None
-    if model == "hypergeometric":
-        ca = oc.lot_count(targets.aql, scope.lot_size, "up")
-        cr = oc.lot_count(targets.rql, scope.lot_size, "down")
-        pa_aql = float(plan.pa_count(ca, scope))
-        pa_rql = float(plan.pa_count(cr, scope))
-    else:
-        pa_aql = float(plan.pa(targets.aql, model, scope))
-        pa_rql = float(plan.pa(targets.rql, model, scope))
-    alpha = 1.0 - pa_aql
-    return ModelRisk(model=model, pa_aql=pa_aql, pa_rql=pa_rql, alpha=alpha, beta=pa_rql,
-                     meets_alpha=bool(alpha <= targets.alpha + _TOL),
-                     meets_beta=bool(pa_rql <= targets.beta + _TOL),
-                     count_aql=ca, count_rql=cr)
+    """Risks of ``plan`` at the targets under one model (see :meth:`Plan.risks`)."""
+    return plan.risks(targets, scope, model)
 
 
-def quality_at(plan: SinglePlan, prob: float, model: str, scope: Scope,
-               side: str = "producer") -> float:
-    """Quality level at which ``Pa`` equals ``prob`` under ``model``.
-
-    For the hypergeometric model, ``side='producer'`` gives the largest
-    ``D/N`` with ``Pa >= prob``; any other side the smallest ``D/N`` with
-    ``Pa <= prob``.
-    """
-    single = isinstance(plan, SinglePlan)
-    if single and plan.c >= plan.n and model != "poisson":
-        return 1.0  # accepts every lot
-    if model != "hypergeometric":
-        if not single:
-            return _invert(plan, prob, model, scope)
-        n, c = plan.n, plan.c
-        if model == "binomial":
-            return float(special.betainccinv(c + 1.0, n - c, prob))
-        return float(special.gammainccinv(c + 1.0, prob)) / n
-    return _count_search(plan, prob, scope, side)
-
-
-def _count_search(plan, prob: float, scope: Scope, side: str) -> float:
-    """Whole-count search under the hypergeometric model (Pa falls in ``D``):
-    ``side='producer'`` gives the largest ``D/N`` with ``Pa >= prob``, any other
-    side the smallest ``D/N`` with ``Pa <= prob``. Each pass evaluates up to 127
-    counts inside the bracket in one vectorised call and keeps the
-    sub-interval where ``Pa`` crosses ``prob`` (a 128-fold narrowing)."""
-    N = scope.lot_size
-    if side == "producer":
-        good = lambda pa: pa >= prob - _TOL  # noqa: E731  (true for small D)
-    else:
-        good = lambda pa: pa > prob + _TOL  # noqa: E731
-    if good(float(plan.pa_count(N, scope))):
-        return 1.0
-    if not good(float(plan.pa_count(0, scope))):
-        return 0.0
-    lo, hi = 0, N  # good(lo) holds, good(hi) does not
-    while hi - lo > 1:
-        ds = np.unique(np.linspace(lo, hi, 129).round().astype(np.int64)[1:-1])
-        ds = ds[(ds > lo) & (ds < hi)]
-        if not ds.size:
-            break
-        ok = good(np.atleast_1d(np.asarray(plan.pa_count(ds, scope), dtype=float)))
-        if ok.any():
-            lo = int(ds[np.flatnonzero(ok)[-1]])
-        if (~ok).any():
-            hi = int(ds[np.flatnonzero(~ok)[0]])
-    return (lo if side == "producer" else hi) / N
-
-
-def _invert(plan, prob: float, model: str, scope: Scope) -> float:
-    """Quality level where ``plan.pa`` equals ``prob`` under a continuous model,
-    for plan types without a closed-form inverse: ``Pa`` falls in ``p``, so each
-    pass evaluates 127 levels inside the bracket in one vectorised call and
-    keeps the sub-interval where ``Pa`` crosses ``prob``."""
-    lo, hi = 0.0, 1.0
-    if scope.defects:  # nonconformities per unit have no upper bound
-        while float(plan.pa(hi, model, scope)) > prob and hi < 1e6:
-            hi *= 2.0
-    for _ in range(40):
-        xs = np.linspace(lo, hi, 129)[1:-1]
-        above = np.atleast_1d(np.asarray(plan.pa(xs, model, scope), dtype=float)) > prob
-        if above.any():
-            lo = float(xs[np.flatnonzero(above)[-1]])
-        if (~above).any():
-            hi = float(xs[np.flatnonzero(~above)[0]])
-        if hi - lo <= 1e-13 * max(hi, 1e-300):
-            break
-    return 0.5 * (lo + hi)
+def quality_at(plan, prob: float, model: str, scope: Scope, side: str = "producer") -> float:
+    """Quality level at which ``Pa`` equals ``prob`` under ``model`` (see
+    :meth:`lotwise.families.base.Plan.quality_at`)."""
+    return plan.quality_at(prob, model, scope, side)
 
 
 def plan_quality(plan, targets, scope: Scope, model: str) -> PlanQuality:

@@ -112,12 +112,43 @@ def render_single(rep: dict, title: str) -> str:
 
 
 def table(rows: list[list[str]], header: list[str], indent: str = "  ") -> str:
-    """A compact left-aligned text table."""
-    cols = [header] + rows
-    widths = [max(len(str(r[i])) for r in cols) for i in range(len(header))]
+    """A compact left-aligned text table (see :func:`lotwise.core.text.table`)."""
+    from lotwise.core.text import table as _table
 
-    def fmt(r):
-        return indent + "  ".join(str(v).ljust(w) for v, w in zip(r, widths)).rstrip()
+    return _table(rows, header, indent)
 
-    return "\n".join([fmt(header), indent + "  ".join("-" * w for w in widths)]
-                     + [fmt(r) for r in rows])
+
+def render_assessment(rep: dict, title: str) -> str:
+    """Terminal text for an assessment's JSON object (any family)."""
+    from lotwise.analysis.assess import pct_vs
+    from lotwise.families.base import parse_plan
+
+    t = rep["targets"]
+    lines = [title]
+    if rep.get("full_inspection"):
+        lines.append(f"  100 % inspection: no sample smaller than the lot of {rep['lot_size']} "
+                     "meets both risks; inspect every item.")
+    lines += ["  " + s for s in parse_plan(rep["notation"]).describe()]
+    lines += context_lines(rep)
+    varying = "asn" in rep
+    rows = []
+    for m, r in rep["models"].items():
+        mark = " *" if m == rep["model"] else ""
+        row = [m + mark, f"{r['pa_aql']:.5f}", pct_vs(r["alpha"], t["alpha"]),
+               f"{r['pa_rql']:.5f}", pct_vs(r["beta"], t["beta"])]
+        if varying:
+            row += [f"{r['asn_aql']:.1f}", f"{r['asn_rql']:.1f}"]
+        rows.append(row + [verdict_word(r)])
+    if "wald" in rep:
+        w = rep["wald"]
+        rows.append(["Wald approx.", f"{w['pa_aql']:.5f}", format_pct(1 - w["pa_aql"]),
+                     f"{w['pa_rql']:.5f}", format_pct(w["pa_rql"]), f"{w['asn_aql']:.1f}",
+                     f"{w['asn_rql']:.1f}", "(untruncated)"])
+    header = ["model", "Pa(AQL)", "alpha", "Pa(RQL)", "beta"]
+    if varying:
+        header += ["ASN(AQL)", "ASN(RQL)"]
+    lines += ["", table(rows, header + ["meets"]), "  (* the model the plan is judged by)", ""]
+    lines += [f"  - {s}" for s in rep["statements"]]
+    if "poisson_verdict" in rep:
+        lines += ["", "  Poisson approximation: " + rep["poisson_verdict"]["summary"]]
+    return "\n".join(lines)

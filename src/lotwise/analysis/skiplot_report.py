@@ -3,8 +3,6 @@ lots inspected at the AQL and RQL, beside the reference plan's."""
 
 from __future__ import annotations
 
-import numpy as np
-
 from lotwise.core.quantities import format_level, format_pct
 from lotwise.core.types import TOL, Scope
 from lotwise.families.skiplot import SkipLotPlan
@@ -47,7 +45,7 @@ def skiplot_report(plan: SkipLotPlan, targets, scope: Scope, model: str) -> dict
            "models": models}
     pu = scope.defects
     lv = lambda x: format_level(x, pu)  # noqa: E731
-    n = plan.reference.n
+    n = plan.reference.max_sample
     out["statements"] = [
         f"Skip-lot SkSP-2 over {plan.reference.label}: after {plan.i} consecutive accepted lots, "
         f"inspect {format_pct(plan.f)} of lots at random; return to every lot on a rejection.",

@@ -91,29 +91,10 @@ def design_other(*, scheme, aql, rql, alpha, beta, lot, model, defects, n, c, ma
                         as_json)
 
 
-def _poisson_double(targets, scope, mdl, ratio, minimize):
-    """What a Poisson-based double design would pick, judged exactly."""
-    from lotwise.analysis.audit import risks_under
-    from lotwise.families.double import design_double
-
-    if mdl == "poisson" or scope.defects:
-        return None
-    try:
-        pd = design_double(aql=targets.aql, rql=targets.rql, alpha=targets.alpha,
-                           beta=targets.beta, model="poisson", ratio=ratio, minimize=minimize)
-    except Infeasible as exc:
-        return {"note": f"a Poisson-based design finds no plan: {exc}"}
-    if scope.lot_size and pd.plan.n_max > scope.lot_size:
-        return {"note": f"a Poisson-based design picks {pd.plan.label}, more than the lot"}
-    rk = risks_under(pd.plan, targets, scope, mdl)
-    out = pd.plan.to_dict()
-    out.update({"alpha": rk.alpha, "beta": rk.beta, "meets": rk.meets, "model": mdl})
-    return out
-
-
 def _design_double(targets, scope, mdl, ratio, minimize, cap, plot, force, as_json, base):
     from lotwise.families.double import design_double
-    from lotwise.analysis.plan_report import plan_report, render_plan
+    from lotwise.analysis.assess import assess
+    from lotwise.analysis.report import render_assessment as render_plan
 
     base.update({"ratio": ratio, "minimize": minimize})
     try:
@@ -122,9 +103,9 @@ def _design_double(targets, scope, mdl, ratio, minimize, cap, plot, force, as_js
                           defects=scope.defects, ratio=ratio, minimize=minimize, max_n=cap)
     except Infeasible as exc:
         common.infeasible(exc, as_json, base)
-    rep = plan_report(d.plan, targets, scope, mdl, design=d)
-    pdd = _poisson_double(targets, scope, mdl, ratio, minimize)
-    rep["poisson_design"] = pdd
+    rep = assess(d.plan, targets, scope, mdl, design=d,
+                 design_options={"ratio": ratio, "minimize": minimize}).to_json()
+    pdd = rep["poisson_design"]
     if plot:
         from lotwise.data.files import save_figure
         from lotwise.documents.plots.multistage import oc_asn_figure
@@ -170,7 +151,8 @@ def _number_ranges(numbers: dict) -> list[list[str]]:
 
 def _design_sequential(targets, scope, mdl, truncate, plot, force, as_json, base):
     from lotwise.families.sequential import design_sequential
-    from lotwise.analysis.plan_report import plan_report, render_plan
+    from lotwise.analysis.assess import assess
+    from lotwise.analysis.report import render_assessment as render_plan
 
     try:
         d = design_sequential(aql=targets.aql, rql=targets.rql, alpha=targets.alpha,
@@ -178,7 +160,7 @@ def _design_sequential(targets, scope, mdl, truncate, plot, force, as_json, base
                               defects=scope.defects, truncate=truncate)
     except Infeasible as exc:
         common.infeasible(exc, as_json, base)
-    rep = plan_report(d.plan, targets, scope, mdl, design=d)
+    rep = assess(d.plan, targets, scope, mdl, design=d).to_json()
     if plot:
         from lotwise.data.files import save_figure
         from lotwise.documents.plots.multistage import sequential_figure
@@ -251,28 +233,6 @@ def _fits_lot(p, scope):
     if scope.lot_size is not None and p.n_max > scope.lot_size:
         raise InputError(f"--plan ({p.label}) inspects up to {p.n_max} units, more than "
                          f"--lot-size ({scope.lot_size})")
-
-
-def check_other(p, *, aql, rql, alpha, beta, lot, model, defects, as_json):
-    """``lotwise check`` for a double, multiple or sequential plan."""
-    from lotwise.core.types import Targets
-    from lotwise.analysis.plan_report import plan_report, render_plan
-    from .single import _levels_out_of_order
-
-    a, r = common.levels(aql, rql, defects)
-    al, be = common.risks(alpha, beta)
-    scope, mdl = _scope(lot, defects, model)
-    _fits_lot(p, scope)
-    if not r > a:
-        _levels_out_of_order(a, r, defects, as_json)
-    targets = Targets(aql=a, rql=r, alpha=al, beta=be)
-    rep = plan_report(p, targets, scope, mdl)
-    if as_json:
-        common.emit_json(rep)
-    else:
-        verdict = "meets both targets" if rep["meets"] else "FALLS SHORT"
-        typer.echo(render_plan(rep, f"Audit of the {p.scheme} plan {p.label}: {verdict}"))
-    raise typer.Exit(0 if rep["meets"] else 1)
 
 
 def oc_other(p, *, lot, model, defects, max_p, points, at, aql, rql, csv, plot, force, as_json):

@@ -111,7 +111,7 @@ def render_least_ati(rep: dict) -> str:
 
 def _chain(aql, rql, alpha, beta, lot, model, defects, max_n, as_json):
     from lotwise.families.chain import design_chain
-    from lotwise.analysis.chain_report import chain_report, render_chain
+    from lotwise.analysis.assess import assess
     from lotwise.core.types import Targets
     from lotwise.core.types import Scope
 
@@ -127,11 +127,11 @@ def _chain(aql, rql, alpha, beta, lot, model, defects, max_n, as_json):
                          defects=defects, max_n=cap)
     except Infeasible as exc:
         common.infeasible(exc, as_json, base)
-    rep = chain_report(d.plan, d.targets, d.scope, d.model, design=d)
+    a = assess(d.plan, d.targets, d.scope, d.model, design=d)
     if as_json:
-        common.emit_json(rep)
+        common.emit_json(a.to_json())
     else:
-        typer.echo(render_chain(rep, "Chain sampling plan ChSP-1 (smallest n meeting both risks)"))
+        typer.echo(a.render("Chain sampling plan ChSP-1 (smallest n meeting both risks)"))
 
 
 # --- check: rectifying, skip-lot, chain plans -------------------------------------
@@ -140,16 +140,10 @@ def check_extras(rep: dict, plan, scope, model, targets, *, aoq_formula, skip_lo
                  force) -> dict:
     """Add the rectifying keys (with a lot size) and the skip-lot comparison to a
     single-plan check report; draw the OC/AOQ/ATI figure if asked."""
-    from lotwise.analysis.rectifying import check_formula, rectifying_summary
-
-    if aoq_formula is not None:
-        check_formula(aoq_formula)
-    if scope.lot_size:
-        rep.update(rectifying_summary(plan, scope, model, targets, aoq_formula or "screened"))
-    elif aoq_formula is not None:
-        raise InputError(f"--aoq-formula ({aoq_formula}) needs --lot-size (AOQ and ATI are "
-                         "computed for lots of a known size)")
     if skip_lot is not None:
+        if not (plan.lot_by_lot and plan.attribute_plan):
+            raise InputError(f"--skip-lot ({skip_lot}) applies to a plan that sentences each "
+                             f"lot on its own sample, not to a {plan.scheme} plan")
         from lotwise.families.skiplot import SkipLotPlan, parse_skip
         from lotwise.analysis.skiplot_report import skiplot_report
 
@@ -163,6 +157,8 @@ def check_extras(rep: dict, plan, scope, model, targets, *, aoq_formula, skip_lo
             rep["skip_lot"]["aoql"] = a.value
             rep["skip_lot"]["aoql_p"] = a.at
     if aoq_plot is not None:
+        if plan.scheme != "single":
+            raise InputError(f"--aoq-plot ({aoq_plot}) is drawn for single plans only")
         if not scope.lot_size:
             raise InputError(f"--aoq-plot ({aoq_plot}) needs --lot-size")
         if not aoq_plot.lower().endswith((".png", ".svg", ".pdf")):
@@ -199,30 +195,3 @@ def render_extras(rep: dict) -> str:
     return ("\n\n" + "\n\n".join(parts)) if parts else ""
 
 
-def check_chain(plan, targets, scope, model, *, aoq_formula, skip_lot, aoq_plot, as_json):
-    """``lotwise check --plan "chain: n=..,i=.."``: risks, c = 0 comparison and,
-    with a lot size, AOQL and ATI."""
-    from lotwise.analysis.chain_report import chain_report, render_chain
-    from lotwise.analysis.rectifying import check_formula, rectifying_summary
-
-    if skip_lot is not None:
-        raise InputError("--skip-lot applies to a single reference plan, not to a chain plan")
-    if aoq_plot is not None:
-        raise InputError("--aoq-plot is drawn for single plans only")
-    rep = chain_report(plan, targets, scope, model)
-    if scope.lot_size:
-        rep.update(rectifying_summary(plan, scope, model, targets,
-                                      check_formula(aoq_formula or "screened")))
-    elif aoq_formula is not None:
-        raise InputError(f"--aoq-formula ({aoq_formula}) needs --lot-size")
-    if as_json:
-        common.emit_json(rep)
-    else:
-        verdict = "meets both targets" if rep["meets"] else "FALLS SHORT"
-        text = render_chain(rep, f"Audit of {plan.label}: {verdict}")
-        if "rectifying" in rep:
-            from lotwise.analysis.rectifying import render_rectifying
-
-            text += "\n\n" + render_rectifying(rep, scope.defects)
-        typer.echo(text)
-    raise typer.Exit(0 if rep["meets"] else 1)

@@ -70,9 +70,9 @@ def design(
     as_json: bool = common.JSON,
 ):
     """Design the plan with the smallest sample meeting both risks."""
+    from lotwise.analysis.assess import assess
     from lotwise.core.types import Targets
     from lotwise.families.single import design_single
-    from lotwise.analysis.report import render_single, single_report
 
     if scheme == "variables":
         from .variables import design_cmd
@@ -120,11 +120,11 @@ def design(
                           defects=defects, n=nn, c=cc, max_n=cap)
     except Infeasible as exc:
         common.infeasible(exc, as_json, base)
-    rep = single_report(d.plan, targets, scope, mdl, design=d)
+    a = assess(d.plan, targets, scope, mdl, design=d)
     if as_json:
-        common.emit_json(rep)
+        common.emit_json(a.to_json())
     else:
-        typer.echo(render_single(rep, "Single sampling plan (smallest sample meeting both risks)"))
+        typer.echo(a.render("Single sampling plan (smallest sample meeting both risks)"))
 
 
 @app.command()
@@ -153,8 +153,8 @@ def check(
     when it falls short. With plan files or folders, one summary row per
     characteristic.
     """
+    from lotwise.analysis.assess import assess
     from lotwise.core.types import Targets
-    from lotwise.analysis.report import render_single, single_report
     from . import rectifying as rect_cli
 
     if paths:
@@ -172,31 +172,27 @@ def check(
         if skip_lot is not None:
             raise InputError("--skip-lot cannot be combined with a skiplot --plan")
         p, skip_lot = p.reference, (p.i, p.f)
-    if p.scheme in ("double", "multiple", "sequential"):
-        from .multistage import check_other
-
-        return check_other(p, aql=aql, rql=rql, alpha=alpha, beta=beta, lot=lot, model=model,
-                           defects=defects, as_json=as_json)
     a, r = common.levels(aql, rql, defects)
     al, be = common.risks(alpha, beta)
     scope, mdl = _scope_and_model(lot, defects, model)
-    if scope.lot_size is not None and p.n > scope.lot_size:
-        raise InputError(f"--n ({p.n}) must not be greater than --lot-size ({scope.lot_size})")
+    p.check_scope(scope)
     if not r > a:
         _levels_out_of_order(a, r, defects, as_json)
+    if aoq_formula is not None and not scope.lot_size:
+        raise InputError(f"--aoq-formula ({aoq_formula}) needs --lot-size (AOQ and ATI are "
+                         "computed for lots of a known size)")
     targets = Targets(aql=a, rql=r, alpha=al, beta=be)
-    if p.scheme == "chain":
-        return rect_cli.check_chain(p, targets, scope, mdl, aoq_formula=aoq_formula,
-                                    skip_lot=skip_lot, aoq_plot=aoq_plot, as_json=as_json)
-    rep = single_report(p, targets, scope, mdl)
+    rep = assess(p, targets, scope, mdl, aoq_formula=aoq_formula).to_json()
     rep = rect_cli.check_extras(rep, p, scope, mdl, targets, aoq_formula=aoq_formula,
                                 skip_lot=skip_lot, aoq_plot=aoq_plot, force=force)
     meets = rep["meets"] and rep.get("skip_lot", {}).get("meets", True)
     if as_json:
         common.emit_json(rep)
     else:
+        from lotwise.analysis.report import render_assessment
+
         verdict = "meets both targets" if rep["meets"] else "FALLS SHORT"
-        typer.echo(render_single(rep, f"Audit of {p.label}: {verdict}")
+        typer.echo(render_assessment(rep, f"Audit of the {p.scheme} plan {p.label}: {verdict}")
                    + rect_cli.render_extras(rep))
     raise typer.Exit(0 if meets else 1)
 

@@ -47,9 +47,9 @@ import numpy as np
 
 from lotwise.core import search
 from lotwise.core.quantities import InputError
-from lotwise.core.types import AoqFormula, Scope, lot_counts, parse_choice
+from lotwise.core.types import TOL, AoqFormula, Scope, lot_counts, lot_targets, parse_choice
 
-__all__ = ["Plan", "Family", "Decision", "REGISTRY", "family", "families", "family_of",
+__all__ = ["Plan", "Family", "Decision", "ModelRisk", "REGISTRY", "family", "families", "family_of",
            "parse_plan", "split_notation", "need_lot", "finish"]
 
 
@@ -127,6 +127,34 @@ def check_record(inspected, found, total, defects, option_n="--inspected",
                          f"({inspected}) when counting nonconforming items")
 
 
+@dataclass(frozen=True, kw_only=True)
+class ModelRisk:
+    """Acceptance probabilities and risks of one plan under one model."""
+
+    model: str
+    pa_aql: float
+    pa_rql: float
+    alpha: float
+    beta: float
+    meets_alpha: bool
+    meets_beta: bool
+    count_aql: int | None = None
+    count_rql: int | None = None
+
+    @property
+    def meets(self) -> bool:
+        return self.meets_alpha and self.meets_beta
+
+    def as_dict(self) -> dict:
+        d = {"pa_aql": self.pa_aql, "pa_rql": self.pa_rql, "alpha": self.alpha,
+             "beta": self.beta, "meets": self.meets, "meets_alpha": self.meets_alpha,
+             "meets_beta": self.meets_beta}
+        if self.count_aql is not None:
+            d["lot_counts"] = {"aql": self.count_aql, "rql": self.count_rql}
+        return d
+
+
+
 # --- the plan interface -----------------------------------------------------
 
 class Plan(ABC):
@@ -146,6 +174,15 @@ class Plan(ABC):
     scheme: ClassVar[str] = ""
     #: True when the number of units inspected depends on what is found.
     varying_sample: ClassVar[bool] = False
+    #: True when the plan counts nonconforming items or nonconformities (attributes),
+    #: so lot sizes, the Poisson approximation and rectifying inspection apply.
+    attribute_plan: ClassVar[bool] = True
+    #: True when each lot is sentenced on its own sample alone (a skip-lot
+    #: scheme may be built over such a plan); False for plans that carry
+    #: state from lot to lot (chain, skip-lot).
+    lot_by_lot: ClassVar[bool] = True
+    #: True when the plan has a curtailed-inspection ASN (``asn_curtailed``).
+    has_curtailment: ClassVar[bool] = False
     #: How :meth:`aoq_count` computes the finite-lot AOQ, in words for reports.
     finite_aoq_text: ClassVar[str] = "the plan's exact E[(D - X) 1{accept}] / N"
 
@@ -178,11 +215,37 @@ class Plan(ABC):
         """The plan's own keys for JSON (``scheme`` first)."""
 
     # -- generic versions ------------------------------------------------------
+    def models_for(self, scope: Scope) -> tuple[str, ...]:
+        """The models the plan is evaluated under in ``scope`` (exact one first)."""
+        return scope.models
+
+    def judging_model(self, scope: Scope, model: str | None = None) -> str:
+        """The model the plan is judged by: ``model`` if it applies, else the exact one."""
+        return scope.check_model(model)
+
     def check_scope(self, scope: Scope) -> None:
         """Refuse a scope the plan cannot be used in (e.g. a sample above the lot)."""
         if scope.lot_size and self.max_sample > scope.lot_size:
             raise InputError(f"the plan inspects up to {self.max_sample} units, more than "
                              f"the lot size ({scope.lot_size})")
+
+    def risks(self, targets, scope: Scope, model: str) -> ModelRisk:
+        """Acceptance probabilities and risks at the targets under ``model``; under
+        the hypergeometric model at whole counts, rounded up at the AQL and down
+        at the RQL (the conservative way for each risk)."""
+        ca = cr = None
+        if model == "hypergeometric":
+            ca, cr = lot_targets(targets, need_lot(scope, "hypergeometric model"))
+            pa_aql = float(self.pa_count(ca, scope))
+            pa_rql = float(self.pa_count(cr, scope))
+        else:
+            pa_aql = float(self.pa(targets.aql, model, scope))
+            pa_rql = float(self.pa(targets.rql, model, scope))
+        alpha = 1.0 - pa_aql
+        return ModelRisk(model=model, pa_aql=pa_aql, pa_rql=pa_rql, alpha=alpha, beta=pa_rql,
+                         meets_alpha=bool(alpha <= targets.alpha + TOL),
+                         meets_beta=bool(pa_rql <= targets.beta + TOL),
+                         count_aql=ca, count_rql=cr)
 
     def asn(self, p, model: str, scope: Scope, rounding: str = "nearest"):
         """Average sample number at ``p`` (the fixed sample for fixed plans)."""
@@ -261,6 +324,10 @@ class Plan(ABC):
         used = np.asarray(self.asn_count(d, scope), dtype=float)
         return finish(used + (1.0 - pa) * (N - used), clip=False)
 
+    def describe(self) -> list[str]:
+        """The plan's rule in words, one or more lines for reports."""
+        return [f"plan      {self.label}"]
+
     def decide(self, inspected: int, found: int, *, defects: bool = False) -> Decision:
         """Accept, reject or continue on the bench; families without a bench
         rule refuse with a clear message."""
@@ -291,7 +358,9 @@ class Family:
     design_options : dict
         Designer options beyond the targets: ``name -> help text``.
     extras : callable or None
-        ``extras(plan, targets, scope, model) -> dict`` of family-specific report keys.
+        ``extras(plan, targets, scope, model, report) -> dict`` of family-specific
+        report keys (``report`` holds the common keys already computed); a
+        ``"statements"`` list is added to the plain-words sentences.
     oc_columns : callable or None
         ``oc_columns(plan, ps, model, scope) -> dict`` of extra OC-table columns.
     cases : str or None
@@ -304,6 +373,9 @@ class Family:
     keys_hint: tuple = ()
     design: Callable | None = None
     design_options: dict = field(default_factory=dict)
+    #: Show the plan a Poisson-based design of this family would choose
+    #: (families whose designer is fast enough to run on every report).
+    poisson_redesign: bool = False
     extras: Callable | None = None
     oc_columns: Callable | None = None
     cases: str | None = None

@@ -112,6 +112,7 @@ class ChainPlan(Plan):
     i: int
 
     scheme = "chain"
+    lot_by_lot = False
 
     def __post_init__(self):
         if not isinstance(self.n, (int, np.integer)) or self.n < 1:
@@ -195,6 +196,10 @@ class ChainDesign:
     zero_n: int
     one_n: int | None
     searched: tuple = ()
+
+    def report_extra(self) -> dict:
+        return {"zero_acceptance_n": self.zero_n,
+                "searched": [{"i": i, "n": n, "alpha": a} for i, n, a in self.searched]}
 
 
 def design_chain(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 0.10,
@@ -281,9 +286,28 @@ def design_chain(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 0
                        searched=tuple(searched))
 
 
+def report_extras(plan, targets, scope: Scope, model: str, report: dict) -> dict:
+    """The plain c = 0 plan of the same n beside the chain plan, and the chain's rule."""
+    from lotwise.families.single import SinglePlan
+
+    z = SinglePlan(n=plan.n, c=0).risks(targets, scope, model).as_dict()
+    return {
+        "zero_acceptance_same_n": {"n": plan.n, "c": 0, **z},
+        "statements": [
+            f"Inspect {plan.n} units of every lot; accept on 0 nonconforming, or on 1 if the "
+            f"samples of the {plan.i} preceding lots held none; otherwise reject.",
+            f"The plain c = 0 plan with the same n = {plan.n} accepts lots at the AQL only "
+            f"{format_pct(z['pa_aql'])} of the time (producer's risk {format_pct(z['alpha'])}) "
+            f"and lots at the RQL {format_pct(z['pa_rql'])} of the time.",
+            "Chain sampling assumes a continuing series of lots of the same product from a "
+            "steady process, inspected in the order produced; for isolated lots or a new "
+            "supplier use a single plan."],
+    }
+
+
 FAMILY = Family(
-    name="chain", plan_class=ChainPlan, parse=parse_chain,
-    design=design_chain,
+    name="chain", plan_class=ChainPlan, parse=parse_chain, extras=report_extras,
+    design=design_chain, poisson_redesign=True,
     design_options={"i": "number of preceding samples the chain looks back on"},
     description="chain sampling ChSP-1: accept on one nonconforming after i clean samples",
 )

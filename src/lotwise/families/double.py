@@ -185,6 +185,12 @@ class DoublePlan(StagedPlan):
         return {"scheme": "double", "n1": int(self.n1), "c1": int(self.c1),
                 "r1": int(self.r1), "n2": int(self.n2), "c2": int(self.c2)}
 
+    def describe(self) -> list[str]:
+        return [f"plan      first sample n1 = {self.n1}: accept on {self.c1} or fewer, "
+                f"reject on {self.r1} or more;",
+                f"          otherwise second sample n2 = {self.n2}: accept on a total of "
+                f"{self.c2} or fewer, reject on {self.c2 + 1} or more"]
+
     def max_asn(self, model: str, scope: Scope) -> tuple[float, float]:
         """Closed form of the largest ASN (see :func:`double_max_asn`)."""
         return double_max_asn(self.n1, self.c1, self.r1, self.n2, model, scope.lot_size)
@@ -617,6 +623,7 @@ def parse_double(pairs: dict, text: str, option: str):
 
 FAMILY = Family(
     name="double", plan_class=DoublePlan, parse=parse_double, keys_hint=("n1",),
+    poisson_redesign=True,
     design=design_double,
     design_options={"ratio": "second sample as a multiple of the first",
                     "minimize": "asn-aql (default), asn-rql or asn-max"},

@@ -124,6 +124,16 @@ class MultiplePlan(StagedPlan):
     def label(self) -> str:
         return self.notation().split(": ", 1)[1].replace("; ", ", ")
 
+    def describe(self) -> list[str]:
+        from lotwise.core.text import table
+
+        rows = [[str(i + 1), str(n), str(m), "-" if a is None else str(a), str(r)]
+                for i, (n, m, a, r) in enumerate(zip(self.sizes, self.cumulative, self.c,
+                                                     self.rej))]
+        return ["plan      multiple sampling, cumulative counts:",
+                table(rows, ["stage", "units", "in all", "accept on <=", "reject on >="],
+                      indent="          ")]
+
     def notation(self) -> str:
         cs = "/".join("-" if v is None else str(v) for v in self.c)
         return (f"multiple: n={'/'.join(map(str, self.n))}; c={cs}; "

@@ -299,10 +299,17 @@ class SequentialPlan(Plan):
                 f"truncate={self.truncate}")
 
     varying_sample = True
+    has_curtailment = True
 
     @property
     def max_sample(self) -> int:
         return int(self.truncate)
+
+    def describe(self) -> list[str]:
+        return [f"plan      item by item: accept when d <= -{self.h1:.4g} + {self.s:.4g} n, "
+                f"reject when d >= {self.h2:.4g} + {self.s:.4g} n;",
+                f"          truncated at n = {self.truncate} (a lot still undecided then is "
+                f"accepted if its count is at most {self.midpoint:.4g}, rejected otherwise)"]
 
     def notation(self) -> str:
         return (f"sequential: h1={self.h1!r},h2={self.h2!r},s={self.s!r},"
@@ -371,6 +378,8 @@ class SequentialPlan(Plan):
         return finish_shape(res.left_in_accepted / scope.lot_size, np.shape(p))
 
     def aoq_count(self, d, scope: Scope, *, formula: str = "screened"):
+        if formula != "screened":
+            return super().aoq_count(d, scope, formula=formula)
         d = np.asarray(d, dtype=float)
         return self.aoq(d / float(scope.lot_size), "hypergeometric", scope, formula=formula)
 
@@ -599,8 +608,30 @@ def design_sequential(*, aql: float, rql: float, alpha: float = 0.05, beta: floa
                             exact=exact, truncate_source=source, single_n=single_n)
 
 
+def report_extras(plan, targets, scope: Scope, model: str, report: dict) -> dict:
+    """Wald's approximations beside the exact truncated plan, and the truncation rule."""
+    per_unit = scope.defects
+    w = {"pa_aql": float(plan.wald_pa(targets.aql, per_unit)),
+         "pa_rql": float(plan.wald_pa(targets.rql, per_unit)),
+         "asn_aql": float(plan.wald_asn(targets.aql, per_unit)),
+         "asn_rql": float(plan.wald_asn(targets.rql, per_unit))}
+    m, a = report["models"][model], report["asn"]
+    return {
+        "wald": w,
+        "truncation_rule": ("a lot still undecided after the last unit is accepted if its "
+                            "count is at most the midpoint line s*n0 + (h2 - h1)/2 "
+                            f"= {plan.midpoint:.4g}, rejected otherwise"),
+        "statements": [
+            f"Wald's approximations (untruncated test, no overshoot) say Pa {w['pa_aql']:.4f} "
+            f"at the AQL and {w['pa_rql']:.4f} at the RQL, ASN {w['asn_aql']:.1f} and "
+            f"{w['asn_rql']:.1f}; the exact truncated plan gives {m['pa_aql']:.4f}, "
+            f"{m['pa_rql']:.4f}, {a['aql']:.1f} and {a['rql']:.1f}."],
+    }
+
+
 FAMILY = Family(
     name="sequential", plan_class=SequentialPlan, parse=parse_sequential, keys_hint=("h1",),
+    extras=report_extras,
     design=design_sequential,
     design_options={"truncate": "largest number of units before a forced decision"},
     description="item-by-item sequential sampling (Wald's SPRT), truncated",

@@ -165,8 +165,11 @@ class SinglePlan(Plan):
 
         return StagedPlan.single(self).decide(inspected, found, defects=defects)
 
+    def describe(self) -> list[str]:
+        return [f"plan      n = {self.n}, accept on c = {self.c}, reject on {self.r}"]
+
     def to_dict(self) -> dict:
-        return {"scheme": "single", "n": int(self.n), "c": int(self.c)}
+        return {"scheme": "single", "n": int(self.n), "c": int(self.c), "r": int(self.c) + 1}
 
 
 
@@ -227,6 +230,9 @@ class SingleDesign:
     targets: Targets
     full_inspection: bool = False
     lot_counts: tuple[int, int] | None = None
+
+    def report_extra(self) -> dict:
+        return {"full_inspection": bool(self.full_inspection)}
 
     @property
     def n(self) -> int:
@@ -415,7 +421,7 @@ def min_sample_size(*, c: int, rql: float, beta: float, lot_size: int | None = N
 
 FAMILY = Family(
     name="single", plan_class=SinglePlan, parse=parse_single,
-    design=design_single,
+    design=design_single, poisson_redesign=True,
     design_options={"n": "fixed sample size", "c": "fixed acceptance number",
                     "max_n": "largest affordable sample"},
     description="single sampling by attributes: inspect n, accept on c or fewer",

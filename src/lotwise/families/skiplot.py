@@ -85,6 +85,7 @@ class SkipLotPlan(Plan):
     f: float
 
     scheme = "skiplot"
+    lot_by_lot = False
 
     def __post_init__(self):
         if not isinstance(self.i, (int, np.integer)) or self.i < 1:
@@ -95,7 +96,7 @@ class SkipLotPlan(Plan):
     @property
     def n(self) -> int:
         """Sample size of an inspected lot (the reference plan's)."""
-        return self.reference.n
+        return self.reference.max_sample
 
     varying_sample = True
 

@@ -49,6 +49,7 @@ class StagedPlan(Plan):
         return int(sum(self.sizes))
 
     varying_sample = True
+    has_curtailment = True
 
     @classmethod
     def single(cls, plan) -> "StagedPlan":

@@ -1,0 +1,328 @@
+"""One assessment of any plan against agreed targets: the JSON contract.
+
+:func:`assess` judges a plan of any family (single, double, multiple,
+sequential, chain, skip-lot, variables, ...) against the targets in a scope
+and returns an :class:`Assessment`. Every command that prints a plan's
+figures -- ``design``, ``check``, ``oc``, ``compare``, ``sheet``, ``batch``,
+``next``, ``validate`` -- goes through it, so the terminal, ``--json``, the
+sheets and the Python API show the same numbers.
+
+The JSON object (:meth:`Assessment.to_json`) has one shape for every family;
+a key means the same thing, with the same type, whatever plan it describes:
+
+``scheme`` and the plan's own keys (``n``, ``c``, ``r`` for a single plan;
+``n1, c1, r1, n2, c2`` for a double plan; ...), ``label``, ``notation``,
+``max_sample``
+    what was judged;
+``model``, ``lot_size``, ``defects``, ``targets``
+    how and against what;
+``models``
+    per applicable model ``pa_aql``, ``pa_rql``, ``alpha``, ``beta``,
+    ``meets``, ``meets_alpha``, ``meets_beta`` (and ``lot_counts`` under the
+    hypergeometric model; ``asn_aql``, ``asn_rql`` for plans whose sample
+    varies);
+``pa_aql``, ``pa_rql``, ``alpha``, ``beta``, ``meets``
+    the same under the judging model;
+``plan_quality``
+    the plan's own producer's, indifference and consumer's quality levels;
+``asn`` (plans whose sample varies)
+    ``{"aql", "rql", "max", "max_at"}``, and ``asn_curtailed``;
+``aoql``, ``aoql_p``, ``ati``, ``rectifying`` (lot size known)
+    rectifying inspection: the AOQL (a number) and where it occurs, the ATI
+    at the AQL and RQL, the formula and the same under every model;
+``poisson_verdict`` (and ``poisson_design``)
+    how far the Poisson approximation is from the exact model;
+``statements``
+    the plain-words sentences, ending with the safety note.
+
+Family-specific keys (Wald's approximations of a sequential plan, the c = 0
+comparison of a chain plan, the attributes plan beside a variables plan) come
+from the family's ``extras`` hook (:class:`lotwise.families.base.Family`).
+
+Examples
+--------
+A supplier quotes "sample 80, accept on 2" for lots agreed at AQL 1 % and
+RQL 8 %:
+
+>>> from lotwise.core.types import Scope, Targets
+>>> from lotwise.families.base import parse_plan
+>>> a = assess(parse_plan("n=80,c=2"), Targets(aql=0.01, rql=0.08), Scope())
+>>> a.meets, round(a.to_json()["beta"], 4)
+(True, 0.0131)
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from lotwise.analysis.audit import risks_under
+from lotwise.core.quantities import format_level, format_pct
+from lotwise.core.types import AoqFormula, Scope, Targets, lot_counts, parse_choice
+from lotwise.families.base import Plan, family_of
+
+__all__ = ["Assessment", "assess", "SAFETY", "oc_levels"]
+
+#: The safety note every report ends with.
+SAFETY = ("Sampling cannot guarantee a lot free of nonconforming items; critical "
+          "characteristics need 100 % inspection or stricter plans per contract and "
+          "regulation. Defer to your applicable standards and qualified quality "
+          "professionals.")
+
+
+@dataclass(frozen=True, kw_only=True)
+class Assessment:
+    """A plan judged against targets in a scope (see the module notes).
+
+    Attributes
+    ----------
+    plan : Plan
+    targets : Targets
+    scope : Scope
+    model : str
+        The model the plan is judged by.
+    design : object or None
+        The designer's result, when the plan was designed.
+    report : dict
+        The JSON object (use :meth:`to_json` for a copy).
+    """
+
+    plan: Plan
+    targets: Targets
+    scope: Scope
+    model: str
+    design: object = None
+    report: dict = field(default_factory=dict, repr=False)
+
+    @property
+    def meets(self) -> bool:
+        """The plan meets both risks under the judging model."""
+        return bool(self.report["meets"])
+
+    @property
+    def alpha(self) -> float:
+        return float(self.report["alpha"])
+
+    @property
+    def beta(self) -> float:
+        return float(self.report["beta"])
+
+    def to_json(self) -> dict:
+        """The JSON object the command line prints with ``--json``."""
+        import copy
+
+        return copy.deepcopy(self.report)
+
+    def oc(self, p=None, *, points: int = 101):
+        """The OC table as a pandas DataFrame: ``p``, ``Pa`` under every
+        applicable model, and ASN, AOQ and ATI where they apply.
+
+        ``p`` defaults to ``points`` levels from 0 to where the exact ``Pa``
+        has fallen to 1 %.
+        """
+        import pandas as pd
+
+        if p is None:
+            p = oc_levels(self.plan, self.scope, self.model, points=points)
+        ps = np.atleast_1d(np.asarray(p, dtype=float))
+        cols = {"p": ps}
+        for m in self.report["models"]:
+            cols[m] = np.atleast_1d(np.asarray(self.plan.pa(ps, m, self.scope), dtype=float))
+        if self.plan.attribute_plan and self.model == "hypergeometric":
+            cols["lot_count"] = lot_counts(ps, self.scope.lot_size, "nearest").astype(int)
+        if self.plan.varying_sample:
+            cols["asn"] = np.atleast_1d(self.plan.asn(ps, self.model, self.scope))
+        if self.plan.attribute_plan and self.scope.lot_size:
+            cols["aoq"] = np.atleast_1d(self.plan.aoq(ps, self.model, self.scope))
+            cols["ati"] = np.atleast_1d(self.plan.ati(ps, self.model, self.scope))
+        return pd.DataFrame(cols)
+
+    def render(self, title: str) -> str:
+        """Terminal text (the same numbers as :meth:`to_json`)."""
+        from lotwise.analysis.report import render_assessment
+
+        return render_assessment(self.report, title)
+
+
+def oc_levels(plan, scope: Scope, model: str, *, points: int = 101, top_pa: float = 0.01):
+    """``points`` quality levels from 0 to where ``Pa`` has fallen to ``top_pa``."""
+    top = plan.quality_at(top_pa, model, scope, "consumer")
+    if not scope.defects:
+        top = min(1.0, top)
+    return np.linspace(0.0, max(top, 1e-9), points)
+
+
+def assess(plan: Plan, targets: Targets, scope: Scope | None = None, model: str | None = None,
+           *, design=None, verdict: bool = True, aoq_formula: str | None = None,
+           rectifying: bool = True, design_options: dict | None = None) -> Assessment:
+    """Judge ``plan`` against ``targets`` in ``scope``.
+
+    Parameters
+    ----------
+    plan : Plan
+        A plan of any family.
+    targets : Targets
+        AQL, RQL and the two risks.
+    scope : Scope, optional
+        Lot size and what is counted (default: a process, items).
+    model : str, optional
+        The judging model; default the scope's exact one.
+    design : object, optional
+        The designer's result, when the plan was designed (its
+        ``report_extra()`` keys are added).
+    verdict : bool
+        Add the Poisson verdict.
+    aoq_formula : {'screened', 'simple'}, optional
+        Rectifying-inspection convention (lot size known).
+    rectifying : bool
+        Add the rectifying-inspection figures when the lot size is known.
+    design_options : dict, optional
+        Designer options (e.g. a double plan's ``ratio``) for the plan a
+        Poisson-based design of the same family would choose.
+    """
+    scope = scope or Scope()
+    fam = family_of(plan)
+    model = plan.judging_model(scope, model)
+    formula = parse_choice(AoqFormula, aoq_formula or "screened", "--aoq-formula").value
+    rep = _core(plan, targets, scope, model)
+    if plan.attribute_plan and scope.lot_size and rectifying:
+        from lotwise.analysis.rectifying import rectifying_summary
+
+        rep.update(rectifying_summary(plan, scope, model, targets, formula))
+    if verdict and plan.attribute_plan:
+        from lotwise.analysis.approximation import verdict_keys
+
+        rep.update(verdict_keys(plan, targets, scope, model, design_options or {}))
+    extra_statements = []
+    if fam.extras is not None:
+        extra = dict(fam.extras(plan, targets, scope, model, rep))
+        extra_statements = extra.pop("statements", [])
+        rep.update(extra)
+    if design is not None:
+        rep["feasible"] = True
+        report_extra = getattr(design, "report_extra", None)
+        if callable(report_extra):
+            rep.update(report_extra())
+    rep["statements"] = _statements(rep, plan, scope) + list(extra_statements) + [SAFETY]
+    return Assessment(plan=plan, targets=targets, scope=scope, model=model, design=design,
+                      report=rep)
+
+
+def _core(plan, targets: Targets, scope: Scope, model: str) -> dict:
+    """The keys every family has."""
+    models = {}
+    for m in plan.models_for(scope):
+        d = risks_under(plan, targets, scope, m).as_dict()
+        if plan.varying_sample:
+            la, lr = _levels(targets, scope, m)
+            d["asn_aql"] = float(plan.asn(la, m, scope))
+            d["asn_rql"] = float(plan.asn(lr, m, scope))
+        models[m] = d
+    main = models[model]
+    rep = {"scheme": plan.scheme}
+    rep.update(plan.to_dict())
+    rep.update({
+        "label": plan.label,
+        "notation": plan.notation(),
+        "max_sample": plan.max_sample,
+        "model": model,
+        "lot_size": scope.lot_size,
+        "defects": scope.defects,
+        "targets": targets.as_dict(),
+        "models": models,
+        "pa_aql": main["pa_aql"], "pa_rql": main["pa_rql"],
+        "alpha": main["alpha"], "beta": main["beta"],
+        "meets": main["meets"],
+    })
+    probs = (1.0 - targets.alpha, 0.5, targets.beta)
+    rep["plan_quality"] = {
+        side: float(plan.quality_at(pr, model, scope, side))
+        for side, pr in zip(("producer", "indifference", "consumer"), probs)}
+    if "lot_counts" in main:
+        lc = main["lot_counts"]
+        rep["lot_counts"] = {"aql": lc["aql"], "rql": lc["rql"], "aql_rounding": "up",
+                             "rql_rounding": "down"}
+    if plan.varying_sample:
+        amax, amax_at = plan.max_asn(model, scope)
+        rep["n_max"] = plan.max_sample
+        rep["asn"] = {"aql": main["asn_aql"], "rql": main["asn_rql"], "max": float(amax),
+                      "max_at": float(amax_at)}
+        rep["asn_curtailed"] = None
+        if plan.has_curtailment:
+            la, lr = _levels(targets, scope, model)
+            rep["asn_curtailed"] = {"aql": float(plan.asn_curtailed(la, model, scope)),
+                                    "rql": float(plan.asn_curtailed(lr, model, scope))}
+    return rep
+
+
+def _levels(targets, scope: Scope, model: str):
+    """The AQL and RQL as evaluated under ``model`` (whole lot counts under
+    the hypergeometric model, rounded up at the AQL and down at the RQL)."""
+    if model == "hypergeometric":
+        from lotwise.core import kernels as oc
+
+        N = scope.lot_size
+        return (oc.lot_count(targets.aql, N, "up") / N, oc.lot_count(targets.rql, N, "down") / N)
+    return targets.aql, targets.rql
+
+
+def _pct(x: float) -> str:
+    """``format_pct`` of ``x`` rounded to 12 decimals (0.0999999999999999 prints 10.0 %)."""
+    return format_pct(round(float(x), 12))
+
+
+def pct_vs(x: float, target: float) -> str:
+    """:func:`_pct`, with more digits when rounding would make a risk that
+    misses its target look equal to it."""
+    a = _pct(x)
+    if a == _pct(target) and abs(x - target) > 1e-9:
+        return format_pct(x, 6)
+    return a
+
+
+def _statements(rep: dict, plan, scope: Scope) -> list[str]:
+    """Plain-words sentences: risks at the targets, the plan's own quality
+    levels, lot rounding, ASN and AOQL where they apply."""
+    t, m, q = rep["targets"], rep["models"][rep["model"]], rep["plan_quality"]
+    per_unit = scope.defects
+    lots = "lots averaging" if per_unit else "lots with"
+    if per_unit:
+        lvl = lambda x: f"{x:.4g} nonconformities per unit"  # noqa: E731
+    else:
+        lvl = lambda x: f"{format_level(x)} nonconforming"  # noqa: E731
+    ok = lambda b: "met" if b else "NOT met"  # noqa: E731
+    out = [
+        f"Accepts {lots} {lvl(t['aql'])} (the AQL) {_pct(m['pa_aql'])} of the time: "
+        f"producer's risk {pct_vs(m['alpha'], t['alpha'])} against a target of "
+        f"{_pct(t['alpha'])}, {ok(m['meets_alpha'])}.",
+        f"Accepts {lots} {lvl(t['rql'])} (the RQL) {_pct(m['pa_rql'])} of the time: "
+        f"consumer's risk {pct_vs(m['beta'], t['beta'])} against a target of "
+        f"{_pct(t['beta'])}, {ok(m['meets_beta'])}.",
+        f"The AQL it really protects: {lots} {lvl(q['producer'])} are accepted "
+        f"{_pct(1 - t['alpha'])} of the time.",
+        f"Indifference quality: {lots} {lvl(q['indifference'])} are accepted half the time.",
+        f"The RQL it really gives: {lots} {lvl(q['consumer'])} are accepted "
+        f"{_pct(t['beta'])} of the time.",
+    ]
+    if "lot_counts" in rep:
+        lc = rep["lot_counts"]
+        out.append(f"Lot of {rep['lot_size']}: the AQL is taken as {lc['aql']} and the RQL as "
+                   f"{lc['rql']} nonconforming item(s) (rounded up and down, the conservative "
+                   "way for each risk).")
+    if "asn" in rep:
+        a = rep["asn"]
+        out.append(f"Average sample number: {a['aql']:.1f} units at the AQL and {a['rql']:.1f} "
+                   f"at the RQL; the largest average is {a['max']:.1f} at {lvl(a['max_at'])}; "
+                   f"never more than {rep['max_sample']} units.")
+        cur = rep.get("asn_curtailed")
+        if cur:
+            out.append(f"Stopping as soon as the decision is certain (curtailment) lowers the "
+                       f"average to {cur['aql']:.1f} at the AQL and {cur['rql']:.1f} at the "
+                       "RQL; the decisions do not change.")
+    if "aoql" in rep:
+        out.append(f"With rejected lots inspected 100 % and nonconforming items replaced, the "
+                   f"average outgoing quality is at worst {format_level(rep['aoql'], per_unit)} "
+                   f"(AOQL, at {format_level(rep['aoql_p'], per_unit)} incoming); any single "
+                   "accepted lot may be worse.")
+    return out
