@@ -71,6 +71,9 @@ CHANGED: dict[str, str] = {
     "design_double_defects:json.poisson_design": "for nonconformities per unit the Poisson "
                                                  "model is exact: the plan itself, as for "
                                                  "single plans",
+    "check_variables_unknown_both:json": "two-limit plans with sigma unknown: check now uses the "
+                                    "plan's own OC, as every other command does",
+    "check_variables_unknown_both:exit": "see check_variables_unknown_both:json",
     "next_single_accept:json.notation": "single plans now print their notation",
     "next_single_reject_early:json.notation": "single plans now print their notation",
     "next_single_defects_continue:json.notation": "single plans now print their notation",

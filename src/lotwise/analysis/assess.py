@@ -48,7 +48,7 @@ RQL 8 %:
 >>> from lotwise.families.base import parse_plan
 >>> a = assess(parse_plan("n=80,c=2"), Targets(aql=0.01, rql=0.08), Scope())
 >>> a.meets, round(a.to_json()["beta"], 4)
-(True, 0.0131)
+(True, 0.0404)
 """
 
 from __future__ import annotations
@@ -197,14 +197,14 @@ def assess(plan: Plan, targets: Targets, scope: Scope | None = None, model: str 
     extra_statements = []
     if fam.extras is not None:
         extra = dict(fam.extras(plan, targets, scope, model, rep))
-        extra_statements = extra.pop("statements", [])
+        extra_statements += extra.pop("statements", [])
         rep.update(extra)
     if design is not None:
         rep["feasible"] = True
-        report_extra = getattr(design, "report_extra", None)
-        if callable(report_extra):
-            rep.update(report_extra())
-    rep["statements"] = _statements(rep, plan, scope) + list(extra_statements) + [SAFETY]
+        extra = dict(design.report_extra())
+        extra_statements += [s for s in extra.pop("statements", []) if s != SAFETY]
+        rep.update(extra)
+    rep["statements"] = _statements(rep, plan, scope) + extra_statements + [SAFETY]
     return Assessment(plan=plan, targets=targets, scope=scope, model=model, design=design,
                       report=rep)
 

@@ -92,9 +92,10 @@ def design_cmd(*, aql, rql, alpha, beta, sigma, sigma_value, limit, lower, upper
                              sigma_value=sv, lower=lo, upper=up, max_n=cap)
     except Infeasible as exc:
         common.infeasible(exc, as_json, base)
-    rep = d.as_dict()
-    rep["feasible"] = True
-    rep["lot_size"] = nlot
+    from lotwise.analysis.assess import assess
+    from lotwise.core.types import Scope
+
+    rep = assess(d.plan, d.targets, Scope(lot_size=nlot), design=d).to_json()
     if nlot is not None and d.n >= nlot:
         rep["full_inspection"] = True
         rep["statements"].insert(0, f"The sample ({d.n}) is not smaller than the lot of {nlot}: "
@@ -169,46 +170,18 @@ def check_cmd(plan, *, aql, rql, alpha, beta, as_json):
     if not r > a:
         common.fail(f"the RQL ({format_level(r)}) must be above the AQL ({format_level(a)})", 1,
                     {"feasible": False, "reason": "rql must be above aql"}, as_json)
-    sim = plan.exact_model == "estimate-simulated"
-    if sim:
-        from lotwise.families.variables import simulate_estimate_method
+    from lotwise.analysis.assess import assess
+    from lotwise.core.types import Scope, Targets
 
-        pa, se = simulate_estimate_method(plan.n, plan.m, [a, r])
-        pa_a, pa_r = float(pa[0].min()), float(pa[1].max())
-        se_a, se_r = float(se[0][pa[0].argmin()]), float(se[1][pa[1].argmax()])
-    else:
-        pa_a, pa_r = _risks(plan, a, r)
-    meets = (1 - pa_a) <= al + 1e-12 and pa_r <= be + 1e-12
-    rep = {"scheme": "variables", **plan.to_dict(), "targets": {"aql": a, "alpha": al,
-                                                                 "rql": r, "beta": be},
-           "pa_aql": pa_a, "pa_rql": pa_r, "alpha": 1 - pa_a, "beta": pa_r, "meets": meets}
-    if sim:
-        one = plan.pa([a, r], "noncentral-t")
-        rep["simulated"] = {"se_aql": se_a, "se_rql": se_r}
-        rep["one_tail_exact"] = {"pa_aql": float(one[0]), "pa_rql": float(one[1])}
-    if plan.limit == "both" and plan.sigma == "known" and plan.width is None:
-        rep["convention"] = "worst case over where the mean sits (tolerance width not given)"
+    rep = assess(plan, Targets(aql=a, rql=r, alpha=al, beta=be), Scope()).to_json()
+    meets = rep["meets"]
     if as_json:
         common.emit_json(rep)
     else:
-        verdict = "meets both targets" if meets else "FALLS SHORT"
-        lines = [f"Audit of variables plan {plan.label}: {verdict}",
-                 f"  method    {plan.method}; model {plan.exact_model}",
-                 f"  accepts at the AQL {format_level(a)}: Pa {pa_a:.5f}, alpha {_pct(1 - pa_a)} "
-                 f"(target {_pct(al)})",
-                 f"  accepts at the RQL {format_level(r)}: Pa {pa_r:.5f}, beta {_pct(pa_r)} "
-                 f"(target {_pct(be)})"]
-        if sim:
-            lines.append(f"  (simulated worst split of the nonconforming between the tails, "
-                         f"standard error {max(se_a, se_r):.4f}; with the mean near one limit "
-                         f"exactly {rep['one_tail_exact']['pa_aql']:.5f} and "
-                         f"{rep['one_tail_exact']['pa_rql']:.5f})")
-        if "convention" in rep:
-            lines.append(f"  (two limits: {rep['convention']})")
-        from lotwise.families.variables import SAFETY
+        from lotwise.analysis.report import render_assessment
 
-        lines.append(f"  - {SAFETY}")
-        typer.echo("\n".join(lines))
+        verdict = "meets both targets" if meets else "FALLS SHORT"
+        typer.echo(render_assessment(rep, f"Audit of the variables plan {plan.label}: {verdict}"))
     raise typer.Exit(0 if meets else 1)
 
 

@@ -690,6 +690,39 @@ class VariablesPlan(Plan):
         pa = pa.max(axis=1) if envelope == "upper" else pa.min(axis=1)
         return float(pa[0]) if scalar else pa
 
+    # -- the plan interface: a process curve under the plan's own models --------
+    attribute_plan = False
+
+    def models_for(self, scope) -> tuple[str, ...]:
+        return self.models
+
+    def judging_model(self, scope, model: str | None = None) -> str:
+        return self.exact_model
+
+    def check_scope(self, scope) -> None:
+        """Variables plans sample a normal process; the lot size does not enter."""
+
+    def risks(self, targets, scope, model: str):
+        """Risks at the targets; a two-limit band is judged at its worst edge
+        for each side (the producer's at the AQL, the consumer's at the RQL)."""
+        from lotwise.core.types import TOL
+        from lotwise.families.base import ModelRisk
+
+        pa_aql = float(self.pa(targets.aql, model, envelope="lower"))
+        pa_rql = float(self.pa(targets.rql, model, envelope="upper"))
+        alpha = 1.0 - pa_aql
+        return ModelRisk(model=model, pa_aql=pa_aql, pa_rql=pa_rql, alpha=alpha, beta=pa_rql,
+                         meets_alpha=bool(alpha <= targets.alpha + TOL),
+                         meets_beta=bool(pa_rql <= targets.beta + TOL))
+
+    def quality_at(self, prob: float, model: str, scope, side: str = "producer") -> float:
+        """Quality level where ``Pa`` equals ``prob``, on the band edge that
+        matters for ``side`` (lower edge for the producer's)."""
+        from lotwise.core.search import invert_level
+
+        env = "lower" if side == "producer" else "upper"
+        return invert_level(_Edge(self, env), prob, model, scope)
+
     @property
     def k_equivalent(self) -> float:
         """For the estimate method: the ``k`` whose one-limit s-method accepts
@@ -727,6 +760,16 @@ def _float(text, option, key):
     if not math.isfinite(v):
         raise InputError(f"{option} {key} ({text!r}) must be a finite number")
     return v
+
+
+class _Edge:
+    """One edge of a two-limit plan's OC band, as an object with ``pa``."""
+
+    def __init__(self, plan, envelope: str):
+        self.plan, self.envelope = plan, envelope
+
+    def pa(self, p, model=None, scope=None, rounding: str = "nearest"):
+        return self.plan.pa(p, model, scope, envelope=self.envelope)
 
 
 def parse_variables(pairs: dict, text: str, option: str) -> VariablesPlan:
@@ -1043,6 +1086,10 @@ class VariablesDesign:
                    "attributes plan when normality is doubtful.")
         out.append(SAFETY)
         return out
+
+    def report_extra(self) -> dict:
+        """What the design adds to the plan's assessment (see :meth:`as_dict`)."""
+        return self.as_dict()
 
     def as_dict(self) -> dict:
         """The JSON contract: ``scheme``, ``sigma``, ``n``, ``k``, ``pa_aql``,
@@ -1458,8 +1505,23 @@ def _simulation_report(plan, targets, reps, seed, totals=None) -> dict:
     }
 
 
+def report_extras(plan, targets, scope, model: str, report: dict) -> dict:
+    """The two-limit band's conventions beside the plan's risks."""
+    out = {}
+    if plan.limit == "both" and plan.sigma == "unknown":
+        pa, se = simulate_estimate_method(plan.n, plan.m, [targets.aql, targets.rql])
+        out["simulated"] = {"se_aql": float(se[0][pa[0].argmin()]),
+                            "se_rql": float(se[1][pa[1].argmax()])}
+        one = plan.pa([targets.aql, targets.rql], "noncentral-t")
+        out["one_tail_exact"] = {"pa_aql": float(one[0]), "pa_rql": float(one[1])}
+    if plan.limit == "both" and plan.sigma == "known" and plan.width is None:
+        out["convention"] = "worst case over where the mean sits (tolerance width not given)"
+    return out
+
+
 FAMILY = Family(
     name="variables", plan_class=VariablesPlan, parse=parse_variables, keys_hint=("k",),
+    extras=report_extras,
     design=design_variables,
     design_options={"sigma": "known or unknown", "sigma_value": "known process sigma",
                     "limit": "upper, lower or both", "upper": "upper specification limit",
