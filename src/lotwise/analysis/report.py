@@ -73,7 +73,7 @@ def context_lines(rep: dict, pct=format_pct) -> list[str]:
     t = rep["targets"]
     counted = "nonconformities per unit" if per_unit else "fraction nonconforming"
     lot = f"lot of {rep['lot_size']}" if rep["lot_size"] else "no lot size (process)"
-    return [f"  judged by {_MODEL_WORDS[rep['model']]}; {counted}; {lot}",
+    return [f"  judged by {_MODEL_WORDS.get(rep['model'], rep['model'])}; {counted}; {lot}",
             f"  targets   AQL {format_level(t['aql'], per_unit)} at alpha {pct(t['alpha'])}, "
             f"RQL {format_level(t['rql'], per_unit)} at beta {pct(t['beta'])}"]
 

@@ -227,7 +227,7 @@ class Plan(ABC):
         """Refuse a scope the plan cannot be used in (e.g. a sample above the lot)."""
         if scope.lot_size and self.max_sample > scope.lot_size:
             raise InputError(f"the plan inspects up to {self.max_sample} units, more than "
-                             f"the lot size ({scope.lot_size})")
+                             f"--lot-size ({scope.lot_size})")
 
     def risks(self, targets, scope: Scope, model: str) -> ModelRisk:
         """Acceptance probabilities and risks at the targets under ``model``; under

@@ -309,7 +309,8 @@ class SequentialPlan(Plan):
         return [f"plan      item by item: accept when d <= -{self.h1:.4g} + {self.s:.4g} n, "
                 f"reject when d >= {self.h2:.4g} + {self.s:.4g} n;",
                 f"          truncated at n = {self.truncate} (a lot still undecided then is "
-                f"accepted if its count is at most {self.midpoint:.4g}, rejected otherwise)"]
+                "accepted if its count is at most the midpoint line s*n0 + (h2 - h1)/2 = "
+                f"{self.midpoint:.4g}, rejected otherwise)"]
 
     def notation(self) -> str:
         return (f"sequential: h1={self.h1!r},h2={self.h2!r},s={self.s!r},"
