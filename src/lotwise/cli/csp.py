@@ -18,6 +18,12 @@ from lotwise.core.quantities import (Infeasible, InputError, format_pct, parse_c
 
 SCHEMES = ("csp1", "csp2", "csp3")
 
+#: Options of ``design`` that do not apply to CSP plans, in the order
+#: :func:`lotwise.cli.single.design` passes their values.
+DESIGN_UNUSED = ("--aql", "--rql", "--lot-size", "--defects", "--c", "--n", "--max-n",
+                 "--sigma", "--sigma-value", "--limit", "--lower", "--upper", "--ratio",
+                 "--truncate", "--plot")
+
 
 def _refuse(scheme: str, given: dict) -> None:
     """One line naming the first option that does not apply to a CSP plan."""
@@ -54,10 +60,14 @@ def _pct(x) -> str:
 
 def design_cmd(*, scheme, aoql, f_values, i, minimize, process_average, model, unused,
                as_json):
-    """``lotwise design --scheme csp1|csp2|csp3``."""
+    """``lotwise design --scheme csp1|csp2|csp3`` (``unused``: the values of
+    :data:`DESIGN_UNUSED`)."""
     from lotwise.families.csp import MAX_I, design_csp
 
-    _refuse(scheme, unused)
+    if scheme not in SCHEMES:
+        opt, val = ("--f", ", ".join(f_values)) if f_values else ("--i", i)
+        raise InputError(f"{opt} ({val}) applies to --scheme csp1, csp2 or csp3")
+    _refuse(scheme, dict(zip(DESIGN_UNUSED, unused)))
     _model(model)
     if aoql is None:
         raise InputError(f"--aoql is required for --scheme {scheme} (for example --aoql 2%)")

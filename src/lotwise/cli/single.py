@@ -76,20 +76,14 @@ def design(
     from lotwise.families.single import design_single
     from lotwise.analysis.report import render_single, single_report
 
-    if scheme in ("csp1", "csp2", "csp3"):
+    if scheme in ("csp1", "csp2", "csp3") or csp_f or csp_i is not None:
         from .csp import design_cmd as csp_design
 
+        given = (aql, rql, lot, defects, c, n, max_n, sigma, sigma_value, limit, lower, upper,
+                 ratio, truncate, plot)
         return csp_design(scheme=scheme, aoql=aoql, f_values=csp_f, i=csp_i, minimize=minimize,
                           process_average=process_average, model=model, as_json=as_json,
-                          unused={"--aql": aql, "--rql": rql, "--lot-size": lot,
-                                  "--defects": defects, "--c": c, "--n": n, "--max-n": max_n,
-                                  "--sigma": sigma, "--sigma-value": sigma_value,
-                                  "--limit": limit, "--lower": lower, "--upper": upper,
-                                  "--ratio": ratio, "--truncate": truncate, "--plot": plot})
-    for opt, val in (("--f", csp_f), ("--i", csp_i)):
-        if val:
-            raise InputError(f"{opt} ({val if opt == '--i' else ', '.join(val)}) applies to "
-                             "--scheme csp1, csp2 or csp3")
+                          unused=given)
     if scheme == "variables":
         from .variables import design_cmd
 

@@ -125,7 +125,6 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 from enum import StrEnum
-from functools import lru_cache
 from typing import ClassVar
 
 import numpy as np
@@ -347,7 +346,7 @@ class CspPlan(Plan):
         exact by dynamic programming over the plan's chain
         (:func:`transition_matrix`): the state distribution after ``t`` units is
         ``e0 P^t``, summed over ``t < run_length`` by binary doubling of ``P``
-        for chains of at most 300 states, unit by unit otherwise (``method``
+        or unit by unit, whichever is expected to be faster (``method``
         forces one or the other).
         """
         _whole(run_length, "run length")
@@ -519,7 +518,6 @@ def make_plan(scheme: str, *, i: int, f: float, k: int | None = None,
 
 # --- the AOQL ------------------------------------------------------------------
 
-@lru_cache(maxsize=4096)
 def _aoql(plan: CspPlan) -> tuple[float, float]:
     if plan.f == 1.0:
         return 0.0, 0.0  # every unit inspected: nothing nonconforming goes out
@@ -538,8 +536,14 @@ def _aoql(plan: CspPlan) -> tuple[float, float]:
 
 # --- the chain, step by step ------------------------------------------------------
 
-#: Chains up to this many states are summed by doubling (dense powers).
-_DENSE_STATES = 300
+#: Chains above this many states are never summed by dense doubling (memory).
+_DENSE_STATES = 3000
+
+
+def _doubling_pays(n: int, steps: int) -> bool:
+    """Dense doubling costs about ``2 log2(steps) n^3`` flops (taken at 5e9 a
+    second), stepping about 10 microseconds a unit."""
+    return n <= _DENSE_STATES and 2.0 * math.log2(steps + 1) * n**3 / 5e9 < 1e-5 * steps
 
 
 def _layout(plan: CspPlan) -> tuple[int, int, int]:
@@ -624,12 +628,12 @@ def _propagate(plan: CspPlan, p: np.ndarray, steps: int, method: str = "auto"):
 
     ``method``: ``doubling`` (dense binary powers, about ``2 log2(steps)``
     products of ``n x n`` matrices), ``stepping`` (one sparse product per
-    unit) or ``auto`` (doubling for chains of at most 300 states).
+    unit) or ``auto`` (whichever :func:`_doubling_pays` expects to be faster).
     """
     mats = [transition_matrix(plan, float(x)) for x in p]
     n = mats[0].shape[0]
     if method == "auto":
-        method = "doubling" if n <= _DENSE_STATES else "stepping"
+        method = "doubling" if _doubling_pays(n, steps) else "stepping"
     if method == "doubling":
         totals = np.array([_sum_doubling(m.toarray(), steps) for m in mats])
     elif method == "stepping":
@@ -930,7 +934,8 @@ def next_units(plan: CspPlan, history, *, seed: int | None = None,
     every ``m``-th unit counted from the last unit inspected under a 100 %
     phase.
     """
-    marks = parse_history(history) if isinstance(history, str) else tuple(history)
+    marks = parse_history(history) if isinstance(history, str) else \
+        tuple(Mark(m) for m in history)
     m = None
     if systematic:
         m = round(1.0 / plan.f)
