@@ -79,7 +79,8 @@ def _stationary(P):
 
 
 CHAIN_CASES = [
-    ("csp1", 38, 0.1, None, 4, 0.02), ("csp1", 5, 0.5, None, 4, 0.2), ("csp1", 1, 0.25, None, 4, 0.4),
+    ("csp1", 38, 0.1, None, 4, 0.02), ("csp1", 5, 0.5, None, 4, 0.2),
+    ("csp1", 1, 0.25, None, 4, 0.4),
     ("csp2", 20, 0.2, None, 4, 0.04), ("csp2", 12, 1 / 7, 3, 4, 0.07), ("csp2", 1, 0.5, 1, 4, 0.3),
     ("csp3", 20, 0.2, None, 4, 0.04), ("csp3", 9, 1 / 3, 5, 2, 0.1), ("csp3", 2, 0.1, 1, 1, 0.5),
 ]
@@ -404,7 +405,8 @@ def _walk(scheme, i, f, p, M, k, burst):
             b = go(depth + 1, "full", 0)
             return 1 + q * a[0] + p * b[0], q * a[1] + p * b[1]
         if phase == "burst":
-            a = go(depth + 1, "prob", 0) if count + 1 == burst else go(depth + 1, "burst", count + 1)
+            a = (go(depth + 1, "prob", 0) if count + 1 == burst
+                 else go(depth + 1, "burst", count + 1))
             b = go(depth + 1, "full", 0)
             return 1 + q * a[0] + p * b[0], q * a[1] + p * b[1]
         stay = go(depth + 1, phase, count)

@@ -86,9 +86,10 @@ Design
 For fixed ``f``, ``pa`` falls at every ``p`` as ``i`` grows (``q^i``
 falls; for CSP-2/3 with ``k`` tied to ``i`` also ``1 - q^k`` rises), so the
 AOQ falls pointwise and the AOQL is non-increasing in ``i``: the smallest
-``i`` meeting an AOQL limit is found by doubling and bisection over whole
-numbers. For fixed ``i`` (and ``k``) the AOQL falls as ``f`` grows (``pa``
-and ``1 - f`` both fall), so the smallest ``f`` of a ladder is found by
+``i`` meeting an AOQL limit is found by bisection over whole numbers, in a
+bracket widened around a first guess until one end fails and the other
+meets the limit. For fixed ``i`` (and ``k``) the AOQL falls as ``f`` grows
+(``pa`` and ``1 - f`` both fall), so the smallest ``f`` of a ladder is found by
 bisection over the sorted ladder. At a process average ``P`` the AFI
 ``1 - (1 - f) pa(P)`` rises with ``i``, so for each ``f`` only the
 smallest ``i`` meeting the limit can have the least AFI.
@@ -523,9 +524,12 @@ def _aoql(plan: CspPlan) -> tuple[float, float]:
         return 0.0, 0.0  # every unit inspected: nothing nonconforming goes out
     span = plan.i + plan.probation + plan.burst_units + 1
     lo = 1e-3 / span
-    ps = np.geomspace(lo, 1.0, int(_GRID_PER_DECADE * math.log10(1.0 / lo)) + 2)
-    p, pa, _ = plan._shares(ps)
-    vals = p * (1.0 - plan.f) * pa
+    count = int(_GRID_PER_DECADE * math.log10(1.0 / lo)) + 2
+    ps = np.exp(np.linspace(math.log(lo), 0.0, count))
+    ps[-1] = 1.0
+    with np.errstate(divide="ignore", invalid="ignore"):
+        U, S, B = plan._weights(ps, np)
+    vals = ps * (1.0 - plan.f) * S / (U + S + B)
     j = int(np.argmax(vals))
     a, b = float(ps[max(j - 1, 0)]), float(ps[min(j + 1, len(ps) - 1)])
     x, fx = brent_max(plan._aoq_scalar, a, b)
@@ -714,26 +718,35 @@ class CspDesign:
 
 
 def _smallest_i(scheme, f, limit, k, burst, counter):
-    """Smallest ``i`` whose AOQL is at most ``limit`` (AOQL non-increasing in ``i``)."""
-    def meets(i):
-        counter[0] += 1
-        plan = make_plan(scheme, i=i, f=f, k=k, burst=burst)
-        return plan.aoql()[0] <= limit
+    """Smallest ``i`` whose AOQL is at most ``limit``.
 
-    if meets(1):
+    The AOQL is non-increasing in ``i`` (module notes), so a bisection between
+    an ``i`` that fails and one that meets the limit is exact. The bracket
+    starts from a guess (the AOQL falls roughly like ``1/i``: the guess is
+    ``64 AOQL(64) / limit``) and is widened by factors of 5/4 upwards or 2
+    downwards until its ends fail and meet.
+    """
+    def aoql(i):
+        counter[0] += 1
+        return make_plan(scheme, i=i, f=f, k=k, burst=burst).aoql()[0]
+
+    if aoql(1) <= limit:
         return 1
-    lo, hi = 1, 2  # meets(lo) is false
-    while not meets(hi):
-        lo, hi = hi, 2 * hi
-        if hi > MAX_I:
-            if meets(MAX_I):
-                hi = MAX_I
-                break
-            raise Infeasible(f"no clearance number up to {MAX_I:,} keeps the AOQL at or below "
-                             f"{limit:.6g} with f = {format_f(f)}", {"i_max": MAX_I})
-    while hi - lo > 1:
+    guess = min(MAX_I, max(2, math.ceil(64 * aoql(64) / limit)))
+    if aoql(guess) <= limit:
+        lo, hi = max(1, guess // 2), guess
+        while lo > 1 and aoql(lo) <= limit:
+            lo, hi = max(1, lo // 2), lo
+    else:
+        lo, hi = guess, min(MAX_I, math.ceil(1.25 * guess))
+        while aoql(hi) > limit:
+            if hi == MAX_I:
+                raise Infeasible(f"no clearance number up to {MAX_I:,} keeps the AOQL at or "
+                                 f"below {limit:.6g} with f = {format_f(f)}", {"i_max": MAX_I})
+            lo, hi = hi, min(MAX_I, math.ceil(1.25 * hi))
+    while hi - lo > 1:  # aoql(lo) > limit >= aoql(hi)
         mid = (lo + hi) // 2
-        if meets(mid):
+        if aoql(mid) <= limit:
             hi = mid
         else:
             lo = mid
