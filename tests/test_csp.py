@@ -769,3 +769,34 @@ def test_import_hygiene(argv, scheme):
     r = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=60)
     assert json.loads(r.stdout)["scheme"] == scheme
     assert r.stderr.strip() == "LOADED:"
+
+
+def test_every_json_key_is_in_the_readme(capsys, tmp_path):
+    # Project rule: every JSON key is documented in README.md (exact match of
+    # the key in backticks).
+    from pathlib import Path
+
+    readme = (Path(__file__).resolve().parents[1] / "README.md").read_text(encoding="utf-8")
+    runs = [["design", "--scheme", "csp3", "--aoql", "1%", "--f", "1/10",
+             "--process-average", "0.2%", "--json"],
+            ["check", "--plan", "csp3: i=20,f=0.2", "--at", "1%", "--run-length", "50",
+             "--json"],
+            ["oc", "--plan", "csp3: i=20,f=0.2", "--points", "3", "--json"],
+            ["next", "--plan", "csp3: i=20,f=0.2", "--history", "ok", "--seed", "1", "--json"]]
+    keys = set()
+
+    def walk(x):
+        if isinstance(x, dict):
+            for k, v in x.items():
+                keys.add(k)
+                walk(v)
+        elif isinstance(x, list):
+            for v in x:
+                walk(v)
+
+    for argv in runs:
+        code, out, _ = run(capsys, *argv)
+        assert code == 0
+        walk(json.loads(out))
+    missing = sorted(k for k in keys if f"`{k}`" not in readme)
+    assert missing == []
