@@ -271,8 +271,10 @@ class CspPlan(Plan):
     # -- long-run figures --------------------------------------------------------
     def _shares(self, p):
         p = np.asarray(p, dtype=float)
-        if np.any((p < 0) | (p > 1)) or np.any(~np.isfinite(p)):
-            raise InputError(f"quality level ({p}) must be a fraction from 0 to 1")
+        bad = ~((p >= 0) & (p <= 1))  # also NaN
+        if np.any(bad):
+            raise InputError(f"quality level ({p[bad].flat[0] if p.ndim else p}) must be a "
+                             "fraction nonconforming from 0 to 1")
         with np.errstate(divide="ignore", invalid="ignore"):
             U, S, B = self._weights(p, np)
         total = U + S + B
@@ -316,7 +318,8 @@ class CspPlan(Plan):
         """Average run of units in each phase at ``p``: ``full`` (one spell of
         100 % inspection), ``sampling`` (from leaving 100 % inspection until
         returning; bursts included) and, for CSP-3, ``burst`` (one burst).
-        A run that never ends (``p = 0``) is ``inf``."""
+        A run that never ends is ``inf``: sampling at ``p = 0``, 100 %
+        inspection at ``p = 1`` (where sampling is never reached: 0)."""
         p = float(p)
         i, k, b = self.i, self.probation, self.burst_units
         if p == 0.0:
