@@ -77,6 +77,10 @@ CHANGED: dict[str, str] = {
     "next_single_accept:json.notation": "single plans now print their notation",
     "next_single_reject_early:json.notation": "single plans now print their notation",
     "next_single_defects_continue:json.notation": "single plans now print their notation",
+    # lotwise validate gained the reference cases of continuous sampling plans (CSP-1/2/3).
+    "validate_reference_cases:json.cases": "continuous sampling reference cases added",
+    "validate_reference_cases:json.passed": "continuous sampling reference cases added",
+    "validate_reference_cases:json.results": "continuous sampling reference cases added",
 }
 
 #: What ``main`` prints on stderr when a command failed with an internal error.

@@ -328,13 +328,30 @@ def next_unit(
                                         help="Nonconforming items (or nonconformities) found "
                                              "so far, all stages together."),
     defects: bool = common.DEFECTS,
+    history: Optional[str] = typer.Option(None, "--history", help="csp1/2/3 plans: results so far (ok, bad, - for a unit passed uninspected; comma, space or newline separated) or a file of them."),
+    seed: Optional[str] = typer.Option(None, "--seed", help="csp1/2/3 plans: seed of the random choice of units to inspect."),
+    systematic: bool = typer.Option(False, "--systematic", help="csp1/2/3 plans: inspect every m-th unit (f = 1/m) instead of a random choice."),
     as_json: bool = common.JSON,
 ):
-    """On the bench: accept, reject or continue, and how many more units at most."""
+    """On the bench: accept, reject or continue, and how many more units at most.
+
+    For a continuous sampling plan (csp1/2/3): the phase, the conforming units
+    still needed to clear it and the next units to inspect, from --history.
+    """
     from lotwise.families.base import parse_plan
 
     if plan is None:
         raise InputError("--plan is required, for example --plan \"n1=50,c1=1,n2=100,c2=3\"")
+    if plan.split(":", 1)[0].strip().lower() in ("csp1", "csp2", "csp3"):
+        from .csp import next_cmd
+
+        return next_cmd(parse_plan(plan), history=history, seed=seed, systematic=systematic,
+                        as_json=as_json, unused={"--inspected": inspected, "--found": found,
+                                                 "--defects": defects or None})
+    for opt, val in (("--history", history), ("--seed", seed), ("--systematic", systematic)):
+        if val is not None and val is not False:
+            raise InputError(f"{opt} ({val!r}) applies to continuous sampling plans (csp1, csp2, "
+                             "csp3)")
     if inspected is None:
         raise InputError("--inspected is required (units inspected so far, for example 50)")
     if found is None:

@@ -46,7 +46,7 @@ def design(
     lot: Optional[str] = common.LOT,
     model: Optional[str] = common.MODEL,
     defects: bool = common.DEFECTS,
-    scheme: str = typer.Option("single", "--scheme", help="Plan family: single, double, sequential, compare-all (the three side by side), chain (ChSP-1) or variables."),
+    scheme: str = typer.Option("single", "--scheme", help="Plan family: single, double, sequential, compare-all (the three side by side), chain (ChSP-1), variables, or csp1, csp2, csp3 (continuous sampling)."),
     c: Optional[str] = typer.Option(None, "--c", help="Fix the acceptance number (0 for accept-on-zero)."),
     n: Optional[str] = typer.Option(None, "--n", help="Fix the sample size and find c."),
     max_n: Optional[str] = typer.Option(None, "--max-n", help="Largest affordable sample."),
@@ -67,6 +67,8 @@ def design(
                                        help="double, sequential, compare-all: draw the chart "
                                             "to PATH.png, .svg or .pdf."),
     force: bool = typer.Option(False, "--force", help="Overwrite files not written by lotwise."),
+    csp_f: Optional[List[str]] = typer.Option(None, "--f", help="csp1/2/3: sampling fraction (0.1, 1/10 or 10%); repeat for the list --minimize afi searches."),
+    csp_i: Optional[str] = typer.Option(None, "--i", help="csp1/2/3: clearance number; find the smallest f instead."),
     as_json: bool = common.JSON,
 ):
     """Design the plan with the smallest sample meeting both risks."""
@@ -74,6 +76,14 @@ def design(
     from lotwise.core.types import Targets
     from lotwise.families.single import design_single
 
+    if scheme in ("csp1", "csp2", "csp3") or csp_f or csp_i is not None:
+        from .csp import design_cmd as csp_design
+
+        given = (aql, rql, lot, defects, c, n, max_n, sigma, sigma_value, limit, lower, upper,
+                 ratio, truncate, plot)
+        return csp_design(scheme=scheme, aoql=aoql, f_values=csp_f, i=csp_i, minimize=minimize,
+                          process_average=process_average, model=model, as_json=as_json,
+                          unused=given)
     if scheme == "variables":
         from .variables import design_cmd
 
@@ -90,7 +100,7 @@ def design(
                             as_json=as_json)
     if scheme not in ("single", "chain"):
         raise InputError(f"--scheme ({scheme}) must be one of: single, double, sequential, "
-                         "compare-all, chain, variables")
+                         "compare-all, chain, variables, csp1, csp2, csp3")
     if minimize is not None or scheme == "chain":
         from . import rectifying as rect_cli
 
@@ -144,6 +154,8 @@ def check(
     skip_lot: Optional[str] = typer.Option(None, "--skip-lot", help='Compare with skip-lot SkSP-2 over this plan, e.g. "i=4,f=0.25".'),
     aoq_plot: Optional[str] = typer.Option(None, "--aoq-plot", help="With --lot-size: draw OC, AOQ and ATI curves to PATH.png, .svg or .pdf."),
     force: bool = typer.Option(False, "--force", help="Overwrite files not written by lotwise."),
+    at: Optional[List[str]] = typer.Option(None, "--at", help="csp1/2/3 plans: fractions nonconforming to evaluate (repeatable or comma-separated)."),
+    run_length: Optional[str] = typer.Option(None, "--run-length", help="csp1/2/3 plans: also the exact figures for a run of this many units starting in 100 % inspection."),
     as_json: bool = common.JSON,
 ):
     """Audit a plan (or re-verify plan files): the risks it really carries.
@@ -164,6 +176,17 @@ def check(
 
         raise typer.Exit(check_folder(paths, as_json))
     p = _plan_from(plan, n, c)
+    if p.scheme in ("csp1", "csp2", "csp3"):
+        from .csp import check_cmd as csp_check
+
+        return csp_check(p, at=at, run_length=run_length, model=model, as_json=as_json,
+                         unused={"--aql": aql, "--rql": rql, "--lot-size": lot,
+                                 "--defects": defects, "--aoq-formula": aoq_formula,
+                                 "--skip-lot": skip_lot, "--aoq-plot": aoq_plot})
+    for opt, val in (("--at", at), ("--run-length", run_length)):
+        if val:
+            raise InputError(f"{opt} ({val if opt == '--run-length' else ', '.join(val)}) "
+                             "applies to continuous sampling plans (csp1, csp2, csp3)")
     if p.scheme == "variables":
         from .variables import check_cmd
 
@@ -263,6 +286,13 @@ def oc_table(
     from lotwise.analysis.audit import oc_grid
 
     p = _plan_from(plan, n, c)
+    if p.scheme in ("csp1", "csp2", "csp3"):
+        from .csp import oc_cmd as csp_oc
+
+        return csp_oc(p, max_p=max_p, points=points, at=at, csv=csv, plot=plot, model=model,
+                      force=force, as_json=as_json,
+                      unused={"--lot-size": lot, "--defects": defects, "--aql": aql,
+                              "--rql": rql})
     if p.scheme == "variables":
         from .variables import oc_cmd
 

@@ -14,7 +14,9 @@ variables, ...) is one module in :mod:`lotwise.families` holding
 
 :data:`REGISTRY` maps a family name to its module; modules are imported only
 when a family is used, so the command line starts fast. Adding a family is one
-module plus one line in :data:`REGISTRY`.
+module plus one line in :data:`REGISTRY` (a module holding several related
+families, such as :mod:`lotwise.families.csp`, gives a ``FAMILIES`` dict
+instead of ``FAMILY`` and one line per family name).
 
 This follows the pattern of statsmodels' power classes: a subclass
 implements one probability method; the base class supplies the solvers.
@@ -391,6 +393,7 @@ REGISTRY: dict[str, str] = {
     "chain": "lotwise.families.chain",
     "skiplot": "lotwise.families.skiplot",
     "variables": "lotwise.families.variables",
+    "csp1": "lotwise.families.csp", "csp2": "lotwise.families.csp", "csp3": "lotwise.families.csp",
 }
 
 
@@ -399,7 +402,9 @@ def family(name: str, option: str = "--scheme") -> Family:
     key = str(name).strip().lower()
     if key not in REGISTRY:
         raise InputError(f"{option} ({name}) must be one of: {', '.join(REGISTRY)}")
-    return importlib.import_module(REGISTRY[key]).FAMILY
+    module = importlib.import_module(REGISTRY[key])
+    # a module holding several families (csp) names them in FAMILIES
+    return getattr(module, "FAMILIES", {}).get(key) or module.FAMILY
 
 
 def families() -> list[Family]:

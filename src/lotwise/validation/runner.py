@@ -460,6 +460,7 @@ PROVIDERS: list[str] = [
     "lotwise.validation.cases:multistage_cases",
     "lotwise.validation.cases:sequential_cases",
     "lotwise.validation.cases:variables_cases",
+    "lotwise.validation.csp_cases:validation_cases",
 ]
 
 

@@ -1,0 +1,311 @@
+"""Command-line glue for continuous sampling plans CSP-1, CSP-2 and CSP-3.
+
+Called from ``design --scheme csp1|csp2|csp3``, ``check``, ``oc`` (in
+:mod:`lotwise.cli.single`) and ``next`` (in :mod:`lotwise.cli.multistage`)
+when the plan is a CSP plan; the library side is :mod:`lotwise.families.csp`.
+"""
+
+from __future__ import annotations
+
+import math
+import os
+
+import typer
+
+from . import common
+from lotwise.core.quantities import (Infeasible, InputError, format_pct, parse_count,
+                                     parse_level)
+
+SCHEMES = ("csp1", "csp2", "csp3")
+
+#: Options of ``design`` that do not apply to CSP plans, in the order
+#: :func:`lotwise.cli.single.design` passes their values.
+DESIGN_UNUSED = ("--aql", "--rql", "--lot-size", "--defects", "--c", "--n", "--max-n",
+                 "--sigma", "--sigma-value", "--limit", "--lower", "--upper", "--ratio",
+                 "--truncate", "--plot")
+
+
+def _refuse(scheme: str, given: dict) -> None:
+    """One line naming the first option that does not apply to a CSP plan."""
+    for opt, val in given.items():
+        if val is not None and val is not False:
+            shown = "" if val is True else f" ({val})"
+            raise InputError(f"{opt}{shown} does not apply to --scheme {scheme} (a continuous "
+                             "sampling plan for a flow of units, no lots)")
+
+
+def _model(model) -> None:
+    if model is not None and str(model).strip().lower() != "binomial":
+        raise InputError(f"--model ({model}): a continuous sampling plan is judged unit by unit "
+                         "with the binomial model; the hypergeometric and Poisson models do "
+                         "not apply")
+
+
+def _fractions(values) -> list[float]:
+    from lotwise.families.csp import parse_f
+
+    out = []
+    for item in values or []:
+        for part in str(item).split(","):
+            if part.strip():
+                out.append(parse_f(part, "--f"))
+    return out
+
+
+def _pct(x) -> str:
+    return "-" if x is None else format_pct(x, 4)
+
+
+# --- design ----------------------------------------------------------------------
+
+def design_cmd(*, scheme, aoql, f_values, i, minimize, process_average, model, unused,
+               as_json):
+    """``lotwise design --scheme csp1|csp2|csp3`` (``unused``: the values of
+    :data:`DESIGN_UNUSED`)."""
+    from lotwise.families.csp import MAX_I, design_csp
+
+    if scheme not in SCHEMES:
+        opt, val = ("--f", ", ".join(f_values)) if f_values else ("--i", i)
+        raise InputError(f"{opt} ({val}) applies to --scheme csp1, csp2 or csp3")
+    _refuse(scheme, dict(zip(DESIGN_UNUSED, unused)))
+    _model(model)
+    if aoql is None:
+        raise InputError(f"--aoql is required for --scheme {scheme} (for example --aoql 2%)")
+    limit = parse_level(aoql, "--aoql")
+    fs = _fractions(f_values)
+    ii = parse_count(i, "--i", minimum=1, maximum=MAX_I) if i is not None else None
+    pbar = parse_level(process_average, "--process-average") \
+        if process_average is not None else None
+    if minimize is not None:
+        if str(minimize).strip().lower() != "afi":
+            raise InputError(f"--minimize ({minimize}) must be afi for --scheme {scheme}")
+        if ii is not None:
+            raise InputError(f"--i ({ii}) cannot be combined with --minimize afi (it searches "
+                             "i for each f)")
+        kw = {"minimize": "afi", "fractions": fs or None}
+    else:
+        if len(fs) > 1:
+            raise InputError(f"--f is given {len(fs)} times; a list of sampling fractions "
+                             "applies with --minimize afi")
+        if bool(fs) == (ii is not None):
+            raise InputError(f"--scheme {scheme} needs --f (to find the smallest i) or --i "
+                             "(to find the smallest f), not both")
+        kw = {"f": fs[0]} if fs else {"i": ii}
+    base = {"scheme": scheme, "aoql_limit": limit}
+    try:
+        d = design_csp(scheme=scheme, aoql=limit, process_average=pbar, **kw)
+    except Infeasible as exc:
+        common.infeasible(exc, as_json, base)
+    if as_json:
+        common.emit_json(d.as_dict())
+        return
+    typer.echo(_render_design(d))
+
+
+def _render_design(d) -> str:
+    from lotwise.families.csp import SAFETY, format_f
+
+    plan = d.plan
+    what = {"i": f"the smallest clearance number i for f = {format_f(plan.f)}",
+            "f": f"the smallest sampling fraction for i = {plan.i}",
+            "i and f": "the least average fraction inspected at the process average"}
+    lines = [f"{plan.label} ({what[d.searched]} with an AOQL of at most "
+             f"{_pct(d.limit)})",
+             f"  AOQL {_pct(d.aoql)}, reached at {_pct(d.aoql_p)} nonconforming"]
+    if d.process_average is not None:
+        lines.append(f"  At the process average {_pct(d.process_average)}: "
+                     f"{_pct(d.afi_process_average)} of units inspected in the long run")
+    if d.candidates:
+        rows = [[str(c["i"]), format_f(c["f"]), _pct(c["afi"])] for c in d.candidates]
+        lines.append(common.table(rows, ["i", "f", "AFI"]))
+    lines.append(f"  {_procedure(plan)}")
+    lines.append(f"  {SAFETY}")
+    return "\n".join(lines)
+
+
+def _procedure(plan) -> str:
+    from lotwise.families.csp import format_f
+
+    text = (f"Inspect every unit until {plan.i} in a row are conforming, then inspect a "
+            f"fraction {format_f(plan.f)} of the units at random.")
+    if plan.scheme == "csp1":
+        return text + " A nonconforming unit found restores 100 % inspection."
+    if plan.scheme == "csp3":
+        text += (f" A nonconforming unit found: inspect the next {plan.burst} units; a "
+                 "nonconforming one among them restores 100 % inspection.")
+    return text + (f" After a finding, another nonconforming unit among the next {plan.k} "
+                   "inspected restores 100 % inspection.")
+
+
+# --- check and oc ---------------------------------------------------------------------
+
+def _levels(at) -> list[float]:
+    out = []
+    for item in at or []:
+        for part in str(item).split(","):
+            if part.strip():
+                out.append(parse_level(part, "--at"))
+    return out
+
+
+def _level_row(plan, p: float) -> dict:
+    runs = plan.phase_runs(p)
+    return {"p": p, "afi": float(plan.afi(p)), "aoq": float(plan.aoq(p)),
+            "pa": float(plan.pa(p)),
+            "runs": {k: (None if math.isinf(v) else v) for k, v in runs.items()}}
+
+
+def check_cmd(plan, *, at, run_length, model, unused, as_json):
+    """``lotwise check --plan "csp1: ..."``: long-run AFI, AOQ and pa at each
+    ``--at`` level (default: where the AOQL occurs), the AOQL, and with
+    ``--run-length M`` the short-run figures beside them."""
+    from lotwise.families.csp import MAX_RUN
+
+    _refuse(plan.scheme, unused)
+    _model(model)
+    ps = _levels(at)
+    M = parse_count(run_length, "--run-length", minimum=1, maximum=MAX_RUN) \
+        if run_length is not None else None
+    value, where = plan.aoql()
+    if not ps:
+        ps = [where] if where > 0 else []
+    levels = [_level_row(plan, p) for p in ps]
+    if M is not None and ps:
+        afi, pa, aoq = plan.run_figures(ps, M)
+        for row, a, s, o in zip(levels, afi, pa, aoq):
+            row.update({"run_afi": float(a), "run_aoq": float(o), "run_pa": float(s)})
+    out = {**plan.to_dict(), "aoql": value, "aoql_p": where, "levels": levels}
+    if M is not None:
+        out["run_length"] = M
+    if as_json:
+        common.emit_json(out)
+        return
+    typer.echo(_render_check(plan, out))
+
+
+def _render_check(plan, out) -> str:
+    from lotwise.families.csp import SAFETY
+
+    M = out.get("run_length")
+    header = ["p", "AFI", "AOQ", "pa", "100 % run", "sampling run"]
+    if plan.scheme == "csp3":
+        header.append("burst run")
+    if M:
+        header += [f"AFI ({M} units)", f"AOQ ({M} units)"]
+    rows = []
+    for lv in out["levels"]:
+        runs = lv["runs"]
+        row = [_pct(lv["p"]), _pct(lv["afi"]), _pct(lv["aoq"]), f"{lv['pa']:.4f}",
+               _units(runs["full"]), _units(runs["sampling"])]
+        if plan.scheme == "csp3":
+            row.append(_units(runs["burst"]))
+        if M:
+            row += [_pct(lv["run_afi"]), _pct(lv["run_aoq"])]
+        rows.append(row)
+    lines = [f"{plan.label}: AOQL {_pct(out['aoql'])} at "
+             f"{_pct(out['aoql_p'])} nonconforming",
+             common.table(rows, header),
+             "  AFI: long-run fraction of units inspected; AOQ: fraction nonconforming going "
+             "out (units found nonconforming are replaced); pa: fraction of units passed "
+             "under sampling; runs: average units per spell of each phase.",
+             f"  {_procedure(plan)}", f"  {SAFETY}"]
+    if M:
+        lines.insert(3, f"  Short run: the first {M} units after a start in 100 % inspection "
+                        "(exact expectations).")
+    return "\n".join(lines)
+
+
+def _units(x) -> str:
+    return "never ends" if x is None else f"{x:,.1f}"
+
+
+def _nice(x: float) -> float:
+    """Round up to 1, 2, 2.5 or 5 times a power of ten (at most 1)."""
+    if x <= 0:
+        return 1.0
+    e = math.floor(math.log10(x))
+    for m in (1, 2, 2.5, 5, 10):
+        if m * 10**e >= x * (1 - 1e-12):
+            return min(m * 10**e, 1.0)
+    return 1.0
+
+
+def oc_cmd(plan, *, max_p, points, at, csv, plot, model, unused, force, as_json):
+    """``lotwise oc --plan "csp1: ..."``: columns ``p``, ``afi``, ``aoq``, ``pa``."""
+    import numpy as np
+
+    from lotwise.core.types import Scope
+
+    _refuse(plan.scheme, unused)
+    _model(model)
+    if plot is not None:
+        raise InputError(f"--plot ({plot}) is not available for continuous sampling plans; "
+                         "use --csv and a plotting tool of your choice")
+    ps = _levels(at)
+    if ps:
+        grid = np.array(ps)
+    else:
+        k = parse_count(points, "--points", minimum=2, maximum=100_000)
+        top = parse_level(max_p, "--max-p") if max_p is not None else \
+            _nice(plan.quality_at(0.01, "binomial", Scope(), "consumer"))
+        grid = np.linspace(0.0, top, k)
+    header = ["p", "afi", "aoq", "pa"]
+    afi, aoq, pa = (np.atleast_1d(plan.afi(grid)), np.atleast_1d(plan.aoq(grid)),
+                    np.atleast_1d(plan.pa(grid)))
+    rows = [[float(p), float(a), float(o), float(s)] for p, a, o, s in zip(grid, afi, aoq, pa)]
+    if csv is not None:
+        common.write_csv(csv, header, rows, force=force)
+    value, where = plan.aoql()
+    if as_json:
+        common.emit_json({**plan.to_dict(), "model": "binomial", "aoql": value,
+                          "aoql_p": where, "columns": header, "rows": rows})
+    elif csv != "-":
+        shown = [[_pct(r[0]), _pct(r[1]), _pct(r[2]), f"{r[3]:.5f}"] for r in rows]
+        typer.echo(f"AFI and AOQ table for {plan.label} (AOQL "
+                   f"{_pct(value)} at {_pct(where)})")
+        typer.echo(common.table(shown, header))
+        if csv:
+            typer.echo(f"  wrote {csv}")
+
+
+# --- next ---------------------------------------------------------------------------------
+
+def _history_text(history: str) -> str:
+    if os.path.isfile(history):
+        try:
+            with open(history, encoding="utf-8-sig") as fh:
+                return fh.read()
+        except (OSError, UnicodeDecodeError) as exc:
+            raise InputError(f"--history ({history}) could not be read: "
+                             f"{type(exc).__name__}") from None
+    return history
+
+
+def next_cmd(plan, *, history, seed, systematic, unused, as_json):
+    """``lotwise next --plan "csp1: ..." --history FILE_OR_LIST``."""
+    from lotwise.families.csp import SAFETY, next_units, parse_history
+
+    for opt, val in unused.items():
+        if val is not None:
+            raise InputError(f"{opt} ({val}) does not apply to a continuous sampling plan; "
+                             "give the results so far with --history")
+    if history is None:
+        raise InputError("--history is required: the results so far as ok, bad or - "
+                         "(passed without inspection), or a file of them; \"\" for a new run")
+    marks = parse_history(_history_text(history))
+    sd = parse_count(seed, "--seed", minimum=0, maximum=2**63 - 1) if seed is not None else None
+    res = next_units(plan, marks, seed=sd, systematic=systematic)
+    if as_json:
+        common.emit_json({"scheme": plan.scheme, "plan": plan.to_dict(),
+                          "notation": plan.notation(), **res.as_dict()})
+        return
+    head = {"full": "INSPECT EVERY UNIT", "burst": "INSPECT EVERY UNIT (burst)",
+            "sampling": "SAMPLE", "probation": "SAMPLE (on probation)"}[res.phase.value]
+    typer.echo(f"{head}  ({plan.label}; {res.units} units so far, "
+               f"{res.inspected} inspected, {res.found} nonconforming)")
+    typer.echo(f"  {res.reason}.")
+    nums = ", ".join(str(u) for u in res.next_units)
+    how = "every unit now, then " if res.inspect_every_unit else ""
+    typer.echo(f"  Next units to inspect if each is conforming: {nums} ({how}{res.selection}"
+               + (f" choice, seed {res.seed}" if res.seed is not None else " choice") + ").")
+    typer.echo(f"  {SAFETY}")
