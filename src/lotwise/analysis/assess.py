@@ -62,7 +62,7 @@ from lotwise.core.quantities import format_level, format_pct
 from lotwise.core.types import AoqFormula, Scope, Targets, lot_counts, parse_choice
 from lotwise.families.base import Plan, family_of
 
-__all__ = ["Assessment", "assess", "SAFETY", "oc_levels"]
+__all__ = ["Assessment", "assess", "SAFETY", "oc_levels", "oc_table"]
 
 #: The safety note every report ends with.
 SAFETY = ("Sampling cannot guarantee a lot free of nonconforming items; critical "
@@ -151,6 +151,45 @@ def oc_levels(plan, scope: Scope, model: str, *, points: int = 101, top_pa: floa
     if not scope.defects:
         top = min(1.0, top)
     return np.linspace(0.0, max(top, 1e-9), points)
+
+
+def oc_table(plan: Plan, scope: Scope, model: str, ps) -> tuple[list[str], list[list]]:
+    """The OC table of any attribute plan: ``(header, rows)``.
+
+    Columns: ``p``; ``Pa`` under every applicable model; ``poisson_minus_exact``
+    (where Poisson is an approximation); ``lot_count`` (finite lot: the whole
+    count each level is taken as, rounded to the nearest); ``asn`` and
+    ``asn_curtailed`` (plans whose sample varies); ``aoq`` and ``ati`` (lot size
+    known, plans whose sample varies); and the family's own columns
+    (``Family.oc_columns``, e.g. Wald's approximations of a sequential plan).
+    """
+    ps = np.atleast_1d(np.asarray(ps, dtype=float))
+    models = plan.models_for(scope)
+    cols = {m: np.atleast_1d(np.asarray(plan.pa(ps, m, scope, "nearest"), dtype=float))
+            for m in models}
+    exact = models[0]
+    extra = {}
+    if exact != "poisson" and "poisson" in cols:
+        extra["poisson_minus_exact"] = cols["poisson"] - cols[exact]
+    if "hypergeometric" in models:
+        extra["lot_count"] = lot_counts(ps, scope.lot_size, "nearest").astype(int)
+    if plan.varying_sample:
+        extra["asn"] = np.atleast_1d(plan.asn(ps, model, scope))
+        if plan.has_curtailment:
+            extra["asn_curtailed"] = np.atleast_1d(plan.asn_curtailed(ps, model, scope))
+        if scope.lot_size:
+            extra["aoq"] = np.atleast_1d(plan.aoq(ps, model, scope))
+            extra["ati"] = np.atleast_1d(plan.ati(ps, model, scope))
+    fam = family_of(plan)
+    if fam.oc_columns is not None:
+        extra.update({k: np.atleast_1d(v) for k, v in fam.oc_columns(plan, ps, model, scope).items()})
+    header = ["p", *models, *extra]
+    rows = []
+    for i, pv in enumerate(ps):
+        row = [float(pv)] + [float(cols[m][i]) for m in models]
+        row += [int(v[i]) if k == "lot_count" else float(v[i]) for k, v in extra.items()]
+        rows.append(row)
+    return header, rows
 
 
 def assess(plan: Plan, targets: Targets, scope: Scope | None = None, model: str | None = None,

@@ -27,37 +27,17 @@ from __future__ import annotations
 
 __all__ = ["compare_plans", "row_for"]
 
-_TOL = 1e-12
-
-
 def row_for(label, plan, targets, scope, model=None) -> dict:
-    """One comparison row (JSON-ready)."""
-    from lotwise.analysis.audit import quality_at
-    from lotwise.analysis.report import single_report
+    """One comparison row (JSON-ready), from the plan's :func:`~lotwise.analysis.assess.assess`."""
+    from lotwise.analysis.assess import assess
 
-    if plan.scheme == "single":
-        rep = single_report(plan, targets, scope, model, verdict=False)
-        r = rep["models"][rep["model"]]
-        row = {"label": label, "scheme": "single", "plan": plan.to_dict(), "model": rep["model"],
-               "pa_aql": r["pa_aql"], "pa_rql": r["pa_rql"], "alpha": r["alpha"],
-               "beta": r["beta"], "meets": r["meets"], "plan_quality": rep["plan_quality"],
-               "targets": rep["targets"], "defects": scope.defects}
-        return row
-    mdl = getattr(plan, "exact_model", None) or scope.check_model(model)
-    kw = {"envelope": "lower"} if plan.scheme == "variables" else {}
-    pa_aql = float(plan.pa(targets.aql, mdl, scope, **kw))
-    pa_rql = float(plan.pa(targets.rql, mdl, scope))
-    row = {"label": label, "scheme": plan.scheme, "plan": plan.to_dict(), "model": mdl,
-           "pa_aql": pa_aql, "pa_rql": pa_rql, "alpha": 1 - pa_aql, "beta": pa_rql,
-           "meets": bool(1 - pa_aql <= targets.alpha + _TOL and pa_rql <= targets.beta + _TOL),
-           "targets": targets.as_dict(), "defects": scope.defects,
-           "plan_quality": {
-               "producer": quality_at(plan, 1 - targets.alpha, mdl, scope, "producer"),
-               "indifference": quality_at(plan, 0.5, mdl, scope, "indifference"),
-               "consumer": quality_at(plan, targets.beta, mdl, scope, "consumer")}}
-    if hasattr(plan, "asn"):
-        row["asn"] = {"aql": float(plan.asn(targets.aql, mdl, scope)),
-                      "rql": float(plan.asn(targets.rql, mdl, scope))}
+    rep = assess(plan, targets, scope, model, verdict=False, rectifying=False).report
+    row = {"label": label, "scheme": plan.scheme, "plan": plan.to_dict(), "model": rep["model"],
+           **{k: rep[k] for k in ("pa_aql", "pa_rql", "alpha", "beta", "meets",
+                                  "plan_quality", "targets")},
+           "defects": scope.defects}
+    if "asn" in rep:
+        row["asn"] = {"aql": rep["asn"]["aql"], "rql": rep["asn"]["rql"]}
     return row
 
 

@@ -283,7 +283,7 @@ def oc_table(
     as_json: bool = common.JSON,
 ):
     """OC table: exact and Poisson acceptance probabilities side by side."""
-    from lotwise.analysis.audit import oc_grid
+    from lotwise.analysis.assess import oc_table
 
     p = _plan_from(plan, n, c)
     if p.scheme in ("csp1", "csp2", "csp3"):
@@ -298,61 +298,55 @@ def oc_table(
 
         return oc_cmd(p, max_p=max_p, points=points, at=at, aql=aql, rql=rql, csv=csv,
                       plot=plot, force=force, as_json=as_json)
-    if p.scheme in ("double", "multiple", "sequential"):
-        from .multistage import oc_other
-
-        return oc_other(p, lot=lot, model=model, defects=defects, max_p=max_p, points=points,
-                        at=at, aql=aql, rql=rql, csv=csv, plot=plot, force=force,
-                        as_json=as_json)
     scope, mdl = _scope_and_model(lot, defects, model)
-    if scope.lot_size is not None and p.n > scope.lot_size:
-        raise InputError(f"--n ({p.n}) must not be greater than --lot-size ({scope.lot_size})")
+    p.check_scope(scope)
     a, r = common.levels(aql, rql, defects, need=False)
     if plot is not None and not plot.lower().endswith((".png", ".svg", ".pdf")):
         raise InputError(f"--plot ({plot}) must end in .png, .svg or .pdf")
     ps = _grid(p, scope, mdl, max_p, points, at, r)
-    cols = oc_grid(p, scope, scope.models, ps)
-    exact = scope.exact_model
-    header = ["p"] + list(scope.models)
-    diff = None
-    if exact != "poisson":
-        diff = cols["poisson"] - cols[exact]
-        header.append("poisson_minus_exact")
-    if "lot_count" in cols:
-        header.append("lot_count")
-    rows = []
-    for i, pv in enumerate(ps):
-        row = [float(pv)] + [float(cols[m][i]) for m in scope.models]
-        if diff is not None:
-            row.append(float(diff[i]))
-        if "lot_count" in cols:
-            row.append(int(cols["lot_count"][i]))
-        rows.append(row)
-
+    header, rows = oc_table(p, scope, mdl, ps)
     if csv is not None:
         common.write_csv(csv, header, rows, force=force)
     if plot is not None:
-        from lotwise.documents.plots.style import oc_figure
         from lotwise.data.files import save_figure
 
-        fig = oc_figure([(p, scope)], models=scope.models, aql=a, rql=r, max_p=float(ps.max()) if len(ps) else None)
+        top = float(ps.max()) if len(ps) and ps.max() > 0 else None
+        if p.varying_sample:
+            from lotwise.documents.plots.multistage import oc_asn_figure
+
+            fig = oc_asn_figure(p, scope, model=mdl, aql=a, rql=r, max_p=top)
+        else:
+            from lotwise.documents.plots.style import oc_figure
+
+            fig = oc_figure([(p, scope)], models=scope.models, aql=a, rql=r, max_p=top)
         save_figure(fig, plot, force=force, option="--plot")
     if as_json:
-        common.emit_json({"scheme": p.scheme, "n": p.n, "c": getattr(p, "c", None),
-                          **p.to_dict(), "lot_size": scope.lot_size,
-                          "model": mdl, "columns": header, "rows": rows})
+        common.emit_json({"scheme": p.scheme, "n": None, "c": None, **p.to_dict(),
+                          "lot_size": scope.lot_size, "model": mdl, "columns": header,
+                          "rows": rows})
     elif csv != "-":
-        shown = [[_fmt_level(row[0], defects)] + [f"{v:.5f}" for v in row[1:1 + len(scope.models)]]
-                 + ([f"{row[1 + len(scope.models)]:+.5f}"] if diff is not None else [])
-                 + ([str(row[-1])] if "lot_count" in cols else []) for row in rows]
-        typer.echo(f"OC table for {p.label}"
+        nm = len(scope.models)
+        shown = [[_fmt_level(row[0], defects)] + [f"{v:.5f}" for v in row[1:1 + nm]]
+                 + [_cell(k, v) for k, v in zip(header[1 + nm:], row[1 + nm:])] for row in rows]
+        what = "OC and ASN table" if p.varying_sample else "OC table"
+        typer.echo(f"{what} for the {p.scheme} plan {p.label}"
                    + (f", lot of {scope.lot_size}" if scope.lot_size else "")
-                   + f" (exact model: {exact})")
+                   + f" (exact model: {scope.exact_model})")
         typer.echo(common.table(shown, header))
         if csv:
             typer.echo(f"  wrote {csv}")
         if plot:
             typer.echo(f"  wrote {plot}")
+
+
+def _cell(key: str, v) -> str:
+    if key == "poisson_minus_exact":
+        return f"{v:+.5f}"
+    if key == "lot_count":
+        return str(v)
+    if key in ("aoq", "wald_pa"):
+        return f"{v:.5f}"
+    return f"{v:.1f}"
 
 
 

@@ -630,9 +630,14 @@ def report_extras(plan, targets, scope: Scope, model: str, report: dict) -> dict
     }
 
 
+def oc_columns(plan, ps, model: str, scope: Scope) -> dict:
+    """Wald's approximate OC and ASN beside the exact truncated plan."""
+    return {"wald_pa": plan.wald_pa(ps, scope.defects), "wald_asn": plan.wald_asn(ps, scope.defects)}
+
+
 FAMILY = Family(
     name="sequential", plan_class=SequentialPlan, parse=parse_sequential, keys_hint=("h1",),
-    extras=report_extras,
+    extras=report_extras, oc_columns=oc_columns,
     design=design_sequential,
     design_options={"truncate": "largest number of units before a forced decision"},
     description="item-by-item sequential sampling (Wald's SPRT), truncated",
