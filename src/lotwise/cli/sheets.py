@@ -25,9 +25,17 @@ def check_folder(paths, as_json: bool) -> int:
     """One summary row per characteristic; 1 if any falls short or has no plan."""
     from lotwise.core.quantities import format_pct
 
-    rows, items = [], []
+    rows, items, t_rows, t_items = [], [], [], []
     for pp in _resolve_files(paths):
         req = pp.request
+        if req.switching is not None or req.table:  # plan tables: see cli.scheme
+            from .scheme import table_check
+
+            more = table_check(req)
+            t_rows += more[0]
+            t_items += more[1]
+            if not req.characteristics:
+                continue
         if pp.n is None:
             rows.append([Path(req.path).name, req.part_id, "-", "-", "no plan", "-", "-",
                          "NO PLAN"])
@@ -49,15 +57,25 @@ def check_folder(paths, as_json: bool) -> int:
                           "model": rep["model"], "alpha": r["alpha"], "beta": r["beta"],
                           "targets": t, "meets": r["meets"],
                           "designed": pp.designed})
-    ok = all(i["meets"] for i in items)
+    ok = all(i["meets"] for i in items) and all(i["meets"] for i in t_items)
     if as_json:
-        common.emit_json({"meets": ok, "characteristics": items})
+        common.emit_json({"meets": ok, "characteristics": items}
+                         | ({"tables": t_items} if t_items else {}))
     else:
-        typer.echo(common.table(rows, ["file", "part", "char.", "class", "plan",
-                                       "alpha / target", "beta / target", "verdict"]))
-        short = sum(not i["meets"] for i in items)
-        typer.echo(f"\n  {len(items)} characteristic(s) checked; "
-                   + ("all meet their targets." if ok else f"{short} fall(s) short."))
+        if items:
+            typer.echo(common.table(rows, ["file", "part", "char.", "class", "plan",
+                                           "alpha / target", "beta / target", "verdict"]))
+            short = sum(not i["meets"] for i in items)
+            typer.echo(f"\n  {len(items)} characteristic(s) checked; "
+                       + ("all meet their targets." if all(i["meets"] for i in items)
+                          else f"{short} fall(s) short."))
+        if t_items:
+            from .scheme import render_table_check
+
+            typer.echo(("\n" if items else "") + render_table_check(t_rows, t_items))
+            short = sum(not i["meets"] for i in t_items)
+            typer.echo(f"\n  {len(t_items)} plan-table row(s) checked; "
+                       + ("all hold the AQL." if not short else f"{short} flagged."))
     return 0 if ok else 1
 
 
