@@ -29,7 +29,7 @@ Examples
 ...                aql=0.01)
 >>> a = audit_row(row, AuditLimits())
 >>> a["meets"], [round(x["alpha"], 4) for x in a["plans"]["normal"]["lots"]]
-(True, [0.0398, 0.0457])
+(True, [0.0547, 0.0405])
 """
 
 from __future__ import annotations

@@ -86,6 +86,7 @@ from pathlib import Path
 from lotwise.core.types import Targets
 from lotwise.core.types import Scope
 from lotwise.core.quantities import InputError, parse_count, parse_level, parse_risk
+from lotwise.documents.schemefile import parse_extras
 
 __all__ = ["Characteristic", "PlanRequest", "load", "loads", "CLASSES"]
 
@@ -262,13 +263,9 @@ def loads(text: str, path: str = "<plan>") -> PlanRequest:
     rejected = _text(smp, "rejected_lot", where="sampling.", path=path)
     rationale = _text(doc, "rationale", "", path)
 
-    from lotwise.documents.schemefile import parse_extras
-
-    extras = parse_extras(doc, scope, path, _unknown)
-    chars_raw = doc.get("characteristic")
-    if chars_raw is None and (extras["switching"] is not None or extras["table"]):
-        chars_raw = []  # a scheme or a plan table needs no characteristics
-    elif chars_raw is None:
+    extras = parse_extras(doc, scope, path, _unknown)  # [switching], [[table]]: may omit these
+    chars_raw = doc.get("characteristic", [] if extras["switching"] or extras["table"] else None)
+    if chars_raw is None:
         raise InputError(f"{path}: no [[characteristic]] given; at least one is required")
     if not isinstance(chars_raw, list) or not all(isinstance(c, dict) for c in chars_raw):
         raise InputError(f"{path}: characteristic must be an array of tables, written "

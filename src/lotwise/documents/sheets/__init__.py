@@ -346,9 +346,12 @@ def write_sheets(pp, out_dir, *, force: bool = False, today=None) -> dict:
     out = Path(out_dir)
     req = pp.request
     if not req.characteristics:  # a switching scheme or plan table only
+        from lotwise.documents.sheets import markdown, pdf
         from lotwise.documents.sheets.switching import write_scheme_sheet
 
-        return write_scheme_sheet(pp, out, force=force, today=today)
+        parts = {"content": SheetContent, "caution": CAUTION, "rejected": DEFAULT_REJECTED,
+                 "markdown": markdown.render, "pdf": pdf.render}
+        return write_scheme_sheet(pp, out, parts=parts, force=force, today=today)
     stem = req.stem
     picks = None
     paths = {}

@@ -138,12 +138,19 @@ def scheme_files(req, out, *, force: bool = False) -> dict:
     return paths
 
 
-def write_scheme_sheet(pp, out_dir, *, force: bool = False, today=None) -> dict:
-    """Sheet of a plan file with a scheme or table but no characteristics."""
+def write_scheme_sheet(pp, out_dir, *, parts: dict, force: bool = False, today=None) -> dict:
+    """Sheet of a plan file with a scheme or table but no characteristics.
+
+    ``parts`` holds the sheet's building blocks from :mod:`lotwise.documents.sheets`
+    (``content`` the SheetContent class, ``caution``, ``rejected``, ``markdown`` and
+    ``pdf`` the renderers), handed in so that this module does not import its package.
+    """
     from importlib.metadata import version
 
     from lotwise.data.files import write_bytes, write_text
-    from lotwise.documents.sheets import CAUTION, DEFAULT_REJECTED, SheetContent, markdown, pdf
+
+    SheetContent, markdown, pdf = parts["content"], parts["markdown"], parts["pdf"]
+    CAUTION, DEFAULT_REJECTED = parts["caution"], parts["rejected"]
 
     req = pp.request
     out = Path(out_dir)
@@ -166,10 +173,10 @@ def write_scheme_sheet(pp, out_dir, *, force: bool = False, today=None) -> dict:
         footer=f"Prepared {today.isoformat()} with lotwise {version('lotwise')}; input fingerprint "
         f"{req.fingerprint()}. Re-create with: lotwise sheet {req.path}")
     png = f"{req.stem}-scheme.png" if "scheme_png" in paths else None
-    md = markdown.render(replace(content, alternatives=scheme_section(req, png=png)))
+    md = markdown(replace(content, alternatives=scheme_section(req, png=png)))
     paths["md"] = write_text(out / f"{req.stem}.md", md, force=force, option="sheet")
     content = replace(content, alternatives=_plain(scheme_section(req)))
-    paths["pdf"] = write_bytes(out / f"{req.stem}.pdf", pdf.render(content, pp), force=force,
+    paths["pdf"] = write_bytes(out / f"{req.stem}.pdf", pdf(content, pp), force=force,
                                option="sheet")
     return paths
 
