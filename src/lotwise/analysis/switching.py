@@ -332,18 +332,20 @@ class _Chain:
     start: int = 0
 
 
-def _build(scheme: Scheme, *, stop: bool, found_max: int | None) -> _Chain:
-    """All states reachable from a fresh start on normal, and the edges."""
+def _build(scheme: Scheme, *, stop: bool, found_max: int | None, start: str = "normal",
+           inside=(0, 1, 2)) -> _Chain:
+    """All states reachable from a fresh start on ``start``, and the edges; states
+    of a severity not ``inside`` (and discontinued) are kept as they are."""
     t = _tracked(scheme, stop)
-    index = {FRESH["normal"]: 0}
-    states = [FRESH["normal"]]
+    index = {FRESH[start]: 0}
+    states = [FRESH[start]]
     src, dst, col = [], [], []
     i = 0
     while i < len(states):
         s = states[i]
         outs = []
         sev = s[0]
-        if sev == 3:
+        if sev == 3 or sev not in inside:
             outs.append((s, None))
         elif sev == 0 and t.total:
             outs += [(step(scheme, s, True, j, track=t)[0], _FOUND0 + j)
@@ -548,13 +550,15 @@ def _class_weights(chain, v, rr, cc, lab, leaves, start) -> dict:
     return res
 
 
-def _mean_time(chain: _Chain, probs: np.ndarray, vals: np.ndarray,
-               absorbing: np.ndarray) -> np.ndarray:
-    """Expected lots from the start until a state in ``absorbing`` is entered,
-    per level; ``inf`` where that is not certain."""
+def _visits(chain: _Chain, probs: np.ndarray, vals: np.ndarray,
+            absorbing: np.ndarray) -> np.ndarray:
+    """Expected lots spent in each state from the start until a state in
+    ``absorbing`` is entered (the start's row of the fundamental matrix
+    ``(I - Q)^{-1}``), per level: ``(levels, states)``; a row of ``inf`` where
+    absorption is not certain (some reachable state never leads to it)."""
     n = len(chain.states)
     L = vals.shape[0]
-    out = np.full(L, np.inf)
+    out = np.full((L, n), np.inf)
     trans = ~absorbing
     for lv, pat in _groups(chain, probs, vals):
         rows, cols = chain.rows[pat], chain.cols[pat]
@@ -566,13 +570,26 @@ def _mean_time(chain: _Chain, probs: np.ndarray, vals: np.ndarray,
         exits[rows[trans[rows] & absorbing[cols]]] = True
         back = _reach(n, cols[inner], rows[inner], exits & seen)
         if not np.all(back[seen]):
-            continue  # some reachable state never leads to absorption
+            continue
         new, inside, rr, cc = _sub(rows[inner], cols[inner], seen)
         v = vals[lv][:, pat][:, inner][:, inside]
         m = int(seen.sum())
-        t = _solve(m, rr, cc, v, np.ones(m))
-        out[lv] = t[:, new[chain.start]]
+        e = np.zeros(m)
+        e[new[chain.start]] = 1.0
+        x = _solve(m, rr, cc, v, e, transpose=True)
+        block = np.zeros((lv.size, n))
+        block[:, seen] = np.clip(x, 0.0, None)  # rounding can leave -1e-17
+        out[lv] = block
     return out
+
+
+def _absorbed_in(chain: _Chain, vals: np.ndarray, visits: np.ndarray,
+                 target: np.ndarray) -> np.ndarray:
+    """Probability of ending in ``target`` states: expected visits times the
+    one-step probabilities into them."""
+    into = target[chain.cols] & ~target[chain.rows]
+    with np.errstate(invalid="ignore"):
+        return (visits[:, chain.rows[into]] * vals[:, into]).sum(axis=1)
 
 
 # --- the scheme's OC -------------------------------------------------------------
@@ -645,20 +662,10 @@ def scheme_oc(scheme: Scheme, ps, model: str | None, scope: Scope) -> SchemeOC:
             for s, p in plans.items()}
     probs = _outcomes(scheme, ps, model, scope, pas)
     found_max = scheme.normal.c if scheme.rules.reduce_limit is not None else None
-    chain = _build(scheme, stop=False, found_max=found_max)
-    vals = _pair_values(chain, probs)
-    pi = _long_run(chain, probs, vals)
-    share = {s: pi[:, chain.severity == k].sum(axis=1) for s, k in _SEV.items() if k < 3}
+    share, to_t, to_d, states = _figures(scheme, probs, found_max)
+    share = {s: share[k] for s, k in _SEV.items() if k < 3}
     pa = sum(share[s] * pas[s] for s in plans)
     asn = sum(share[s] * asns[s] for s in plans)
-    to_t = (_mean_time(chain, probs, vals, chain.severity == 1) if scheme.tightens
-            else np.full(ps.size, np.inf))
-    to_d = None
-    states = len(chain.states)
-    if scheme.stops:
-        chain2 = _build(scheme, stop=True, found_max=found_max)
-        to_d = _mean_time(chain2, probs, _pair_values(chain2, probs), chain2.severity == 3)
-        states = max(states, len(chain2.states))
     levels, notes = [], []
     for i, p in enumerate(ps):
         tt = float(to_t[i])
@@ -672,6 +679,58 @@ def scheme_oc(scheme: Scheme, ps, model: str | None, scope: Scope) -> SchemeOC:
     notes += _notes(scheme, ps, to_t, to_d)
     return SchemeOC(scheme=scheme, model=model, scope=scope, levels=tuple(levels),
                     notes=tuple(notes), states=states)
+
+
+def _figures(scheme: Scheme, probs: np.ndarray, found_max):
+    """Shares of lots on each severity, lots to tightened and to discontinuation.
+
+    When tightening and relaxing are both certain, the scheme renews at every
+    fresh start on normal: a cycle is a normal phase (expected visits to each
+    normal and reduced state from the fundamental matrix, ``t_N`` lots in all)
+    and a tightened period (``t_T`` lots). The long-run shares are the expected
+    lots on each severity per cycle over the cycle's length (renewal-reward),
+    and, discontinuation being the end of a tightened period with probability
+    ``P_stop``, the lots to it are ``(t_N + t_T) / P_stop`` (Wald's identity,
+    the number of cycles being geometric). Other levels (a switch that is not
+    certain) take the stationary distribution of the whole chain.
+    """
+    L = probs.shape[0]
+    chain = _build(scheme, stop=False, found_max=found_max)
+    vals = _pair_values(chain, probs)
+    sev = chain.severity
+    share = {k: np.zeros(L) for k in (0, 1, 2)}
+    to_t, to_d = np.full(L, np.inf), (np.full(L, np.inf) if scheme.stops else None)
+    fast = np.zeros(L, dtype=bool)
+    states = len(chain.states)
+    if scheme.tightens:
+        vis = _visits(chain, probs, vals, sev == 1)
+        to_t = vis.sum(axis=1)
+        period = {}
+        for stop in (False, True) if scheme.stops else (False,):
+            ct = _build(scheme, stop=stop, found_max=None, start="tightened", inside=(1,))
+            vt = _pair_values(ct, probs)
+            vv = _visits(ct, probs, vt, ct.severity != 1)
+            with np.errstate(invalid="ignore"):
+                period[stop] = (vv.sum(axis=1), _absorbed_in(ct, vt, vv, ct.severity == 3))
+            states = max(states, len(ct.states))
+        t_off = period[False][0]
+        fast = np.isfinite(to_t) & np.isfinite(t_off)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            cycle = np.where(fast, to_t + t_off, 1.0)
+            for k in (0, 2):
+                share[k] = np.where(fast, np.where(fast[:, None], vis, 0.0)[:, sev == k]
+                                    .sum(axis=1) / cycle, 0.0)
+            share[1] = np.where(fast, t_off / cycle, 0.0)
+            if scheme.stops:
+                t_on, p_stop = period[True]
+                ok = np.isfinite(to_t) & np.isfinite(t_on) & (p_stop > 0)
+                to_d = np.where(ok, (to_t + t_on) / np.where(ok, p_stop, 1.0), np.inf)
+    if not fast.all():
+        slow = ~fast
+        pi = _long_run(chain, probs[slow], vals[slow])
+        for k in (0, 1, 2):
+            share[k][slow] = pi[:, sev == k].sum(axis=1)
+    return share, to_t, to_d, states
 
 
 def _notes(scheme: Scheme, ps, to_t, to_d) -> list:
