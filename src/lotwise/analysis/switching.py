@@ -51,17 +51,26 @@ accepted lot of a single plan); on tightened the run of accepted lots and the
 rejections of the period; on reduced the rejections of the period. Only the
 states reachable from a fresh start on normal are built.
 
-* The long-run fraction of lots on each severity is the stationary
-  distribution ``pi`` of the chain with discontinuation switched off (of its
-  one closed class reachable from the start, found from the strongly
-  connected components; several closed classes are weighted by their
-  absorption probabilities). The scheme's OC is ``sum_s pi_s Pa_s(p)`` and
-  its average sample per lot ``sum_s pi_s ASN_s(p)``.
 * The expected number of lots from a fresh start on normal until the first
-  switch to tightened (the lot that triggers it included) and until
-  discontinuation are the absorption times ``t = (I - Q)^{-1} 1`` of the
-  absorbing chains (the fundamental matrix, [1]_). They are infinite (reported
-  as None) where the switch is not certain to come, for example at ``p = 0``.
+  switch to tightened (the lot that triggers it included) is the sum of the
+  start's row of the fundamental matrix ``(I - Q)^{-1}`` of the chain with
+  tightened states absorbing [1]_; that row also gives the expected lots on
+  each normal and reduced state before the switch. A small chain over the
+  tightened counters gives the expected length of a tightened period and the
+  probability that it ends in discontinuation rather than back on normal.
+* When both switches are certain the scheme renews at every return to a fresh
+  normal start, so the long-run fraction of lots on each severity is its
+  expected lots per cycle over the cycle's expected length (renewal-reward,
+  discontinuation switched off), and the expected lots until discontinuation
+  are ``(t_N + t_T) / P_stop`` (Wald's identity: the number of cycles is
+  geometric). Elsewhere (a switch that is not certain, e.g. at ``p = 0``) the
+  long-run fractions are the stationary distribution of the whole chain's one
+  closed class reachable from the start (from its strongly connected
+  components; several closed classes are weighted by their absorption
+  probabilities), and an expected number of lots is infinite (reported as
+  None).
+* The scheme's OC is ``sum_s pi_s Pa_s(p)`` and its average sample per lot
+  ``sum_s pi_s ASN_s(p)``, with ``pi_s`` the long-run fraction on severity ``s``.
 
 Everything is solved by linear algebra (``numpy.linalg`` for small chains,
 batched over the quality levels; ``scipy.sparse.linalg.splu`` for large
