@@ -227,6 +227,8 @@ def demo(
     typer.echo("  Next, on the same invented scenario:")
     for cmd in (f"lotwise check {plans}   # re-verify every plan file",
                 f"lotwise records {ex / 'lots.csv'} --plans {plans}",
+                f"lotwise scheme {plans / 'qp-8840-switching.toml'} --records "
+                f"{ex / 'switching-lots.csv'}",
                 f"lotwise batch {ex / 'catalogue.csv'} --out {out}/catalogue-plans.csv",
                 f"lotwise judge --plan \"variables: n=42,k=1.901,upper=25.0\" {ex / 'shafts.csv'}",
                 "lotwise validate --out " + out):

@@ -21,7 +21,7 @@ __all__ = ["scheme_figure"]
 _PLAN_STYLE = {"normal": "poisson", "tightened": "binomial", "reduced": 0}
 
 
-def scheme_figure(scheme, scope, *, model=None, max_p=None, points: int = 121, aql=None,
+def scheme_figure(scheme, scope, *, model=None, max_p=None, points: int = 101, aql=None,
                   rql=None, title=None):
     """Left: the scheme's long-run OC (solid) and each plan's OC; right: the
     expected lots from a fresh start on normal until the first switch to
@@ -37,7 +37,9 @@ def scheme_figure(scheme, scope, *, model=None, max_p=None, points: int = 121, a
         if not pu:
             max_p = min(max_p, 1.0)
     ps = np.linspace(0.0, max_p, points)
-    oc = scheme_oc(scheme, ps, model, scope)
+    marks = [x for x in (aql, rql) if x is not None]
+    whole = scheme_oc(scheme, np.concatenate([ps, marks]), model, scope)  # one chain for all
+    oc, at = whole.levels[:points], whole.levels[points:]
     fig, (ax, bx) = plt.subplots(1, 2, figsize=(10.0, 4.0), dpi=110)
     for a in (ax, bx):
         for side in ("top", "right"):
@@ -49,15 +51,17 @@ def scheme_figure(scheme, scope, *, model=None, max_p=None, points: int = 121, a
         a.set_xlabel("Quality level: nonconformities per unit" if pu
                      else "Quality level: nonconforming (%)", fontsize=9.5)
         pct_axis(a, pu)
-    ax.plot(ps, [lv.pa for lv in oc.levels], label="whole scheme (long run)",
+    ax.plot(ps, [lv.pa for lv in oc], label="whole scheme (long run)",
             **{**STYLE["exact"], "linewidth": 2.4})
     for sev, plan in scheme.plans().items():
         key = _PLAN_STYLE[sev]
         style = STYLE[key] if isinstance(key, str) else STYLE["other"][key]
-        ax.plot(ps, [lv.plan_pa[sev] for lv in oc.levels], label=f"{sev} {plan.label}", **style)
+        ax.plot(ps, [lv.plan_pa[sev] for lv in oc], label=f"{sev} {plan.label}", **style)
+    found = iter(at)
     for level, marker, name in ((aql, "o", "AQL"), (rql, "s", "RQL")):
+        lv = next(found) if level is not None else None
         if level is not None and level <= max_p:
-            y = float(scheme_oc(scheme, [level], model, scope).levels[0].pa)
+            y = lv.pa
             ax.plot([level], [y], marker=marker, markersize=7, markerfacecolor="white",
                     markeredgecolor="0.0", markeredgewidth=1.3, linestyle="none",
                     label=f"{name}: scheme Pa {y:.3f}")
@@ -70,11 +74,11 @@ def scheme_figure(scheme, scope, *, model=None, max_p=None, points: int = 121, a
     return fig
 
 
-def _lots_axis(bx, ps, oc, style) -> None:
+def _lots_axis(bx, ps, levels, style) -> None:
     to_t = np.array([np.nan if lv.lots_to_tightened is None else lv.lots_to_tightened
-                     for lv in oc.levels])
+                     for lv in levels])
     to_d = np.array([np.nan if lv.lots_to_discontinue is None else lv.lots_to_discontinue
-                     for lv in oc.levels])
+                     for lv in levels])
     if np.isfinite(to_t).any():
         bx.plot(ps, to_t, label="lots until tightened", **style["exact"])
     if np.isfinite(to_d).any():
