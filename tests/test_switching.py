@@ -493,3 +493,31 @@ def test_sheet_of_a_scheme_file(tmp_path):
     assert "## Switching scheme" in md and "property of the whole scheme" in md
     assert (tmp_path / "qp-8840-switching.pdf").read_bytes()[:4] == b"%PDF"
     assert (tmp_path / "qp-8840-switching-scheme.png").exists()
+
+
+def test_next_picks_the_table_row(tmp_path):
+    # Decision rule of a single plan (accept on c or fewer, reject at c + 1): by hand.
+    f = tmp_path / "t.toml"
+    f.write_text(TABLE)
+    code, out, _ = run("next", "--plan-file", str(f), "--lot-size", "800", "--severity",
+                       "tightened", "--inspected", "80", "--found", "2", "--json")
+    d = json.loads(out)
+    assert code == 0 and d["notation"] == "n=80,c=1" and d["action"] == "reject"
+    code, out, _ = run("next", "--plan-file", str(f), "--lot-size", "120", "--inspected", "20",
+                       "--found", "0", "--json")
+    assert json.loads(out)["notation"] == "n=20,c=0" and json.loads(out)["action"] == "accept"
+    code, _, err = run("next", "--plan-file", str(f), "--lot-size", "300", "--inspected", "20",
+                       "--found", "0")
+    assert code == 2 and "falls in no row" in err and err.count("\n") == 1
+    code, _, err = run("next", "--plan-file", str(f), "--lot-size", "120", "--severity",
+                       "reduced", "--inspected", "20", "--found", "0")
+    assert code == 2 and "has no reduced plan" in err
+
+
+def test_sheet_for_one_lot_size(tmp_path):
+    f = tmp_path / "t.toml"
+    f.write_text(TABLE)
+    code, out, err = run("sheet", str(f), "--lot-size", "800", "--out", str(tmp_path / "s"))
+    assert code == 0, err
+    md = (tmp_path / "s" / "t.md").read_text()
+    assert "n=80, c=1" in md and "lot size 800" in md

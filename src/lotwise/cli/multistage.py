@@ -368,11 +368,18 @@ def next_unit(
                                         help="Nonconforming items (or nonconformities) found "
                                              "so far, all stages together."),
     defects: bool = common.DEFECTS,
+    plan_file: Optional[str] = typer.Option(None, "--plan-file", help="Take the plan from this plan file's [[table]] row for --lot-size (or its [switching])."),
+    lot: Optional[str] = common.LOT,
+    severity: str = typer.Option("normal", "--severity", help="With --plan-file: normal, tightened or reduced."),
     as_json: bool = common.JSON,
 ):
     """On the bench: accept, reject or continue, and how many more units at most."""
     from lotwise.families.base import parse_plan
 
+    if plan_file is not None:  # the plan of a user's table (see cli.scheme)
+        from .scheme import plan_from_file
+
+        plan = plan_from_file(plan_file, plan, lot, severity)
     if plan is None:
         raise InputError("--plan is required, for example --plan \"n1=50,c1=1,n2=100,c2=3\"")
     if inspected is None:

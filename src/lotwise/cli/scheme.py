@@ -387,3 +387,24 @@ def _render_audit(items, path, out, lim) -> None:
             typer.echo(f"  - line {it['line']}: {it['reason']}")
     if out:
         typer.echo(f"  wrote {out}")
+
+
+# --- next --plan-file and sheet --lot-size ----------------------------------------
+
+def plan_from_file(path, plan, lot, severity) -> str:
+    """Plan notation for ``next --plan-file FILE --lot-size N --severity S``."""
+    from lotwise.documents.planfile import load
+    from lotwise.documents.schemefile import pick_plan
+
+    if plan is not None:
+        raise InputError("--plan-file cannot be combined with --plan")
+    req = load(path)
+    return pick_plan(req, common.lot_size(lot), severity).notation()
+
+
+def requests_for_lot(reqs, lot) -> list:
+    """``sheet --lot-size N``: each file as the switching scheme for that lot size."""
+    from lotwise.documents.schemefile import scheme_for_lot
+
+    n = common.lot_size(lot)
+    return [scheme_for_lot(req, n) for req in reqs]

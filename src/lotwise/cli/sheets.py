@@ -83,6 +83,7 @@ def check_folder(paths, as_json: bool) -> int:
 def sheet(
     files: List[str] = typer.Argument(..., help="Plan files (or folders of them)."),
     out: str = typer.Option("sheets", "--out", "-o", help="Folder for the sheets."),
+    lot: Optional[str] = typer.Option(None, "--lot-size", "-N", help="Files with [[table]] or [switching]: the sheet for this lot size (the row's plans as a switching scheme)."),
     force: bool = typer.Option(False, "--force", help="Overwrite files lotwise did not write."),
     as_json: bool = common.JSON,
 ):
@@ -90,7 +91,13 @@ def sheet(
     from lotwise.documents.sheets import write_sheets
 
     results = []
-    for pp in _resolve_files(files):
+    if lot is not None:  # a user's plan table: the row for this lot size (see cli.scheme)
+        from lotwise.documents.partplan import resolve
+        from lotwise.documents.planfile import load, plan_files
+        from .scheme import requests_for_lot
+
+        pps = [resolve(r) for r in requests_for_lot([load(f) for f in plan_files(files)], lot)]
+    for pp in _resolve_files(files) if lot is None else pps:
         paths = write_sheets(pp, out, force=force)
         results.append((pp, paths))
     if as_json:

@@ -54,7 +54,8 @@ from __future__ import annotations
 
 from lotwise.core.quantities import InputError, parse_level, parse_risk
 
-__all__ = ["SWITCHING_KEYS", "ROW_KEYS", "FILE_KEYS", "parse_extras"]
+__all__ = ["SWITCHING_KEYS", "ROW_KEYS", "FILE_KEYS", "parse_extras", "pick_plan", "table_row",
+           "scheme_for_lot"]
 
 SWITCHING_KEYS = {"normal", "tightened", "reduced", "rules"}
 ROW_KEYS = {"lot_min", "lot_max", "normal", "tightened", "reduced", "aql", "rql", "label"}
@@ -165,3 +166,68 @@ def parse_extras(doc: dict, scope, path: str, unknown) -> dict:
     return {"switching": _scheme(doc, scope, path, unknown) if "switching" in doc else None,
             "table": _rows(doc, scope, path, unknown) if "table" in doc else (),
             "limits": AuditLimits(**levels, **risks)}
+
+
+SEVERITY_NAMES = ("normal", "tightened", "reduced")
+
+
+def table_row(req, lot_size: int, option: str = "--lot-size"):
+    """The ``[[table]]`` row whose range holds ``lot_size``."""
+    for row in req.table:
+        if row.lot_min <= lot_size <= row.lot_max:
+            return row
+    spans = ", ".join(f"{r.lot_min}-{r.lot_max}" for r in req.table)
+    raise InputError(f"{option} ({lot_size}) falls in no row of {req.path}'s [[table]] "
+                     f"(rows: {spans})")
+
+
+def pick_plan(req, lot_size: int | None, severity: str = "normal"):
+    """The plan of ``severity`` for a lot of ``lot_size``: from the table row
+    that holds it, or from ``[switching]`` when the file has no table.
+
+    Raises :class:`InputError` naming what is missing."""
+    if severity not in SEVERITY_NAMES:
+        raise InputError(f"--severity ({severity}) must be one of: "
+                         + ", ".join(SEVERITY_NAMES))
+    if req.table:
+        if lot_size is None:
+            raise InputError(f"{req.path} holds a plan table: give --lot-size to pick its row")
+        row = table_row(req, lot_size)
+        if severity not in row.plans:
+            raise InputError(f"--severity ({severity}): table[{row.index}] of {req.path} "
+                             f"(lots {row.lot_min}-{row.lot_max}) has no {severity} plan")
+        return row.plans[severity]
+    if req.switching is None:
+        raise InputError(f"{req.path} has neither [[table]] nor [switching] to pick a plan from")
+    plan = req.switching.plan_for(severity)
+    if plan is None:
+        raise InputError(f"--severity ({severity}): [switching] of {req.path} has no "
+                         f"{severity} plan")
+    return plan
+
+
+def scheme_for_lot(req, lot_size: int):
+    """The request as a switching scheme for one lot size: the table row's plans
+    (with the file's rules) and that lot size (for ``sheet --lot-size``)."""
+    from dataclasses import replace
+
+    from lotwise.analysis.switching import Scheme, SwitchRules
+    from lotwise.core.types import Scope
+
+    rules = req.switching.rules if req.switching is not None else SwitchRules()
+    if req.table:
+        row = table_row(req, lot_size)
+        plans = row.plans
+    elif req.switching is not None:
+        plans = req.switching.plans()
+    else:
+        raise InputError(f"--lot-size ({lot_size}): {req.path} has neither [[table]] nor "
+                         "[switching]")
+    for sev, plan in plans.items():
+        if plan.max_sample > lot_size:
+            raise InputError(f"--lot-size ({lot_size}) is smaller than the {sev} plan's "
+                             f"sample ({plan.notation()})")
+    if rules.reduce_limit is not None and "reduced" not in plans:
+        rules = replace(rules, reduce_limit=None)
+    return replace(req, switching=Scheme(**plans, rules=rules), table=(),
+                   scope=Scope(lot_size=lot_size, defects=req.scope.defects))
