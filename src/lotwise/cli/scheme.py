@@ -17,13 +17,18 @@ WHOLE_SCHEME = ("A switching scheme's protection is a property of the whole sche
                 "not on any one plan's OC.")
 
 
-def _load_scheme(path):
+def _load_scheme(path, lot=None):
     from lotwise.documents.planfile import load
 
     req = load(path)
+    if lot is not None:  # the [[table]] row (or [switching]) for this lot size
+        from lotwise.documents.schemefile import scheme_for_lot
+
+        req = scheme_for_lot(req, common.lot_size(lot))
     if req.switching is None:
         raise InputError(f"{path}: no [switching] table; write the normal (and tightened, "
-                         "reduced) plans under [switching]")
+                         "reduced) plans under [switching], or give --lot-size to use a "
+                         "[[table]] row")
     return req
 
 
@@ -83,6 +88,7 @@ def scheme(
     records: Optional[str] = typer.Option(None, "--records", help="CSV of inspected lots: apply the rules and say which severity the next lot gets."),
     part: Optional[str] = typer.Option(None, "--part", help="With --records: the part (default the file's part id)."),
     plans: Optional[str] = typer.Option(None, "--plans", help="With --records: folder of plan files named in a plan_file column."),
+    lot: Optional[str] = typer.Option(None, "--lot-size", "-N", help="Files with [[table]]: the scheme of the row for this lot size (also replaces lot.size)."),
     force: bool = typer.Option(False, "--force", help="Overwrite files not written by lotwise."),
     as_json: bool = common.JSON,
 ):
@@ -93,7 +99,7 @@ def scheme(
     until tightened inspection and until discontinuation, at each level.
     With --records: the rules applied to the part's lots in date order.
     """
-    req = _load_scheme(path)
+    req = _load_scheme(path, lot)
     if records is not None:
         for opt, val in (("--at", at), ("--max-p", max_p), ("--plot", plot)):
             if val:
