@@ -17,6 +17,9 @@ def batch(
     out: Optional[str] = typer.Option(None, "--out", "-o", help="Where to write the plans (CSV), or - for stdout."),
     deliveries: Optional[str] = typer.Option(None, "--deliveries-per-year", help="Lots per year for rows without a deliveries_per_year value."),
     force: bool = typer.Option(False, "--force", help="Overwrite files not written by lotwise."),
+    audit: bool = typer.Option(False, "--audit", help="Audit a plan table instead: CSV with lot_min, lot_max, n, c, aql (optional rql, label); one verdict per row."),
+    max_alpha: str = typer.Option("10%", "--max-alpha", help="With --audit: flag a plan whose alpha at the AQL is above this."),
+    max_beta: str = typer.Option("10%", "--max-beta", help="With --audit: flag a plan whose beta at the RQL is above this."),
     as_json: bool = common.JSON,
 ):
     """Design a plan for every row of a part catalogue.
@@ -29,6 +32,10 @@ def batch(
     from lotwise.data.batch import (SAFETY_NOTE, design_catalogue, progress_bar, read_catalogue, _rate)
     from lotwise.data.files import check_writable, write_text
 
+    if audit:
+        from .scheme import batch_audit
+
+        raise typer.Exit(batch_audit(path, out, force, as_json, max_alpha, max_beta))
     if out is None:
         raise InputError("--out is required (for example --out plans.csv, or - for stdout)")
     if out == "-" and as_json:

@@ -253,6 +253,9 @@ def next_unit(
     history: Optional[str] = typer.Option(None, "--history", help="csp1/2/3 plans: results so far (ok, bad, - for a unit passed uninspected; comma, space or newline separated) or a file of them."),
     seed: Optional[str] = typer.Option(None, "--seed", help="csp1/2/3 plans: seed of the random choice of units to inspect."),
     systematic: bool = typer.Option(False, "--systematic", help="csp1/2/3 plans: inspect every m-th unit (f = 1/m) instead of a random choice."),
+    plan_file: Optional[str] = typer.Option(None, "--plan-file", help="Take the plan from this plan file's [[table]] row for --lot-size (or its [switching])."),
+    lot: Optional[str] = common.LOT,
+    severity: str = typer.Option("normal", "--severity", help="With --plan-file: normal, tightened or reduced."),
     as_json: bool = common.JSON,
 ):
     """On the bench: accept, reject or continue, and how many more units at most.
@@ -262,6 +265,10 @@ def next_unit(
     """
     from lotwise.families.base import parse_plan
 
+    if plan_file is not None:  # the plan of a user's table (see cli.scheme)
+        from .scheme import plan_from_file
+
+        plan = plan_from_file(plan_file, plan, lot, severity)
     if plan is None:
         raise InputError("--plan is required, for example --plan \"n1=50,c1=1,n2=100,c2=3\"")
     if plan.split(":", 1)[0].strip().lower() in ("csp1", "csp2", "csp3"):

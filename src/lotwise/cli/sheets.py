@@ -25,9 +25,17 @@ def check_folder(paths, as_json: bool) -> int:
     """One summary row per characteristic; 1 if any falls short or has no plan."""
     from lotwise.core.quantities import format_pct
 
-    rows, items = [], []
+    rows, items, t_rows, t_items = [], [], [], []
     for pp in _resolve_files(paths):
         req = pp.request
+        if req.switching is not None or req.table:  # plan tables: see cli.scheme
+            from .scheme import table_check
+
+            more = table_check(req)
+            t_rows += more[0]
+            t_items += more[1]
+            if not req.characteristics:
+                continue
         if pp.n is None:
             rows.append([Path(req.path).name, req.part_id, "-", "-", "no plan", "-", "-",
                          "NO PLAN"])
@@ -49,15 +57,25 @@ def check_folder(paths, as_json: bool) -> int:
                           "model": rep["model"], "alpha": r["alpha"], "beta": r["beta"],
                           "targets": t, "meets": r["meets"],
                           "designed": pp.designed})
-    ok = all(i["meets"] for i in items)
+    ok = all(i["meets"] for i in items) and all(i["meets"] for i in t_items)
     if as_json:
-        common.emit_json({"meets": ok, "characteristics": items})
+        common.emit_json({"meets": ok, "characteristics": items}
+                         | ({"tables": t_items} if t_items else {}))
     else:
-        typer.echo(common.table(rows, ["file", "part", "char.", "class", "plan",
-                                       "alpha / target", "beta / target", "verdict"]))
-        short = sum(not i["meets"] for i in items)
-        typer.echo(f"\n  {len(items)} characteristic(s) checked; "
-                   + ("all meet their targets." if ok else f"{short} fall(s) short."))
+        if items:
+            typer.echo(common.table(rows, ["file", "part", "char.", "class", "plan",
+                                           "alpha / target", "beta / target", "verdict"]))
+            short = sum(not i["meets"] for i in items)
+            typer.echo(f"\n  {len(items)} characteristic(s) checked; "
+                       + ("all meet their targets." if all(i["meets"] for i in items)
+                          else f"{short} fall(s) short."))
+        if t_items:
+            from .scheme import render_table_check
+
+            typer.echo(("\n" if items else "") + render_table_check(t_rows, t_items))
+            short = sum(not i["meets"] for i in t_items)
+            typer.echo(f"\n  {len(t_items)} plan-table row(s) checked; "
+                       + ("all hold the AQL." if not short else f"{short} flagged."))
     return 0 if ok else 1
 
 
@@ -65,6 +83,7 @@ def check_folder(paths, as_json: bool) -> int:
 def sheet(
     files: List[str] = typer.Argument(..., help="Plan files (or folders of them)."),
     out: str = typer.Option("sheets", "--out", "-o", help="Folder for the sheets."),
+    lot: Optional[str] = typer.Option(None, "--lot-size", "-N", help="Files with [[table]] or [switching]: the sheet for this lot size (the row's plans as a switching scheme)."),
     force: bool = typer.Option(False, "--force", help="Overwrite files lotwise did not write."),
     as_json: bool = common.JSON,
 ):
@@ -72,7 +91,13 @@ def sheet(
     from lotwise.documents.sheets import write_sheets
 
     results = []
-    for pp in _resolve_files(files):
+    if lot is not None:  # a user's plan table: the row for this lot size (see cli.scheme)
+        from lotwise.documents.partplan import resolve
+        from lotwise.documents.planfile import load, plan_files
+        from .scheme import requests_for_lot
+
+        pps = [resolve(r) for r in requests_for_lot([load(f) for f in plan_files(files)], lot)]
+    for pp in _resolve_files(files) if lot is None else pps:
         paths = write_sheets(pp, out, force=force)
         results.append((pp, paths))
     if as_json:
@@ -209,6 +234,8 @@ def demo(
     typer.echo("  Next, on the same invented scenario:")
     for cmd in (f"lotwise check {plans}   # re-verify every plan file",
                 f"lotwise records {ex / 'lots.csv'} --plans {plans}",
+                f"lotwise scheme {plans / 'qp-8840-switching.toml'} --records "
+                f"{ex / 'switching-lots.csv'}",
                 f"lotwise batch {ex / 'catalogue.csv'} --out {out}/catalogue-plans.csv",
                 f"lotwise judge --plan \"variables: n=42,k=1.901,upper=25.0\" {ex / 'shafts.csv'}",
                 "lotwise validate --out " + out):

@@ -205,6 +205,10 @@ def resolve(req, *, verdict: bool = True) -> PartPlan:
     """Design (or audit) the plan a plan file asks for."""
     scope, model = req.scope, req.model
     chars = req.characteristics
+    if not chars:  # a switching scheme or a plan table only (see documents.schemefile)
+        sw = getattr(req, "switching", None)
+        return PartPlan(request=req, n=None if sw is None else sw.normal.max_sample,
+                        reports=[], designed=False)
     common = [ch for ch in chars if not ch.own_sample]
     try:
         own = {ch.id: _own_plan(ch, req) for ch in chars if ch.own_sample}

@@ -54,6 +54,11 @@ Format
 A characteristic with a ``plan`` or ``scheme = "variables"`` is judged on a
 plan of its own; the others share the part's common attributes sample.
 
+A file may also hold a switching scheme (``[switching]``, ``[switching.rules]``)
+and a table of plans by lot size (``[[table]]``), with file-level ``aql``,
+``rql``, ``max_alpha`` and ``max_beta`` for them; such a file may omit
+``[[characteristic]]`` (see :mod:`lotwise.documents.schemefile`).
+
 Examples
 --------
 >>> req = loads('''
@@ -81,13 +86,15 @@ from pathlib import Path
 from lotwise.core.types import Targets
 from lotwise.core.types import Scope
 from lotwise.core.quantities import InputError, parse_count, parse_level, parse_risk
+from lotwise.documents.schemefile import parse_extras
 
 __all__ = ["Characteristic", "PlanRequest", "load", "loads", "CLASSES"]
 
 CLASSES = ("critical", "major", "minor")
 COUNTS = ("items", "nonconformities")
 
-_TOP = {"rationale", "part", "sampling", "lot", "characteristic"}
+_TOP = {"rationale", "part", "sampling", "lot", "characteristic", "switching", "table",
+        "aql", "rql", "max_alpha", "max_beta"}
 _PART = {"id", "description", "supplier", "drawing", "revision"}
 _LOT = {"size", "definition", "counts"}
 _SAMPLING = {"model", "n", "max_n", "cost_per_unit", "seed", "strata", "rejected_lot"}
@@ -139,6 +146,9 @@ class PlanRequest:
     rejected_lot: str = ""
     rationale: str = ""
     characteristics: tuple[Characteristic, ...] = ()
+    switching: object | None = None   # a Scheme (see lotwise.documents.schemefile)
+    table: tuple = ()                 # TableRow per [[table]] row
+    limits: object | None = None      # AuditLimits of [switching] and [[table]]
     raw: dict = field(default_factory=dict, repr=False, compare=False)
 
     @property
@@ -253,13 +263,14 @@ def loads(text: str, path: str = "<plan>") -> PlanRequest:
     rejected = _text(smp, "rejected_lot", where="sampling.", path=path)
     rationale = _text(doc, "rationale", "", path)
 
-    chars_raw = doc.get("characteristic")
+    extras = parse_extras(doc, scope, path, _unknown)  # [switching], [[table]]: may omit these
+    chars_raw = doc.get("characteristic", [] if extras["switching"] or extras["table"] else None)
     if chars_raw is None:
         raise InputError(f"{path}: no [[characteristic]] given; at least one is required")
     if not isinstance(chars_raw, list) or not all(isinstance(c, dict) for c in chars_raw):
         raise InputError(f"{path}: characteristic must be an array of tables, written "
                          "[[characteristic]]")
-    if not chars_raw:
+    if not chars_raw and "characteristic" in doc:
         raise InputError(f"{path}: no [[characteristic]] given; at least one is required")
     chars = []
     seen = set()
@@ -338,7 +349,7 @@ def loads(text: str, path: str = "<plan>") -> PlanRequest:
         supplier=_text(part, "supplier", "part.", path),
         lot_definition=_text(lot, "definition", "lot.", path), scope=scope, model=model, n=n,
         max_n=max_n, cost_per_unit=cost, seed=seed, strata=strata, rejected_lot=rejected,
-        rationale=rationale, characteristics=tuple(chars), raw=doc)
+        rationale=rationale, characteristics=tuple(chars), raw=doc, **extras)
 
 
 def load(path) -> PlanRequest:

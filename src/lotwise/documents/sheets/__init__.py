@@ -345,6 +345,13 @@ def write_sheets(pp, out_dir, *, force: bool = False, today=None) -> dict:
 
     out = Path(out_dir)
     req = pp.request
+    if not req.characteristics:  # a switching scheme or plan table only
+        from lotwise.documents.sheets import markdown, pdf
+        from lotwise.documents.sheets.switching import write_scheme_sheet
+
+        parts = {"content": SheetContent, "caution": CAUTION, "rejected": DEFAULT_REJECTED,
+                 "markdown": markdown.render, "pdf": pdf.render}
+        return write_scheme_sheet(pp, out, parts=parts, force=force, today=today)
     stem = req.stem
     picks = None
     paths = {}
@@ -373,10 +380,15 @@ def write_sheets(pp, out_dir, *, force: bool = False, today=None) -> dict:
         if picks is not None:
             paths["picklist"] = write_text(out / f"{stem}-picklist.csv", picks.to_csv(),
                                            force=force, option="sheet")
-    paths["md"] = write_text(out / f"{stem}.md", markdown.render(
-        content, png=f"{stem}-oc.png" if pp.n is not None else None,
-        extra_png=f"{stem}-oc-aoq-ati.png" if "rectifying_png" in paths else None),
-                             force=force, option="sheet")
+    md = markdown.render(content, png=f"{stem}-oc.png" if pp.n is not None else None,
+                         extra_png=f"{stem}-oc-aoq-ati.png" if "rectifying_png" in paths else None)
+    if req.switching is not None or req.table:  # the scheme's section and figure
+        from lotwise.documents.sheets.switching import scheme_files, scheme_section
+
+        paths.update(scheme_files(req, out, force=force))
+        md += "\n" + scheme_section(req, png=f"{stem}-scheme.png" if "scheme_png" in paths
+                                     else None)
+    paths["md"] = write_text(out / f"{stem}.md", md, force=force, option="sheet")
     paths["pdf"] = write_bytes(out / f"{stem}.pdf", pdf.render(content, pp), force=force,
                                option="sheet")
     return paths
