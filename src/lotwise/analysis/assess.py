@@ -58,7 +58,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from lotwise.analysis.audit import risks_under
-from lotwise.core.quantities import format_level, format_pct
+from lotwise.core.quantities import format_level, format_risk as _pct, format_risk_vs as pct_vs
 from lotwise.core.types import AoqFormula, Scope, Targets, lot_counts, parse_choice
 from lotwise.families.base import Plan, family_of
 
@@ -304,20 +304,6 @@ def _levels(targets, scope: Scope, model: str):
         N = scope.lot_size
         return (oc.lot_count(targets.aql, N, "up") / N, oc.lot_count(targets.rql, N, "down") / N)
     return targets.aql, targets.rql
-
-
-def _pct(x: float) -> str:
-    """``format_pct`` of ``x`` rounded to 12 decimals (0.0999999999999999 prints 10.0 %)."""
-    return format_pct(round(float(x), 12))
-
-
-def pct_vs(x: float, target: float) -> str:
-    """:func:`_pct`, with more digits when rounding would make a risk that
-    misses its target look equal to it."""
-    a = _pct(x)
-    if a == _pct(target) and abs(x - target) > 1e-9:
-        return format_pct(x, 6)
-    return a
 
 
 def _statements(rep: dict, plan, scope: Scope) -> list[str]:

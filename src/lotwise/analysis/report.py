@@ -120,7 +120,7 @@ def table(rows: list[list[str]], header: list[str], indent: str = "  ") -> str:
 
 def render_assessment(rep: dict, title: str) -> str:
     """Terminal text for an assessment's JSON object (any family)."""
-    from lotwise.analysis.assess import pct_vs
+    from lotwise.core.quantities import format_risk_vs as pct_vs
     from lotwise.families.base import parse_plan
 
     t = rep["targets"]

@@ -143,6 +143,20 @@ def format_pct(x: float, digits: int = 3) -> str:
     return f"{v:.{decimals}f} %"
 
 
+def format_risk(x: float) -> str:
+    """:func:`format_pct` of ``x`` rounded to 12 decimals (0.0999999999999999 prints 10.0 %)."""
+    return format_pct(round(float(x), 12))
+
+
+def format_risk_vs(x: float, target: float) -> str:
+    """:func:`format_risk`, with more digits when rounding would make a risk that
+    misses its target look equal to it."""
+    a = format_risk(x)
+    if a == format_risk(target) and abs(x - target) > 1e-9:
+        return format_pct(x, 6)
+    return a
+
+
 def format_level(x: float, per_unit: bool = False) -> str:
     """A quality level as a practitioner writes it: percent above 0.1 %,
     ppm below, and per-unit counts for nonconformities."""

@@ -242,12 +242,6 @@ class SingleDesign:
     def c(self) -> int:
         return self.plan.c
 
-    def audit(self):
-        """Risks under every applicable model, plan quality levels, statements."""
-        from lotwise.analysis.audit import audit_plan
-
-        return audit_plan(self.plan, self.targets, self.scope, model=self.model)
-
     def __repr__(self) -> str:
         extra = ", 100 % inspection" if self.full_inspection else ""
         return (f"SingleDesign(n={self.n}, c={self.c}, model={self.model!r}, "
