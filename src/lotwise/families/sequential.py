@@ -94,7 +94,7 @@ import numpy as np
 from lotwise.core.search import check_lot, check_targets
 from lotwise.core.stages import finish_shape, level_to_x, unit_walk
 from lotwise.core.types import Scope, Targets, lot_targets
-from lotwise.families.base import Decision, Family, Plan, check_record
+from lotwise.families.base import Decision, Family, Option, OptionKind, Plan, check_record
 from lotwise.core import kernels as oc
 from lotwise.core.quantities import (InputError, Infeasible, parse_count, parse_fraction, parse_level,
                                      parse_risk)
@@ -603,5 +603,6 @@ FAMILY = Family(
     name="sequential", plan_class=SequentialPlan, parse=parse_sequential, keys_hint=("h1",),
     design=design_sequential,
     design_options={"truncate": "largest number of units before a forced decision"},
+    option_types={"truncate": Option(kind=OptionKind.WHOLE, minimum=1)},
     description="item-by-item sequential sampling (Wald's SPRT), truncated",
 )
