@@ -48,13 +48,19 @@ def check_folder(paths, as_json: bool) -> int:
                           "scheme": rep["scheme"], "plan": rep.get("plan"),
                           "model": rep["model"], "alpha": r["alpha"], "beta": r["beta"],
                           "targets": t, "meets": r["meets"],
-                          "designed": pp.designed})
+                          "designed": pp.designed, "pa_aql": r["pa_aql"], "pa_rql": r["pa_rql"],
+                          "notation": rep.get("notation") or f"n={rep['n']},c={rep['c']}",
+                          "own_sample": bool(rep.get("own_sample")),
+                          "note": rep.get("note", "")})
     ok = all(i["meets"] for i in items)
     if as_json:
         common.emit_json({"meets": ok, "characteristics": items})
     else:
         typer.echo(common.table(rows, ["file", "part", "char.", "class", "plan",
                                        "alpha / target", "beta / target", "verdict"]))
+        for i in items:
+            if i.get("note"):
+                typer.echo(f"  {Path(i['file']).name} {i['characteristic']}: {i['note']}")
         short = sum(not i["meets"] for i in items)
         typer.echo(f"\n  {len(items)} characteristic(s) checked; "
                    + ("all meet their targets." if ok else f"{short} fall(s) short."))

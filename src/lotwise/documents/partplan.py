@@ -42,7 +42,7 @@ from dataclasses import dataclass, field
 
 from lotwise.families.single import design_single
 from lotwise.families.single import SinglePlan
-from lotwise.core.quantities import Infeasible
+from lotwise.core.quantities import Infeasible, InputError
 from lotwise.analysis.report import single_report
 
 __all__ = ["PartPlan", "resolve"]
@@ -150,15 +150,7 @@ def _common_sample(req, chars, floor: int = 0) -> tuple[int, list]:
 
 def largest_sample(plan) -> int | None:
     """Most units a plan may inspect in one lot (its sample size, when fixed)."""
-    n = getattr(plan, "n", None)
-    if isinstance(n, (tuple, list)):  # multiple plans: stage sizes
-        return int(sum(n))
-    if n is not None:
-        return int(n)
-    if hasattr(plan, "n1"):
-        return int(plan.n1 + plan.n2)
-    t = getattr(plan, "truncate", None)
-    return int(t) if t is not None else None
+    return int(plan.max_sample)
 
 
 def own_report(plan, ch, scope, model=None, design=None) -> dict:
@@ -173,9 +165,12 @@ def own_report(plan, ch, scope, model=None, design=None) -> dict:
           "meets_beta": bool(row["beta"] <= t.beta + 1e-12)}
     mr["meets"] = mr["meets_alpha"] and mr["meets_beta"]
     rep = {"scheme": plan.scheme, "plan": plan.to_dict(), "label": plan.label,
-           "n": largest_sample(plan), "model": row["model"], "lot_size": scope.lot_size,
-           "defects": scope.defects, "targets": row["targets"], "models": {row["model"]: mr},
-           "meets": mr["meets"], "plan_quality": row["plan_quality"], "own_sample": True}
+           "notation": plan.notation(), "n": largest_sample(plan), "model": row["model"],
+           "lot_size": scope.lot_size, "defects": scope.defects, "targets": row["targets"],
+           "models": {row["model"]: mr}, "meets": mr["meets"],
+           "plan_quality": row["plan_quality"], "own_sample": True,
+           "varying_sample": bool(plan.varying_sample),
+           "designed": design is not None, "note": own_note(plan, design is not None)}
     if "asn" in row:
         rep["asn"] = row["asn"]
     if design is not None and hasattr(design, "as_dict"):
@@ -186,18 +181,38 @@ def own_report(plan, ch, scope, model=None, design=None) -> dict:
     return _with_char(rep, ch)
 
 
+def own_note(plan, designed: bool) -> str:
+    """What the sheet and ``check`` say of a characteristic on a plan of its own."""
+    how = "designed" if designed else "given"
+    return (f"own {plan.scheme} plan ({how}), not the common sample: judged on its own "
+            f"plan {plan.label}")
+
+
 def _own_plan(ch, req):
-    """The given plan, or the variables design, of a characteristic."""
+    """The given plan of a characteristic, or its design by the family its
+    ``scheme`` names (through the registry)."""
     if ch.plan is not None:
         return ch.plan, None
-    from lotwise.families.variables import design_variables
+    from lotwise.families.base import family
 
-    v = ch.variables
-    limit = "both" if ("lower" in v and "upper" in v) else ("upper" if "upper" in v else "lower")
+    fam = family(ch.scheme)
+    opts = dict(ch.options)
+    if req.max_n is not None and "max_n" in fam.design_options:
+        opts.setdefault("max_n", req.max_n)
     t = ch.targets
-    d = design_variables(aql=t.aql, rql=t.rql, alpha=t.alpha, beta=t.beta, sigma=v["sigma"],
-                         limit=limit, sigma_value=v.get("sigma_value"), lower=v.get("lower"),
-                         upper=v.get("upper"), max_n=req.max_n)
+    try:
+        d = fam.design(aql=t.aql, rql=t.rql, alpha=t.alpha, beta=t.beta,
+                       lot_size=req.scope.lot_size, model=req.model,
+                       defects=req.scope.defects, **opts)
+    except InputError as exc:
+        where = f"characteristic[{req.characteristics.index(ch) + 1}]."
+        msg = str(exc)
+        for key in fam.design_options:
+            msg = msg.replace(f"--{key.replace('_', '-')} ", f"{where}{key} ")
+        raise InputError(f"{req.path}: {where}scheme ({ch.scheme}): {msg}") from None
+    except Infeasible as exc:
+        raise Infeasible(f"characteristic {ch.id} ({ch.scheme} design): {exc}",
+                         exc.reachable) from None
     return d.plan, d
 
 

@@ -157,8 +157,7 @@ def build_content(pp, *, picks=None, today: _dt.date | None = None,
         if own:
             k = rep["plan"].get("k")
             rule = f"statistic >= k = {k:g}" if k is not None else "see the plan above"
-            fixed = rep["plan"].get("scheme") == "variables"
-            size = f"n = {rep['n']}" if fixed else f"up to {rep['n']}"
+            size = f"up to {rep['n']}" if rep.get("varying_sample") else f"n = {rep['n']}"
             plan_rows.append([ch["id"], ch["class"], size, rule, "otherwise", *levels])
         else:
             plan_rows.append([ch["id"], ch["class"], f"n = {rep['n']}", str(rep["c"]),
@@ -207,7 +206,7 @@ def build_content(pp, *, picks=None, today: _dt.date | None = None,
                 if r.get("attributes"):
                     extra = (f" (an attributes plan for the same two points needs "
                              f"n = {r['attributes']['n']}, c = {r['attributes']['c']})")
-                plan_line += f" {r['characteristic']['id']}: {r['label']}{extra}."
+                plan_line += f" {r['characteristic']['id']}: {r.get('note') or r['label']}{extra}."
                 if r["n"] is not None and pp.n is not None and r["n"] < pp.n:
                     plan_line += (f" Judge it on {r['n']} of the sampled units chosen at random "
                                   "(for example with lotwise draw from the sample).")
