@@ -45,7 +45,7 @@ from lotwise.families.single import SinglePlan
 from lotwise.core.quantities import Infeasible, InputError
 from lotwise.analysis.report import single_report
 
-__all__ = ["PartPlan", "resolve"]
+__all__ = ["PartPlan", "resolve", "PlanReference", "plan_from_reference", "pick_seed", "own_note"]
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -255,3 +255,86 @@ def _add_rectifying(reps, plans, chars, scope) -> None:
     for rep, plan, ch in zip(reps, plans, chars):
         if plan.n < scope.lot_size:
             rep.update(rectifying_summary(plan, scope, rep["model"], ch.targets))
+
+
+# --- a plan named on the command line ------------------------------------------
+
+@dataclass(frozen=True, kw_only=True)
+class PlanReference:
+    """A plan named by notation or by ``FILE.toml#CHAR_ID``.
+
+    Attributes
+    ----------
+    plan : Plan
+        The plan (as the file's sheet states it, for a file reference).
+    text : str
+        The reference as given.
+    path, characteristic : str or None
+        The plan file and the characteristic's id (None for notation).
+    lot_size, seed : int or None
+        The file's lot size and the seed its sheet's pick list is drawn with.
+    strata : str or None
+        The file's strata of the pick list.
+    defects : bool
+        The file counts nonconformities per unit (False for notation).
+    """
+
+    plan: object
+    text: str
+    path: str | None = None
+    characteristic: str | None = None
+    lot_size: int | None = None
+    seed: int | None = None
+    strata: str | None = None
+    defects: bool = False
+
+
+def pick_seed(req) -> int:
+    """The seed of a plan file's pick list: ``sampling.seed``, else the first
+    eight hex digits of its fingerprint (so the same file draws the same units)."""
+    return req.seed if req.seed is not None else int(req.fingerprint()[:8], 16)
+
+
+def plan_from_reference(text, option: str = "--plan") -> PlanReference:
+    """Read ``--plan``: plan notation, or ``FILE.toml#CHAR_ID`` naming one
+    characteristic of a plan file (``FILE.toml`` alone when it has one).
+
+    The file is resolved as ``lotwise sheet`` resolves it, so the plan is the
+    one its sheet states. Raises :class:`InputError` naming ``option``, the
+    reference and what is allowed.
+
+    Examples
+    --------
+    >>> plan_from_reference("n=80,c=2").plan.label
+    'n=80, c=2'
+    """
+    from lotwise.families.base import parse_plan
+
+    if not isinstance(text, str) or not text.strip():
+        raise InputError(f"{option} ({text!r}) must be plan notation such as \"n=80,c=2\" or "
+                         "a plan file and characteristic such as plans/part.toml#M1")
+    body = text.strip()
+    if "#" not in body and not body.lower().endswith(".toml"):
+        return PlanReference(plan=parse_plan(body, option), text=body)
+    from lotwise.documents.planfile import load
+
+    path, _, cid = body.rpartition("#") if "#" in body else (body, "", "")
+    try:
+        req = load(path)
+    except InputError as exc:
+        raise InputError(f"{option} ({body}): {exc}") from None
+    pp = resolve(req, verdict=False)
+    ids = [ch.id for ch in req.characteristics]
+    if not cid:
+        if len(ids) > 1:
+            raise InputError(f"{option} ({body}): the file holds {len(ids)} characteristics "
+                             f"({', '.join(ids)}); name one, e.g. {path}#{ids[0]}")
+        cid = ids[0]
+    if cid not in ids:
+        raise InputError(f"{option} ({body}): no characteristic {cid!r} in {path}; it holds "
+                         + ", ".join(ids))
+    if pp.n is None:
+        raise InputError(f"{option} ({body}): the plan file yields no plan: {pp.problem}")
+    return PlanReference(plan=pp.plans[ids.index(cid)], text=body, path=str(path),
+                         characteristic=cid, lot_size=req.scope.lot_size, seed=pick_seed(req),
+                         strata=req.strata, defects=req.scope.defects)

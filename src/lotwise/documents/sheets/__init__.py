@@ -349,8 +349,9 @@ def write_sheets(pp, out_dir, *, force: bool = False, today=None) -> dict:
     paths = {}
     if pp.n is not None and req.scope.lot_size:
         from lotwise.data.draw import draw_units
+        from lotwise.documents.partplan import pick_seed
 
-        seed = req.seed if req.seed is not None else int(req.fingerprint()[:8], 16)
+        seed = pick_seed(req)
         picks = draw_units(lot_size=req.scope.lot_size, n=pp.n, seed=seed, strata=req.strata)
     content = build_content(pp, picks=picks, today=today, alternatives_text=alternatives(pp))
     if pp.n is not None:
