@@ -25,9 +25,38 @@ A supplier's "32, accept on 1" against the designed plan for AQL 1 %, RQL 8 %:
 
 from __future__ import annotations
 
-__all__ = ["compare_plans", "row_for"]
+__all__ = ["compare_plans", "row_for", "plan_risks"]
 
 _TOL = 1e-12
+
+
+def plan_risks(plan, targets, scope, model=None) -> tuple[str, float, float]:
+    """The model ``plan`` is judged by and its ``Pa`` at the AQL and the RQL,
+    computed as ``lotwise check`` computes them for the plan's family.
+
+    Attributes plans (any family) go through
+    :func:`lotwise.analysis.audit.risks_under`: under the hypergeometric
+    model the AQL and RQL become whole counts of the lot, rounded up at the
+    AQL and down at the RQL (the conservative way for each risk). A
+    variables plan is judged on its own process curve (the lot size does not
+    enter), at the producer's worst case at the AQL and the consumer's at the
+    RQL; a two-limit estimate-method plan by the seeded simulation that
+    ``check`` runs.
+    """
+    if plan.scheme == "variables":
+        a, r = targets.aql, targets.rql
+        if plan.exact_model == "estimate-simulated":
+            from lotwise.families.variables import simulate_estimate_method
+
+            pa, _ = simulate_estimate_method(plan.n, plan.m, [a, r])
+            return plan.exact_model, float(pa[0].min()), float(pa[1].max())
+        return (plan.exact_model, float(plan.pa(a, envelope="lower")),
+                float(plan.pa(r, envelope="upper")))
+    from lotwise.analysis.audit import risks_under
+
+    mdl = scope.check_model(model)
+    r = risks_under(plan, targets, scope, mdl)
+    return mdl, r.pa_aql, r.pa_rql
 
 
 def row_for(label, plan, targets, scope, model=None) -> dict:
@@ -43,10 +72,7 @@ def row_for(label, plan, targets, scope, model=None) -> dict:
                "beta": r["beta"], "meets": r["meets"], "plan_quality": rep["plan_quality"],
                "targets": rep["targets"], "defects": scope.defects}
         return row
-    mdl = getattr(plan, "exact_model", None) or scope.check_model(model)
-    kw = {"envelope": "lower"} if plan.scheme == "variables" else {}
-    pa_aql = float(plan.pa(targets.aql, mdl, scope, **kw))
-    pa_rql = float(plan.pa(targets.rql, mdl, scope))
+    mdl, pa_aql, pa_rql = plan_risks(plan, targets, scope, model)
     row = {"label": label, "scheme": plan.scheme, "plan": plan.to_dict(), "model": mdl,
            "pa_aql": pa_aql, "pa_rql": pa_rql, "alpha": 1 - pa_aql, "beta": pa_rql,
            "meets": bool(1 - pa_aql <= targets.alpha + _TOL and pa_rql <= targets.beta + _TOL),
@@ -55,9 +81,13 @@ def row_for(label, plan, targets, scope, model=None) -> dict:
                "producer": quality_at(plan, 1 - targets.alpha, mdl, scope, "producer"),
                "indifference": quality_at(plan, 0.5, mdl, scope, "indifference"),
                "consumer": quality_at(plan, targets.beta, mdl, scope, "consumer")}}
-    if hasattr(plan, "asn"):
-        row["asn"] = {"aql": float(plan.asn(targets.aql, mdl, scope)),
-                      "rql": float(plan.asn(targets.rql, mdl, scope))}
+    la, lr = targets.aql, targets.rql
+    if mdl == "hypergeometric":  # the levels the risks are evaluated at (whole counts)
+        from lotwise.core.kernels import lot_count
+
+        N = scope.lot_size
+        la, lr = lot_count(la, N, "up") / N, lot_count(lr, N, "down") / N
+    row["asn"] = {"aql": float(plan.asn(la, mdl, scope)), "rql": float(plan.asn(lr, mdl, scope))}
     return row
 
 

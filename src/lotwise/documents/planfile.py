@@ -181,16 +181,9 @@ class PlanRequest:
 def option_keys() -> dict[str, list[str]]:
     """Characteristic keys that are designer options: ``key -> schemes using it``
     (read from the family registry; ``n``, ``c`` and ``max_n`` are the part's)."""
-    from lotwise.families.base import families
+    from lotwise.families.base import option_owners
 
-    out: dict[str, list[str]] = {}
-    for fam in families():
-        if fam.design is None or fam.name == "single":
-            continue
-        for key in fam.design_options:
-            if key not in _PART_OPTIONS:
-                out.setdefault(key, []).append(fam.name)
-    return out
+    return option_owners(tuple(_PART_OPTIONS))
 
 
 def _char_keys() -> set:

@@ -53,7 +53,7 @@ from lotwise.core.types import AoqFormula, Scope, lot_counts, parse_choice
 
 __all__ = ["Plan", "Family", "Decision", "REGISTRY", "family", "families", "family_of",
            "parse_plan", "split_notation", "need_lot", "finish", "OptionKind", "Option",
-           "design_option", "designable"]
+           "design_option", "designable", "option_owners"]
 
 
 def need_lot(scope: Scope, what: str) -> int:
@@ -432,6 +432,20 @@ def family(name: str, option: str = "--scheme") -> Family:
 def families() -> list[Family]:
     """Every registered family (imports them all)."""
     return [family(name) for name in REGISTRY]
+
+
+def option_owners(exclude=("n", "c", "max_n")) -> dict[str, list[str]]:
+    """Designer options of the families other than single: ``option ->
+    families taking it``, leaving out ``exclude`` (the options a plan file or
+    a catalogue gives for the whole part or row)."""
+    out: dict[str, list[str]] = {}
+    for fam in families():
+        if fam.design is None or fam.name == "single":
+            continue
+        for key in fam.design_options:
+            if key not in exclude:
+                out.setdefault(key, []).append(fam.name)
+    return out
 
 
 def designable() -> list[str]:
