@@ -253,20 +253,31 @@ def _fits_lot(p, scope):
                          f"--lot-size ({scope.lot_size})")
 
 
-def check_other(p, *, aql, rql, alpha, beta, lot, model, defects, as_json):
+def check_other(p, *, aql, rql, alpha, beta, lot, model, defects, as_json,
+                aoq_formula=None, skip_lot=None, aoq_plot=None):
     """``lotwise check`` for a double, multiple or sequential plan."""
     from lotwise.core.types import Targets
     from lotwise.analysis.plan_report import plan_report, render_plan
+    from lotwise.analysis.rectifying import check_formula
     from .single import _levels_out_of_order
 
+    if skip_lot is not None:
+        raise InputError(f"--skip-lot applies to a single reference plan, not to a {p.scheme} "
+                         "plan")
+    if aoq_plot is not None:
+        raise InputError("--aoq-plot is drawn for single plans only")
     a, r = common.levels(aql, rql, defects)
     al, be = common.risks(alpha, beta)
     scope, mdl = _scope(lot, defects, model)
+    if aoq_formula is not None and not scope.lot_size:
+        raise InputError(f"--aoq-formula ({aoq_formula}) needs --lot-size (AOQ and ATI are "
+                         "computed for lots of a known size)")
+    formula = check_formula(aoq_formula or "screened")
     _fits_lot(p, scope)
     if not r > a:
         _levels_out_of_order(a, r, defects, as_json)
     targets = Targets(aql=a, rql=r, alpha=al, beta=be)
-    rep = plan_report(p, targets, scope, mdl)
+    rep = plan_report(p, targets, scope, mdl, aoq_formula=formula)
     if as_json:
         common.emit_json(rep)
     else:

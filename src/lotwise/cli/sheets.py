@@ -144,9 +144,9 @@ def compare(
                                     Targets(aql=a, rql=r, alpha=al, beta=be), scope, mdl))
         for i, text in enumerate(plan or [], 1):
             p = parse_plan(text, f"--plan #{i}")
-            if scope.lot_size and (getattr(p, "n", 0) or 0) > scope.lot_size:
-                raise InputError(f"--plan #{i} ({text}): n must not be greater than --lot-size "
-                                 f"({scope.lot_size})")
+            if scope.lot_size and p.max_sample > scope.lot_size:
+                raise InputError(f"--plan #{i} ({text}): the plan inspects up to "
+                                 f"{p.max_sample} units, more than --lot-size ({scope.lot_size})")
             entries.append((p.label, p, Targets(aql=a, rql=r, alpha=al, beta=be), scope, mdl))
     if len(entries) < 2:
         raise InputError("compare needs at least two plans: give --plan twice or more, or plan "

@@ -176,7 +176,8 @@ def check(
         from .multistage import check_other
 
         return check_other(p, aql=aql, rql=rql, alpha=alpha, beta=beta, lot=lot, model=model,
-                           defects=defects, as_json=as_json)
+                           defects=defects, as_json=as_json, aoq_formula=aoq_formula,
+                           skip_lot=skip_lot, aoq_plot=aoq_plot)
     a, r = common.levels(aql, rql, defects)
     al, be = common.risks(alpha, beta)
     scope, mdl = _scope_and_model(lot, defects, model)
