@@ -60,6 +60,15 @@ CHANGED: dict[str, str] = {
     "next_single_accept:json.notation": "single plans now print their notation",
     "next_single_reject_early:json.notation": "single plans now print their notation",
     "next_single_defects_continue:json.notation": "single plans now print their notation",
+    # --aoq-formula simple was ignored for double and sequential plans (the screened AOQL
+    # was printed); it now gives the p Pa AOQL, as it does for single and chain plans.
+    "check_double_lot_aoq_simple:json.aoql": "--aoq-formula simple now reaches double plans",
+    "check_double_lot_aoq_simple:json.statements":
+        "the AOQL sentence states the simple-formula AOQL",
+    "check_sequential_lot_aoq_simple:json.aoql":
+        "--aoq-formula simple now reaches sequential plans",
+    "check_sequential_lot_aoq_simple:json.statements":
+        "the AOQL sentence states the simple-formula AOQL",
 }
 
 #: What ``main`` prints on stderr when a command failed with an internal error.

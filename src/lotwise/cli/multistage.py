@@ -261,9 +261,6 @@ def check_other(p, *, aql, rql, alpha, beta, lot, model, defects, as_json,
     from lotwise.analysis.rectifying import check_formula
     from .single import _levels_out_of_order
 
-    if skip_lot is not None:
-        raise InputError(f"--skip-lot applies to a single reference plan, not to a {p.scheme} "
-                         "plan")
     if aoq_plot is not None:
         raise InputError("--aoq-plot is drawn for single plans only")
     a, r = common.levels(aql, rql, defects)
@@ -278,12 +275,24 @@ def check_other(p, *, aql, rql, alpha, beta, lot, model, defects, as_json,
         _levels_out_of_order(a, r, defects, as_json)
     targets = Targets(aql=a, rql=r, alpha=al, beta=be)
     rep = plan_report(p, targets, scope, mdl, aoq_formula=formula)
+    if skip_lot is not None:  # SkSP-2 over this plan as the reference plan
+        from lotwise.analysis.skiplot_report import skiplot_report
+        from lotwise.families.skiplot import SkipLotPlan, parse_skip
+
+        i, f = parse_skip(skip_lot) if isinstance(skip_lot, str) else skip_lot
+        rep["skip_lot"] = skiplot_report(SkipLotPlan(reference=p, i=i, f=f), targets, scope, mdl)
+    meets = rep["meets"] and rep.get("skip_lot", {}).get("meets", True)
     if as_json:
         common.emit_json(rep)
     else:
         verdict = "meets both targets" if rep["meets"] else "FALLS SHORT"
-        typer.echo(render_plan(rep, f"Audit of the {p.scheme} plan {p.label}: {verdict}"))
-    raise typer.Exit(0 if rep["meets"] else 1)
+        text = render_plan(rep, f"Audit of the {p.scheme} plan {p.label}: {verdict}")
+        if "skip_lot" in rep:
+            from lotwise.analysis.skiplot_report import render_skiplot
+
+            text += "\n\n" + render_skiplot(rep["skip_lot"], scope.defects)
+        typer.echo(text)
+    raise typer.Exit(0 if meets else 1)
 
 
 def oc_other(p, *, lot, model, defects, max_p, points, at, aql, rql, csv, plot, force, as_json):

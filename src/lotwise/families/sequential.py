@@ -372,6 +372,8 @@ class SequentialPlan(Plan):
 
     def aoq_count(self, d, scope: Scope, *, formula: str = "screened"):
         d = np.asarray(d, dtype=float)
+        if formula != "screened":  # p Pa: the generic form (no walk of the lot needed)
+            return super().aoq_count(d, scope, formula=formula)
         return self.aoq(d / float(scope.lot_size), "hypergeometric", scope, formula=formula)
 
     def ati_count(self, d, scope: Scope):
