@@ -69,6 +69,8 @@ CHANGED: dict[str, str] = {
         "--aoq-formula simple now reaches sequential plans",
     "check_sequential_lot_aoq_simple:json.statements":
         "the AOQL sentence states the simple-formula AOQL",
+    # The demo scenario gained plans/qp-8840-seal-cartridge.toml (a designed double plan).
+    "check_plans_folder:json.characteristics": "one more plan file in plans/ (QP-8840)",
 }
 
 #: What ``main`` prints on stderr when a command failed with an internal error.
