@@ -4,8 +4,11 @@ Characteristics listed in one plan file are judged on the same sample, each
 with its own acceptance number and its own risks. :func:`resolve` turns a
 :class:`~lotwise.documents.planfile.PlanRequest` into a :class:`PartPlan`:
 
+* a characteristic with a ``plan`` keeps that plan, one with a ``scheme``
+  other than single gets its family's design (through the family registry);
+  both are judged on their own plan, not on the common sample;
 * a file that fixes ``sampling.n`` and every ``c`` is audited as it stands;
-* otherwise each characteristic is designed on its own (smallest ``n``
+* otherwise each single characteristic is designed on its own (smallest ``n``
   meeting its two risks, honouring a fixed ``c``); the common sample is the
   largest of those ``n``, and every characteristic then gets the smallest
   ``c`` meeting its producer's risk at the common ``n``. If a characteristic's
