@@ -408,7 +408,10 @@ def _write(tmp_path, text, name="p.toml"):
     ('scheme = "multiple"\n', "characteristic[1].scheme ('multiple') must be one of: single, "
      "double, sequential, chain, variables"),
     ('scheme = "double"\nplan = "n=80,c=2"\n',
-     "characteristic[1].plan cannot be combined with characteristic[1].scheme"),
+     "characteristic[1].scheme ('double') does not match characteristic[1].plan (a single "
+     "plan); give one of them"),
+    ('plan = "n1=50,c1=1,n2=100,c2=3"\nratio = 1.0\n',
+     "characteristic[1].plan cannot be combined with characteristic[1].ratio"),
     ('scheme = "chain"\nc = 1\n', "characteristic[1].c (1) applies to scheme single"),
     ('scheme = "variables"\nsigma = "known"\nupper = 10.0\n',
      "characteristic[1].sigma (known) needs characteristic[1].sigma_value"),

@@ -199,18 +199,24 @@ def _scheme_options(ch: dict, w: str, path: str, defects: bool, c, plan) -> tupl
     """
     from lotwise.families.base import design_option, designable, family
 
-    names = designable()
+    owners = option_keys()
+    given = [k for k in ch if k in owners]
     scheme = ch.get("scheme", "single")
+    if plan is not None:  # a fixed plan: nothing to design
+        if given:
+            raise InputError(f"{path}: {w}plan cannot be combined with "
+                             + ", ".join(f"{w}{k}" for k in given)
+                             + f": the plan notation fixes the plan ({w}scheme and its keys "
+                             "design one instead)")
+        if "scheme" in ch and str(scheme).strip().lower() != plan.scheme:
+            raise InputError(f"{path}: {w}scheme ({scheme!r}) does not match {w}plan (a "
+                             f"{plan.scheme} plan); give one of them")
+        return plan.scheme, {}
+    names = designable()
     if not isinstance(scheme, str) or scheme.strip().lower() not in names:
         raise InputError(f"{path}: {w}scheme ({scheme!r}) must be one of: {', '.join(names)} "
                          f"(a plan of another kind is given as {w}plan = \"...\")")
     scheme = scheme.strip().lower()
-    owners = option_keys()
-    given = [k for k in ch if k in owners]
-    if plan is not None and ("scheme" in ch or given):
-        extra = ", ".join(f"{w}{k}" for k in (["scheme"] if "scheme" in ch else []) + given)
-        raise InputError(f"{path}: {w}plan cannot be combined with {extra}: give either "
-                         f"{w}plan (a fixed plan) or {w}scheme (a designed one)")
     if c is not None and scheme != "single":
         raise InputError(f"{path}: {w}c ({c}) applies to scheme single; {w}scheme ({scheme}) "
                          "designs its own acceptance numbers")
