@@ -127,7 +127,8 @@ def test_bad_rows_carry_their_reason_and_the_rest_is_designed():
     assert t.loc["lot", "error"] == "lot_size ('x1') must be a whole number of at least 1"
     assert "aql (1.5)" in t.loc["level", "error"] and "1.5%" in t.loc["level", "error"]
     assert t.loc["risk", "error"].startswith("alpha + beta")
-    assert t.loc["scheme", "error"] == "scheme (triple) must be one of: single"
+    assert t.loc["scheme", "error"] == ("scheme (triple) must be one of: single, double, "
+                                        "sequential, chain, variables")
     assert "needs a lot size" in t.loc["model", "error"]
     assert t.loc["c", "error"].startswith("no sample size works with c = 0")
     assert "too small to tell the AQL from the RQL" in t.loc["small", "error"]

@@ -81,6 +81,17 @@ CHANGED: dict[str, str] = {
     "validate_reference_cases:json.cases": "continuous sampling reference cases added",
     "validate_reference_cases:json.passed": "continuous sampling reference cases added",
     "validate_reference_cases:json.results": "continuous sampling reference cases added",
+    # --aoq-formula simple was ignored for double and sequential plans (the screened AOQL
+    # was printed); it now gives the p Pa AOQL, as it does for single and chain plans.
+    "check_double_lot_aoq_simple:json.aoql": "--aoq-formula simple now reaches double plans",
+    "check_double_lot_aoq_simple:json.statements":
+        "the AOQL sentence states the simple-formula AOQL",
+    "check_sequential_lot_aoq_simple:json.aoql":
+        "--aoq-formula simple now reaches sequential plans",
+    "check_sequential_lot_aoq_simple:json.statements":
+        "the AOQL sentence states the simple-formula AOQL",
+    # The demo scenario gained plans/qp-8850-seal-cartridge.toml (a designed double plan).
+    "check_plans_folder:json.characteristics": "one more plan file in plans/ (QP-8850)",
 }
 
 #: What ``main`` prints on stderr when a command failed with an internal error.

@@ -25,7 +25,18 @@ A supplier's "32, accept on 1" against the designed plan for AQL 1 %, RQL 8 %:
 
 from __future__ import annotations
 
-__all__ = ["compare_plans", "row_for"]
+__all__ = ["compare_plans", "row_for", "plan_risks"]
+
+def plan_risks(plan, targets, scope, model=None) -> tuple[str, float, float]:
+    """The model ``plan`` is judged by and its ``Pa`` at the AQL and the RQL,
+    computed as ``lotwise check`` computes them (:meth:`Plan.risks`: whole lot
+    counts rounded the conservative way under the hypergeometric model; a
+    variables plan on its own process curve, at the worst edge of a two-limit
+    band for each side)."""
+    mdl = plan.judging_model(scope, model)
+    r = plan.risks(targets, scope, mdl)
+    return mdl, r.pa_aql, r.pa_rql
+
 
 def row_for(label, plan, targets, scope, model=None) -> dict:
     """One comparison row (JSON-ready), from the plan's :func:`~lotwise.analysis.assess.assess`."""

@@ -102,7 +102,7 @@ def _levels(targets, scope: Scope, model: str):
 
 
 def plan_report(plan, targets, scope: Scope, model: str | None = None, *, design=None,
-                verdict: bool = True) -> dict:
+                verdict: bool = True, aoq_formula: str = "screened") -> dict:
     """The full result for ``plan`` judged against ``targets`` in ``scope``.
 
     Parameters
@@ -114,6 +114,9 @@ def plan_report(plan, targets, scope: Scope, model: str | None = None, *, design
         The judging model (default the exact one for the scope).
     design : object, optional
         A designer's result; its ``report_extra()`` dictionary is merged in.
+    aoq_formula : {'screened', 'simple'}
+        How the AOQL (lot size known) counts the sample: see
+        :meth:`lotwise.families.base.Plan.aoq`.
     """
     if isinstance(plan, SinglePlan):
         from lotwise.analysis.report import single_report
@@ -160,7 +163,8 @@ def plan_report(plan, targets, scope: Scope, model: str | None = None, *, design
         out["lot_counts"] = {"aql": r.count_aql, "rql": r.count_rql,
                              "aql_rounding": "up", "rql_rounding": "down"}
     if scope.lot_size:
-        out["aoql"] = _aoql(plan, model, scope, quality.consumer)
+        out["aoql"] = _aoql(plan, model, scope, quality.consumer, aoq_formula)
+        out["aoql"]["formula"] = aoq_formula
     if plan.scheme == "sequential":
         out["wald"] = _wald(plan, targets, scope)
         out["truncation_rule"] = ("a lot still undecided after the last unit is accepted if "
@@ -191,16 +195,16 @@ def plan_report(plan, targets, scope: Scope, model: str | None = None, *, design
     return out
 
 
-def _aoql(plan, model: str, scope: Scope, consumer: float) -> dict:
+def _aoql(plan, model: str, scope: Scope, consumer: float, formula: str = "screened") -> dict:
     top = max(min(1.0, 1.5 * consumer), 1e-6)
     ps = np.linspace(0.0, top, 201)
     if model == "hypergeometric":
         ps = np.unique(np.round(ps * scope.lot_size)) / scope.lot_size
-    v = np.asarray(plan.aoq(ps, model, scope))
+    v = np.asarray(plan.aoq(ps, model, scope, formula=formula))
     i = int(np.argmax(v))
     if model != "hypergeometric" and 0 < i < len(ps) - 1:
         fine = np.linspace(ps[i - 1], ps[i + 1], 201)
-        fv = np.asarray(plan.aoq(fine, model, scope))
+        fv = np.asarray(plan.aoq(fine, model, scope, formula=formula))
         j = int(np.argmax(fv))
         if fv[j] > v[i]:
             return {"value": float(fv[j]), "at": float(fine[j])}

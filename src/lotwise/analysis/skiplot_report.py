@@ -45,14 +45,19 @@ def skiplot_report(plan: SkipLotPlan, targets, scope: Scope, model: str) -> dict
            "models": models}
     pu = scope.defects
     lv = lambda x: format_level(x, pu)  # noqa: E731
-    n = plan.reference.max_sample
+    ref = plan.reference
+    n = ref.max_sample
+    if ref.varying_sample:  # units per inspected lot: the reference plan's ASN at the AQL
+        level = (oc.lot_count(targets.aql, scope.lot_size, "up") / scope.lot_size
+                 if model == "hypergeometric" else targets.aql)
+        n = float(ref.asn(level, model, scope))
     out["statements"] = [
         f"Skip-lot SkSP-2 over {plan.reference.label}: after {plan.i} consecutive accepted lots, "
         f"inspect {format_pct(plan.f)} of lots at random; return to every lot on a rejection.",
         f"At the AQL {lv(targets.aql)}: {format_pct(main['pa_aql'])} of lots accepted (reference "
         f"plan {format_pct(main['reference_pa_aql'])}), {format_pct(main['fraction_inspected_aql'])}"
         f" of lots inspected: {main['fraction_inspected_aql'] * n:.1f} units per lot on average "
-        f"instead of {n}.",
+        f"instead of {n if isinstance(n, int) else f'{n:.1f}'}.",
         f"At the RQL {lv(targets.rql)}: {format_pct(main['pa_rql'])} of lots accepted (reference "
         f"plan {format_pct(main['reference_pa_rql'])}), {format_pct(main['fraction_inspected_rql'])}"
         " of lots inspected.",

@@ -68,6 +68,25 @@ def render_draw(d) -> str:
     return "\n".join(lines)
 
 
+def _from_plan(text, lot, n, seed, strata):
+    """``--lot-size``, ``--n``, ``--seed`` and ``--strata`` from ``--plan``: the
+    plan's largest sample; from a plan file also its lot size, the seed of its
+    sheet's pick list and its strata (each unless given on the command line)."""
+    from lotwise.documents.partplan import plan_from_reference
+
+    if n is not None:
+        raise InputError(f"--n ({n}) cannot be combined with --plan; the plan gives the number "
+                         "of units")
+    ref = plan_from_reference(text)
+    if lot is None and ref.lot_size is None:
+        where = "the plan file gives no lot.size" if ref.path else "plan notation has none"
+        raise InputError(f"--lot-size is required with --plan ({text}): {where}")
+    lot = lot if lot is not None else str(ref.lot_size)
+    seed = seed if seed is not None else (None if ref.seed is None else str(ref.seed))
+    strata = strata if strata is not None else ref.strata
+    return lot, str(ref.plan.max_sample), seed, strata
+
+
 @app.command()
 def draw(
     lot: Optional[str] = typer.Option(None, "--lot-size", "-N",
@@ -80,12 +99,18 @@ def draw(
         help='"cartons=40" (40 equal consecutive strata) or "cartons=120,120,80" (sizes).'),
     csv: Optional[str] = typer.Option(
         None, "--csv", help="Write the pick list as CSV to PATH, or - for stdout."),
+    plan: Optional[str] = typer.Option(
+        None, "--plan", help='Pull the most units this plan may inspect: notation ("n=80,c=2", '
+                             'with --lot-size) or plans/part.toml#M1 (lot size, seed and strata '
+                             'from the file unless given).'),
     force: bool = typer.Option(False, "--force", help="Overwrite files not written by lotwise."),
     as_json: bool = common.JSON,
 ):
     """Which units to pull: a reproducible random pick list, seed recorded."""
     from lotwise.data.draw import MAX_LOT, MAX_N, draw_units
 
+    if plan is not None:
+        lot, n, seed, strata = _from_plan(plan, lot, n, seed, strata)
     if lot is None:
         raise InputError("--lot-size is required (for example --lot-size 1000)")
     if n is None:

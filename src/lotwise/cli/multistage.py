@@ -243,7 +243,8 @@ def next_unit(
                                        help='Plan notation: "n1=50,c1=1,r1=4,n2=100,c2=3", '
                                             '"multiple: n=20/20/20; c=-/1/3; r=2/3/4", '
                                             '"sequential: h1=..,h2=..,s=..,truncate=.." '
-                                            'or "n=80,c=2".'),
+                                            'or "n=80,c=2"; or a plan file\'s characteristic, '
+                                            'plans/part.toml#M1.'),
     inspected: Optional[str] = typer.Option(None, "--inspected",
                                             help="Units inspected so far (all stages)."),
     found: Optional[str] = typer.Option(None, "--found",
@@ -263,6 +264,7 @@ def next_unit(
     For a continuous sampling plan (csp1/2/3): the phase, the conforming units
     still needed to clear it and the next units to inspect, from --history.
     """
+    from lotwise.documents.partplan import plan_from_reference
     from lotwise.families.base import parse_plan
 
     if plan_file is not None:  # the plan of a user's table (see cli.scheme)
@@ -285,13 +287,11 @@ def next_unit(
         raise InputError("--inspected is required (units inspected so far, for example 50)")
     if found is None:
         raise InputError("--found is required (nonconforming found so far, for example 2)")
-    p = parse_plan(plan)
     n = parse_count(inspected, "--inspected", minimum=0)
     d = parse_count(found, "--found", minimum=0)
-    if p.scheme == "single":
-        dec = p.decide(n, d, defects=defects)
-    else:
-        dec = p.decide(n, d, defects=defects)
+    ref = plan_from_reference(plan)
+    p = ref.plan
+    dec = p.decide(n, d, defects=defects or ref.defects)
     if as_json:
         out = {"scheme": p.scheme, "plan": p.to_dict(), "notation": p.notation()}
         out.update(dec.as_dict())

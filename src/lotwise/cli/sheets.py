@@ -56,7 +56,10 @@ def check_folder(paths, as_json: bool) -> int:
                           "scheme": rep["scheme"], "plan": rep.get("plan"),
                           "model": rep["model"], "alpha": r["alpha"], "beta": r["beta"],
                           "targets": t, "meets": r["meets"],
-                          "designed": pp.designed})
+                          "designed": pp.designed, "pa_aql": r["pa_aql"], "pa_rql": r["pa_rql"],
+                          "notation": rep.get("notation") or f"n={rep['n']},c={rep['c']}",
+                          "own_sample": bool(rep.get("own_sample")),
+                          "note": rep.get("note", "")})
     ok = all(i["meets"] for i in items) and all(i["meets"] for i in t_items)
     if as_json:
         common.emit_json({"meets": ok, "characteristics": items}
@@ -65,6 +68,9 @@ def check_folder(paths, as_json: bool) -> int:
         if items:
             typer.echo(common.table(rows, ["file", "part", "char.", "class", "plan",
                                            "alpha / target", "beta / target", "verdict"]))
+            for i in items:
+                if i.get("note"):
+                    typer.echo(f"  {Path(i['file']).name} {i['characteristic']}: {i['note']}")
             short = sum(not i["meets"] for i in items)
             typer.echo(f"\n  {len(items)} characteristic(s) checked; "
                        + ("all meet their targets." if all(i["meets"] for i in items)
@@ -163,9 +169,9 @@ def compare(
                                     Targets(aql=a, rql=r, alpha=al, beta=be), scope, mdl))
         for i, text in enumerate(plan or [], 1):
             p = parse_plan(text, f"--plan #{i}")
-            if scope.lot_size and (getattr(p, "n", 0) or 0) > scope.lot_size:
-                raise InputError(f"--plan #{i} ({text}): n must not be greater than --lot-size "
-                                 f"({scope.lot_size})")
+            if scope.lot_size and p.max_sample > scope.lot_size:
+                raise InputError(f"--plan #{i} ({text}): the plan inspects up to "
+                                 f"{p.max_sample} units, more than --lot-size ({scope.lot_size})")
             entries.append((p.label, p, Targets(aql=a, rql=r, alpha=al, beta=be), scope, mdl))
     if len(entries) < 2:
         raise InputError("compare needs at least two plans: give --plan twice or more, or plan "

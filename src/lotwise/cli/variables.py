@@ -412,7 +412,8 @@ def judge(
         None, help="File of measurements: one column of numbers, optional header."),
     plan: Optional[str] = typer.Option(
         None, "--plan", help='Variables plan, e.g. "variables: n=42,k=1.901,upper=25.0" '
-                             '(lower=, both limits, sigma= for a known sigma).'),
+                             '(lower=, both limits, sigma= for a known sigma), or a plan '
+                             'file\'s characteristic, plans/part.toml#M1.'),
     values: Optional[str] = typer.Option(None, "--values",
                                          help="Measurements on the command line: 1.2,1.3,..."),
     plot: Optional[str] = typer.Option(None, "--plot",
@@ -421,11 +422,11 @@ def judge(
     as_json: bool = common.JSON,
 ):
     """Judge a measured sample with a variables plan: accept (exit 0) or reject (exit 1)."""
-    from lotwise.families.base import parse_plan
+    from lotwise.documents.partplan import plan_from_reference
 
     if plan is None:
         raise InputError('--plan is required, e.g. --plan "variables: n=42,k=1.901,upper=25.0"')
-    p = parse_plan(plan)
+    p = plan_from_reference(plan).plan
     if p.scheme != "variables":
         raise InputError(f"--plan ({plan!r}) must be a variables plan, e.g. "
                          "\"variables: n=42,k=1.901,upper=25.0\"")

@@ -17,16 +17,36 @@ column               required meaning
 ``rql``              yes      rejectable quality level (LTPD), written the same way
 ``alpha``            no       producer's risk (default 5 %)
 ``beta``             no       consumer's risk (default 10 %)
-``scheme``           no       plan family; ``single`` (the default) for now
+``scheme``           no       plan family with a designer: ``single`` (the
+                              default), ``double``, ``sequential``, ``chain`` or
+                              ``variables``
 ``model``            no       ``hypergeometric``, ``binomial`` or ``poisson``
                               (default: the exact one for the row)
 ``fixed_c``          no       fix the acceptance number (0 for accept-on-zero)
 ``max_n``            no       largest affordable sample
 ``defects``          no       ``yes`` when the levels are nonconformities per unit
 ``deliveries_per_year`` no    lots received per year, for the yearly load
+``ratio``            no       double: ``n2 / n1`` (default 2)
+``minimize``         no       double: ``asn-aql`` (default) or ``asn-max``
+``truncate``         no       sequential: most units before a forced decision
+``sigma``            no       variables: ``known`` or ``unknown`` (default:
+                              known when ``sigma_value`` is given)
+``sigma_value``      no       variables: the known process standard deviation
+``limit``            no       variables: ``upper``, ``lower`` or ``both``
+                              (default: the limits given, else upper)
+``upper``, ``lower`` no       variables: specification limits
 ==================== ======== ==================================================
 
-Empty optional cells take the default. Every other column is copied through.
+The designer columns are the families' ``design_options`` in the registry
+(:func:`option_columns`); a value in a column of another scheme than the
+row's is an error for that row. A row of a scheme other than single is
+designed by its family's designer (:func:`design_registered`); its ``n`` is
+the most units one lot may take (the sample size of a fixed-sample plan;
+``n1 + n2`` for a double plan, the truncation point for a sequential one),
+``c`` is empty, ``plan`` its notation and ``model_used`` the model it is
+judged by (for a variables plan its own, e.g. ``noncentral-t``; the lot size
+does not enter it). Empty optional cells take the default. Every other
+column is copied through.
 The output holds the input columns as read, then ``n``, ``c``, ``plan``
 (notation such as ``n=80,c=2``, readable by ``lotwise check --plan`` and by
 the ``plan`` column of lot records), ``model_used``, ``alpha_actual``,
@@ -102,14 +122,15 @@ OPTIONAL = ("alpha", "beta", "scheme", "model", "fixed_c", "max_n", "defects",
 OUTPUT = ("n", "c", "plan", "model_used", "alpha_actual", "beta_actual", "full_inspection",
           "units_per_year", "error")
 
-#: Plan families the batch can design: ``scheme -> "module:function"`` or
-#: ``None`` for the built-in array search (single sampling). A function takes
-#: one normalised problem as keywords (``aql, rql, alpha, beta, lot_size,
-#: model, defects, fixed_c, max_n``) and returns a dict with the keys
-#: ``n`` (the sample size a lot costs; the average sample number at the AQL
-#: for plans whose sample varies), ``c``, ``plan`` (notation),
-#: ``alpha_actual``, ``beta_actual``, ``full_inspection``; it raises
-#: :class:`~lotwise.core.quantities.Infeasible` or
+#: Plan families the batch designs by other means than the family registry:
+#: ``scheme -> "module:function"`` or ``None`` for the built-in array search
+#: (single sampling). Every other family with a designer in
+#: :data:`lotwise.families.base.REGISTRY` is designed by its own designer
+#: (:func:`design_registered`). A function here takes one normalised problem
+#: as keywords (``aql, rql, alpha, beta, lot_size, model, defects, fixed_c,
+#: max_n``) and returns a dict with the keys ``n``, ``c``, ``plan``
+#: (notation), ``alpha_actual``, ``beta_actual``, ``full_inspection``; it
+#: raises :class:`~lotwise.core.quantities.Infeasible` or
 #: :class:`~lotwise.core.quantities.InputError` with the reason.
 SCHEMES: dict[str, str | None] = {
     "single": None,
@@ -485,6 +506,8 @@ def design_catalogue(df, *, deliveries_per_year: float | None = None, progress=N
                         dtype=object)
 
     text = {c: stripped(c) for c in REQUIRED + OPTIONAL}
+    opt_cols = tuple(c for c in option_columns() if c in df.columns)
+    text.update({c: stripped(c) for c in opt_cols})
     shape = np.array([str(v) if v else "" for v in df["_shape"].tolist()], dtype=object)
     error = np.where(shape == "", "", "the line " + shape).astype(object)
 
@@ -529,6 +552,8 @@ def design_catalogue(df, *, deliveries_per_year: float | None = None, progress=N
     note(e)
     scheme, e = column("scheme", _scheme, "single")
     note(e)
+    options, e = _row_options(text, scheme, opt_cols)
+    note(e)
     fixed_c, e = column("fixed_c", lambda v: parse_count(v, "fixed_c", minimum=0), -1)
     note(e)
     max_n, e = column("max_n", lambda v: parse_count(v, "max_n", minimum=1), 0)
@@ -558,7 +583,7 @@ def design_catalogue(df, *, deliveries_per_year: float | None = None, progress=N
     prob = pd.DataFrame({
         "model": model, "aql": aql, "rql": rql, "alpha": alpha, "beta": beta,
         "lot": np.where(has_lot, lot, 0), "fixed_c": fixed_c, "max_n": max_n,
-        "defects": defects, "scheme": scheme,
+        "defects": defects, "scheme": scheme, "options": options,
     })
     n_col = np.full(m, -1, dtype=np.int64)
     c_col = np.full(m, -1, dtype=np.int64)
@@ -568,7 +593,7 @@ def design_catalogue(df, *, deliveries_per_year: float | None = None, progress=N
     plan_col = np.full(m, "", dtype=object)
 
     keycols = ["scheme", "model", "aql", "rql", "alpha", "beta", "lot", "fixed_c", "max_n",
-               "defects"]
+               "defects", "options"]
     good = prob[ok]
     distinct = 0
     if len(good):
@@ -587,6 +612,7 @@ def design_catalogue(df, *, deliveries_per_year: float | None = None, progress=N
         ub = np.full(distinct, np.nan)
         uplan = np.full(distinct, "", dtype=object)
         uerr = np.full(distinct, "", dtype=object)
+        umodel = np.full(distinct, "", dtype=object)  # a family's own model (variables)
         ufull = np.zeros(distinct, dtype=bool)
         # Which problems the array search can take.
         simple = ((u["scheme"] == "single") & (u["max_n"] == 0) & (u["rql"] > u["aql"])
@@ -626,6 +652,7 @@ def design_catalogue(df, *, deliveries_per_year: float | None = None, progress=N
                     res["beta_actual"]
                 uplan[i] = res.get("plan", "")
                 ufull[i] = bool(res.get("full_inspection", False))
+                umodel[i] = res.get("model", "")
             if progress is not None and k % 50 == 0:
                 progress(done + k, total)
         if progress is not None:
@@ -642,13 +669,15 @@ def design_catalogue(df, *, deliveries_per_year: float | None = None, progress=N
         plan_col[rows_ok] = uplan[codes]
         full_col[rows_ok] = ufull[codes]
         error[rows_ok] = uerr[codes]
+        own = umodel[codes]
+        model[rows_ok] = np.where(own != "", own, model[rows_ok])
 
     designed = (error == "") & (n_col >= 0)
     out = df.drop(columns=["_line", "_shape"]).copy()
     out["n"] = pd.array(np.where(designed, n_col, 0), dtype="Int64")
     out.loc[~designed, "n"] = pd.NA
     out["c"] = pd.array(np.where(designed, c_col, 0), dtype="Int64")
-    out.loc[~designed, "c"] = pd.NA
+    out.loc[~designed | (c_col < 0), "c"] = pd.NA  # no c: a scheme other than single
     out["plan"] = np.where(designed, plan_col, "")
     out["model_used"] = np.where(designed, np.where(model == None, "", model), "")  # noqa: E711
     out["alpha_actual"] = np.where(designed, a_col, np.nan)
@@ -673,10 +702,57 @@ def _level(v, name, per_unit):
 
 
 def _scheme(v):
+    from lotwise.families.base import designable
+
     s = str(v).strip().lower()
-    if s not in SCHEMES:
-        raise InputError(f"scheme ({v}) must be one of: {', '.join(SCHEMES)}")
+    names = list(dict.fromkeys(list(SCHEMES) + designable()))
+    if s not in names:
+        raise InputError(f"scheme ({v}) must be one of: {', '.join(names)}")
     return s
+
+
+def option_columns() -> dict[str, list[str]]:
+    """Catalogue columns that are designer options, ``column -> schemes
+    taking it``: the families' ``design_options`` from the registry (``n``,
+    ``c`` and ``max_n`` are the row's ``fixed_c`` and ``max_n`` columns)."""
+    from lotwise.families.base import option_owners
+
+    return option_owners()
+
+
+def _row_options(text: dict, scheme, columns) -> tuple:
+    """Each row's designer options as canonical JSON text, and its error.
+
+    ``text``: column -> stripped cell texts; ``scheme``: each row's parsed
+    scheme (None where it failed). A non-empty option cell must belong to
+    the row's scheme and hold a value its designer takes.
+    """
+    import json
+
+    from lotwise.families.base import design_option, family
+
+    owners = option_columns()
+    m = len(scheme)
+    opts = np.full(m, "", dtype=object)
+    errs = np.full(m, "", dtype=object)
+    if not columns:
+        return opts, errs
+    for i in range(m):
+        given = {c: text[c][i] for c in columns if text[c][i] != ""}
+        if not given or scheme[i] is None:
+            continue
+        try:
+            fam = family(scheme[i], "scheme")
+            out = {}
+            for col, cell in given.items():
+                if col not in fam.design_options:
+                    raise InputError(f"{col} ({cell}) applies to scheme "
+                                     f"{' or '.join(owners[col])}, not to {scheme[i]}")
+                out[col] = design_option(fam, col, cell, col, text=True)
+            opts[i] = json.dumps(out, sort_keys=True)
+        except InputError as exc:
+            errs[i] = str(exc)
+    return opts, errs
 
 
 def _rate(v, name):
@@ -689,8 +765,57 @@ def _rate(v, name):
     return x
 
 
+def design_registered(*, scheme: str, aql: float, rql: float, alpha: float, beta: float,
+                      lot_size: int | None, model: str | None, defects: bool,
+                      fixed_c: int | None, max_n: int | None, options: dict) -> dict:
+    """One catalogue problem through the designer of family ``scheme`` (the
+    registry's common signature) and judged as ``lotwise check`` judges it.
+
+    Returns the dict of a :data:`SCHEMES` function: ``n`` is the most units
+    one lot may take (the sample size of a fixed-sample plan), ``c`` is -1
+    (no single acceptance number), ``model`` the model the plan is judged by.
+    """
+    from lotwise.analysis.compare import plan_risks
+    from lotwise.core.types import Targets
+    from lotwise.families.base import family
+
+    fam = family(scheme, "scheme")
+    if fixed_c is not None:
+        raise InputError(f"fixed_c ({fixed_c}) applies to scheme single, not to {scheme}")
+    kw = dict(options)
+    if max_n is not None:
+        if "max_n" not in fam.design_options:
+            raise InputError(f"max_n ({max_n}) does not apply to scheme {scheme}")
+        kw["max_n"] = max_n
+    try:
+        d = fam.design(aql=aql, rql=rql, alpha=alpha, beta=beta, lot_size=lot_size,
+                       model=model, defects=defects, **kw)
+    except InputError as exc:  # name the catalogue's columns, not the command's options
+        msg = str(exc)
+        for key in fam.design_options:
+            msg = msg.replace(f"--{key.replace('_', '-')} ", f"{key} ")
+        raise InputError(msg) from None
+    plan = d.plan
+    targets = Targets(aql=aql, rql=rql, alpha=alpha, beta=beta)
+    mdl, pa_aql, pa_rql = plan_risks(plan, targets, Scope(lot_size=lot_size, defects=defects),
+                                     model)
+    return {"n": int(plan.max_sample), "c": -1, "plan": plan.notation(), "model": mdl,
+            "alpha_actual": 1.0 - pa_aql, "beta_actual": pa_rql,
+            "full_inspection": bool(lot_size and plan.max_sample >= lot_size)}
+
+
 def _design_one(row) -> dict:
     """One problem through :func:`design_single` (or a registered scheme)."""
+    if row["scheme"] not in SCHEMES:
+        import json
+
+        return design_registered(
+            scheme=row["scheme"], aql=float(row["aql"]), rql=float(row["rql"]),
+            alpha=float(row["alpha"]), beta=float(row["beta"]),
+            lot_size=int(row["lot"]) or None, model=row["model"], defects=bool(row["defects"]),
+            fixed_c=int(row["fixed_c"]) if int(row["fixed_c"]) >= 0 else None,
+            max_n=int(row["max_n"]) or None,
+            options=json.loads(row["options"]) if row["options"] else {})
     kw = dict(aql=float(row["aql"]), rql=float(row["rql"]), alpha=float(row["alpha"]),
               beta=float(row["beta"]), lot_size=int(row["lot"]) or None, model=row["model"],
               defects=bool(row["defects"]),

@@ -319,7 +319,6 @@ def resolve_plan_file(name: str, plans_dir) -> object:
 def _plan_from_toml(path, name: str, which: str):
     from lotwise.documents.partplan import resolve
     from lotwise.documents.planfile import load
-    from lotwise.families.single import SinglePlan
 
     pp = resolve(load(path), verdict=False)
     if pp.n is None:
@@ -333,8 +332,7 @@ def _plan_from_toml(path, name: str, which: str):
     if which not in ids:
         raise InputError(f"plan_file ({name}#{which}): no characteristic {which!r}; it holds "
                          + ", ".join(ids))
-    rep = pp.reports[ids.index(which)]
-    return SinglePlan(n=rep["n"], c=rep["c"])
+    return pp.plans[ids.index(which)]  # any family: the plan the sheet states
 
 
 def expected_disposition(plan, lot_size: int, sample_size: int, found: int):

@@ -4,8 +4,11 @@ Characteristics listed in one plan file are judged on the same sample, each
 with its own acceptance number and its own risks. :func:`resolve` turns a
 :class:`~lotwise.documents.planfile.PlanRequest` into a :class:`PartPlan`:
 
+* a characteristic with a ``plan`` keeps that plan, one with a ``scheme``
+  other than single gets its family's design (through the family registry);
+  both are judged on their own plan, not on the common sample;
 * a file that fixes ``sampling.n`` and every ``c`` is audited as it stands;
-* otherwise each characteristic is designed on its own (smallest ``n``
+* otherwise each single characteristic is designed on its own (smallest ``n``
   meeting its two risks, honouring a fixed ``c``); the common sample is the
   largest of those ``n``, and every characteristic then gets the smallest
   ``c`` meeting its producer's risk at the common ``n``. If a characteristic's
@@ -42,10 +45,10 @@ from dataclasses import dataclass, field
 
 from lotwise.families.single import design_single
 from lotwise.families.single import SinglePlan
-from lotwise.core.quantities import Infeasible
+from lotwise.core.quantities import Infeasible, InputError
 from lotwise.analysis.report import single_report
 
-__all__ = ["PartPlan", "resolve"]
+__all__ = ["PartPlan", "resolve", "PlanReference", "plan_from_reference", "pick_seed", "own_note"]
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -150,15 +153,7 @@ def _common_sample(req, chars, floor: int = 0) -> tuple[int, list]:
 
 def largest_sample(plan) -> int | None:
     """Most units a plan may inspect in one lot (its sample size, when fixed)."""
-    n = getattr(plan, "n", None)
-    if isinstance(n, (tuple, list)):  # multiple plans: stage sizes
-        return int(sum(n))
-    if n is not None:
-        return int(n)
-    if hasattr(plan, "n1"):
-        return int(plan.n1 + plan.n2)
-    t = getattr(plan, "truncate", None)
-    return int(t) if t is not None else None
+    return int(plan.max_sample)
 
 
 def own_report(plan, ch, scope, model=None, design=None) -> dict:
@@ -173,9 +168,12 @@ def own_report(plan, ch, scope, model=None, design=None) -> dict:
           "meets_beta": bool(row["beta"] <= t.beta + 1e-12)}
     mr["meets"] = mr["meets_alpha"] and mr["meets_beta"]
     rep = {"scheme": plan.scheme, "plan": plan.to_dict(), "label": plan.label,
-           "n": largest_sample(plan), "model": row["model"], "lot_size": scope.lot_size,
-           "defects": scope.defects, "targets": row["targets"], "models": {row["model"]: mr},
-           "meets": mr["meets"], "plan_quality": row["plan_quality"], "own_sample": True}
+           "notation": plan.notation(), "n": largest_sample(plan), "model": row["model"],
+           "lot_size": scope.lot_size, "defects": scope.defects, "targets": row["targets"],
+           "models": {row["model"]: mr}, "meets": mr["meets"],
+           "plan_quality": row["plan_quality"], "own_sample": True,
+           "varying_sample": bool(plan.varying_sample),
+           "designed": design is not None, "note": own_note(plan, design is not None)}
     if "asn" in row:
         rep["asn"] = row["asn"]
     if design is not None and hasattr(design, "as_dict"):
@@ -186,18 +184,38 @@ def own_report(plan, ch, scope, model=None, design=None) -> dict:
     return _with_char(rep, ch)
 
 
+def own_note(plan, designed: bool) -> str:
+    """What the sheet and ``check`` say of a characteristic on a plan of its own."""
+    how = "designed" if designed else "given"
+    return (f"own {plan.scheme} plan ({how}), not the common sample: judged on its own "
+            f"plan {plan.label}")
+
+
 def _own_plan(ch, req):
-    """The given plan, or the variables design, of a characteristic."""
+    """The given plan of a characteristic, or its design by the family its
+    ``scheme`` names (through the registry)."""
     if ch.plan is not None:
         return ch.plan, None
-    from lotwise.families.variables import design_variables
+    from lotwise.families.base import family
 
-    v = ch.variables
-    limit = "both" if ("lower" in v and "upper" in v) else ("upper" if "upper" in v else "lower")
+    fam = family(ch.scheme)
+    opts = dict(ch.options)
+    if req.max_n is not None and "max_n" in fam.design_options:
+        opts.setdefault("max_n", req.max_n)
     t = ch.targets
-    d = design_variables(aql=t.aql, rql=t.rql, alpha=t.alpha, beta=t.beta, sigma=v["sigma"],
-                         limit=limit, sigma_value=v.get("sigma_value"), lower=v.get("lower"),
-                         upper=v.get("upper"), max_n=req.max_n)
+    try:
+        d = fam.design(aql=t.aql, rql=t.rql, alpha=t.alpha, beta=t.beta,
+                       lot_size=req.scope.lot_size, model=req.model,
+                       defects=req.scope.defects, **opts)
+    except InputError as exc:
+        where = f"characteristic[{req.characteristics.index(ch) + 1}]."
+        msg = str(exc)
+        for key in fam.design_options:
+            msg = msg.replace(f"--{key.replace('_', '-')} ", f"{where}{key} ")
+        raise InputError(f"{req.path}: {where}scheme ({ch.scheme}): {msg}") from None
+    except Infeasible as exc:
+        raise Infeasible(f"characteristic {ch.id} ({ch.scheme} design): {exc}",
+                         exc.reachable) from None
     return d.plan, d
 
 
@@ -244,3 +262,86 @@ def _add_rectifying(reps, plans, chars, scope) -> None:
     for rep, plan, ch in zip(reps, plans, chars):
         if plan.n < scope.lot_size:
             rep.update(rectifying_summary(plan, scope, rep["model"], ch.targets))
+
+
+# --- a plan named on the command line ------------------------------------------
+
+@dataclass(frozen=True, kw_only=True)
+class PlanReference:
+    """A plan named by notation or by ``FILE.toml#CHAR_ID``.
+
+    Attributes
+    ----------
+    plan : Plan
+        The plan (as the file's sheet states it, for a file reference).
+    text : str
+        The reference as given.
+    path, characteristic : str or None
+        The plan file and the characteristic's id (None for notation).
+    lot_size, seed : int or None
+        The file's lot size and the seed its sheet's pick list is drawn with.
+    strata : str or None
+        The file's strata of the pick list.
+    defects : bool
+        The file counts nonconformities per unit (False for notation).
+    """
+
+    plan: object
+    text: str
+    path: str | None = None
+    characteristic: str | None = None
+    lot_size: int | None = None
+    seed: int | None = None
+    strata: str | None = None
+    defects: bool = False
+
+
+def pick_seed(req) -> int:
+    """The seed of a plan file's pick list: ``sampling.seed``, else the first
+    eight hex digits of its fingerprint (so the same file draws the same units)."""
+    return req.seed if req.seed is not None else int(req.fingerprint()[:8], 16)
+
+
+def plan_from_reference(text, option: str = "--plan") -> PlanReference:
+    """Read ``--plan``: plan notation, or ``FILE.toml#CHAR_ID`` naming one
+    characteristic of a plan file (``FILE.toml`` alone when it has one).
+
+    The file is resolved as ``lotwise sheet`` resolves it, so the plan is the
+    one its sheet states. Raises :class:`InputError` naming ``option``, the
+    reference and what is allowed.
+
+    Examples
+    --------
+    >>> plan_from_reference("n=80,c=2").plan.label
+    'n=80, c=2'
+    """
+    from lotwise.families.base import parse_plan
+
+    if not isinstance(text, str) or not text.strip():
+        raise InputError(f"{option} ({text!r}) must be plan notation such as \"n=80,c=2\" or "
+                         "a plan file and characteristic such as plans/part.toml#M1")
+    body = text.strip()
+    if "#" not in body and not body.lower().endswith(".toml"):
+        return PlanReference(plan=parse_plan(body, option), text=body)
+    from lotwise.documents.planfile import load
+
+    path, _, cid = body.rpartition("#") if "#" in body else (body, "", "")
+    try:
+        req = load(path)
+    except InputError as exc:
+        raise InputError(f"{option} ({body}): {exc}") from None
+    pp = resolve(req, verdict=False)
+    ids = [ch.id for ch in req.characteristics]
+    if not cid:
+        if len(ids) > 1:
+            raise InputError(f"{option} ({body}): the file holds {len(ids)} characteristics "
+                             f"({', '.join(ids)}); name one, e.g. {path}#{ids[0]}")
+        cid = ids[0]
+    if cid not in ids:
+        raise InputError(f"{option} ({body}): no characteristic {cid!r} in {path}; it holds "
+                         + ", ".join(ids))
+    if pp.n is None:
+        raise InputError(f"{option} ({body}): the plan file yields no plan: {pp.problem}")
+    return PlanReference(plan=pp.plans[ids.index(cid)], text=body, path=str(path),
+                         characteristic=cid, lot_size=req.scope.lot_size, seed=pick_seed(req),
+                         strata=req.strata, defects=req.scope.defects)

@@ -46,13 +46,24 @@ Format
     beta = "5%"                                  # default 10 %
     c = 0                                        # fixed acceptance number (optional)
     # plan = "n1=50,c1=1,r1=4,n2=100,c2=3"       # or a given plan of any type (audited)
-    # scheme = "variables"                       # a measured characteristic: variables plan
-    # sigma = "unknown"                          #   known or unknown
-    # sigma_value = 0.02                         #   the known sigma
-    # upper = 25.00                              #   specification limit(s): upper, lower
+    # scheme = "double"                          # or design another kind of plan:
+    #                                            #   single (default), double, sequential,
+    #                                            #   chain or variables (any family with a
+    #                                            #   designer), with that family's options:
+    # ratio = 1.0                                #   double: n2 / n1 (default 2)
+    # minimize = "asn-max"                       #   double: asn-aql (default) or asn-max
+    # truncate = 150                             #   sequential: most units before deciding
+    # sigma = "unknown"                          #   variables: known or unknown
+    # sigma_value = 0.02                         #   variables: the known sigma
+    # upper = 25.00                              #   variables: specification limit(s)
+    # limit = "upper"                            #   variables: upper, lower or both
 
-A characteristic with a ``plan`` or ``scheme = "variables"`` is judged on a
-plan of its own; the others share the part's common attributes sample.
+A characteristic with a ``plan`` or a ``scheme`` other than single is judged
+on a plan of its own (designed by its family's designer through the
+registry, with ``sampling.max_n`` as its cap where the family takes one);
+the others share the part's common attributes sample. The allowed option
+keys are those of :attr:`lotwise.families.base.Family.design_options`; a key
+of another scheme is refused, naming the scheme it needs.
 
 A file may also hold a switching scheme (``[switching]``, ``[switching.rules]``)
 and a table of plans by lot size (``[[table]]``), with file-level ``aql``,
@@ -98,9 +109,9 @@ _TOP = {"rationale", "part", "sampling", "lot", "characteristic", "switching", "
 _PART = {"id", "description", "supplier", "drawing", "revision"}
 _LOT = {"size", "definition", "counts"}
 _SAMPLING = {"model", "n", "max_n", "cost_per_unit", "seed", "strata", "rejected_lot"}
-_CHAR = {"id", "description", "class", "aql", "rql", "alpha", "beta", "c", "plan", "scheme",
-         "sigma", "sigma_value", "lower", "upper"}
-_VAR_KEYS = ("sigma", "sigma_value", "lower", "upper")
+_CHAR_BASE = {"id", "description", "class", "aql", "rql", "alpha", "beta", "c", "plan", "scheme"}
+#: Designer options that live in [sampling] (the part's, not a characteristic's).
+_PART_OPTIONS = {"n", "c", "max_n"}
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -114,13 +125,19 @@ class Characteristic:
     c: int | None = None
     plan: object | None = None
     scheme: str = "single"
-    variables: dict = field(default_factory=dict)
+    options: dict = field(default_factory=dict)
 
     @property
     def own_sample(self) -> bool:
-        """Judged on a plan of its own (a given plan notation, or a variables
-        design) rather than on the part's common attributes sample."""
+        """Judged on a plan of its own (a given plan notation, or a design of
+        another scheme than single) rather than on the part's common
+        attributes sample."""
         return self.plan is not None or self.scheme != "single"
+
+    @property
+    def variables(self) -> dict:
+        """The designer options of a variables characteristic (empty otherwise)."""
+        return dict(self.options) if self.scheme == "variables" else {}
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -169,6 +186,80 @@ class PlanRequest:
         the comments, key order or layout."""
         blob = json.dumps(self.raw, sort_keys=True, separators=(",", ":"), default=str)
         return hashlib.sha256(blob.encode("utf-8")).hexdigest()[:16]
+
+
+def option_keys() -> dict[str, list[str]]:
+    """Characteristic keys that are designer options: ``key -> schemes using it``
+    (read from the family registry; ``n``, ``c`` and ``max_n`` are the part's)."""
+    from lotwise.families.base import option_owners
+
+    return option_owners(tuple(_PART_OPTIONS))
+
+
+def _char_keys() -> set:
+    return _CHAR_BASE | set(option_keys())
+
+
+def _scheme_options(ch: dict, w: str, path: str, defects: bool, c, plan) -> tuple[str, dict]:
+    """The characteristic's scheme and its designer options, checked.
+
+    ``scheme`` names any family with a designer (default ``single``); its
+    options are the family's ``design_options`` written as keys of the
+    characteristic. A given ``plan`` fixes the plan instead.
+    """
+    from lotwise.families.base import design_option, designable, family
+
+    owners = option_keys()
+    given = [k for k in ch if k in owners]
+    scheme = ch.get("scheme", "single")
+    if plan is not None:  # a fixed plan: nothing to design
+        if given:
+            raise InputError(f"{path}: {w}plan cannot be combined with "
+                             + ", ".join(f"{w}{k}" for k in given)
+                             + f": the plan notation fixes the plan ({w}scheme and its keys "
+                             "design one instead)")
+        if "scheme" in ch and str(scheme).strip().lower() != plan.scheme:
+            raise InputError(f"{path}: {w}scheme ({scheme!r}) does not match {w}plan (a "
+                             f"{plan.scheme} plan); give one of them")
+        return plan.scheme, {}
+    names = designable()
+    if not isinstance(scheme, str) or scheme.strip().lower() not in names:
+        raise InputError(f"{path}: {w}scheme ({scheme!r}) must be one of: {', '.join(names)} "
+                         f"(a plan of another kind is given as {w}plan = \"...\")")
+    scheme = scheme.strip().lower()
+    if c is not None and scheme != "single":
+        raise InputError(f"{path}: {w}c ({c}) applies to scheme single; {w}scheme ({scheme}) "
+                         "designs its own acceptance numbers")
+    fam = family(scheme)
+    options = {}
+    for key in given:
+        if key not in fam.design_options:
+            raise InputError(f"{path}: {w}{key} needs {w}scheme = "
+                             + " or ".join(f'"{s}"' for s in owners[key])
+                             + f" (it is {scheme!r})")
+        options[key] = design_option(fam, key, ch[key], f"{path}: {w}{key}")
+    if scheme == "variables":
+        _variables_rules(options, w, path, defects)
+    return scheme, options
+
+
+def _variables_rules(var: dict, w: str, path: str, defects: bool) -> None:
+    """What a variables characteristic of a plan file needs beyond its options' types."""
+    if defects:
+        raise InputError(f"{path}: {w}scheme (variables) does not apply to "
+                         "nonconformities per unit")
+    if "lower" not in var and "upper" not in var:
+        raise InputError(f"{path}: {w}scheme (variables) needs {w}upper and/or "
+                         f"{w}lower (specification limits)")
+    if "lower" in var and "upper" in var and not var["lower"] < var["upper"]:
+        raise InputError(f"{path}: {w}lower ({var['lower']:g}) must be below {w}upper "
+                         f"({var['upper']:g})")
+    var.setdefault("sigma", "known" if "sigma_value" in var else "unknown")
+    if var["sigma"] == "known" and "sigma_value" not in var:
+        raise InputError(f"{path}: {w}sigma (known) needs {w}sigma_value")
+    if var["sigma"] == "unknown" and "sigma_value" in var:
+        raise InputError(f"{path}: {w}sigma_value ({var['sigma_value']:g}) is given with "
+                         f"{w}sigma (unknown); drop one of them")
 
 
 def _unknown(keys, allowed, where: str, path: str) -> None:
@@ -276,7 +367,7 @@ def loads(text: str, path: str = "<plan>") -> PlanRequest:
     seen = set()
     for i, ch in enumerate(chars_raw, 1):
         w = f"characteristic[{i}]."
-        _unknown(ch, _CHAR, w, path)
+        _unknown(ch, _char_keys(), w, path)
         cid = _text(ch, "id", w, path, required=True)
         if cid in seen:
             raise InputError(f"{path}: {w}id ({cid!r}) is used twice; ids must be unique")
@@ -312,38 +403,11 @@ def loads(text: str, path: str = "<plan>") -> PlanRequest:
             if c is not None:
                 raise InputError(f"{path}: {w}c ({c}) cannot be combined with {w}plan; the plan "
                                  "notation holds the acceptance numbers")
-        scheme = ch.get("scheme", "single")
-        if scheme not in ("single", "variables"):
-            raise InputError(f"{path}: {w}scheme ({scheme!r}) must be 'single' or 'variables'")
-        var = {}
-        for key in _VAR_KEYS:
-            if key in ch:
-                if scheme != "variables":
-                    raise InputError(f"{path}: {w}{key} needs {w}scheme = \"variables\"")
-                v = ch[key]
-                if key == "sigma":
-                    if v not in ("known", "unknown"):
-                        raise InputError(f"{path}: {w}sigma ({v!r}) must be 'known' or 'unknown'")
-                elif isinstance(v, bool) or not isinstance(v, (int, float)):
-                    raise InputError(f"{path}: {w}{key} ({v!r}) must be a number")
-                var[key] = v
-        if scheme == "variables":
-            if defects:
-                raise InputError(f"{path}: {w}scheme (variables) does not apply to "
-                                 "nonconformities per unit")
-            if "lower" not in var and "upper" not in var:
-                raise InputError(f"{path}: {w}scheme (variables) needs {w}upper and/or "
-                                 f"{w}lower (specification limits)")
-            var.setdefault("sigma", "known" if "sigma_value" in var else "unknown")
-            if var["sigma"] == "known" and "sigma_value" not in var:
-                raise InputError(f"{path}: {w}sigma (known) needs {w}sigma_value")
-            if c is not None or plan is not None:
-                raise InputError(f"{path}: {w}scheme (variables) cannot be combined with "
-                                 f"{w}c or {w}plan")
+        scheme, options = _scheme_options(ch, w, path, defects, c, plan)
         chars.append(Characteristic(id=cid, description=_text(ch, "description", w, path),
                                     klass=klass, targets=Targets(aql=aql, rql=rql, alpha=alpha,
                                                                  beta=beta), c=c, plan=plan,
-                                    scheme=scheme, variables=var))
+                                    scheme=scheme, options=options))
     return PlanRequest(
         path=str(path), part_id=part_id, part_description=_text(part, "description", "part.", path),
         supplier=_text(part, "supplier", "part.", path),

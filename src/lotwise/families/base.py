@@ -40,8 +40,10 @@ True
 from __future__ import annotations
 
 import importlib
+import math
 import re
 from abc import ABC, abstractmethod
+from enum import StrEnum
 from dataclasses import dataclass, field
 from typing import Callable, ClassVar
 
@@ -51,8 +53,9 @@ from lotwise.core import search
 from lotwise.core.quantities import InputError
 from lotwise.core.types import TOL, AoqFormula, Scope, lot_counts, lot_targets, parse_choice
 
-__all__ = ["Plan", "Family", "Decision", "ModelRisk", "REGISTRY", "family", "families", "family_of",
-           "parse_plan", "split_notation", "need_lot", "finish"]
+__all__ = ["Plan", "Family", "Decision", "ModelRisk", "REGISTRY", "family", "families",
+           "family_of", "parse_plan", "split_notation", "need_lot", "finish", "OptionKind",
+           "Option", "design_option", "designable", "option_owners"]
 
 
 def need_lot(scope: Scope, what: str) -> int:
@@ -359,6 +362,10 @@ class Family:
         has no designer.
     design_options : dict
         Designer options beyond the targets: ``name -> help text``.
+    option_types : dict
+        ``name -> Option``: what each designer option accepts (used to check
+        plan-file keys and catalogue columns before designing, see
+        :func:`design_option`).
     extras : callable or None
         ``extras(plan, targets, scope, model, report) -> dict`` of family-specific
         report keys (``report`` holds the common keys already computed); a
@@ -378,10 +385,102 @@ class Family:
     #: Show the plan a Poisson-based design of this family would choose
     #: (families whose designer is fast enough to run on every report).
     poisson_redesign: bool = False
+    option_types: dict = field(default_factory=dict)
     extras: Callable | None = None
     oc_columns: Callable | None = None
     cases: str | None = None
     description: str = ""
+
+
+class OptionKind(StrEnum):
+    """What a designer option accepts."""
+
+    WHOLE = "whole"
+    NUMBER = "number"
+    CHOICE = "choice"
+
+
+@dataclass(frozen=True, kw_only=True)
+class Option:
+    """One designer option: its kind and the values it allows.
+
+    ``minimum``/``maximum`` bound a whole number or a number (inclusive);
+    ``positive`` asks a number to be above 0; ``choices`` lists the words a
+    choice allows.
+    """
+
+    kind: OptionKind
+    minimum: float | None = None
+    maximum: float | None = None
+    positive: bool = False
+    choices: tuple = ()
+
+    def allowed(self) -> str:
+        """What the option allows, in words (for messages)."""
+        if self.kind is OptionKind.CHOICE:
+            return "one of: " + ", ".join(self.choices)
+        what = "a whole number" if self.kind is OptionKind.WHOLE else "a number"
+        if self.positive:
+            return what + " above 0"
+        if self.minimum is not None and self.maximum is not None:
+            return f"{what} from {self.minimum:g} to {self.maximum:g}"
+        if self.minimum is not None:
+            return f"{what} of at least {self.minimum:g}"
+        return what
+
+
+def design_option(fam: "Family", name: str, value, where: str, *, text: bool = False):
+    """Check one designer option of family ``fam`` and return it typed.
+
+    Parameters
+    ----------
+    fam : Family
+    name : str
+        The option (a key of ``fam.design_options``).
+    value
+        As written: a TOML value, or text when ``text`` is True (a CSV cell).
+    where : str
+        The key path or column for messages, e.g. ``"plans/a.toml: characteristic[2].ratio"``.
+
+    Raises
+    ------
+    InputError
+        Naming ``where``, the value and what is allowed.
+
+    Examples
+    --------
+    >>> design_option(family("double"), "ratio", "1.5", "ratio", text=True)
+    1.5
+    """
+    if name not in fam.design_options:
+        allowed = ", ".join(fam.design_options) or "none"
+        raise InputError(f"{where}: {name} does not apply to a {fam.name} design "
+                         f"(its options: {allowed})")
+    spec = fam.option_types.get(name)
+    if spec is None:  # an option the family leaves to its designer to check
+        return value
+    bad = InputError(f"{where} ({value!r}) must be {spec.allowed()}")
+    if spec.kind is OptionKind.CHOICE:
+        if not isinstance(value, str):
+            raise bad
+        word = value.strip().lower()
+        if spec.choices and word not in spec.choices:
+            raise bad
+        return word
+    if isinstance(value, str) and text:
+        try:
+            value = int(value.strip()) if spec.kind is OptionKind.WHOLE else float(value.strip())
+        except ValueError:
+            raise bad from None
+    if isinstance(value, bool) or not isinstance(value, (int, float)):
+        raise bad
+    if spec.kind is OptionKind.WHOLE and not isinstance(value, int):
+        raise bad
+    if not math.isfinite(value) or (spec.positive and not value > 0) \
+            or (spec.minimum is not None and value < spec.minimum) \
+            or (spec.maximum is not None and value > spec.maximum):
+        raise bad
+    return int(value) if spec.kind is OptionKind.WHOLE else float(value)
 
 
 #: Family name -> module holding its ``FAMILY`` record (imported when used).
@@ -410,6 +509,25 @@ def family(name: str, option: str = "--scheme") -> Family:
 def families() -> list[Family]:
     """Every registered family (imports them all)."""
     return [family(name) for name in REGISTRY]
+
+
+def option_owners(exclude=("n", "c", "max_n")) -> dict[str, list[str]]:
+    """Designer options of the families other than single: ``option ->
+    families taking it``, leaving out ``exclude`` (the options a plan file or
+    a catalogue gives for the whole part or row)."""
+    out: dict[str, list[str]] = {}
+    for fam in families():
+        if fam.design is None or fam.name == "single":
+            continue
+        for key in fam.design_options:
+            if key not in exclude:
+                out.setdefault(key, []).append(fam.name)
+    return out
+
+
+def designable() -> list[str]:
+    """Names of the families that have a designer, in registry order."""
+    return [f.name for f in families() if f.design is not None]
 
 
 def family_of(plan) -> Family:

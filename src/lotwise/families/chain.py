@@ -59,7 +59,7 @@ from lotwise.core import kernels as oc
 from lotwise.core.types import Scope, lot_counts
 from lotwise.families.single import SinglePlan
 from lotwise.core.quantities import InputError, Infeasible, format_level, format_pct
-from lotwise.families.base import Family, Plan
+from lotwise.families.base import Family, Option, OptionKind, Plan
 
 __all__ = ["ChainPlan", "ChainDesign", "design_chain", "FAMILY"]
 
@@ -308,6 +308,7 @@ def report_extras(plan, targets, scope: Scope, model: str, report: dict) -> dict
 FAMILY = Family(
     name="chain", plan_class=ChainPlan, parse=parse_chain, extras=report_extras,
     design=design_chain, poisson_redesign=True,
-    design_options={"i": "number of preceding samples the chain looks back on"},
+    design_options={"max_n": "largest affordable sample"},
+    option_types={"max_n": Option(kind=OptionKind.WHOLE, minimum=1)},
     description="chain sampling ChSP-1: accept on one nonconforming after i clean samples",
 )

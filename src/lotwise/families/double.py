@@ -79,7 +79,7 @@ from lotwise.core.quantities import InputError, Infeasible, format_level, format
 from lotwise.core.search import Kernel, check_lot, check_targets, n_min
 from lotwise.core.stages import finish_shape, stage_cdf, stage_pmf
 from lotwise.core.types import Scope, Targets, lot_targets
-from lotwise.families.base import Family
+from lotwise.families.base import Family, Option, OptionKind
 from lotwise.families.staged import StagedPlan, build_staged, whole
 
 __all__ = ["DoublePlan", "DoubleDesign", "design_double", "double_max_asn", "MINIMIZE",
@@ -625,7 +625,11 @@ FAMILY = Family(
     name="double", plan_class=DoublePlan, parse=parse_double, keys_hint=("n1",),
     poisson_redesign=True,
     design=design_double,
-    design_options={"ratio": "second sample as a multiple of the first",
-                    "minimize": "asn-aql (default), asn-rql or asn-max"},
+    design_options={"ratio": "second sample as a multiple of the first (default 2)",
+                    "minimize": "asn-aql (default) or asn-max",
+                    "max_n": "largest affordable n1 + n2"},
+    option_types={"ratio": Option(kind=OptionKind.NUMBER, minimum=0.1, maximum=10),
+                  "minimize": Option(kind=OptionKind.CHOICE, choices=MINIMIZE),
+                  "max_n": Option(kind=OptionKind.WHOLE, minimum=2)},
     description="double sampling: a second sample when the first is inconclusive",
 )

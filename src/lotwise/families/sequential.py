@@ -94,7 +94,7 @@ import numpy as np
 from lotwise.core.search import check_lot, check_targets
 from lotwise.core.stages import finish_shape, level_to_x, unit_walk
 from lotwise.core.types import Scope, Targets, lot_targets
-from lotwise.families.base import Decision, Family, Plan, check_record
+from lotwise.families.base import Decision, Family, Option, OptionKind, Plan, check_record
 from lotwise.core import kernels as oc
 from lotwise.core.quantities import (InputError, Infeasible, parse_count, parse_fraction, parse_level,
                                      parse_risk)
@@ -382,6 +382,8 @@ class SequentialPlan(Plan):
         if formula != "screened":
             return super().aoq_count(d, scope, formula=formula)
         d = np.asarray(d, dtype=float)
+        if formula != "screened":  # p Pa: the generic form (no walk of the lot needed)
+            return super().aoq_count(d, scope, formula=formula)
         return self.aoq(d / float(scope.lot_size), "hypergeometric", scope, formula=formula)
 
     def ati_count(self, d, scope: Scope):
@@ -640,5 +642,6 @@ FAMILY = Family(
     extras=report_extras, oc_columns=oc_columns,
     design=design_sequential,
     design_options={"truncate": "largest number of units before a forced decision"},
+    option_types={"truncate": Option(kind=OptionKind.WHOLE, minimum=1)},
     description="item-by-item sequential sampling (Wald's SPRT), truncated",
 )

@@ -60,7 +60,7 @@ from lotwise.core import kernels as oc
 from lotwise.core.quantities import InputError, Infeasible, format_pct, parse_count
 from lotwise.core.search import Kernel, c_min, check_lot, check_targets, n_min
 from lotwise.core.types import TOL, Scope, Targets, lot_counts, lot_targets
-from lotwise.families.base import Decision, Family, Plan
+from lotwise.families.base import Decision, Family, Option, OptionKind, Plan
 
 __all__ = ["SinglePlan", "SingleDesign", "design_single", "min_sample_size", "FAMILY",
            "Targets", "lot_targets"]
@@ -418,5 +418,8 @@ FAMILY = Family(
     design=design_single, poisson_redesign=True,
     design_options={"n": "fixed sample size", "c": "fixed acceptance number",
                     "max_n": "largest affordable sample"},
+    option_types={"n": Option(kind=OptionKind.WHOLE, minimum=1),
+                  "c": Option(kind=OptionKind.WHOLE, minimum=0),
+                  "max_n": Option(kind=OptionKind.WHOLE, minimum=1)},
     description="single sampling by attributes: inspect n, accept on c or fewer",
 )

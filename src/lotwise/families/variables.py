@@ -116,7 +116,7 @@ from scipy import special
 from lotwise.core.quantities import InputError, Infeasible, format_level, format_pct
 from lotwise.core.search import check_targets
 from lotwise.core.types import Targets
-from lotwise.families.base import Family, Plan
+from lotwise.families.base import Family, Option, OptionKind, Plan
 
 __all__ = ['VARIABLES_MODELS', 'VariablesPlan', 'z_upper', 'pa_known', 'pa_unknown', 'nct_sf_quadrature', 'pa_known_two', 'tail_split', 'estimate_known', 'estimate_unknown', 'max_estimate_for_k', 'k_for_estimate', 'simulate_estimate_method', 'estimate_totals', 'OC_REPS', 'SPLIT_SHARES', 'SIM_REPS', 'SIM_SEED', 'VariablesDesign', 'design_variables', 'closed_form_known', 'wallis', 'k_window']
 
@@ -1519,12 +1519,53 @@ def report_extras(plan, targets, scope, model: str, report: dict) -> dict:
     return out
 
 
+def design_registered(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 0.10,
+                      lot_size: int | None = None, model: str | None = None,
+                      defects: bool = False, sigma: str | None = None,
+                      limit: str | None = None, **options) -> VariablesDesign:
+    """:func:`design_variables` behind the registry's common designer signature.
+
+    A variables plan takes the process view: the lot size and the attributes
+    model do not enter it (they are accepted and not used). ``sigma``
+    defaults to ``known`` when ``sigma_value`` is given, else ``unknown``;
+    ``limit`` to the limits given (``both`` for two, ``upper`` for none).
+
+    Raises
+    ------
+    InputError
+        For nonconformities per unit (a variables plan judges a fraction
+        nonconforming), or a known sigma without its value.
+    """
+    if defects:
+        raise InputError("a variables plan judges a fraction nonconforming from measurements; "
+                         "it does not apply to nonconformities per unit")
+    lower, upper = options.get("lower"), options.get("upper")
+    if limit is None:
+        limit = "both" if (lower is not None and upper is not None) else (
+            "lower" if lower is not None else "upper")
+    if sigma is None:
+        sigma = "known" if options.get("sigma_value") is not None else "unknown"
+    if lower is not None and upper is not None and not lower < upper:
+        raise InputError(f"lower ({lower:g}) must be below upper ({upper:g})")
+    return design_variables(aql=aql, rql=rql, alpha=alpha, beta=beta, sigma=sigma, limit=limit,
+                            **options)
+
+
 FAMILY = Family(
     name="variables", plan_class=VariablesPlan, parse=parse_variables, keys_hint=("k",),
     extras=report_extras,
-    design=design_variables,
-    design_options={"sigma": "known or unknown", "sigma_value": "known process sigma",
-                    "limit": "upper, lower or both", "upper": "upper specification limit",
-                    "lower": "lower specification limit"},
+    design=design_registered,
+    design_options={"sigma": "known or unknown (default: known when sigma_value is given)",
+                    "sigma_value": "known process sigma",
+                    "limit": "upper, lower or both (default: the limits given)",
+                    "upper": "upper specification limit",
+                    "lower": "lower specification limit",
+                    "max_n": "largest affordable sample"},
+    option_types={"sigma": Option(kind=OptionKind.CHOICE, choices=("known", "unknown")),
+                  "sigma_value": Option(kind=OptionKind.NUMBER, positive=True),
+                  "limit": Option(kind=OptionKind.CHOICE, choices=("upper", "lower", "both")),
+                  "upper": Option(kind=OptionKind.NUMBER),
+                  "lower": Option(kind=OptionKind.NUMBER),
+                  "max_n": Option(kind=OptionKind.WHOLE, minimum=1)},
     description="variables sampling of a normally distributed measurement (k- or M-method)",
 )

@@ -157,8 +157,7 @@ def build_content(pp, *, picks=None, today: _dt.date | None = None,
         if own:
             k = rep["plan"].get("k")
             rule = f"statistic >= k = {k:g}" if k is not None else "see the plan above"
-            fixed = rep["plan"].get("scheme") == "variables"
-            size = f"n = {rep['n']}" if fixed else f"up to {rep['n']}"
+            size = f"up to {rep['n']}" if rep.get("varying_sample") else f"n = {rep['n']}"
             plan_rows.append([ch["id"], ch["class"], size, rule, "otherwise", *levels])
         else:
             plan_rows.append([ch["id"], ch["class"], f"n = {rep['n']}", str(rep["c"]),
@@ -207,7 +206,7 @@ def build_content(pp, *, picks=None, today: _dt.date | None = None,
                 if r.get("attributes"):
                     extra = (f" (an attributes plan for the same two points needs "
                              f"n = {r['attributes']['n']}, c = {r['attributes']['c']})")
-                plan_line += f" {r['characteristic']['id']}: {r['label']}{extra}."
+                plan_line += f" {r['characteristic']['id']}: {r.get('note') or r['label']}{extra}."
                 if r["n"] is not None and pp.n is not None and r["n"] < pp.n:
                     plan_line += (f" Judge it on {r['n']} of the sampled units chosen at random "
                                   "(for example with lotwise draw from the sample).")
@@ -357,8 +356,9 @@ def write_sheets(pp, out_dir, *, force: bool = False, today=None) -> dict:
     paths = {}
     if pp.n is not None and req.scope.lot_size:
         from lotwise.data.draw import draw_units
+        from lotwise.documents.partplan import pick_seed
 
-        seed = req.seed if req.seed is not None else int(req.fingerprint()[:8], 16)
+        seed = pick_seed(req)
         picks = draw_units(lot_size=req.scope.lot_size, n=pp.n, seed=seed, strata=req.strata)
     content = build_content(pp, picks=picks, today=today, alternatives_text=alternatives(pp))
     if pp.n is not None:
