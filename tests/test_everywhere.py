@@ -357,8 +357,10 @@ def test_double_plan_aoql_follows_the_aoq_formula():
             "--lot-size", "2000", "--json"]
     _, simple = run_json(*base, "--aoq-formula", "simple")
     _, screened = run_json(*base)
-    s, d = simple["aoql"], screened["aoql"]
-    assert s["formula"] == "simple" and d["formula"] == "screened"
+    assert simple["rectifying"]["formula"] == "simple"
+    assert screened["rectifying"]["formula"] == "screened"
+    s = {"value": simple["aoql"], "at": simple["aoql_p"]}
+    d = {"value": screened["aoql"], "at": screened["aoql_p"]}
     # Screening the sample removes what it finds, so the simple p Pa is the larger.
     assert s["value"] > d["value"]
     # The simple AOQ is p Pa(p) (Schilling and Neubauer, Acceptance Sampling in Quality
@@ -370,7 +372,7 @@ def test_double_plan_aoql_follows_the_aoq_formula():
     pa = lambda k: staged_pa([50, 100], [1, 3], [4, 4], ("hyper", (N, k)))  # noqa: E731
     assert math.isclose(s["value"], D / N * pa(D), rel_tol=1e-9)
     best = max(k / N * pa(k) for k in range(D - 15, D + 16))
-    assert s["value"] >= best * (1 - 2e-3)
+    assert s["value"] >= best * (1 - 1e-12)  # the AOQL is the maximum over whole counts
 
 
 # --- plan files: any family with a designer ---------------------------------------
