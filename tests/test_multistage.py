@@ -13,7 +13,6 @@ from hypothesis import given, settings, strategies as st
 from lotwise.families.double import DoublePlan, double_max_asn
 from lotwise.families.multiple import MultiplePlan
 from lotwise.core.search import maximise_over_levels
-from lotwise.analysis.plan_report import quality_level
 from lotwise.core.types import Scope
 from lotwise.families.single import SinglePlan
 from lotwise.families.base import parse_plan
@@ -50,7 +49,7 @@ def test_montgomery_double_example():
 def test_nist_double_poisson_table(ratio, c1, c2, pa, pn1, tol):
     n1 = 1000  # under the Poisson model Pa depends on p * n1 only
     plan = DoublePlan(n1=n1, c1=c1, n2=ratio * n1, c2=c2)
-    p = quality_level(plan, pa, "poisson", PER_UNIT, "x")
+    p = plan.quality_at(pa, "poisson", PER_UNIT, "x")
     assert p * n1 == pytest.approx(pn1, abs=tol)
 
 
@@ -67,7 +66,7 @@ def test_nist_row_disagreement_is_rounding():
     root = mp.findroot(lambda lam: pa(lam) - mp.mpf("0.1"), 5.4)
     assert float(root) == pytest.approx(5.38472, abs=1e-5)
     plan = DoublePlan(n1=1000, c1=2, n2=1000, c2=4)
-    assert 1000 * quality_level(plan, 0.10, "poisson", PER_UNIT, "x") == pytest.approx(
+    assert 1000 * plan.quality_at(0.10, "poisson", PER_UNIT, "x") == pytest.approx(
         float(root), rel=1e-9)
 
 

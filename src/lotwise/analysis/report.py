@@ -1,63 +1,12 @@
-"""One result dictionary per design or check, shared by ``--json``, the
-terminal tables and the plan sheets, so all of them show the same numbers.
-
-The keys follow the project's JSON contract (see README): ``scheme``, ``n``,
-``c``, ``model``, ``lot_size``, ``targets``, ``models`` (one entry per
-applicable model with ``pa_aql``, ``pa_rql``, ``alpha``, ``beta``,
-``meets``), ``meets``, ``plan_quality`` and, for designs,
-``poisson_design``. More keys may be added; none is ever renamed.
+"""Terminal text of an assessment (see :mod:`lotwise.analysis.assess`, which
+owns the JSON object every output reads).
 """
 
 from __future__ import annotations
 
-from lotwise.analysis.approximation import poisson_verdict
-from lotwise.analysis.audit import audit_plan
-from lotwise.core.types import Scope
 from lotwise.core.quantities import format_level, format_pct
 
-__all__ = ["single_report", "render_single", "table"]
-
-
-def single_report(plan, targets, scope: Scope, model: str | None = None, *, design=None,
-                  verdict: bool = True) -> dict:
-    """The full result for a single plan judged against ``targets``.
-
-    ``design`` (a :class:`~lotwise.families.single.SingleDesign`) adds what the
-    designer knows: whether the answer is 100 % inspection, and the lot
-    counts used.
-    """
-    audit = audit_plan(plan, targets, scope, model)
-    out = {
-        "scheme": "single",
-        "n": plan.n,
-        "c": plan.c,
-        "r": plan.r,
-        "model": audit.model,
-        "lot_size": scope.lot_size,
-        "defects": scope.defects,
-        "targets": targets.as_dict(),
-        "models": {m: r.as_dict() for m, r in audit.risks.items()},
-        "meets": audit.meets,
-        "plan_quality": audit.quality.as_dict(),
-        "statements": audit.statements(),
-    }
-    if audit.model == "hypergeometric":
-        r = audit.risks["hypergeometric"]
-        out["lot_counts"] = {"aql": r.count_aql, "rql": r.count_rql,
-                             "aql_rounding": "up", "rql_rounding": "down"}
-    if design is not None:
-        out["feasible"] = True
-        out["full_inspection"] = design.full_inspection
-    if verdict:
-        v = poisson_verdict(plan, targets, scope)
-        out["poisson_verdict"] = v.as_dict()
-        out["poisson_verdict"]["summary"] = v.summary()
-        pd = v.as_dict()["poisson_design"]
-        if pd is not None:
-            out["poisson_design"] = pd
-        else:
-            out["poisson_design"] = None
-    return out
+__all__ = ["render_assessment", "context_lines", "verdict_word", "table"]
 
 
 _MODEL_WORDS = {
@@ -84,31 +33,6 @@ def verdict_word(r: dict) -> str:
         return "yes"
     short = [w for w, ok in (("alpha", r["meets_alpha"]), ("beta", r["meets_beta"])) if not ok]
     return "NO (" + ", ".join(short) + ")"
-
-
-def render_single(rep: dict, title: str) -> str:
-    """Compact terminal text for a :func:`single_report` dictionary."""
-    lines = [title]
-    if rep.get("full_inspection"):
-        lines.append(f"  100 % inspection: no sample smaller than the lot of {rep['lot_size']} "
-                     "meets both risks; inspect every item.")
-    lines.append(f"  plan      n = {rep['n']}, accept on c = {rep['c']}, reject on {rep['r']}")
-    lines += context_lines(rep)
-    rows = []
-    for m, r in rep["models"].items():
-        mark = " *" if m == rep["model"] else ""
-        rows.append([m + mark, f"{r['pa_aql']:.5f}", format_pct(r["alpha"]),
-                     f"{r['pa_rql']:.5f}", format_pct(r["beta"]), verdict_word(r)])
-    lines.append("")
-    lines.append(table(rows, ["model", "Pa(AQL)", "alpha", "Pa(RQL)", "beta", "meets"]))
-    lines.append("  (* the model the plan is judged by)")
-    lines.append("")
-    for s in rep["statements"]:
-        lines.append(f"  - {s}")
-    if "poisson_verdict" in rep:
-        lines.append("")
-        lines.append("  Poisson approximation: " + rep["poisson_verdict"]["summary"])
-    return "\n".join(lines)
 
 
 def table(rows: list[list[str]], header: list[str], indent: str = "  ") -> str:

@@ -220,7 +220,7 @@ def _compare_all(targets, scope, mdl, ratio, minimize, truncate, plot, force, as
                                    "ASN(RQL)", "ASN max", "at most", "meets"]))
     typer.echo("  ASN: average units inspected per lot with every stage in full; a single "
                "plan always inspects n. 'at most' is the most units any lot can take.")
-    from lotwise.analysis.plan_report import SAFETY
+    from lotwise.analysis.assess import SAFETY
 
     typer.echo(f"  {SAFETY}")
     if plot:

@@ -46,7 +46,7 @@ from dataclasses import dataclass, field
 from lotwise.families.single import design_single
 from lotwise.families.single import SinglePlan
 from lotwise.core.quantities import Infeasible, InputError
-from lotwise.analysis.report import single_report
+from lotwise.analysis.assess import assess
 
 __all__ = ["PartPlan", "resolve", "PlanReference", "plan_from_reference", "pick_seed", "own_note"]
 
@@ -63,7 +63,7 @@ class PartPlan:
         for a file whose characteristics all have plans of their own, the
         largest of their sample sizes.
     reports : list of dict
-        One :func:`~lotwise.analysis.report.single_report` per characteristic, in file
+        One :func:`~lotwise.analysis.assess.assess` per characteristic, in file
         order, each with ``"characteristic"`` (id, description, class) added.
     designed : bool
         False when the file fixed the plan (an audit).
@@ -122,7 +122,7 @@ def _common_sample(req, chars, floor: int = 0) -> tuple[int, list]:
             t = ch.targets
             if ch.c is not None:
                 plan = SinglePlan(n=n, c=ch.c)
-                risk = single_report(plan, t, scope, model, verdict=False)
+                risk = assess(plan, t, scope, model, verdict=False, rectifying=False).to_json()
                 mr = risk["models"][risk["model"]]
                 if not mr["meets_alpha"]:
                     # A larger sample only lowers Pa at the AQL further.
@@ -158,7 +158,7 @@ def largest_sample(plan) -> int | None:
 
 def own_report(plan, ch, scope, model=None, design=None) -> dict:
     """Report for a characteristic judged on a plan of its own (any plan type):
-    the keys of :func:`~lotwise.analysis.report.single_report` that apply."""
+    the keys of :func:`~lotwise.analysis.assess.assess` that apply."""
     from lotwise.analysis.compare import row_for
 
     row = row_for(plan.label, plan, ch.targets, scope, model)
@@ -240,7 +240,7 @@ def resolve(req, *, verdict: bool = True) -> PartPlan:
     for ch in chars:
         if ch.id in by_id:
             p = by_id[ch.id]
-            rep = _with_char(single_report(p, ch.targets, scope, model, verdict=verdict), ch)
+            rep = _with_char(assess(p, ch.targets, scope, model, verdict=verdict, rectifying=False).to_json(), ch)
             rep["full_inspection"] = bool(scope.lot_size and p.n >= scope.lot_size)
             _add_rectifying([rep], [p], [ch], scope)
         else:

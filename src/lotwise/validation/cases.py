@@ -521,10 +521,8 @@ def multistage_cases() -> list:
         return tuple(float(x) for x in double(**mont).pa_stages(0.05, "binomial", _scope()))
 
     def nist(ratio, c1, c2, pa):
-        from lotwise.analysis.plan_report import quality_level
-
-        return 1000 * quality_level(double(n1=1000, c1=c1, n2=ratio * 1000, c2=c2), pa,
-                                    "poisson", _scope(defects=True), "x")
+        plan = double(n1=1000, c1=c1, n2=ratio * 1000, c2=c2)
+        return 1000 * plan.quality_at(pa, "poisson", _scope(defects=True), "x")
 
     src_mont = ("Montgomery, Introduction to Statistical Quality Control, double-sampling "
                 "example; from memory")

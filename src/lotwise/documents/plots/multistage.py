@@ -211,9 +211,8 @@ def oc_asn_figure(plan, scope, *, model=None, aql=None, rql=None, max_p=None, ti
     if max_p is None:
         max_p = 2.5 * rql if rql else None
     if max_p is None:
-        from lotwise.analysis.plan_report import quality_level
 
-        max_p = 1.1 * quality_level(plan, 0.005, model or scope.exact_model, scope, "consumer")
+        max_p = 1.1 * plan.quality_at(0.005, model or scope.exact_model, scope, "consumer")
     if not scope.defects:
         max_p = min(max_p, 1.0)
     oc_figure([(plan, scope)], aql=aql, rql=rql, max_p=max_p, ax=a1,
