@@ -1,4 +1,5 @@
 """lotwise: exact sampling plans for lot acceptance for incoming inspection."""
 
-__version__ = "0.1.0"
+from lotwise.core.version import __version__
 
+__all__ = ["__version__"]

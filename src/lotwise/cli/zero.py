@@ -117,7 +117,8 @@ def _render_zero(rep: dict) -> str:
 def _equivalent(given, scope, mdl, be, a, al, plot, force, as_json):
     from lotwise.core.quantities import format_level, format_pct
     from lotwise.analysis.report import table
-    from lotwise.analysis.zero import equivalent_figure, zero_equivalent
+    from lotwise.analysis.zero import zero_equivalent
+    from lotwise.documents.plots.zero import equivalent_figure
 
     if scope.lot_size is not None and getattr(given, "n", 0) > scope.lot_size:
         raise InputError(f"--n ({given.n}) must not be greater than --lot-size ({scope.lot_size})")
