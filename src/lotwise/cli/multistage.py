@@ -18,9 +18,7 @@ SCHEMES = ("single", "double", "sequential", "compare-all")
 
 
 def _scope(lot, defects, model):
-    from .single import _scope_and_model
-
-    return _scope_and_model(lot, defects, model)
+    return common.scope_and_model(lot, defects, model)
 
 
 def _plot_path(plot):
@@ -257,14 +255,13 @@ def check_other(p, *, aql, rql, alpha, beta, lot, model, defects, as_json):
     """``lotwise check`` for a double, multiple or sequential plan."""
     from lotwise.core.types import Targets
     from lotwise.analysis.plan_report import plan_report, render_plan
-    from .single import _levels_out_of_order
 
     a, r = common.levels(aql, rql, defects)
     al, be = common.risks(alpha, beta)
     scope, mdl = _scope(lot, defects, model)
     _fits_lot(p, scope)
     if not r > a:
-        _levels_out_of_order(a, r, defects, as_json)
+        common.levels_out_of_order(a, r, defects, as_json)
     targets = Targets(aql=a, rql=r, alpha=al, beta=be)
     rep = plan_report(p, targets, scope, mdl)
     if as_json:
@@ -283,14 +280,12 @@ def oc_other(p, *, lot, model, defects, max_p, points, at, aql, rql, csv, plot, 
     import numpy as np
 
     from lotwise.analysis.audit import oc_grid
-    from .single import _grid
-    from .single import _fmt_level
 
     scope, mdl = _scope(lot, defects, model)
     _fits_lot(p, scope)
     a, r = common.levels(aql, rql, defects, need=False)
     plot = _plot_path(plot)
-    ps = _grid(p, scope, mdl, max_p, points, at, r)  # the single plans' grid
+    ps = common.level_grid(p, scope, mdl, max_p, points, at, r)  # the single plans' grid
     cols = oc_grid(p, scope, scope.models, ps)
     exact = scope.exact_model
     header = ["p"] + list(scope.models)
@@ -332,7 +327,7 @@ def oc_other(p, *, lot, model, defects, max_p, points, at, aql, rql, csv, plot, 
         nm = len(scope.models)
         shown = []
         for row in rows:
-            cells = [_fmt_level(row[0], defects)] + [f"{v:.5f}" for v in row[1:1 + nm]]
+            cells = [common.fmt_level(row[0], defects)] + [f"{v:.5f}" for v in row[1:1 + nm]]
             for key, v in zip(header[1 + nm:], row[1 + nm:]):
                 if key == "poisson_minus_exact":
                     cells.append(f"{v:+.5f}")

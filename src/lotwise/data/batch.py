@@ -94,7 +94,8 @@ from lotwise.core.types import Scope
 from lotwise.core.quantities import InputError, Infeasible, parse_count, parse_level, parse_risk
 
 __all__ = ["REQUIRED", "OPTIONAL", "OUTPUT", "SCHEMES", "SAFETY_NOTE", "BatchResult",
-           "design_many", "design_catalogue", "read_catalogue", "catalogue_frame"]
+           "design_many", "design_catalogue", "read_catalogue", "catalogue_frame", "parse_rate",
+           "progress_bar"]
 
 REQUIRED = ("part", "lot_size", "aql", "rql")
 OPTIONAL = ("alpha", "beta", "scheme", "model", "fixed_c", "max_n", "defects",
@@ -533,7 +534,7 @@ def design_catalogue(df, *, deliveries_per_year: float | None = None, progress=N
     note(e)
     max_n, e = column("max_n", lambda v: parse_count(v, "max_n", minimum=1), 0)
     note(e)
-    deliv, e = column("deliveries_per_year", lambda v: _rate(v, "deliveries_per_year"),
+    deliv, e = column("deliveries_per_year", lambda v: parse_rate(v, "deliveries_per_year"),
                       deliveries_per_year)
     note(e)
 
@@ -679,7 +680,9 @@ def _scheme(v):
     return s
 
 
-def _rate(v, name):
+def parse_rate(v, name: str) -> float:
+    """A delivery rate (lots per year, 0 or more) from text; ``name`` is the
+    option or column named in the error."""
     try:
         x = float(str(v).replace("_", ""))
     except ValueError:
