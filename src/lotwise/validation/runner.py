@@ -152,7 +152,7 @@ def _plain(v):
     return v
 
 
-# --- the single-sampling cases (issue 2 references) ---------------------------
+# --- the single-sampling cases -------------------------------------------------
 
 def _scope(lot=None, defects=False):
     from lotwise.core.types import Scope
@@ -194,7 +194,8 @@ def _infeasible(**kw):
 
 
 def single_sampling_cases() -> list:
-    """Reference cases of single sampling by attributes (the issue-2 tests)."""
+    """Reference cases of single sampling by attributes (those tests/test_design_single.py
+    checks)."""
     cases = []
     cameron = {0: (0.051, 2.303), 1: (0.355, 3.890), 2: (0.818, 5.322), 3: (1.366, 6.681),
                4: (1.970, 7.994), 5: (2.613, 9.275), 6: (3.286, 10.532), 7: (3.981, 11.771),
