@@ -220,8 +220,10 @@ def test_aoq_plot_written(tmp_path, capsys):
 
 
 def test_figures_have_the_curves():
+    from lotwise.documents.plots.rectifying import aoq_figure, ati_figure
+
     plan, scope = SinglePlan(n=50, c=1), Scope(lot_size=1000)
-    fig = R.aoq_figure(plan, scope)
+    fig = aoq_figure(plan, scope)
     assert len(fig.axes[0].lines) == 4  # three models and the AOQL mark
-    fig = R.ati_figure(plan, scope)
+    fig = ati_figure(plan, scope)
     assert fig.axes[0].get_ylim()[1] >= 1000

@@ -13,7 +13,8 @@ from lotwise.cli import main
 from lotwise.core.types import Scope
 from lotwise.families.single import SinglePlan
 from lotwise.core.quantities import Infeasible
-from lotwise.analysis.zero import design_zero, equivalent_figure, zero_equivalent
+from lotwise.analysis.zero import design_zero, zero_equivalent
+from lotwise.documents.plots.zero import equivalent_figure
 
 
 @pytest.mark.parametrize("rql, beta", [(0.05, 0.10), (0.01, 0.05), (0.2, 0.1), (0.001, 0.1)])

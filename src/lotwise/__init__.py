@@ -8,7 +8,7 @@ The Python API (imported on first use, so ``import lotwise`` stays cheap):
 :class:`Assessment`. See :mod:`lotwise.api`.
 """
 
-__version__ = "0.1.0"
+from lotwise.core.version import __version__
 
 _EXPORTS = {
     "design": "lotwise.api", "check": "lotwise.api", "Result": "lotwise.api",

@@ -196,7 +196,7 @@ def design_least_ati(*, lot_size: int, process_average: float, rql: float | None
     Infeasible
         The RQL rounds to no nonconforming item in the lot.
     """
-    from lotwise.analysis.rectifying import aoql as plan_aoql, aoql_single_many, check_formula
+    from lotwise.analysis.rectifying import aoql as plan_aoql, check_formula
 
     check_formula(formula, "--aoq-formula")
     if lot_size is None or lot_size < 2:
@@ -214,23 +214,58 @@ def design_least_ati(*, lot_size: int, process_average: float, rql: float | None
     if aoql is not None and not aoql > 0:
         raise InputError(f"--aoql ({aoql}) must be above 0")
 
-    if constraint == "rql":
-        kernel = Kernel(model, Targets(aql=process_average, rql=rql, beta=beta), scope)
-        if model == "hypergeometric" and kernel.d2 < 1:
-            raise Infeasible(
-                f"the RQL ({format_level(rql, defects)}) rounds down to no nonconforming item in "
-                f"a lot of {N}: every lot at the RQL is free of them and is always accepted",
-                {"lot_counts": {"rql": kernel.d2}})
-        c_limit = kernel.d2 if model == "hypergeometric" else None
-
-        def n_min(cs):
-            return search.n_min(kernel, cs, beta, N)
+    n_min, c_limit = _constraint_search(constraint, model=model, scope=scope,
+                                        process_average=process_average, rql=rql, beta=beta,
+                                        aoql=aoql, formula=formula)
+    best, searched = _scan_acceptance_numbers(n_min, c_limit, model, process_average, N)
+    full = best is None
+    if full:
+        plan = SinglePlan(n=N, c=0)
+        ati_pa = float(N)
     else:
-        c_limit = None
+        plan = SinglePlan(n=best[1], c=best[2])
+        ati_pa = best[0]
+        full = plan.n >= N
+    return LeastATIDesign(plan=plan, model=model, scope=scope, process_average=process_average,
+                          constraint=constraint, rql=rql,
+                          beta=beta if constraint == "rql" else None, aoql_limit=aoql,
+                          formula=formula, ati_process_average=ati_pa,
+                          aoql=plan_aoql(plan, scope, model, formula), full_inspection=full,
+                          searched=tuple(searched), aql=aql, alpha=alpha)
 
-        def n_min(cs):
+
+def _constraint_search(constraint: str, *, model: str, scope: Scope, process_average: float,
+                       rql, beta, aoql, formula: str):
+    """``(n_min, c_limit)``: the smallest ``n`` meeting the constraint for each
+    acceptance number (``-1`` where none up to the lot size), and the first
+    acceptance number that cannot work (None when unbounded)."""
+    from lotwise.analysis.rectifying import aoql_single_many
+
+    N = int(scope.lot_size)
+    if constraint == "aoql":
+        def n_min_aoql(cs):
             return _n_min_aoql(cs, aoql, model, N, formula, aoql_single_many)
 
+        return n_min_aoql, None
+    kernel = Kernel(model, Targets(aql=process_average, rql=rql, beta=beta), scope)
+    if model == "hypergeometric" and kernel.d2 < 1:
+        raise Infeasible(
+            f"the RQL ({format_level(rql, scope.defects)}) rounds down to no nonconforming "
+            f"item in a lot of {N}: every lot at the RQL is free of them and is always accepted",
+            {"lot_counts": {"rql": kernel.d2}})
+    c_limit = kernel.d2 if model == "hypergeometric" else None
+
+    def n_min_rql(cs):
+        return search.n_min(kernel, cs, beta, N)
+
+    return n_min_rql, c_limit
+
+
+def _scan_acceptance_numbers(n_min, c_limit, model: str, process_average: float, N: int):
+    """Scan ``c = 0, 1, ...`` in growing blocks; ``(best, searched)`` with
+    ``best = (ati, n, c)`` (None when no plan short of the whole lot exists)
+    and ``searched`` the ``(c, n_min, ati)`` triples looked at. The scan
+    stops once ``n_min(c)`` reaches the best ATI found (ATI >= n)."""
     best = None          # (ati, n, c)
     searched = []
     start, width = 0, 16
@@ -260,21 +295,7 @@ def design_least_ati(*, lot_size: int, process_average: float, rql: float | None
         start, width = stop, width * 2
         if c_limit is None and start > 1_000_000:
             break
-
-    full = best is None
-    if full:
-        plan = SinglePlan(n=N, c=0)
-        ati_pa = float(N)
-    else:
-        plan = SinglePlan(n=best[1], c=best[2])
-        ati_pa = best[0]
-        full = plan.n >= N
-    return LeastATIDesign(plan=plan, model=model, scope=scope, process_average=process_average,
-                          constraint=constraint, rql=rql,
-                          beta=beta if constraint == "rql" else None, aoql_limit=aoql,
-                          formula=formula, ati_process_average=ati_pa,
-                          aoql=plan_aoql(plan, scope, model, formula), full_inspection=full,
-                          searched=tuple(searched), aql=aql, alpha=alpha)
+    return best, searched
 
 
 def _n_min_aoql(cs, limit, model, N, formula, aoql_many):

@@ -104,9 +104,9 @@ __all__ = [
     "aoql",
     "rectifying_summary",
     "render_rectifying",
-    "aoq_figure",
-    "ati_figure",
-    "rectifying_figure",
+    "check_formula",
+    "curve_grid",
+    "format_outgoing",
 ]
 
 #: AOQ conventions: rejected lots screened and the sample's nonconforming
@@ -463,7 +463,7 @@ def render_rectifying(rep: dict, per_unit: bool = False) -> str:
         where = format_level(e["aoql_p"], per_unit)
         if "aoql_count" in e:
             where += f" ({e['aoql_count']} in the lot)"
-        row = [m + mark, _level_or_pct(e["aoql"], per_unit), where]
+        row = [m + mark, format_outgoing(e["aoql"], per_unit), where]
         if "ati" in e:
             row += [f"{e['ati']['aql']:,.1f}", f"{e['ati']['rql']:,.1f}"]
         rows.append(row)
@@ -474,7 +474,7 @@ def render_rectifying(rep: dict, per_unit: bool = False) -> str:
         header += ["ATI at AQL", "ATI at RQL"]
     lines.append(table(rows, header, indent="    "))
     lines.append(f"    - Whatever the incoming quality, the outgoing quality averages no worse "
-                 f"than {_level_or_pct(rep['aoql'], per_unit)} (the AOQL), reached when lots "
+                 f"than {format_outgoing(rep['aoql'], per_unit)} (the AOQL), reached when lots "
                  f"arrive at {format_level(rep['aoql_p'], per_unit)}.")
     if "ati" in rep:
         lines.append(f"    - Items inspected per lot of {N}: {rep['ati']['aql']:,.1f} on average "
@@ -485,13 +485,23 @@ def render_rectifying(rep: dict, per_unit: bool = False) -> str:
     return "\n".join(lines)
 
 
-def _level_or_pct(x: float, per_unit: bool) -> str:
+def format_outgoing(x: float, per_unit: bool) -> str:
+    """An outgoing quality (AOQ, AOQL) as printed: per unit, or a percentage."""
     return f"{x:.4g} per unit" if per_unit else format_pct(x, 4)
 
 
-# --- figures ----------------------------------------------------------------------
+# --- the quality grid figures are drawn on ---------------------------------------
 
-def _curve_grid(plan, scope: Scope, max_p, points):
+def curve_grid(plan, scope: Scope, max_p=None, points: int = 401):
+    """``points`` quality levels from 0 to ``max_p`` for AOQ and ATI curves.
+
+    Without ``max_p`` the grid ends at the smaller of the level where ``Pa``
+    has fallen to 1e-9 (beyond the AOQ peak) and 1.1 times the level where
+    ``Pa`` is 0.002 (Poisson for nonconformities, else binomial); at most 1
+    for fractions.
+
+    The figures in :mod:`lotwise.documents.plots.rectifying` are drawn on it.
+    """
     if max_p is None:
         top = _top_level(plan, scope.exact_model if scope.exact_model != "hypergeometric"
                          else "binomial", scope)
@@ -503,88 +513,3 @@ def _curve_grid(plan, scope: Scope, max_p, points):
         if not scope.defects:
             max_p = min(max_p, 1.0)
     return np.linspace(0.0, max_p, points)
-
-
-def _style_order(models, scope: Scope) -> tuple:
-    """Exact model first (solid), then Poisson (dashed), then the binomial
-    (dotted), matching :func:`lotwise.documents.plots.style.oc_figure`."""
-    exact = scope.exact_model
-    rest = [m for m in ("poisson", "binomial", "hypergeometric") if m in models and m != exact]
-    return tuple(([exact] if exact in models else []) + rest)
-
-
-def aoq_figure(plan, scope: Scope, ax=None, *, models=None, formula: str = "screened",
-               max_p=None, points: int = 401, title=None):
-    """AOQ curves of ``plan`` (exact model solid, the others dashed/dotted),
-    with each model's AOQL marked. Returns the figure.
-
-    Under the hypergeometric model the curve is drawn at the whole counts the
-    lot can hold.
-    """
-    from lotwise.documents.plots.style import curve_figure
-
-    check_formula(formula, "formula")
-    models = _style_order(models or scope.models, scope)
-    ps = _curve_grid(plan, scope, max_p, points)
-    curves, marks = [], []
-    for m in models:
-        x = ps
-        if m == "hypergeometric":
-            x = lot_counts(ps, scope.lot_size, "nearest") / scope.lot_size
-        y = np.asarray(aoq(plan, x, m, scope, formula), dtype=float)
-        tag = " (exact)" if m == scope.exact_model else ""
-        curves.append((f"{m}{tag}", y))
-        a = aoql(plan, scope, m, formula)
-        if m == scope.exact_model:
-            marks.append((a.at, a.value, f"AOQL {_level_or_pct(a.value, scope.defects)} at "
-                          f"{format_level(a.at, scope.defects)}"))
-    lot = f", lot of {scope.lot_size}" if scope.lot_size else " (large lot)"
-    fig = curve_figure(ps, curves, xlabel=("Incoming quality: nonconformities per unit"
-                                           if scope.defects else
-                                           "Incoming quality: nonconforming (%)"),
-                       ylabel="Average outgoing quality" + ("" if scope.defects else " (%)"),
-                       per_unit=scope.defects, ax=ax, y_percent=not scope.defects,
-                       marks=marks, title=title or f"AOQ of {plan.label}{lot}")
-    return fig
-
-
-def ati_figure(plan, scope: Scope, ax=None, *, models=None, max_p=None, points: int = 401,
-               title=None, marks=()):
-    """ATI curves of ``plan`` for the lot size in ``scope`` (items inspected per
-    lot), with guide lines at ``n`` and ``N``. Returns the figure."""
-    from lotwise.documents.plots.style import curve_figure
-
-    N = _need_lot(scope, "ATI curve")
-    models = _style_order(models or scope.models, scope)
-    ps = _curve_grid(plan, scope, max_p, points)
-    curves = []
-    for m in models:
-        tag = " (exact)" if m == scope.exact_model else ""
-        curves.append((f"{m}{tag}", np.asarray(ati(plan, ps, m, scope), dtype=float)))
-    fig = curve_figure(ps, curves, xlabel=("Incoming quality: nonconformities per unit"
-                                           if scope.defects else
-                                           "Incoming quality: nonconforming (%)"),
-                       ylabel="Average total inspection per lot", per_unit=scope.defects,
-                       ax=ax, marks=list(marks),
-                       title=title or f"ATI of {plan.label}, lot of {N}")
-    ax_ = fig.axes[0] if ax is None else ax
-    ax_.axhline(N, color="0.55", linewidth=0.8, linestyle=":")
-    ax_.set_ylim(0, N * 1.05)
-    return fig
-
-
-def rectifying_figure(plan, scope: Scope, *, formula: str = "screened", aql=None, rql=None,
-                      max_p=None):
-    """OC, AOQ and ATI of ``plan`` one above the other (for a known lot size)."""
-    from lotwise.documents.plots.style import mpl, oc_figure
-
-    plt = mpl()
-    fig, axes = plt.subplots(3, 1, figsize=(6.4, 10.5), dpi=110)
-    ps = _curve_grid(plan, scope, max_p, 3)
-    top = float(ps[-1])
-    oc_figure([(plan, scope)], aql=aql, rql=rql, max_p=top, ax=axes[0],
-              title=f"OC of {plan.label}, lot of {scope.lot_size}")
-    aoq_figure(plan, scope, ax=axes[1], formula=formula, max_p=top)
-    ati_figure(plan, scope, ax=axes[2], max_p=top)
-    fig.tight_layout()
-    return fig

@@ -15,7 +15,8 @@ protects like this one?": it takes the given plan's consumer's quality level
 the smallest whole count accepted at most ``beta`` of the time) and returns
 the smallest c = 0 plan with ``Pa(p_beta) <= beta``: the same RQL point.
 What is gained (fewer samples) and lost (producer's risk) is reported side
-by side and drawn with :func:`equivalent_figure`.
+by side and drawn with
+:func:`lotwise.documents.plots.zero.equivalent_figure`.
 
 The design reuses the integer search of
 :func:`lotwise.families.single.design_single` with ``c`` fixed at 0, without
@@ -57,7 +58,7 @@ from lotwise.families.single import SinglePlan
 from lotwise.core.quantities import InputError, Infeasible, format_level, format_pct
 
 __all__ = ["ZeroDesign", "ZeroEquivalent", "design_zero", "zero_equivalent",
-           "equivalent_figure", "quality_level", "SAFETY"]
+           "quality_level", "SAFETY"]
 
 SAFETY = ("Sampling cannot guarantee a lot free of nonconforming items, even with c = 0; "
           "critical characteristics need 100 % inspection or stricter plans as contracts and "
@@ -366,48 +367,3 @@ def zero_equivalent(plan, scope: Scope, model: str | None = None, *, beta: float
                           pa_point={"plan": pp, "zero_plan": zp}, level=level,
                           level_kind=kind, level_count=dl,
                           pa_level={"plan": pl, "zero_plan": zl})
-
-
-def equivalent_figure(eq: ZeroEquivalent, ax=None, *, max_p=None, points: int = 401,
-                      title=None):
-    """The given plan's OC curve and its c = 0 equivalent's, overlaid, with the
-    shared RQL point (open square) and the producer's-side level (open
-    circles on both curves). Returns the figure."""
-    from lotwise.documents.plots.style import STYLE, pct_axis, new_axes
-
-    fig, ax = new_axes(ax)
-    scope, model = eq.scope, eq.model
-    pu = scope.defects
-    if max_p is None:
-        max_p = max(quality_level(eq.plan, 0.005, model, scope, "consumer"),
-                    quality_level(eq.zero_plan, 0.005, model, scope, "consumer")) * 1.1
-        if not pu:
-            max_p = min(max_p, 1.0)
-    ps = np.linspace(0.0, max_p, points)
-    lab = getattr(eq.plan, "label", str(eq.plan))
-    ax.plot(ps, eq.plan.pa(ps, model, scope), label=f"{lab}", **STYLE["exact"])
-    ax.plot(ps, eq.zero_plan.pa(ps, model, scope), label=f"c = 0 equivalent: {eq.zero_plan.label}",
-            **STYLE["other"][0])
-    lvl = (lambda x: f"{x:g}/unit") if pu else (lambda x: f"{100 * x:.3g} %")  # noqa: E731
-    ax.plot([eq.point, eq.point], [0, eq.beta], color="0.55", linewidth=0.7, linestyle=":")
-    ax.plot([eq.point], [eq.pa_point["plan"]], marker="s", markersize=7,
-            markerfacecolor="white", markeredgecolor="0.0", markeredgewidth=1.3,
-            linestyle="none", label=f"shared RQL point {lvl(eq.point)}: Pa {eq.beta:.2f}")
-    ax.plot([eq.level, eq.level], [0, 1], color="0.55", linewidth=0.7, linestyle=":")
-    name = "AQL" if eq.level_kind == "aql" else "producer's quality of the plan"
-    ax.plot([eq.level, eq.level], [eq.pa_level["plan"], eq.pa_level["zero_plan"]], marker="o",
-            markersize=7, markerfacecolor="white", markeredgecolor="0.0", markeredgewidth=1.3,
-            linestyle="none", label=f"{name} {lvl(eq.level)}: Pa {eq.pa_level['plan']:.3f} vs "
-            f"{eq.pa_level['zero_plan']:.3f}")
-    ax.set_xlim(0, max_p)
-    ax.set_ylim(0, 1.02)
-    ax.set_ylabel("Probability of acceptance Pa", fontsize=9.5)
-    ax.set_xlabel("Quality level: nonconformities per unit" if pu
-                  else "Quality level: nonconforming (%)", fontsize=9.5)
-    pct_axis(ax, pu)
-    lot = f", lot of {scope.lot_size}" if scope.lot_size else ""
-    ax.set_title(title or f"{lab} and its accept-on-zero equivalent ({model}{lot})",
-                 fontsize=10.5, loc="left")
-    ax.legend(fontsize=7.5, frameon=False, loc="upper right")
-    fig.tight_layout()
-    return fig

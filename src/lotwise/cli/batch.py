@@ -31,7 +31,8 @@ def batch(
     (empty when the row was designed). A row that cannot be designed gets its
     reason in error; the batch goes on.
     """
-    from lotwise.data.batch import (SAFETY_NOTE, design_catalogue, progress_bar, read_catalogue, _rate)
+    from lotwise.data.batch import (SAFETY_NOTE, design_catalogue, parse_rate, progress_bar,
+                                    read_catalogue)
     from lotwise.data.files import check_writable, write_text
 
     if audit:
@@ -42,7 +43,7 @@ def batch(
         raise InputError("--out is required (for example --out plans.csv, or - for stdout)")
     if out == "-" and as_json:
         raise InputError("--out - (the plans on stdout) cannot be combined with --json")
-    rate = _rate(deliveries, "--deliveries-per-year") if deliveries is not None else None
+    rate = parse_rate(deliveries, "--deliveries-per-year") if deliveries is not None else None
     if out != "-":
         check_writable(out, force=force, option="--out")
     df = read_catalogue(path, "CATALOGUE")

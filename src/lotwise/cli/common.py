@@ -101,3 +101,87 @@ def write_csv(dest: str, header, rows, *, force: bool, cell=csv_cell) -> None:
         from lotwise.data.files import write_text
 
         write_text(dest, text, force=force, option="--csv")
+
+
+# --- shared by the design/check/oc commands of every plan family -------------------
+
+def scope_and_model(lot, defects, model):
+    """The :class:`~lotwise.core.types.Scope` of ``--lot-size``/``--defects`` and
+    the ``--model`` checked against it (default: the exact one)."""
+    from lotwise.core.types import Scope
+
+    scope = Scope(lot_size=lot_size(lot), defects=defects)
+    return scope, scope.check_model(model)
+
+
+def plan_from(plan_text, n, c, *, required=True):
+    """The plan of ``--plan`` (any family's notation) or of ``--n``/``--c``;
+    None when neither is given and ``required`` is False."""
+    from lotwise.families.single import SinglePlan
+    from lotwise.families.base import parse_plan
+
+    if plan_text is not None:
+        if n is not None or c is not None:
+            raise InputError("--plan cannot be combined with --n/--c; give one or the other")
+        return parse_plan(plan_text)
+    if n is None and c is None and not required:
+        return None
+    if n is None or c is None:
+        raise InputError("give the plan as --n and --c (for example --n 80 --c 2) "
+                         "or as --plan \"n=80,c=2\"")
+    nn = parse_count(n, "--n", minimum=1)
+    cc = parse_count(c, "--c", minimum=0)
+    if cc > nn:
+        raise InputError(f"--c ({cc}) must not be greater than --n ({nn})")
+    return SinglePlan(n=nn, c=cc)
+
+
+def levels_out_of_order(a, r, defects, as_json):
+    """Fail (exit 1) because the RQL is not above the AQL."""
+    from lotwise.core.quantities import format_level
+
+    fail(f"the RQL ({format_level(r, defects)}) must be above the AQL "
+         f"({format_level(a, defects)})", 1,
+         {"feasible": False, "reason": "rql must be above aql"}, as_json)
+
+
+def level_grid(p, scope, mdl, max_p, points, at, rql):
+    """Quality levels of an OC table: the ``--at`` values, or ``--points``
+    levels from 0 to ``--max-p`` (default: where ``Pa`` falls to 1 %, at
+    least 1.25 RQL, rounded up by :func:`nice`)."""
+    import numpy as np
+
+    from lotwise.analysis.audit import quality_at
+
+    if at:
+        vals = []
+        for item in at:
+            for part in str(item).split(","):
+                if part.strip():
+                    vals.append(parse_level(part, "--at", per_unit=scope.defects))
+        return np.array(vals, dtype=float)
+    k = parse_count(points, "--points", minimum=2, maximum=100_000)
+    if max_p is not None:
+        top = parse_level(max_p, "--max-p", per_unit=scope.defects)
+    else:
+        top = quality_at(p, 0.01, mdl, scope, "consumer")
+        if rql is not None:
+            top = max(top, 1.25 * rql)
+        top = nice(min(top, 1.0) if not scope.defects else top)
+    return np.linspace(0.0, top, k)
+
+
+def nice(x: float) -> float:
+    """Round up to 1, 2, 2.5 or 5 times a power of ten."""
+    if x <= 0:
+        return 1.0
+    e = math.floor(math.log10(x))
+    for m in (1, 2, 2.5, 5, 10):
+        if m * 10**e >= x * (1 - 1e-12):
+            return min(m * 10**e, 1.0) if x <= 1 else m * 10**e
+    return 10 ** (e + 1)
+
+
+def fmt_level(x: float, per_unit: bool) -> str:
+    """A quality level in an OC table: per unit, or a percentage."""
+    return f"{x:.6g}" if per_unit else f"{100 * x:.4g} %"

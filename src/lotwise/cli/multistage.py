@@ -18,9 +18,7 @@ SCHEMES = ("single", "double", "sequential", "compare-all")
 
 
 def _scope(lot, defects, model):
-    from .single import _scope_and_model
-
-    return _scope_and_model(lot, defects, model)
+    return common.scope_and_model(lot, defects, model)
 
 
 def _plot_path(plot):

@@ -310,6 +310,13 @@ def tradeoff(
         return
     if csv == "-":
         return
+    _render_tradeoff(rows, al=al, be=be, mdl=mdl, N=N, pavg=pavg, post=post, lots=lots,
+                     supplier_name=supplier_name, part=part, csv=csv, plot=plot)
+
+
+def _render_tradeoff(rows, *, al, be, mdl, N, pavg, post, lots, supplier_name, part, csv,
+                     plot) -> None:
+    """The trade-off table and its notes on the terminal."""
     typer.echo(f"Trade-off: smallest single plans for alpha {format_pct(al)}, beta "
                f"{format_pct(be)}, {mdl} model" + (f", lot of {N}" if N else ""))
     if pavg is not None:

@@ -164,7 +164,7 @@ def check_extras(rep: dict, plan, scope, model, targets, *, aoq_formula, skip_lo
         if not aoq_plot.lower().endswith((".png", ".svg", ".pdf")):
             raise InputError(f"--aoq-plot ({aoq_plot}) must end in .png, .svg or .pdf")
         from lotwise.data.files import check_writable, save_figure
-        from lotwise.analysis.rectifying import rectifying_figure
+        from lotwise.documents.plots.rectifying import rectifying_figure
 
         check_writable(aoq_plot, force=force, option="--aoq-plot")
         fig = rectifying_figure(plan, scope, formula=aoq_formula or "screened",

@@ -7,34 +7,7 @@ from typing import List, Optional
 import typer
 
 from . import app, common
-from lotwise.core.quantities import InputError, Infeasible, parse_count, parse_level
-
-
-def _scope_and_model(lot, defects, model):
-    from lotwise.core.types import Scope
-
-    scope = Scope(lot_size=common.lot_size(lot), defects=defects)
-    return scope, scope.check_model(model)
-
-
-def _plan_from(plan_text, n, c, *, required=True):
-    from lotwise.families.single import SinglePlan
-    from lotwise.families.base import parse_plan
-
-    if plan_text is not None:
-        if n is not None or c is not None:
-            raise InputError("--plan cannot be combined with --n/--c; give one or the other")
-        return parse_plan(plan_text)
-    if n is None and c is None and not required:
-        return None
-    if n is None or c is None:
-        raise InputError("give the plan as --n and --c (for example --n 80 --c 2) "
-                         "or as --plan \"n=80,c=2\"")
-    nn = parse_count(n, "--n", minimum=1)
-    cc = parse_count(c, "--c", minimum=0)
-    if cc > nn:
-        raise InputError(f"--c ({cc}) must not be greater than --n ({nn})")
-    return SinglePlan(n=nn, c=cc)
+from lotwise.core.quantities import InputError, Infeasible, parse_count
 
 
 @app.command()
@@ -118,7 +91,7 @@ def design(
                              "compare-all, not single")
     a, r = common.levels(aql, rql, defects)
     al, be = common.risks(alpha, beta)
-    scope, mdl = _scope_and_model(lot, defects, model)
+    scope, mdl = common.scope_and_model(lot, defects, model)
     cc = parse_count(c, "--c", minimum=0) if c is not None else None
     nn = parse_count(n, "--n", minimum=1) if n is not None else None
     cap = parse_count(max_n, "--max-n", minimum=1) if max_n is not None else None
@@ -175,7 +148,7 @@ def check(
         from .sheets import check_folder
 
         raise typer.Exit(check_folder(paths, as_json))
-    p = _plan_from(plan, n, c)
+    p = common.plan_from(plan, n, c)
     if p.scheme in ("csp1", "csp2", "csp3"):
         from .csp import check_cmd as csp_check
 
@@ -197,10 +170,10 @@ def check(
         p, skip_lot = p.reference, (p.i, p.f)
     a, r = common.levels(aql, rql, defects)
     al, be = common.risks(alpha, beta)
-    scope, mdl = _scope_and_model(lot, defects, model)
+    scope, mdl = common.scope_and_model(lot, defects, model)
     p.check_scope(scope)
     if not r > a:
-        _levels_out_of_order(a, r, defects, as_json)
+        common.levels_out_of_order(a, r, defects, as_json)
     if aoq_formula is not None and not scope.lot_size:
         raise InputError(f"--aoq-formula ({aoq_formula}) needs --lot-size (AOQ and ATI are "
                          "computed for lots of a known size)")
@@ -218,50 +191,6 @@ def check(
         typer.echo(render_assessment(rep, f"Audit of the {p.scheme} plan {p.label}: {verdict}")
                    + rect_cli.render_extras(rep))
     raise typer.Exit(0 if meets else 1)
-
-
-def _levels_out_of_order(a, r, defects, as_json):
-    from lotwise.core.quantities import format_level
-
-    common.fail(f"the RQL ({format_level(r, defects)}) must be above the AQL "
-                f"({format_level(a, defects)})", 1,
-                {"feasible": False, "reason": "rql must be above aql"}, as_json)
-
-
-def _grid(p, scope, mdl, max_p, points, at, rql):
-    import numpy as np
-
-    from lotwise.analysis.audit import quality_at
-
-    if at:
-        vals = []
-        for item in at:
-            for part in str(item).split(","):
-                if part.strip():
-                    vals.append(parse_level(part, "--at", per_unit=scope.defects))
-        return np.array(vals, dtype=float)
-    k = parse_count(points, "--points", minimum=2, maximum=100_000)
-    if max_p is not None:
-        top = parse_level(max_p, "--max-p", per_unit=scope.defects)
-    else:
-        top = quality_at(p, 0.01, mdl, scope, "consumer")
-        if rql is not None:
-            top = max(top, 1.25 * rql)
-        top = _nice(min(top, 1.0) if not scope.defects else top)
-    return np.linspace(0.0, top, k)
-
-
-def _nice(x: float) -> float:
-    """Round up to 1, 2, 2.5 or 5 times a power of ten."""
-    import math
-
-    if x <= 0:
-        return 1.0
-    e = math.floor(math.log10(x))
-    for m in (1, 2, 2.5, 5, 10):
-        if m * 10**e >= x * (1 - 1e-12):
-            return min(m * 10**e, 1.0) if x <= 1 else m * 10**e
-    return 10 ** (e + 1)
 
 
 @app.command("oc")
@@ -285,7 +214,7 @@ def oc_table(
     """OC table: exact and Poisson acceptance probabilities side by side."""
     from lotwise.analysis.assess import oc_table
 
-    p = _plan_from(plan, n, c)
+    p = common.plan_from(plan, n, c)
     if p.scheme in ("csp1", "csp2", "csp3"):
         from .csp import oc_cmd as csp_oc
 
@@ -298,12 +227,12 @@ def oc_table(
 
         return oc_cmd(p, max_p=max_p, points=points, at=at, aql=aql, rql=rql, csv=csv,
                       plot=plot, force=force, as_json=as_json)
-    scope, mdl = _scope_and_model(lot, defects, model)
+    scope, mdl = common.scope_and_model(lot, defects, model)
     p.check_scope(scope)
     a, r = common.levels(aql, rql, defects, need=False)
     if plot is not None and not plot.lower().endswith((".png", ".svg", ".pdf")):
         raise InputError(f"--plot ({plot}) must end in .png, .svg or .pdf")
-    ps = _grid(p, scope, mdl, max_p, points, at, r)
+    ps = common.level_grid(p, scope, mdl, max_p, points, at, r)
     header, rows = oc_table(p, scope, mdl, ps)
     if csv is not None:
         common.write_csv(csv, header, rows, force=force)
@@ -326,7 +255,7 @@ def oc_table(
                           "rows": rows})
     elif csv != "-":
         nm = len(scope.models)
-        shown = [[_fmt_level(row[0], defects)] + [f"{v:.5f}" for v in row[1:1 + nm]]
+        shown = [[common.fmt_level(row[0], defects)] + [f"{v:.5f}" for v in row[1:1 + nm]]
                  + [_cell(k, v) for k, v in zip(header[1 + nm:], row[1 + nm:])] for row in rows]
         what = "OC and ASN table" if p.varying_sample else "OC table"
         typer.echo(f"{what} for the {p.scheme} plan {p.label}"
@@ -351,5 +280,3 @@ def _cell(key: str, v) -> str:
 
 
 
-def _fmt_level(x: float, per_unit: bool) -> str:
-    return f"{x:.6g}" if per_unit else f"{100 * x:.4g} %"

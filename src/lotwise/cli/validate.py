@@ -57,7 +57,7 @@ def validate(
 
 
 def _short(v) -> str:
-    from lotwise.validation.runner import _fmt
+    from lotwise.documents.validation_report import format_value
 
-    s = _fmt(v)
+    s = format_value(v)
     return s if len(s) <= 40 else s[:37] + "..."

@@ -253,9 +253,7 @@ def _top(plan, rql):
         else:
             hi = mid
     top = max(1.1 * hi, 1.25 * rql if rql else 0.0)
-    from .single import _nice
-
-    return _nice(min(top, 1.0))
+    return common.nice(min(top, 1.0))
 
 
 # --- judge -----------------------------------------------------------------------

@@ -32,8 +32,6 @@ def zero(
     equivalent to a given plan (same RQL point), with its producer's risk."""
     from lotwise.core.types import Scope
 
-    from .single import _plan_from
-
     scope = Scope(lot_size=common.lot_size(lot), defects=defects)
     mdl = scope.check_model(model)
     be = parse_risk(beta, "--beta")
@@ -41,7 +39,7 @@ def zero(
     a = parse_level(aql, "--aql", per_unit=defects) if aql is not None else None
     if plot is not None and not plot.lower().endswith((".png", ".svg", ".pdf")):
         raise InputError(f"--plot ({plot}) must end in .png, .svg or .pdf")
-    given = _plan_from(plan, n, c, required=False)
+    given = common.plan_from(plan, n, c, required=False)
     if given is not None:
         if rql is not None:
             raise InputError(f"--rql ({rql}) cannot be combined with --plan: the equivalent "
@@ -117,7 +115,8 @@ def _render_zero(rep: dict) -> str:
 def _equivalent(given, scope, mdl, be, a, al, plot, force, as_json):
     from lotwise.core.quantities import format_level, format_pct
     from lotwise.analysis.report import table
-    from lotwise.analysis.zero import equivalent_figure, zero_equivalent
+    from lotwise.analysis.zero import zero_equivalent
+    from lotwise.documents.plots.zero import equivalent_figure
 
     if scope.lot_size is not None and getattr(given, "n", 0) > scope.lot_size:
         raise InputError(f"--n ({given.n}) must not be greater than --lot-size ({scope.lot_size})")

@@ -114,7 +114,8 @@ from lotwise.core.types import Scope
 from lotwise.core.quantities import InputError, Infeasible, parse_count, parse_level, parse_risk
 
 __all__ = ["REQUIRED", "OPTIONAL", "OUTPUT", "SCHEMES", "SAFETY_NOTE", "BatchResult",
-           "design_many", "design_catalogue", "read_catalogue", "catalogue_frame"]
+           "design_many", "design_catalogue", "read_catalogue", "catalogue_frame", "parse_rate",
+           "progress_bar"]
 
 REQUIRED = ("part", "lot_size", "aql", "rql")
 OPTIONAL = ("alpha", "beta", "scheme", "model", "fixed_c", "max_n", "defects",
@@ -280,93 +281,134 @@ def design_many(*, model: str, aql, rql, alpha, beta, lot_size=None, fixed_c=Non
     >>> n.tolist(), c.tolist()
     ([110, 19], [3, 1])
     """
-    aql = np.asarray(aql, dtype=float).ravel()
-    rql = np.asarray(rql, dtype=float).ravel()
-    m = aql.size
-    alpha = np.broadcast_to(np.asarray(alpha, dtype=float), (m,)).copy()
-    beta = np.broadcast_to(np.asarray(beta, dtype=float), (m,)).copy()
-    if model == "hypergeometric":
-        N = np.asarray(lot_size, dtype=float).ravel()
-        d1 = _counts(aql, N, "up")
-        d2 = _counts(rql, N, "down")
-        cap = N.copy()
-        c_limit = d2.copy()  # c >= D2 accepts every lot at the RQL
-    else:
-        N = np.ones(m)
-        d1 = d2 = np.zeros(m)
-        cap = np.full(m, np.inf)
-        c_limit = np.full(m, float(c_cap))
+    pr = _Problems.build(model=model, aql=aql, rql=rql, alpha=alpha, beta=beta,
+                         lot_size=lot_size, c_cap=c_cap)
+    m = pr.aql.size
     fixed = np.full(m, -1, dtype=np.int64) if fixed_c is None else \
         np.asarray(fixed_c, dtype=np.int64).ravel()
-
     n_out = np.full(m, -1, dtype=np.int64)
     c_out = np.full(m, -1, dtype=np.int64)
-
-    def aql_ok(rows, n, c):
-        pa = _pa(model, n, c, aql[rows], d1[rows], N[rows])
-        return pa >= 1.0 - alpha[rows] - _TOL
-
-    def n_min(rows, c):
-        def fails(idx, n):
-            return ~aql_ok(rows[idx], n, c[idx])
-
-        return _n_min(model, c, rql[rows], d2[rows], N[rows], beta[rows], cap[rows], fails)
-
-    # Fixed acceptance numbers: one n each.
-    fx = np.flatnonzero((fixed >= 0) & (fixed < c_limit))
-    if fx.size:
-        nm = n_min(fx, fixed[fx])
-        have = nm >= 0  # -2: the fixed c cannot meet alpha; left to design_single
-        good = np.zeros(fx.size, dtype=bool)
-        good[have] = aql_ok(fx[have], nm[have], fixed[fx][have])
-        n_out[fx[good]] = nm[good]
-        c_out[fx[good]] = fixed[fx][good]
-
-    # Free acceptance numbers: scan c in blocks, all rows at once.
-    rows = np.flatnonzero(fixed < 0)
-    if rows.size:
-        start = np.zeros(rows.size, dtype=np.int64)
-        width = np.clip(_first_c_guess(aql[rows], rql[rows], alpha[rows], beta[rows]) + 3,
-                        4, 64)
-        while rows.size:
-            lim = c_limit[rows]
-            width = np.minimum(width, np.maximum(lim - start, 0)).astype(np.int64)
-            owner = np.repeat(np.arange(rows.size), width)
-            offset = np.arange(owner.size) - np.repeat(np.cumsum(width) - width, width)
-            cs = start[owner] + offset
-            r_of = rows[owner]
-            nm = n_min(r_of, cs)
-            have = nm >= 0
-            good = np.zeros(owner.size, dtype=bool)
-            good[have] = aql_ok(r_of[have], nm[have], cs[have])
-            hit = np.flatnonzero(good)
-            done = np.zeros(rows.size, dtype=bool)
-            if hit.size:
-                first_owner, first_at = np.unique(owner[hit], return_index=True)
-                pick = hit[first_at]
-                n_out[rows[first_owner]] = nm[pick]
-                c_out[rows[first_owner]] = cs[pick]
-                done[first_owner] = True
-            # A block whose last c has no n under the cap ends the search (n_min
-            # never decreases in c); so does reaching the acceptance-number limit.
-            last_none = np.zeros(rows.size, dtype=bool)
-            if owner.size:
-                ends = np.cumsum(width) - 1
-                nz = width > 0
-                last_none[nz] = nm[ends[nz]] == -1
-            start = start + width
-            stop = done | last_none | (start >= lim) | (width == 0)
-            keep = ~stop
-            rows, start, width = rows[keep], start[keep], np.minimum(width[keep] * 2, 4096)
-
-    ok = n_out >= 0
-    a_act = np.full(m, np.nan)
-    b_act = np.full(m, np.nan)
-    if ok.any():
-        i = np.flatnonzero(ok)
-        a_act[i] = 1.0 - _pa(model, n_out[i], c_out[i], aql[i], d1[i], N[i])
-        b_act[i] = _pa(model, n_out[i], c_out[i], rql[i], d2[i], N[i])
+    _search_fixed_c(pr, fixed, n_out, c_out)
+    _scan_free_c(pr, np.flatnonzero(fixed < 0), n_out, c_out)
+    a_act, b_act = pr.risks(n_out, c_out)
     return n_out, c_out, a_act, b_act
+
+
+@dataclass(frozen=True, kw_only=True)
+class _Problems:
+    """The design problems of one :func:`design_many` call under one model,
+    as flat arrays (one element per problem)."""
+
+    model: str
+    aql: np.ndarray
+    rql: np.ndarray
+    alpha: np.ndarray
+    beta: np.ndarray
+    N: np.ndarray        # lot sizes (1 for the binomial and Poisson models)
+    d1: np.ndarray       # lot counts at the AQL (rounded up), hypergeometric
+    d2: np.ndarray       # lot counts at the RQL (rounded down), hypergeometric
+    cap: np.ndarray      # largest sample size
+    c_limit: np.ndarray  # acceptance numbers from here on cannot work
+
+    @classmethod
+    def build(cls, *, model, aql, rql, alpha, beta, lot_size, c_cap) -> "_Problems":
+        aql = np.asarray(aql, dtype=float).ravel()
+        rql = np.asarray(rql, dtype=float).ravel()
+        m = aql.size
+        alpha = np.broadcast_to(np.asarray(alpha, dtype=float), (m,)).copy()
+        beta = np.broadcast_to(np.asarray(beta, dtype=float), (m,)).copy()
+        if model == "hypergeometric":
+            N = np.asarray(lot_size, dtype=float).ravel()
+            d1 = _counts(aql, N, "up")
+            d2 = _counts(rql, N, "down")
+            cap = N.copy()
+            c_limit = d2.copy()  # c >= D2 accepts every lot at the RQL
+        else:
+            N = np.ones(m)
+            d1 = d2 = np.zeros(m)
+            cap = np.full(m, np.inf)
+            c_limit = np.full(m, float(c_cap))
+        return cls(model=model, aql=aql, rql=rql, alpha=alpha, beta=beta, N=N, d1=d1, d2=d2,
+                   cap=cap, c_limit=c_limit)
+
+    def aql_ok(self, rows, n, c):
+        """Where ``(n, c)`` meets the producer's risk, for problems ``rows``."""
+        pa = _pa(self.model, n, c, self.aql[rows], self.d1[rows], self.N[rows])
+        return pa >= 1.0 - self.alpha[rows] - _TOL
+
+    def n_min(self, rows, c):
+        """:func:`_n_min` for problems ``rows`` and acceptance numbers ``c``."""
+        def fails(idx, n):
+            return ~self.aql_ok(rows[idx], n, c[idx])
+
+        return _n_min(self.model, c, self.rql[rows], self.d2[rows], self.N[rows],
+                      self.beta[rows], self.cap[rows], fails)
+
+    def risks(self, n_out, c_out):
+        """``(alpha_actual, beta_actual)`` of the plans found (NaN where none)."""
+        m = self.aql.size
+        ok = n_out >= 0
+        a_act = np.full(m, np.nan)
+        b_act = np.full(m, np.nan)
+        if ok.any():
+            i = np.flatnonzero(ok)
+            a_act[i] = 1.0 - _pa(self.model, n_out[i], c_out[i], self.aql[i], self.d1[i],
+                                 self.N[i])
+            b_act[i] = _pa(self.model, n_out[i], c_out[i], self.rql[i], self.d2[i], self.N[i])
+        return a_act, b_act
+
+
+def _search_fixed_c(pr: _Problems, fixed, n_out, c_out) -> None:
+    """Fixed acceptance numbers: one ``n`` each, written into ``n_out``/``c_out``."""
+    fx = np.flatnonzero((fixed >= 0) & (fixed < pr.c_limit))
+    if not fx.size:
+        return
+    nm = pr.n_min(fx, fixed[fx])
+    have = nm >= 0  # -2: the fixed c cannot meet alpha; left to design_single
+    good = np.zeros(fx.size, dtype=bool)
+    good[have] = pr.aql_ok(fx[have], nm[have], fixed[fx][have])
+    n_out[fx[good]] = nm[good]
+    c_out[fx[good]] = fixed[fx][good]
+
+
+def _scan_free_c(pr: _Problems, rows, n_out, c_out) -> None:
+    """Free acceptance numbers: scan ``c`` in blocks, all ``rows`` at once; the
+    first ``c`` whose smallest ``n`` meets the producer's risk gives the plan."""
+    if not rows.size:
+        return
+    start = np.zeros(rows.size, dtype=np.int64)
+    width = np.clip(_first_c_guess(pr.aql[rows], pr.rql[rows], pr.alpha[rows], pr.beta[rows])
+                    + 3, 4, 64)
+    while rows.size:
+        lim = pr.c_limit[rows]
+        width = np.minimum(width, np.maximum(lim - start, 0)).astype(np.int64)
+        owner = np.repeat(np.arange(rows.size), width)
+        offset = np.arange(owner.size) - np.repeat(np.cumsum(width) - width, width)
+        cs = start[owner] + offset
+        r_of = rows[owner]
+        nm = pr.n_min(r_of, cs)
+        have = nm >= 0
+        good = np.zeros(owner.size, dtype=bool)
+        good[have] = pr.aql_ok(r_of[have], nm[have], cs[have])
+        hit = np.flatnonzero(good)
+        done = np.zeros(rows.size, dtype=bool)
+        if hit.size:
+            first_owner, first_at = np.unique(owner[hit], return_index=True)
+            pick = hit[first_at]
+            n_out[rows[first_owner]] = nm[pick]
+            c_out[rows[first_owner]] = cs[pick]
+            done[first_owner] = True
+        # A block whose last c has no n under the cap ends the search (n_min
+        # never decreases in c); so does reaching the acceptance-number limit.
+        last_none = np.zeros(rows.size, dtype=bool)
+        if owner.size:
+            ends = np.cumsum(width) - 1
+            nz = width > 0
+            last_none[nz] = nm[ends[nz]] == -1
+        start = start + width
+        stop = done | last_none | (start >= lim) | (width == 0)
+        keep = ~stop
+        rows, start, width = rows[keep], start[keep], np.minimum(width[keep] * 2, 4096)
 
 
 def _counts(level, N, rounding):
@@ -485,6 +527,41 @@ def design_catalogue(df, *, deliveries_per_year: float | None = None, progress=N
     """
     import pandas as pd
 
+    df, dropped = _prepared(df)
+    m = len(df)
+    rows = _parse_rows(df, deliveries_per_year)
+    ok = rows.error == ""
+    prob = pd.DataFrame({
+        "model": rows.model, "aql": rows.aql, "rql": rows.rql, "alpha": rows.alpha,
+        "beta": rows.beta, "lot": np.where(rows.has_lot, rows.lot, 0),
+        "fixed_c": rows.fixed_c, "max_n": rows.max_n, "defects": rows.defects,
+        "scheme": rows.scheme, "options": rows.options,
+    })
+    sol = _Designs.empty(m)
+    distinct = 0
+    good = prob[ok]
+    if len(good):
+        distinct = _solve(good, sol, np.flatnonzero(ok), progress, chunk)
+    error = rows.error
+    error[ok] = sol.error[ok]
+    model = rows.model
+    model[ok] = np.where(sol.model[ok] != "", sol.model[ok], model[ok])
+    designed = (error == "") & (sol.n >= 0)
+    rate = np.array([np.nan if v is None else float(v) for v in rows.deliv], dtype=float)
+    out, per_year = _output_table(df, designed, sol, model, error, rate)
+    units_lot = int(sol.n[designed].sum())
+    have_rate = designed & np.isfinite(rate)
+    units_year = int(round(float(np.nansum(per_year)))) if have_rate.any() else None
+    return BatchResult(table=out, rows=m, designed=int(designed.sum()),
+                       failed=int(m - designed.sum()), distinct=distinct,
+                       units_per_lot=units_lot, units_per_year=units_year,
+                       rows_without_deliveries=int((designed & ~np.isfinite(rate)).sum()),
+                       dropped_columns=dropped)
+
+
+def _prepared(df):
+    """A copy of the catalogue with the required columns checked, ``_line`` and
+    ``_shape`` present and earlier output columns dropped: ``(df, dropped)``."""
     df = df.copy()
     for col in REQUIRED:
         if col not in df.columns:
@@ -496,45 +573,74 @@ def design_catalogue(df, *, deliveries_per_year: float | None = None, progress=N
     dropped = tuple(c for c in OUTPUT if c in df.columns)
     if dropped:
         df = df.drop(columns=list(dropped))
-    df = df.reset_index(drop=True)
+    return df.reset_index(drop=True), dropped
+
+
+@dataclass(frozen=True, kw_only=True)
+class _Rows:
+    """The catalogue's cells parsed, one element per row (object arrays), and
+    the first problem found in each row (``error``, '' where none)."""
+
+    defects: np.ndarray
+    lot: np.ndarray
+    has_lot: np.ndarray
+    aql: np.ndarray
+    rql: np.ndarray
+    alpha: np.ndarray
+    beta: np.ndarray
+    scheme: np.ndarray
+    options: np.ndarray
+    fixed_c: np.ndarray
+    max_n: np.ndarray
+    deliv: np.ndarray
+    model: np.ndarray
+    error: np.ndarray
+
+
+def _stripped(df, c, m):
+    """Column ``c`` as stripped text (empty where the column is missing)."""
+    if c not in df.columns:
+        return np.full(m, "", dtype=object)
+    return np.array([str(v).strip() if v is not None else "" for v in df[c].tolist()],
+                    dtype=object)
+
+
+def _column(text, name, parse, default=None, rows=None):
+    """Parse each distinct text of column ``name`` once: ``(values, errors)``
+    as object arrays (``rows`` restricts to a boolean mask)."""
+    vals = text[name] if rows is None else text[name][rows]
+    uniq, inv = np.unique(vals.astype(str), return_inverse=True)
+    table = _parse_unique(uniq.tolist(), lambda v: default if v == "" else parse(v))
+    parsed = np.array([table[v][0] for v in uniq.tolist()] + [None], dtype=object)[:-1]
+    errs = np.array([table[v][1] for v in uniq.tolist()] + [None], dtype=object)[:-1]
+    return parsed[inv], errs[inv]
+
+
+def _note(error, errs, rows=None):
+    """``error`` with ``errs`` filled in where a row has no problem yet
+    (``rows`` restricts to a boolean mask, updated in place)."""
+    if rows is None:
+        return np.where(error != "", error, errs).astype(object)
+    sub = error[rows]
+    error[rows] = np.where(sub != "", sub, errs)
+    return error
+
+
+def _parse_rows(df, deliveries_per_year) -> _Rows:
+    """Parse every cell once per distinct text; keep each row's first problem."""
     m = len(df)
-
-    def stripped(c):
-        if c not in df.columns:
-            return np.full(m, "", dtype=object)
-        return np.array([str(v).strip() if v is not None else "" for v in df[c].tolist()],
-                        dtype=object)
-
-    text = {c: stripped(c) for c in REQUIRED + OPTIONAL}
+    text = {c: _stripped(df, c, m) for c in REQUIRED + OPTIONAL}
     opt_cols = tuple(c for c in option_columns() if c in df.columns)
-    text.update({c: stripped(c) for c in opt_cols})
+    text.update({c: _stripped(df, c, m) for c in opt_cols})
     shape = np.array([str(v) if v else "" for v in df["_shape"].tolist()], dtype=object)
     error = np.where(shape == "", "", "the line " + shape).astype(object)
 
-    def column(name, parse, default=None, rows=None):
-        """Parse each distinct text of column ``name`` once: ``(values, errors)``
-        as object arrays (``rows`` restricts to a boolean mask)."""
-        vals = text[name] if rows is None else text[name][rows]
-        uniq, inv = np.unique(vals.astype(str), return_inverse=True)
-        table = _parse_unique(uniq.tolist(), lambda v: default if v == "" else parse(v))
-        parsed = np.array([table[v][0] for v in uniq.tolist()] + [None], dtype=object)[:-1]
-        errs = np.array([table[v][1] for v in uniq.tolist()] + [None], dtype=object)[:-1]
-        return parsed[inv], errs[inv]
-
-    def note(errs, rows=None):
-        nonlocal error
-        if rows is None:
-            error = np.where(error != "", error, errs).astype(object)
-        else:
-            sub = error[rows]
-            error[rows] = np.where(sub != "", sub, errs)
-
-    defects, e = column("defects", lambda v: _flag(v, "defects"), False)
-    note(e)
+    defects, e = _column(text, "defects", lambda v: _flag(v, "defects"), False)
+    error = _note(error, e)
     defects = np.array([bool(v) for v in defects], dtype=bool)
-    lot, e = column("lot_size", lambda v: parse_count(v, "lot_size", minimum=1,
-                                                       maximum=10**12), None)
-    note(e)
+    lot, e = _column(text, "lot_size", lambda v: parse_count(v, "lot_size", minimum=1,
+                                                             maximum=10**12), None)
+    error = _note(error, e)
     # Levels depend on defects (per unit or a fraction): parse under each.
     aql = np.full(m, None, dtype=object)
     rql = np.full(m, None, dtype=object)
@@ -543,29 +649,36 @@ def design_catalogue(df, *, deliveries_per_year: float | None = None, progress=N
         if not sel.any():
             continue
         for name, target in (("aql", aql), ("rql", rql)):
-            vals, e = column(name, lambda v, f=flag, nm=name: _level(v, nm, f), None, sel)
+            vals, e = _column(text, name, lambda v, f=flag, nm=name: _level(v, nm, f), None, sel)
             target[sel] = vals
-            note(e, sel)
-    alpha, e = column("alpha", lambda v: parse_risk(v, "alpha"), 0.05)
-    note(e)
-    beta, e = column("beta", lambda v: parse_risk(v, "beta"), 0.10)
-    note(e)
-    scheme, e = column("scheme", _scheme, "single")
-    note(e)
-    options, e = _row_options(text, scheme, opt_cols)
-    note(e)
-    fixed_c, e = column("fixed_c", lambda v: parse_count(v, "fixed_c", minimum=0), -1)
-    note(e)
-    max_n, e = column("max_n", lambda v: parse_count(v, "max_n", minimum=1), 0)
-    note(e)
-    deliv, e = column("deliveries_per_year", lambda v: _rate(v, "deliveries_per_year"),
-                      deliveries_per_year)
-    note(e)
-
-    # Resolve the model per row (the lot size decides the exact one).
+            error = _note(error, e, sel)
+    parsed = {}
+    for name, parse, default in (
+            ("alpha", lambda v: parse_risk(v, "alpha"), 0.05),
+            ("beta", lambda v: parse_risk(v, "beta"), 0.10),
+            ("scheme", _scheme, "single"),
+            ("fixed_c", lambda v: parse_count(v, "fixed_c", minimum=0), -1),
+            ("max_n", lambda v: parse_count(v, "max_n", minimum=1), 0),
+            ("deliveries_per_year", lambda v: parse_rate(v, "deliveries_per_year"),
+             deliveries_per_year)):
+        parsed[name], e = _column(text, name, parse, default)
+        error = _note(error, e)
+    parsed["options"], e = _row_options(text, parsed["scheme"], opt_cols)
+    error = _note(error, e)
     has_lot = np.array([v is not None for v in lot], dtype=bool)
+    model, e = _resolve_models(text["model"], has_lot, defects)
+    error = _note(error, e)
+    return _Rows(defects=defects, lot=lot, has_lot=has_lot, aql=aql, rql=rql,
+                 alpha=parsed["alpha"], beta=parsed["beta"], scheme=parsed["scheme"],
+                 options=parsed["options"], fixed_c=parsed["fixed_c"], max_n=parsed["max_n"],
+                 deliv=parsed["deliveries_per_year"], model=model, error=error)
+
+
+def _resolve_models(model_text, has_lot, defects):
+    """The model of each row (the lot size decides the exact one):
+    ``(models, errors)``, each distinct combination checked once."""
     combo = np.array([f"{mt.lower()}|{int(hl)}|{int(dd)}" for mt, hl, dd in
-                      zip(text["model"].tolist(), has_lot.tolist(), defects.tolist())])
+                      zip(model_text.tolist(), has_lot.tolist(), defects.tolist())])
     ucombo, cinv = np.unique(combo, return_inverse=True)
     res_model = np.full(ucombo.size, None, dtype=object)
     res_err = np.full(ucombo.size, "", dtype=object)
@@ -576,125 +689,127 @@ def design_catalogue(df, *, deliveries_per_year: float | None = None, progress=N
             res_model[j] = scope.check_model(mt or None, "model")
         except InputError as exc:
             res_err[j] = str(exc).replace("(--lot-size)", "(a lot_size value)")
-    model = res_model[cinv]
-    note(res_err[cinv])
+    return res_model[cinv], res_err[cinv]
 
-    ok = error == ""
-    prob = pd.DataFrame({
-        "model": model, "aql": aql, "rql": rql, "alpha": alpha, "beta": beta,
-        "lot": np.where(has_lot, lot, 0), "fixed_c": fixed_c, "max_n": max_n,
-        "defects": defects, "scheme": scheme, "options": options,
-    })
-    n_col = np.full(m, -1, dtype=np.int64)
-    c_col = np.full(m, -1, dtype=np.int64)
-    a_col = np.full(m, np.nan)
-    b_col = np.full(m, np.nan)
-    full_col = np.zeros(m, dtype=bool)
-    plan_col = np.full(m, "", dtype=object)
 
-    keycols = ["scheme", "model", "aql", "rql", "alpha", "beta", "lot", "fixed_c", "max_n",
-               "defects", "options"]
-    good = prob[ok]
-    distinct = 0
-    if len(good):
-        for col in ("aql", "rql", "alpha", "beta"):
-            good[col] = good[col].astype(float)
-        for col in ("lot", "fixed_c", "max_n"):
-            good[col] = good[col].astype(np.int64)
-        # Identical problems solved once: groups numbered in order of first
-        # appearance, which is also the order drop_duplicates keeps.
-        codes = good.groupby(keycols, sort=False).ngroup().to_numpy()
-        u = good.drop_duplicates(keycols)[keycols].reset_index(drop=True)
-        distinct = len(u)
-        un = np.full(distinct, -1, dtype=np.int64)
-        uc = np.full(distinct, -1, dtype=np.int64)
-        ua = np.full(distinct, np.nan)
-        ub = np.full(distinct, np.nan)
-        uplan = np.full(distinct, "", dtype=object)
-        uerr = np.full(distinct, "", dtype=object)
-        umodel = np.full(distinct, "", dtype=object)  # a family's own model (variables)
-        ufull = np.zeros(distinct, dtype=bool)
-        # Which problems the array search can take.
-        simple = ((u["scheme"] == "single") & (u["max_n"] == 0) & (u["rql"] > u["aql"])
-                  & (u["alpha"] + u["beta"] < 1.0)).to_numpy().copy()
-        hyper = (u["model"] == "hypergeometric").to_numpy()
-        if hyper.any():
-            Nh = u["lot"].to_numpy(dtype=float)
-            d1 = _counts(u["aql"].to_numpy(), Nh, "up")
-            d2 = _counts(u["rql"].to_numpy(), Nh, "down")
-            simple &= ~hyper | ((d2 >= 1) & (d1 < d2))
-        done = 0
-        total = distinct
-        if progress is not None:
-            progress(0, total)
-        for mdl in ("hypergeometric", "binomial", "poisson"):
-            idx = np.flatnonzero(simple & (u["model"] == mdl).to_numpy())
-            for s in range(0, idx.size, chunk):
-                part = idx[s:s + chunk]
-                n_, c_, a_, b_ = design_many(
-                    model=mdl, aql=u["aql"].to_numpy()[part], rql=u["rql"].to_numpy()[part],
-                    alpha=u["alpha"].to_numpy()[part], beta=u["beta"].to_numpy()[part],
-                    lot_size=u["lot"].to_numpy()[part], fixed_c=u["fixed_c"].to_numpy()[part])
-                un[part], uc[part], ua[part], ub[part] = n_, c_, a_, b_
-                done += part.size
-                if progress is not None:
-                    progress(done, total)
-        # Everything not settled goes through the single designer (or a scheme's own).
-        rest = np.flatnonzero(un < 0)
-        for k, i in enumerate(rest):
-            row = u.iloc[i]
-            try:
-                res = _design_one(row)
-            except (Infeasible, InputError) as exc:
-                uerr[i] = str(exc).replace("--max-n", "max_n").replace("--lot-size", "lot_size")
-            else:
-                un[i], uc[i], ua[i], ub[i] = res["n"], res["c"], res["alpha_actual"], \
-                    res["beta_actual"]
-                uplan[i] = res.get("plan", "")
-                ufull[i] = bool(res.get("full_inspection", False))
-                umodel[i] = res.get("model", "")
-            if progress is not None and k % 50 == 0:
-                progress(done + k, total)
-        if progress is not None:
-            progress(total, total)
-        settled = (un >= 0) & (uplan == "")
-        uplan[settled] = [f"n={a},c={b}" for a, b in zip(un[settled], uc[settled])]
-        lots = u["lot"].to_numpy()
-        ufull |= (lots > 0) & (un >= lots)
-        rows_ok = np.flatnonzero(ok)
-        n_col[rows_ok] = un[codes]
-        c_col[rows_ok] = uc[codes]
-        a_col[rows_ok] = ua[codes]
-        b_col[rows_ok] = ub[codes]
-        plan_col[rows_ok] = uplan[codes]
-        full_col[rows_ok] = ufull[codes]
-        error[rows_ok] = uerr[codes]
-        own = umodel[codes]
-        model[rows_ok] = np.where(own != "", own, model[rows_ok])
+@dataclass(frozen=True, kw_only=True)
+class _Designs:
+    """Plans found, one element per problem (filled in place)."""
 
-    designed = (error == "") & (n_col >= 0)
+    n: np.ndarray
+    c: np.ndarray
+    alpha: np.ndarray
+    beta: np.ndarray
+    plan: np.ndarray
+    error: np.ndarray
+    full: np.ndarray
+    model: np.ndarray  # a family's own model (variables), else ""
+
+    @classmethod
+    def empty(cls, size: int) -> "_Designs":
+        return cls(n=np.full(size, -1, dtype=np.int64), c=np.full(size, -1, dtype=np.int64),
+                   alpha=np.full(size, np.nan), beta=np.full(size, np.nan),
+                   plan=np.full(size, "", dtype=object), error=np.full(size, "", dtype=object),
+                   full=np.zeros(size, dtype=bool), model=np.full(size, "", dtype=object))
+
+
+_KEYCOLS = ["scheme", "model", "aql", "rql", "alpha", "beta", "lot", "fixed_c", "max_n",
+            "defects", "options"]
+
+
+def _solve(good, sol: _Designs, rows_ok, progress, chunk: int) -> int:
+    """Solve the valid rows ``good`` (at positions ``rows_ok``), identical
+    problems once, into ``sol``; returns the number of distinct problems."""
+    for col in ("aql", "rql", "alpha", "beta"):
+        good[col] = good[col].astype(float)
+    for col in ("lot", "fixed_c", "max_n"):
+        good[col] = good[col].astype(np.int64)
+    # Identical problems solved once: groups numbered in order of first
+    # appearance, which is also the order drop_duplicates keeps.
+    codes = good.groupby(_KEYCOLS, sort=False).ngroup().to_numpy()
+    u = good.drop_duplicates(_KEYCOLS)[_KEYCOLS].reset_index(drop=True)
+    total = len(u)
+    usol = _Designs.empty(total)
+    if progress is not None:
+        progress(0, total)
+    done = _solve_by_arrays(u, usol, progress, chunk)
+    _solve_one_by_one(u, usol, progress, done)
+    if progress is not None:
+        progress(total, total)
+    settled = (usol.n >= 0) & (usol.plan == "")
+    usol.plan[settled] = [f"n={a},c={b}" for a, b in zip(usol.n[settled], usol.c[settled])]
+    lots = u["lot"].to_numpy()
+    usol.full[:] = usol.full | ((lots > 0) & (usol.n >= lots))
+    for name in ("n", "c", "alpha", "beta", "plan", "full", "error", "model"):
+        getattr(sol, name)[rows_ok] = getattr(usol, name)[codes]
+    return total
+
+
+def _solve_by_arrays(u, usol: _Designs, progress, chunk: int) -> int:
+    """The array search (:func:`design_many`) for the problems it can take;
+    returns how many problems it was given."""
+    simple = ((u["scheme"] == "single") & (u["max_n"] == 0) & (u["rql"] > u["aql"])
+              & (u["alpha"] + u["beta"] < 1.0)).to_numpy().copy()
+    hyper = (u["model"] == "hypergeometric").to_numpy()
+    if hyper.any():
+        Nh = u["lot"].to_numpy(dtype=float)
+        d1 = _counts(u["aql"].to_numpy(), Nh, "up")
+        d2 = _counts(u["rql"].to_numpy(), Nh, "down")
+        simple &= ~hyper | ((d2 >= 1) & (d1 < d2))
+    done = 0
+    for mdl in ("hypergeometric", "binomial", "poisson"):
+        idx = np.flatnonzero(simple & (u["model"] == mdl).to_numpy())
+        for s in range(0, idx.size, chunk):
+            part = idx[s:s + chunk]
+            n_, c_, a_, b_ = design_many(
+                model=mdl, aql=u["aql"].to_numpy()[part], rql=u["rql"].to_numpy()[part],
+                alpha=u["alpha"].to_numpy()[part], beta=u["beta"].to_numpy()[part],
+                lot_size=u["lot"].to_numpy()[part], fixed_c=u["fixed_c"].to_numpy()[part])
+            usol.n[part], usol.c[part], usol.alpha[part], usol.beta[part] = n_, c_, a_, b_
+            done += part.size
+            if progress is not None:
+                progress(done, len(u))
+    return done
+
+
+def _solve_one_by_one(u, usol: _Designs, progress, done: int) -> None:
+    """Everything the array search did not settle goes through the single
+    designer (or a scheme's own), whose messages the rows then carry."""
+    rest = np.flatnonzero(usol.n < 0)
+    for k, i in enumerate(rest):
+        row = u.iloc[i]
+        try:
+            res = _design_one(row)
+        except (Infeasible, InputError) as exc:
+            usol.error[i] = str(exc).replace("--max-n", "max_n").replace("--lot-size", "lot_size")
+        else:
+            usol.n[i], usol.c[i] = res["n"], res["c"]
+            usol.alpha[i], usol.beta[i] = res["alpha_actual"], res["beta_actual"]
+            usol.plan[i] = res.get("plan", "")
+            usol.full[i] = bool(res.get("full_inspection", False))
+            usol.model[i] = res.get("model", "")
+        if progress is not None and k % 50 == 0:
+            progress(done + k, len(u))
+
+
+def _output_table(df, designed, sol: _Designs, model, error, rate):
+    """The input columns then the :data:`OUTPUT` columns: ``(table, per_year)``."""
+    import pandas as pd
+
     out = df.drop(columns=["_line", "_shape"]).copy()
-    out["n"] = pd.array(np.where(designed, n_col, 0), dtype="Int64")
+    out["n"] = pd.array(np.where(designed, sol.n, 0), dtype="Int64")
     out.loc[~designed, "n"] = pd.NA
-    out["c"] = pd.array(np.where(designed, c_col, 0), dtype="Int64")
-    out.loc[~designed | (c_col < 0), "c"] = pd.NA  # no c: a scheme other than single
-    out["plan"] = np.where(designed, plan_col, "")
+    out["c"] = pd.array(np.where(designed, sol.c, 0), dtype="Int64")
+    out.loc[~designed | (sol.c < 0), "c"] = pd.NA  # no c: a scheme other than single
+    out["plan"] = np.where(designed, sol.plan, "")
     out["model_used"] = np.where(designed, np.where(model == None, "", model), "")  # noqa: E711
-    out["alpha_actual"] = np.where(designed, a_col, np.nan)
-    out["beta_actual"] = np.where(designed, b_col, np.nan)
-    out["full_inspection"] = np.where(designed, np.where(full_col, "yes", "no"), "")
-    rate = np.array([np.nan if v is None else float(v) for v in deliv], dtype=float)
-    per_year = np.where(designed & np.isfinite(rate), n_col * rate, np.nan)
+    out["alpha_actual"] = np.where(designed, sol.alpha, np.nan)
+    out["beta_actual"] = np.where(designed, sol.beta, np.nan)
+    out["full_inspection"] = np.where(designed, np.where(sol.full, "yes", "no"), "")
+    per_year = np.where(designed & np.isfinite(rate), sol.n * rate, np.nan)
     out["units_per_year"] = per_year
     out["error"] = error
-    units_lot = int(n_col[designed].sum())
-    have_rate = designed & np.isfinite(rate)
-    units_year = int(round(float(np.nansum(per_year)))) if have_rate.any() else None
-    return BatchResult(table=out, rows=m, designed=int(designed.sum()),
-                       failed=int(m - designed.sum()), distinct=distinct,
-                       units_per_lot=units_lot, units_per_year=units_year,
-                       rows_without_deliveries=int((designed & ~np.isfinite(rate)).sum()),
-                       dropped_columns=dropped)
+    return out, per_year
 
 
 def _level(v, name, per_unit):
@@ -755,7 +870,9 @@ def _row_options(text: dict, scheme, columns) -> tuple:
     return opts, errs
 
 
-def _rate(v, name):
+def parse_rate(v, name: str) -> float:
+    """A delivery rate (lots per year, 0 or more) from text; ``name`` is the
+    option or column named in the error."""
     try:
         x = float(str(v).replace("_", ""))
     except ValueError:

@@ -378,42 +378,38 @@ def read_records(path, *, plans_dir=None, option: str = "RECORDS") -> LotRecords
     return records_frame(t, plans_dir=plans_dir)
 
 
-def records_frame(t, *, plans_dir=None) -> LotRecords:
-    """Parse a :class:`lotwise.data.csvio.Table` of lot records (vectorised; the
-    messages are written only for the rows that need them)."""
-    import pandas as pd
+class _Cells:
+    """The text cells of a lot-records table and the problems found in its rows
+    (a working object of :func:`records_frame`)."""
 
-    m = len(t.fields)
-    where = {h: i for i, h in enumerate(t.header)}
-    columns = list(zip(*t.fields)) if m else [()] * len(t.header)
-    text: dict = {}
+    def __init__(self, t):
+        self.m = len(t.fields)
+        self._where = {h: i for i, h in enumerate(t.header)}
+        self._columns = list(zip(*t.fields)) if self.m else [()] * len(t.header)
+        self._text: dict = {}
+        self.reasons: dict[int, list] = {}
 
-    def get(name):
+    def get(self, name):
         """Column ``name`` as stripped text (an array of str)."""
-        if name not in text:
-            if name in where:
-                text[name] = np.array([v.strip() for v in columns[where[name]]], dtype=object)
+        if name not in self._text:
+            if name in self._where:
+                self._text[name] = np.array([v.strip() for v in
+                                             self._columns[self._where[name]]], dtype=object)
             else:
-                text[name] = np.full(m, "", dtype=object)
-        return text[name]
+                self._text[name] = np.full(self.m, "", dtype=object)
+        return self._text[name]
 
-    line = np.asarray(t.lines, dtype=np.int64)
-    reasons: dict[int, list] = {}
-
-    def note(mask, message):
+    def note(self, mask, message):
         """Record ``message(i)`` (or a fixed text) for each row ``i`` in ``mask``."""
         for i in np.flatnonzero(mask):
-            reasons.setdefault(int(i), []).append(message(i) if callable(message) else message)
+            self.reasons.setdefault(int(i), []).append(message(i) if callable(message)
+                                                       else message)
 
-    for name in REQUIRED:
-        note(get(name) == "", f"missing {name}")
-    plan_txt, file_txt = get("plan"), get("plan_file")
-    note((plan_txt == "") & (file_txt == ""), "missing plan (give plan or plan_file)")
-    note((plan_txt != "") & (file_txt != ""), "give plan or plan_file, not both")
-
-    def whole(name, minimum):
+    def whole(self, name, minimum):
         """Whole numbers of column ``name`` and where they are valid."""
-        txt = get(name)
+        import pandas as pd
+
+        txt = self.get(name)
         try:  # the common case: every cell a plain whole number
             v = txt.astype(str).astype(np.int64).astype(float)
         except (ValueError, OverflowError):
@@ -422,29 +418,50 @@ def records_frame(t, *, plans_dir=None) -> LotRecords:
             v = num.to_numpy(dtype=float)
         with np.errstate(invalid="ignore"):
             badnum = ~np.isfinite(v) | (v != np.floor(v))
-        note(badnum & (txt != ""), lambda i: f"{name} ({txt[i]!r}) must be a whole number")
+        self.note(badnum & (txt != ""), lambda i: f"{name} ({txt[i]!r}) must be a whole number")
         low = ~badnum & (np.where(badnum, minimum, v) < minimum)
-        note(low, lambda i: f"{name} ({txt[i]}) must be at least {minimum}")
+        self.note(low, lambda i: f"{name} ({txt[i]}) must be at least {minimum}")
         return np.where(badnum, 0, v).astype(np.int64), ~badnum & ~low
 
-    lot, lot_ok = whole("lot_size", 1)
-    sample, sample_ok = whole("sample_size", 1)
-    found, found_ok = whole("found", 0)
-    note(found_ok & sample_ok & (found > sample),
-         lambda i: f"found ({found[i]}) is more than sample_size ({sample[i]})")
-    note(sample_ok & lot_ok & (sample > lot),
-         lambda i: f"sample_size ({sample[i]}) is more than lot_size ({lot[i]})")
-    dtxt = get("date")
+
+def _counts_checked(cells: _Cells):
+    """``lot_size``, ``sample_size`` and ``found`` as whole numbers, with
+    samples above the lot and counts above the sample noted."""
+    lot, lot_ok = cells.whole("lot_size", 1)
+    sample, sample_ok = cells.whole("sample_size", 1)
+    found, found_ok = cells.whole("found", 0)
+    cells.note(found_ok & sample_ok & (found > sample),
+               lambda i: f"found ({found[i]}) is more than sample_size ({sample[i]})")
+    cells.note(sample_ok & lot_ok & (sample > lot),
+               lambda i: f"sample_size ({sample[i]}) is more than lot_size ({lot[i]})")
+    return lot, sample, found
+
+
+def _dates_checked(cells: _Cells):
+    import pandas as pd
+
+    dtxt = cells.get("date")
     dates = pd.to_datetime(pd.Series(dtxt), format="ISO8601", errors="coerce")
-    note(dates.isna().to_numpy() & (dtxt != ""),
-         lambda i: f"date ({dtxt[i]!r}) must be a date written YYYY-MM-DD")
-    disp_txt = get("disposition")
+    cells.note(dates.isna().to_numpy() & (dtxt != ""),
+               lambda i: f"date ({dtxt[i]!r}) must be a date written YYYY-MM-DD")
+    return dates
+
+
+def _dispositions_checked(cells: _Cells):
+    import pandas as pd
+
+    disp_txt = cells.get("disposition")
     dv, dinv = np.unique(disp_txt.astype(str), return_inverse=True)
     disp = pd.Series(np.array([_ACCEPT.get(v.lower()) for v in dv], dtype=object)[dinv])
-    note(disp.isna().to_numpy() & (disp_txt != ""),
-         lambda i: f"disposition ({disp_txt[i]!r}) must be accept or reject")
+    cells.note(disp.isna().to_numpy() & (disp_txt != ""),
+               lambda i: f"disposition ({disp_txt[i]!r}) must be accept or reject")
+    return disp
 
-    # Plans: each distinct text parsed (or file resolved) once.
+
+def _plans_checked(cells: _Cells, plans_dir):
+    """Each distinct plan text parsed (or plan file resolved) once:
+    ``(plans, key of each row)`` with ``plans`` keyed ``plan:...``/``file:...``."""
+    plan_txt, file_txt = cells.get("plan"), cells.get("plan_file")
     plans: dict = {}
     plan_err: dict = {}
     key = np.where(plan_txt != "", "plan:" + plan_txt, "file:" + file_txt).astype(object)
@@ -460,24 +477,44 @@ def records_frame(t, *, plans_dir=None) -> LotRecords:
         except InputError as exc:
             plan_err[k] = str(exc)
             failed[j] = True
-    note(failed[inv], lambda i: plan_err[str(key[i])])
+    cells.note(failed[inv], lambda i: plan_err[str(key[i])])
+    return plans, uniq[inv]
 
+
+def records_frame(t, *, plans_dir=None) -> LotRecords:
+    """Parse a :class:`lotwise.data.csvio.Table` of lot records (vectorised; the
+    messages are written only for the rows that need them)."""
+    import pandas as pd
+
+    cells = _Cells(t)
+    line = np.asarray(t.lines, dtype=np.int64)
+    for name in REQUIRED:
+        cells.note(cells.get(name) == "", f"missing {name}")
+    plan_txt, file_txt = cells.get("plan"), cells.get("plan_file")
+    cells.note((plan_txt == "") & (file_txt == ""), "missing plan (give plan or plan_file)")
+    cells.note((plan_txt != "") & (file_txt != ""), "give plan or plan_file, not both")
+    lot, sample, found = _counts_checked(cells)
+    dates = _dates_checked(cells)
+    disp = _dispositions_checked(cells)
+    plans, plan_key = _plans_checked(cells, plans_dir)
+
+    reasons = cells.reasons
     for i, problem in t.problems.items():
         reasons[i] = [f"the line {problem}"]  # its fields are unreliable
-    bad = np.zeros(m, dtype=bool)
+    bad = np.zeros(cells.m, dtype=bool)
     bad[list(reasons)] = True
     bad_rows = [BadRow(line=int(line[i]), reason="; ".join(reasons[i])) for i in sorted(reasons)]
     good = ~bad
     frame = pd.DataFrame({
         "line": line[good],
         "date": dates[good].reset_index(drop=True),
-        "supplier": get("supplier")[good],
-        "part": get("part")[good],
-        "lot_id": get("lot_id")[good],
+        "supplier": cells.get("supplier")[good],
+        "part": cells.get("part")[good],
+        "lot_id": cells.get("lot_id")[good],
         "lot_size": lot[good],
         "sample_size": sample[good],
         "found": found[good],
-        "plan_key": uniq[inv][good].astype(object),
+        "plan_key": plan_key[good].astype(object),
         "accepted": disp[good].astype(bool).reset_index(drop=True),
     })
     used = set(frame["plan_key"].unique())
@@ -617,24 +654,73 @@ def summarise(records: LotRecords, *, confidence: float = 0.95,
     if part is not None:
         df = df[df["part"] == part]
     plans = records.plans
+    done = dict(bad_rows=list(records.bad_rows), rows_read=records.rows_read,
+                confidence=confidence, significance=significance, source=records.source)
     if not len(df):
-        return RecordsSummary(groups=[], findings=[], bad_rows=list(records.bad_rows),
-                              rows_read=records.rows_read, rows_used=0,
-                              confidence=confidence, significance=significance,
-                              source=records.source)
+        return RecordsSummary(groups=[], findings=[], rows_used=0, **done)
     # Inspection order within each supplier and part.
     df = df.sort_values(["supplier", "part", "date", "line"], kind="stable")
     df = df.reset_index(drop=True)
-    lot = df["lot_size"].to_numpy()
-    sample = df["sample_size"].to_numpy()
-    found = df["found"].to_numpy()
-    accepted = df["accepted"].to_numpy(dtype=bool)
-    keys = df["plan_key"].to_numpy()
-    pkeys, pinv = np.unique(keys.astype(str), return_inverse=True)
+    lots = _Lots.of(df)
+    pkeys, pinv = np.unique(lots.keys.astype(str), return_inverse=True)
+    expect, deviation, notes = _expected_dispositions(lots, plans, pkeys, pinv)
+    mismatch = (expect >= 0) & (expect != lots.accepted.astype(np.int8))
+    findings = _findings(df, plans, expect, mismatch, deviation, notes)
+    # Groups: supplier and part, in sorted order (df is sorted by them).
+    gid = df.groupby(["supplier", "part"], sort=True).ngroup().to_numpy()
+    G = int(gid.max()) + 1
+    stats = _group_sums(lots, gid, G, confidence)
+    checks = {"mismatches": mismatch, "deviations": deviation, "unchecked": expect < 0}
+    counts = {k: np.bincount(gid, weights=v, minlength=G).astype(np.int64)
+              for k, v in checks.items()}
+    pairs = _PlanPairs.of(lots, gid, G, pinv, pkeys, plans, stats)
+    l_cnt, u_cnt = _run_chart_limits(lots, gid, stats["p"])
+    out = (lots.found < l_cnt) | (lots.found > u_cnt)
+    counts["out"] = np.bincount(gid, weights=out, minlength=G).astype(np.int64)
+    first = np.flatnonzero(np.r_[True, gid[1:] != gid[:-1]])
+    last = np.r_[first[1:] - 1, len(df) - 1]
+    dates = df["date"].dt.strftime("%Y-%m-%d").to_numpy()[np.r_[first, last]]
+    names = {"supplier": df["supplier"].to_numpy()[first], "part": df["part"].to_numpy()[first],
+             "first_date": dates[:G], "last_date": dates[G:]}
+    groups = []
+    for g in range(G):
+        chart = None
+        if charts:
+            a, b = first[g], last[g] + 1
+            s = lots.sample[a:b]
+            chart = {"line": df["line"].to_numpy()[a:b], "fraction": lots.found[a:b] / s,
+                     "lower": l_cnt[a:b] / s, "upper": u_cnt[a:b] / s,
+                     "out": out[a:b], "accepted": lots.accepted[a:b]}
+        groups.append(_group_summary(g, names, stats, counts, pairs, pkeys, plans,
+                                     confidence=confidence, significance=significance,
+                                     chart=chart))
+    return RecordsSummary(groups=groups, findings=findings, rows_used=len(df), **done)
 
-    # Per-lot disposition check: vectorised for single plans, per lot otherwise.
-    expect = np.full(len(df), -1, dtype=np.int8)  # 1 accept, 0 reject, -1 unknown
-    deviation = np.zeros(len(df), dtype=bool)
+
+@dataclass(frozen=True, kw_only=True)
+class _Lots:
+    """The columns of the sorted records :func:`summarise` works on."""
+
+    lot: np.ndarray
+    sample: np.ndarray
+    found: np.ndarray
+    accepted: np.ndarray
+    keys: np.ndarray
+
+    @classmethod
+    def of(cls, df) -> "_Lots":
+        return cls(lot=df["lot_size"].to_numpy(), sample=df["sample_size"].to_numpy(),
+                   found=df["found"].to_numpy(), accepted=df["accepted"].to_numpy(dtype=bool),
+                   keys=df["plan_key"].to_numpy())
+
+
+def _expected_dispositions(lots: _Lots, plans, pkeys, pinv):
+    """What each lot's plan says: ``(expect, deviation, notes)`` with ``expect``
+    1 accept, 0 reject, -1 unknown; vectorised for single plans, per lot
+    otherwise."""
+    lot, sample, found = lots.lot, lots.sample, lots.found
+    expect = np.full(lot.size, -1, dtype=np.int8)
+    deviation = np.zeros(lot.size, dtype=bool)
     notes: dict[int, str] = {}
     for j, key in enumerate(pkeys):
         plan = plans[key]
@@ -653,41 +739,69 @@ def summarise(records: LotRecords, *, confidence: float = 0.95,
                 expect[i] = -1 if acc is None else int(acc)
                 if nt:
                     notes[int(i)] = nt
-    mismatch = (expect >= 0) & (expect != accepted.astype(np.int8))
-    findings = _findings(df, plans, expect, mismatch, deviation, notes)
+    return expect, deviation, notes
 
-    # Groups: supplier and part, in sorted order (df is sorted by them).
-    gid = df.groupby(["supplier", "part"], sort=True).ngroup().to_numpy()
-    G = int(gid.max()) + 1
-    first = np.flatnonzero(np.r_[True, gid[1:] != gid[:-1]])
-    last = np.r_[first[1:] - 1, len(df) - 1]
+
+def _group_sums(lots: _Lots, gid, G: int, confidence: float) -> dict:
+    """Per group: lots, accepted, units inspected, nonconforming, the process
+    average and its Clopper-Pearson interval."""
     count = lambda w=None: np.bincount(gid, weights=w, minlength=G)  # noqa: E731
-    lots = np.bincount(gid, minlength=G)
-    acc = np.rint(count(accepted.astype(float))).astype(np.int64)
-    n_tot = np.rint(count(sample.astype(float))).astype(np.int64)
-    d_tot = np.rint(count(found.astype(float))).astype(np.int64)
-    p = d_tot / n_tot
+    n_tot = np.rint(count(lots.sample.astype(float))).astype(np.int64)
+    d_tot = np.rint(count(lots.found.astype(float))).astype(np.int64)
     lo, hi = clopper_pearson(d_tot, n_tot, confidence)
-    lo, hi = np.atleast_1d(lo), np.atleast_1d(hi)
-    n_mis = np.bincount(gid, weights=mismatch, minlength=G).astype(np.int64)
-    n_dev = np.bincount(gid, weights=deviation, minlength=G).astype(np.int64)
-    n_unk = np.bincount(gid, weights=expect < 0, minlength=G).astype(np.int64)
+    return {"lots": np.bincount(gid, minlength=G),
+            "acc": np.rint(count(lots.accepted.astype(float))).astype(np.int64),
+            "n_tot": n_tot, "d_tot": d_tot, "p": d_tot / n_tot,
+            "lo": np.atleast_1d(lo), "hi": np.atleast_1d(hi)}
 
-    # Pa of each plan at each group's process average (type B: lots from the process).
-    pair = gid.astype(np.int64) * len(pkeys) + pinv
-    upair, pair_inv = np.unique(pair, return_inverse=True)
-    pg, pp = upair // len(pkeys), upair % len(pkeys)
-    pair_lots = np.bincount(pair_inv)
-    pair_acc = np.bincount(pair_inv, weights=accepted).astype(np.int64)
-    pair_pa = np.empty(upair.size)
-    for j in np.unique(pp):
-        sel = pp == j
-        pair_pa[sel] = np.asarray(plans[pkeys[j]].pa(p[pg[sel]], "binomial", Scope()),
-                                  dtype=float)
+
+@dataclass(frozen=True, kw_only=True)
+class _PlanPairs:
+    """Each (group, plan) pair, sorted by group: its lots, accepted lots and
+    ``Pa`` at the group's process average (type B: lots from the process);
+    and per group the expected accepted lots, the two tails of the observed
+    count and the two-sided probability; ``start``/``stop`` delimit each
+    group's pairs."""
+
+    pg: np.ndarray
+    pp: np.ndarray
+    lots: np.ndarray
+    acc: np.ndarray
+    pa: np.ndarray
+    expected: np.ndarray
+    low: np.ndarray
+    high: np.ndarray
+    two: np.ndarray
+    start: np.ndarray
+    stop: np.ndarray
+
+    @classmethod
+    def of(cls, lots: _Lots, gid, G: int, pinv, pkeys, plans, stats) -> "_PlanPairs":
+        p = stats["p"]
+        pair = gid.astype(np.int64) * len(pkeys) + pinv
+        upair, pair_inv = np.unique(pair, return_inverse=True)
+        pg, pp = upair // len(pkeys), upair % len(pkeys)
+        pair_lots = np.bincount(pair_inv)
+        pair_acc = np.bincount(pair_inv, weights=lots.accepted).astype(np.int64)
+        pair_pa = np.empty(upair.size)
+        for j in np.unique(pp):
+            sel = pp == j
+            pair_pa[sel] = np.asarray(plans[pkeys[j]].pa(p[pg[sel]], "binomial", Scope()),
+                                      dtype=float)
+        expected = np.bincount(pg, weights=pair_lots * pair_pa, minlength=G)
+        low, high = _acceptance_tails(pg, pair_lots, pair_pa, stats["lots"], stats["acc"], G)
+        return cls(pg=pg, pp=pp, lots=pair_lots, acc=pair_acc, pa=pair_pa,
+                   expected=expected, low=low, high=high,
+                   two=np.minimum(1.0, 2.0 * np.minimum(low, high)),
+                   start=np.searchsorted(pg, np.arange(G)),
+                   stop=np.searchsorted(pg, np.arange(G), side="right"))
+
+
+def _acceptance_tails(pg, pair_lots, pair_pa, lots, acc, G: int):
+    """``P(accepted <= observed)`` and ``P(accepted >= observed)`` per group."""
     multi = np.bincount(pg, minlength=G) > 1
     low = np.empty(G)
     high = np.empty(G)
-    expected = np.bincount(pg, weights=pair_lots * pair_pa, minlength=G)
     one = ~multi
     if one.any():
         # One plan: the number accepted is binomial; tails by the incomplete beta.
@@ -701,50 +815,42 @@ def summarise(records: LotRecords, *, confidence: float = 0.95,
         sel = pg == g
         low[g], high[g], _ = accepted_tails(list(zip(pair_lots[sel], pair_pa[sel])),
                                             int(acc[g]))
-    two = np.minimum(1.0, 2.0 * np.minimum(low, high))
+    return low, high
 
-    # Run-chart limits once per distinct (group, sample size).
+
+def _run_chart_limits(lots: _Lots, gid, p):
+    """Each lot's probability limits (counts) at its group's process average,
+    computed once per distinct (group, sample size)."""
+    sample = lots.sample
     gs = gid.astype(np.int64) * (int(sample.max()) + 1) + sample
     ugs, gs_inv = np.unique(gs, return_inverse=True)
     l_u, u_u = binomial_limits(ugs % (int(sample.max()) + 1), p[ugs // (int(sample.max()) + 1)])
-    l_cnt, u_cnt = np.atleast_1d(l_u)[gs_inv], np.atleast_1d(u_u)[gs_inv]
-    out = (found < l_cnt) | (found > u_cnt)
-    n_out = np.bincount(gid, weights=out, minlength=G).astype(np.int64)
+    return np.atleast_1d(l_u)[gs_inv], np.atleast_1d(u_u)[gs_inv]
 
-    sup = df["supplier"].to_numpy()
-    prt = df["part"].to_numpy()
-    dates = df["date"].dt.strftime("%Y-%m-%d").to_numpy()[np.r_[first, last]]
-    firsts, lasts = dates[:G], dates[G:]
-    pair_start = np.searchsorted(pg, np.arange(G))
-    pair_stop = np.searchsorted(pg, np.arange(G), side="right")
-    groups = []
-    for g in range(G):
-        by_plan = []
-        for k in range(pair_start[g], pair_stop[g]):
-            plan = plans[pkeys[pp[k]]]
-            by_plan.append({"plan": plan.label, "scheme": plan.scheme,
-                            "lots": int(pair_lots[k]), "accepted": int(pair_acc[k]),
-                            "pa_at_process_average": float(pair_pa[k])})
-        chart = None
-        if charts:
-            a, b = first[g], last[g] + 1
-            chart = {"line": df["line"].to_numpy()[a:b], "fraction": found[a:b] / sample[a:b],
-                     "lower": l_cnt[a:b] / sample[a:b], "upper": u_cnt[a:b] / sample[a:b],
-                     "out": out[a:b], "accepted": accepted[a:b]}
-        groups.append(GroupSummary(
-            supplier=str(sup[first[g]]), part=str(prt[first[g]]), lots=int(lots[g]),
-            accepted=int(acc[g]), units_inspected=int(n_tot[g]), nonconforming=int(d_tot[g]),
-            process_average=float(p[g]), interval=(float(lo[g]), float(hi[g])),
-            confidence=confidence, expected_accepted=float(expected[g]),
-            tails=(float(low[g]), float(high[g])), two_sided=float(two[g]),
-            consistent=bool(two[g] >= significance), plans=by_plan,
-            first_date=str(firsts[g]), last_date=str(lasts[g]), out_of_limits=int(n_out[g]),
-            disposition_mismatches=int(n_mis[g]), sample_deviations=int(n_dev[g]),
-            unchecked=int(n_unk[g]), chart=chart))
-    return RecordsSummary(groups=groups, findings=findings, bad_rows=list(records.bad_rows),
-                          rows_read=records.rows_read, rows_used=len(df),
-                          confidence=confidence, significance=significance,
-                          source=records.source)
+
+def _group_summary(g, names, stats, counts, pairs: _PlanPairs, pkeys, plans, *,
+                   confidence, significance, chart) -> GroupSummary:
+    """The :class:`GroupSummary` of group ``g``."""
+    by_plan = []
+    for k in range(pairs.start[g], pairs.stop[g]):
+        plan = plans[pkeys[pairs.pp[k]]]
+        by_plan.append({"plan": plan.label, "scheme": plan.scheme,
+                        "lots": int(pairs.lots[k]), "accepted": int(pairs.acc[k]),
+                        "pa_at_process_average": float(pairs.pa[k])})
+    two = pairs.two[g]
+    return GroupSummary(
+        supplier=str(names["supplier"][g]), part=str(names["part"][g]),
+        lots=int(stats["lots"][g]),
+        accepted=int(stats["acc"][g]), units_inspected=int(stats["n_tot"][g]),
+        nonconforming=int(stats["d_tot"][g]), process_average=float(stats["p"][g]),
+        interval=(float(stats["lo"][g]), float(stats["hi"][g])),
+        confidence=confidence, expected_accepted=float(pairs.expected[g]),
+        tails=(float(pairs.low[g]), float(pairs.high[g])), two_sided=float(two),
+        consistent=bool(two >= significance), plans=by_plan,
+        first_date=str(names["first_date"][g]), last_date=str(names["last_date"][g]),
+        out_of_limits=int(counts["out"][g]), disposition_mismatches=int(counts["mismatches"][g]),
+        sample_deviations=int(counts["deviations"][g]), unchecked=int(counts["unchecked"][g]),
+        chart=chart)
 
 
 def _findings(df, plans, expect, mismatch, deviation, notes) -> list:

@@ -295,6 +295,117 @@ def _text(table: dict, key: str, where: str, path: str, required: bool = False) 
     return value
 
 
+def _scope(lot: dict, path: str) -> Scope:
+    """The scope of ``[lot]``: ``counts`` (items or nonconformities) and ``size``."""
+    counts = lot.get("counts", "items")
+    if counts not in COUNTS:
+        raise InputError(f"{path}: lot.counts ({counts!r}) must be one of: "
+                         + ", ".join(repr(c) for c in COUNTS))
+    defects = counts == "nonconformities"
+    size = None
+    if "size" in lot:
+        if not isinstance(lot["size"], int) or isinstance(lot["size"], bool):
+            raise InputError(f"{path}: lot.size ({lot['size']!r}) must be a whole number of at "
+                             "least 1, written without quotes")
+        size = parse_count(lot["size"], f"{path}: lot.size", minimum=1)
+    return Scope(lot_size=size, defects=defects)
+
+
+def _model(smp: dict, scope: Scope, path: str):
+    """``sampling.model`` checked against the scope, or None."""
+    model = smp.get("model")
+    if model is not None:
+        if not isinstance(model, str):
+            raise InputError(f"{path}: sampling.model ({model!r}) must be text in quotes")
+        model = scope.check_model(model, f"{path}: sampling.model")
+    return model
+
+
+def _sampling_count(smp: dict, key: str, minimum: int, path: str):
+    """A whole number ``sampling.<key>`` of at least ``minimum``, or None."""
+    if key not in smp:
+        return None
+    v = smp[key]
+    if not isinstance(v, int) or isinstance(v, bool):
+        raise InputError(f"{path}: sampling.{key} ({v!r}) must be a whole number of at least "
+                         f"{minimum}")
+    return parse_count(v, f"{path}: sampling.{key}", minimum=minimum)
+
+
+def _cost(smp: dict, path: str):
+    """``sampling.cost_per_unit`` (a number of at least 0), or None."""
+    if "cost_per_unit" not in smp:
+        return None
+    v = smp["cost_per_unit"]
+    if isinstance(v, bool) or not isinstance(v, (int, float)) or not v >= 0:
+        raise InputError(f"{path}: sampling.cost_per_unit ({v!r}) must be a number of at "
+                         "least 0")
+    return float(v)
+
+
+def _targets(ch: dict, w: str, path: str, defects: bool) -> Targets:
+    """A characteristic's AQL, RQL and risks."""
+    for key in ("aql", "rql"):
+        if key not in ch:
+            raise InputError(f"{path}: {w}{key} is missing; it is required")
+    aql = parse_level(ch["aql"], f"{path}: {w}aql", per_unit=defects)
+    rql = parse_level(ch["rql"], f"{path}: {w}rql", per_unit=defects)
+    if not rql > aql:
+        raise InputError(f"{path}: {w}rql ({ch['rql']}) must be above {w}aql ({ch['aql']})")
+    alpha = parse_risk(ch.get("alpha", 0.05), f"{path}: {w}alpha")
+    beta = parse_risk(ch.get("beta", 0.10), f"{path}: {w}beta")
+    if alpha + beta >= 1:
+        raise InputError(f"{path}: {w}alpha + beta ({alpha:g} + {beta:g}) must be below 1")
+    return Targets(aql=aql, rql=rql, alpha=alpha, beta=beta)
+
+
+def _fixed_c(ch: dict, w: str, path: str, n):
+    """A characteristic's fixed acceptance number (at most ``sampling.n``), or None."""
+    if "c" not in ch:
+        return None
+    v = ch["c"]
+    if not isinstance(v, int) or isinstance(v, bool) or v < 0:
+        raise InputError(f"{path}: {w}c ({v!r}) must be a whole number of at least 0")
+    if n is not None and v > n:
+        raise InputError(f"{path}: {w}c ({v}) must not be greater than sampling.n ({n})")
+    return v
+
+
+def _own_plan(ch: dict, w: str, path: str, c):
+    """A characteristic's own plan notation, parsed, or None."""
+    if "plan" not in ch:
+        return None
+    from lotwise.families.base import parse_plan
+
+    plan = parse_plan(_text(ch, "plan", w, path, required=True), f"{path}: {w}plan")
+    if c is not None:
+        raise InputError(f"{path}: {w}c ({c}) cannot be combined with {w}plan; the plan "
+                         "notation holds the acceptance numbers")
+    return plan
+
+
+def _characteristic(ch: dict, i: int, path: str, *, defects: bool, n, seen: set):
+    """``[[characteristic]]`` number ``i`` (from 1), validated; its id is added
+    to ``seen``."""
+    w = f"characteristic[{i}]."
+    _unknown(ch, _char_keys(), w, path)
+    cid = _text(ch, "id", w, path, required=True)
+    if cid in seen:
+        raise InputError(f"{path}: {w}id ({cid!r}) is used twice; ids must be unique")
+    seen.add(cid)
+    klass = ch.get("class")
+    if klass not in CLASSES:
+        raise InputError(f"{path}: {w}class ({klass!r}) must be one of: "
+                         + ", ".join(CLASSES))
+    targets = _targets(ch, w, path, defects)
+    c = _fixed_c(ch, w, path, n)
+    plan = _own_plan(ch, w, path, c)
+    scheme, options = _scheme_options(ch, w, path, defects, c, plan)
+    return Characteristic(id=cid, description=_text(ch, "description", w, path),
+                          klass=klass, targets=targets, c=c, plan=plan,
+                          scheme=scheme, options=options)
+
+
 def loads(text: str, path: str = "<plan>") -> PlanRequest:
     """Validate plan-file text; ``path`` is used in messages."""
     try:
@@ -310,46 +421,15 @@ def loads(text: str, path: str = "<plan>") -> PlanRequest:
     _unknown(smp, _SAMPLING, "sampling.", path)
 
     part_id = _text(part, "id", "part.", path, required=True)
-    counts = lot.get("counts", "items")
-    if counts not in COUNTS:
-        raise InputError(f"{path}: lot.counts ({counts!r}) must be one of: "
-                         + ", ".join(repr(c) for c in COUNTS))
-    defects = counts == "nonconformities"
-    size = None
-    if "size" in lot:
-        if not isinstance(lot["size"], int) or isinstance(lot["size"], bool):
-            raise InputError(f"{path}: lot.size ({lot['size']!r}) must be a whole number of at "
-                             "least 1, written without quotes")
-        size = parse_count(lot["size"], f"{path}: lot.size", minimum=1)
-    scope = Scope(lot_size=size, defects=defects)
-
-    model = smp.get("model")
-    if model is not None:
-        if not isinstance(model, str):
-            raise InputError(f"{path}: sampling.model ({model!r}) must be text in quotes")
-        model = scope.check_model(model, f"{path}: sampling.model")
-
-    def count(key, minimum):
-        if key not in smp:
-            return None
-        v = smp[key]
-        if not isinstance(v, int) or isinstance(v, bool):
-            raise InputError(f"{path}: sampling.{key} ({v!r}) must be a whole number of at least "
-                             f"{minimum}")
-        return parse_count(v, f"{path}: sampling.{key}", minimum=minimum)
-
-    n = count("n", 1)
-    max_n = count("max_n", 1)
-    seed = count("seed", 0)
+    scope = _scope(lot, path)
+    defects, size = scope.defects, scope.lot_size
+    model = _model(smp, scope, path)
+    n = _sampling_count(smp, "n", 1, path)
+    max_n = _sampling_count(smp, "max_n", 1, path)
+    seed = _sampling_count(smp, "seed", 0, path)
     if size is not None and n is not None and n > size:
         raise InputError(f"{path}: sampling.n ({n}) must not be greater than lot.size ({size})")
-    cost = None
-    if "cost_per_unit" in smp:
-        v = smp["cost_per_unit"]
-        if isinstance(v, bool) or not isinstance(v, (int, float)) or not v >= 0:
-            raise InputError(f"{path}: sampling.cost_per_unit ({v!r}) must be a number of at "
-                             "least 0")
-        cost = float(v)
+    cost = _cost(smp, path)
     strata = _text(smp, "strata", "sampling.", path) or None
     rejected = _text(smp, "rejected_lot", where="sampling.", path=path)
     rationale = _text(doc, "rationale", "", path)
@@ -366,48 +446,7 @@ def loads(text: str, path: str = "<plan>") -> PlanRequest:
     chars = []
     seen = set()
     for i, ch in enumerate(chars_raw, 1):
-        w = f"characteristic[{i}]."
-        _unknown(ch, _char_keys(), w, path)
-        cid = _text(ch, "id", w, path, required=True)
-        if cid in seen:
-            raise InputError(f"{path}: {w}id ({cid!r}) is used twice; ids must be unique")
-        seen.add(cid)
-        klass = ch.get("class")
-        if klass not in CLASSES:
-            raise InputError(f"{path}: {w}class ({klass!r}) must be one of: "
-                             + ", ".join(CLASSES))
-        for key in ("aql", "rql"):
-            if key not in ch:
-                raise InputError(f"{path}: {w}{key} is missing; it is required")
-        aql = parse_level(ch["aql"], f"{path}: {w}aql", per_unit=defects)
-        rql = parse_level(ch["rql"], f"{path}: {w}rql", per_unit=defects)
-        if not rql > aql:
-            raise InputError(f"{path}: {w}rql ({ch['rql']}) must be above {w}aql ({ch['aql']})")
-        alpha = parse_risk(ch.get("alpha", 0.05), f"{path}: {w}alpha")
-        beta = parse_risk(ch.get("beta", 0.10), f"{path}: {w}beta")
-        if alpha + beta >= 1:
-            raise InputError(f"{path}: {w}alpha + beta ({alpha:g} + {beta:g}) must be below 1")
-        c = None
-        if "c" in ch:
-            v = ch["c"]
-            if not isinstance(v, int) or isinstance(v, bool) or v < 0:
-                raise InputError(f"{path}: {w}c ({v!r}) must be a whole number of at least 0")
-            c = v
-            if n is not None and c > n:
-                raise InputError(f"{path}: {w}c ({c}) must not be greater than sampling.n ({n})")
-        plan = None
-        if "plan" in ch:
-            from lotwise.families.base import parse_plan
-
-            plan = parse_plan(_text(ch, "plan", w, path, required=True), f"{path}: {w}plan")
-            if c is not None:
-                raise InputError(f"{path}: {w}c ({c}) cannot be combined with {w}plan; the plan "
-                                 "notation holds the acceptance numbers")
-        scheme, options = _scheme_options(ch, w, path, defects, c, plan)
-        chars.append(Characteristic(id=cid, description=_text(ch, "description", w, path),
-                                    klass=klass, targets=Targets(aql=aql, rql=rql, alpha=alpha,
-                                                                 beta=beta), c=c, plan=plan,
-                                    scheme=scheme, options=options))
+        chars.append(_characteristic(ch, i, path, defects=defects, n=n, seen=seen))
     return PlanRequest(
         path=str(path), part_id=part_id, part_description=_text(part, "description", "part.", path),
         supplier=_text(part, "supplier", "part.", path),

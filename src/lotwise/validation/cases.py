@@ -506,16 +506,25 @@ def _mp_semicurtailed(n1, c1, n2, c2, p):
         return float(asn)
 
 
+_DOUBLE_AREA = "double and multiple plans"
+_MONT_DOUBLE = dict(n1=50, c1=1, n2=100, c2=3)
+
+
+def _double(**kw):
+    from lotwise.families.double import DoublePlan
+
+    return DoublePlan(**kw)
+
+
 def multistage_cases() -> list:
     """The textbook double example, the handbook table, mpmath sums."""
-    area = "double and multiple plans"
+    return _double_published_cases() + _double_exact_cases()
 
-    def double(**kw):
-        from lotwise.families.double import DoublePlan
 
-        return DoublePlan(**kw)
-
-    mont = dict(n1=50, c1=1, n2=100, c2=3)
+def _double_published_cases() -> list:
+    """The textbook double example and the handbook's double-sampling table."""
+    area = _DOUBLE_AREA
+    double, mont = _double, _MONT_DOUBLE
 
     def stages():
         return tuple(float(x) for x in double(**mont).pa_stages(0.05, "binomial", _scope()))
@@ -570,6 +579,13 @@ def multistage_cases() -> list:
             description="p n1 at Pa = 0.95, n2 = 2 n1, c1 = 1, c2 = 4 (published to 2 decimals)",
             source=src_nist, expected=0.77, tolerance=0.005, compute=lambda: nist(2, 1, 4, 0.95)),
     ]
+    return cases
+
+
+def _double_exact_cases() -> list:
+    """A double plan in a finite lot and the semi-curtailed ASN, against mpmath."""
+    area = _DOUBLE_AREA
+    double, mont = _double, _MONT_DOUBLE
     hyp = dict(n1=50, c1=1, r1=4, n2=100, c2=3)
 
     def hyper(which):
@@ -582,7 +598,7 @@ def multistage_cases() -> list:
         return float(double(**mont).asn_curtailed(0.05, "binomial", _scope(), stages="last",
                                                   accept=False))
 
-    cases += [
+    return [
         ReferenceCase(
             id="double-hypergeometric-N1000-D50-pa-mpmath", area=area,
             description="Pa of n1 = 50, c1 = 1, r1 = 4, n2 = 100, c2 = 3 in a lot of 1,000 "
@@ -605,7 +621,6 @@ def multistage_cases() -> list:
             expected=lambda: _mp_semicurtailed(50, 1, 100, 3, 0.05), tolerance=1e-10 * 50,
             compute=semi, needs=("mpmath",)),
     ]
-    return cases
 
 
 # --- item-by-item sequential plans (tests/test_sequential.py) -------------------
@@ -698,9 +713,29 @@ def _nct_sf_mpmath(df, nc, t):
         return float(1 - mp.quad(f, [0, df / 4, df, 2 * df, 4 * df, mp.inf]))
 
 
+_VARIABLES_AREA = "variables plans"
+
+
+def _pa_unknown(n, k, p):
+    from lotwise.families import variables as V
+
+    return float(V.pa_unknown(n, k, p))
+
+
+def _pa_known(n, k, p):
+    from lotwise.families import variables as V
+
+    return float(V.pa_known(n, k, p))
+
+
 def variables_cases() -> list:
     """Known-sigma closed forms, the textbook example, noncentral t OC."""
-    area = "variables plans"
+    return _variables_design_cases() + _noncentral_t_cases() + _known_sigma_oc_cases()
+
+
+def _variables_design_cases() -> list:
+    """Known-sigma closed forms and the textbook k- and s-method designs."""
+    area = _VARIABLES_AREA
 
     def closed(za, zb, z1, z2):
         from lotwise.families.variables import closed_form_known
@@ -714,16 +749,6 @@ def variables_cases() -> list:
         from lotwise.families.variables import design_variables
 
         return design_variables(aql=0.01, rql=0.06, sigma=sigma, attributes=False)
-
-    def pa_unknown(n, k, p):
-        from lotwise.families import variables as V
-
-        return float(V.pa_unknown(n, k, p))
-
-    def pa_known(n, k, p):
-        from lotwise.families import variables as V
-
-        return float(V.pa_known(n, k, p))
 
     course = "course solution (alpha = beta = 0.10, p1 = 0.02, p2 = 0.10)"
     mont = ("Montgomery, Introduction to Statistical Quality Control, variables example; "
@@ -770,6 +795,13 @@ def variables_cases() -> list:
             description="the same design's k (about 1.9; tolerance 0.02)",
             source=mont, expected=1.9, tolerance=0.02, compute=lambda: design("unknown").k),
     ]
+    return cases
+
+
+def _noncentral_t_cases() -> list:
+    """The s-method OC (noncentral t) against scipy.stats and mpmath."""
+    area, pa_unknown = _VARIABLES_AREA, _pa_unknown
+    cases = []
     for n, k, p in ((42, 1.901, 0.01), (42, 1.901, 0.06), (10, 1.5, 0.05), (100, 2.3, 0.005)):
         def ref(n=n, k=k, p=p):
             from scipy import stats
@@ -791,6 +823,13 @@ def variables_cases() -> list:
                "of scipy, computed at run time",
         expected=lambda: _nct_sf_mpmath(41, math.sqrt(42) * _z(0.06), 1.901 * math.sqrt(42)),
         tolerance=1e-9, compute=lambda: pa_unknown(42, 1.901, 0.06), needs=("mpmath",)))
+    return cases
+
+
+def _known_sigma_oc_cases() -> list:
+    """The k-method OC against the normal distribution in mpmath."""
+    area, pa_known = _VARIABLES_AREA, _pa_known
+    cases = []
     for n, k, p in ((15, 1.894, 0.01), (15, 1.894, 0.06)):
         def ref(n=n, k=k, p=p):
             import mpmath as mp

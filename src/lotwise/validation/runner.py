@@ -152,7 +152,7 @@ def _plain(v):
     return v
 
 
-# --- the single-sampling cases (issue 2 references) ---------------------------
+# --- the single-sampling cases -------------------------------------------------
 
 def _scope(lot=None, defects=False):
     from lotwise.core.types import Scope
@@ -194,7 +194,8 @@ def _infeasible(**kw):
 
 
 def single_sampling_cases() -> list:
-    """Reference cases of single sampling by attributes (the issue-2 tests)."""
+    """Reference cases of single sampling by attributes (those tests/test_design_single.py
+    checks)."""
     cases = []
     cameron = {0: (0.051, 2.303), 1: (0.355, 3.890), 2: (0.818, 5.322), 3: (1.366, 6.681),
                4: (1.970, 7.994), 5: (2.613, 9.275), 6: (3.286, 10.532), 7: (3.981, 11.771),
@@ -560,133 +561,18 @@ def _version(dist: str) -> str:
         return "not installed"
 
 
-# --- the report ----------------------------------------------------------------
-
-def _fmt(v) -> str:
-    if v is None:
-        return "-"
-    if isinstance(v, tuple):
-        return "(" + ", ".join(_fmt(x) for x in v) + ")"
-    if isinstance(v, bool):
-        return str(v)
-    if isinstance(v, int):
-        return str(v)
-    if isinstance(v, float):
-        return f"{v:.10g}"
-    return str(v)
-
-
-def _rows(val: Validation):
-    for r in val.results:
-        diff = "-" if r.difference is None else f"{r.difference:.2e}"
-        yield r, [r.case.id, _fmt(r.expected), _fmt(r.computed), _fmt(r.case.tolerance), diff,
-                  r.verdict + (f" ({r.note})" if r.note else "")]
-
-
-_INTRO = ("Each case reproduces a published table value or worked example, a fact of the "
-          "trade, or a cross-check computed at run time with a general-purpose reference "
-          "library (mpmath for exact arithmetic, scipy.stats where our code does not call "
-          "it). A case "
-          "passes when the computed value lies within the stated absolute tolerance of the "
-          "expected one (0 means exact agreement).")
-
-_SAFETY = ("Validation shows that the tool computes what it documents; it does not make a "
-           "sampling plan adequate. Sampling cannot guarantee a lot free of nonconforming "
-           "items; critical characteristics need 100 % inspection or stricter plans as "
-           "contract and regulation require; defer to your applicable standards and qualified "
-           "quality professionals.")
-
+# --- the report: rendered by the documents layer ------------------------------
 
 def markdown_report(val: Validation) -> str:
-    """The report as Markdown."""
-    when = val.started.strftime("%Y-%m-%d %H:%M UTC")
-    lines = [f"# lotwise validation report, {val.started.date().isoformat()}", "",
-             f"- Run: {when}",
-             f"- Verdict: **{val.verdict}**: {len(val.results)} cases, {val.passed} passed, "
-             f"{val.failed} failed, {val.skipped} skipped",
-             "- Versions: " + ", ".join(f"{k} {v}" for k, v in val.versions.items()), "",
-             _INTRO, ""]
-    areas: dict = {}
-    for r, row in _rows(val):
-        areas.setdefault(r.case.area, []).append((r, row))
-    for area, items in areas.items():
-        lines += [f"## {area[0].upper() + area[1:]}", "",
-                  "| id | description | source | expected | computed | tolerance | "
-                  "difference | verdict |",
-                  "|---|---|---|---|---|---|---|---|"]
-        for r, row in items:
-            cells = [row[0], r.case.description, r.case.source] + row[1:]
-            lines.append("| " + " | ".join(c.replace("|", "/") for c in cells) + " |")
-        lines.append("")
-    lines += ["## Note", "", _SAFETY, ""]
-    return "\n".join(lines)
+    """The report as Markdown; see :func:`lotwise.documents.validation_report.markdown_report`."""
+    from lotwise.documents.validation_report import markdown_report as render
+
+    return render(val)
 
 
 def pdf_report(val: Validation) -> bytes:
-    """The report as a text-extractable PDF (fonts embedded as TrueType)."""
-    import io
-    import textwrap
+    """The report as a text-extractable PDF (fonts embedded as TrueType); see
+    :func:`lotwise.documents.validation_report.pdf_report`."""
+    from lotwise.documents.validation_report import pdf_report as render
 
-    from matplotlib.backends.backend_pdf import PdfPages
-
-    from lotwise.documents.plots.style import mpl
-
-    plt = mpl()
-    import matplotlib
-
-    blocks: list[list[tuple[str, str]]] = []  # kept together on a page
-
-    def block(*items):
-        blocks.append(list(items))
-
-    block(("title", f"lotwise validation report, {val.started.date().isoformat()}"),
-          ("body", f"Run: {val.started.strftime('%Y-%m-%d %H:%M UTC')}"),
-          ("bold", f"Verdict: {val.verdict}: {len(val.results)} cases, {val.passed} passed, "
-                   f"{val.failed} failed, {val.skipped} skipped"),
-          *[("body", t) for t in textwrap.wrap(
-              "Versions: " + ", ".join(f"{k} {v}" for k, v in val.versions.items()), 105)],
-          ("body", ""), *[("body", t) for t in textwrap.wrap(_INTRO, 105)])
-    area = None
-    for r, row in _rows(val):
-        head = []
-        if r.case.area != area:
-            area = r.case.area
-            head = [("body", ""), ("heading", area[0].upper() + area[1:])]
-        block(*head, ("bold", f"{row[0]}: {row[5]}"),
-              *[("small", "    " + t) for t in textwrap.wrap(
-                  f"{r.case.description}. Source: {r.case.source}.", 100)],
-              ("small", f"    expected {row[1]}, computed {row[2]}, tolerance {row[3]}, "
-                        f"difference {row[4]}"))
-    block(("body", ""), ("heading", "Note"), *[("body", t) for t in textwrap.wrap(_SAFETY, 105)])
-
-    size = {"title": 13, "heading": 10.5, "bold": 8.2, "body": 8.2, "small": 7.4}
-    step = {"title": 0.03, "heading": 0.024, "bold": 0.0165, "body": 0.0165, "small": 0.0148}
-    top, bottom = 0.95, 0.06
-    pages: list[list] = [[]]
-    y = top
-    for blk in blocks:
-        need = sum(step[st] for st, _ in blk)
-        if y - need < bottom and pages[-1]:
-            pages.append([])
-            y = top
-        pages[-1].append(blk)
-        y -= need
-    buf = io.BytesIO()
-    with matplotlib.rc_context({"pdf.fonttype": 42, "font.family": "DejaVu Sans"}):
-        with PdfPages(buf, metadata={"Creator": "lotwise", "Title": "lotwise validation report"}) \
-                as pdf:
-            for k, page in enumerate(pages, start=1):
-                fig = plt.figure(figsize=(8.27, 11.69))  # A4
-                y = top
-                for blk in page:
-                    for style, text in blk:
-                        fig.text(0.07, y, text, fontsize=size[style], va="top", ha="left",
-                                 fontweight="bold" if style in ("title", "heading", "bold")
-                                 else "normal")
-                        y -= step[style]
-                fig.text(0.07, 0.03, f"lotwise validation report, "
-                         f"{val.started.date().isoformat()}, page {k} of {len(pages)}",
-                         fontsize=7, color="0.4")
-                pdf.savefig(fig)
-                plt.close(fig)
-    return buf.getvalue()
+    return render(val)

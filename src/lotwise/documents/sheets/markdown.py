@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from lotwise.documents.sheets.content import PLAN_HEADER, RISK_HEADER
+
 __all__ = ["render"]
 
 
@@ -13,8 +15,6 @@ def _table(header, rows) -> str:
 
 def render(content, png: str | None = None, extra_png: str | None = None) -> str:
     """The sheet as Markdown; ``png`` is the OC figure's file name beside it."""
-    from lotwise.documents.sheets import PLAN_HEADER, RISK_HEADER
-
     c = content
     lines = [f"# {c.title}", "", f"**{c.subtitle}**", "", "## Scope", ""]
     lines += [f"- **{k}:** {v}" for k, v in c.scope]

@@ -13,6 +13,9 @@ from __future__ import annotations
 import io
 import textwrap
 
+from lotwise.documents.sheets.content import PLAN_HEADER, RISK_HEADER
+from lotwise.documents.sheets.figures import aoq_plot, oc_plot
+
 __all__ = ["render"]
 
 PAGE_W, PAGE_H = 8.27, 11.69  # inches, A4
@@ -80,7 +83,6 @@ def _hline(fig, x0, x1, y):
 
 def _layout(content, pp, scale: float):
     from lotwise.documents.plots.style import mpl
-    from lotwise.documents.sheets import PLAN_HEADER, RISK_HEADER, aoq_plot, oc_plot
 
     plt = mpl()
     fig = plt.figure(figsize=(PAGE_W, PAGE_H))

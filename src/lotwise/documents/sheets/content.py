@@ -1,0 +1,349 @@
+"""What a plan sheet says: the content both renderers (PDF, Markdown) use.
+
+:func:`build_content` formats a resolved plan file
+(:class:`~lotwise.documents.partplan.PartPlan`) into a :class:`SheetContent`
+from the same result dictionaries as ``--json``, so a number on the sheet is
+the number the command line reports. :func:`oc_rows` is the OC table written
+beside the sheet.
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from lotwise.core.quantities import format_level, format_pct
+from lotwise.core.version import __version__
+
+__all__ = ["CAUTION", "DEFAULT_REJECTED", "MODEL_TEXT", "PLAN_HEADER", "RISK_HEADER",
+           "SheetContent", "alternatives", "build_content", "fmt_pa", "oc_rows", "plan_name"]
+
+CAUTION = (
+    "Sampling inspection judges lots; it cannot guarantee that an accepted lot is free of "
+    "nonconforming items, and a plan's protection holds only under random selection and the "
+    "stated model. Critical (safety-related) characteristics call for 100 % inspection, "
+    "error-proofing or the stricter plans a contract or regulation requires. The user remains "
+    "responsible for meeting the applicable standards, customer requirements and regulations; "
+    "this sheet supports, and does not replace, the judgement of a qualified quality "
+    "professional."
+)
+
+DEFAULT_REJECTED = (
+    "Hold and tag the lot as rejected; do not release it to production. Notify the supplier. "
+    "Disposition under the nonconforming-material procedure: return to the supplier, or screen "
+    "every item and replace the nonconforming ones (rectifying inspection), with the decision "
+    "recorded against the lot."
+)
+
+#: How the sheet names the model the plan is judged by.
+MODEL_TEXT = {
+    "hypergeometric": "hypergeometric (finite lot, drawn without replacement; type A OC)",
+    "binomial": "binomial (process fraction nonconforming; type B OC)",
+    "poisson": "Poisson",
+}
+
+PLAN_HEADER = ["Characteristic", "Class", "Sample", "Accept (c)", "Reject (r)", "AQL / alpha",
+               "RQL / beta"]
+RISK_HEADER = ["Char.", "Model", "Pa(AQL)", "alpha", "target", "Pa(RQL)", "beta", "target",
+               "Verdict"]
+
+
+def fmt_pa(x: float) -> str:
+    """Acceptance probabilities on sheets: four decimals."""
+    return f"{x:.4f}"
+
+
+@dataclass(frozen=True, kw_only=True)
+class SheetContent:
+    """Everything a sheet says, already formatted; both renderers use it."""
+
+    title: str
+    subtitle: str
+    scope: list  # (label, text)
+    plan_line: str
+    plan_rows: list  # [id, class, c, r, aql/alpha, rql/beta]
+    risk_rows: list  # [id, model, Pa(AQL), alpha, target, Pa(RQL), beta, target, verdict]
+    guarantees: list  # sentences
+    poisson: list  # sentences
+    model_note: str
+    selection: str
+    rejected: str
+    cautions: list
+    rationale: str
+    footer: str
+    verdict: str
+    picks: list = field(default_factory=list)
+    alternatives: str = ""
+
+
+def _lvl(x, per_unit):
+    return format_level(x, per_unit)
+
+
+def plan_name(rep) -> str:
+    """Short plan name for legends and sentences."""
+    if not rep.get("own_sample"):
+        return f"n={rep['n']}, c={rep['c']}"
+    plan = rep["plan"]
+    if plan.get("scheme") == "variables" and plan.get("k") is not None:
+        return f"variables n={plan['n']}, k={plan['k']:g}"
+    return rep["label"]
+
+
+def alternatives(pp) -> str:
+    """The trade-off view in one sentence: for the first designed attributes
+    characteristic, the double and sequential plans for the same two risk
+    points and their average sample numbers beside the single plan."""
+    if not pp.designed or pp.n is None:
+        return ""
+    single = {r["characteristic"]["id"] for r in pp.reports
+              if r.get("scheme") == "single" and not r.get("own_sample")}
+    ch = next((c for c in pp.request.characteristics if c.id in single and c.c is None), None)
+    if ch is None:
+        return ""
+    from lotwise.analysis.tradeoff import asn_tradeoff
+
+    try:
+        tr = asn_tradeoff(ch.targets, pp.request.scope, model=pp.request.model)
+    except Exception:  # the view is an extra; never let it stop a sheet
+        return ""
+    parts, single_n = [], None
+    for row in tr.rows:
+        if row.scheme == "single" and row.plan is not None:
+            single_n = row.n_max
+        if row.plan is None or row.scheme == "single":
+            continue
+        verdict = "" if row.meets else ", NOT meeting a target exactly"
+        parts.append(f"{row.scheme} {row.label} (average sample {row.asn_aql:.1f} at the AQL, "
+                     f"{row.asn_rql:.1f} at the RQL, at most {row.n_max}{verdict})")
+    if not parts or single_n is None:
+        return ""
+    return (f"{ch.id}, same two risk points with a varying sample: " + "; ".join(parts)
+            + f"; against {single_n} units every lot for its single plan alone (see lotwise "
+            "design --scheme compare-all).")
+
+
+# --- the pieces of build_content ------------------------------------------------
+
+def _verdict(pp) -> str:
+    return ("Meets every target." if pp.meets else
+            ("NO PLAN: " + pp.problem) if pp.n is None else "FALLS SHORT of a target.")
+
+
+def _scope_rows(req) -> list:
+    """``(label, text)`` rows of the Scope section."""
+    scope = req.scope
+    counted = "nonconformities per unit" if scope.defects else "nonconforming items"
+    lot = (f"{scope.lot_size:,} items" if scope.lot_size else "not stated (treated as a process "
+           "or very large lot)")
+    rows = [("Part", req.part_id + (f": {req.part_description}" if req.part_description
+                                    else ""))]
+    if req.supplier:
+        rows.append(("Supplier", req.supplier))
+    rows.append(("Lot", (req.lot_definition + "; " if req.lot_definition else "")
+                 + f"lot size {lot}"))
+    rows.append(("Counted", counted))
+    rows.append(("Characteristics", "; ".join(
+        f"{c.id} {c.description} [{c.klass}]".replace("  ", " ") for c in req.characteristics)))
+    return rows
+
+
+def _plan_row(rep, per_unit: bool) -> list:
+    """One row of the plan table: characteristic, class, sample, rule, levels."""
+    ch = rep["characteristic"]
+    t = rep["targets"]
+    levels = [f"{_lvl(t['aql'], per_unit)} / {format_pct(t['alpha'])}",
+              f"{_lvl(t['rql'], per_unit)} / {format_pct(t['beta'])}"]
+    if rep.get("own_sample", False):
+        k = rep["plan"].get("k")
+        rule = f"statistic >= k = {k:g}" if k is not None else "see the plan above"
+        size = f"up to {rep['n']}" if rep.get("varying_sample") else f"n = {rep['n']}"
+        return [ch["id"], ch["class"], size, rule, "otherwise", *levels]
+    return [ch["id"], ch["class"], f"n = {rep['n']}", str(rep["c"]), str(rep["r"]), *levels]
+
+
+def _risk_rows(rep) -> list:
+    """Rows of the risk table, one per model that applies."""
+    ch = rep["characteristic"]
+    t = rep["targets"]
+    rows = []
+    for m, r in rep["models"].items():
+        star = "*" if m == rep["model"] else ""
+        rows.append([ch["id"], m + star, fmt_pa(r["pa_aql"]), format_pct(r["alpha"]),
+                     format_pct(t["alpha"]), fmt_pa(r["pa_rql"]), format_pct(r["beta"]),
+                     format_pct(t["beta"]), "meets" if r["meets"] else "SHORT"])
+    return rows
+
+
+def _guarantees(rep, per_unit: bool) -> list:
+    """The plain-words sentences of what one characteristic's plan guarantees."""
+    ch = rep["characteristic"]
+    t = rep["targets"]
+    q = rep["plan_quality"]
+    unit = "" if per_unit else " nonconforming"
+    name = plan_name(rep)
+    if "asn" in rep:
+        name += (f"; average sample {rep['asn']['aql']:.1f} at the AQL, "
+                 f"{rep['asn']['rql']:.1f} at the RQL")
+    out = [
+        f"{ch['id']} ({name}): accepts lots at "
+        f"{_lvl(q['producer'], per_unit)}{unit} {format_pct(1 - t['alpha'])} of the time (the "
+        f"AQL it really protects), at {_lvl(q['indifference'], per_unit)} half the time, and at "
+        f"{_lvl(q['consumer'], per_unit)} {format_pct(t['beta'])} of the time (the RQL it "
+        "really gives)."]
+    if "aoql" in rep:
+        out.append(
+            f"{ch['id']}, rejected lots screened 100 %: AOQL {format_pct(rep['aoql'], 3)} "
+            f"(reached at {_lvl(rep['aoql_p'], per_unit)}); average items inspected per lot "
+            f"{rep['ati']['aql']:,.0f} at the AQL, {rep['ati']['rql']:,.0f} at the RQL.")
+    return out
+
+
+def _own_sample_line(pp, owns) -> str:
+    """The plan sentence's additions for characteristics with their own plan."""
+    text = ""
+    for r in owns:
+        extra = ""
+        if r.get("attributes"):
+            extra = (f" (an attributes plan for the same two points needs "
+                     f"n = {r['attributes']['n']}, c = {r['attributes']['c']})")
+        text += f" {r['characteristic']['id']}: {r['label']}{extra}."
+        if r["n"] is not None and pp.n is not None and r["n"] < pp.n:
+            text += (f" Judge it on {r['n']} of the sampled units chosen at random "
+                     "(for example with lotwise draw from the sample).")
+    return text
+
+
+def _plan_line(pp) -> str:
+    """The one sentence saying how to inspect a lot."""
+    scope = pp.request.scope
+    if pp.n is None:
+        return "No plan meets these targets: " + pp.problem
+    plan_line = (f"Inspect n = {pp.n} units drawn at random from each lot"
+                 + (f" of {scope.lot_size:,}" if scope.lot_size else "")
+                 + ". For each characteristic, accept the lot if the count found is at most "
+                 "c; reject it at r or more. A lot is accepted only if every characteristic "
+                 "is accepted.")
+    if pp.reports and pp.reports[0].get("full_inspection"):
+        plan_line += " The sample is the whole lot: 100 % inspection."
+    owns = [r for r in pp.reports if r.get("own_sample")]
+    if owns:
+        plan_line = plan_line.replace("For each characteristic", "For each attributes "
+                                      "characteristic") if len(owns) < len(pp.reports) else (
+            f"Inspect each lot with the plan of each characteristic (largest sample "
+            f"{pp.n} units, drawn at random; a smaller sample is the first units of the "
+            "pick list). A lot is accepted only if every characteristic is accepted.")
+        plan_line += _own_sample_line(pp, owns)
+    return plan_line
+
+
+def _model_note(pp) -> str:
+    """Which model judges the plan, and the lot counts the levels round to."""
+    scope = pp.request.scope
+    model = pp.model or (scope.exact_model)
+    note = f"Model judged by: {MODEL_TEXT.get(model, model)} (marked *)."
+    if scope.lot_size and any("lot_counts" in r for r in pp.reports):
+        parts = []
+        for rep in (r for r in pp.reports if "lot_counts" in r):
+            lc = rep["lot_counts"]
+            parts.append(f"{rep['characteristic']['id']}: AQL -> {lc['aql']}, RQL -> {lc['rql']}")
+        note += (" Lot counts of nonconforming items, rounded up at the AQL and down at the RQL "
+                 "(the conservative way for each risk): " + "; ".join(parts) + ".")
+    return note
+
+
+def _selection(pp, picks) -> str:
+    """How to select the sample: the pick list when there is one."""
+    req = pp.request
+    scope = req.scope
+    if picks is None:
+        return ("Draw the units at random from the whole lot (every unit equally likely), "
+                "for example with a seeded pick list from `lotwise draw` once the lot size "
+                "is known.")
+    first = ", ".join(str(u) for u in picks.units[:12])
+    more = " ..." if len(picks.units) > 12 else ""
+    return ("Simple random sample without replacement"
+            + (f", stratified in proportion to stratum size ({req.strata})"
+               if req.strata else "")
+            + f". Pick list seed {picks.seed}; first units: {first}{more} (full list in "
+            f"{req.stem}-picklist.csv). Re-create with: lotwise draw --lot-size "
+            f"{scope.lot_size} --n {pp.n} --seed {picks.seed}"
+            + (f" --strata \"{req.strata}\"" if req.strata else "") + ".")
+
+
+def _cautions(req) -> list:
+    cautions = [CAUTION]
+    if any(c.klass == "critical" for c in req.characteristics):
+        cautions.insert(0, "This part has a CRITICAL characteristic: a sampling plan cannot make "
+                        "it safe. Use 100 % inspection, error-proofing or the stricter plan your "
+                        "contract or regulation requires; this plan is a check on top of those.")
+    return cautions
+
+
+def build_content(pp, *, picks=None, today: _dt.date | None = None,
+                  alternatives_text: str = "") -> SheetContent:
+    """Format a :class:`~lotwise.documents.partplan.PartPlan` for the sheets."""
+    req = pp.request
+    per_unit = req.scope.defects
+    today = today or _dt.date.today()
+    title = f"Sampling plan: {req.part_id}" + (f", {req.part_description}"
+                                               if req.part_description else "")
+    verdict = _verdict(pp)
+    sub = f"{'Designed plan' if pp.designed else 'Audit of a fixed plan'} ({Path(req.path).name}): {verdict}"
+    plan_rows, risk_rows, guar, pois = [], [], [], []
+    for rep in pp.reports:
+        plan_rows.append(_plan_row(rep, per_unit))
+        risk_rows += _risk_rows(rep)
+        guar += _guarantees(rep, per_unit)
+        if "poisson_verdict" in rep:
+            pois.append(f"{rep['characteristic']['id']}: {rep['poisson_verdict']['summary']}")
+    footer = (f"Prepared {today.isoformat()} with lotwise {__version__}; input fingerprint "
+              f"{req.fingerprint()} (SHA-256 of the plan file's parsed content). Re-create with: "
+              f"lotwise sheet {req.path}")
+    return SheetContent(title=title, subtitle=sub, scope=_scope_rows(req),
+                        plan_line=_plan_line(pp), plan_rows=plan_rows, risk_rows=risk_rows,
+                        guarantees=guar, poisson=pois, model_note=_model_note(pp),
+                        selection=_selection(pp, picks),
+                        rejected=req.rejected_lot or DEFAULT_REJECTED, cautions=_cautions(req),
+                        rationale=req.rationale, footer=footer, verdict=verdict,
+                        picks=list(picks.units) if picks is not None else [],
+                        alternatives=alternatives_text)
+
+
+def oc_rows(pp, points: int = 41):
+    """OC table (header, rows) for every characteristic's plan under every model
+    that applies to it (a plan of another type under its own model)."""
+    import numpy as np
+
+    from lotwise.analysis.audit import oc_grid, quality_at
+
+    scope = pp.request.scope
+    top = 0.0
+    for rep, plan in zip(pp.reports, pp.plans):
+        if plan.scheme == "single":
+            q = quality_at(plan, 0.01, scope.exact_model, scope, "consumer")
+        else:
+            q = 1.25 * rep["plan_quality"]["consumer"]
+        top = max(top, 1.25 * rep["targets"]["rql"], q)
+    if not scope.defects:
+        top = min(top, 1.0)
+    ps = np.linspace(0.0, top, points)
+    header = ["p"]
+    cols = []
+    lot_count = None
+    for rep, plan in zip(pp.reports, pp.plans):
+        if plan.scheme == "single":
+            g = oc_grid(plan, scope, scope.models, ps)
+            for m in scope.models:
+                header.append(f"{rep['characteristic']['id']}_{m}")
+                cols.append(g[m])
+            lot_count = g.get("lot_count", lot_count)
+        else:
+            header.append(f"{rep['characteristic']['id']}_{rep['model']}")
+            cols.append(np.asarray(plan.pa(ps, rep["model"], scope), dtype=float))
+    if lot_count is not None:
+        header.append("lot_count")
+        cols.append(lot_count)
+    rows = [[float(ps[i])] + [c[i] for c in cols] for i in range(len(ps))]
+    return header, rows

@@ -1,0 +1,34 @@
+"""The figures on a plan sheet: the OC curves of every characteristic and,
+when the lot size is known, the first plan's AOQ curve."""
+
+from __future__ import annotations
+
+from lotwise.documents.sheets.content import plan_name
+
+__all__ = ["oc_plot", "aoq_plot"]
+
+
+def oc_plot(pp, ax=None):
+    """The sheet's OC figure: each characteristic's exact curve and the first's
+    Poisson curve, with AQL and RQL points marked."""
+    from lotwise.documents.plots.style import oc_figure
+
+    scope = pp.request.scope
+    items = [(plan, scope) for plan in pp.plans]
+    labels = [f"{r['characteristic']['id']} ({plan_name(r)})" for r in pp.reports]
+    first = pp.reports[0]["targets"]
+    top = max(1.25 * r["targets"]["rql"] for r in pp.reports)
+    models = None if pp.plans[0].scheme == "single" else [pp.reports[0]["model"]]
+    return oc_figure(items, models=models, aql=first["aql"], rql=first["rql"], labels=labels,
+                     ax=ax, max_p=None if len(items) == 1 else top)
+
+
+def aoq_plot(pp, ax=None):
+    """AOQ curve of the first characteristic's plan (lot size known)."""
+    from lotwise.documents.plots.rectifying import aoq_figure
+    from lotwise.families.single import SinglePlan
+
+    rep = pp.reports[0]
+    plan = SinglePlan(n=rep["n"], c=rep["c"])
+    return aoq_figure(plan, pp.request.scope, ax=ax,
+                      title=f"AOQ, {rep['characteristic']['id']} (n={rep['n']}, c={rep['c']})")
