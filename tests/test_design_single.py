@@ -163,7 +163,7 @@ def test_lot_rounding_conservative_and_reported():
     # AQL 1.5 % of 130 = 1.95 -> 2 (up); RQL 9 % of 130 = 11.7 -> 11 (down).
     d = design_single(aql=0.015, rql=0.09, lot_size=130)
     assert d.lot_counts == (2, 11)
-    a = d.audit()
+    a = audit_plan(d.plan, d.targets, d.scope, model=d.model)
     r = a.risks["hypergeometric"]
     assert (r.count_aql, r.count_rql) == (2, 11)
     assert r.pa_aql == pytest.approx(oc.pa_hypergeometric(d.n, d.c, 130, 2), abs=0)

@@ -309,3 +309,14 @@ def next_cmd(plan, *, history, seed, systematic, unused, as_json):
     typer.echo(f"  Next units to inspect if each is conforming: {nums} ({how}{res.selection}"
                + (f" choice, seed {res.seed}" if res.seed is not None else " choice") + ").")
     typer.echo(f"  {SAFETY}")
+
+
+def design_options(*, scheme, aql, rql, lot, defects, c, n, max_n, sigma, sigma_value, limit,
+                   lower, upper, ratio, truncate, plot, aoql, csp_f, csp_i, minimize,
+                   process_average, model, as_json, **_others):
+    """:func:`design_cmd` called with every design option."""
+    given = (aql, rql, lot, defects, c, n, max_n, sigma, sigma_value, limit, lower, upper,
+             ratio, truncate, plot)
+    return design_cmd(scheme=scheme, aoql=aoql, f_values=csp_f, i=csp_i, minimize=minimize,
+                      process_average=process_average, model=model, as_json=as_json,
+                      unused=given)

@@ -303,3 +303,12 @@ def next_unit(
         typer.echo(f"  Next decision point after {dec.more_to_next} more unit(s) "
                    f"(n = {dec.next_decision_at}); at most {dec.more_at_most} more unit(s) "
                    "before the plan has decided.")
+
+
+def design_options(*, scheme, aql, rql, alpha, beta, lot, model, defects, n, c, max_n, ratio,
+                   minimize, truncate, plot, force, as_json, **_others):
+    """:func:`design_other` called with every design option (see ``single.DESIGN_HANDLERS``)."""
+    return design_other(scheme=scheme, aql=aql, rql=rql, alpha=alpha, beta=beta, lot=lot,
+                        model=model, defects=defects, n=n, c=c, max_n=max_n, ratio=ratio,
+                        minimize=minimize, truncate=truncate, plot=plot, force=force,
+                        as_json=as_json)

@@ -195,3 +195,10 @@ def render_extras(rep: dict) -> str:
     return ("\n\n" + "\n\n".join(parts)) if parts else ""
 
 
+def design_options(*, scheme, minimize, aql, rql, alpha, beta, lot, model, defects, c, n,
+                   max_n, process_average, aoql, aoq_formula, as_json, **_others):
+    """:func:`design_dispatch` called with every design option."""
+    return design_dispatch(scheme=scheme, minimize=minimize, aql=aql, rql=rql, alpha=alpha,
+                           beta=beta, lot=lot, model=model, defects=defects, c=c, n=n,
+                           max_n=max_n, process_average=process_average, aoql=aoql,
+                           aoq_formula=aoq_formula, as_json=as_json)

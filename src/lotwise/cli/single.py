@@ -10,6 +10,16 @@ from . import app, common
 from lotwise.core.quantities import InputError, Infeasible, parse_count
 
 
+#: ``--scheme`` -> ``"module:function"`` in this package taking every design option as
+#: keywords; the single plan is designed here.
+DESIGN_HANDLERS = {
+    "double": "multistage:design_options", "sequential": "multistage:design_options",
+    "compare-all": "multistage:design_options", "chain": "rectifying:design_options",
+    "single-minimize": "rectifying:design_options", "variables": "variables:design_options",
+    "csp1": "csp:design_options", "csp2": "csp:design_options", "csp3": "csp:design_options",
+}
+
+
 @app.command()
 def design(
     aql: Optional[str] = common.AQL,
@@ -49,39 +59,26 @@ def design(
     from lotwise.core.types import Targets
     from lotwise.families.single import design_single
 
-    if scheme in ("csp1", "csp2", "csp3") or csp_f or csp_i is not None:
-        from .csp import design_cmd as csp_design
+    key = scheme.strip().lower()
+    if key == "single" and (csp_f or csp_i is not None):
+        key = "csp1"  # --f/--i are the continuous plans' options
+    if key == "single" and minimize is not None:
+        key = "single-minimize"
+    if key in DESIGN_HANDLERS:
+        import importlib
 
-        given = (aql, rql, lot, defects, c, n, max_n, sigma, sigma_value, limit, lower, upper,
-                 ratio, truncate, plot)
-        return csp_design(scheme=scheme, aoql=aoql, f_values=csp_f, i=csp_i, minimize=minimize,
-                          process_average=process_average, model=model, as_json=as_json,
-                          unused=given)
-    if scheme == "variables":
-        from .variables import design_cmd
-
-        return design_cmd(aql=aql, rql=rql, alpha=alpha, beta=beta, sigma=sigma,
-                          sigma_value=sigma_value, limit=limit, lower=lower, upper=upper,
-                          max_n=max_n, lot=lot, model=model, defects=defects, c=c, n=n,
-                          as_json=as_json)
-    if scheme in ("double", "sequential", "compare-all"):
-        from .multistage import design_other
-
-        return design_other(scheme=scheme, aql=aql, rql=rql, alpha=alpha, beta=beta, lot=lot,
-                            model=model, defects=defects, n=n, c=c, max_n=max_n, ratio=ratio,
-                            minimize=minimize, truncate=truncate, plot=plot, force=force,
-                            as_json=as_json)
-    if scheme not in ("single", "chain"):
-        raise InputError(f"--scheme ({scheme}) must be one of: single, double, sequential, "
-                         "compare-all, chain, variables, csp1, csp2, csp3")
-    if minimize is not None or scheme == "chain":
-        from . import rectifying as rect_cli
-
-        return rect_cli.design_dispatch(
-            scheme=scheme, minimize=minimize, aql=aql, rql=rql, alpha=alpha, beta=beta, lot=lot,
-            model=model, defects=defects, c=c, n=n, max_n=max_n,
-            process_average=process_average, aoql=aoql, aoq_formula=aoq_formula,
-            as_json=as_json)
+        module, func = DESIGN_HANDLERS[key].split(":")
+        handler = getattr(importlib.import_module(f"{__package__}.{module}"), func)
+        return handler(scheme=scheme.strip().lower(), aql=aql, rql=rql,
+                       alpha=alpha, beta=beta, lot=lot, model=model, defects=defects, c=c, n=n,
+                       max_n=max_n, minimize=minimize, process_average=process_average,
+                       aoql=aoql, aoq_formula=aoq_formula, sigma=sigma,
+                       sigma_value=sigma_value, limit=limit, lower=lower, upper=upper,
+                       ratio=ratio, truncate=truncate, plot=plot, force=force, csp_f=csp_f,
+                       csp_i=csp_i, as_json=as_json)
+    if key != "single":
+        raise InputError(f"--scheme ({scheme}) must be one of: single, "
+                         + ", ".join(k for k in DESIGN_HANDLERS if k != "single-minimize"))
     for name, val in (("--process-average", process_average), ("--aoql", aoql)):
         if val is not None:
             raise InputError(f"{name} ({val}) needs --minimize ati")

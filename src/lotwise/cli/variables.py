@@ -507,3 +507,12 @@ def render_judge(rep: dict, plan) -> str:
         lines.append(f"  wrote {rep['plot']}")
     lines.append(f"  - {SAFETY}")
     return "\n".join(lines)
+
+
+def design_options(*, aql, rql, alpha, beta, sigma, sigma_value, limit, lower, upper, max_n,
+                   lot, model, defects, c, n, as_json, **_others):
+    """:func:`design_cmd` called with every design option."""
+    return design_cmd(aql=aql, rql=rql, alpha=alpha, beta=beta, sigma=sigma,
+                      sigma_value=sigma_value, limit=limit, lower=lower, upper=upper,
+                      max_n=max_n, lot=lot, model=model, defects=defects, c=c, n=n,
+                      as_json=as_json)
