@@ -146,25 +146,23 @@ def check(
 
         raise typer.Exit(check_folder(paths, as_json))
     p = common.plan_from(plan, n, c)
-    if p.scheme in ("csp1", "csp2", "csp3"):
-        from .csp import check_cmd as csp_check
+    if p.evaluation == "flow":  # continuous sampling: long-run figures at --at levels
+        from .csp import check_cmd as flow_check
 
-        return csp_check(p, at=at, run_length=run_length, model=model, as_json=as_json,
-                         unused={"--aql": aql, "--rql": rql, "--lot-size": lot,
-                                 "--defects": defects, "--aoq-formula": aoq_formula,
-                                 "--skip-lot": skip_lot, "--aoq-plot": aoq_plot})
+        return flow_check(p, at=at, run_length=run_length, model=model, as_json=as_json,
+                          unused={"--aql": aql, "--rql": rql, "--lot-size": lot,
+                                  "--defects": defects, "--aoq-formula": aoq_formula,
+                                  "--skip-lot": skip_lot, "--aoq-plot": aoq_plot})
     for opt, val in (("--at", at), ("--run-length", run_length)):
         if val:
             raise InputError(f"{opt} ({val if opt == '--run-length' else ', '.join(val)}) "
                              "applies to continuous sampling plans (csp1, csp2, csp3)")
-    if p.scheme == "variables":
-        from .variables import check_cmd
-
-        return check_cmd(p, aql=aql, rql=rql, alpha=alpha, beta=beta, as_json=as_json)
-    if p.scheme == "skiplot":  # "skiplot: n=..,c=..,i=..,f=.." = reference plan + --skip-lot
+    p, layer = p.audit_parts()  # a skip-lot plan: its reference plan with --skip-lot
+    if layer is not None:
         if skip_lot is not None:
-            raise InputError("--skip-lot cannot be combined with a skiplot --plan")
-        p, skip_lot = p.reference, (p.i, p.f)
+            raise InputError(f"--skip-lot ({skip_lot}) cannot be combined with a skip-lot "
+                             "--plan")
+        skip_lot = layer
     a, r = common.levels(aql, rql, defects)
     al, be = common.risks(alpha, beta)
     scope, mdl = common.scope_and_model(lot, defects, model)
@@ -212,18 +210,18 @@ def oc_table(
     from lotwise.analysis.assess import oc_table
 
     p = common.plan_from(plan, n, c)
-    if p.scheme in ("csp1", "csp2", "csp3"):
-        from .csp import oc_cmd as csp_oc
+    if p.evaluation == "flow":  # continuous sampling: AFI, AOQ and pa per produced unit
+        from .csp import oc_cmd as flow_oc
 
-        return csp_oc(p, max_p=max_p, points=points, at=at, csv=csv, plot=plot, model=model,
-                      force=force, as_json=as_json,
-                      unused={"--lot-size": lot, "--defects": defects, "--aql": aql,
-                              "--rql": rql})
-    if p.scheme == "variables":
-        from .variables import oc_cmd
+        return flow_oc(p, max_p=max_p, points=points, at=at, csv=csv, plot=plot, model=model,
+                       force=force, as_json=as_json,
+                       unused={"--lot-size": lot, "--defects": defects, "--aql": aql,
+                               "--rql": rql})
+    if p.evaluation == "process":  # a measured process: the plan's own normal-theory OC
+        from .variables import oc_cmd as process_oc
 
-        return oc_cmd(p, max_p=max_p, points=points, at=at, aql=aql, rql=rql, csv=csv,
-                      plot=plot, force=force, as_json=as_json)
+        return process_oc(p, max_p=max_p, points=points, at=at, aql=aql, rql=rql, csv=csv,
+                          plot=plot, force=force, as_json=as_json)
     scope, mdl = common.scope_and_model(lot, defects, model)
     p.check_scope(scope)
     a, r = common.levels(aql, rql, defects, need=False)

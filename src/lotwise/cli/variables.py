@@ -161,30 +161,6 @@ def _risks(plan, a, r):
     return float(plan.pa(a, envelope="lower")), float(plan.pa(r, envelope="upper"))
 
 
-def check_cmd(plan, *, aql, rql, alpha, beta, as_json):
-    """``lotwise check --plan "variables: ..."``: exit 0 when it meets both risks."""
-    from lotwise.core.quantities import format_level
-
-    a, r = common.levels(aql, rql, False)
-    al, be = common.risks(alpha, beta)
-    if not r > a:
-        common.fail(f"the RQL ({format_level(r)}) must be above the AQL ({format_level(a)})", 1,
-                    {"feasible": False, "reason": "rql must be above aql"}, as_json)
-    from lotwise.analysis.assess import assess
-    from lotwise.core.types import Scope, Targets
-
-    rep = assess(plan, Targets(aql=a, rql=r, alpha=al, beta=be), Scope()).to_json()
-    meets = rep["meets"]
-    if as_json:
-        common.emit_json(rep)
-    else:
-        from lotwise.analysis.report import render_assessment
-
-        verdict = "meets both targets" if meets else "FALLS SHORT"
-        typer.echo(render_assessment(rep, f"Audit of the variables plan {plan.label}: {verdict}"))
-    raise typer.Exit(0 if meets else 1)
-
-
 def oc_cmd(plan, *, max_p, points, at, aql, rql, csv, plot, force, as_json):
     """``lotwise oc --plan "variables: ..."``: the exact OC table (and plot)."""
     import numpy as np

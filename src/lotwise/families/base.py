@@ -186,6 +186,10 @@ class Plan(ABC):
     #: scheme may be built over such a plan); False for plans that carry
     #: state from lot to lot (chain, skip-lot).
     lot_by_lot: ClassVar[bool] = True
+    #: What the plan's figures are per: ``"lot"`` (risks at the AQL and RQL of lots),
+    #: ``"process"`` (a measured process: variables plans) or ``"flow"`` (long-run
+    #: figures of units flowing past a station: continuous sampling).
+    evaluation: ClassVar[str] = "lot"
     #: True when the plan has a curtailed-inspection ASN (``asn_curtailed``).
     has_curtailment: ClassVar[bool] = False
     #: How :meth:`aoq_count` computes the finite-lot AOQ, in words for reports.
@@ -328,6 +332,11 @@ class Plan(ABC):
         pa = np.asarray(self.pa_count(d, scope), dtype=float)
         used = np.asarray(self.asn_count(d, scope), dtype=float)
         return finish(used + (1.0 - pa) * (N - used), clip=False)
+
+    def audit_parts(self):
+        """``(plan, skip)``: the plan a check judges and a skip-lot layer
+        ``(i, f)`` over it (None); a skip-lot plan answers with its reference."""
+        return self, None
 
     def describe(self) -> list[str]:
         """The plan's rule in words, one or more lines for reports."""

@@ -228,6 +228,7 @@ class CspPlan(Plan):
     scheme: ClassVar[str] = ""
     title: ClassVar[str] = ""
     varying_sample: ClassVar[bool] = True
+    evaluation: ClassVar[str] = "flow"
     finite_aoq_text: ClassVar[str] = ("AOQ = p (1 - f) pa per produced unit; nonconforming "
                                       "units found are replaced")
 

@@ -104,6 +104,9 @@ class SkipLotPlan(Plan):
     def max_sample(self) -> int:
         return int(self.reference.max_sample)
 
+    def audit_parts(self):
+        return self.reference, (self.i, self.f)
+
     def notation(self) -> str:
         ref = self.reference.notation().split(": ", 1)[-1]
         return f"skiplot: {ref},i={self.i},f={self.f!r}"

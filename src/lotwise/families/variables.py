@@ -692,6 +692,7 @@ class VariablesPlan(Plan):
 
     # -- the plan interface: a process curve under the plan's own models --------
     attribute_plan = False
+    evaluation = "process"
 
     def models_for(self, scope) -> tuple[str, ...]:
         return self.models
@@ -701,6 +702,9 @@ class VariablesPlan(Plan):
 
     def check_scope(self, scope) -> None:
         """Variables plans sample a normal process; the lot size does not enter."""
+        if scope is not None and scope.defects:
+            raise InputError("--defects does not apply to a variables plan: it judges a "
+                             "fraction nonconforming from measurements")
 
     def risks(self, targets, scope, model: str):
         """Risks at the targets; a two-limit band is judged at its worst edge
