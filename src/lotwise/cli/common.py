@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import json
-import math
 import sys
 
 import typer
@@ -48,15 +47,9 @@ def risks(alpha, beta):
 
 def _clean(obj):
     """JSON-safe copy: numpy scalars to Python, NaN/inf to None."""
-    if isinstance(obj, dict):
-        return {str(k): _clean(v) for k, v in obj.items()}
-    if isinstance(obj, (list, tuple)):
-        return [_clean(v) for v in obj]
-    if hasattr(obj, "item") and not isinstance(obj, (str, bytes)):
-        obj = obj.item()
-    if isinstance(obj, float) and not math.isfinite(obj):
-        return None
-    return obj
+    from lotwise.analysis.outputs import json_safe
+
+    return json_safe(obj)
 
 
 def emit_json(obj: dict) -> None:

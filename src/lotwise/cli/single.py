@@ -7,7 +7,7 @@ from typing import List, Optional
 import typer
 
 from . import app, common
-from lotwise.core.quantities import InputError, Infeasible, parse_count, parse_level
+from lotwise.core.quantities import InputError, Infeasible, parse_count
 
 
 def _scope_and_model(lot, defects, model):
@@ -229,39 +229,16 @@ def _levels_out_of_order(a, r, defects, as_json):
 
 
 def _grid(p, scope, mdl, max_p, points, at, rql):
-    import numpy as np
+    from lotwise.analysis.outputs import attribute_grid
 
-    from lotwise.analysis.audit import quality_at
-
-    if at:
-        vals = []
-        for item in at:
-            for part in str(item).split(","):
-                if part.strip():
-                    vals.append(parse_level(part, "--at", per_unit=scope.defects))
-        return np.array(vals, dtype=float)
-    k = parse_count(points, "--points", minimum=2, maximum=100_000)
-    if max_p is not None:
-        top = parse_level(max_p, "--max-p", per_unit=scope.defects)
-    else:
-        top = quality_at(p, 0.01, mdl, scope, "consumer")
-        if rql is not None:
-            top = max(top, 1.25 * rql)
-        top = _nice(min(top, 1.0) if not scope.defects else top)
-    return np.linspace(0.0, top, k)
+    return attribute_grid(p, scope, mdl, max_p=max_p, points=points, at=at, rql=rql)
 
 
 def _nice(x: float) -> float:
     """Round up to 1, 2, 2.5 or 5 times a power of ten."""
-    import math
+    from lotwise.analysis.outputs import nice
 
-    if x <= 0:
-        return 1.0
-    e = math.floor(math.log10(x))
-    for m in (1, 2, 2.5, 5, 10):
-        if m * 10**e >= x * (1 - 1e-12):
-            return min(m * 10**e, 1.0) if x <= 1 else m * 10**e
-    return 10 ** (e + 1)
+    return nice(x)
 
 
 @app.command("oc")
@@ -283,7 +260,7 @@ def oc_table(
     as_json: bool = common.JSON,
 ):
     """OC table: exact and Poisson acceptance probabilities side by side."""
-    from lotwise.analysis.assess import oc_table
+    from lotwise.analysis.outputs import attribute_oc
 
     p = _plan_from(plan, n, c)
     if p.scheme in ("csp1", "csp2", "csp3"):
@@ -304,7 +281,8 @@ def oc_table(
     if plot is not None and not plot.lower().endswith((".png", ".svg", ".pdf")):
         raise InputError(f"--plot ({plot}) must end in .png, .svg or .pdf")
     ps = _grid(p, scope, mdl, max_p, points, at, r)
-    header, rows = oc_table(p, scope, mdl, ps)
+    out = attribute_oc(p, scope, mdl, ps)
+    header, rows = out["columns"], out["rows"]
     if csv is not None:
         common.write_csv(csv, header, rows, force=force)
     if plot is not None:
@@ -321,9 +299,7 @@ def oc_table(
             fig = oc_figure([(p, scope)], models=scope.models, aql=a, rql=r, max_p=top)
         save_figure(fig, plot, force=force, option="--plot")
     if as_json:
-        common.emit_json({"scheme": p.scheme, "n": None, "c": None, **p.to_dict(),
-                          "lot_size": scope.lot_size, "model": mdl, "columns": header,
-                          "rows": rows})
+        common.emit_json(out)
     elif csv != "-":
         nm = len(scope.models)
         shown = [[_fmt_level(row[0], defects)] + [f"{v:.5f}" for v in row[1:1 + nm]]
