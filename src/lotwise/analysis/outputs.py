@@ -34,7 +34,7 @@ import numpy as np
 from lotwise.core.quantities import parse_count, parse_level
 
 __all__ = ["json_safe", "nice", "attribute_grid", "attribute_oc", "variables_oc", "csp_grid",
-           "csp_oc", "csp_check", "parse_at"]
+           "csp_oc", "csp_check", "parse_at", "csv_cell", "csv_text"]
 
 #: Largest number of grid points of an OC table (``--points``).
 MAX_POINTS = 100_000
@@ -51,6 +51,19 @@ def json_safe(obj):
     if isinstance(obj, float) and not math.isfinite(obj):
         return None
     return obj
+
+
+def csv_cell(v) -> str:
+    """A number as CSV text: whole numbers plainly, floats to full precision."""
+    if isinstance(v, int):
+        return str(v)
+    return repr(float(v)) if v != 0 else "0"
+
+
+def csv_text(header, rows, cell=csv_cell) -> str:
+    """A table as the CSV text ``--csv`` writes."""
+    return ",".join(header) + "\n" + "".join(
+        ",".join(cell(v) for v in row) + "\n" for row in rows)
 
 
 def nice(x: float) -> float:

@@ -38,6 +38,7 @@ COMMANDS = {
     "next": "multistage", "judge": "variables",
     "records": "records", "supplier": "records", "tradeoff": "records",
     "batch": "batch", "validate": "validate",
+    "serve": "serve",
 }
 
 

@@ -79,15 +79,16 @@ def table(rows, header, indent: str = "  ") -> str:
 
 def csv_cell(v) -> str:
     """A number as CSV text: whole numbers plainly, floats to full precision."""
-    if isinstance(v, int):
-        return str(v)
-    return repr(float(v)) if v != 0 else "0"
+    from lotwise.analysis.outputs import csv_cell as cell
+
+    return cell(v)
 
 
 def write_csv(dest: str, header, rows, *, force: bool, cell=csv_cell) -> None:
     """Table to ``dest`` (a path, written safely, or ``-`` for stdout)."""
-    text = ",".join(header) + "\n" + "".join(
-        ",".join(cell(v) for v in row) + "\n" for row in rows)
+    from lotwise.analysis.outputs import csv_text
+
+    text = csv_text(header, rows, cell)
     if dest == "-":
         typer.echo(text, nl=False)
     else:
