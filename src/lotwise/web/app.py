@@ -34,15 +34,13 @@ import ipaddress
 import json
 import re
 import threading
-from concurrent.futures import ThreadPoolExecutor
-from concurrent.futures import TimeoutError as FutureTimeout
 from importlib import resources
 
 from flask import Flask, Response, request
 
 from lotwise.analysis.outputs import json_safe
 from lotwise.core.quantities import InputError
-from lotwise.web import commands, downloads, plans
+from lotwise.web import commands
 from lotwise.web.query import MAX_QUERY, Query
 
 __all__ = ["create_app", "is_loopback", "make_server", "ENDPOINTS"]
@@ -59,20 +57,20 @@ _TRADEOFF = {"aql", "rql", "alpha", "beta", "lot_size", "model", "process_averag
 _OUTLOOK = {"plan", "process_average", "deliveries_per_year", "defects"}
 _SHEET = _DESIGN | {"plan", "part", "supplier"}
 
-#: ``name -> (function, allowed parameters, repeatable parameters)``.
+#: ``name -> (task in lotwise.web.workers.TASKS, allowed parameters, repeatable ones)``.
 ENDPOINTS = {
-    "design": (commands.design, _DESIGN, ("f",)),
-    "check": (plans.check, _CHECK, ("at",)),
-    "oc": (plans.oc, _OC, ("at",)),
-    "compare": (plans.compare, _COMPARE, ("plan",)),
-    "tradeoff": (plans.tradeoff, _TRADEOFF, ()),
-    "outlook": (plans.outlook, _OUTLOOK, ("plan",)),
+    "design": ("design", _DESIGN, ("f",)),
+    "check": ("check", _CHECK, ("at",)),
+    "oc": ("oc", _OC, ("at",)),
+    "compare": ("compare", _COMPARE, ("plan",)),
+    "tradeoff": ("tradeoff", _TRADEOFF, ()),
+    "outlook": ("outlook", _OUTLOOK, ("plan",)),
 }
 DOWNLOADS = {
-    "sheet.pdf": (lambda q: downloads.sheet(q, "pdf"), _SHEET, ("f",)),
-    "sheet.md": (lambda q: downloads.sheet(q, "md"), _SHEET, ("f",)),
-    "plan.toml": (downloads.plan_file, _SHEET, ("f",)),
-    "oc.csv": (downloads.oc_csv, _OC, ("at",)),
+    "sheet.pdf": ("sheet.pdf", _SHEET, ("f",)),
+    "sheet.md": ("sheet.md", _SHEET, ("f",)),
+    "plan.toml": ("plan.toml", _SHEET, ("f",)),
+    "oc.csv": ("oc.csv", _OC, ("at",)),
 }
 STATIC = {"app.js": "text/javascript; charset=utf-8", "style.css": "text/css; charset=utf-8",
           "index.html": "text/html; charset=utf-8"}
@@ -139,40 +137,75 @@ def input_error_body(message: str, q_values: dict) -> dict:
 
 
 class _Runner:
-    """At most ``slots`` computations at once, each with a time budget.
+    """Computations run in ``slots`` worker processes, each request with a
+    time budget.
 
-    A computation that overruns its budget is answered 503 and finishes in
-    the background, keeping its slot until it does; a request that finds
-    every slot taken for ``wait`` seconds is answered 503 at once.
+    A worker that overruns the budget is killed (its request is answered 503)
+    and a fresh one takes its place, so no request can hold the machine
+    longer than its budget; a request that finds every worker busy for
+    ``wait`` seconds is answered 503. Each worker's address space is capped
+    at :data:`WORKER_MEMORY` bytes.
     """
 
-    def __init__(self, slots: int = 2, budget: float = 10.0, wait: float = 2.0):
-        self.pool = ThreadPoolExecutor(max_workers=slots, thread_name_prefix="lotwise-web")
-        self.slots = threading.BoundedSemaphore(slots)
-        self.budget, self.wait = budget, wait
+    def __init__(self, slots: int = 2, budget: float = 10.0, wait: float = 5.0):
+        import queue
 
-    def run(self, func, q):
-        if not self.slots.acquire(timeout=self.wait):
-            raise Busy("the server is busy with other requests; try again in a moment")
+        self.budget, self.wait, self.slots = budget, wait, slots
+        self.idle: queue.Queue = queue.Queue()
+        self.started = False
+        self.lock = threading.Lock()
+
+    def _spawn(self) -> None:
+        """Start a worker; it joins the idle queue once it has loaded lotwise."""
+        from lotwise.web import workers
+
+        def start():
+            w = workers.Worker()
+            if w.ready(timeout=60):
+                self.idle.put(w)
+            else:  # could not start: try again later
+                w.kill()
+                threading.Timer(1.0, self._spawn).start()
+
+        threading.Thread(target=start, daemon=True).start()
+
+    def run(self, task: str, values: dict):
+        import queue
+
+        from lotwise.web import workers
+
+        with self.lock:
+            if not self.started:
+                self.started = True
+                for _ in range(self.slots):
+                    self._spawn()
         try:
-            fut = self.pool.submit(func, q)
-        except BaseException:
-            self.slots.release()
-            raise
-        fut.add_done_callback(lambda _f: self.slots.release())
+            w = self.idle.get(timeout=self.wait)
+        except queue.Empty:
+            raise Busy("the server is busy with other requests; try again in a moment") \
+                from None
         try:
-            return fut.result(timeout=self.budget)
-        except FutureTimeout:
+            result = w.call(task, values, self.budget)
+        except workers.Overrun:
+            w.kill()
+            self._spawn()
             raise Busy(f"the request needs more than its time budget of {self.budget:g} s; "
                        "ask for less (a smaller lot, fewer points, a looser RQL/AQL "
                        "ratio)") from None
+        except workers.Lost as exc:
+            w.kill()
+            self._spawn()
+            raise RuntimeError(str(exc)) from None
+        self.idle.put(w)
+        return workers.unpack(result)
 
 
 def _static(name: str) -> bytes:
     return resources.files("lotwise.web").joinpath("static", name).read_bytes()
 
 
-def create_app(*, budget: float = 10.0, slots: int = 2, remote: bool = False) -> Flask:
+def create_app(*, budget: float = 10.0, slots: int = 2, remote: bool = False,
+               wait: float = 5.0) -> Flask:
     """The Flask application.
 
     Parameters
@@ -189,7 +222,8 @@ def create_app(*, budget: float = 10.0, slots: int = 2, remote: bool = False) ->
     """
     app = Flask("lotwise.web", static_folder=None)
     app.config["MAX_CONTENT_LENGTH"] = 1024
-    runner = _Runner(slots=slots, budget=budget)
+    runner = _Runner(slots=slots, budget=budget, wait=wait)
+    app.extensions["lotwise_runner"] = runner
     assets = {name: _static(name) for name in STATIC}
 
     @app.before_request
@@ -224,13 +258,13 @@ def create_app(*, budget: float = 10.0, slots: int = 2, remote: bool = False) ->
         if name not in table:
             return None, _json({"error": "not found", "message": f"no such endpoint: "
                                 f"{name[:40]}; known: {', '.join(table)}"}, 404)
-        func, allowed, repeatable = table[name]
+        task, allowed, repeatable = table[name]
         q_values = {}
         try:
             q = Query.parse(list(request.args.items(multi=True)), allowed, repeatable,
                             request.path)
             q_values = q.values
-            return runner.run(func, q), None
+            return runner.run(task, q.values), None
         except InputError as exc:
             return None, _json(input_error_body(str(exc), q_values or
                                                 request.args.to_dict(flat=False)), 400, 2)
