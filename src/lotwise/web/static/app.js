@@ -126,10 +126,10 @@ function showError(body, fallbackField) {
 function riskTable(rep) {
   const rows = Object.entries(rep.models || {}).map(([m, r]) => [
     m + (m === rep.model ? " *" : ""), fmtPa(r.pa_aql), fmtPct(r.alpha),
-    fmtPa(r.pa_rql), fmtPct(r.beta), r.meets ? "yes" : "NO"]);
+    fmtPct(r.beta), r.meets ? "yes" : "NO"]);
   const box = el("div");
-  box.append(table(["model", "Pa(AQL)", "α", "Pa(RQL)", "β", "meets"], rows),
-    el("p", {class: "note"}, `* the model the plan is judged by. Targets: α ${fmtPct(rep.targets.alpha)} at the AQL, β ${fmtPct(rep.targets.beta)} at the RQL.`));
+  box.append(table(["model", "Pa(AQL)", "α", "β", "meets"], rows),
+    el("p", {class: "note"}, `* the model the plan is judged by; β is Pa at the RQL. Targets: α at most ${fmtPct(rep.targets.alpha)} at the AQL, β at most ${fmtPct(rep.targets.beta)} at the RQL.`));
   return box;
 }
 function facts(rep) {
