@@ -78,8 +78,8 @@ from lotwise.core.types import Scope
 from lotwise.families.single import SinglePlan
 from lotwise.core.quantities import InputError, Infeasible, parse_level
 
-__all__ = ["PRIORS", "Posterior", "Outlook", "rejection_outlook", "parse_levels",
-           "TradeoffRow", "tradeoff"]
+__all__ = ["PRIORS", "Posterior", "Outlook", "rejection_outlook", "rejection_at",
+           "parse_levels", "TradeoffRow", "tradeoff"]
 
 #: Priors by name: ``name -> (a0, b0, description)``.
 PRIORS = {
@@ -249,6 +249,42 @@ def rejection_outlook(plan, posterior: Posterior, *, deliveries_per_year: int | 
         out.update(deliveries_per_year=L, rejected_per_year=L * p_rej,
                    rejected_interval=(quant(t), quant(1.0 - t)))
     return Outlook(**out)
+
+
+def rejection_at(plan, process_average: float, *, per_unit: bool = False,
+                 deliveries_per_year: int | None = None) -> dict:
+    """Share of a supplier's lots ``plan`` rejects at a known process average.
+
+    Lots come from the process, so the sample count is binomial whatever the
+    lot size (the type B OC curve; Poisson for nonconformities per unit); a
+    variables plan uses its own exact OC. This is the plug-in figure of
+    :func:`rejection_outlook` (``p_reject_at_estimate``) and the
+    ``supplier_p_reject`` of :func:`tradeoff`. A continuous sampling plan
+    has no lots to reject: :class:`InputError`.
+
+    Returns
+    -------
+    dict
+        ``label``, ``notation``, ``scheme``, ``pa``, ``p_reject`` and
+        ``rejected_per_year`` (``deliveries_per_year * p_reject``, or None).
+    """
+    if plan.scheme in ("csp1", "csp2", "csp3"):
+        raise InputError(f"--plan ({plan.label}) is a continuous sampling plan: it passes "
+                         "units, not lots, so no lot is rejected")
+    if plan.attribute_plan:
+        model = "poisson" if per_unit else "binomial"
+        pa = float(plan.pa(process_average, model, Scope(defects=per_unit)))
+    else:
+        if per_unit:
+            raise InputError(f"--plan ({plan.label}) judges a fraction nonconforming; "
+                             "nonconformities per unit do not apply")
+        model = plan.exact_model
+        pa = float(plan.pa(process_average))
+    p_rej = min(1.0, max(0.0, 1.0 - pa))
+    return {"label": plan.label, "notation": plan.notation(), "scheme": plan.scheme,
+            "model": model, "pa": pa, "p_reject": p_rej,
+            "rejected_per_year": (None if deliveries_per_year is None
+                                  else deliveries_per_year * p_rej)}
 
 
 # --- ranges and lists of levels -----------------------------------------------

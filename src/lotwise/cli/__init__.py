@@ -39,6 +39,7 @@ COMMANDS = {
     "records": "records", "supplier": "records", "tradeoff": "records",
     "batch": "batch", "validate": "validate",
     "scheme": "scheme",
+    "serve": "serve",
 }
 
 

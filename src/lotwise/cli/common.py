@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import json
-import math
 import sys
 
 import typer
@@ -48,15 +47,9 @@ def risks(alpha, beta):
 
 def _clean(obj):
     """JSON-safe copy: numpy scalars to Python, NaN/inf to None."""
-    if isinstance(obj, dict):
-        return {str(k): _clean(v) for k, v in obj.items()}
-    if isinstance(obj, (list, tuple)):
-        return [_clean(v) for v in obj]
-    if hasattr(obj, "item") and not isinstance(obj, (str, bytes)):
-        obj = obj.item()
-    if isinstance(obj, float) and not math.isfinite(obj):
-        return None
-    return obj
+    from lotwise.analysis.outputs import json_safe
+
+    return json_safe(obj)
 
 
 def emit_json(obj: dict) -> None:
@@ -86,15 +79,16 @@ def table(rows, header, indent: str = "  ") -> str:
 
 def csv_cell(v) -> str:
     """A number as CSV text: whole numbers plainly, floats to full precision."""
-    if isinstance(v, int):
-        return str(v)
-    return repr(float(v)) if v != 0 else "0"
+    from lotwise.analysis.outputs import csv_cell as cell
+
+    return cell(v)
 
 
 def write_csv(dest: str, header, rows, *, force: bool, cell=csv_cell) -> None:
     """Table to ``dest`` (a path, written safely, or ``-`` for stdout)."""
-    text = ",".join(header) + "\n" + "".join(
-        ",".join(cell(v) for v in row) + "\n" for row in rows)
+    from lotwise.analysis.outputs import csv_text
+
+    text = csv_text(header, rows, cell)
     if dest == "-":
         typer.echo(text, nl=False)
     else:
@@ -146,40 +140,17 @@ def levels_out_of_order(a, r, defects, as_json):
 
 
 def level_grid(p, scope, mdl, max_p, points, at, rql):
-    """Quality levels of an OC table: the ``--at`` values, or ``--points``
-    levels from 0 to ``--max-p`` (default: where ``Pa`` falls to 1 %, at
-    least 1.25 RQL, rounded up by :func:`nice`)."""
-    import numpy as np
+    """Quality levels of an OC table (see :func:`lotwise.analysis.outputs.attribute_grid`)."""
+    from lotwise.analysis.outputs import attribute_grid
 
-    from lotwise.analysis.audit import quality_at
-
-    if at:
-        vals = []
-        for item in at:
-            for part in str(item).split(","):
-                if part.strip():
-                    vals.append(parse_level(part, "--at", per_unit=scope.defects))
-        return np.array(vals, dtype=float)
-    k = parse_count(points, "--points", minimum=2, maximum=100_000)
-    if max_p is not None:
-        top = parse_level(max_p, "--max-p", per_unit=scope.defects)
-    else:
-        top = quality_at(p, 0.01, mdl, scope, "consumer")
-        if rql is not None:
-            top = max(top, 1.25 * rql)
-        top = nice(min(top, 1.0) if not scope.defects else top)
-    return np.linspace(0.0, top, k)
+    return attribute_grid(p, scope, mdl, max_p=max_p, points=points, at=at, rql=rql)
 
 
 def nice(x: float) -> float:
-    """Round up to 1, 2, 2.5 or 5 times a power of ten."""
-    if x <= 0:
-        return 1.0
-    e = math.floor(math.log10(x))
-    for m in (1, 2, 2.5, 5, 10):
-        if m * 10**e >= x * (1 - 1e-12):
-            return min(m * 10**e, 1.0) if x <= 1 else m * 10**e
-    return 10 ** (e + 1)
+    """Round up to 1, 2, 2.5 or 5 times a power of ten (see :func:`lotwise.analysis.outputs.nice`)."""
+    from lotwise.analysis.outputs import nice as _nice
+
+    return _nice(x)
 
 
 def fmt_level(x: float, per_unit: bool) -> str:

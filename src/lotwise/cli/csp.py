@@ -7,7 +7,6 @@ when the plan is a CSP plan; the library side is :mod:`lotwise.families.csp`.
 
 from __future__ import annotations
 
-import math
 import os
 
 import typer
@@ -139,44 +138,15 @@ def _procedure(plan) -> str:
 
 # --- check and oc ---------------------------------------------------------------------
 
-def _levels(at) -> list[float]:
-    out = []
-    for item in at or []:
-        for part in str(item).split(","):
-            if part.strip():
-                out.append(parse_level(part, "--at"))
-    return out
-
-
-def _level_row(plan, p: float) -> dict:
-    runs = plan.phase_runs(p)
-    return {"p": p, "afi": float(plan.afi(p)), "aoq": float(plan.aoq(p)),
-            "pa": float(plan.pa(p)),
-            "runs": {k: (None if math.isinf(v) else v) for k, v in runs.items()}}
-
-
 def check_cmd(plan, *, at, run_length, model, unused, as_json):
     """``lotwise check --plan "csp1: ..."``: long-run AFI, AOQ and pa at each
     ``--at`` level (default: where the AOQL occurs), the AOQL, and with
     ``--run-length M`` the short-run figures beside them."""
-    from lotwise.families.csp import MAX_RUN
-
     _refuse(plan.scheme, unused)
     _model(model)
-    ps = _levels(at)
-    M = parse_count(run_length, "--run-length", minimum=1, maximum=MAX_RUN) \
-        if run_length is not None else None
-    value, where = plan.aoql()
-    if not ps:
-        ps = [where] if where > 0 else []
-    levels = [_level_row(plan, p) for p in ps]
-    if M is not None and ps:
-        afi, pa, aoq = plan.run_figures(ps, M)
-        for row, a, s, o in zip(levels, afi, pa, aoq):
-            row.update({"run_afi": float(a), "run_aoq": float(o), "run_pa": float(s)})
-    out = {**plan.to_dict(), "aoql": value, "aoql_p": where, "levels": levels}
-    if M is not None:
-        out["run_length"] = M
+    from lotwise.analysis.outputs import csp_check
+
+    out = csp_check(plan, at=at, run_length=run_length)
     if as_json:
         common.emit_json(out)
         return
@@ -219,46 +189,21 @@ def _units(x) -> str:
     return "never ends" if x is None else f"{x:,.1f}"
 
 
-def _nice(x: float) -> float:
-    """Round up to 1, 2, 2.5 or 5 times a power of ten (at most 1)."""
-    if x <= 0:
-        return 1.0
-    e = math.floor(math.log10(x))
-    for m in (1, 2, 2.5, 5, 10):
-        if m * 10**e >= x * (1 - 1e-12):
-            return min(m * 10**e, 1.0)
-    return 1.0
-
-
 def oc_cmd(plan, *, max_p, points, at, csv, plot, model, unused, force, as_json):
     """``lotwise oc --plan "csp1: ..."``: columns ``p``, ``afi``, ``aoq``, ``pa``."""
-    import numpy as np
-
-    from lotwise.core.types import Scope
-
     _refuse(plan.scheme, unused)
     _model(model)
     if plot is not None:
         raise InputError(f"--plot ({plot}) is not available for continuous sampling plans; "
                          "use --csv and a plotting tool of your choice")
-    ps = _levels(at)
-    if ps:
-        grid = np.array(ps)
-    else:
-        k = parse_count(points, "--points", minimum=2, maximum=100_000)
-        top = parse_level(max_p, "--max-p") if max_p is not None else \
-            _nice(plan.quality_at(0.01, "binomial", Scope(), "consumer"))
-        grid = np.linspace(0.0, top, k)
-    header = ["p", "afi", "aoq", "pa"]
-    afi, aoq, pa = (np.atleast_1d(plan.afi(grid)), np.atleast_1d(plan.aoq(grid)),
-                    np.atleast_1d(plan.pa(grid)))
-    rows = [[float(p), float(a), float(o), float(s)] for p, a, o, s in zip(grid, afi, aoq, pa)]
+    from lotwise.analysis.outputs import csp_grid, csp_oc
+
+    out = csp_oc(plan, csp_grid(plan, max_p=max_p, points=points, at=at))
+    header, rows, value, where = out["columns"], out["rows"], out["aoql"], out["aoql_p"]
     if csv is not None:
         common.write_csv(csv, header, rows, force=force)
-    value, where = plan.aoql()
     if as_json:
-        common.emit_json({**plan.to_dict(), "model": "binomial", "aoql": value,
-                          "aoql_p": where, "columns": header, "rows": rows})
+        common.emit_json(out)
     elif csv != "-":
         shown = [[_pct(r[0]), _pct(r[1]), _pct(r[2]), f"{r[3]:.5f}"] for r in rows]
         typer.echo(f"AFI and AOQ table for {plan.label} (AOQL "

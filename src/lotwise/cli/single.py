@@ -207,7 +207,7 @@ def oc_table(
     as_json: bool = common.JSON,
 ):
     """OC table: exact and Poisson acceptance probabilities side by side."""
-    from lotwise.analysis.assess import oc_table
+    from lotwise.analysis.outputs import attribute_oc
 
     p = common.plan_from(plan, n, c)
     if p.evaluation == "flow":  # continuous sampling: AFI, AOQ and pa per produced unit
@@ -228,7 +228,8 @@ def oc_table(
     if plot is not None and not plot.lower().endswith((".png", ".svg", ".pdf")):
         raise InputError(f"--plot ({plot}) must end in .png, .svg or .pdf")
     ps = common.level_grid(p, scope, mdl, max_p, points, at, r)
-    header, rows = oc_table(p, scope, mdl, ps)
+    out = attribute_oc(p, scope, mdl, ps)
+    header, rows = out["columns"], out["rows"]
     if csv is not None:
         common.write_csv(csv, header, rows, force=force)
     if plot is not None:
@@ -245,9 +246,7 @@ def oc_table(
             fig = oc_figure([(p, scope)], models=scope.models, aql=a, rql=r, max_p=top)
         save_figure(fig, plot, force=force, option="--plot")
     if as_json:
-        common.emit_json({"scheme": p.scheme, "n": None, "c": None, **p.to_dict(),
-                          "lot_size": scope.lot_size, "model": mdl, "columns": header,
-                          "rows": rows})
+        common.emit_json(out)
     elif csv != "-":
         nm = len(scope.models)
         shown = [[common.fmt_level(row[0], defects)] + [f"{v:.5f}" for v in row[1:1 + nm]]

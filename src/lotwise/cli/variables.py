@@ -165,29 +165,15 @@ def oc_cmd(plan, *, max_p, points, at, aql, rql, csv, plot, force, as_json):
     """``lotwise oc --plan "variables: ..."``: the exact OC table (and plot)."""
     import numpy as np
 
-    from lotwise.core.quantities import parse_count, parse_level
-
     if plot is not None and not plot.lower().endswith((".png", ".svg", ".pdf")):
         raise InputError(f"--plot ({plot}) must end in .png, .svg or .pdf")
     a, r = common.levels(aql, rql, False, need=False)
-    if at:
-        vals = [parse_level(part, "--at") for item in at for part in str(item).split(",")
-                if part.strip()]
-        ps = np.array(vals, dtype=float)
-    else:
-        k = parse_count(points, "--points", minimum=2, maximum=100_000)
-        top = parse_level(max_p, "--max-p") if max_p is not None else _top(plan, r)
-        ps = np.linspace(0.0, top, k)
-    band = plan.limit == "both" and (plan.sigma == "unknown" or plan.width is None)
-    header = ["p", "pa"]
-    cols = [np.asarray(plan.pa(ps), dtype=float)]
-    if band:
-        header.append("pa_lower")
-        cols.append(np.asarray(plan.pa(ps, envelope="lower"), dtype=float))
-    if plan.exact_model == "estimate-simulated":
-        header.append("pa_one_tail_noncentral_t")
-        cols.append(np.asarray(plan.pa(ps, "noncentral-t"), dtype=float))
-    rows = [[float(pv)] + [float(c[i]) for c in cols] for i, pv in enumerate(ps)]
+    from lotwise.analysis.outputs import variables_oc
+
+    out = variables_oc(plan, max_p=max_p, points=points, at=at, rql=r)
+    header, rows = out["columns"], out["rows"]
+    ps = np.array([row[0] for row in rows])
+    band = "pa_lower" in header
     if csv is not None:
         common.write_csv(csv, header, rows, force=force)
     if plot is not None:
@@ -197,12 +183,6 @@ def oc_cmd(plan, *, max_p, points, at, aql, rql, csv, plot, force, as_json):
         fig = variables_oc_figure(plan, aql=a, rql=r, max_p=float(ps.max()) if len(ps) else None)
         save_figure(fig, plot, force=force, option="--plot")
     if as_json:
-        out = {"scheme": "variables", **plan.to_dict(), "columns": header, "rows": rows}
-        if plan.exact_model == "estimate-simulated":
-            from lotwise.families.variables import SPLIT_SHARES
-
-            out["simulation"] = {"reps": 4000, "lower_tail_shares": list(SPLIT_SHARES),
-                                 "se_max": 0.5 / math.sqrt(4000)}
         common.emit_json(out)
     elif csv != "-":
         typer.echo(f"OC table for variables plan {plan.label} (model: {plan.exact_model})")
@@ -216,20 +196,6 @@ def oc_cmd(plan, *, max_p, points, at, aql, rql, csv, plot, force, as_json):
         for path in (csv, plot):
             if path:
                 typer.echo(f"  wrote {path}")
-
-
-def _top(plan, rql):
-    """Right end of the default grid: where Pa has fallen to 1 %, or 1.25 RQL."""
-    lo, hi = 0.0, 1.0
-    for _ in range(60):
-        mid = 0.5 * (lo + hi)
-        if float(plan.pa(mid) if plan.exact_model != "estimate-simulated"
-                 else plan.pa(mid, "noncentral-t")) > 0.01:
-            lo = mid
-        else:
-            hi = mid
-    top = max(1.1 * hi, 1.25 * rql if rql else 0.0)
-    return common.nice(min(top, 1.0))
 
 
 # --- judge -----------------------------------------------------------------------

@@ -1,0 +1,217 @@
+"""What ``lotwise oc`` and ``check`` print for a plan, as library functions.
+
+The command line (:mod:`lotwise.cli`) and the local web API
+(:mod:`lotwise.web`) both build their JSON from these functions, so a
+number served on the page is the number ``--json`` prints:
+
+* :func:`json_safe` -- the JSON-safe copy every ``--json`` goes through
+  (numpy scalars to Python numbers, NaN and infinities to null);
+* :func:`attribute_grid`, :func:`attribute_oc` -- the OC grid and the
+  ``oc --json`` object of an attribute plan (single, double, multiple,
+  sequential, chain, skip-lot);
+* :func:`variables_oc` -- the same for a variables plan;
+* :func:`csp_grid`, :func:`csp_oc`, :func:`csp_check` -- the figures of a
+  continuous sampling plan (CSP-1, CSP-2, CSP-3).
+
+Examples
+--------
+>>> from lotwise.core.types import Scope
+>>> from lotwise.families.base import parse_plan
+>>> plan, scope = parse_plan("n=80,c=2"), Scope()
+>>> ps = attribute_grid(plan, scope, "binomial", points="3")
+>>> [round(float(p), 3) for p in ps]
+[0.0, 0.05, 0.1]
+>>> attribute_oc(plan, scope, "binomial", ps)["columns"]
+['p', 'binomial', 'poisson', 'poisson_minus_exact']
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from lotwise.core.quantities import parse_count, parse_level
+
+__all__ = ["json_safe", "nice", "attribute_grid", "attribute_oc", "variables_oc", "csp_grid",
+           "csp_oc", "csp_check", "parse_at", "csv_cell", "csv_text"]
+
+#: Largest number of grid points of an OC table (``--points``).
+MAX_POINTS = 100_000
+
+
+def json_safe(obj):
+    """JSON-safe copy: numpy scalars to Python, NaN/inf to None."""
+    if isinstance(obj, dict):
+        return {str(k): json_safe(v) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [json_safe(v) for v in obj]
+    if hasattr(obj, "item") and not isinstance(obj, (str, bytes)):
+        obj = obj.item()
+    if isinstance(obj, float) and not math.isfinite(obj):
+        return None
+    return obj
+
+
+def csv_cell(v) -> str:
+    """A number as CSV text: whole numbers plainly, floats to full precision."""
+    if isinstance(v, int):
+        return str(v)
+    return repr(float(v)) if v != 0 else "0"
+
+
+def csv_text(header, rows, cell=csv_cell) -> str:
+    """A table as the CSV text ``--csv`` writes."""
+    return ",".join(header) + "\n" + "".join(
+        ",".join(cell(v) for v in row) + "\n" for row in rows)
+
+
+def nice(x: float) -> float:
+    """Round up to 1, 2, 2.5 or 5 times a power of ten (at most 1 when x <= 1)."""
+    if x <= 0:
+        return 1.0
+    e = math.floor(math.log10(x))
+    for m in (1, 2, 2.5, 5, 10):
+        if m * 10**e >= x * (1 - 1e-12):
+            return min(m * 10**e, 1.0) if x <= 1 else m * 10**e
+    return 10 ** (e + 1)
+
+
+def parse_at(at, *, per_unit: bool = False) -> list[float]:
+    """``--at`` levels: repeatable, each possibly comma-separated."""
+    vals = []
+    for item in at or []:
+        for part in str(item).split(","):
+            if part.strip():
+                vals.append(parse_level(part, "--at", per_unit=per_unit))
+    return vals
+
+
+def attribute_grid(plan, scope, model, *, max_p=None, points="21", at=None, rql=None):
+    """The quality levels of ``oc``: the ``--at`` levels, or ``--points`` levels
+    from 0 to ``--max-p`` (default: where the exact Pa has fallen to 1 %, at
+    least 1.25 RQL, rounded up to a round number)."""
+    from lotwise.analysis.audit import quality_at
+
+    if at:
+        return np.array(parse_at(at, per_unit=scope.defects), dtype=float)
+    k = parse_count(points, "--points", minimum=2, maximum=MAX_POINTS)
+    if max_p is not None:
+        top = parse_level(max_p, "--max-p", per_unit=scope.defects)
+    else:
+        top = quality_at(plan, 0.01, model, scope, "consumer")
+        if rql is not None:
+            top = max(top, 1.25 * rql)
+        top = nice(min(top, 1.0) if not scope.defects else top)
+    return np.linspace(0.0, top, k)
+
+
+def attribute_oc(plan, scope, model, ps) -> dict:
+    """``oc --json`` of an attribute plan at the levels ``ps``."""
+    from lotwise.analysis.assess import oc_table
+
+    header, rows = oc_table(plan, scope, model, ps)
+    return {"scheme": plan.scheme, "n": None, "c": None, **plan.to_dict(),
+            "lot_size": scope.lot_size, "model": model, "columns": header, "rows": rows}
+
+
+def _variables_top(plan, rql):
+    """Right end of the default grid: where Pa has fallen to 1 %, or 1.25 RQL."""
+    lo, hi = 0.0, 1.0
+    for _ in range(60):
+        mid = 0.5 * (lo + hi)
+        if float(plan.pa(mid) if plan.exact_model != "estimate-simulated"
+                 else plan.pa(mid, "noncentral-t")) > 0.01:
+            lo = mid
+        else:
+            hi = mid
+    top = max(1.1 * hi, 1.25 * rql if rql else 0.0)
+    return nice(min(top, 1.0))
+
+
+def variables_oc(plan, *, max_p=None, points="21", at=None, rql=None) -> dict:
+    """``oc --json`` of a variables plan: ``p``, ``pa`` (and ``pa_lower`` for
+    a two-limit band, the one-tail noncentral t beside a simulated OC)."""
+    if at:
+        ps = np.array(parse_at(at), dtype=float)
+    else:
+        k = parse_count(points, "--points", minimum=2, maximum=MAX_POINTS)
+        top = parse_level(max_p, "--max-p") if max_p is not None else _variables_top(plan, rql)
+        ps = np.linspace(0.0, top, k)
+    band = plan.limit == "both" and (plan.sigma == "unknown" or plan.width is None)
+    header = ["p", "pa"]
+    cols = [np.asarray(plan.pa(ps), dtype=float)]
+    if band:
+        header.append("pa_lower")
+        cols.append(np.asarray(plan.pa(ps, envelope="lower"), dtype=float))
+    if plan.exact_model == "estimate-simulated":
+        header.append("pa_one_tail_noncentral_t")
+        cols.append(np.asarray(plan.pa(ps, "noncentral-t"), dtype=float))
+    rows = [[float(pv)] + [float(c[i]) for c in cols] for i, pv in enumerate(ps)]
+    out = {"scheme": "variables", **plan.to_dict(), "columns": header, "rows": rows}
+    if plan.exact_model == "estimate-simulated":
+        from lotwise.families.variables import SPLIT_SHARES
+
+        out["simulation"] = {"reps": 4000, "lower_tail_shares": list(SPLIT_SHARES),
+                             "se_max": 0.5 / math.sqrt(4000)}
+    return out
+
+
+def _csp_nice(x: float) -> float:
+    """Round up to 1, 2, 2.5 or 5 times a power of ten (at most 1)."""
+    return min(nice(x), 1.0)
+
+
+def csp_grid(plan, *, max_p=None, points="21", at=None):
+    """The levels of ``oc`` for a CSP plan (default: up to where the fraction
+    passed under sampling has fallen to 1 %)."""
+    from lotwise.core.types import Scope
+
+    ps = parse_at(at)
+    if ps:
+        return np.array(ps)
+    k = parse_count(points, "--points", minimum=2, maximum=MAX_POINTS)
+    top = parse_level(max_p, "--max-p") if max_p is not None else \
+        _csp_nice(plan.quality_at(0.01, "binomial", Scope(), "consumer"))
+    return np.linspace(0.0, top, k)
+
+
+def csp_oc(plan, grid) -> dict:
+    """``oc --json`` of a CSP plan: columns ``p``, ``afi``, ``aoq``, ``pa``."""
+    header = ["p", "afi", "aoq", "pa"]
+    afi, aoq, pa = (np.atleast_1d(plan.afi(grid)), np.atleast_1d(plan.aoq(grid)),
+                    np.atleast_1d(plan.pa(grid)))
+    rows = [[float(p), float(a), float(o), float(s)] for p, a, o, s in zip(grid, afi, aoq, pa)]
+    value, where = plan.aoql()
+    return {**plan.to_dict(), "model": "binomial", "aoql": value, "aoql_p": where,
+            "columns": header, "rows": rows}
+
+
+def _level_row(plan, p: float) -> dict:
+    runs = plan.phase_runs(p)
+    return {"p": p, "afi": float(plan.afi(p)), "aoq": float(plan.aoq(p)),
+            "pa": float(plan.pa(p)),
+            "runs": {k: (None if math.isinf(v) else v) for k, v in runs.items()}}
+
+
+def csp_check(plan, *, at=None, run_length=None) -> dict:
+    """``check --json`` of a CSP plan: the long-run figures at each ``--at``
+    level (default: where the AOQL occurs), the AOQL, and with ``run_length``
+    the short-run figures of that many units beside them."""
+    from lotwise.families.csp import MAX_RUN
+
+    ps = parse_at(at)
+    M = parse_count(run_length, "--run-length", minimum=1, maximum=MAX_RUN) \
+        if run_length is not None else None
+    value, where = plan.aoql()
+    if not ps:
+        ps = [where] if where > 0 else []
+    levels = [_level_row(plan, p) for p in ps]
+    if M is not None and ps:
+        afi, pa, aoq = plan.run_figures(ps, M)
+        for row, a, s, o in zip(levels, afi, pa, aoq):
+            row.update({"run_afi": float(a), "run_aoq": float(o), "run_pa": float(s)})
+    out = {**plan.to_dict(), "aoql": value, "aoql_p": where, "levels": levels}
+    if M is not None:
+        out["run_length"] = M
+    return out
