@@ -74,6 +74,9 @@ CHANGED: dict[str, str] = {
     "check_variables_unknown_both:json": "two-limit plans with sigma unknown: check now uses the "
                                     "plan's own OC, as every other command does",
     "check_variables_unknown_both:exit": "see check_variables_unknown_both:json",
+    "zero_equivalent_double:json.sample_sizes.plan": "every plan has a largest sample "
+                                                     "(max_sample); a double plan's was null",
+    "zero_equivalent_double:json.sample_saving": "follows from the double plan's largest sample",
     "next_single_accept:json.notation": "single plans now print their notation",
     "next_single_reject_early:json.notation": "single plans now print their notation",
     "next_single_defects_continue:json.notation": "single plans now print their notation",

@@ -75,7 +75,6 @@ from scipy import special
 
 from lotwise.core import kernels as oc
 from lotwise.core.types import Scope
-from lotwise.families.single import SinglePlan
 from lotwise.core.quantities import InputError, Infeasible, parse_level
 
 __all__ = ["PRIORS", "Posterior", "Outlook", "rejection_outlook", "rejection_at",
@@ -215,8 +214,9 @@ def rejection_outlook(plan, posterior: Posterior, *, deliveries_per_year: int | 
     """
     scope = Scope()
     pa = lambda p: plan.pa(p, "binomial", scope)  # noqa: E731
-    if isinstance(plan, SinglePlan):
-        p_acc = _beta_binomial_cdf(plan.c, plan.n, posterior.a, posterior.b)
+    rule = plan.count_rule()
+    if rule is not None:
+        p_acc = _beta_binomial_cdf(rule[1], rule[0], posterior.a, posterior.b)
         method = "beta-binomial (exact finite sum)"
     else:
         p_acc = posterior.expect(pa)

@@ -97,14 +97,10 @@ def _row(scheme, plan, targets, scope, model, note=""):
 
     la, lr = _levels(targets, scope, model)
     r = risks_under(plan, targets, scope, model)
-    if scheme == "single":
-        asn_aql = asn_rql = amax = float(plan.n)
-        n_max = plan.n
-    else:
-        asn_aql = float(plan.asn(la, model, scope))
-        asn_rql = float(plan.asn(lr, model, scope))
-        amax = float(plan.max_asn(model, scope)[0])
-        n_max = plan.n_max
+    asn_aql = float(plan.asn(la, model, scope))
+    asn_rql = float(plan.asn(lr, model, scope))
+    amax = float(plan.max_asn(model, scope)[0])
+    n_max = plan.max_sample
     return TradeoffRow(scheme=scheme, plan=plan, label=plan.label, pa_aql=r.pa_aql,
                        pa_rql=r.pa_rql, asn_aql=asn_aql, asn_rql=asn_rql, asn_max=amax,
                        n_max=n_max, meets=r.meets, note=note)
@@ -167,9 +163,6 @@ def asn_tradeoff(targets, scope: Scope, *, model: str | None = None, ratio: floa
             continue
         key = f"{row.scheme}: {row.label}"
         pa[key] = np.asarray(row.plan.pa(ps, model, scope), dtype=float)
-        if row.scheme == "single":
-            asn[key] = np.full(ps.shape, float(row.plan.n))
-        else:
-            asn[key] = np.asarray(row.plan.asn(ps, model, scope), dtype=float)
+        asn[key] = np.asarray(row.plan.asn(ps, model, scope), dtype=float)
     return Tradeoff(targets=targets, scope=scope, model=model, rows=tuple(rows), ps=ps,
                     asn_curves=asn, pa_curves=pa)

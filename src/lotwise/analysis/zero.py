@@ -272,7 +272,7 @@ class ZeroEquivalent:
     pa_level: dict
 
     def sample_sizes(self) -> dict:
-        n = getattr(self.plan, "n", None)
+        n = self.plan.max_sample
         return {"plan": n, "zero_plan": self.zero_plan.n}
 
     def report(self) -> dict:
@@ -303,7 +303,7 @@ class ZeroEquivalent:
         lv = lambda x: format_level(x, pu)  # noqa: E731
         z, p = self.zero_plan, self.plan
         sizes = self.sample_sizes()
-        lab = getattr(p, "label", str(p))
+        lab = p.label
         what = "the AQL" if self.level_kind == "aql" else \
             f"the quality {lab} accepts {format_pct(1 - self.alpha)} of the time"
         out = [f"{lab} accepts lots at {lv(self.point)} {format_pct(self.pa_point['plan'])} of "
@@ -344,7 +344,7 @@ def zero_equivalent(plan, scope: Scope, model: str | None = None, *, beta: float
     model = scope.check_model(model)
     point = quality_level(plan, beta, model, scope, "consumer")
     if not point > 0:
-        raise Infeasible(f"{getattr(plan, 'label', plan)} accepts no lot even at 0 nonconforming "
+        raise Infeasible(f"{plan.label} accepts no lot even at 0 nonconforming "
                          f"more often than {format_pct(beta)}", {})
     kernel = Kernel(model, Targets(aql=0.0, rql=point, alpha=alpha, beta=beta), scope)
     cap = scope.lot_size

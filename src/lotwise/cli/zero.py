@@ -118,8 +118,9 @@ def _equivalent(given, scope, mdl, be, a, al, plot, force, as_json):
     from lotwise.analysis.zero import zero_equivalent
     from lotwise.documents.plots.zero import equivalent_figure
 
-    if scope.lot_size is not None and getattr(given, "n", 0) > scope.lot_size:
-        raise InputError(f"--n ({given.n}) must not be greater than --lot-size ({scope.lot_size})")
+    if scope.lot_size is not None and given.max_sample > scope.lot_size:
+        raise InputError(f"--n ({given.max_sample}) must not be greater than --lot-size "
+                         f"({scope.lot_size})")
     try:
         eq = zero_equivalent(given, scope, mdl, beta=be, aql=a, alpha=al)
     except Infeasible as exc:
@@ -134,7 +135,7 @@ def _equivalent(given, scope, mdl, be, a, al, plot, force, as_json):
         common.emit_json(rep)
         return
     pu = scope.defects
-    lab = getattr(given, "label", str(given))
+    lab = given.label
     where = "AQL" if eq.level_kind == "aql" else "plan's 95 % point"
     rows = [[lab, str(rep["sample_sizes"]["plan"]), f"{eq.pa_point['plan']:.5f}",
              f"{eq.pa_level['plan']:.5f}", format_pct(1 - eq.pa_level["plan"])],

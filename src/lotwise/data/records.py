@@ -108,7 +108,6 @@ from scipy import special
 
 from lotwise.core import kernels as oc
 from lotwise.core.types import Scope
-from lotwise.families.single import SinglePlan
 from lotwise.families.base import parse_plan
 from lotwise.core.quantities import InputError
 
@@ -345,18 +344,20 @@ def expected_disposition(plan, lot_size: int, sample_size: int, found: int):
     plan types decide through their method ``disposition(sample_size,
     found) -> "accept" | "reject" | None``, when they offer one.
     """
-    if isinstance(plan, SinglePlan):
-        want = min(plan.n, lot_size)
+    rule = plan.count_rule()
+    if rule is not None:
+        n, c = rule
+        want = min(n, lot_size)
         note = "" if sample_size == want else \
             f"sample_size ({sample_size}) differs from the plan's n ({want})"
-        return found <= plan.c, note
-    decide = getattr(plan, "disposition", None)
-    if callable(decide):
-        d = decide(sample_size, found)
-        if d is None:
-            return None, f"{plan.label}: no decision at sample_size {sample_size}"
-        return d == "accept", ""
-    return None, f"{getattr(plan, 'label', plan)}: dispositions not checked for this plan type"
+        return found <= c, note
+    try:  # the plan's bench rule on the whole sample taken
+        d = plan.decide(int(min(sample_size, plan.max_sample)), int(found))
+    except InputError:
+        return None, f"{plan.label}: dispositions not checked for this plan type"
+    if d.action == "continue":
+        return None, f"{plan.label}: no decision at sample_size {sample_size}"
+    return d.action == "accept", ""
 
 
 def read_records(path, *, plans_dir=None, option: str = "RECORDS") -> LotRecords:
@@ -725,9 +726,10 @@ def _expected_dispositions(lots: _Lots, plans, pkeys, pinv):
     for j, key in enumerate(pkeys):
         plan = plans[key]
         idx = np.flatnonzero(pinv == j)
-        if isinstance(plan, SinglePlan):
-            want = np.minimum(plan.n, lot[idx])
-            expect[idx] = (found[idx] <= plan.c).astype(np.int8)
+        rule = plan.count_rule()
+        if rule is not None:
+            want = np.minimum(rule[0], lot[idx])
+            expect[idx] = (found[idx] <= rule[1]).astype(np.int8)
             dev = sample[idx] != want
             deviation[idx] = dev
             for i, w in zip(idx[dev], want[dev]):

@@ -333,6 +333,12 @@ class Plan(ABC):
         used = np.asarray(self.asn_count(d, scope), dtype=float)
         return finish(used + (1.0 - pa) * (N - used), clip=False)
 
+    def count_rule(self) -> tuple[int, int] | None:
+        """``(n, c)`` when the plan accepts a lot exactly when a fixed sample of ``n``
+        holds at most ``c`` nonconforming (so its risks are finite sums over the
+        count's distribution); None otherwise."""
+        return None
+
     def audit_parts(self):
         """``(plan, skip)``: the plan a check judges and a skip-lot layer
         ``(i, f)`` over it (None); a skip-lot plan answers with its reference."""

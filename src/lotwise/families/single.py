@@ -168,6 +168,9 @@ class SinglePlan(Plan):
     def describe(self) -> list[str]:
         return [f"plan      n = {self.n}, accept on c = {self.c}, reject on {self.r}"]
 
+    def count_rule(self) -> tuple[int, int]:
+        return int(self.n), int(self.c)
+
     def to_dict(self) -> dict:
         return {"scheme": "single", "n": int(self.n), "c": int(self.c), "r": int(self.c) + 1}
 

@@ -37,7 +37,7 @@ def equivalent_figure(eq: ZeroEquivalent, ax=None, *, max_p=None, points: int = 
         if not pu:
             max_p = min(max_p, 1.0)
     ps = np.linspace(0.0, max_p, points)
-    lab = getattr(eq.plan, "label", str(eq.plan))
+    lab = eq.plan.label
     ax.plot(ps, eq.plan.pa(ps, model, scope), label=f"{lab}", **STYLE["exact"])
     ax.plot(ps, eq.zero_plan.pa(ps, model, scope), label=f"c = 0 equivalent: {eq.zero_plan.label}",
             **STYLE["other"][0])
