@@ -79,7 +79,7 @@ a unit costs 1, a nonconforming housing that reaches assembly costs 40:
 >>> d = least_cost_single(lot_size=2000, prior=BetaPrior(a=2, b=98),
 ...                       costs=Costs(inspect=1.0, escape=40.0))
 >>> d.n, d.c, round(d.expected_cost, 2), d.expected_cost_none, d.expected_cost_all
-(53, 1, 1300.95, 1600.0, 2000.0)
+(162, 4, 1442.4, 1600.0, 2000.0)
 """
 
 from __future__ import annotations

@@ -27,13 +27,13 @@ Posterior risks of a plan (:func:`posterior_risks`)
     ``P(p <= AQL | rejected)``: the share of rejected lots that were good;
 ``expected_left``
     with a lot size ``N``: the expected number of nonconforming items left in
-    an accepted lot among the units the sample did not inspect,
-    ``E[(N - n_used) p | accepted]`` (for a single plan ``(N - n) E[p |
-    accepted]``; for plans whose sample varies it is ``N E[AOQ(p)] / P(accept)``
-    with the plan's own binomial AOQ, which counts what each stage leaves).
-    Without a lot size: per unit of the remainder, ``E[p | accepted]`` (the
-    expected fraction nonconforming among the units an accepted lot still
-    holds).
+    an accepted lot among the units the plan did not inspect,
+    ``E[left | accepted]`` (for a single plan ``(N - n) E[p | accepted]``;
+    other plans count what each outcome leaves: later stages not inspected,
+    skipped lots). Without a lot size: per unit of the remainder,
+    ``E[p | accepted]``, the expected fraction nonconforming among the units
+    an accepted lot still holds (given ``p`` an uninspected unit is
+    nonconforming with probability ``p`` whatever the sample showed).
 
 A conditional risk is ``None`` when its condition has probability 0 (a plan
 that never accepts has no accepted lots).
@@ -41,20 +41,26 @@ that never accepts has no accepted lots).
 For a single plan ``Pa(p)`` is a binomial tail, so every expectation is a
 finite beta-binomial sum computed exactly::
 
-    E[Pa 1{p > r}]       = sum_{d <= c} P(X = d) (1 - I_r(a + d, b + n - d)),
+    E[Pa 1{p > r}]        = sum_{d <= c} P(X = d) (1 - I_r(a + d, b + n - d)),
     E[(1 - Pa) 1{p <= q}] = sum_{d > c} P(X = d) I_q(a + d, b + n - d),
-    E[p Pa]              = sum_{d <= c} P(X = d) (a + d) / (a + b + n),
+    E[p Pa]               = sum_{d <= c} P(X = d) (a + d) / (a + b + n),
 
 with ``I`` the regularised incomplete beta function (terms whose probability
 is below 1e-18 of the largest on their side are left out; the dropped mass is
-below ``n`` 1e-18 of the sum). Every other family (double, multiple,
-sequential, chain, skip-lot, variables) goes through the plan interface: its
-``pa(p)`` (and ``aoq(p)``) are integrated against the prior by adaptive
-Gauss-Legendre quadrature on the prior's probability scale ``u = I_p(a, b)``
-(so the beta density's end singularities disappear), split at the AQL and
-RQL, panels halved until the two-halves estimate agrees with the whole-panel
-one within ``tol`` times the panel's width (``tol`` = 1e-10 absolute for each
-expectation by default). Chain and skip-lot plans' ``Pa(p)`` is the long-run
+below ``n`` 1e-18 of the sum). Every plan that sentences a lot on the counts
+in its own sample (double, multiple, sequential) is summed the same way
+through the plan interface (:func:`count_posterior`): it looks at most at
+the first ``M`` units, and given ``k`` nonconforming among them it accepts
+with ``pa_count(k)`` in a lot of ``M``, so ``Pa(p) = sum_k Bin(M, p)(k)
+pa_count(k)``. Chain, skip-lot and variables plans (whose ``Pa`` depends on
+other lots or on measurements) go through their ``pa(p)`` (and ``aoq(p)``):
+adaptive Gauss-Legendre quadrature on the prior's probability scale
+``u = I_p(a, b)`` (so the beta density's end singularities disappear), split
+at the AQL and RQL, panels graded towards both ends and halved until the
+two-halves sum agrees with the whole-panel one within ``tol`` times the
+panel's width (``tol`` = 1e-10 absolute for each expectation by default; a
+variables plan whose OC curve is itself simulated gets the starting panels
+only, 10 points each, since halving cannot converge on a simulated curve). Chain and skip-lot plans' ``Pa(p)`` is the long-run
 acceptance at a steady ``p``: for them the prior is read as the supplier's
 steady level.
 
@@ -112,7 +118,7 @@ A buyer's records put the lot-to-lot fraction nonconforming at Beta(2, 98)
 >>> from lotwise.families.single import SinglePlan
 >>> r = posterior_risks(SinglePlan(n=80, c=2), BetaPrior(a=2, b=98), aql=0.01, rql=0.05)
 >>> round(r.p_reject, 4), round(r.consumer_risk, 4), round(r.producer_risk, 4)
-(0.1947, 0.0156, 0.0305)
+(0.2349, 0.0072, 0.0192)
 """
 
 from __future__ import annotations
@@ -482,8 +488,9 @@ def _quadrature_posterior(plan, prior, *, aql, rql, lot_size, tol) -> PosteriorR
         else:
             left = float(vals[2].sum()) / p_acc
     if simulated:
-        method = ("Gauss-Legendre rule on the prior's probability scale (160 points, not "
-                  "adaptive: the OC curve itself is simulated, which limits the accuracy)")
+        method = ("Gauss-Legendre rule on the prior's probability scale (the graded starting "
+                  "panels, 10 points each, not adaptive: the OC curve itself is simulated, "
+                  "which limits the accuracy)")
     else:
         method = (f"adaptive Gauss-Legendre quadrature on the prior's probability scale, "
                   f"tolerance {tol:g}")
