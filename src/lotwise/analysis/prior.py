@@ -58,11 +58,13 @@ adaptive Gauss-Legendre quadrature on the prior's probability scale
 ``u = I_p(a, b)`` (so the beta density's end singularities disappear), split
 at the AQL and RQL, panels graded towards both ends and halved until the
 two-halves sum agrees with the whole-panel one within ``tol`` times the
-panel's width (``tol`` = 1e-10 absolute for each expectation by default; a
-variables plan whose OC curve is itself simulated gets the starting panels
-only, 10 points each, since halving cannot converge on a simulated curve). Chain and skip-lot plans' ``Pa(p)`` is the long-run
-acceptance at a steady ``p``: for them the prior is read as the supplier's
-steady level.
+panel's width, or within ``tol`` 1e-4 where doubles cannot resolve ``u``
+any finer (``tol`` = 1e-10 absolute for each expectation by default; the sum
+of the accepted estimates is reported). A variables plan whose OC curve is
+itself simulated gets the starting panels only, 10 points each, since
+halving cannot converge on a simulated curve. Chain and skip-lot plans'
+``Pa(p)`` is the long-run acceptance at a steady ``p``: for them the prior
+is read as the supplier's steady level.
 
 The prior from records (:func:`fit_prior`)
 ------------------------------------------
@@ -362,6 +364,9 @@ def count_posterior(plan, prior: BetaPrior, *, aql=None, rql=None,
 
 
 _GL_X, _GL_W = np.polynomial.legendre.leggauss(10)
+#: A panel whose error estimate is below ``tol * _FLOOR`` is accepted whatever
+#: its width (the ends of the probability scale, which doubles cannot resolve).
+_FLOOR = 1e-4
 #: Initial panel edges on the probability scale, graded towards both ends
 #: (where ``p(u)`` turns steep).
 _GRADED = (0.0, 1e-12, 1e-8, 1e-5, 1e-3, 0.02, 0.1, 0.3, 0.5, 0.7, 0.9, 0.98,
@@ -386,10 +391,11 @@ def expect(func, prior: BetaPrior, cuts=(), *, tol: float = DEFAULT_TOL,
     integrands. Adaptive Gauss-Legendre (10 points) on ``u = I_p(a, b)``,
     starting from panels graded towards both ends: each panel's sum is
     compared with the sum over its halves, and a panel is accepted when they
-    agree within ``tol`` times its width, so the accepted error estimates add
-    up to at most ``tol`` over ``[0, 1]``. ``adaptive=False``: the starting
-    panels only (for curves that are themselves simulated, where halving
-    cannot converge).
+    agree within ``tol`` times its width or within ``tol`` 1e-4 (near
+    ``u = 1`` the level ``p(u)`` climbs to 1 within the last few doubles, which
+    no halving resolves), so the accepted estimates add up to about ``tol``.
+    ``adaptive=False``: the starting panels only (for curves that are
+    themselves simulated, where halving cannot converge).
 
     Returns ``(values, error)``: values has shape (k, len(cuts) + 1); error
     is the sum of the accepted panels' estimates (``nan`` without adaptivity).
@@ -413,7 +419,8 @@ def expect(func, prior: BetaPrior, cuts=(), *, tol: float = DEFAULT_TOL,
         left, right = halves[:, :lo.size], halves[:, lo.size:]
         both = left + right
         e = np.abs(both - whole).max(axis=0)
-        done = (e <= tol * (hi - lo)) | (hi - lo < 1e-15) | (pass_no == max_passes - 1)
+        done = ((e <= tol * (hi - lo)) | (e <= tol * _FLOOR) | (hi - lo < 1e-15)
+                | (pass_no == max_passes - 1))
         for k in range(out.shape[0]):
             np.add.at(out[k], piece[done], both[k, done])
         err += float(e[done].sum())

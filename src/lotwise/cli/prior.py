@@ -84,8 +84,9 @@ def load_prior(*, prior=None, prior_from=None, part=None, supplier=None, half_li
     return fit.prior, {**fit.prior.to_dict(), **info}
 
 
-def add_posterior(rep: dict, plan, prior, info, targets, scope) -> dict:
-    """Add ``prior``, ``posterior`` and ``posterior_notes`` to a check report."""
+def add_posterior(rep: dict, plan, prior, info, targets, scope, skip_lot=None) -> dict:
+    """Add ``prior``, ``posterior`` and ``posterior_notes`` to a check report (and
+    ``skip_lot.posterior`` for a skip-lot scheme over the plan)."""
     from lotwise.analysis.prior import posterior_risks
 
     if prior is None:
@@ -95,6 +96,13 @@ def add_posterior(rep: dict, plan, prior, info, targets, scope) -> dict:
                          "--defects")
     post = posterior_risks(plan, prior, aql=targets.aql, rql=targets.rql,
                            lot_size=scope.lot_size)
+    if skip_lot is not None and "skip_lot" in rep:
+        from lotwise.families.skiplot import SkipLotPlan, parse_skip
+
+        i, f = parse_skip(skip_lot) if isinstance(skip_lot, str) else skip_lot
+        rep["skip_lot"]["posterior"] = posterior_risks(
+            SkipLotPlan(reference=plan, i=i, f=f), prior, aql=targets.aql, rql=targets.rql,
+            lot_size=scope.lot_size).to_json()
     rep["prior"] = info
     rep["posterior"] = post.to_json()
     rep["posterior_notes"] = {**post.notes(), "lots": "each lot's fraction nonconforming "
@@ -159,6 +167,10 @@ def render(rep: dict) -> str:
     lines = ["", "", "Against the supplier's history", prior_line(rep["prior"])]
     lines += fit_lines(rep["prior"])
     lines += posterior_lines(rep["posterior"], rep["posterior_notes"], rep.get("lot_size"))
+    sk = rep.get("skip_lot", {}).get("posterior")
+    if sk:
+        lines.append(f"  skip-lot    lots rejected {_pct(sk['p_reject'])}; accepted lots worse "
+                     f"than the RQL {_pct(sk['consumer_risk'])}")
     return "\n".join(lines)
 
 

@@ -221,7 +221,7 @@ def check(
     rep = assess(p, targets, scope, mdl, aoq_formula=aoq_formula).to_json()
     rep = rect_cli.check_extras(rep, p, scope, mdl, targets, aoq_formula=aoq_formula,
                                 skip_lot=skip_lot, aoq_plot=aoq_plot, force=force)
-    rep = prior_cli.add_posterior(rep, p, pri, info, targets, scope)
+    rep = prior_cli.add_posterior(rep, p, pri, info, targets, scope, skip_lot)
     meets = rep["meets"] and rep.get("skip_lot", {}).get("meets", True)
     if as_json:
         common.emit_json(rep)
