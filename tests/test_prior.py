@@ -459,3 +459,21 @@ def test_batch_cost_columns(tmp_path):
     assert (int(t["n"][0]), int(t["c"][0])) == (d.n, d.c)
     assert t["expected_cost"][0] == pytest.approx(d.expected_cost, rel=1e-12)
     assert (int(t["n"][1]), int(t["c"][1])) == (130, 3) and math.isnan(t["expected_cost"][1])
+
+
+def test_cost_sheet_and_yearly_cost(capsys, tmp_path):
+    # the sheet repeats the --json numbers (source: the command's own JSON);
+    # a file the user made is never overwritten without --force
+    sheet = tmp_path / "cost.md"
+    args = ["design", "--minimize", "cost", "--lot-size", "2000", "--prior", "beta: a=2,b=98",
+            "--cost-inspect", "1", "--cost-escape", "40", "--deliveries-per-year", "52"]
+    code, out, err = run(capsys, *args, "--sheet", str(sheet), "--json")
+    d = json.loads(out)
+    assert d["expected_cost_per_year"] == pytest.approx(52 * d["expected_cost"], rel=1e-15)
+    text = sheet.read_text()
+    assert f"{d['expected_cost']:,.2f}" in text and f"{52 * d['expected_cost']:,.2f}" in text
+    assert "Beta(2, 98)" in text and "stated by the user" in text
+    mine = tmp_path / "mine.md"
+    mine.write_text("my notes\n")
+    code, out, err = run(capsys, *args, "--sheet", str(mine))
+    assert code == 2 and "--sheet" in err and mine.read_text() == "my notes\n"

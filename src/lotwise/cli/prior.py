@@ -19,13 +19,16 @@ SUPPLIER = typer.Option(None, "--supplier", help="With --prior-from: only this s
 HALF_LIFE = typer.Option(None, "--half-life", help="With --prior-from: weight 0.5^(age/H) for a lot H lots older than the newest.")
 COST_INSPECT = typer.Option(None, "--cost-inspect", help="--minimize cost: cost of inspecting one unit (S).")
 COST_ESCAPE = typer.Option(None, "--cost-escape", help="--minimize cost: cost of one nonconforming item passed on in an accepted lot (A).")
+SHEET = typer.Option(None, "--sheet", help="--minimize cost: write the plan's cost sheet section to PATH.md.")
+DELIVERIES = typer.Option(None, "--deliveries-per-year", help="--minimize cost: lots a year, for the yearly cost on the sheet and in --json.")
 COST_REJECT = typer.Option(None, "--cost-reject-lot", help="--minimize cost: cost of returning a rejected lot (R); default: its remainder is screened at S per unit.")
 
 #: Options that only make sense with a prior, as ``parameter -> option``.
 PRIOR_OPTIONS = {"prior": "--prior", "prior_from": "--prior-from", "part": "--part",
                  "supplier": "--supplier", "half_life": "--half-life"}
 COST_OPTIONS = {"cost_inspect": "--cost-inspect", "cost_escape": "--cost-escape",
-                "cost_reject_lot": "--cost-reject-lot"}
+                "cost_reject_lot": "--cost-reject-lot", "sheet": "--sheet",
+                "deliveries": "--deliveries-per-year"}
 
 
 def given(opts: dict, names=None) -> list:
@@ -258,10 +261,27 @@ def design_cost(**opts):
     out["prior_fit"] = {k: info[k] for k in ("fit", "history")} if info.get("fit") else None
     out["two_point"] = _two_point(d, a, r, al, be, model) if a is not None else None
     out["statements"] = _cost_statements(d, out["two_point"])
+    year = _number(opts["deliveries"], "--deliveries-per-year") \
+        if opts.get("deliveries") is not None else None
+    out["deliveries_per_year"] = year
+    out["expected_cost_per_year"] = None if year is None else d.expected_cost * year
+    if opts.get("sheet") is not None:
+        _write_sheet(opts["sheet"], out, info, year, force=opts.get("force", False))
+        out["sheet"] = opts["sheet"]
     if as_json:
         common.emit_json(out)
     else:
         typer.echo(_render_cost(d, out, info))
+
+
+def _write_sheet(path, out, info, year, *, force):
+    from lotwise.data.files import write_text
+    from lotwise.documents.sheets.cost import cost_section
+
+    if not str(path).lower().endswith(".md"):
+        raise InputError(f"--sheet ({path}) must end in .md")
+    write_text(path, cost_section(out, info, deliveries_per_year=year), force=force,
+               option="--sheet")
 
 
 def _key(option: str) -> str:
@@ -337,5 +357,10 @@ def _render_cost(d, out: dict, info: dict) -> str:
     lines.append(f"  compare     no inspection {_money(d.expected_cost_none)}; 100 % inspection "
                  f"{_money(d.expected_cost_all)}; break-even p = S/A = {_pct(d.breakeven_p)}")
     lines += posterior_lines(out["posterior"], d.posterior.notes(), d.lot_size)
+    if out["expected_cost_per_year"] is not None:
+        lines.append(f"  per year    {_money(out['expected_cost_per_year'])} for "
+                     f"{out['deliveries_per_year']:g} lots")
     lines += [""] + [f"  - {s}" for s in out["statements"]]
+    if out.get("sheet"):
+        lines.append(f"  wrote {out['sheet']}")
     return "\n".join(lines)

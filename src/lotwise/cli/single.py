@@ -70,10 +70,10 @@ def design(
     part: Optional[str] = prior_cli.PART, supplier: Optional[str] = prior_cli.SUPPLIER,
     half_life: Optional[str] = prior_cli.HALF_LIFE, cost_inspect: Optional[str] = prior_cli.COST_INSPECT,
     cost_escape: Optional[str] = prior_cli.COST_ESCAPE, cost_reject_lot: Optional[str] = prior_cli.COST_REJECT,
+    sheet: Optional[str] = prior_cli.SHEET, deliveries: Optional[str] = prior_cli.DELIVERIES,
     as_json: bool = common.JSON,
 ):
-    """Design the plan with the smallest sample meeting both risks (--minimize cost: the
-    single plan with the least expected cost per lot under a prior)."""
+    """Design the plan with the smallest sample meeting both risks (or, --minimize cost, the cheapest)."""
     if minimize == "cost" or prior_cli.given(locals()):
         return prior_cli.design_cost(**locals())
     from lotwise.analysis.assess import assess
