@@ -477,3 +477,48 @@ def test_cost_sheet_and_yearly_cost(capsys, tmp_path):
     mine.write_text("my notes\n")
     code, out, err = run(capsys, *args, "--sheet", str(mine))
     assert code == 2 and "--sheet" in err and mine.read_text() == "my notes\n"
+
+
+def _keys(obj, out=None):
+    out = set() if out is None else out
+    if isinstance(obj, dict):
+        for k, v in obj.items():
+            out.add(k)
+            _keys(v, out)
+    elif isinstance(obj, list):
+        for v in obj:
+            _keys(v, out)
+    return out
+
+
+def test_every_json_key_is_in_the_readme(capsys, tmp_path):
+    # the project's rule: every JSON key documented in README.md (exact check)
+    from pathlib import Path
+
+    readme = (Path(__file__).resolve().parents[1] / "README.md").read_text()
+    runs = [
+        ["check", "--plan", "n=80,c=2", "--skip-lot", "i=4,f=0.25", "--aql", "1%", "--rql",
+         "5%", "--lot-size", "3000", "--prior-from", "examples/history.csv", "--part",
+         "QP-8840", "--json"],
+        ["design", "--minimize", "cost", "--lot-size", "3000", "--prior-from",
+         "examples/history.csv", "--part", "QP-8840", "--cost-inspect", "1", "--cost-escape",
+         "40", "--aql", "1%", "--rql", "5%", "--deliveries-per-year", "12", "--sheet",
+         str(tmp_path / "c.md"), "--json"],
+    ]
+    base = set(json.loads(_run_json(capsys, ["check", "--plan", "n=80,c=2", "--skip-lot",
+                                             "i=4,f=0.25", "--aql", "1%", "--rql", "5%",
+                                             "--lot-size", "3000", "--json"])))
+    for args in runs:
+        d = json.loads(_run_json(capsys, args))
+        new = _keys({k: v for k, v in d.items() if k not in base or k == "skip_lot"})
+        if args[0] == "check":
+            new = _keys({"prior": d["prior"], "posterior": d["posterior"],
+                         "posterior_notes": d["posterior_notes"],
+                         "skip_lot": {"posterior": d["skip_lot"]["posterior"]}})
+        missing = sorted(k for k in new if f"`{k}`" not in readme)
+        assert not missing, missing
+
+
+def _run_json(capsys, args):
+    main(list(args))
+    return capsys.readouterr()[0]
