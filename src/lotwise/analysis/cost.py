@@ -51,13 +51,31 @@ the decisions; the RQL constraint restricts them further). Hence for every
 
     K(n', c) >= S (n0 + 1) + W(n1).
 
+(``X_n``, the count in the first ``n`` units, is a sufficient statistic for
+``p`` among those units, so the count of a larger sample carries all the
+information of a smaller one.) Under ``--rql`` the plain bound stays valid
+but loose where the constraint binds; the search then also uses Lagrangian
+bounds: for a multiplier ``lambda >= 0`` every feasible plan costs at least
+``S n + W_lambda(n) - lambda beta``, where ``W_lambda(n) = Q + sum_d
+min(0, P(d) g(d) + lambda h_n(d))`` and ``h_n`` is the law of the sample
+count for a lot at the RQL (hypergeometric, binomial or Poisson, as the
+constraint's model). ``W_lambda`` is the least expected loss of a decision
+problem that adds that lot with weight ``lambda`` and a loss ``lambda`` for
+accepting it, so by the same argument it never rises with ``n``. The
+multipliers are ``S N`` times 0.001, 0.003, ..., 3; each gap takes the
+largest of the bounds.
+
 The search evaluates ``n`` on a starting grid (0, N and 64 points spread
 linearly and geometrically), then repeatedly takes the gap with the lowest
-bound: a gap whose bound is not below the best cost found (less a relative
-1e-12 for rounding) cannot hold a cheaper plan and is dropped; otherwise it
-is split by 16 interior sizes, or evaluated whole when 48 or fewer remain.
-The search ends when every gap is dropped, so the plan returned is the least
-cost over every ``n`` in ``0..N`` and every ``c`` (ties: the smaller ``n``).
+bound: a gap whose bound is not below the best cost found (less 1e-12 of
+``S N`` for rounding) cannot hold a cheaper plan and is dropped; otherwise
+it is split by 16 interior sizes, or evaluated whole when 48 or fewer
+remain. The search ends when every gap is dropped, so the plan returned is
+the least cost over every ``n`` in ``0..N`` and every ``c`` (ties: the
+smaller ``n``; a plan no cheaper than 100 % inspection is reported as 100 %
+inspection). When rejected lots are screened, costs are compared as their
+difference from ``S N`` (the sum over ``d <= c`` alone), which keeps their
+precision however close a plan comes to 100 % inspection.
 Each evaluation is vectorised over a block of sizes (log beta-binomial
 probabilities from tables of log-gamma values; see
 :func:`lotwise.analysis.prior.log_rising_excess`).
