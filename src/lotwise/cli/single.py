@@ -7,6 +7,7 @@ from typing import List, Optional
 import typer
 
 from . import app, common
+from . import prior as prior_cli
 from lotwise.core.quantities import InputError, Infeasible, parse_count
 
 
@@ -33,7 +34,7 @@ def design(
     c: Optional[str] = typer.Option(None, "--c", help="Fix the acceptance number (0 for accept-on-zero)."),
     n: Optional[str] = typer.Option(None, "--n", help="Fix the sample size and find c."),
     max_n: Optional[str] = typer.Option(None, "--max-n", help="Largest affordable sample."),
-    minimize: Optional[str] = typer.Option(None, "--minimize", help="single: ati (least average total inspection at --process-average); double: asn-aql (default) or asn-max."),
+    minimize: Optional[str] = typer.Option(None, "--minimize", help="single: ati (least average total inspection at --process-average) or cost (least expected cost per lot under --prior); double: asn-aql (default) or asn-max."),
     process_average: Optional[str] = typer.Option(None, "--process-average", help="Supplier's process average, for --minimize ati."),
     aoql: Optional[str] = typer.Option(None, "--aoql", help="AOQL limit, for --minimize ati (instead of --rql)."),
     aoq_formula: str = typer.Option("screened", "--aoq-formula", help="screened: AOQ = p Pa (N - n)/N; simple: p Pa."),
@@ -43,18 +44,21 @@ def design(
     lower: Optional[str] = typer.Option(None, "--lower", help="variables: lower specification limit."),
     upper: Optional[str] = typer.Option(None, "--upper", help="variables: upper specification limit."),
     ratio: Optional[str] = typer.Option(None, "--ratio", help="double: n2 / n1 (default 2)."),
-    truncate: Optional[str] = typer.Option(None, "--truncate",
-                                           help="sequential: most units to inspect "
-                                                "(default 3 x the single plan's n)."),
-    plot: Optional[str] = typer.Option(None, "--plot",
-                                       help="double, sequential, compare-all: draw the chart "
-                                            "to PATH.png, .svg or .pdf."),
+    truncate: Optional[str] = typer.Option(None, "--truncate", help="sequential: most units to inspect (default 3 x the single plan's n)."),
+    plot: Optional[str] = typer.Option(None, "--plot", help="double, sequential, compare-all: draw the chart to PATH.png, .svg or .pdf."),
     force: bool = typer.Option(False, "--force", help="Overwrite files not written by lotwise."),
     csp_f: Optional[List[str]] = typer.Option(None, "--f", help="csp1/2/3: sampling fraction (0.1, 1/10 or 10%); repeat for the list --minimize afi searches."),
     csp_i: Optional[str] = typer.Option(None, "--i", help="csp1/2/3: clearance number; find the smallest f instead."),
+    prior: Optional[str] = prior_cli.PRIOR, prior_from: Optional[str] = prior_cli.PRIOR_FROM,
+    part: Optional[str] = prior_cli.PART, supplier: Optional[str] = prior_cli.SUPPLIER,
+    half_life: Optional[str] = prior_cli.HALF_LIFE, cost_inspect: Optional[str] = prior_cli.COST_INSPECT,
+    cost_escape: Optional[str] = prior_cli.COST_ESCAPE, cost_reject_lot: Optional[str] = prior_cli.COST_REJECT,
+    sheet: Optional[str] = prior_cli.SHEET, deliveries: Optional[str] = prior_cli.DELIVERIES,
     as_json: bool = common.JSON,
 ):
-    """Design the plan with the smallest sample meeting both risks."""
+    """Design the plan with the smallest sample meeting both risks (or, --minimize cost, the cheapest)."""
+    if minimize == "cost" or prior_cli.given(locals()):
+        return prior_cli.design_cost(**locals())
     from lotwise.analysis.assess import assess
     from lotwise.core.types import Targets
     from lotwise.families.single import design_single
@@ -126,6 +130,9 @@ def check(
     force: bool = typer.Option(False, "--force", help="Overwrite files not written by lotwise."),
     at: Optional[List[str]] = typer.Option(None, "--at", help="csp1/2/3 plans: fractions nonconforming to evaluate (repeatable or comma-separated)."),
     run_length: Optional[str] = typer.Option(None, "--run-length", help="csp1/2/3 plans: also the exact figures for a run of this many units starting in 100 % inspection."),
+    prior: Optional[str] = prior_cli.PRIOR, prior_from: Optional[str] = prior_cli.PRIOR_FROM,
+    part: Optional[str] = prior_cli.PART, supplier: Optional[str] = prior_cli.SUPPLIER,
+    half_life: Optional[str] = prior_cli.HALF_LIFE,
     as_json: bool = common.JSON,
 ):
     """Audit a plan (or re-verify plan files): the risks it really carries.
@@ -152,11 +159,14 @@ def check(
         return flow_check(p, at=at, run_length=run_length, model=model, as_json=as_json,
                           unused={"--aql": aql, "--rql": rql, "--lot-size": lot,
                                   "--defects": defects, "--aoq-formula": aoq_formula,
-                                  "--skip-lot": skip_lot, "--aoq-plot": aoq_plot})
+                                  "--skip-lot": skip_lot, "--aoq-plot": aoq_plot,
+                                  "--prior": prior, "--prior-from": prior_from})
     for opt, val in (("--at", at), ("--run-length", run_length)):
         if val:
             raise InputError(f"{opt} ({val if opt == '--run-length' else ', '.join(val)}) "
                              "applies to continuous sampling plans (csp1, csp2, csp3)")
+    pri, info = prior_cli.load_prior(prior=prior, prior_from=prior_from, part=part,
+                                     supplier=supplier, half_life=half_life, as_json=as_json)
     p, layer = p.audit_parts()  # a skip-lot plan: its reference plan with --skip-lot
     if layer is not None:
         if skip_lot is not None:
@@ -176,6 +186,7 @@ def check(
     rep = assess(p, targets, scope, mdl, aoq_formula=aoq_formula).to_json()
     rep = rect_cli.check_extras(rep, p, scope, mdl, targets, aoq_formula=aoq_formula,
                                 skip_lot=skip_lot, aoq_plot=aoq_plot, force=force)
+    rep = prior_cli.add_posterior(rep, p, pri, info, targets, scope, skip_lot)
     meets = rep["meets"] and rep.get("skip_lot", {}).get("meets", True)
     if as_json:
         common.emit_json(rep)
@@ -184,7 +195,7 @@ def check(
 
         verdict = "meets both targets" if rep["meets"] else "FALLS SHORT"
         typer.echo(render_assessment(rep, f"Audit of the {p.scheme} plan {p.label}: {verdict}")
-                   + rect_cli.render_extras(rep))
+                   + rect_cli.render_extras(rep) + prior_cli.render(rep))
     raise typer.Exit(0 if meets else 1)
 
 

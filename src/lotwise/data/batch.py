@@ -35,6 +35,10 @@ column               required meaning
 ``limit``            no       variables: ``upper``, ``lower`` or ``both``
                               (default: the limits given, else upper)
 ``upper``, ``lower`` no       variables: specification limits
+``prior_a, prior_b`` no       a beta prior of the lot fraction nonconforming;
+``cost_inspect``     no       with ``cost_escape`` (and optionally
+``cost_escape``      no       ``cost_reject_lot``): design by least expected
+``cost_reject_lot``  no       cost per lot (below)
 ==================== ======== ==================================================
 
 The designer columns are the families' ``design_options`` in the registry
@@ -45,8 +49,17 @@ the most units one lot may take (the sample size of a fixed-sample plan;
 ``n1 + n2`` for a double plan, the truncation point for a sequential one),
 ``c`` is empty, ``plan`` its notation and ``model_used`` the model it is
 judged by (for a variables plan its own, e.g. ``noncentral-t``; the lot size
-does not enter it). Empty optional cells take the default. Every other
-column is copied through.
+does not enter it).
+
+Rows with ``prior_a``, ``prior_b``, ``cost_inspect`` and ``cost_escape`` are
+designed by cost: the single plan with the least expected cost per lot under
+Hald's model (:func:`lotwise.analysis.cost.least_cost_single`, as ``lotwise
+design --minimize cost``) that also holds the row's RQL at its ``beta``; they
+need a ``lot_size`` and take no ``fixed_c``, ``max_n`` or ``defects``. When
+the catalogue has any of these columns the output gains ``expected_cost``
+(empty for the other rows).
+
+Empty optional cells take the default. Every other column is copied through.
 The output holds the input columns as read, then ``n``, ``c``, ``plan``
 (notation such as ``n=80,c=2``, readable by ``lotwise check --plan`` and by
 the ``plan`` column of lot records), ``model_used``, ``alpha_actual``,
@@ -546,9 +559,12 @@ def design_catalogue(df, *, deliveries_per_year: float | None = None, progress=N
     error[ok] = sol.error[ok]
     model = rows.model
     model[ok] = np.where(sol.model[ok] != "", sol.model[ok], model[ok])
+    cost_col = _cost_designs(df, error, model, rows.lot, rows.aql, rows.rql, rows.alpha,
+                             rows.beta, rows.defects, rows.fixed_c, rows.max_n,
+                             (sol.n, sol.c, sol.alpha, sol.beta, sol.plan, sol.full))
     designed = (error == "") & (sol.n >= 0)
     rate = np.array([np.nan if v is None else float(v) for v in rows.deliv], dtype=float)
-    out, per_year = _output_table(df, designed, sol, model, error, rate)
+    out, per_year = _output_table(df, designed, sol, model, error, rate, cost_col)
     units_lot = int(sol.n[designed].sum())
     have_rate = designed & np.isfinite(rate)
     units_year = int(round(float(np.nansum(per_year)))) if have_rate.any() else None
@@ -792,7 +808,7 @@ def _solve_one_by_one(u, usol: _Designs, progress, done: int) -> None:
             progress(done + k, len(u))
 
 
-def _output_table(df, designed, sol: _Designs, model, error, rate):
+def _output_table(df, designed, sol: _Designs, model, error, rate, cost_col=None):
     """The input columns then the :data:`OUTPUT` columns: ``(table, per_year)``."""
     import pandas as pd
 
@@ -808,6 +824,8 @@ def _output_table(df, designed, sol: _Designs, model, error, rate):
     out["full_inspection"] = np.where(designed, np.where(sol.full, "yes", "no"), "")
     per_year = np.where(designed & np.isfinite(rate), sol.n * rate, np.nan)
     out["units_per_year"] = per_year
+    if cost_col is not None:
+        out.insert(len(out.columns), "expected_cost", np.where(designed, cost_col, np.nan))
     out["error"] = error
     return out, per_year
 
@@ -951,6 +969,80 @@ def _design_one(row) -> dict:
     r = risks_under(d.plan, d.targets, d.scope, d.model)
     return {"n": d.n, "c": d.c, "plan": f"n={d.n},c={d.c}", "alpha_actual": r.alpha,
             "beta_actual": r.beta, "full_inspection": d.full_inspection}
+
+
+def _amount(v, name):
+    """A prior parameter or a cost: a finite number above 0 (0 allowed for
+    cost_reject_lot)."""
+    try:
+        x = float(str(v).replace("_", ""))
+    except ValueError:
+        x = float("nan")
+    low = 0.0 if name == "cost_reject_lot" else None
+    if not math.isfinite(x) or x < 0 or (x == 0 and low is None):
+        raise InputError(f"{name} ({v}) must be a " + ("number, 0 or more" if low == 0.0
+                                                          else "positive number"))
+    return x
+
+
+#: Optional columns of a least-cost design (see the module notes).
+COST_COLUMNS = ("prior_a", "prior_b", "cost_inspect", "cost_escape", "cost_reject_lot")
+
+
+def _cost_designs(df, error, model, lot, aql, rql, alpha, beta, defects, fixed_c, max_n, cols):
+    """Least-cost designs of the rows that give a prior and costs, written over
+    the plan columns ``cols`` (n, c, alpha, beta, plan, full) and ``error``;
+    returns the ``expected_cost`` column, or None when the catalogue has no
+    cost columns."""
+    if not any(c in df.columns for c in COST_COLUMNS):
+        return None
+    from lotwise.analysis.cost import Costs, least_cost_single
+    from lotwise.analysis.prior import BetaPrior
+    from lotwise.families.single import SinglePlan
+    from lotwise.core.types import Targets
+
+    m = len(df)
+    text = {c: [str(v).strip() if v is not None else "" for v in df[c].tolist()]
+            if c in df.columns else [""] * m for c in COST_COLUMNS}
+    out = np.full(m, np.nan)
+    n_col, c_col, a_col, b_col, plan_col, full_col = cols
+    done: dict = {}
+    for i in range(m):
+        vals = {c: text[c][i] for c in COST_COLUMNS}
+        if error[i] != "" or not any(vals.values()):
+            continue
+        try:
+            need = [c for c in COST_COLUMNS[:4] if not vals[c]]
+            if need:
+                raise InputError(f"a cost design needs prior_a, prior_b, cost_inspect and "
+                                 f"cost_escape; missing: {', '.join(need)}")
+            for key, val, what in (("fixed_c", fixed_c[i] >= 0, "fixed_c"),
+                                   ("max_n", max_n[i] > 0, "max_n"), ("defects", defects[i], "defects")):
+                if val:
+                    raise InputError(f"{what} does not apply to a cost design (prior and costs given)")
+            if lot[i] is None:
+                raise InputError("a cost design needs a lot_size (the costs are counted per lot)")
+            num = {c: _amount(vals[c], c) if vals[c] else None for c in COST_COLUMNS}
+            prior = BetaPrior(a=num["prior_a"], b=num["prior_b"])
+            costs = Costs(inspect=num["cost_inspect"], escape=num["cost_escape"],
+                          reject_lot=num["cost_reject_lot"])
+            key = (lot[i], prior.a, prior.b, costs, rql[i], beta[i], model[i], aql[i], alpha[i])
+            if key not in done:
+                d = least_cost_single(lot_size=int(lot[i]), prior=prior, costs=costs, rql=rql[i],
+                                      beta=beta[i], model=model[i], aql=aql[i])
+                r = SinglePlan(n=d.n, c=d.c).risks(
+                    Targets(aql=aql[i], rql=rql[i], alpha=alpha[i], beta=beta[i]),
+                    Scope(lot_size=int(lot[i])), model[i])
+                done[key] = (d, r)
+            d, r = done[key]
+        except (InputError, Infeasible) as exc:
+            error[i] = str(exc).replace("prior a ", "prior_a ").replace("prior b ", "prior_b ") \
+                .replace("--cost-", "cost_").replace("--lot-size", "lot_size")
+            n_col[i] = c_col[i] = -1
+            continue
+        n_col[i], c_col[i], a_col[i], b_col[i] = d.n, d.c, r.alpha, r.beta
+        plan_col[i], full_col[i], out[i] = f"n={d.n},c={d.c}", d.full_inspection, d.expected_cost
+    return out
 
 
 def progress_bar(total_rows: int, stream=None):
