@@ -54,12 +54,48 @@ IGNORED_KEYS = frozenset({
     "report",  # validate: report paths carry the date
 })
 
+PER_UNIT_C = ("nonconformities per unit: c may exceed n, so AQL 0.5 / RQL 2 per unit needs "
+              "n = 5, c = 5 (was n = 9, c = 8: the old search assumed n = c accepts every lot); "
+              "checked by brute force with scipy.stats.poisson in test_design_single.py")
+
+ATI_PER_UNIT = "least-ATI search per unit may now use c > n: n = 9, c = 12 (was n = 19, c = 18)"
+DOUBLE_PER_UNIT = ("per unit the shared smallest-n search no longer assumes n >= c: same plan, "
+                   "a different c2 stopping point and count of plans searched")
+SEQ_TRUNCATE = "the sequential plan's default truncation is 3 x the single n, now 5 (see design_single_defects)"
 #: Deliberate, named differences: "case_name:json.path" -> reason.
 CHANGED: dict[str, str] = {
     # Every plan now has notation() (the plan interface); a single plan's was null.
     "next_single_accept:json.notation": "single plans now print their notation",
     "next_single_reject_early:json.notation": "single plans now print their notation",
     "next_single_defects_continue:json.notation": "single plans now print their notation",
+    # Nonconformities per unit: acceptance numbers above the sample size.
+    "design_single_defects:json.c": PER_UNIT_C,
+    "design_single_defects:json.n": PER_UNIT_C,
+    "design_single_defects:json.r": PER_UNIT_C,
+    "design_single_defects:json.models": PER_UNIT_C,
+    "design_single_defects:json.plan_quality": PER_UNIT_C,
+    "design_single_defects:json.poisson_design": PER_UNIT_C,
+    "design_single_defects:json.poisson_verdict": PER_UNIT_C,
+    "design_single_defects:json.statements": PER_UNIT_C,
+    "design_ati_defects:json.aoql": ATI_PER_UNIT,
+    "design_ati_defects:json.aoql_p": ATI_PER_UNIT,
+    "design_ati_defects:json.ati_process_average": ATI_PER_UNIT,
+    "design_ati_defects:json.c": ATI_PER_UNIT,
+    "design_ati_defects:json.n": ATI_PER_UNIT,
+    "design_ati_defects:json.r": ATI_PER_UNIT,
+    "design_ati_defects:json.models": ATI_PER_UNIT,
+    "design_ati_defects:json.pa_process_average": ATI_PER_UNIT,
+    "design_ati_defects:json.searched": ATI_PER_UNIT,
+    "design_ati_defects:json.statements": ATI_PER_UNIT,
+    "design_double_defects:json.search.c2_searched": DOUBLE_PER_UNIT,
+    "design_double_defects:json.search.plans_evaluated": DOUBLE_PER_UNIT,
+    "design_double_defects:json.search.stopped": DOUBLE_PER_UNIT,
+    "design_sequential_defects:json.single_n":
+        "the single plan it is compared with is smaller per unit (n = 5, c = 5, see design_single_defects)",
+    "design_compare_all_defects:json.plans[0]": PER_UNIT_C,
+    "compare_designed_defects:json.plans[0]": PER_UNIT_C,
+    "design_compare_all_defects:json.plans[2]": SEQ_TRUNCATE,
+    "compare_designed_defects:json.plans[2]": SEQ_TRUNCATE,
 }
 
 #: What ``main`` prints on stderr when a command failed with an internal error.

@@ -383,6 +383,9 @@ def next_unit(
     n = parse_count(inspected, "--inspected", minimum=0)
     d = parse_count(found, "--found", minimum=0)
     if p.scheme == "single":
+        from lotwise.core.types import Scope
+
+        p.check_scope(Scope(defects=defects))  # c > n only for nonconformities per unit
         dec = p.decide(n, d, defects=defects)
     else:
         dec = p.decide(n, d, defects=defects)

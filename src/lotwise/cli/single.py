@@ -32,9 +32,7 @@ def _plan_from(plan_text, n, c, *, required=True):
                          "or as --plan \"n=80,c=2\"")
     nn = parse_count(n, "--n", minimum=1)
     cc = parse_count(c, "--c", minimum=0)
-    if cc > nn:
-        raise InputError(f"--c ({cc}) must not be greater than --n ({nn})")
-    return SinglePlan(n=nn, c=cc)
+    return SinglePlan(n=nn, c=cc)  # c > n is checked against the scope (items only)
 
 
 @app.command()
@@ -182,6 +180,7 @@ def check(
     scope, mdl = _scope_and_model(lot, defects, model)
     if scope.lot_size is not None and p.n > scope.lot_size:
         raise InputError(f"--n ({p.n}) must not be greater than --lot-size ({scope.lot_size})")
+    p.check_scope(scope)
     if not r > a:
         _levels_out_of_order(a, r, defects, as_json)
     targets = Targets(aql=a, rql=r, alpha=al, beta=be)
@@ -281,6 +280,7 @@ def oc_table(
     scope, mdl = _scope_and_model(lot, defects, model)
     if scope.lot_size is not None and p.n > scope.lot_size:
         raise InputError(f"--n ({p.n}) must not be greater than --lot-size ({scope.lot_size})")
+    p.check_scope(scope)
     a, r = common.levels(aql, rql, defects, need=False)
     if plot is not None and not plot.lower().endswith((".png", ".svg", ".pdf")):
         raise InputError(f"--plot ({plot}) must end in .png, .svg or .pdf")
