@@ -141,12 +141,16 @@ def _design_double(targets, scope, mdl, ratio, minimize, cap, plot, force, as_js
     if pdd and "n1" in pdd:
         verdict = "meets" if pdd["meets"] else "does NOT meet"
         typer.echo(f"  A Poisson-based double design picks n1={pdd['n1']}, c1={pdd['c1']}, "
+                   f"r1={pdd.get('r1', pdd['c2'] + 1)}, "
                    f"n2={pdd['n2']}, c2={pdd['c2']}; under the {mdl} model it carries alpha "
                    f"{format_pct(pdd['alpha'])} and beta {format_pct(pdd['beta'])}: it "
                    f"{verdict} the targets.")
     s = d.search
     typer.echo(f"  Search: c1 < c2, c2 from 1 to {s['c2_searched'][1]} ({s['plans_evaluated']:,} "
                f"plans evaluated); stopped because {s['stopped']}.")
+    if "searched" in s:
+        typer.echo(f"  Then every c1 < r1 <= c2 with r1 up to {s['searched']['r1'][1]}; stopped "
+                   f"because {s['searched']['stopped']}.")
     if plot:
         typer.echo(f"  wrote {plot}")
 
