@@ -65,6 +65,11 @@ SEQ_TRUNCATE = "the sequential plan's default truncation is 3 x the single n, no
 DOUBLE_R1 = ("the double designer now searches every r1 from c1 + 1 to c2 + 1, not only "
              "c2 + 1: smaller ASN (AQL 1 %, RQL 5 %: n1=80, c1=1, r1=3, n2=160, c2=6 at 103.09 "
              "against 108.56); minimality by brute force in test_design_double.py")
+SEQ_NOTATION = ("a sequential plan written with its risk points keeps them in its notation (p1, "
+                "alpha, p2, beta; per_unit when said), so the lines follow the scope")
+SEQ_PROMISE = ("sequential design keeps its promise: the exact truncated plan must meet both "
+               "risks, so Wald's lines are adjusted (AQL 1 %, RQL 5 %) or the design is refused "
+               "(truncate 10 cannot reach the targets: exit 1 with the nearest plan)")
 #: Deliberate, named differences: "case_name:json.path" -> reason.
 CHANGED: dict[str, str] = {
     # Every plan now has notation() (the plan interface); a single plan's was null.
@@ -149,6 +154,12 @@ CHANGED: dict[str, str] = {
     "design_compare_all_defects:json.plans[1]": DOUBLE_R1,
     "compare_designed_with_plan:json.plans[1]": DOUBLE_R1,
     "compare_designed_defects:json.plans[1]": DOUBLE_R1,
+    "check_sequential_p:json.notation": SEQ_NOTATION,
+    "check_sequential_lot:json.notation": SEQ_NOTATION,
+    "check_sequential_lot_aoq_simple:json.notation": SEQ_NOTATION,
+    "design_sequential_short_truncate:exit": SEQ_PROMISE,
+    "design_sequential_short_truncate:json": SEQ_PROMISE,
+    "design_compare_all:json.plans[2]": SEQ_PROMISE,
 }
 
 #: What ``main`` prints on stderr when a command failed with an internal error.

@@ -120,6 +120,7 @@ def plan_report(plan, targets, scope: Scope, model: str | None = None, *, design
 
         return single_report(plan, targets, scope, model, design=design, verdict=verdict)
     model = scope.check_model(model)
+    plan = plan.for_scope(scope)
     risks: dict[str, ModelRisk] = {m: risks_under(plan, targets, scope, m) for m in scope.models}
     quality = plan_quality(plan, targets, scope, model)
     la, lr = _levels(targets, scope, model)
@@ -239,6 +240,12 @@ def _statements(rep: dict, plan, scope: Scope) -> list[str]:
     ok = lambda b: "met" if b else "NOT met"  # noqa: E731
     q = rep["plan_quality"]
     a = rep["asn"]
+    if rep.get("never_accepts"):
+        return [f"This plan never accepts a lot: the acceptance number is below 0 at every "
+                f"unit up to the truncation point (the midpoint line there is "
+                f"{plan.midpoint:.4g}), so every lot is rejected after {rep['n_max']} units "
+                "at most and Pa is 0 at every quality level. Lower h1 or raise h2 (or the "
+                "truncation point) before using it.", SAFETY]
     out = [
         f"Accepts {lots} {lvl(t['aql'])} (the AQL) {_pct(m['pa_aql'])} of the time: "
         f"producer's risk {_pct_vs(m['alpha'], t['alpha'])} against a target of "

@@ -267,6 +267,7 @@ def check_other(p, *, aql, rql, alpha, beta, lot, model, defects, as_json):
     al, be = common.risks(alpha, beta)
     scope, mdl = _scope(lot, defects, model)
     _fits_lot(p, scope)
+    p = p.for_scope(scope)
     if not r > a:
         _levels_out_of_order(a, r, defects, as_json)
     targets = Targets(aql=a, rql=r, alpha=al, beta=be)
@@ -292,6 +293,7 @@ def oc_other(p, *, lot, model, defects, max_p, points, at, aql, rql, csv, plot, 
 
     scope, mdl = _scope(lot, defects, model)
     _fits_lot(p, scope)
+    p = p.for_scope(scope)
     a, r = common.levels(aql, rql, defects, need=False)
     plot = _plot_path(plot)
     ps = _grid(p, scope, mdl, max_p, points, at, r)  # the single plans' grid
@@ -386,10 +388,10 @@ def next_unit(
     p = parse_plan(plan)
     n = parse_count(inspected, "--inspected", minimum=0)
     d = parse_count(found, "--found", minimum=0)
-    if p.scheme == "single":
-        from lotwise.core.types import Scope
+    from lotwise.core.types import Scope
 
-        p.check_scope(Scope(defects=defects))  # c > n only for nonconformities per unit
+    p = p.for_scope(Scope(defects=defects))  # c > n, sequential lines: per the scope
+    if p.scheme == "single":
         dec = p.decide(n, d, defects=defects)
     else:
         dec = p.decide(n, d, defects=defects)

@@ -397,13 +397,7 @@ def design_double(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 
     cap_total = max_n
     if lot_size is not None:
         cap_total = lot_size if cap_total is None else min(cap_total, lot_size)
-    n1_cap = None
-    if cap_total is not None:
-        n1_cap = int(max(0, math.floor(cap_total / (1 + ratio))) + 2)
-        while n1_cap > 0 and n1_cap + int(_n2(n1_cap, ratio)) > cap_total:
-            n1_cap -= 1
-        if n1_cap < 1:
-            raise Infeasible(f"no double plan fits in {cap_total} units with ratio {ratio}")
+    n1_cap = _n1_cap(cap_total, ratio)
 
     def lower_bound(c2: int) -> int | None:
         """Smallest n1 with n1 + n2 >= n_single(c2); None if no single n fits."""
@@ -571,6 +565,18 @@ def _search_r1(ev, best, lower_bound, ratio, n1_cap, alpha, beta, minimize):
                   "c2": "the smallest meeting alpha for each n1, c1, r1",
                   "n1": "L(r1 - 1) to the best ASN", "plans_evaluated": ev.evaluated - evaluated0,
                   "stopped": stop}
+
+
+def _n1_cap(cap_total, ratio):
+    """Largest n1 with n1 + n2 within ``cap_total`` (None: no cap)."""
+    if cap_total is None:
+        return None
+    n1_cap = int(max(0, math.floor(cap_total / (1 + ratio))) + 2)
+    while n1_cap > 0 and n1_cap + int(_n2(n1_cap, ratio)) > cap_total:
+        n1_cap -= 1
+    if n1_cap < 1:
+        raise Infeasible(f"no double plan fits in {cap_total} units with ratio {ratio}")
+    return n1_cap
 
 
 def _better(a, b) -> bool:

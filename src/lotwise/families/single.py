@@ -346,13 +346,7 @@ def design_single(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 
             {"n": nm, "c": c, "alpha": a, "beta": float(kernel.at_rql(nm, c))})
 
     start, width = 0, 64
-    c_limit = None
-    if model == "hypergeometric":
-        c_limit = kernel.d2  # c >= D2 accepts every lot at the RQL
-    if cap is not None and not defects:
-        # Items: c <= n <= cap. Nonconformities per unit have no such bound on
-        # c; the search ends where n_min passes the cap (it never falls in c).
-        c_limit = cap if c_limit is None else min(c_limit, cap)
+    c_limit = _c_limit(kernel, cap, model, defects)
     while True:
         stop = start + width if c_limit is None else min(start + width, c_limit)
         if stop <= start:
@@ -374,6 +368,16 @@ def design_single(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 
         if c_limit is None and start > 10_000_000:
             raise Infeasible("no plan found with an acceptance number below 10,000,000; "
                              "the AQL and RQL are too close together")
+
+
+def _c_limit(kernel: Kernel, cap: int | None, model: str, defects: bool) -> int | None:
+    """Bound on the acceptance numbers worth trying (None: none)."""
+    c_limit = kernel.d2 if model == "hypergeometric" else None  # c >= D2 accepts all at the RQL
+    if cap is not None and not defects:
+        # Items: c <= n <= cap. Nonconformities per unit have no such bound on
+        # c; the search ends where n_min passes the cap (it never falls in c).
+        c_limit = cap if c_limit is None else min(c_limit, cap)
+    return c_limit
 
 
 def _cap_infeasible(kernel: Kernel, targets: Targets, cap: int | None, lot_size: int | None,
