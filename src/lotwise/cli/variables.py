@@ -169,22 +169,14 @@ def check_cmd(plan, *, aql, rql, alpha, beta, as_json):
     if not r > a:
         common.fail(f"the RQL ({format_level(r)}) must be above the AQL ({format_level(a)})", 1,
                     {"feasible": False, "reason": "rql must be above aql"}, as_json)
-    sim = plan.exact_model == "estimate-simulated"
-    if sim:
-        from lotwise.families.variables import simulate_estimate_method
-
-        pa, se = simulate_estimate_method(plan.n, plan.m, [a, r])
-        pa_a, pa_r = float(pa[0].min()), float(pa[1].max())
-        se_a, se_r = float(se[0][pa[0].argmin()]), float(se[1][pa[1].argmax()])
-    else:
-        pa_a, pa_r = _risks(plan, a, r)
+    est = plan.exact_model == "estimate-exact"
+    pa_a, pa_r = _risks(plan, a, r)
     meets = (1 - pa_a) <= al + 1e-12 and pa_r <= be + 1e-12
     rep = {"scheme": "variables", **plan.to_dict(), "targets": {"aql": a, "alpha": al,
                                                                  "rql": r, "beta": be},
            "pa_aql": pa_a, "pa_rql": pa_r, "alpha": 1 - pa_a, "beta": pa_r, "meets": meets}
-    if sim:
+    if est:
         one = plan.pa([a, r], "noncentral-t")
-        rep["simulated"] = {"se_aql": se_a, "se_rql": se_r}
         rep["one_tail_exact"] = {"pa_aql": float(one[0]), "pa_rql": float(one[1])}
     if plan.limit == "both" and plan.sigma == "known" and plan.width is None:
         rep["convention"] = "worst case over where the mean sits (tolerance width not given)"
@@ -198,10 +190,9 @@ def check_cmd(plan, *, aql, rql, alpha, beta, as_json):
                  f"(target {_pct(al)})",
                  f"  accepts at the RQL {format_level(r)}: Pa {pa_r:.5f}, beta {_pct(pa_r)} "
                  f"(target {_pct(be)})"]
-        if sim:
-            lines.append(f"  (simulated worst split of the nonconforming between the tails, "
-                         f"standard error {max(se_a, se_r):.4f}; with the mean near one limit "
-                         f"exactly {rep['one_tail_exact']['pa_aql']:.5f} and "
+        if est:
+            lines.append(f"  (worst split of the nonconforming between the tails, exact; with "
+                         f"the mean near one limit {rep['one_tail_exact']['pa_aql']:.5f} and "
                          f"{rep['one_tail_exact']['pa_rql']:.5f})")
         if "convention" in rep:
             lines.append(f"  (two limits: {rep['convention']})")
@@ -235,7 +226,7 @@ def oc_cmd(plan, *, max_p, points, at, aql, rql, csv, plot, force, as_json):
     if band:
         header.append("pa_lower")
         cols.append(np.asarray(plan.pa(ps, envelope="lower"), dtype=float))
-    if plan.exact_model == "estimate-simulated":
+    if plan.exact_model == "estimate-exact":
         header.append("pa_one_tail_noncentral_t")
         cols.append(np.asarray(plan.pa(ps, "noncentral-t"), dtype=float))
     rows = [[float(pv)] + [float(c[i]) for c in cols] for i, pv in enumerate(ps)]
@@ -249,19 +240,14 @@ def oc_cmd(plan, *, max_p, points, at, aql, rql, csv, plot, force, as_json):
         save_figure(fig, plot, force=force, option="--plot")
     if as_json:
         out = {"scheme": "variables", **plan.to_dict(), "columns": header, "rows": rows}
-        if plan.exact_model == "estimate-simulated":
-            from lotwise.families.variables import SPLIT_SHARES
-
-            out["simulation"] = {"reps": 4000, "lower_tail_shares": list(SPLIT_SHARES),
-                                 "se_max": 0.5 / math.sqrt(4000)}
         common.emit_json(out)
     elif csv != "-":
         typer.echo(f"OC table for variables plan {plan.label} (model: {plan.exact_model})")
         if band:
             typer.echo("  pa = largest Pa over where the mean sits (consumer's worst case), "
                        "pa_lower = smallest (producer's)")
-        if plan.exact_model == "estimate-simulated":
-            typer.echo("  simulated with 4,000 samples per level (standard error at most 0.008)")
+        if plan.exact_model == "estimate-exact":
+            typer.echo("  exact: quadrature over the law of s at the worst split of each level")
         shown = [[f"{100 * row[0]:.4g} %"] + [f"{v:.5f}" for v in row[1:]] for row in rows]
         typer.echo(common.table(shown, header))
         for path in (csv, plot):
@@ -274,7 +260,7 @@ def _top(plan, rql):
     lo, hi = 0.0, 1.0
     for _ in range(60):
         mid = 0.5 * (lo + hi)
-        if float(plan.pa(mid) if plan.exact_model != "estimate-simulated"
+        if float(plan.pa(mid) if plan.exact_model != "estimate-exact"
                  else plan.pa(mid, "noncentral-t")) > 0.01:
             lo = mid
         else:
