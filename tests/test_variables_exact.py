@@ -232,3 +232,18 @@ def test_no_nodes_at_import():
             "print(t.gauss_legendre.cache_info().currsize, t.boundary.cache_info().currsize)")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     assert out.stdout.split() == ["0", "0"]
+
+
+@pytest.mark.parametrize("m", [0.03, 0.2])
+def test_three_units_hole_closed_form(m):
+    # Reference: for n = 3 the estimate is arccos(a Q)/pi (the arcsine law,
+    # b = 1/2); the hole half-width u of the acceptance set about h solves
+    # arccos(h + u) + arccos(h - u) = pi M (mpmath, 30 digits; 1e-12), and
+    # below h_sat = cos^2(pi M/2) nothing is accepted.
+    bd = T.boundary(3, m)
+    assert bd.h_sat == pytest.approx(math.cos(math.pi * m / 2) ** 2, rel=1e-12)
+    for h in np.linspace(bd.h_sat, bd.h_hole, 7)[1:-1]:
+        u = float(bd.hole(h))
+        with mp.workdps(30):
+            lhs = mp.acos(mp.mpf(h) + u) + mp.acos(mp.mpf(h) - u)
+        assert float(lhs) == pytest.approx(math.pi * m, abs=1e-12)

@@ -177,28 +177,32 @@ class Boundary:
         return np.where((t > -1.0) & (t < 1.0), out, 0.0)
 
     def solve(self, h):
-        """``T(h)`` for ``h >= h0``: the root of ``phi(t) = M`` in ``[t1, h]``,
-        where ``phi`` falls; Newton steps kept inside a shrinking bracket
-        (bisection where a step would leave it), to full double precision."""
+        """``T(h)`` for ``h >= h0``: with ``u = h - t`` the condition
+        ``psi(u) = Gbar(h - u) + Gbar(h + u) - M = 0`` is even in ``u`` and
+        rises on ``[0, h - t1]``, so Newton steps on ``v = u^2`` (where the
+        root is simple even at ``h = h0``, where it is double in ``u``),
+        kept inside a shrinking bracket, reach full precision in a few
+        steps."""
         h = np.asarray(h, dtype=float)
-        lo = np.full(h.shape, self.t1)
-        hi = h.copy()
-        t = lo.copy()
-        for _ in range(80):
-            f = self.gbar(t) + self.gbar(2.0 * h - t) - self.m
-            lo = np.where(f >= 0, t, lo)
-            hi = np.where(f <= 0, t, hi)
-            slope = self.density(2.0 * h - t) - self.density(t)
+        lo = np.zeros(h.shape)  # psi <= 0
+        hi = (h - self.t1) ** 2  # psi >= 0
+        v = 0.5 * hi
+        for _ in range(60):
+            u = np.sqrt(v)
+            f = self.gbar(h - u) + self.gbar(h + u) - self.m
+            lo = np.where(f <= 0, v, lo)
+            hi = np.where(f >= 0, v, hi)
             with np.errstate(all="ignore"):
-                nt = t - f / slope
-            inside = (slope < 0) & (nt > lo) & (nt < hi)
-            nt = np.where(inside, nt, 0.5 * (lo + hi))
-            if np.all(np.abs(nt - t) <= 1e-16 * np.maximum(1.0, np.abs(t))) or \
-                    np.all(hi - lo <= 1e-15):
-                t = nt
+                slope = np.where(u > 0, (self.density(h - u) - self.density(h + u))
+                                 / (2.0 * u), 0.0)
+                nv = v - f / slope
+            inside = (slope > 0) & (nv > lo) & (nv < hi)
+            nv = np.where(inside, nv, 0.5 * (lo + hi))
+            done = (np.abs(nv - v) <= 1e-13 * v) | (f == 0) | (hi - lo <= 1e-15 * hi)
+            v = nv
+            if done.all():
                 break
-            t = nt
-        return t
+        return h - np.sqrt(v)
 
     def _theta_to_h(self, theta):
         return self.h0 + (self.h_sat - self.h0) * np.sin(0.5 * np.pi * theta) ** 2

@@ -1185,37 +1185,54 @@ def _edge(n, m, level, which):
     return float(pa_estimate_two(n, m, np.array([level]), which)[0])
 
 
-def _m_root(f, start, up: bool):
-    """Where the increasing ``f(M)`` changes sign near ``start``: the bracket
-    grows by 2 % steps from ``start`` (up when ``f(start) < 0``, else down),
-    then Brent's method to 1e-11 relative, then the two sides are checked.
-    Returns ``(below, above)`` with ``f(below) < 0 <= f(above)`` (``below``
-    None when ``f >= 0`` down to 1e-300), or None when ``f < 0`` up to 1."""
-    from scipy.optimize import brentq
+def _m_root(f, start, up: bool = True):
+    """Where the increasing ``f(M)`` changes sign near ``start``.
 
-    lo = hi = start
-    f_lo = f_hi = f(start)
-    while f_hi < 0:
-        lo, f_lo, hi = hi, f_hi, min(hi * 1.02, 0.5 * (1.0 + hi))
-        if hi >= 1.0 - 1e-12:
-            return None
-        f_hi = f(hi)
-    while f_lo >= 0:
-        hi, f_hi, lo = lo, f_lo, lo / 1.02
-        if lo <= 1e-300:
-            return None, hi
-        f_lo = f(lo)
-    r = brentq(f, lo, hi, xtol=1e-300, rtol=1e-11)
-    above, below = r, r
-    for _ in range(200):
-        if f(above) >= 0:
+    A bracket is grown from ``start`` (0.5 % first, secant-guided and at
+    least doubling), then narrowed by regula falsi with the Illinois
+    modification (both ends move; superlinear) to 1e-11 relative. Returns
+    ``(below, above)`` with ``f(below) < 0 <= f(above)`` (``below`` None when
+    ``f >= 0`` down to 1e-300), or None when ``f < 0`` up to ``M = 1``.
+    ``up`` is kept for the callers' reading: the search goes where the sign
+    says.
+    """
+    x0, f0 = start, f(start)
+    step = 0.005
+    while True:  # grow a bracket
+        x1 = x0 * (1 + step) if f0 < 0 else x0 / (1 + step)
+        if x1 >= 1.0:
+            x1 = 0.5 * (x0 + 1.0)
+            if x1 - x0 <= 1e-12:
+                return None
+        if x1 <= 1e-300:
+            return None, x0
+        f1 = f(x1)
+        if (f0 < 0) != (f1 < 0):
             break
-        above = min(hi, above * (1 + 1e-11))
-    for _ in range(200):
-        if f(below) < 0:
-            break
-        below = max(lo, below * (1 - 1e-11))
-    return below, above
+        if f1 != f0:  # aim past the secant's root, but at least double the step
+            guess = abs((x1 - x0) * f1 / (f1 - f0)) / x1
+            step = max(2.0 * step, min(1.5 * guess, 1.0))
+        else:
+            step *= 4.0
+        x0, f0 = x1, f1
+    (a, fa), (b, fb) = ((x0, f0), (x1, f1)) if x0 < x1 else ((x1, f1), (x0, f0))
+    side = 0
+    while b - a > 1e-11 * b:
+        c = b - fb * (b - a) / (fb - fa)
+        if not a < c < b:
+            c = 0.5 * (a + b)
+        fc = f(c)
+        if fc < 0:
+            a, fa = c, fc
+            if side == -1:
+                fb *= 0.5
+            side = -1
+        else:
+            b, fb = c, fc
+            if side == 1:
+                fa *= 0.5
+            side = 1
+    return a, b
 
 
 def _m_low(n, targets: Targets, guess: float):
