@@ -61,7 +61,8 @@ PER_UNIT_C = ("nonconformities per unit: c may exceed n, so AQL 0.5 / RQL 2 per 
 ATI_PER_UNIT = "least-ATI search per unit may now use c > n: n = 9, c = 12 (was n = 19, c = 18)"
 DOUBLE_PER_UNIT = ("per unit the shared smallest-n search no longer assumes n >= c: same plan, "
                    "a different c2 stopping point and count of plans searched")
-SEQ_TRUNCATE = "the sequential plan's default truncation is 3 x the single n, now 5 (see design_single_defects)"
+SEQ_TRUNCATE = ("the sequential plan's default truncation is 3 x the single n, now 5 "
+                "(see design_single_defects)")
 DOUBLE_R1 = ("the double designer now searches every r1 from c1 + 1 to c2 + 1, not only "
              "c2 + 1: smaller ASN (AQL 1 %, RQL 5 %: n1=80, c1=1, r1=3, n2=160, c2=6 at 103.09 "
              "against 108.56); minimality by brute force in test_design_double.py")
@@ -104,7 +105,8 @@ CHANGED: dict[str, str] = {
     "design_double_defects:json.search.plans_evaluated": DOUBLE_PER_UNIT,
     "design_double_defects:json.search.stopped": DOUBLE_PER_UNIT,
     "design_sequential_defects:json.single_n":
-        "the single plan it is compared with is smaller per unit (n = 5, c = 5, see design_single_defects)",
+        "the single plan it is compared with is smaller per unit (n = 5, c = 5, see "
+        "design_single_defects)",
     "design_compare_all_defects:json.plans[0]": PER_UNIT_C,
     "compare_designed_defects:json.plans[0]": PER_UNIT_C,
     "design_compare_all_defects:json.plans[2]": SEQ_TRUNCATE,

@@ -51,16 +51,20 @@ Quadrature and its error
 quantiles ``1e-16`` and ``1 - 1e-16`` (truncation error at most ``2e-16``),
 split where the integrand stops being analytic: at ``W = a d/(2 h_sat)``
 and ``W = a d/(2 h0)`` (``d/(2k)`` for the k-method), and for ``n = 3`` at
-the hole's edge. Each piece takes a 64-point Gauss-Legendre rule, on
+the hole's edge. Each piece takes a Gauss-Legendre rule, on
 ``W`` itself where the integrand is analytic up to both ends, and on
-``theta`` with ``W = W_a + (W_b - W_a) sin^2(pi theta/2)`` where an end is a
-square-root or power-law point (the map makes the integrand analytic
-there). For an integrand analytic in the Bernstein ellipse of parameter
+``theta`` with ``W = W_a + (W_b - W_a) psi(theta)`` where an end is a
+square-root or power-law point (``psi = sin^2(pi theta/2)`` for both ends,
+``theta^2`` or ``1 - (1 - theta)^2`` for one: the map makes the integrand
+analytic there). For an integrand analytic in the Bernstein ellipse of parameter
 ``rho`` the N-point rule errs by at most ``64 M_rho rho^(-2N)/(15 (rho^2 - 1))``
 (L. N. Trefethen, "Is Gauss quadrature better than Clenshaw-Curtis?",
-SIAM Review 50, 2008, Theorem 4.5); measured against a 30-digit mpmath
-integral (``tests/test_variables_exact.py``) the total stays below 1e-10
-for ``n`` from 3 to 1,000.
+SIAM Review 50, 2008, Theorem 4.5). Measured: against mpmath integrals at
+16-20 digits (``tests/test_variables_exact.py``, ``n`` from 2 to 200) the
+agreement is about 1e-14; against rules of 400 points per piece the error
+stays below 6e-11 for ``n`` up to 5,000 and about 1e-10 at 20,000 (48
+points per piece up to ``n = 400``, 96 above); the interpolated boundary
+adds at most about ``n`` times 1e-14.
 
 The OC at a total fraction nonconforming ``p`` depends on how ``p`` splits
 between the tails; :func:`band` gives the smallest and the largest ``Pa``

@@ -589,8 +589,9 @@ def design_catalogue(df, *, deliveries_per_year: float | None = None, progress=N
         uerr = np.full(distinct, "", dtype=object)
         ufull = np.zeros(distinct, dtype=bool)
         # Which problems the array search can take.
+        # Nonconformities per unit (c may exceed n) go to the single designer.
         simple = ((u["scheme"] == "single") & (u["max_n"] == 0) & (u["rql"] > u["aql"])
-                  & (u["alpha"] + u["beta"] < 1.0)).to_numpy().copy()
+                  & (u["alpha"] + u["beta"] < 1.0) & ~u["defects"].astype(bool)).to_numpy().copy()
         hyper = (u["model"] == "hypergeometric").to_numpy()
         if hyper.any():
             Nh = u["lot"].to_numpy(dtype=float)

@@ -291,7 +291,7 @@ def loads(text: str, path: str = "<plan>") -> PlanRequest:
             if not isinstance(v, int) or isinstance(v, bool) or v < 0:
                 raise InputError(f"{path}: {w}c ({v!r}) must be a whole number of at least 0")
             c = v
-            if n is not None and c > n:
+            if n is not None and c > n and not defects:  # per unit c may exceed n
                 raise InputError(f"{path}: {w}c ({c}) must not be greater than sampling.n ({n})")
         plan = None
         if "plan" in ch:

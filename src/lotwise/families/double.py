@@ -445,7 +445,8 @@ def design_double(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 
                              else ev.x_rql, model, scope))
     amax, at = double_max_asn(plan.n1, plan.c1, plan.r1, plan.n2, model, lot_size)
     search = {"c1": [0, "c2 - 1"], "c2_searched": [1, c2_last], "c2_cap": C2_CAP,
-              "n1_cap": n1_cap, "ratio": ratio, "r1": "c2 + 1 in this pass; every c1 < r1 <= c2 in the second (searched)",
+              "n1_cap": n1_cap, "ratio": ratio,
+              "r1": "c2 + 1 in this pass; every c1 < r1 <= c2 in the second (searched)",
               "plans_evaluated": ev.evaluated, "stopped": stopped,
               "searched": r1_search}
     return DoubleDesign(plan=plan, model=model, scope=scope, targets=targets, ratio=ratio,

@@ -1330,7 +1330,8 @@ def _design_estimate_method(targets: Targets, *, lower, upper, k_rule, max_n,
         f"Estimate method: accept when the estimated fraction beyond both limits is at most "
         f"M = {m:.5g}, equivalent with one limit to k = {plan.k_equivalent:.4f}. The two-limit "
         f"risks are exact for every split of the nonconforming between the tails (quadrature "
-        f"over the law of s, error below 1e-10; the worst split found by a bounded search); "
+        f"over the law of s, error about 1e-10 or less; the worst split found by a bounded "
+        f"search); "
         f"any M from {m_lo:.6g} to {m_hi:.6g} meets both risks in every split with n = {n}.",
         f"With the mean near one limit the risks are those of the noncentral t: alpha "
         f"{format_pct(1 - two['one_tail_exact']['pa_aql'])}, beta "
