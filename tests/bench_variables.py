@@ -4,11 +4,14 @@ from __future__ import annotations
 
 import numpy as np
 
+from lotwise.core.twolimit import boundary
 from lotwise.families.variables import design_variables
 from lotwise.families.variables import VariablesPlan
 
 PLAN = VariablesPlan(n=42, k=1.901, sigma="unknown", limit="upper")
 PS = np.linspace(0.0, 0.3, 500)
+TWO = VariablesPlan(n=43, m=0.02648, sigma="unknown", limit="both")
+PS200 = np.linspace(0.0, 0.15, 200)
 
 CASES = [
     {"name": "variables: unknown-sigma exact design, AQL 1 %/RQL 6 % (n = 42)",
@@ -24,4 +27,11 @@ CASES = [
      "func": lambda: PLAN.pa(PS)},
     {"name": "variables: 500-point OC band, two limits, sigma known, width unknown",
      "func": lambda: VariablesPlan(n=17, k=1.919, sigma="known", limit="both").pa(PS)},
+    {"name": "variables: 200-point exact OC, two limits, sigma unknown (upper edge)",
+     "func": lambda: TWO.pa(PS200), "goal_ms": 100},
+    # The boundary cache is cleared each time: a design builds a fresh one per M tried.
+    {"name": "variables: exact two-limit design, sigma unknown, AQL 1 %/RQL 6 % (n = 43)",
+     "func": lambda: (boundary.cache_clear(),
+                      design_variables(aql=0.01, rql=0.06, sigma="unknown", limit="both",
+                                       attributes=False)), "goal_ms": 1000, "repeat": 5},
 ]

@@ -57,7 +57,7 @@ def test_design_double_json(capsys):
     assert set(rep["asn"]) >= {"aql", "rql", "max"}
     for m in rep["models"].values():
         assert MODEL_KEYS <= set(m)
-    assert rep["n2"] == 2 * rep["n1"] and rep["r1"] == rep["c2"] + 1
+    assert rep["n2"] == 2 * rep["n1"] and rep["c1"] < rep["r1"] <= rep["c2"] + 1
     assert rep["models"]["binomial"]["meets"] is True
 
 

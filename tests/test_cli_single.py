@@ -110,7 +110,7 @@ def test_oc_does_not_overwrite_user_file(capsys, tmp_path):
     (["design", "--aql", "nan", "--rql", "5%"], "--aql"),
     (["design", "--aql", "inf", "--rql", "5%"], "--aql"),
     (["check", "--n", "10", "--aql", "1%", "--rql", "5%"], "--n and --c"),
-    (["check", "--n", "10", "--c", "11", "--aql", "1%", "--rql", "5%"], "--c (11) must not be greater than --n (10)"),
+    (["check", "--n", "10", "--c", "11", "--aql", "1%", "--rql", "5%"], "c (11) must not be greater than n (10) when counting nonconforming items"),
     (["check", "--plan", "n=10;c", "--aql", "1%", "--rql", "5%"], "--plan"),
     (["check", "--plan", "n=10,c=2,r=5", "--aql", "1%", "--rql", "5%"], "r (5) must be c + 1"),
     (["check", "--n", "600", "--c", "2", "--lot-size", "500", "--aql", "1%", "--rql", "5%"], "lot"),
@@ -166,3 +166,17 @@ def test_console_script_and_import_hygiene():
     r = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=60)
     assert json.loads(r.stdout)["model"] == "hypergeometric"
     assert r.stderr.strip() == "LOADED:"
+
+
+def test_check_plan_with_c_above_n_per_unit(capsys):
+    # Reference: scipy.stats.poisson: n = 1, c = 5 at 2 and 10 nonconformities
+    # per unit accepts 0.983 and 0.067 (1e-3); the same plan counting items is
+    # refused with one line and exit 2.
+    code, out, err = run(capsys, "check", "--plan", "n=1,c=5", "--defects", "--aql", "2",
+                         "--rql", "10", "--json")
+    assert code == 0, err
+    rep = json.loads(out)["models"]["poisson"]
+    assert rep["pa_aql"] == pytest.approx(0.983, abs=1e-3)
+    assert rep["pa_rql"] == pytest.approx(0.067, abs=1e-3)
+    code, out, err = run(capsys, "check", "--plan", "n=1,c=5", "--aql", "2%", "--rql", "10%")
+    assert code == 2 and len(err.strip().splitlines()) == 1 and "c (5)" in err

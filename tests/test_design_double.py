@@ -17,14 +17,16 @@ from lotwise.core.quantities import InputError, Infeasible
 
 def _brute(aql, rql, alpha, beta, ratio, model, lot=None, n1_max=200, c2_max=12,
            minimize="asn-aql"):
-    """Every (n1, c1 < c2) plan in the box, evaluated with scipy.stats (a
-    reference library our code does not call), and the best objective."""
+    """Every (n1, c1 < r1 <= c2 + 1, c1 < c2) plan in the box, evaluated with
+    scipy.stats (a reference library our code does not call), and the best
+    (objective, n1, c2, c1, r1) under the designer's tie order."""
     n1 = np.arange(1, n1_max + 1)
     n2 = np.floor(n1 * ratio + 0.5).astype(int)
     best = None
     grid = np.linspace(0, 0.5, 4001)
-    for c2 in range(1, c2_max + 1):
-        for c1 in range(0, c2):
+    for c2, c1, r1 in ((c2, c1, r1) for c2 in range(1, c2_max + 1) for c1 in range(0, c2)
+                       for r1 in range(c1 + 1, c2 + 2)):
+        if True:
             if lot is not None:
                 ok_n = n1 + n2 <= lot
             else:
@@ -46,7 +48,7 @@ def _brute(aql, rql, alpha, beta, ratio, model, lot=None, n1_max=200, c2_max=12,
                     F2 = lambda c, d: stats.hypergeom.cdf(c, lot - n1, D - d, n2)  # noqa: E731
                 pa = F1.copy()
                 second = np.zeros(n1.shape)
-                for d1 in range(c1 + 1, c2 + 1):
+                for d1 in range(c1 + 1, r1):
                     f = f1(d1)
                     second += f
                     pa += f * F2(c2 - d1, d1)
@@ -63,21 +65,24 @@ def _brute(aql, rql, alpha, beta, ratio, model, lot=None, n1_max=200, c2_max=12,
                 continue
             obj = n1 + n2 * sec
             if minimize == "asn-max":
-                m = [max(n1[i] + n2[i] * (stats.binom.cdf(c2, n1[i], grid)
+                m = [max(n1[i] + n2[i] * (stats.binom.cdf(r1 - 1, n1[i], grid)
                                           - stats.binom.cdf(c1, n1[i], grid)))
                      for i in np.flatnonzero(feas)]
                 obj = np.full(n1.shape, np.inf)
                 obj[np.flatnonzero(feas)] = m
             obj = np.where(feas, obj, np.inf)
             i = int(np.argmin(obj))
-            if best is None or obj[i] < best[0]:
-                best = (float(obj[i]), int(n1[i]), c1, c2)
+            cand = (float(obj[i]), int(n1[i]), c2, c1, r1)
+            if best is None or cand[0] < best[0] * (1 - 1e-9) or (
+                    cand[0] <= best[0] * (1 + 1e-9) and cand[1:] < best[1:]):
+                best = cand
     return best
 
 
-# Reference: exhaustive enumeration in a box (n1 <= 200, c2 <= 12) with
-# scipy.stats; the designer must find the same optimum (objective to 1e-9
-# relative) and its plan must meet both risks.
+# Reference: exhaustive enumeration in a box (n1 <= 200, c2 <= 12, every
+# c1 < r1 <= c2 + 1) with scipy.stats; the designer must find the same
+# optimum (objective to 1e-9 relative, the same plan under the tie order) and
+# its plan must meet both risks.
 @pytest.mark.parametrize("aql, rql, ratio, model, lot", [
     (0.02, 0.10, 1.0, "binomial", None),
     (0.02, 0.10, 2.0, "binomial", None),
@@ -91,6 +96,7 @@ def test_designer_matches_brute_force(aql, rql, ratio, model, lot):
     ref = _brute(aql, rql, 0.05, 0.10, ratio, model, lot)
     assert d.objective == pytest.approx(ref[0], rel=1e-9)
     assert d.plan.n1 <= 200 and d.plan.c2 <= 12  # the optimum lies inside the box
+    assert (d.plan.n1, d.plan.c2, d.plan.c1, d.plan.r1) == ref[1:]
     scope = Scope(lot_size=lot)
     r = d.plan
     if model == "hypergeometric":
@@ -122,9 +128,24 @@ def test_double_beats_single_on_asn_at_aql():
 
 def test_designer_search_record():
     d = design_double(aql=0.01, rql=0.05)
-    assert d.search["r1"] == "c2 + 1"
     assert "larger c2 only raise this bound" in d.search["stopped"]
-    assert d.plan.r1 == d.plan.c2 + 1 and d.plan.n2 == 2 * d.plan.n1
+    assert d.search["searched"]["r1"][0] == 1 and "r1 = " in d.search["searched"]["stopped"]
+    assert d.plan.n2 == 2 * d.plan.n1
+
+
+def test_designer_searches_r1():
+    # Reference: scipy.stats.binom by hand for n1=80, c1=1, r1=3, n2=160,
+    # c2=6 at AQL 1 % / RQL 5 %: Pa 0.9535 / 0.0975 (both risks met), ASN at
+    # the AQL 103.09 (1e-2), below the 108.56 of the best plan with r1 = c2 + 1.
+    d = design_double(aql=0.01, rql=0.05, ratio=2)
+    assert d.plan.label == "n1=80, c1=1, r1=3, n2=160, c2=6"
+    f = stats.binom.pmf(2, 80, 0.01)
+    pa = stats.binom.cdf(1, 80, 0.01) + f * stats.binom.cdf(4, 160, 0.01)
+    assert pa >= 0.95
+    g = stats.binom.pmf(2, 80, 0.05)
+    assert stats.binom.cdf(1, 80, 0.05) + g * stats.binom.cdf(4, 160, 0.05) <= 0.10
+    assert d.asn["aql"] == pytest.approx(80 + 160 * f, rel=1e-12)
+    assert d.asn["aql"] == pytest.approx(103.09, abs=1e-2)
 
 
 @pytest.mark.parametrize("kw, err", [
@@ -173,4 +194,5 @@ def test_sequential_design_lot_cap():
 
 def test_double_plan_equals_designed_label():
     d = design_double(aql=0.01, rql=0.05)
-    assert d.plan == DoublePlan(n1=d.plan.n1, c1=d.plan.c1, n2=d.plan.n2, c2=d.plan.c2)
+    assert d.plan == DoublePlan(n1=d.plan.n1, c1=d.plan.c1, n2=d.plan.n2, c2=d.plan.c2,
+                                r1=d.plan.r1)

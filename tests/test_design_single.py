@@ -227,3 +227,74 @@ def test_poisson_verdict_poor_case():
     v = poisson_verdict(d.plan, t, Scope())
     assert v.poisson_plan.n > d.n
     assert v.max_error > 0.02
+
+
+# --- nonconformities per unit: c may exceed n ---------------------------------
+
+def _brute_per_unit(aql, rql, alpha, beta, n_top=120, c_top=400):
+    """Smallest n (then smallest c) with Poisson Pa(AQL) >= 1 - alpha and
+    Pa(RQL) <= beta, by trying every (n, c) with scipy.stats.poisson."""
+    from scipy.stats import poisson
+
+    cs = np.arange(c_top + 1)
+    for n in range(1, n_top + 1):
+        ok = (poisson.cdf(cs, n * aql) >= 1 - alpha - 1e-12) & \
+             (poisson.cdf(cs, n * rql) <= beta + 1e-12)
+        if ok.any():
+            return n, int(cs[np.argmax(ok)])
+    raise AssertionError("no plan in the brute-force range")
+
+
+PER_UNIT_CASES = [
+    # (aql, rql, alpha, beta): levels in nonconformities per unit; several of
+    # them are met only by an acceptance number above the sample size.
+    (0.2, 3.0, 0.10, 0.25), (2.0, 10.0, 0.05, 0.10), (1.0, 4.0, 0.05, 0.10),
+    (0.5, 2.0, 0.05, 0.10), (3.0, 6.0, 0.05, 0.10), (0.05, 0.4, 0.05, 0.10),
+    (5.0, 12.0, 0.10, 0.10), (0.8, 1.5, 0.05, 0.20),
+]
+
+
+@pytest.mark.parametrize("aql,rql,alpha,beta", PER_UNIT_CASES)
+def test_per_unit_design_is_smallest_by_brute_force(aql, rql, alpha, beta):
+    # Reference: enumeration of every (n, c), n <= 120, c <= 400, with
+    # scipy.stats.poisson (not what the designer calls); exact plan equality.
+    d = design_single(aql=aql, rql=rql, alpha=alpha, beta=beta, defects=True)
+    assert (d.n, d.c) == _brute_per_unit(aql, rql, alpha, beta)
+
+
+def test_per_unit_small_plans_named():
+    # Reference: scipy.stats.poisson by hand. n = 1, c = 1 meets AQL 0.2 /
+    # RQL 3 per unit at 10 % / 25 % (Pa 0.982 / 0.199); n = 1, c = 5 meets
+    # AQL 2 / RQL 10 at 5 % / 10 % (Pa 0.983 / 0.067); 1e-3 absolute.
+    from scipy.stats import poisson
+
+    d = design_single(aql=0.2, rql=3.0, alpha=0.10, beta=0.25, defects=True)
+    assert (d.n, d.c) == (1, 1)
+    assert poisson.cdf(1, 0.2) == pytest.approx(0.982, abs=1e-3)
+    assert poisson.cdf(1, 3.0) == pytest.approx(0.199, abs=1e-3)
+    d = design_single(aql=2.0, rql=10.0, defects=True)
+    assert (d.n, d.c) == (1, 5)
+    assert poisson.cdf(5, 2.0) == pytest.approx(0.983, abs=1e-3)
+    assert poisson.cdf(5, 10.0) == pytest.approx(0.067, abs=1e-3)
+
+
+@pytest.mark.parametrize("n", [1, 2, 3, 7])
+def test_per_unit_fixed_n_smallest_c(n):
+    # Reference: enumeration of c with scipy.stats.poisson: the smallest c with
+    # Pa(AQL) >= 1 - alpha at the fixed n (here c may exceed n).
+    from scipy.stats import poisson
+
+    aql, rql = 2.0, 10.0
+    d = design_single(aql=aql, rql=rql, defects=True, n=n)
+    cs = np.arange(200)
+    want = int(cs[np.argmax(poisson.cdf(cs, n * aql) >= 0.95 - 1e-12)])
+    assert d.c == want and d.c > n
+
+
+def test_c_above_n_only_for_nonconformities_per_unit():
+    # Facts of the trade: a sample of n items cannot hold more than n
+    # nonconforming ones, but n units may carry more than n nonconformities.
+    plan = SinglePlan(n=1, c=5)
+    plan.check_scope(Scope(defects=True))
+    with pytest.raises(InputError, match=r"c \(5\) must not be greater than n \(1\)"):
+        plan.check_scope(Scope())

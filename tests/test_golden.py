@@ -54,6 +54,28 @@ IGNORED_KEYS = frozenset({
     "report",  # validate: report paths carry the date
 })
 
+PER_UNIT_C = ("nonconformities per unit: c may exceed n, so AQL 0.5 / RQL 2 per unit needs "
+              "n = 5, c = 5 (was n = 9, c = 8: the old search assumed n = c accepts every lot); "
+              "checked by brute force with scipy.stats.poisson in test_design_single.py")
+
+ATI_PER_UNIT = "least-ATI search per unit may now use c > n: n = 9, c = 12 (was n = 19, c = 18)"
+DOUBLE_PER_UNIT = ("per unit the shared smallest-n search no longer assumes n >= c: same plan, "
+                   "a different c2 stopping point and count of plans searched")
+SEQ_TRUNCATE = ("the sequential plan's default truncation is 3 x the single n, now 5 "
+                "(see design_single_defects)")
+DOUBLE_R1 = ("the double designer now searches every r1 from c1 + 1 to c2 + 1, not only "
+             "c2 + 1: smaller ASN (AQL 1 %, RQL 5 %: n1=80, c1=1, r1=3, n2=160, c2=6 at 103.09 "
+             "against 108.56); minimality by brute force in test_design_double.py")
+SEQ_NOTATION = ("a sequential plan written with its risk points keeps them in its notation (p1, "
+                "alpha, p2, beta; per_unit when said), so the lines follow the scope")
+SEQ_PROMISE = ("sequential design keeps its promise: the exact truncated plan must meet both "
+               "risks, so Wald's lines are adjusted (AQL 1 %, RQL 5 %) or the design is refused "
+               "(truncate 10 cannot reach the targets: exit 1 with the nearest plan)")
+VARIABLES_EXACT = ("two-limit variables plans with sigma unknown: the OC is exact (quadrature over "
+                   "the law of s, band edges by a bounded search), no longer a seeded simulation; "
+                   "model estimate-exact; the old designed plan n = 43, M = 0.02657 carries beta "
+                   "10.07 % exactly, so the design is now n = 43, M = 0.02648 and the check of n = "
+                   "43, k = 1.902 falls short")
 #: Deliberate, named differences: "case_name:json.path" -> reason.
 CHANGED: dict[str, str] = {
     # Every plan now has notation() (the plan interface); a single plan's was null.
@@ -95,6 +117,122 @@ CHANGED: dict[str, str] = {
         "the AOQL sentence states the simple-formula AOQL",
     # The demo scenario gained plans/qp-8850-seal-cartridge.toml (a designed double plan).
     "check_plans_folder:json.characteristics": "one more plan file in plans/ (QP-8850)",
+    # Nonconformities per unit: acceptance numbers above the sample size.
+    "design_single_defects:json.c": PER_UNIT_C,
+    "design_single_defects:json.n": PER_UNIT_C,
+    "design_single_defects:json.r": PER_UNIT_C,
+    "design_single_defects:json.models": PER_UNIT_C,
+    "design_single_defects:json.plan_quality": PER_UNIT_C,
+    "design_single_defects:json.poisson_design": PER_UNIT_C,
+    "design_single_defects:json.poisson_verdict": PER_UNIT_C,
+    "design_single_defects:json.statements": PER_UNIT_C,
+    "design_ati_defects:json.aoql": ATI_PER_UNIT,
+    "design_ati_defects:json.aoql_p": ATI_PER_UNIT,
+    "design_ati_defects:json.ati_process_average": ATI_PER_UNIT,
+    "design_ati_defects:json.c": ATI_PER_UNIT,
+    "design_ati_defects:json.n": ATI_PER_UNIT,
+    "design_ati_defects:json.r": ATI_PER_UNIT,
+    "design_ati_defects:json.models": ATI_PER_UNIT,
+    "design_ati_defects:json.pa_process_average": ATI_PER_UNIT,
+    "design_ati_defects:json.searched": ATI_PER_UNIT,
+    "design_ati_defects:json.statements": ATI_PER_UNIT,
+    "design_double_defects:json.search.c2_searched": DOUBLE_PER_UNIT,
+    "design_double_defects:json.search.plans_evaluated": DOUBLE_PER_UNIT,
+    "design_double_defects:json.search.stopped": DOUBLE_PER_UNIT,
+    "design_sequential_defects:json.single_n":
+        "the single plan it is compared with is smaller per unit (n = 5, c = 5, see "
+        "design_single_defects)",
+    "design_compare_all_defects:json.plans[0]": PER_UNIT_C,
+    "compare_designed_defects:json.plans[0]": PER_UNIT_C,
+    "design_compare_all_defects:json.plans[2]": SEQ_TRUNCATE,
+    "compare_designed_defects:json.plans[2]": SEQ_TRUNCATE,
+    "design_double_ratio2:json.asn": DOUBLE_R1,
+    "design_double_ratio2:json.asn_curtailed": DOUBLE_R1,
+    "design_double_ratio2:json.c2": DOUBLE_R1,
+    "design_double_ratio2:json.label": DOUBLE_R1,
+    "design_double_ratio2:json.models": DOUBLE_R1,
+    "design_double_ratio2:json.n1": DOUBLE_R1,
+    "design_double_ratio2:json.n2": DOUBLE_R1,
+    "design_double_ratio2:json.n_max": DOUBLE_R1,
+    "design_double_ratio2:json.notation": DOUBLE_R1,
+    "design_double_ratio2:json.objective": DOUBLE_R1,
+    "design_double_ratio2:json.plan_quality": DOUBLE_R1,
+    "design_double_ratio2:json.poisson_design": DOUBLE_R1,
+    "design_double_ratio2:json.poisson_verdict": DOUBLE_R1,
+    "design_double_ratio2:json.r1": DOUBLE_R1,
+    "design_double_ratio2:json.search": DOUBLE_R1,
+    "design_double_ratio2:json.statements": DOUBLE_R1,
+    "design_double_ratio1:json.poisson_design": DOUBLE_R1,
+    "design_double_ratio1:json.search": DOUBLE_R1,
+    "design_double_asn_max:json.asn": DOUBLE_R1,
+    "design_double_asn_max:json.asn_curtailed": DOUBLE_R1,
+    "design_double_asn_max:json.c1": DOUBLE_R1,
+    "design_double_asn_max:json.c2": DOUBLE_R1,
+    "design_double_asn_max:json.label": DOUBLE_R1,
+    "design_double_asn_max:json.models": DOUBLE_R1,
+    "design_double_asn_max:json.n1": DOUBLE_R1,
+    "design_double_asn_max:json.n2": DOUBLE_R1,
+    "design_double_asn_max:json.n_max": DOUBLE_R1,
+    "design_double_asn_max:json.notation": DOUBLE_R1,
+    "design_double_asn_max:json.objective": DOUBLE_R1,
+    "design_double_asn_max:json.plan_quality": DOUBLE_R1,
+    "design_double_asn_max:json.poisson_design": DOUBLE_R1,
+    "design_double_asn_max:json.poisson_verdict": DOUBLE_R1,
+    "design_double_asn_max:json.r1": DOUBLE_R1,
+    "design_double_asn_max:json.search": DOUBLE_R1,
+    "design_double_asn_max:json.statements": DOUBLE_R1,
+    "design_double_lot:json.search": DOUBLE_R1,
+    "design_double_defects:json.asn": DOUBLE_R1,
+    "design_double_defects:json.asn_curtailed": DOUBLE_R1,
+    "design_double_defects:json.label": DOUBLE_R1,
+    "design_double_defects:json.models": DOUBLE_R1,
+    "design_double_defects:json.notation": DOUBLE_R1,
+    "design_double_defects:json.objective": DOUBLE_R1,
+    "design_double_defects:json.plan_quality": DOUBLE_R1,
+    "design_double_defects:json.r1": DOUBLE_R1,
+    "design_double_defects:json.search": DOUBLE_R1,
+    "design_double_defects:json.statements": DOUBLE_R1,
+    "design_compare_all:json.plans[1]": DOUBLE_R1,
+    "design_compare_all_defects:json.plans[1]": DOUBLE_R1,
+    "compare_designed_with_plan:json.plans[1]": DOUBLE_R1,
+    "compare_designed_defects:json.plans[1]": DOUBLE_R1,
+    "check_sequential_p:json.notation": SEQ_NOTATION,
+    "check_sequential_lot:json.notation": SEQ_NOTATION,
+    "check_sequential_lot_aoq_simple:json.notation": SEQ_NOTATION,
+    "design_sequential_short_truncate:exit": SEQ_PROMISE,
+    "design_sequential_short_truncate:json": SEQ_PROMISE,
+    "design_compare_all:json.plans[2]": SEQ_PROMISE,
+    "design_variables_unknown_both:json.alpha": VARIABLES_EXACT,
+    "design_variables_unknown_both:json.beta": VARIABLES_EXACT,
+    "design_variables_unknown_both:json.k": VARIABLES_EXACT,
+    "design_variables_unknown_both:json.k_range": VARIABLES_EXACT,
+    "design_variables_unknown_both:json.m": VARIABLES_EXACT,
+    "design_variables_unknown_both:json.model": VARIABLES_EXACT,
+    "design_variables_unknown_both:json.notation": VARIABLES_EXACT,
+    "design_variables_unknown_both:json.pa_aql": VARIABLES_EXACT,
+    "design_variables_unknown_both:json.pa_rql": VARIABLES_EXACT,
+    "design_variables_unknown_both:json.plan": VARIABLES_EXACT,
+    "design_variables_unknown_both:json.previous_n": VARIABLES_EXACT,
+    "design_variables_unknown_both:json.statements[0]": VARIABLES_EXACT,
+    "design_variables_unknown_both:json.statements[2]": VARIABLES_EXACT,
+    "design_variables_unknown_both:json.statements[3]": VARIABLES_EXACT,
+    "design_variables_unknown_both:json.statements[7]": VARIABLES_EXACT,
+    "design_variables_unknown_both:json.statements[8]": VARIABLES_EXACT,
+    "design_variables_unknown_both:json.two_limit": VARIABLES_EXACT,
+    "check_variables_unknown_both:exit": VARIABLES_EXACT,
+    "check_variables_unknown_both:json.alpha": VARIABLES_EXACT,
+    "check_variables_unknown_both:json.beta": VARIABLES_EXACT,
+    "check_variables_unknown_both:json.meets": VARIABLES_EXACT,
+    "check_variables_unknown_both:json.model": VARIABLES_EXACT,
+    "check_variables_unknown_both:json.pa_aql": VARIABLES_EXACT,
+    "check_variables_unknown_both:json.pa_rql": VARIABLES_EXACT,
+    "check_variables_unknown_both:json.simulated": VARIABLES_EXACT,
+    "oc_variables_unknown_both:json.model": VARIABLES_EXACT,
+    "oc_variables_unknown_both:json.rows[0]": VARIABLES_EXACT,
+    "oc_variables_unknown_both:json.rows[1]": VARIABLES_EXACT,
+    "oc_variables_unknown_both:json.simulation": VARIABLES_EXACT,
+    "judge_unknown_both:json.plan": VARIABLES_EXACT,
+    "judge_file_unknown_both:json.plan": VARIABLES_EXACT,
 }
 
 #: What ``main`` prints on stderr when a command failed with an internal error.

@@ -146,6 +146,10 @@ def _stop(seq, sizes, acc, rej, stages="all", accept=True):
     for i, n in enumerate(sizes):
         end = m + n
         curtail = stages == "all" or i == k - 1
+        # At the start of a stage (a boundary): accepted without inspecting it
+        # when even an all-nonconforming stage keeps the count within acc[i].
+        if curtail and accept and acc[i] >= 0 and d + n <= acc[i]:
+            return "accept", m
         for u in range(m, end):
             d += seq[u]
             left = end - (u + 1)
@@ -192,11 +196,16 @@ PLANS_SMALL = [
     DoublePlan(n1=4, c1=0, n2=6, c2=2),
     DoublePlan(n1=5, c1=1, r1=3, n2=5, c2=3),
     MultiplePlan(n=(3, 3, 4), c=(None, 1, 2), r=(2, 3, 3)),
+    # Acceptance certain at a stage boundary: a short last stage whose
+    # acceptance number covers it whole, and c1 = n1 (certain before any unit).
+    DoublePlan(n1=8, c1=0, r1=3, n2=1, c2=2),
+    MultiplePlan(n=(6, 2, 2), c=(None, 3, 4), r=(3, 5, 5)),
+    DoublePlan(n1=3, c1=3, r1=5, n2=2, c2=4),
 ]
 
 
-# Reference: brute-force enumeration of every unit sequence (2^10 of them)
-# with the stopping rules applied unit by unit; tolerance 1e-12.
+# Reference: brute-force enumeration of every unit sequence (at most 2^10 of
+# them) with the stopping rules applied unit by unit; tolerance 1e-12.
 @pytest.mark.parametrize("plan", PLANS_SMALL, ids=lambda p: p.label)
 @pytest.mark.parametrize("kw", [{}, {"stages": "last"}, {"accept": False},
                                 {"stages": "last", "accept": False}], ids=str)
@@ -217,6 +226,47 @@ def test_curtailed_asn_hypergeometric_brute_force(plan, N, D):
     pa, asn = _brute_hyper(plan, N, D)
     assert plan.asn_curtailed(D / N, "hypergeometric", scope) == pytest.approx(asn, abs=1e-12)
     assert plan.pa_count(D, scope) == pytest.approx(pa, abs=1e-12)
+
+
+def _rule_asn(sizes, acc, rej, p):
+    """Curtailed ASN by carrying the probability of each (units, count)
+    state unit by unit under the same stage rule as :func:`_stop` (an
+    enumeration of states, for plans too long for every sequence)."""
+    states, asn, start = {0: 1.0}, 0.0, 0
+    for i, n in enumerate(sizes):
+        end = start + n
+        for m in range(start, end + 1):
+            nxt = {}
+            for d, w in states.items():
+                stop = (m == end and (d <= acc[i] or d >= rej[i])) or d >= rej[i] \
+                    or (acc[i] >= 0 and d + end - m <= acc[i])
+                if stop:
+                    asn += w * m
+                elif m < end:
+                    nxt[d] = nxt.get(d, 0.0) + w * (1 - p)
+                    nxt[d + 1] = nxt.get(d + 1, 0.0) + w * p
+                else:
+                    nxt[d] = nxt.get(d, 0.0) + w
+            states = nxt
+        start = end
+    assert not states
+    return asn
+
+
+@pytest.mark.parametrize("text,asn", [
+    ("n1=20,c1=0,r1=3,n2=1,c2=2", 19.8118), ("n1=30,c1=1,r1=4,n2=2,c2=4", 29.5157),
+    ("multiple: n=10/2/2; c=-/3/4; r=3/5/5", 10.0568), ("n1=3,c1=3,r1=5,n2=2,c2=4", 0.0),
+])
+def test_curtailed_asn_accepts_at_stage_boundary(text, asn):
+    # Reference: enumeration of (units, count) states under the stage rule
+    # (_rule_asn, written here); 1e-12, and the 4-decimal values of the
+    # request, 5e-5. A lot whose count is within the next stage's acceptance
+    # number even if that whole stage were nonconforming is accepted at the
+    # boundary (ASN 0 when c1 >= n1).
+    plan = parse_plan(text)
+    got = plan.asn_curtailed(0.05, "binomial", PROCESS)
+    assert got == pytest.approx(_rule_asn(plan.sizes, plan.acc, plan.rej, 0.05), abs=1e-12)
+    assert got == pytest.approx(asn, abs=5e-5)
 
 
 def test_full_asn_hypergeometric_brute_force():

@@ -94,6 +94,51 @@ def test_hypergeometric_pmf_against_mpmath(k, n, N, D):
     assert oc.hypergeometric_pmf(k, n, N, D) == pytest.approx(ref, rel=1e-12)
 
 
+def mp_hyper_tail(n, c, N, D, dps=50):
+    """P(X <= c) at ``dps`` digits, summing whichever tail has fewer terms
+    (complement taken in mpmath, so no float cancellation)."""
+    with mp.workdps(dps):
+        lo, hi = max(0, n - (N - D)), min(n, D)
+        if c >= hi:
+            return mp.mpf(1)
+        if c < lo:
+            return mp.mpf(0)
+        total = mp.binomial(N, n)
+        term = lambda k: mp.binomial(D, k) * mp.binomial(N - D, n - k) / total  # noqa: E731
+        if c - lo <= hi - c:
+            return mp.fsum(term(k) for k in range(lo, c + 1))
+        return 1 - mp.fsum(term(k) for k in range(c + 1, hi + 1))
+
+
+# Samples that are almost the whole lot (n = N - 1, N - 2, ...), where the
+# saddle-point masses used to lose accuracy at a sampling fraction near one.
+NEAR_FULL = [
+    (5_884_367 - 1, 5_884_109 - 1, 5_884_367, 5_884_109),
+    (874_934_833 - 1, 874_934_833 - 59, 874_934_833, 874_934_833 - 58),
+    (999, 2, 1000, 3), (10**9 - 1, 0, 10**9, 1), (10**9 - 2, 10**9 - 4, 10**9, 10**9 - 3),
+    (10**6 - 5, 10**6 - 80, 10**6, 10**6 - 77), (10**6 - 5, 3, 10**6, 7),
+    (700, 200, 1000, 300), (600, 10, 1000, 30), (90_000, 29_950, 100_000, 33_300),
+    (51, 20, 100, 40), (99, 49, 100, 50),
+]
+
+
+@pytest.mark.parametrize("n,c,N,D", NEAR_FULL)
+def test_hypergeometric_large_sample_against_mpmath(n, c, N, D):
+    # Reference: mpmath exact sums of binomial-coefficient ratios at 50 digits;
+    # relative 1e-13 (absolute 1e-300 for a zero).
+    n, c, N, D = int(n), int(c), int(N), int(D)
+    ref = float(mp_hyper_tail(n, c, N, D))
+    assert oc.pa_hypergeometric(n, c, N, D) == pytest.approx(ref, rel=1e-13, abs=1e-300)
+
+
+@pytest.mark.parametrize("N,D", [(5_884_367, 5_884_109), (874_934_833, 874_934_833 - 58),
+                                 (1000, 3), (10**9, 1), (10**9, 10**9 - 1), (10, 5), (2, 1)])
+def test_hypergeometric_all_but_one_item(N, D):
+    # Reference: exact identity P(X <= D - 1) = 1 - P(X = D) = 1 - (N - D)/N = D/N
+    # for n = N - 1 (one item left in the lot); to rounding (4 ulp).
+    assert oc.pa_hypergeometric(N - 1, D - 1, N, D) == pytest.approx(D / N, rel=1e-15)
+
+
 def test_textbook_table_n50_c1():
     # A textbook exercise table (plan n = 50, c = 1, binomial), 5 decimals.
     ps = [0.005, 0.01, 0.02, 0.03, 0.04, 0.05, 0.06, 0.08]

@@ -9,6 +9,7 @@ import re
 
 import numpy as np
 import pytest
+from hypothesis import given, settings, strategies as st
 
 from lotwise.core.types import Scope
 from lotwise.families.base import parse_plan
@@ -336,3 +337,156 @@ def test_sequential_notation():
 def test_sequential_notation_errors(text, words):
     with pytest.raises(InputError, match=re.escape(words)):
         parse_plan(text)
+
+
+# --- nonconformities per unit, plans that never accept, designs that keep
+#     their promise ------------------------------------------------------------
+
+def _poisson_lines(l1, a, l2, b):
+    """Wald's SPRT lines for a Poisson count per unit (Wald, Sequential
+    Analysis, Wiley 1947, ch. 5): k = ln(l2/l1), s = (l2 - l1)/k."""
+    k = math.log(l2 / l1)
+    return math.log((1 - a) / b) / k, math.log((1 - b) / a) / k, (l2 - l1) / k
+
+
+def test_risk_notation_takes_the_scope():
+    # Reference: the Poisson lines by hand (Wald 1947, ch. 5): p1 = 0.05,
+    # p2 = 0.2 per unit gives h1 1.623964, h2 2.084963, s 0.108202 (1e-6),
+    # not the binomial 1.44485, 1.85501, 0.110292.
+    ref = _poisson_lines(0.05, 0.05, 0.2, 0.10)
+    assert ref == pytest.approx((1.623964, 2.084963, 0.108202), abs=1e-6)
+    plan = parse_plan("sequential: p1=0.05,p2=0.2,truncate=40")
+    assert (plan.h1, plan.h2, plan.s) == pytest.approx((1.44485, 1.85501, 0.110292), abs=1e-5)
+    per_unit = plan.for_scope(Scope(defects=True))
+    assert (per_unit.h1, per_unit.h2, per_unit.s) == pytest.approx(ref, rel=1e-12)
+    assert plan.for_scope(PROCESS) == plan
+    said = parse_plan("sequential: p1=0.05,p2=0.2,per_unit=1,truncate=40")
+    assert said == per_unit and parse_plan(said.notation()) == said
+    with pytest.raises(InputError, match="per_unit=1"):
+        said.check_scope(PROCESS)
+    with pytest.raises(InputError, match="add per_unit=1"):
+        parse_plan("sequential: p1=0.5,p2=2,truncate=40")
+
+
+def test_risk_notation_per_unit_on_the_command_line(capsys):
+    # Reference: as above; check --defects reports the Poisson lines.
+    import json
+
+    from lotwise.cli import main
+
+    code = main(["check", "--plan", "sequential: p1=0.05,p2=0.2,truncate=40", "--defects",
+                 "--aql", "0.05", "--rql", "0.2", "--json"])
+    rep = json.loads(capsys.readouterr().out)
+    assert code in (0, 1)
+    assert (rep["h1"], rep["h2"], rep["s"]) == pytest.approx(
+        _poisson_lines(0.05, 0.05, 0.2, 0.10), rel=1e-12)
+    code = main(["check", "--plan", "sequential: p1=0.05,p2=0.2,per_unit=1,truncate=40",
+                 "--aql", "5%", "--rql", "20%"])
+    err = capsys.readouterr().err
+    assert code == 2 and len(err.strip().splitlines()) == 1 and "per_unit" in err
+
+
+def test_plan_that_never_accepts(capsys):
+    # Reference: the midpoint line at truncation s n0 + (h2 - h1)/2 computed by
+    # hand from Wald's lines is negative, so no count is ever accepted: Pa is
+    # exactly 0 and the report says so first.
+    import json
+
+    from lotwise.cli import main
+
+    text = "sequential: p1=0.00132,p2=0.00323,alpha=0.0802,beta=0.0187,truncate=257"
+    plan = parse_plan(text)
+    p1, a, p2, b = 0.00132, 0.0802, 0.00323, 0.0187
+    k = math.log(p2 * (1 - p1) / (p1 * (1 - p2)))
+    h1, h2 = math.log((1 - a) / b) / k, math.log((1 - b) / a) / k
+    s = math.log((1 - p1) / (1 - p2)) / k
+    assert s * 257 + (h2 - h1) / 2 < 0
+    assert plan.never_accepts
+    assert np.all(plan.pa(np.array([0.0, 1e-6, 0.001, 0.1]), "binomial", PROCESS) == 0.0)
+    assert plan.asn_curtailed(0.001, "binomial", PROCESS) == 0.0
+    main(["check", "--plan", text, "--aql", "0.132%", "--rql", "0.323%", "--json"])
+    rep = json.loads(capsys.readouterr().out)
+    assert rep["never_accepts"] is True
+    assert rep["statements"][0].startswith("This plan never accepts a lot")
+    assert not parse_plan("sequential: p1=1%,p2=6%,truncate=300").never_accepts
+
+
+def _dp_pa(h1, h2, s, n0, p):
+    """Exact Pa of the truncated plan (items), written here: counts carried
+    unit by unit in a dict, accept on d <= floor(s n - h1), reject on
+    d >= ceil(h2 + s n), at n0 accept on d <= floor(s n0 + (h2 - h1)/2)."""
+    state, acc = {0: 1.0}, 0.0
+    for n in range(1, n0 + 1):
+        new = {}
+        for d, w in state.items():
+            new[d] = new.get(d, 0.0) + w * (1 - p)
+            new[d + 1] = new.get(d + 1, 0.0) + w * p
+        if n < n0:
+            a, r = math.floor(s * n - h1 + 1e-9), math.ceil(h2 + s * n - 1e-9)
+        else:
+            a = math.floor(s * n0 + (h2 - h1) / 2 + 1e-9)
+            r = a + 1
+        state = {}
+        for d, w in new.items():
+            if d <= a:
+                acc += w
+            elif d < r:
+                state[d] = w
+    return acc
+
+
+@settings(max_examples=25, deadline=None)
+@given(aql=st.floats(0.005, 0.05), ratio=st.floats(2.5, 6.0), alpha=st.floats(0.02, 0.2),
+       beta=st.floats(0.02, 0.2))
+def test_designed_plan_meets_both_risks(aql, ratio, alpha, beta):
+    # Reference: the exact truncated Pa from _dp_pa (written here, not the
+    # library's dynamic program); the design either meets both risks or says
+    # it cannot (Infeasible). Tolerance 1e-9.
+    from lotwise.core.quantities import Infeasible
+    from lotwise.families.sequential import design_sequential
+
+    rql = min(aql * ratio, 0.4)
+    try:
+        d = design_sequential(aql=aql, rql=rql, alpha=alpha, beta=beta)
+    except Infeasible:
+        return
+    pl = d.plan
+    assert 1 - _dp_pa(pl.h1, pl.h2, pl.s, pl.truncate, aql) <= alpha + 1e-9
+    assert _dp_pa(pl.h1, pl.h2, pl.s, pl.truncate, rql) <= beta + 1e-9
+    assert d.exact["meets"]
+
+
+def test_design_reports_wald_lines_apart():
+    # Reference: Wald's lines by hand (Wald 1947, ch. 5) for AQL 1 %, RQL 5 %;
+    # the exact truncated plan with them misses a risk, so the design raises
+    # the intercepts: its own h1, h2 differ from Wald's, which stay in 'wald'
+    # with Wald's approximate OC there; the plan meets both risks (_dp_pa).
+    from lotwise.families.sequential import design_sequential
+
+    d = design_sequential(aql=0.01, rql=0.05)
+    k = math.log(0.05 * 0.99 / (0.01 * 0.95))
+    wald = (math.log(0.95 / 0.10) / k, math.log(0.90 / 0.05) / k, math.log(0.99 / 0.95) / k)
+    assert (d.wald["h1"], d.wald["h2"], d.wald["s"]) == pytest.approx(wald, rel=1e-12)
+    assert d.wald["lines_used"] is False and d.plan.s == pytest.approx(wald[2], rel=1e-12)
+    assert d.plan.h1 >= wald[0] and d.plan.h2 >= wald[1]
+    assert (d.plan.h1, d.plan.h2) != pytest.approx(wald[:2])
+    assert d.wald["pa_aql"] == pytest.approx(0.95, abs=1e-9)  # Wald's OC at his own lines
+    pl = d.plan
+    assert 1 - _dp_pa(pl.h1, pl.h2, pl.s, pl.truncate, 0.01) <= 0.05 + 1e-9
+    assert _dp_pa(pl.h1, pl.h2, pl.s, pl.truncate, 0.05) <= 0.10 + 1e-9
+    rep = d.report_extra()
+    assert (rep["h1"], rep["h2"], rep["s"], rep["truncate"]) == (pl.h1, pl.h2, pl.s,
+                                                                  pl.truncate)
+
+
+@pytest.mark.parametrize("model,xs", [("binomial", [0.0015, 0.002, 0.0026]),
+                                      ("poisson", [0.001, 0.002, 0.004])])
+def test_blocked_pa_equals_unit_walk(model, xs):
+    # Reference: the unit-by-unit dynamic program (lotwise.core.stages.unit_walk)
+    # for a plan truncated at 6,000 units; 1e-12 absolute.
+    from lotwise.families.sequential import pa_blocked
+
+    plan = SequentialPlan(h1=4.2, h2=3.3, s=0.002, truncate=6000)
+    scope = Scope(defects=model == "poisson")
+    ref = plan.pa(np.array(xs), model, scope)
+    assert pa_blocked(plan, xs, model) == pytest.approx(ref, abs=1e-12)

@@ -367,17 +367,18 @@ def test_estimate_method_one_tail_equals_s_method():
     x = rng.standard_normal((20_000, n))
     q = (z(0.03) - x.mean(axis=1)) / x.std(axis=1, ddof=1)
     assert np.array_equal(np.asarray(V.estimate_unknown(q, n)) <= m, q >= k)
-    pa, se = V.simulate_estimate_method(n, m, [0.01, 0.06], shares=(0.0,))
+    plan = V.VariablesPlan(n=n, m=m, sigma="unknown", limit="both")
     exact = V.pa_unknown(n, k, np.array([0.01, 0.06]))
-    assert np.all(np.abs(pa[:, 0] - exact) <= 4 * se[:, 0])
+    assert plan.pa(np.array([0.01, 0.06]), "noncentral-t") == pytest.approx(exact, abs=1e-12)
 
 
-# Source: seeded Monte Carlo of whole normal samples (a different generator
-# and method from the tool's Latin hypercube draws of xbar and s), centred
-# process with both limits. Tolerance: 4 combined standard errors.
-def test_estimate_method_simulation_against_direct_samples():
+# Source: seeded Monte Carlo of whole normal samples, centred process with
+# both limits (the exact band's edges hold the centred value between them).
+# Tolerance: 4 standard errors.
+def test_estimate_method_exact_against_direct_samples():
     n, m, p = 20, 0.05, 0.06
-    pa, se = V.simulate_estimate_method(n, m, [p], shares=(0.5,))
+    plan = V.VariablesPlan(n=n, m=m, sigma="unknown", limit="both")
+    lo, up = plan.pa(p, envelope="lower"), plan.pa(p)
     rng = np.random.default_rng(2024)
     reps = 20_000
     x = rng.standard_normal((reps, n))
@@ -386,20 +387,20 @@ def test_estimate_method_simulation_against_direct_samples():
     tot = np.asarray(V.estimate_unknown((lim - xbar) / s, n)) + \
         np.asarray(V.estimate_unknown((xbar + lim) / s, n))
     direct = float(np.mean(tot <= m))
-    se2 = math.sqrt(direct * (1 - direct) / reps)
-    assert abs(pa[0, 0] - direct) <= 4 * math.hypot(se[0, 0], se2)
+    se = math.sqrt(direct * (1 - direct) / reps)
+    assert lo - 4 * se <= direct <= up + 4 * se
 
 
-def test_estimate_method_design_meets_simulated_worst_case():
+def test_estimate_method_design_meets_exact_worst_case():
     d = design_variables(aql=0.01, rql=0.06, sigma="unknown", limit="both")
     one = design_variables(aql=0.01, rql=0.06, sigma="unknown")
     assert d.n >= one.n
-    sim = d.two_limit["simulation"]
-    assert min(sim["pa_aql"]) >= 0.95 and max(sim["pa_rql"]) <= 0.10
-    assert d.pa_aql == min(sim["pa_aql"]) and d.pa_rql == max(sim["pa_rql"])
-    assert all(0 < s < 0.01 for s in sim["se_aql"] + sim["se_rql"])
+    band = d.two_limit["band"]
+    assert band["aql"]["lower"] >= 0.95 and band["rql"]["upper"] <= 0.10
+    assert d.pa_aql == band["aql"]["lower"] and d.pa_rql == band["rql"]["upper"]
     d2 = d.as_dict()
     assert d2["m"] == d.plan.m and d2["k"] == pytest.approx(d.plan.k_equivalent)
+    assert d2["model"] == "estimate-exact"
 
 
 # --- plan class and notation ------------------------------------------------------

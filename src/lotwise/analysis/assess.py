@@ -221,6 +221,7 @@ def assess(plan: Plan, targets: Targets, scope: Scope | None = None, model: str 
         Poisson-based design of the same family would choose.
     """
     scope = scope or Scope()
+    plan = plan.for_scope(scope)
     fam = family_of(plan)
     model = plan.judging_model(scope, model)
     formula = parse_choice(AoqFormula, aoq_formula or "screened", "--aoq-formula").value
@@ -243,7 +244,10 @@ def assess(plan: Plan, targets: Targets, scope: Scope | None = None, model: str 
         extra = dict(design.report_extra())
         extra_statements += [s for s in extra.pop("statements", []) if s != SAFETY]
         rep.update(extra)
-    rep["statements"] = _statements(rep, plan, scope) + extra_statements + [SAFETY]
+    if rep.get("never_accepts"):  # the family's extras say why first
+        rep["statements"] = extra_statements + [SAFETY]
+    else:
+        rep["statements"] = _statements(rep, plan, scope) + extra_statements + [SAFETY]
     return Assessment(plan=plan, targets=targets, scope=scope, model=model, design=design,
                       report=rep)
 

@@ -120,7 +120,7 @@ def _variables_top(plan, rql):
     lo, hi = 0.0, 1.0
     for _ in range(60):
         mid = 0.5 * (lo + hi)
-        if float(plan.pa(mid) if plan.exact_model != "estimate-simulated"
+        if float(plan.pa(mid) if plan.exact_model != "estimate-exact"
                  else plan.pa(mid, "noncentral-t")) > 0.01:
             lo = mid
         else:
@@ -144,12 +144,12 @@ def variables_oc(plan, *, max_p=None, points="21", at=None, rql=None) -> dict:
     if band:
         header.append("pa_lower")
         cols.append(np.asarray(plan.pa(ps, envelope="lower"), dtype=float))
-    if plan.exact_model == "estimate-simulated":
+    if plan.exact_model == "estimate-exact":
         header.append("pa_one_tail_noncentral_t")
         cols.append(np.asarray(plan.pa(ps, "noncentral-t"), dtype=float))
     rows = [[float(pv)] + [float(c[i]) for c in cols] for i, pv in enumerate(ps)]
     out = {"scheme": "variables", **plan.to_dict(), "columns": header, "rows": rows}
-    if plan.exact_model == "estimate-simulated":
+    if plan.exact_model == "estimate-exact":
         from lotwise.families.variables import SPLIT_SHARES
 
         out["simulation"] = {"reps": 4000, "lower_tail_shares": list(SPLIT_SHARES),

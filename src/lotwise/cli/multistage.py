@@ -120,12 +120,16 @@ def _design_double(targets, scope, mdl, ratio, minimize, cap, plot, force, as_js
     if pdd and "n1" in pdd:
         verdict = "meets" if pdd["meets"] else "does NOT meet"
         typer.echo(f"  A Poisson-based double design picks n1={pdd['n1']}, c1={pdd['c1']}, "
+                   f"r1={pdd.get('r1', pdd['c2'] + 1)}, "
                    f"n2={pdd['n2']}, c2={pdd['c2']}; under the {mdl} model it carries alpha "
                    f"{format_pct(pdd['alpha'])} and beta {format_pct(pdd['beta'])}: it "
                    f"{verdict} the targets.")
     s = d.search
     typer.echo(f"  Search: c1 < c2, c2 from 1 to {s['c2_searched'][1]} ({s['plans_evaluated']:,} "
                f"plans evaluated); stopped because {s['stopped']}.")
+    if "searched" in s:
+        typer.echo(f"  Then every c1 < r1 <= c2 with r1 up to {s['searched']['r1'][1]}; stopped "
+                   f"because {s['searched']['stopped']}.")
     if plot:
         typer.echo(f"  wrote {plot}")
 
@@ -287,9 +291,12 @@ def next_unit(
         raise InputError("--found is required (nonconforming found so far, for example 2)")
     n = parse_count(inspected, "--inspected", minimum=0)
     d = parse_count(found, "--found", minimum=0)
+    from lotwise.core.types import Scope
+
     ref = plan_from_reference(plan)
-    p = ref.plan
-    dec = p.decide(n, d, defects=defects or ref.defects)
+    per_unit = bool(defects or ref.defects)
+    p = ref.plan.for_scope(Scope(defects=per_unit))  # c > n, sequential lines: per the scope
+    dec = p.decide(n, d, defects=per_unit)
     if as_json:
         out = {"scheme": p.scheme, "plan": p.to_dict(), "notation": p.notation()}
         out.update(dec.as_dict())

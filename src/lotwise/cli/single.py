@@ -176,7 +176,7 @@ def check(
     a, r = common.levels(aql, rql, defects)
     al, be = common.risks(alpha, beta)
     scope, mdl = common.scope_and_model(lot, defects, model)
-    p.check_scope(scope)
+    p = p.for_scope(scope)  # checks the scope; a plan may be meant per the scope
     if not r > a:
         common.levels_out_of_order(a, r, defects, as_json)
     if aoq_formula is not None and not scope.lot_size:
@@ -234,7 +234,7 @@ def oc_table(
         return process_oc(p, max_p=max_p, points=points, at=at, aql=aql, rql=rql, csv=csv,
                           plot=plot, force=force, as_json=as_json)
     scope, mdl = common.scope_and_model(lot, defects, model)
-    p.check_scope(scope)
+    p = p.for_scope(scope)  # checks the scope; a plan may be meant per the scope
     a, r = common.levels(aql, rql, defects, need=False)
     if plot is not None and not plot.lower().endswith((".png", ".svg", ".pdf")):
         raise InputError(f"--plot ({plot}) must end in .png, .svg or .pdf")

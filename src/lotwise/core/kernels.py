@@ -284,6 +284,45 @@ def _lower_tail_sum(x, red, black, n):
     return total.reshape(shape)
 
 
+def _direct_tail(x, n, N, D, upper):
+    """``P(X <= x)`` (``upper`` False) or ``P(X > x)`` (``upper`` True) for
+    ``X ~ H(n, D, N)``, ``0 < n < N``, summed directly: the upper tail as the
+    lower tail of the conforming count, ``P(X > x) = P(n - X <= n - x - 1)``."""
+    red = np.where(upper, N - D, D)
+    black = np.where(upper, D, N - D)
+    y = np.where(upper, n - x - 1.0, x)
+    lo = np.maximum(0.0, n - black)
+    hi = np.minimum(n, red)
+    y_safe = np.clip(y, lo, hi)
+    inside = (n < N) & (n > 0)
+    mass = _hyper_pmf(y_safe, np.where(inside, n, 1.0), np.where(inside, N, 2.0), red)
+    tail = mass * _lower_tail_sum(y_safe, red, black, n)
+    tail = np.where(y < lo, 0.0, tail)
+    return np.where(y >= hi, 1.0, tail)
+
+
+def _hyper_tails(x, n, N, D):
+    """``(P(X <= x), P(X > x))`` for ``X ~ H(n, D, N)`` with ``0 < n < N``,
+    each with full relative accuracy.
+
+    The tail on the far side of ``x`` from the mean ``n D / N`` is summed
+    first (it is the short one); where it still exceeds one half (a mean
+    below one, say), the other tail is summed directly too instead of being
+    taken as one minus it.
+    """
+    x, n, N, D = np.broadcast_arrays(x, n, N, D)
+    upper = x * N > n * D
+    first = _direct_tail(x, n, N, D, upper)
+    other = 1.0 - first
+    redo = np.flatnonzero(np.ravel(first > 0.5))
+    if redo.size:
+        other = np.array(other, dtype=float).ravel()
+        args = (a.ravel()[redo] for a in (x, n, N, D))
+        other[redo] = _direct_tail(*args, ~upper.ravel()[redo])
+        other = other.reshape(first.shape)
+    return np.where(upper, other, first), np.where(upper, first, other)
+
+
 def pa_hypergeometric(n, c, N, D):
     """Probability of acceptance for a finite lot (type A OC curve).
 
@@ -304,29 +343,23 @@ def pa_hypergeometric(n, c, N, D):
 
     Notes
     -----
-    The smaller tail is summed: the lower one when ``c`` is below the mean
-    ``n D / N``; otherwise the tail of the conforming count ``n - X``, since
-    ``P(X <= c) = 1 - P(n - X <= n - c - 1)``. Either way the sum is one mass
-    times a short sum of mass ratios, so its cost grows with the spread of
-    the distribution, not with ``c``.
+    The smaller tail is summed (see :func:`_hyper_tails`), so the cost grows
+    with the spread of the distribution, not with ``c``. When the sample is
+    more than half the lot, the items left in the lot are described instead:
+    the ``D - X`` nonconforming items not drawn are a sample of ``N - n``
+    from the same lot, ``D - X ~ H(N - n, D, N)``, so
+    ``P(X <= c) = P(Y > D - c - 1)`` with ``Y ~ H(N - n, D, N)``. The
+    saddle-point masses then work at a sampling fraction below one half,
+    where they keep full relative accuracy: ``Pa(n = N - 1, c = D - 1)`` is
+    ``D/N`` to rounding even for lots of 1e9.
     """
     n, c, N, D = np.broadcast_arrays(*(np.asarray(a, dtype=float) for a in (n, c, N, D)))
     with np.errstate(all="ignore"):
-        # Below the mean sum the lower tail directly; above it, count the
-        # conforming items instead: P(X <= c) = 1 - P(X' <= n - c - 1).
-        upper = c * N > n * D
-        red = np.where(upper, N - D, D)
-        black = np.where(upper, D, N - D)
-        x = np.where(upper, n - c - 1.0, c)
-        lo = np.maximum(0.0, n - black)
-        hi = np.minimum(n, red)
-        x_safe = np.clip(x, lo, hi)
-        inside = n < N
-        mass = _hyper_pmf(x_safe, np.where(inside, n, 1.0), np.where(inside, N, 2.0), red)
-        tail = mass * _lower_tail_sum(x_safe, red, black, n)
-        tail = np.where(x < lo, 0.0, tail)
-        tail = np.where(x >= hi, 1.0, tail)
-        pa = np.where(upper, 1.0 - tail, tail)
+        big = 2.0 * n > N
+        m = np.where(big, N - n, n)
+        x = np.where(big, D - c - 1.0, c)
+        low, high = _hyper_tails(x, m, N, D)
+        pa = np.where(big, high, low)
         # Exact edges: every lot accepted, or none can be; the whole lot inspected.
         pa = np.where(c >= np.minimum(n, D), 1.0, pa)
         pa = np.where(c < n - (N - D), 0.0, pa)

@@ -48,6 +48,9 @@ class Kernel:
         self.model = model
         self.t = targets
         self.N = scope.lot_size
+        #: Nonconformities per unit: ``c`` may exceed ``n`` and ``n = c`` does
+        #: not accept every lot.
+        self.per_unit = scope.defects
         if model == "hypergeometric":
             self.d1, self.d2 = lot_targets(targets, self.N)
 
@@ -103,7 +106,10 @@ def n_min(kernel: Kernel, c: np.ndarray, beta: float, cap: int | None) -> np.nda
             new = np.minimum(new, limit)
         hi[grow] = new
         ok[grow] = kernel.at_rql(hi[grow], c[grow]) <= beta + TOL
-    lo = np.minimum(c, hi - 1)  # n = c accepts every lot, so Pa = 1 > beta
+    if kernel.per_unit:
+        lo = np.zeros_like(hi)  # n = 0 inspects nothing: Pa = 1 > beta
+    else:
+        lo = np.minimum(c, hi - 1)  # n = c accepts every lot of items, so Pa = 1 > beta
     lo = np.maximum(lo, 0)
     # A tighter lower end where the answer is not far below the bracket's top
     # (checked: only a size whose Pa still exceeds beta may serve as ``lo``).
@@ -125,8 +131,16 @@ def n_min(kernel: Kernel, c: np.ndarray, beta: float, cap: int | None) -> np.nda
 
 
 def c_min(kernel: Kernel, n: int, alpha: float) -> int:
-    """Smallest ``c`` with ``Pa(AQL; n, c) >= 1 - alpha`` (bisection: Pa rises in c)."""
-    lo, hi = -1, n  # c = n accepts every lot
+    """Smallest ``c`` with ``Pa(AQL; n, c) >= 1 - alpha`` (bisection: Pa rises in c).
+
+    Counting items, ``c = n`` accepts every lot and bounds the search; counting
+    nonconformities per unit the upper end is found by doubling from ``n``.
+    """
+    lo, hi = -1, n  # c = n accepts every lot of items
+    if kernel.per_unit:
+        hi = max(n, 1)
+        while float(kernel.at_aql(n, hi)) < 1.0 - alpha - TOL:
+            lo, hi = hi, 2 * hi
     while hi - lo > 1:
         mid = (lo + hi) // 2
         if float(kernel.at_aql(n, mid)) >= 1.0 - alpha - TOL:

@@ -764,8 +764,9 @@ def _solve(good, sol: _Designs, rows_ok, progress, chunk: int) -> int:
 def _solve_by_arrays(u, usol: _Designs, progress, chunk: int) -> int:
     """The array search (:func:`design_many`) for the problems it can take;
     returns how many problems it was given."""
+    # Nonconformities per unit (c may exceed n) go to the single designer.
     simple = ((u["scheme"] == "single") & (u["max_n"] == 0) & (u["rql"] > u["aql"])
-              & (u["alpha"] + u["beta"] < 1.0)).to_numpy().copy()
+              & (u["alpha"] + u["beta"] < 1.0) & ~u["defects"].astype(bool)).to_numpy().copy()
     hyper = (u["model"] == "hypergeometric").to_numpy()
     if hyper.any():
         Nh = u["lot"].to_numpy(dtype=float)

@@ -359,14 +359,15 @@ def _targets(ch: dict, w: str, path: str, defects: bool) -> Targets:
     return Targets(aql=aql, rql=rql, alpha=alpha, beta=beta)
 
 
-def _fixed_c(ch: dict, w: str, path: str, n):
-    """A characteristic's fixed acceptance number (at most ``sampling.n``), or None."""
+def _fixed_c(ch: dict, w: str, path: str, n, defects: bool = False):
+    """A characteristic's fixed acceptance number (at most ``sampling.n`` when
+    items are counted; per unit it may exceed it), or None."""
     if "c" not in ch:
         return None
     v = ch["c"]
     if not isinstance(v, int) or isinstance(v, bool) or v < 0:
         raise InputError(f"{path}: {w}c ({v!r}) must be a whole number of at least 0")
-    if n is not None and v > n:
+    if n is not None and v > n and not defects:
         raise InputError(f"{path}: {w}c ({v}) must not be greater than sampling.n ({n})")
     return v
 
@@ -398,7 +399,7 @@ def _characteristic(ch: dict, i: int, path: str, *, defects: bool, n, seen: set)
         raise InputError(f"{path}: {w}class ({klass!r}) must be one of: "
                          + ", ".join(CLASSES))
     targets = _targets(ch, w, path, defects)
-    c = _fixed_c(ch, w, path, n)
+    c = _fixed_c(ch, w, path, n, defects)
     plan = _own_plan(ch, w, path, c)
     scheme, options = _scheme_options(ch, w, path, defects, c, plan)
     return Characteristic(id=cid, description=_text(ch, "description", w, path),

@@ -256,6 +256,13 @@ class Plan(ABC):
                          meets_beta=bool(pa_rql <= targets.beta + TOL),
                          count_aql=ca, count_rql=cr)
 
+    def for_scope(self, scope: Scope) -> "Plan":
+        """The plan as meant in ``scope`` (after :meth:`check_scope`): itself,
+        unless its notation left something to the scope (a sequential plan
+        written with its risk points takes Poisson lines per unit)."""
+        self.check_scope(scope)
+        return self
+
     def asn(self, p, model: str, scope: Scope, rounding: str = "nearest"):
         """Average sample number at ``p`` (the fixed sample for fixed plans)."""
         return finish(np.full(np.shape(p), float(self.max_sample)), clip=False)

@@ -1,45 +1,58 @@
 """Two-risk design of double sampling plans, by exact search.
 
-Find the double plan ``(n1, c1, r1 = c2 + 1, n2 = round(ratio n1), c2)``
-meeting ``Pa(AQL) >= 1 - alpha`` and ``Pa(RQL) <= beta`` under the chosen
-model that has the smallest average sample number: at the AQL
-(``minimize="asn-aql"``, the default: the quality the supplier is expected
-to ship) or the largest over the whole OC curve (``"asn-max"``). The model
-is exact by default (hypergeometric with a lot size, binomial otherwise,
-Poisson for nonconformities per unit); no Poisson table is involved.
+Find the double plan ``(n1, c1, r1, n2 = round(ratio n1), c2)`` meeting
+``Pa(AQL) >= 1 - alpha`` and ``Pa(RQL) <= beta`` under the chosen model that
+has the smallest average sample number: at the AQL (``minimize="asn-aql"``,
+the default: the quality the supplier is expected to ship) or the largest
+over the whole OC curve (``"asn-max"``). Every rejection number
+``c1 < r1 <= c2 + 1`` is searched. The model is exact by default
+(hypergeometric with a lot size, binomial otherwise, Poisson for
+nonconformities per unit); no Poisson table is involved.
 
 Search and why it is exhaustive
 -------------------------------
 Bounds: ``0 <= c1 < c2 <= 2,000``; ``n1 >= 1`` with ``n1 + n2`` at most the
-lot size (and ``--max-n``); ``n2 = round(ratio n1)`` (halves up),
-``r1 = c2 + 1``. Within them no plan is skipped, because every pruning
-step rests on one of these facts:
+lot size (and ``--max-n``); ``n2 = round(ratio n1)`` (halves up). The search
+runs in two passes: first the plans with ``r1 = c2 + 1`` (the family most
+tables use), then every ``r1 <= c2`` below the best ASN found. Within the
+bounds no plan is skipped, because every pruning step rests on one of these
+facts:
 
-1. **Pa falls in n1** for fixed ``(c1, c2)`` (``n2`` does not decrease as
-   ``n1`` grows). Coupling: with ``r1 = c2 + 1`` the plan accepts exactly
-   when ``S(n1) <= c1`` or ``S(n1 + n2) <= c2``, ``S(m)`` the count in the
-   first ``m`` units inspected; ``S`` does not decrease in ``m``, so a larger
-   plan accepts only lots the smaller one accepts. (The same coupling holds
-   without replacement and for a Poisson process.) Hence the consumer's
-   risk holds exactly for ``n1 >= n_lo(c1, c2)`` and the producer's for
-   ``n1 <= n_hi(c1, c2)``; both ends are found by integer bisection.
-2. **Pa rises in c1 and in c2** (the acceptance event grows), so
+1. **Pa falls in n1** for fixed ``(c1, r1, c2)`` (``n2`` does not decrease
+   as ``n1`` grows). Coupling: the plan accepts exactly when
+   ``S(n1) <= c1``, or ``S(n1) < r1`` and ``S(n1 + n2) <= c2``, ``S(m)`` the
+   count in the first ``m`` units inspected; ``S`` does not decrease in
+   ``m``, so a larger plan accepts only lots the smaller one accepts. (The
+   same coupling holds without replacement and for a Poisson process.)
+   Hence the consumer's risk holds exactly for ``n1 >= n_lo`` and the
+   producer's for ``n1 <= n_hi``; both ends are found by integer bisection.
+2. **Pa rises in c1, in r1 and in c2** (the acceptance event grows), so
    ``n_lo`` does not decrease in ``c1``.
 3. **ASN >= n1** (every plan inspects the first sample), and the largest ASN
    is at least the ASN at the AQL. So once a plan with objective ``A`` is
    known, only ``n1 <= A`` can do better.
-4. **A lower bound for each c2.** The double plan accepts whenever
-   ``S(n1 + n2) <= c2``, so its ``Pa`` is at least that of the single plan
-   ``(n1 + n2, c2)``. Meeting the
-   consumer's risk therefore needs ``n1 + n2 >= n_single(c2)``, the smallest
-   single sample with acceptance number ``c2`` meeting it, which gives
-   ``n1 >= L(c2)``. ``n_single`` does not decrease in ``c2`` (fact 2 for
-   single plans), nor does ``L``. The search takes ``c2 = 1, 2, ...`` and
-   stops at the first ``c2`` with ``L(c2) > A``: no larger ``c2`` can win.
+4. **A lower bound for each c2 (or r1).** The plan accepts whenever the
+   whole sample holds at most ``min(c2, r1 - 1)``, so its ``Pa`` is at least
+   that of the single plan ``(n1 + n2, r1 - 1)`` (``(n1 + n2, c2)`` when
+   ``r1 = c2 + 1``). Meeting the consumer's risk therefore needs
+   ``n1 + n2 >= n_single(r1 - 1)``, the smallest single sample with that
+   acceptance number meeting it, which gives ``n1 >= L(r1 - 1)``.
+   ``n_single`` does not decrease in its acceptance number (fact 2 for
+   single plans), nor does ``L``. The first pass takes ``c2 = 1, 2, ...``
+   and stops at the first ``c2`` with ``L(c2) > A``; the second takes
+   ``r1 = 1, 2, ...`` and stops at the first with ``L(r1 - 1) > A``.
+5. **The ASN does not depend on c2.** Both objectives depend on the second
+   sample only through ``P(c1 < S(n1) < r1)``. So for given
+   ``(n1, c1, r1)`` a plan exists exactly when the smallest ``c2`` meeting
+   the producer's risk also meets the consumer's (fact 2), and that ``c2``
+   is the one the second pass takes.
 
-For each ``c2`` every ``c1 < c2`` and every ``n1`` in
-``[n_lo, min(n_hi, A)]`` is evaluated (vectorised). Ties in the objective
-(within 1e-9 relative) go to the smaller ``n1``, then ``c2``, then ``c1``.
+First pass: for each ``c2`` every ``c1 < c2`` and every ``n1`` in
+``[n_lo, min(n_hi, A)]`` is evaluated (vectorised). Second pass: for each
+``r1`` every ``c1 < r1`` and every ``n1`` from ``L(r1 - 1)`` to ``A``, with
+``c2`` from fact 5. Ties in the objective (within 1e-9 relative) go to the
+smaller ``n1``, then ``c2``, then ``c1``, then ``r1``. What each pass searched
+is reported under ``search`` (``searched`` for the second).
 
 References
 ----------
@@ -56,14 +69,14 @@ second sample twice the first:
 
 >>> d = design_double(aql=0.01, rql=0.05, ratio=2)
 >>> d.plan.label
-'n1=79, c1=1, r1=6, n2=158, c2=5'
->>> round(d.asn["aql"], 1), round(d.asn["rql"], 1)
-(108.6, 190.8)
+'n1=80, c1=1, r1=3, n2=160, c2=6'
+>>> round(d.asn["aql"], 1), round(d.asn["rql"], 1), round(d.asn["max"], 1)
+(103.1, 103.1, 123.9)
 
-against 132 units every time for the single plan (n = 132, c = 3). A
-smaller first sample wins at the RQL side instead: ``minimize="asn-max"``
-gives ``n1=58, c1=0, r1=5, n2=116, c2=4`` with at most 153.7 units on
-average at any quality.
+against 132 units every time for the single plan (n = 132, c = 3). With
+``r1 = c2 + 1`` the best would be ``n1=79, c1=1, r1=6, n2=158, c2=5`` at
+108.6 units at the AQL and up to 195.1 elsewhere: rejecting on the first
+sample at 3 already saves units on both sides.
 """
 
 from __future__ import annotations
@@ -317,29 +330,33 @@ class _Eval:
             self.x_aql, self.x_rql = targets.aql, targets.rql
         self.evaluated = 0
 
-    def parts(self, n1, c1, c2, n2, x):
+    def parts(self, n1, c1, c2, n2, x, r1=None):
         """``(Pa, P(second sample))`` for arrays of plans; every first-sample
-        count ``c1 < d1 <= c2`` is taken in one broadcast kernel call."""
-        n1, c1, c2, n2 = (np.asarray(v, dtype=float) for v in np.broadcast_arrays(n1, c1, c2, n2))
+        count ``c1 < d1 < r1`` (``r1`` defaults to ``c2 + 1``) is taken in one
+        broadcast kernel call."""
+        if r1 is None:
+            r1 = np.asarray(c2) + 1
+        n1, c1, c2, n2, r1 = (np.asarray(v, dtype=float)
+                              for v in np.broadcast_arrays(n1, c1, c2, n2, r1))
         self.evaluated += n1.size
         N = self.N
         acc = stage_cdf(c1, n1, self.model, x, N)
-        jmax = int(np.max(c2 - c1)) if n1.size else 0
+        jmax = int(np.max(r1 - 1 - c1)) if n1.size else 0
         if jmax <= 0:
             return acc, np.zeros(n1.shape)
         j = np.arange(1, jmax + 1, dtype=float).reshape((-1,) + (1,) * n1.ndim)
         d1 = c1 + j
-        valid = d1 <= c2
+        valid = d1 < r1
         f = np.where(valid, stage_pmf(d1, n1, self.model, x, N), 0.0)
         g = stage_cdf(np.where(valid, c2 - d1, -1.0), n2, self.model, x, N, n1,
                       np.where(valid, d1, 0.0))
         return acc + (f * g).sum(axis=0), f.sum(axis=0)
 
-    def pa_rql(self, n1, c1, c2, n2):
-        return self.parts(n1, c1, c2, n2, self.x_rql)[0]
+    def pa_rql(self, n1, c1, c2, n2, r1=None):
+        return self.parts(n1, c1, c2, n2, self.x_rql, r1)[0]
 
-    def at_aql(self, n1, c1, c2, n2):
-        return self.parts(n1, c1, c2, n2, self.x_aql)
+    def at_aql(self, n1, c1, c2, n2, r1=None):
+        return self.parts(n1, c1, c2, n2, self.x_aql, r1)
 
 
 def design_double(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 0.10,
@@ -386,13 +403,7 @@ def design_double(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 
     cap_total = max_n
     if lot_size is not None:
         cap_total = lot_size if cap_total is None else min(cap_total, lot_size)
-    n1_cap = None
-    if cap_total is not None:
-        n1_cap = int(max(0, math.floor(cap_total / (1 + ratio))) + 2)
-        while n1_cap > 0 and n1_cap + int(_n2(n1_cap, ratio)) > cap_total:
-            n1_cap -= 1
-        if n1_cap < 1:
-            raise Infeasible(f"no double plan fits in {cap_total} units with ratio {ratio}")
+    n1_cap = _n1_cap(cap_total, ratio)
 
     def lower_bound(c2: int) -> int | None:
         """Smallest n1 with n1 + n2 >= n_single(c2); None if no single n fits."""
@@ -430,24 +441,153 @@ def design_double(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 
             f"{format_level(aql, defects)} at alpha {format_pct(alpha)}, RQL "
             f"{format_level(rql, defects)} at beta {format_pct(beta)}): {stopped}",
             {"ratio": ratio, "c2_searched": c2_last})
-    obj, n1, c2, c1 = best
-    plan = DoublePlan(n1=int(n1), c1=int(c1), n2=int(_n2(n1, ratio)), c2=int(c2))
+    best = best + (best[2] + 1,)  # (objective, n1, c2, c1, r1)
+    best, r1_search = _search_r1(ev, best, lower_bound, ratio, n1_cap, alpha, beta, minimize)
+    obj, n1, c2, c1, r1 = best
+    plan = DoublePlan(n1=int(n1), c1=int(c1), n2=int(_n2(n1, ratio)), c2=int(c2), r1=int(r1))
     asn_aql = float(plan.asn(ev.x_aql / lot_size if lot_size and model == "hypergeometric"
                              else ev.x_aql, model, scope))
     asn_rql = float(plan.asn(ev.x_rql / lot_size if lot_size and model == "hypergeometric"
                              else ev.x_rql, model, scope))
     amax, at = double_max_asn(plan.n1, plan.c1, plan.r1, plan.n2, model, lot_size)
     search = {"c1": [0, "c2 - 1"], "c2_searched": [1, c2_last], "c2_cap": C2_CAP,
-              "n1_cap": n1_cap, "ratio": ratio, "r1": "c2 + 1",
-              "plans_evaluated": ev.evaluated, "stopped": stopped}
+              "n1_cap": n1_cap, "ratio": ratio,
+              "r1": "c2 + 1 in this pass; every c1 < r1 <= c2 in the second (searched)",
+              "plans_evaluated": ev.evaluated, "stopped": stopped,
+              "searched": r1_search}
     return DoubleDesign(plan=plan, model=model, scope=scope, targets=targets, ratio=ratio,
                         minimize=minimize, objective=float(obj),
                         asn={"aql": asn_aql, "rql": asn_rql, "max": amax, "max_at": at},
                         search=search, lot_counts=counts)
 
 
+def _smallest_c2(ev, n1, n2, f, first, r1, alpha, todo):
+    """``c2[i, c1]``: for plans ``n1[i]`` and ``c1 < r1`` marked in ``todo``,
+    the smallest ``c2 >= r1 - 1`` meeting the producer's risk (``Pa`` rises
+    in ``c2``), or -1 where none does.
+
+    ``f`` are the first-sample masses ``f(d1)``, ``d1 < r1``, at the AQL and
+    ``first`` their cumulative sums ``F(c1)``. With the second-sample
+    distribution functions ``G(k | d1)``,
+    ``Pa(c1, c2) = F(c1) + sum_{c1 < d1 < r1} f(d1) G(c2 - d1 | d1)`` for every
+    ``c1`` and a block of ``c2`` at once; the block doubles until every plan
+    has its answer or the bound is reached. Counting items, ``c2 = r1 - 1 +
+    n2`` accepts every lot that reaches the second sample; per unit the bound
+    is where the second sample's count exceeds the block with probability
+    below 1e-30 (a Poisson tail bound), beyond which ``Pa`` does not move.
+    """
+    x = ev.x_aql
+    if ev.model == "poisson":
+        lam = float(np.max(n2)) * x
+        k_top = int(math.ceil(lam + 12.0 * math.sqrt(lam) + 70.0))
+    else:
+        k_top = int(np.max(n2))
+    d1 = np.arange(r1, dtype=float)[None, :]
+    out = np.full((n1.size, r1), -1, dtype=np.int64)
+    todo = todo.copy()
+    width = 16
+    while True:
+        width = min(width, k_top + 1)
+        c2 = (r1 - 1 + np.arange(width, dtype=float))[None, None, :]          # (1, 1, W)
+        g = stage_cdf(c2 - d1[:, :, None], n2[:, None, None].astype(float), ev.model, x,
+                      ev.N, n1[:, None, None].astype(float), d1[:, :, None])   # (P, r1, W)
+        ev.evaluated += n1.size * r1 * width
+        t = f[:, :, None] * g
+        # Second-sample acceptance summed over d1 > c1 (a reversed cumulative sum).
+        tail = np.concatenate([np.cumsum(t[:, ::-1], axis=1)[:, ::-1][:, 1:],
+                               np.zeros((n1.size, 1, width))], axis=1)
+        meets = first[:, :, None] + tail >= 1 - alpha - _TOL
+        hit = meets.any(axis=2) & todo
+        out[hit] = (r1 - 1 + np.argmax(meets, axis=2))[hit]
+        todo &= ~hit
+        if not todo.any() or width > k_top:
+            return out
+        width *= 2
+
+
+def _search_r1(ev, best, lower_bound, ratio, n1_cap, alpha, beta, minimize):
+    """Improve ``best`` (objective, n1, c2, c1, r1) over rejection numbers
+    ``c1 < r1 <= c2 + 1``; returns the best plan and what was searched.
+
+    Neither the objective (ASN at the AQL, or the largest ASN: both depend on
+    the first sample only through ``P(c1 < d1 < r1)``) nor the first sample
+    depends on ``c2``, while ``Pa`` rises in ``c2`` at both points. So for
+    given ``(n1, c1, r1)`` a plan exists exactly when the smallest ``c2``
+    meeting the producer's risk also meets the consumer's, and that ``c2`` is
+    the one to take. Every plan with ``r1`` accepts whenever the whole sample
+    ``n1 + n2`` holds at most ``r1 - 1``, so meeting beta needs
+    ``n1 >= L(r1 - 1)`` (the single-plan bound of fact 4, with ``r1 - 1`` for
+    ``c2``); ``L`` does not fall in ``r1`` and ``ASN >= n1`` (fact 3), so
+    ``r1`` runs from 1 until ``L(r1 - 1)`` exceeds the best objective, and
+    for each ``r1`` every ``c1 < r1`` and every ``n1`` from ``L(r1 - 1)`` to
+    the best objective is tried.
+    """
+    evaluated0 = ev.evaluated
+    r1 = 0
+    stop = ""
+    while True:
+        r1 += 1
+        lb = lower_bound(r1 - 1)
+        top = math.floor(best[0] * (1 + 1e-9))
+        if n1_cap is not None:
+            top = min(top, n1_cap)
+        if lb is None or lb > top:
+            stop = (f"for r1 = {r1} every plan meeting beta has n1 >= "
+                    f"{'(none within the cap)' if lb is None else lb}, above the best ASN "
+                    f"{best[0]:.4f} (or the cap)")
+            break
+        n1s = np.arange(max(lb, 1), top + 1, dtype=np.int64)
+        n2s = _n2(n1s, ratio)
+        # The first sample alone fixes the ASN at the AQL for every c1 (and
+        # the largest a plan can reach: however large c2, Pa < P(d1 < r1)).
+        f = stage_pmf(np.arange(r1, dtype=float)[None, :], n1s[:, None].astype(float),
+                      ev.model, ev.x_aql, ev.N)
+        first = np.cumsum(f, axis=1)
+        asn_aql = n1s[:, None] + n2s[:, None] * (first[:, -1:] - first)
+        todo = (asn_aql <= best[0] * (1 + 1e-9)) & (first[:, -1:] >= 1 - alpha - _TOL)
+        todo &= np.arange(r1)[None, :] <= n1s[:, None]
+        rows = np.flatnonzero(todo.any(axis=1))
+        if not rows.size:
+            continue
+        table = _smallest_c2(ev, n1s[rows], n2s[rows], f[rows], first[rows], r1, alpha,
+                             todo[rows])
+        n1 = np.repeat(n1s[rows], r1)
+        c1 = np.tile(np.arange(r1, dtype=np.int64), rows.size)
+        c2 = table.ravel()
+        have = c2 >= 0
+        n1, c1, c2 = n1[have], c1[have], c2[have]
+        if not n1.size:
+            continue
+        n2 = _n2(n1, ratio)
+        good = ev.pa_rql(n1, c1, c2, n2, r1) <= beta + _TOL
+        n1, c1, c2, n2 = n1[good], c1[good], c2[good], n2[good]
+        if not n1.size:
+            continue
+        obj = _objective(ev, n1, c1, c2, n2, minimize, r1)
+        for i in np.lexsort((c1, c2, n1, obj))[:8]:
+            cand = (float(obj[i]), int(n1[i]), int(c2[i]), int(c1[i]), r1)
+            if _better(cand, best):
+                best = cand
+    return best, {"r1": [1, r1 - 1], "c1": [0, "r1 - 1"],
+                  "c2": "the smallest meeting alpha for each n1, c1, r1",
+                  "n1": "L(r1 - 1) to the best ASN", "plans_evaluated": ev.evaluated - evaluated0,
+                  "stopped": stop}
+
+
+def _n1_cap(cap_total, ratio):
+    """Largest n1 with n1 + n2 within ``cap_total`` (None: no cap)."""
+    if cap_total is None:
+        return None
+    n1_cap = int(max(0, math.floor(cap_total / (1 + ratio))) + 2)
+    while n1_cap > 0 and n1_cap + int(_n2(n1_cap, ratio)) > cap_total:
+        n1_cap -= 1
+    if n1_cap < 1:
+        raise Infeasible(f"no double plan fits in {cap_total} units with ratio {ratio}")
+    return n1_cap
+
+
 def _better(a, b) -> bool:
-    """Order on (objective, n1, c2, c1) with a relative tie tolerance."""
+    """Order on (objective, n1, c2, c1[, r1]) with a relative tie tolerance."""
     if a[0] < b[0] * (1 - 1e-9):
         return True
     if a[0] > b[0] * (1 + 1e-9):
@@ -487,12 +627,12 @@ def _bisect_hi(ev, c1, c2, lo, hi, ratio, alpha):
     return lo
 
 
-def _objective(ev, n1, c1, c2, n2, minimize):
-    _, second = ev.at_aql(n1, c1, c2, n2)
+def _objective(ev, n1, c1, c2, n2, minimize, r1=None):
+    _, second = ev.at_aql(n1, c1, c2, n2, r1)
     asn_aql = n1 + n2 * second
     if minimize == "asn-aql":
         return asn_aql
-    mx, _ = double_max_asn(n1, c1, c2 + 1, n2, ev.model, ev.N)
+    mx, _ = double_max_asn(n1, c1, np.asarray(c2) + 1 if r1 is None else r1, n2, ev.model, ev.N)
     return np.maximum(mx, asn_aql)
 
 

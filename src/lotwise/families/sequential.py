@@ -87,7 +87,7 @@ A buyer of relays wants AQL 1 % at alpha 5 % and RQL 6 % at beta 10 %:
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -96,8 +96,8 @@ from lotwise.core.stages import finish_shape, level_to_x, unit_walk
 from lotwise.core.types import Scope, Targets, lot_targets
 from lotwise.families.base import Decision, Family, Option, OptionKind, Plan, check_record
 from lotwise.core import kernels as oc
-from lotwise.core.quantities import (InputError, Infeasible, parse_count, parse_fraction, parse_level,
-                                     parse_risk)
+from lotwise.core.quantities import (InputError, Infeasible, format_pct, parse_count,
+                                     parse_fraction, parse_level, parse_risk)
 from lotwise.families.single import design_single
 
 __all__ = ['sprt_lines', 'SequentialPlan', 'wald_pa', 'wald_asn', 'wald_theta', 'SequentialDesign', 'design_sequential', 'TRUNCATE_FACTOR']
@@ -244,6 +244,10 @@ class SequentialPlan(Plan):
     h2: float
     s: float
     truncate: int
+    #: How the plan was written when its lines came from the risk points:
+    #: ``(p1, alpha, p2, beta, per_unit)``; ``per_unit`` None when the notation
+    #: left it to the scope (see :meth:`for_scope`). Not part of equality.
+    spec: tuple | None = field(default=None, compare=False, repr=False)
 
     scheme = "sequential"
 
@@ -258,6 +262,44 @@ class SequentialPlan(Plan):
         if isinstance(t, bool) or not isinstance(t, (int, np.integer)) or t < 1:
             raise InputError(f"truncate ({t!r}) must be a whole number of at least 1")
         object.__setattr__(self, "truncate", int(t))
+
+    @classmethod
+    def from_risks(cls, p1, alpha, p2, beta, *, truncate: int, per_unit: bool | None):
+        """The plan with Wald's lines for ``(p1, alpha)`` and ``(p2, beta)``:
+        binomial lines for a fraction nonconforming, Poisson lines per unit
+        (``per_unit`` None: items until :meth:`for_scope` says otherwise)."""
+        h1, h2, s = sprt_lines(p1, alpha, p2, beta, defects=bool(per_unit))
+        return cls(h1=h1, h2=h2, s=s, truncate=truncate, spec=(p1, alpha, p2, beta, per_unit))
+
+    def for_scope(self, scope: Scope) -> "SequentialPlan":
+        """The plan as meant in ``scope``: a plan written with ``p1, p2``
+        and no ``per_unit`` key gets the Poisson lines when counting
+        nonconformities per unit; a plan that said ``per_unit`` must match
+        the scope (:meth:`check_scope`)."""
+        self.check_scope(scope)
+        if self.spec is None or self.spec[4] is not None or not scope.defects:
+            return self
+        p1, alpha, p2, beta, _ = self.spec
+        return SequentialPlan.from_risks(p1, alpha, p2, beta, truncate=self.truncate,
+                                         per_unit=True)
+
+    def check_scope(self, scope: Scope) -> None:
+        """Refuse a plan whose ``per_unit`` key disagrees with the scope."""
+        super().check_scope(scope)
+        if self.spec is not None and self.spec[4] is not None and \
+                bool(self.spec[4]) != bool(scope.defects):
+            said = "per_unit=1 (nonconformities per unit)" if self.spec[4] else \
+                "per_unit=0 (nonconforming items)"
+            want = "add --defects" if self.spec[4] else "drop --defects"
+            raise InputError(f"--plan ({self.notation()}) says {said}: its lines are for that "
+                             f"count; {want} or change the key")
+
+    @property
+    def never_accepts(self) -> bool:
+        """True when no count can ever be accepted: the acceptance number is
+        negative at every ``n`` up to the truncation point (the midpoint line
+        there is below 0), so every lot is rejected and ``Pa = 0``."""
+        return _floor(self.midpoint) < 0
 
     # numbers ----------------------------------------------------------------
     @property
@@ -313,6 +355,11 @@ class SequentialPlan(Plan):
                 f"{self.midpoint:.4g}, rejected otherwise)"]
 
     def notation(self) -> str:
+        if self.spec is not None:
+            p1, alpha, p2, beta, per_unit = self.spec
+            unit = "" if per_unit is None else f"per_unit={int(bool(per_unit))},"
+            return (f"sequential: p1={p1!r},alpha={alpha!r},p2={p2!r},beta={beta!r},{unit}"
+                    f"truncate={self.truncate}")
         return (f"sequential: h1={self.h1!r},h2={self.h2!r},s={self.s!r},"
                 f"truncate={self.truncate}")
 
@@ -322,7 +369,7 @@ class SequentialPlan(Plan):
 
     def to_dict(self) -> dict:
         return {"scheme": "sequential", "h1": self.h1, "h2": self.h2, "s": self.s,
-                "truncate": self.truncate}
+                "truncate": self.truncate, "never_accepts": self.never_accepts}
 
     # exact evaluation -------------------------------------------------------
     def _bounds(self, curtailed: bool = False, early_accept: bool = True):
@@ -345,10 +392,16 @@ class SequentialPlan(Plan):
         return unit_walk(acc, rej, model, np.atleast_1d(x), scope.lot_size)
 
     def pa(self, p, model: str, scope: Scope, rounding: str = "nearest"):
-        """Exact acceptance probability of the truncated plan."""
+        """Exact acceptance probability of the truncated plan (exactly 0 for a
+        plan that never accepts)."""
+        if self.never_accepts:
+            level_to_x(p, model, scope, rounding, self.truncate)  # the usual checks
+            return finish_shape(np.zeros(np.shape(p)), np.shape(p))
         return finish_shape(self._walk(p, model, scope, rounding).pa, np.shape(p))
 
     def pa_count(self, d, scope: Scope):
+        if self.never_accepts:
+            return finish_shape(np.zeros(np.shape(d)), np.shape(d))
         x = np.atleast_1d(np.asarray(d, dtype=float))
         acc, rej = self._bounds()
         res = unit_walk(acc, rej, "hypergeometric", x, scope.lot_size)
@@ -360,7 +413,11 @@ class SequentialPlan(Plan):
 
     def asn_curtailed(self, p, model: str, scope: Scope, rounding: str = "nearest"):
         """Exact ASN when the truncation decision is also taken as soon as it
-        is certain."""
+        is certain (0 for a plan that never accepts: rejection is certain
+        before the first unit)."""
+        if self.never_accepts:
+            level_to_x(p, model, scope, rounding, self.truncate)
+            return finish_shape(np.zeros(np.shape(p)), np.shape(p))
         return finish_shape(self._walk(p, model, scope, rounding, curtailed=True).asn, np.shape(p))
 
     def oc_asn(self, p, model: str, scope: Scope, rounding: str = "nearest"):
@@ -451,19 +508,30 @@ class SequentialPlan(Plan):
                                 f"decision comes after {nxt - n} unit(s)"))
 
 
+_YES = {"1": True, "yes": True, "true": True, "0": False, "no": False, "false": False}
+
+
 def parse_sequential(pairs: dict, text: str, option: str) -> SequentialPlan:
     """``sequential: h1=1.22,h2=1.57,s=0.0281,truncate=300`` or
-    ``sequential: p1=1%,alpha=5%,p2=6%,beta=10%,truncate=300`` (lines for a
-    fraction nonconforming)."""
+    ``sequential: p1=1%,alpha=5%,p2=6%,beta=10%,truncate=300``.
+
+    Written with the risk points, the lines depend on what is counted: Wald's
+    binomial lines for nonconforming items, the Poisson lines for
+    nonconformities per unit. ``per_unit=1`` (or ``0``) says which; without
+    it the plan takes the scope it is used in (``--defects``: per unit;
+    see :meth:`SequentialPlan.for_scope`). Written with ``h1, h2, s``, the
+    lines are the plan.
+    """
     keys = set(pairs)
     lines = {"h1", "h2", "s"}
-    risks = {"p1", "p2", "alpha", "beta"}
+    risks = {"p1", "p2", "alpha", "beta", "per_unit"}
     allowed = lines | risks | {"truncate"}
     bad = sorted(keys - allowed)
     example = "\"sequential: h1=1.22,h2=1.57,s=0.0281,truncate=300\""
     if bad:
         raise InputError(f"{option} ({text!r}): unknown key {bad[0]!r}; a sequential plan takes "
-                         f"h1, h2, s and truncate (or p1, alpha, p2, beta), e.g. {example}")
+                         f"h1, h2, s and truncate (or p1, alpha, p2, beta and optionally "
+                         f"per_unit), e.g. {example}")
     if "truncate" not in pairs:
         raise InputError(f"{option} ({text!r}) lacks truncate, the largest number of units to "
                          f"inspect; write for example {example}")
@@ -486,16 +554,27 @@ def parse_sequential(pairs: dict, text: str, option: str) -> SequentialPlan:
         if key not in pairs:
             raise InputError(f"{option} ({text!r}) lacks {key}; write for example {example} or "
                              "\"sequential: p1=1%,p2=6%,truncate=300\"")
-    p1 = parse_level(pairs["p1"], f"{option} p1")
-    p2 = parse_level(pairs["p2"], f"{option} p2")
+    per_unit = None
+    if "per_unit" in pairs:
+        word = pairs["per_unit"].strip().lower()
+        if word not in _YES:
+            raise InputError(f"{option} per_unit ({pairs['per_unit']!r}) must be 1 "
+                             "(nonconformities per unit) or 0 (nonconforming items)")
+        per_unit = _YES[word]
+    try:
+        p1 = parse_level(pairs["p1"], f"{option} p1", per_unit=bool(per_unit))
+        p2 = parse_level(pairs["p2"], f"{option} p2", per_unit=bool(per_unit))
+    except InputError as exc:
+        if per_unit is None:
+            raise InputError(f"{exc}; add per_unit=1 for nonconformities per unit") from None
+        raise
     al = parse_risk(pairs.get("alpha", "5%"), f"{option} alpha")
     be = parse_risk(pairs.get("beta", "10%"), f"{option} beta")
     if not p2 > p1:
         raise InputError(f"{option} p2 ({pairs['p2']}) must be above p1 ({pairs['p1']})")
     if not al + be < 1:
         raise InputError(f"{option} alpha + beta ({al} + {be}) must be below 1")
-    h1, h2, s = sprt_lines(p1, al, p2, be)
-    return SequentialPlan(h1=h1, h2=h2, s=s, truncate=t)
+    return SequentialPlan.from_risks(p1, al, p2, be, truncate=t, per_unit=per_unit)
 
 
 # --- design ------------------------------------------------------------
@@ -512,7 +591,9 @@ class SequentialDesign:
     plan : SequentialPlan
     model, scope, targets
     wald : dict
-        ``pa_aql, pa_rql, asn_aql, asn_rql`` from Wald's approximations.
+        Wald's unadjusted lines ``h1, h2, s`` and their approximate
+        ``pa_aql, pa_rql, asn_aql, asn_rql``; ``lines_used`` tells whether the
+        plan kept them.
     exact : dict
         The same for the truncated plan, exactly, plus ``alpha``, ``beta``,
         ``meets`` and the curtailed ASN.
@@ -546,15 +627,183 @@ class SequentialDesign:
                 "numbers": self.numbers()}
 
 
+def _matpow(m, k: int):
+    """``m^k`` for a stack of square matrices (repeated squaring)."""
+    out = np.broadcast_to(np.eye(m.shape[-1]), m.shape).copy()
+    while k:
+        if k & 1:
+            out = out @ m
+        k >>= 1
+        if k:
+            m = m @ m
+    return out
+
+
+def pa_blocked(plan: "SequentialPlan", x, model: str):
+    """Exact ``Pa`` of the truncated plan under the binomial or Poisson model,
+    block by block instead of unit by unit (same value as :meth:`SequentialPlan.pa`).
+
+    Between two units where the acceptance or rejection number changes the
+    numbers are constant, and as counts never fall a lot can be accepted only
+    at a block's first unit; after it the undecided counts ``a < d < r`` move
+    by the one-unit transition matrix (``d -> d + 1`` with probability ``p``
+    for items, ``d -> d + j`` with Poisson(``p``) mass for nonconformities),
+    counts reaching ``r`` rejected. The ``L - 1`` further units of a block are
+    one matrix power (repeated squaring), so a plan truncated at 70,000
+    units costs a few hundred small matrix products.
+    """
+    x = np.atleast_1d(np.asarray(x, dtype=float))
+    P = x.size
+    _, acc, rej = plan.numbers()
+    n0 = plan.truncate
+    change = np.flatnonzero((np.diff(acc) != 0) | (np.diff(rej) != 0)) + 1
+    starts = np.concatenate([[0], change])
+    ends = np.concatenate([change, [n0]])
+    from scipy import special as sp
+
+    top = int(rej.max()) + 1
+    ks = np.arange(top + 1, dtype=float)
+    if model == "poisson":
+        inc = np.exp(sp.xlogy(ks[None, :], x[:, None]) - x[:, None] - sp.gammaln(ks + 1.0))
+    else:
+        inc = np.zeros((P, top + 1))
+        inc[:, 0] = 1.0 - x
+        inc[:, 1] = x
+    state = np.zeros((P, top + 1))  # undecided mass by count (counts >= top are rejected)
+    state[:, 0] = 1.0
+    accepted = np.zeros(P)
+    for b0, b1 in zip(starts, ends):
+        a, r = int(acc[b0]), int(rej[b0])
+        # First unit of the block: one step, then accept d <= a, reject d >= r.
+        new = np.zeros_like(state)
+        for d in range(top + 1):
+            if state[:, d].any():
+                new[:, d:] += state[:, d:d + 1] * inc[:, :top + 1 - d]
+        if a >= 0:
+            accepted += new[:, :a + 1].sum(axis=1)
+            new[:, :a + 1] = 0.0
+        new[:, max(r, 0):] = 0.0
+        state = new
+        steps = b1 - b0 - 1
+        lo, hi = max(a + 1, 0), r - 1
+        if steps > 0 and hi >= lo:
+            w = hi - lo + 1
+            i = np.arange(w)
+            jump = i[:, None] - i[None, :]  # row: to, column: from
+            m = np.where(jump[None] >= 0, inc[:, np.clip(jump, 0, top)], 0.0)
+            band = _matpow(m, steps) @ state[:, lo:hi + 1, None]
+            state = np.zeros_like(state)
+            state[:, lo:hi + 1] = band[:, :, 0]
+    return np.clip(accepted, 0.0, 1.0)
+
+
+def _smallest_up(ok, lo: float) -> float:
+    """Smallest ``v >= lo`` on the grid of 1e-6 with ``ok(v)``, for ``ok``
+    false below a point and true above it (bisection; the answer rounded up
+    to 6 decimals stays on the true side); ``nan`` when none is found within
+    2^50 times the first step."""
+    if ok(lo):
+        return lo
+    step = 0.02
+    hi = lo + step
+    for _ in range(50):
+        if ok(hi):
+            break
+        lo, step = hi, step * 2.0
+        hi = lo + step
+    else:
+        return math.nan
+    while hi - lo > 5e-7:
+        mid = 0.5 * (lo + hi)
+        if ok(mid):
+            hi = mid
+        else:
+            lo = mid
+    return math.ceil(hi * 1e6 - 1e-9) / 1e6 if ok(math.ceil(hi * 1e6 - 1e-9) / 1e6) else hi
+
+
+def _fit_lines(h1, h2, s, n0, targets, model, scope, levels):
+    """Lines meeting both risks exactly at truncation ``n0``, starting from
+    Wald's: ``(h1, h2, pa_aql, pa_rql, met)``.
+
+    ``Pa`` rises in ``h2`` and falls in ``h1`` at every quality level (a
+    higher rejection line, or a higher acceptance line ``-h1 + s n``, only
+    widens the accepted paths; the midpoint at truncation moves the same
+    way). So the consumer's risk is met by raising ``h1`` to the smallest
+    value meeting it and the producer's by raising ``h2``; each raise can
+    spoil the other risk, so the two alternate (both only grow) until both
+    hold, or 60 rounds pass.
+    """
+    tol = 1e-12
+
+    def pa(a, b):
+        plan = SequentialPlan(h1=a, h2=b, s=s, truncate=n0)
+        if plan.never_accepts:
+            return np.zeros(len(levels))
+        if model in ("binomial", "poisson") and n0 > 2000:  # long plans: by blocks
+            return pa_blocked(plan, levels, model)
+        return np.atleast_1d(plan.pa(levels, model, scope))
+
+    v = pa(h1, h2)
+    nearest = None  # the lines tried with the smallest total shortfall
+    for _ in range(60):
+        ok_a = v[0] >= 1.0 - targets.alpha - tol
+        ok_r = v[1] <= targets.beta + tol
+        if ok_a and ok_r:
+            return h1, h2, float(v[0]), float(v[1]), True
+        short = max(0.0, 1.0 - v[0] - targets.alpha) + max(0.0, v[1] - targets.beta)
+        if nearest is None or short < nearest[0]:
+            nearest = (short, h1, h2, float(v[0]), float(v[1]))
+        if not ok_r:
+            new = _smallest_up(lambda x: pa(x, h2)[1] <= targets.beta + tol, h1)
+            if math.isnan(new):
+                break
+            h1 = new
+        else:
+            new = _smallest_up(lambda x: pa(h1, x)[0] >= 1.0 - targets.alpha - tol, h2)
+            if math.isnan(new):
+                break
+            h2 = new
+        v = pa(h1, h2)
+    return nearest[1:] + (False,)
+
+
+def _default_truncate(single_n, lot_size):
+    if single_n is None:
+        if lot_size is None:
+            raise Infeasible("no single plan meets the risks, so there is no default "
+                             "truncation point; give --truncate")
+        return lot_size, "the lot size (no single plan meets the risks)"
+    truncate = TRUNCATE_FACTOR * single_n
+    source = f"{TRUNCATE_FACTOR} x the single plan's n = {single_n}"
+    if lot_size is not None and truncate > lot_size:
+        truncate, source = lot_size, source + ", capped at the lot size"
+    return truncate, source
+
+
 def design_sequential(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 0.10,
                       lot_size: int | None = None, model: str | None = None,
                       defects: bool = False, truncate: int | None = None) -> SequentialDesign:
-    """Wald's sequential plan for the two risk points, truncated and evaluated exactly.
+    """A sequential plan whose exact truncated OC meets both risks.
+
+    Wald's lines for the two risk points (:func:`sprt_lines`) are the start;
+    the exact OC of the plan truncated at ``truncate`` (default three times
+    the single plan's ``n``, common practice, no source) is computed by the
+    dynamic program, and where it misses a risk the intercepts are raised
+    (``h1`` for the consumer's, ``h2`` for the producer's; the slope ``s``
+    stays Wald's) until both hold, see :func:`_fit_lines`. When the default
+    truncation point cannot be made to work it is raised by half, up to
+    four times (and never past the lot). The result keeps its promise: its
+    exact truncated ``Pa`` meets ``1 - alpha`` at the AQL and ``beta`` at the
+    RQL; ``wald`` reports Wald's unadjusted lines and their approximate OC
+    and ASN beside it.
 
     Raises
     ------
     Infeasible
-        When the risk points are out of order or the lot cannot tell them apart.
+        When the risk points are out of order, the lot cannot tell them
+        apart, or no adjustment meets both risks (``reachable`` names the
+        nearest plan tried and the risks it carries).
     InputError
         For a truncation point beyond the lot size or below 1.
     """
@@ -564,7 +813,7 @@ def design_sequential(*, aql: float, rql: float, alpha: float = 0.05, beta: floa
     check_targets(targets, defects)
     if model == "hypergeometric":
         check_lot(targets, lot_size, lot_targets(targets, lot_size))
-    h1, h2, s = sprt_lines(aql, alpha, rql, beta, defects=defects)
+    h1w, h2w, s = sprt_lines(aql, alpha, rql, beta, defects=defects)
     single_n = None
     try:
         single_n = design_single(aql=aql, rql=rql, alpha=alpha, beta=beta, lot_size=lot_size,
@@ -579,34 +828,48 @@ def design_sequential(*, aql: float, rql: float, alpha: float = 0.05, beta: floa
                              f"({lot_size})")
         source = "given"
     else:
-        if single_n is None:
-            if lot_size is None:
-                raise Infeasible("no single plan meets the risks, so there is no default "
-                                 "truncation point; give --truncate")
-            truncate, source = lot_size, "the lot size (no single plan meets the risks)"
-        else:
-            truncate = TRUNCATE_FACTOR * single_n
-            source = f"{TRUNCATE_FACTOR} x the single plan's n = {single_n}"
-            if lot_size is not None and truncate > lot_size:
-                truncate, source = lot_size, source + ", capped at the lot size"
-    plan = SequentialPlan(h1=h1, h2=h2, s=s, truncate=int(truncate))
-    wald = {"pa_aql": float(plan.wald_pa(aql, defects)),
-            "pa_rql": float(plan.wald_pa(rql, defects)),
-            "asn_aql": float(plan.wald_asn(aql, defects)),
-            "asn_rql": float(plan.wald_asn(rql, defects))}
+        truncate, source = _default_truncate(single_n, lot_size)
     if model == "hypergeometric":
         d1, d2 = (oc.lot_count(aql, lot_size, "up"), oc.lot_count(rql, lot_size, "down"))
         la, lr = d1 / lot_size, d2 / lot_size
     else:
         la, lr = aql, rql
+    n0 = int(truncate)
+    for attempt in range(5):
+        h1, h2, pa_a, pa_r, met = _fit_lines(h1w, h2w, s, n0, targets, model, scope, [la, lr])
+        if met or source == "given" or (lot_size is not None and n0 >= lot_size):
+            break
+        grown = int(math.ceil(1.5 * n0))
+        if lot_size is not None:
+            grown = min(grown, lot_size)
+        source += f"; raised to {grown} so that the exact plan meets both risks"
+        n0 = grown
+    if not met:
+        raise Infeasible(
+            f"no sequential plan truncated at {n0} units with slope s = {s:.6g} was found that "
+            f"meets both risks: the nearest tried (h1 = {h1:.6g}, h2 = {h2:.6g}) carries alpha "
+            f"{format_pct(1.0 - pa_a)} (target {format_pct(alpha)}) and beta "
+            f"{format_pct(pa_r)} (target {format_pct(beta)}); give a larger --truncate or use "
+            "a single or double plan",
+            {"h1": h1, "h2": h2, "s": s, "truncate": n0, "alpha": 1.0 - pa_a, "beta": pa_r})
+    plan = SequentialPlan(h1=h1, h2=h2, s=s, truncate=n0)
+    adjusted = (h1, h2) != (h1w, h2w)
+    wald = {"h1": h1w, "h2": h2w, "s": s,
+            "pa_aql": float(wald_pa(aql, h1w, h2w, s, defects)),
+            "pa_rql": float(wald_pa(rql, h1w, h2w, s, defects)),
+            "asn_aql": float(wald_asn(aql, h1w, h2w, s, defects)),
+            "asn_rql": float(wald_asn(rql, h1w, h2w, s, defects)),
+            "lines_used": not adjusted}
     pa, asn = plan.oc_asn([la, lr], model, scope)
     cur = plan.asn_curtailed([la, lr], model, scope)
-    tol = 1e-12
     exact = {"pa_aql": float(pa[0]), "pa_rql": float(pa[1]),
              "asn_aql": float(asn[0]), "asn_rql": float(asn[1]),
              "asn_curtailed_aql": float(cur[0]), "asn_curtailed_rql": float(cur[1]),
              "alpha": 1.0 - float(pa[0]), "beta": float(pa[1]), "model": model,
-             "meets": bool(1.0 - pa[0] <= alpha + tol and pa[1] <= beta + tol)}
+             "meets": True}
+    if adjusted:
+        source += ("; Wald's lines missed a risk in the exact truncated plan, so the "
+                   "intercepts were raised until both are met")
     return SequentialDesign(plan=plan, model=model, scope=scope, targets=targets, wald=wald,
                             exact=exact, truncate_source=source, single_n=single_n)
 

@@ -80,10 +80,20 @@ class SinglePlan(Plan):
             raise InputError(f"n ({self.n}) must be a whole number of at least 1")
         if not isinstance(self.c, (int, np.integer)) or self.c < 0:
             raise InputError(f"c ({self.c}) must be a whole number of at least 0")
-        if self.c > self.n:
-            raise InputError(f"c ({self.c}) must not be greater than n ({self.n})")
+        # c > n is a real plan for nonconformities per unit (a unit may carry
+        # several); for items it is refused by check_scope, which knows the scope.
 
     scheme = "single"
+
+    def check_scope(self, scope: Scope) -> None:
+        """Refuse ``c > n`` when counting nonconforming items (a sample of ``n``
+        cannot hold more than ``n``) and a sample larger than the lot; counting
+        nonconformities per unit, any ``c`` is a plan."""
+        if not scope.defects and self.c > self.n:
+            raise InputError(f"c ({self.c}) must not be greater than n ({self.n}) when counting "
+                             "nonconforming items (with --defects, nonconformities per unit, "
+                             "it may be)")
+        super().check_scope(scope)
 
     @property
     def r(self) -> int:
@@ -199,8 +209,6 @@ def parse_single(pairs: dict, text: str, option: str) -> SinglePlan:
             raise InputError(f"{option} ({text!r}) lacks {key}; write for example \"n=80,c=2\"")
     n = parse_count(pairs["n"], f"{option} n", minimum=1)
     c = parse_count(pairs["c"], f"{option} c", minimum=0)
-    if c > n:
-        raise InputError(f"{option} c ({c}) must not be greater than n ({n})")
     if "r" in pairs:
         r = parse_count(pairs["r"], f"{option} r", minimum=1)
         if r != c + 1:
@@ -341,11 +349,7 @@ def design_single(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 
             {"n": nm, "c": c, "alpha": a, "beta": float(kernel.at_rql(nm, c))})
 
     start, width = 0, 64
-    c_limit = None
-    if model == "hypergeometric":
-        c_limit = kernel.d2  # c >= D2 accepts every lot at the RQL
-    if cap is not None:
-        c_limit = cap if c_limit is None else min(c_limit, cap)
+    c_limit = _c_limit(kernel, cap, model, defects)
     while True:
         stop = start + width if c_limit is None else min(start + width, c_limit)
         if stop <= start:
@@ -367,6 +371,16 @@ def design_single(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 
         if c_limit is None and start > 10_000_000:
             raise Infeasible("no plan found with an acceptance number below 10,000,000; "
                              "the AQL and RQL are too close together")
+
+
+def _c_limit(kernel: Kernel, cap: int | None, model: str, defects: bool) -> int | None:
+    """Bound on the acceptance numbers worth trying (None: none)."""
+    c_limit = kernel.d2 if model == "hypergeometric" else None  # c >= D2 accepts all at the RQL
+    if cap is not None and not defects:
+        # Items: c <= n <= cap. Nonconformities per unit have no such bound on
+        # c; the search ends where n_min passes the cap (it never falls in c).
+        c_limit = cap if c_limit is None else min(c_limit, cap)
+    return c_limit
 
 
 def _cap_infeasible(kernel: Kernel, targets: Targets, cap: int | None, lot_size: int | None,

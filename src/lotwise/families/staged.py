@@ -88,6 +88,21 @@ class StagedPlan(Plan):
         return finish_shape(out, np.shape(p))
 
     def _curtail_bounds(self, model: str, stages: str, accept: bool, defects: bool):
+        """Acceptance and rejection numbers unit by unit of the curtailed plan
+        (index ``m``: after ``m`` units; index 0: before the first).
+
+        The plan's own curtailment rule, the one :meth:`decide` applies on the
+        bench, works within the stage being inspected: reject as soon as the
+        count reaches the stage's rejection number; accept as soon as the
+        count plus every unit left in the stage, all nonconforming, would
+        stay within its acceptance number. A stage boundary is also the start
+        of the next stage, so a lot whose count is within the next stage's
+        acceptance number even with that whole stage nonconforming is
+        accepted there without inspecting it (before the first unit when
+        ``c1 >= n1``). ``stages='last'`` curtails only the last stage;
+        acceptance is curtailed only when counting items (a unit may carry
+        any number of nonconformities).
+        """
         if stages not in ("all", "last"):
             raise InputError(f"stages ({stages!r}) must be 'all' or 'last'")
         M = self.n_max
@@ -102,34 +117,42 @@ class StagedPlan(Plan):
                 rejn[end] = min(rejn[end], r)
                 continue
             curtail = stages == "all" or i == self.k - 1
+            if curtail and early_accept and a >= 0:
+                for m in range(start, end):  # from the stage's start (a boundary)
+                    accn[m] = max(accn[m], a - (end - m))
             for m in range(start + 1, end + 1):
                 if curtail:
                     rejn[m] = r
-                    if early_accept:
-                        accn[m] = a - (end - m) if a >= 0 else -1
                 if m == end:
                     rejn[m] = min(rejn[m], r)
                     accn[m] = max(accn[m], a)
             start = end
         return accn, rejn
 
+    def _walk(self, p, model, scope, rounding, stages, accept):
+        """Curtailed ``(pa, asn)``; a plan whose acceptance is certain before
+        the first unit accepts every lot without inspecting any."""
+        x = self._x(p, model, scope, rounding)
+        accn, rejn = self._curtail_bounds(model, stages, accept, scope.defects)
+        if accn[0] >= 0:
+            return np.ones(np.shape(x)), np.zeros(np.shape(x))
+        res = unit_walk(accn, rejn, model, x, scope.lot_size)
+        return res.pa, res.asn
+
     def asn_curtailed(self, p, model: str, scope: Scope, rounding: str = "nearest", *,
                       stages: str = "all", accept: bool = True):
         """Average sample number when inspection stops as soon as the
-        decision is certain (see the module notes for the rules)."""
-        x = self._x(p, model, scope, rounding)
-        accn, rejn = self._curtail_bounds(model, stages, accept, scope.defects)
-        res = unit_walk(accn, rejn, model, x, scope.lot_size)
-        return finish_shape(res.asn, np.shape(p))
+        decision is certain within the stage being inspected (the rule of
+        :meth:`_curtail_bounds` and of :meth:`decide`)."""
+        _, asn = self._walk(p, model, scope, rounding, stages, accept)
+        return finish_shape(asn, np.shape(p))
 
     def pa_curtailed(self, p, model: str, scope: Scope, rounding: str = "nearest", *,
                      stages: str = "all", accept: bool = True):
         """``Pa`` from the curtailed dynamic program (equal to :meth:`pa`;
         kept as an independent check)."""
-        x = self._x(p, model, scope, rounding)
-        accn, rejn = self._curtail_bounds(model, stages, accept, scope.defects)
-        res = unit_walk(accn, rejn, model, x, scope.lot_size)
-        return finish_shape(res.pa, np.shape(p))
+        pa, _ = self._walk(p, model, scope, rounding, stages, accept)
+        return finish_shape(pa, np.shape(p))
 
     def _lot(self, scope: Scope) -> int:
         if not scope.lot_size:
@@ -218,6 +241,16 @@ class StagedPlan(Plan):
                                 accept_number=na, reject_number=self.rej[nxt],
                                 reason=f"the second sample is empty (n2 = 0): {found} "
                                        f"{'<=' if act == 'accept' else '>'} {na}")
+            if not defects and na >= 0 and found + self.sizes[nxt] <= na:
+                return Decision(action="accept", inspected=inspected, found=found,
+                                stage=nxt + 1, next_decision_at=cum[nxt],
+                                more_to_next=self.sizes[nxt], more_at_most=0,
+                                accept_number=na, reject_number=self.rej[nxt],
+                                certain_early=True,
+                                reason=f"even if all {self.sizes[nxt]} units of stage "
+                                       f"{nxt + 1} were nonconforming the count would stay "
+                                       f"within {na}: the lot is accepted without taking "
+                                       "them (curtailed)")
             return Decision(action="continue", inspected=inspected, found=found,
                             stage=nxt + 1, next_decision_at=cum[nxt],
                             more_to_next=self.sizes[nxt], more_at_most=total_left,

@@ -65,12 +65,16 @@ estimates of the fractions beyond each limit [2]_,
 ``Q_L = (xbar - L)/s``), and the lot is accepted when ``p_U + p_L <= M``,
 the maximum allowable estimate. With one limit and ``M`` the estimate at
 ``Q = k`` this is exactly the s-method (the estimate falls as ``Q``
-grows). Its two-limit OC depends on how ``p`` splits between the tails and
-has no closed form; it is estimated by a seeded simulation of ``xbar`` and
-``s`` (drawn from their exact normal and chi-square distributions, common
-random numbers for every level and split), reported with its standard
-error (:func:`simulate_estimate_method`). ``pa`` returns the largest
-simulated ``Pa`` over a grid of splits (the consumer's worst case).
+grows). Its two-limit OC depends on how ``p`` splits between the tails; at
+a given split it is exact, a one-dimensional integral over the law of ``s``
+(``xbar`` and ``s`` are independent; for each ``s`` the accepted means form
+one interval), computed by Gauss-Legendre quadrature with a stated error
+bound in :mod:`lotwise.core.twolimit`. The OC at a total ``p`` is the band
+over every split, its edges found by a bounded maximisation over the share
+of ``p`` beyond the lower limit; ``pa`` returns the upper edge (the
+consumer's worst case) unless asked for ``envelope="lower"``, and the
+designer meets ``alpha`` on the lower edge and ``beta`` on the upper one.
+Model name: ``estimate-exact``.
 
 With sigma known the estimate from one tail is
 ``Phi(-Q_U sqrt(n/(n - 1)))``, ``Q_U = (U - xbar)/sigma`` (also unbiased).
@@ -118,21 +122,13 @@ from lotwise.core.search import check_targets
 from lotwise.core.types import Targets
 from lotwise.families.base import Family, Option, OptionKind, Plan
 
-__all__ = ['VARIABLES_MODELS', 'VariablesPlan', 'z_upper', 'pa_known', 'pa_unknown', 'nct_sf_quadrature', 'pa_known_two', 'tail_split', 'estimate_known', 'estimate_unknown', 'max_estimate_for_k', 'k_for_estimate', 'simulate_estimate_method', 'estimate_totals', 'OC_REPS', 'SPLIT_SHARES', 'SIM_REPS', 'SIM_SEED', 'VariablesDesign', 'design_variables', 'closed_form_known', 'wallis', 'k_window']
+__all__ = ['VARIABLES_MODELS', 'VariablesPlan', 'z_upper', 'pa_known', 'pa_unknown',
+           'nct_sf_quadrature', 'pa_known_two', 'tail_split', 'estimate_known',
+           'estimate_unknown', 'max_estimate_for_k', 'k_for_estimate', 'pa_estimate_two',
+           'VariablesDesign', 'design_variables', 'closed_form_known', 'wallis', 'k_window']
 
 
-VARIABLES_MODELS = ("normal-known-sigma", "noncentral-t", "estimate-simulated")
-
-#: Shares of the total fraction nonconforming put beyond the *lower* limit
-#: when the split is unknown (0 is the one-tail case, 0.5 the centred mean).
-SPLIT_SHARES = (0.0, 0.01, 0.05, 0.15, 0.3, 0.5)
-
-#: Default repetitions and seed of the estimate-method simulation.
-SIM_REPS = 20_000
-SIM_SEED = 20_061
-#: Repetitions per level when :meth:`VariablesPlan.pa` draws a whole
-#: estimate-method OC curve (standard error at most 0.008).
-OC_REPS = 4_000
+VARIABLES_MODELS = ("normal-known-sigma", "noncentral-t", "estimate-exact")
 
 _LIMITS = ("upper", "lower", "both")
 
@@ -188,28 +184,28 @@ def pa_unknown(n, k, p):
     return _finish(pa)
 
 
-_GL_X, _GL_W = np.polynomial.legendre.leggauss(400)
-
-
 def nct_sf_quadrature(df, nc, t):
     """``P(T >= t)`` for the noncentral t by quadrature over ``W = sqrt(chi2/df)``:
     ``int Phi(nc - t w) f_W(w) dw`` (400-point Gauss-Legendre over the bulk of
     ``W``, +-14 of its approximate standard deviations ``1/sqrt(2 df)``).
     A fallback for the far tails where :func:`scipy.special.nctdtr` fails."""
+    from lotwise.core.twolimit import gauss_legendre
+
+    gx, gw = gauss_legendre(400)  # on [0, 1], computed on first use and cached
     df, nc, t = (np.atleast_1d(np.asarray(a, dtype=float)) for a in (df, nc, t))
     sd = 1.0 / np.sqrt(2.0 * df)
     mode = np.sqrt(np.maximum(df - 1.0, 0.0) / df)
     lo = np.maximum(mode - 14.0 * sd, 0.0)
     hi = mode + 14.0 * sd
-    half = 0.5 * (hi - lo)
-    w = lo[:, None] + half[:, None] * (_GL_X[None, :] + 1.0)
+    span = hi - lo
+    w = lo[:, None] + span[:, None] * gx[None, :]
     with np.errstate(all="ignore"):
         logf = (math.log(2.0) + 0.5 * df[:, None] * np.log(0.5 * df[:, None])
                 - special.gammaln(0.5 * df[:, None]) + (df[:, None] - 1.0) * np.log(w)
                 - 0.5 * df[:, None] * w * w)
         f = np.where(w > 0, np.exp(logf), 0.0)
     vals = special.ndtr(nc[:, None] - t[:, None] * w) * f
-    return np.clip((vals * _GL_W[None, :]).sum(axis=1) * half, 0.0, 1.0)
+    return np.clip((vals * gw[None, :]).sum(axis=1) * span, 0.0, 1.0)
 
 
 # --- two limits, sigma known --------------------------------------------------
@@ -252,43 +248,16 @@ def tail_split(p, width):
 
 def _band_known(n, k, p, which="both"):
     """Lower and upper edges of ``Pa`` over every split of the total ``p``
-    between two tails (sigma known): a grid on the share put in the smaller
-    tail, dense near zero (where the upper edge usually peaks), refined
-    twice around the best grid point. ``which`` is 'lower', 'upper' or
-    'both' (then a pair is returned)."""
-    p = np.atleast_1d(np.asarray(p, dtype=float))
-    rows = np.arange(p.size)
+    between two tails (sigma known), by the bounded search over the share of
+    ``p`` beyond the lower limit of :func:`lotwise.core.twolimit.band_of`.
+    ``which`` is 'lower', 'upper' or 'both' (then a pair is returned)."""
+    from lotwise.core.twolimit import band_of
 
-    def value(s):  # s has shape (P, S)
-        a = p[:, None] * s
-        zu = z_upper(p[:, None] - a)
-        zl = np.where(a > 0, z_upper(np.maximum(a, 1e-300)), np.inf)
-        return _two_from_z(n, k, zu, zl)
+    def pa_at(pp, share):
+        zl = np.where(share > 0, z_upper(np.maximum(share * pp, 1e-300)), np.inf)
+        return _two_from_z(n, k, z_upper((1.0 - share) * pp), zl)
 
-    s0 = np.broadcast_to(_SHARE_GRID, (p.size, _SHARE_GRID.size))
-    v0 = value(s0)
-    out = {}
-    for name, pick, better in (("lower", np.argmin, np.minimum), ("upper", np.argmax, np.maximum)):
-        if which not in (name, "both"):
-            continue
-        s, v = s0, v0
-        i = pick(v, axis=1)
-        best = v[rows, i]
-        for _ in range(2):
-            left = s[rows, np.maximum(i - 1, 0)]
-            right = s[rows, np.minimum(i + 1, s.shape[1] - 1)]
-            s = left[:, None] + (right - left)[:, None] * _ZOOM[None, :]
-            v = value(s)
-            i = pick(v, axis=1)
-            best = better(best, v[rows, i])
-        out[name] = best
-    if which == "both":
-        return out["lower"], out["upper"]
-    return out[which]
-
-
-_SHARE_GRID = np.concatenate([[0.0], np.geomspace(1e-9, 0.5, 96)])
-_ZOOM = np.linspace(0.0, 1.0, 33)
+    return band_of(pa_at, p, which)
 
 
 def pa_two_from_split(n, k, zu, zl):
@@ -361,62 +330,6 @@ def max_estimate_for_k(n, k):
     return float(estimate_unknown(k, n))
 
 
-def _draws(n, reps, seed):
-    """The simulation's draws ``(xbar - mu)/sigma`` and ``s/sigma`` for samples
-    of ``n``, by Latin hypercube sampling: each of the two uniforms is
-    stratified into ``reps`` equal strata (one draw per stratum, strata
-    paired at random) and mapped through the exact inverse distribution
-    functions (normal; chi-square with ``n - 1`` degrees of freedom). The
-    variance of such an estimate is never much above that of plain random
-    sampling (McKay, Beckman and Conover, 1979), so the binomial standard
-    error ``sqrt(pa (1 - pa)/reps)`` reported with it is conservative."""
-    rng = np.random.default_rng(seed)
-    u1 = (rng.permutation(reps) + rng.random(reps)) / reps
-    u2 = (rng.permutation(reps) + rng.random(reps)) / reps
-    dz = special.ndtri(u1) / math.sqrt(n)
-    r = np.sqrt(special.chdtri(n - 1.0, u2) / (n - 1.0))
-    return dz, r
-
-
-def estimate_totals(n, p, shares=SPLIT_SHARES, reps=SIM_REPS, seed=SIM_SEED):
-    """Simulated estimates ``p_U + p_L`` of the total fraction nonconforming.
-
-    Returns an array of shape ``(len(p), len(shares), reps)``: for each total
-    fraction ``p`` and share of it beyond the lower limit, the estimates of
-    ``reps`` simulated samples (common random numbers throughout; see
-    :func:`simulate_estimate_method`).
-    """
-    if n < 3:
-        raise InputError(f"n ({n}) must be at least 3 for the estimate method")
-    p = np.clip(np.atleast_1d(np.asarray(p, dtype=float)), 0.0, 1.0)
-    shares = np.asarray(shares, dtype=float)
-    dz, r = _draws(n, reps, seed)
-    c = math.sqrt(n) / (2.0 * (n - 1.0))
-    b = 0.5 * n - 1.0
-
-    def est(qz):
-        return special.betainc(b, b, np.clip(0.5 - qz * c, 0.0, 1.0))
-
-    out = np.empty((p.size, shares.size, reps))
-    for i, pv in enumerate(p):
-        for j, sh in enumerate(shares):
-            if pv <= 0.0:
-                out[i, j] = 0.0
-                continue
-            if pv >= 1.0:
-                out[i, j] = 2.0
-                continue
-            pl, pu = sh * pv, (1.0 - sh) * pv
-            tot = est((float(z_upper(pu)) - dz) / r)
-            if pl > 0.0:
-                tot = tot + est((float(z_upper(pl)) + dz) / r)
-            out[i, j] = tot
-    return out
-
-
-_SIM_CACHE: dict = {}
-
-
 def k_for_estimate(n, m):
     """Inverse of :func:`max_estimate_for_k`: the ``k`` at which the one-limit
     estimate equals ``m`` (the estimate falls in ``Q``; bisection)."""
@@ -433,47 +346,16 @@ def k_for_estimate(n, m):
     return 0.5 * (lo + hi)
 
 
-def simulate_estimate_method(n, m, p, shares=SPLIT_SHARES, reps=SIM_REPS, seed=SIM_SEED):
-    """Simulated ``Pa`` of the two-limit estimate method (sigma unknown).
+def pa_estimate_two(n, m, p, envelope="upper"):
+    """Exact two-limit ``Pa`` of the estimate method (sigma unknown) at total
+    fraction(s) ``p``: the upper (``envelope='upper'``) or lower edge of the
+    band over every split of ``p`` between the tails (see
+    :mod:`lotwise.core.twolimit` for the quadrature and its error)."""
+    from lotwise.core.twolimit import band
 
-    ``xbar`` and ``s`` are drawn from their exact distributions for a normal
-    sample of ``n`` (``sqrt(n)(xbar - mu)/sigma`` standard normal,
-    ``(n - 1) s^2/sigma^2`` chi-square with ``n - 1`` degrees of freedom);
-    the same draws serve every level and split (common random numbers), so
-    each simulated curve falls in ``p``. The statistic is location-scale
-    invariant, so only the split of ``p`` between the tails matters.
-
-    Parameters
-    ----------
-    n : int
-        Sample size, ``n >= 3``.
-    m : float
-        Maximum allowable estimate of the total fraction nonconforming.
-    p : float or array_like
-        Total fractions nonconforming.
-    shares : sequence of float
-        Shares of ``p`` beyond the lower limit (0: one tail; 0.5: centred).
-    reps, seed : int
-        Repetitions and the seed of :func:`numpy.random.default_rng`.
-
-    Returns
-    -------
-    pa, se : ndarray, shape ``(len(p), len(shares))``
-        Acceptance fractions and their standard errors
-        ``sqrt(pa (1 - pa)/reps)``.
-    """
-    p = np.atleast_1d(np.asarray(p, dtype=float))
-    key = (int(n), float(m), p.tobytes(), tuple(np.asarray(shares, dtype=float)), int(reps),
-           int(seed))
-    hit = _SIM_CACHE.get(key)
-    if hit is None:
-        tot = estimate_totals(n, p, shares, reps, seed)
-        pa = np.count_nonzero(tot <= m, axis=2) / reps
-        hit = (pa, np.sqrt(pa * (1.0 - pa) / reps))
-        if len(_SIM_CACHE) > 64:
-            _SIM_CACHE.clear()
-        _SIM_CACHE[key] = hit
-    return hit[0].copy(), hit[1].copy()
+    if envelope not in ("upper", "lower"):
+        raise InputError(f"envelope ({envelope!r}) must be 'upper' or 'lower'")
+    return band(int(n), p, m=float(m), which=envelope)
 
 
 # --- the plan -----------------------------------------------------------------
@@ -604,12 +486,12 @@ class VariablesPlan(Plan):
     def exact_model(self) -> str:
         if self.sigma == "known":
             return "normal-known-sigma"
-        return "estimate-simulated" if self.limit == "both" else "noncentral-t"
+        return "estimate-exact" if self.limit == "both" else "noncentral-t"
 
     @property
     def models(self) -> tuple[str, ...]:
-        if self.exact_model == "estimate-simulated":
-            return ("estimate-simulated", "noncentral-t")
+        if self.exact_model == "estimate-exact":
+            return ("estimate-exact", "noncentral-t")
         return (self.exact_model,)
 
     @property
@@ -653,7 +535,7 @@ class VariablesPlan(Plan):
     def _model(self, model):
         if model is None or model in ("hypergeometric", "binomial", "poisson"):
             return self.exact_model
-        if model == "noncentral-t" and self.exact_model == "estimate-simulated":
+        if model == "noncentral-t" and self.exact_model == "estimate-exact":
             return model
         if model != self.exact_model:
             raise InputError(f"model ({model}) does not apply to this plan ({self.method}); "
@@ -686,8 +568,8 @@ class VariablesPlan(Plan):
         if model == "noncentral-t":
             return pa_unknown(self.n, k_eq, p)
         scalar = np.ndim(p) == 0
-        pa, _ = simulate_estimate_method(self.n, self.m, p, reps=OC_REPS)
-        pa = pa.max(axis=1) if envelope == "upper" else pa.min(axis=1)
+        pa = pa_estimate_two(self.n, self.m, np.clip(np.atleast_1d(np.asarray(p, dtype=float)),
+                                                     0.0, 1.0), envelope)
         return float(pa[0]) if scalar else pa
 
     # -- the plan interface: a process curve under the plan's own models --------
@@ -996,7 +878,7 @@ class VariablesDesign:
     attributes : SingleDesign or None
         The attributes single plan for the same two points (binomial).
     two_limit : dict or None
-        Convention and band or simulation details for two limits.
+        Convention and band details for two limits.
     """
 
     plan: VariablesPlan
@@ -1170,8 +1052,7 @@ def design_variables(*, aql: float, rql: float, alpha: float = 0.05, beta: float
                      sigma_value: float | None = None, lower: float | None = None,
                      upper: float | None = None, width: float | None = None,
                      k_rule: str = "midpoint", max_n: int | None = None,
-                     attributes: bool = True, reps: int = SIM_REPS,
-                     seed: int = SIM_SEED) -> VariablesDesign:
+                     attributes: bool = True) -> VariablesDesign:
     """Smallest variables plan meeting both risks.
 
     Parameters
@@ -1198,8 +1079,6 @@ def design_variables(*, aql: float, rql: float, alpha: float = 0.05, beta: float
         Largest affordable sample.
     attributes : bool
         Also design the attributes single plan for the same points.
-    reps, seed : int
-        Simulation size and seed (two limits, sigma unknown).
 
     Raises
     ------
@@ -1246,7 +1125,7 @@ def design_variables(*, aql: float, rql: float, alpha: float = 0.05, beta: float
 
     if limit == "both" and sigma == "unknown":
         return _design_estimate_method(targets, lower=lower, upper=upper, k_rule=k_rule,
-                                       max_n=max_n, attributes=attributes, reps=reps, seed=seed)
+                                       max_n=max_n, attributes=attributes)
     w = width if (limit == "both" and sigma == "known") else None
     start = _min_n(sigma, limit)
     cap = _N_CAP if max_n is None else max_n
@@ -1351,29 +1230,95 @@ def _attributes(targets: Targets, wanted: bool):
         return None, f"No attributes single plan for the same points: {exc}"
 
 
-def _m_window(n, targets: Targets, reps: int, seed: int):
-    """``(M_low, M_high)`` at ``n`` for the estimate method, from the simulated
-    estimates at the AQL and RQL over every split in :data:`SPLIT_SHARES`:
-    ``M >= M_low`` keeps ``Pa(AQL) >= 1 - alpha`` and ``M < M_high`` keeps
-    ``Pa(RQL) <= beta`` for every split (empirical order statistics)."""
-    tot = estimate_totals(n, [targets.aql, targets.rql], SPLIT_SHARES, reps, seed)
-    return _m_window_from(tot, targets, reps), tot
+def _edge(n, m, level, which):
+    """Lower or upper edge of the exact band at one level (see
+    :func:`pa_estimate_two`)."""
+    return float(pa_estimate_two(n, m, np.array([level]), which)[0])
 
 
-def _m_window_from(tot, targets: Targets, reps: int):
-    ta = np.sort(tot[0], axis=1)
-    tr = np.sort(tot[1], axis=1)
-    ia = max(math.ceil((1.0 - targets.alpha) * reps - 1e-9) - 1, 0)
-    jr = math.floor(targets.beta * reps + 1e-9)
-    m_lo = float(ta[:, ia].max())
-    m_hi = float(tr[:, jr].min()) if jr < reps else 2.0
-    return m_lo, m_hi
+def _m_root(f, start, up: bool = True):
+    """Where the increasing ``f(M)`` changes sign near ``start``.
+
+    A bracket is grown from ``start`` (0.5 % first, secant-guided and at
+    least doubling), then narrowed by regula falsi with the Illinois
+    modification (both ends move; superlinear) to 1e-11 relative. Returns
+    ``(below, above)`` with ``f(below) < 0 <= f(above)`` (``below`` None when
+    ``f >= 0`` down to 1e-300), or None when ``f < 0`` up to ``M = 1``.
+    ``up`` is kept for the callers' reading: the search goes where the sign
+    says.
+    """
+    x0, f0 = start, f(start)
+    step = 0.005
+    while True:  # grow a bracket
+        x1 = x0 * (1 + step) if f0 < 0 else x0 / (1 + step)
+        if x1 >= 1.0:
+            x1 = 0.5 * (x0 + 1.0)
+            if x1 - x0 <= 1e-12:
+                return None
+        if x1 <= 1e-300:
+            return None, x0
+        f1 = f(x1)
+        if (f0 < 0) != (f1 < 0):
+            break
+        if f1 != f0:  # aim past the secant's root, but at least double the step
+            guess = abs((x1 - x0) * f1 / (f1 - f0)) / x1
+            step = max(2.0 * step, min(1.5 * guess, 1.0))
+        else:
+            step *= 4.0
+        x0, f0 = x1, f1
+    (a, fa), (b, fb) = ((x0, f0), (x1, f1)) if x0 < x1 else ((x1, f1), (x0, f0))
+    side = 0
+    while b - a > 1e-11 * b:
+        c = b - fb * (b - a) / (fb - fa)
+        if not a < c < b:
+            c = 0.5 * (a + b)
+        fc = f(c)
+        if fc < 0:
+            a, fa = c, fc
+            if side == -1:
+                fb *= 0.5
+            side = -1
+        else:
+            b, fb = c, fc
+            if side == 1:
+                fa *= 0.5
+            side = 1
+    return a, b
 
 
-def _design_estimate_method(targets: Targets, *, lower, upper, k_rule, max_n, attributes,
-                            reps, seed) -> VariablesDesign:
+def _m_low(n, targets: Targets, guess: float):
+    """Smallest ``M`` whose lower edge at the AQL meets the producer's risk
+    (the edge rises in ``M``); None when none below 1 does."""
+    got = _m_root(lambda m: _edge(n, m, targets.aql, "lower") - (1.0 - targets.alpha),
+                  guess, True)
+    return None if got is None else got[1]
+
+
+def _m_high(n, targets: Targets, guess: float):
+    """Largest ``M`` (to 1e-11) whose upper edge at the RQL meets the
+    consumer's risk (the edge rises in ``M``)."""
+    got = _m_root(lambda m: _edge(n, m, targets.rql, "upper") - targets.beta - _TOL,
+                  guess, True)
+    return None if got is None else got[0]
+
+
+def _one_tail_m(n, targets: Targets):
+    """The one-limit window in ``M`` at ``n`` (noncentral t, exact)."""
+    k_lo, k_hi = k_window(n, targets, "unknown", "upper")
+    return float(estimate_unknown(k_hi, n)), float(estimate_unknown(k_lo, n))
+
+
+def _design_estimate_method(targets: Targets, *, lower, upper, k_rule, max_n,
+                            attributes) -> VariablesDesign:
     """Two limits, sigma unknown: the smallest ``n`` and an ``M`` meeting both
-    risks in the worst simulated split (see :func:`design_variables`)."""
+    risks exactly for every split of the nonconforming between the tails.
+
+    The band over the splits contains the one-tail curve (the split with
+    nothing beyond the lower limit), so no ``n`` below the one-tail answer
+    ``n1`` (noncentral t) works; from ``n1`` up, ``n`` is feasible exactly
+    when the smallest ``M`` meeting alpha on the lower edge at the AQL also
+    meets beta on the upper edge at the RQL (both edges rise in ``M``).
+    """
     cap = _N_CAP if max_n is None else max_n
     if cap < 3:
         raise InputError(f"--max-n ({cap}) must be at least 3 for this method")
@@ -1388,28 +1333,24 @@ def _design_estimate_method(targets: Targets, *, lower, upper, k_rule, max_n, at
         raise Infeasible(f"no plan with n <= {cap} meets both risks even with the mean near "
                          f"one limit: at n = {cap} the consumer's risk needs k >= {lo:.4f} and "
                          f"the producer's k <= {hi:.4f}", {"n": cap, "k_low": lo, "k_high": hi})
-    windows: dict = {}
+    lows: dict = {}
 
-    totals: dict = {}
-
-    def window(n):
-        if n not in windows:
-            windows[n], totals[n] = _m_window(n, targets, reps, seed)
-        return windows[n]
+    def m_low(n):
+        if n not in lows:
+            lows[n] = _m_low(n, targets, _one_tail_m(n, targets)[0])
+        return lows[n]
 
     def ok(n):
-        lo, hi = window(n)
-        return lo < hi
+        m = m_low(n)
+        return m is not None and _edge(n, m, targets.rql, "upper") <= targets.beta + _TOL
 
-    # Gallop up from the one-tail n (no split needs fewer), then bisect.
     last_bad, n, step = n1 - 1, n1, 1
     while not ok(n):
         if n >= cap:
-            lo, hi = window(n)
             raise Infeasible(f"no plan with n <= {cap} meets both risks for every split of the "
-                             f"nonconforming between the tails (simulated): at n = {cap} alpha "
-                             f"needs M >= {lo:.5f} and beta M < {hi:.5f}",
-                             {"n": cap, "m_low": lo, "m_high": hi})
+                             f"nonconforming between the tails (exact): at n = {cap} meeting "
+                             f"alpha needs M >= {m_low(n) or 1.0:.6g}, and there beta is "
+                             "missed", {"n": cap, "m_low": m_low(n)})
         last_bad, n, step = n, min(n + step, cap), step * 2
     lo_n, hi_n = last_bad, n
     while hi_n - lo_n > 1:
@@ -1419,11 +1360,12 @@ def _design_estimate_method(targets: Targets, *, lower, upper, k_rule, max_n, at
         else:
             lo_n = mid
     n = hi_n
-    m_lo, m_hi = window(n)
-    m, dec = _choose_m(m_lo, m_hi, k_rule)
+    m_lo = m_low(n)
+    m_hi = _m_high(n, targets, _one_tail_m(n, targets)[1])
+    m, dec = _choose_m(m_lo, max(m_hi, m_lo), k_rule)
     plan = VariablesPlan(n=n, m=m, sigma="unknown", limit="both", lower=lower, upper=upper)
-    two = _simulation_report(plan, targets, reps, seed, totals[n])
-    two["m_range"] = {"low": m_lo, "high": m_hi, "strict_high": True}
+    two = _exact_report(plan, targets)
+    two["m_range"] = {"low": m_lo, "high": m_hi, "strict_high": False}
     two["one_tail_n"] = n1
     pa_aql, pa_rql = two["worst_aql"]["pa"], two["worst_rql"]["pa"]
     approx = wallis(targets)
@@ -1435,29 +1377,29 @@ def _design_estimate_method(targets: Targets, *, lower, upper, k_rule, max_n, at
     approx["method"] += "; one-limit s-method for the total fraction"
     za, zb, z1, z2 = _z(targets)
     known_n = _ceil(closed_form_known(za, zb, z1, z2)[0])
-    se = max(two["worst_aql"]["se"], two["worst_rql"]["se"])
     notes = [
         f"Estimate method: accept when the estimated fraction beyond both limits is at most "
         f"M = {m:.5g}, equivalent with one limit to k = {plan.k_equivalent:.4f}. The two-limit "
-        f"risks come from a simulation ({reps:,} samples, seed {seed}, every split of the "
-        f"nonconforming between the tails from one tail to centred), standard error about "
-        f"{se:.4f}; any M from {m_lo:.5f} up to (not including) {m_hi:.5f} meets both risks "
-        f"in every split with n = {n}.",
-        f"With the mean near one limit the risks are exact (noncentral t): alpha "
+        f"risks are exact for every split of the nonconforming between the tails (quadrature "
+        f"over the law of s, error about 1e-10 or less; the worst split found by a bounded "
+        f"search); "
+        f"any M from {m_lo:.6g} to {m_hi:.6g} meets both risks in every split with n = {n}.",
+        f"With the mean near one limit the risks are those of the noncentral t: alpha "
         f"{format_pct(1 - two['one_tail_exact']['pa_aql'])}, beta "
         f"{format_pct(two['one_tail_exact']['pa_rql'])}; that case alone needs n = {n1}.",
     ]
-    prev = window(n - 1) if n - 1 >= 3 and (n - 1) in windows else None
-    if prev is not None:
-        prev = (k_for_estimate(n - 1, prev[1]) if prev[1] < 1 else float("-inf"),
-                k_for_estimate(n - 1, prev[0]))
+    prev = None
+    if n - 1 >= n1 and m_low(n - 1) is not None:
+        prev_hi = _m_high(n - 1, targets, _one_tail_m(n - 1, targets)[1])
+        prev = (k_for_estimate(n - 1, prev_hi) if prev_hi is not None else float("inf"),
+                k_for_estimate(n - 1, m_low(n - 1)))
     att, note = _attributes(targets, attributes)
     return VariablesDesign(plan=plan, targets=targets,
-                           k_low=k_for_estimate(n, min(m_hi, 0.999999)),
-                           k_high=k_for_estimate(n, m_lo), k_rule=k_rule, k_decimals=dec,
-                           pa_aql=float(pa_aql), pa_rql=float(pa_rql), approximation=approx,
-                           known_sigma_n=known_n, attributes=att, attributes_note=note,
-                           previous_window=prev, two_limit=two, notes=notes)
+                           k_low=k_for_estimate(n, m_hi), k_high=k_for_estimate(n, m_lo),
+                           k_rule=k_rule, k_decimals=dec, pa_aql=float(pa_aql),
+                           pa_rql=float(pa_rql), approximation=approx, known_sigma_n=known_n,
+                           attributes=att, attributes_note=note, previous_window=prev,
+                           two_limit=two, notes=notes)
 
 
 def _choose_m(m_lo: float, m_hi: float, rule: str) -> tuple[float, int]:
@@ -1478,34 +1420,28 @@ def _choose_m(m_lo: float, m_hi: float, rule: str) -> tuple[float, int]:
     return target, 17
 
 
-def _simulation_report(plan, targets, reps, seed, totals=None) -> dict:
-    """Simulated two-limit risks of an estimate-method plan (see
-    :func:`lotwise.families.variables.simulate_estimate_method`); ``totals`` are the
-    simulated estimates when already at hand (same draws)."""
-    shares = SPLIT_SHARES
-    if totals is not None:
-        pa = np.count_nonzero(totals <= plan.m, axis=2) / reps
-        se = np.sqrt(pa * (1.0 - pa) / reps)
-    else:
-        pa, se = simulate_estimate_method(plan.n, plan.m, [targets.aql, targets.rql], shares,
-                                            reps, seed)
-    ia, ir = int(np.argmin(pa[0])), int(np.argmax(pa[1]))
-    one = pa_unknown(plan.n, plan.k_equivalent, np.array([targets.aql, targets.rql]))
+def _exact_report(plan, targets) -> dict:
+    """Exact two-limit risks of an estimate-method plan: both edges of the band
+    at the AQL and the RQL, the split where each worst case lies, the centred
+    process and the one-tail (noncentral t) values."""
+    from lotwise.core.twolimit import band, pa_split
+
+    levels = np.array([targets.aql, targets.rql])
+    (lo, lo_at), (up, up_at) = band(plan.n, levels, m=plan.m, shares=True)
+    centred = pa_split(plan.n, levels, np.array([0.5, 0.5]), m=plan.m)
+    one = pa_unknown(plan.n, plan.k_equivalent, levels)
     return {
-        "convention": "exact (noncentral t) with the mean near one limit; simulated for every "
-                      "split of the nonconforming fraction between the tails",
+        "convention": "exact for every split of the nonconforming fraction between the tails "
+                      "(quadrature over the law of s); alpha on the lower edge of the band at "
+                      "the AQL, beta on its upper edge at the RQL",
         "m": float(plan.m),
         "k_equivalent": plan.k_equivalent,
         "one_tail_exact": {"pa_aql": float(one[0]), "pa_rql": float(one[1])},
-        "simulation": {"reps": int(reps), "seed": int(seed), "lower_tail_shares": list(shares),
-                       "pa_aql": pa[0].tolist(), "se_aql": se[0].tolist(),
-                       "pa_rql": pa[1].tolist(), "se_rql": se[1].tolist()},
-        "centred": {"pa_aql": float(pa[0, -1]), "se_aql": float(se[0, -1]),
-                    "pa_rql": float(pa[1, -1]), "se_rql": float(se[1, -1])},
-        "worst_aql": {"lower_tail_share": shares[ia], "pa": float(pa[0, ia]),
-                      "se": float(se[0, ia])},
-        "worst_rql": {"lower_tail_share": shares[ir], "pa": float(pa[1, ir]),
-                      "se": float(se[1, ir])},
+        "band": {"aql": {"lower": float(lo[0]), "upper": float(up[0])},
+                 "rql": {"lower": float(lo[1]), "upper": float(up[1])}},
+        "centred": {"pa_aql": float(centred[0]), "pa_rql": float(centred[1])},
+        "worst_aql": {"lower_tail_share": float(lo_at[0]), "pa": float(lo[0])},
+        "worst_rql": {"lower_tail_share": float(up_at[1]), "pa": float(up[1])},
     }
 
 
@@ -1513,9 +1449,6 @@ def report_extras(plan, targets, scope, model: str, report: dict) -> dict:
     """The two-limit band's conventions beside the plan's risks."""
     out = {}
     if plan.limit == "both" and plan.sigma == "unknown":
-        pa, se = simulate_estimate_method(plan.n, plan.m, [targets.aql, targets.rql])
-        out["simulated"] = {"se_aql": float(se[0][pa[0].argmin()]),
-                            "se_rql": float(se[1][pa[1].argmax()])}
         one = plan.pa([targets.aql, targets.rql], "noncentral-t")
         out["one_tail_exact"] = {"pa_aql": float(one[0]), "pa_rql": float(one[1])}
     if plan.limit == "both" and plan.sigma == "known" and plan.width is None:

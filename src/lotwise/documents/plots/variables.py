@@ -28,8 +28,8 @@ def variables_oc_figure(plan, *, aql=None, rql=None, max_p=None, attributes_plan
 
     Two-limit plans whose split between the tails is open are drawn as a
     band (upper edge solid: the consumer's worst case; lower edge dashed:
-    the producer's); estimate-method plans show the simulated worst case
-    and the exact one-tail curve. ``attributes_plan`` (a single plan by
+    the producer's); estimate-method plans show the exact band and the
+    exact one-tail curve. ``attributes_plan`` (a single plan by
     attributes) adds its binomial curve for comparison.
     """
     fig, ax = new_axes(ax)
@@ -43,9 +43,8 @@ def variables_oc_figure(plan, *, aql=None, rql=None, max_p=None, attributes_plan
     if band:
         lo = np.asarray(plan.pa(ps, envelope="lower"), dtype=float)
         ax.fill_between(ps, lo, hi, color="0.88", linewidth=0)
-        sim = " (simulated)" if plan.sigma == "unknown" else ""
-        ax.plot(ps, hi, label=f"upper edge: consumer's worst case{sim}", **STYLE["exact"])
-        ax.plot(ps, lo, label=f"lower edge: producer's worst case{sim}", **STYLE["poisson"])
+        ax.plot(ps, hi, label="upper edge: consumer's worst case", **STYLE["exact"])
+        ax.plot(ps, lo, label="lower edge: producer's worst case", **STYLE["poisson"])
         if plan.sigma == "unknown":
             one = plan.pa(ps, "noncentral-t")
             ax.plot(ps, one, label="mean near one limit: noncentral t (exact)",
@@ -60,13 +59,7 @@ def variables_oc_figure(plan, *, aql=None, rql=None, max_p=None, attributes_plan
     for level, marker, tag, env in ((aql, "o", "AQL", "lower"), (rql, "s", "RQL", "upper")):
         if level is None:
             continue
-        if plan.exact_model == "estimate-simulated":  # the full simulation, as designed
-            from lotwise.families.variables import simulate_estimate_method
-
-            sim_pa, _ = simulate_estimate_method(plan.n, plan.m, [level])
-            y = float(sim_pa.min() if env == "lower" else sim_pa.max())
-        else:
-            y = float(plan.pa(level, envelope=env))
+        y = float(plan.pa(level, envelope=env))
         ax.plot([level, level], [0, y], color="0.55", linewidth=0.7, linestyle=":")
         ax.plot([0, level], [y, y], color="0.55", linewidth=0.7, linestyle=":")
         ax.plot([level], [y], marker=marker, markersize=7, markerfacecolor="white",
