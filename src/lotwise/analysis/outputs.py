@@ -148,13 +148,7 @@ def variables_oc(plan, *, max_p=None, points="21", at=None, rql=None) -> dict:
         header.append("pa_one_tail_noncentral_t")
         cols.append(np.asarray(plan.pa(ps, "noncentral-t"), dtype=float))
     rows = [[float(pv)] + [float(c[i]) for c in cols] for i, pv in enumerate(ps)]
-    out = {"scheme": "variables", **plan.to_dict(), "columns": header, "rows": rows}
-    if plan.exact_model == "estimate-exact":
-        from lotwise.families.variables import SPLIT_SHARES
-
-        out["simulation"] = {"reps": 4000, "lower_tail_shares": list(SPLIT_SHARES),
-                             "se_max": 0.5 / math.sqrt(4000)}
-    return out
+    return {"scheme": "variables", **plan.to_dict(), "columns": header, "rows": rows}
 
 
 def _csp_nice(x: float) -> float:
