@@ -74,7 +74,7 @@ def initial_upper(kernel: Kernel, c: np.ndarray, beta: float) -> np.ndarray:
     doubles it (up to the cap) where it falls short."""
     lam = special.gammainccinv(c + 1.0, beta)  # Poisson mean with Pa = beta
     guess = np.ceil(1.05 * lam / kernel.t.rql) + 2
-    guess = np.maximum(guess, c + 1)
+    guess = np.minimum(np.maximum(guess, c + 1), MAX_SAMPLE)  # no int64 overflow
     if kernel.model == "hypergeometric":
         guess = np.minimum(guess, kernel.N)
     return guess.astype(np.int64)
@@ -96,12 +96,12 @@ def n_min(kernel: Kernel, c: np.ndarray, beta: float, cap: int | None) -> np.nda
     ok = kernel.at_rql(hi, c) <= beta + TOL
     # Grow the bracket where the guess was too small (binomial/poisson only).
     while True:
-        grow = ~ok
+        grow = ~ok & (hi < MAX_SAMPLE)
         if limit is not None:
             grow &= hi < limit
         if not grow.any():
             break
-        new = hi[grow] * 2
+        new = np.minimum(hi[grow] * 2, MAX_SAMPLE)
         if limit is not None:
             new = np.minimum(new, limit)
         hi[grow] = new
@@ -162,6 +162,25 @@ def check_targets(targets: Targets, per_unit: bool) -> None:
             f"alpha + beta ({format_pct(targets.alpha)} + {format_pct(targets.beta)}) must be "
             "below 100 %: otherwise the two risks do not constrain any plan",
             {"alpha": targets.alpha, "beta": targets.beta})
+    if targets.aql > 0 and targets.aql < MIN_LEVEL:
+        raise Infeasible(
+            f"the AQL ({targets.aql:g}) is below {MIN_LEVEL:g}: a sample able to tell it from "
+            f"the RQL would need more than {MAX_SAMPLE:.0e} units; state the levels in a "
+            "coarser unit (for example per million) or inspect every item",
+            {"aql": targets.aql, "minimum": MIN_LEVEL})
+    if targets.aql > 0 and targets.rql / targets.aql < MIN_RATIO:
+        raise Infeasible(
+            f"the RQL ({format_level(targets.rql, per_unit)}) is within a factor "
+            f"{MIN_RATIO:.7g} of the AQL ({format_level(targets.aql, per_unit)}): no sample of "
+            f"up to {MAX_SAMPLE:.0e} units tells them apart",
+            {"aql": targets.aql, "rql": targets.rql, "min_ratio": MIN_RATIO})
+
+
+#: Levels and ratios beyond what a sample can resolve (samples above
+#: ``MAX_SAMPLE`` units are refused rather than searched for).
+MIN_LEVEL = 1e-15
+MIN_RATIO = 1.0 + 1e-6
+MAX_SAMPLE = 10**12
 
 
 def check_lot(targets: Targets, lot_size: int, counts: tuple[int, int]) -> None:
