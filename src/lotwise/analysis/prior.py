@@ -454,8 +454,9 @@ def posterior_risks(plan, prior: BetaPrior, *, aql=None, rql=None, lot_size=None
         quadrature of ``pa(p)``, for checking one against the other).
     """
     if exact and plan.attribute_plan and plan.lot_by_lot:
-        if plan.scheme == "single":
-            return single_posterior(plan.n, plan.c, prior, aql=aql, rql=rql, lot_size=lot_size)
+        rule = plan.count_rule()
+        if rule is not None:
+            return single_posterior(rule[0], rule[1], prior, aql=aql, rql=rql, lot_size=lot_size)
         return count_posterior(plan, prior, aql=aql, rql=rql, lot_size=lot_size)
     return _quadrature_posterior(plan, prior, aql=aql, rql=rql, lot_size=lot_size, tol=tol)
 

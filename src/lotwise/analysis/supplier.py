@@ -268,7 +268,7 @@ def rejection_at(plan, process_average: float, *, per_unit: bool = False,
         ``label``, ``notation``, ``scheme``, ``pa``, ``p_reject`` and
         ``rejected_per_year`` (``deliveries_per_year * p_reject``, or None).
     """
-    if plan.scheme in ("csp1", "csp2", "csp3"):
+    if plan.evaluation == "flow":
         raise InputError(f"--plan ({plan.label}) is a continuous sampling plan: it passes "
                          "units, not lots, so no lot is rejected")
     if plan.attribute_plan:

@@ -107,6 +107,7 @@ import numpy as np
 
 from lotwise.core.quantities import InputError
 from lotwise.core.types import Scope, lot_counts
+from lotwise.families.base import Plan
 
 __all__ = ["Severity", "SEVERITIES", "RULE_KEYS", "SwitchRules", "Scheme", "SchemeLevel",
            "SchemeOC", "scheme_oc", "LotResult", "Switch", "Tracking", "track", "step",
@@ -200,9 +201,9 @@ class Scheme:
                 if name == "normal":
                     raise InputError("normal: a switching scheme needs a normal plan")
                 continue
-            if getattr(plan, "scheme", "") in ("chain", "skiplot") or not hasattr(plan, "pa"):
+            if not isinstance(plan, Plan) or not plan.lot_by_lot:
                 raise InputError(
-                    f"{name} ({plan.notation() if hasattr(plan, 'notation') else plan}): a "
+                    f"{name} ({plan.notation() if isinstance(plan, Plan) else plan}): a "
                     "switching scheme needs plans that judge each lot on its own sample; "
                     "chain and skip-lot plans depend on earlier lots")
         lim = self.rules.reduce_limit
@@ -210,7 +211,7 @@ class Scheme:
             if self.reduced is None or self.rules.reduce_accepts == 0:
                 raise InputError(f"reduce_limit ({lim}) needs a reduced plan and "
                                  "reduce_accepts of at least 1")
-            if getattr(self.normal, "scheme", "") != "single":
+            if self.normal.count_rule() is None:
                 raise InputError(
                     f"reduce_limit ({lim}) needs a single normal plan (n=..,c=..): the count "
                     f"found in an accepted lot of a {self.normal.scheme} plan is not computed "
@@ -660,7 +661,7 @@ def scheme_oc(scheme: Scheme, ps, model: str | None, scope: Scope) -> SchemeOC:
     ps = np.atleast_1d(np.asarray(ps, dtype=float))
     plans = scheme.plans()
     for s, plan in plans.items():
-        if scope.lot_size and hasattr(plan, "check_scope"):
+        if scope.lot_size:
             try:
                 plan.check_scope(scope)
             except InputError as exc:

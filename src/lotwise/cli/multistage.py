@@ -275,10 +275,11 @@ def next_unit(
         plan = plan_from_file(plan_file, plan, lot, severity)
     if plan is None:
         raise InputError("--plan is required, for example --plan \"n1=50,c1=1,n2=100,c2=3\"")
-    if plan.split(":", 1)[0].strip().lower() in ("csp1", "csp2", "csp3"):
+    flow = parse_plan(plan) if not plan.endswith(".toml") and "#" not in plan else None
+    if flow is not None and flow.evaluation == "flow":  # continuous sampling: a history
         from .csp import next_cmd
 
-        return next_cmd(parse_plan(plan), history=history, seed=seed, systematic=systematic,
+        return next_cmd(flow, history=history, seed=seed, systematic=systematic,
                         as_json=as_json, unused={"--inspected": inspected, "--found": found,
                                                  "--defects": defects or None})
     for opt, val in (("--history", history), ("--seed", seed), ("--systematic", systematic)):

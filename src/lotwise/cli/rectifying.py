@@ -157,7 +157,7 @@ def check_extras(rep: dict, plan, scope, model, targets, *, aoq_formula, skip_lo
             rep["skip_lot"]["aoql"] = a.value
             rep["skip_lot"]["aoql_p"] = a.at
     if aoq_plot is not None:
-        if plan.scheme != "single":
+        if plan.count_rule() is None:
             raise InputError(f"--aoq-plot ({aoq_plot}) is drawn for single plans only")
         if not scope.lot_size:
             raise InputError(f"--aoq-plot ({aoq_plot}) needs --lot-size")

@@ -62,19 +62,16 @@ def asn_figure(items, *, model=None, aql=None, rql=None, max_p=None, labels=None
         if not per_unit:
             max_p = min(max_p, 1.0)
     ps = np.linspace(0.0, max_p, points)
-    labels = labels or [getattr(p, "label", str(p)) for p, _ in items]
+    labels = labels or [p.label for p, _ in items]
     styles = _styles()
     first_y = None
     top = 0.0
     for i, ((plan, scope), label) in enumerate(zip(items, labels)):
         m = model or scope.exact_model
-        if getattr(plan, "scheme", "") == "single":
-            y = np.full(ps.shape, float(plan.n))
-        else:
-            y = np.asarray(plan.asn(ps, m, scope), dtype=float)
+        y = np.asarray(plan.asn(ps, m, scope), dtype=float)
         top = max(top, float(np.max(y)))
         ax.plot(ps, y, label=label, **styles[i % len(styles)])
-        if curtailed and hasattr(plan, "asn_curtailed"):
+        if curtailed and plan.has_curtailment:
             yc = np.asarray(plan.asn_curtailed(ps, m, scope), dtype=float)
             st = dict(styles[i % len(styles)])
             st["linewidth"] = 0.9
@@ -85,10 +82,7 @@ def asn_figure(items, *, model=None, aql=None, rql=None, max_p=None, labels=None
     for level, marker, name in ((aql, "o", "AQL"), (rql, "s", "RQL")):
         if level is None:
             continue
-        if getattr(plan, "scheme", "") == "single":
-            y = float(plan.n)
-        else:
-            y = float(plan.asn(level, m, scope))
+        y = float(plan.asn(level, m, scope))
         ax.axvline(level, color="0.55", linewidth=0.7, linestyle=":")
         ax.plot([level], [y], marker=marker, markersize=7, markerfacecolor="white",
                 markeredgecolor="0.0", markeredgewidth=1.3, linestyle="none",

@@ -107,9 +107,9 @@ def oc_figure(items, *, models=None, aql=None, rql=None, alpha=None, beta=None,
     fig, ax = new_axes(ax)
     plan0, scope0 = items[0]
     per_unit = scope0.defects
-    exact = getattr(plan0, "exact_model", None) or scope0.exact_model
-    models = tuple(models or getattr(plan0, "models", None) or scope0.models)
-    if plan0.scheme != "single":
+    exact = plan0.judging_model(scope0)
+    models = tuple(models or plan0.models_for(scope0))
+    if plan0.count_rule() is None:  # every model is drawn for plans of one fixed sample
         models = (exact,)
     if max_p is None:
         from lotwise.analysis.audit import quality_at
@@ -119,7 +119,7 @@ def oc_figure(items, *, models=None, aql=None, rql=None, alpha=None, beta=None,
         if not per_unit:
             max_p = min(max_p, 1.0)
     ps = np.linspace(0.0, max_p, points)
-    labels = labels or [getattr(p, "label", str(p)) for p, _ in items]
+    labels = labels or [p.label for p, _ in items]
 
     order = [exact] + [m for m in models if m != exact]
     for m in order:
@@ -133,7 +133,7 @@ def oc_figure(items, *, models=None, aql=None, rql=None, alpha=None, beta=None,
 
     for i, (plan, scope) in enumerate(items[1:]):
         style = STYLE["other"][i % len(STYLE["other"])]
-        own = getattr(plan, "exact_model", None) or scope.exact_model
+        own = plan.judging_model(scope)
         ax.plot(ps, plan.pa(ps, scope.exact_model, scope), label=f"{labels[i + 1]}: {own}",
                 **style)
 
