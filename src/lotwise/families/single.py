@@ -326,28 +326,45 @@ def design_single(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 
         cap = lot_size if cap is None else min(cap, lot_size)
 
     if n is not None:
-        cc = c_min(kernel, n, alpha)
-        b = float(kernel.at_rql(n, cc))
-        if b <= beta + TOL:
-            return result(n, cc)
-        raise Infeasible(
-            f"no acceptance number works with n = {n}: c = {cc} is the smallest that meets "
-            f"alpha ({format_pct(alpha)}), and it leaves beta at {format_pct(b)} "
-            f"(target {format_pct(beta)})",
-            {"n": n, "c": cc, "alpha": 1.0 - float(kernel.at_aql(n, cc)), "beta": b})
-
+        return result(*_with_fixed_n(kernel, n, alpha, beta))
     if c is not None:
-        nm = int(n_min(kernel, np.array([c]), beta, cap)[0])
-        if nm < 0:
-            raise _cap_infeasible(kernel, targets, cap, lot_size, fixed_c=c)
-        a = 1.0 - float(kernel.at_aql(nm, c))
-        if a <= alpha + TOL:
-            return result(nm, c)
-        raise Infeasible(
-            f"no sample size works with c = {c}: meeting beta ({format_pct(beta)}) needs "
-            f"n >= {nm}, and there alpha is {format_pct(a)} (target {format_pct(alpha)})",
-            {"n": nm, "c": c, "alpha": a, "beta": float(kernel.at_rql(nm, c))})
+        return result(*_with_fixed_c(kernel, targets, c, cap, lot_size))
+    return result(*_smallest_plan(kernel, targets, cap, lot_size, model, defects))
 
+
+def _with_fixed_n(kernel: Kernel, n: int, alpha: float, beta: float) -> tuple[int, int]:
+    """``(n, c)`` with the smallest ``c`` meeting alpha at the given ``n``, if it meets beta."""
+    cc = c_min(kernel, n, alpha)
+    b = float(kernel.at_rql(n, cc))
+    if b <= beta + TOL:
+        return n, cc
+    raise Infeasible(
+        f"no acceptance number works with n = {n}: c = {cc} is the smallest that meets "
+        f"alpha ({format_pct(alpha)}), and it leaves beta at {format_pct(b)} "
+        f"(target {format_pct(beta)})",
+        {"n": n, "c": cc, "alpha": 1.0 - float(kernel.at_aql(n, cc)), "beta": b})
+
+
+def _with_fixed_c(kernel: Kernel, targets: Targets, c: int, cap, lot_size) -> tuple[int, int]:
+    """``(n, c)`` with the smallest ``n`` meeting beta at the given ``c``, if it meets alpha."""
+    alpha, beta = targets.alpha, targets.beta
+    nm = int(n_min(kernel, np.array([c]), beta, cap)[0])
+    if nm < 0:
+        raise _cap_infeasible(kernel, targets, cap, lot_size, fixed_c=c)
+    a = 1.0 - float(kernel.at_aql(nm, c))
+    if a <= alpha + TOL:
+        return nm, c
+    raise Infeasible(
+        f"no sample size works with c = {c}: meeting beta ({format_pct(beta)}) needs "
+        f"n >= {nm}, and there alpha is {format_pct(a)} (target {format_pct(alpha)})",
+        {"n": nm, "c": c, "alpha": a, "beta": float(kernel.at_rql(nm, c))})
+
+
+def _smallest_plan(kernel: Kernel, targets: Targets, cap, lot_size, model, defects):
+    """``(n, c)``: blocks of acceptance numbers in increasing ``c``, each block's
+    smallest ``n`` by one vectorised bisection, until a block holds a plan
+    meeting alpha (see the module notes)."""
+    alpha, beta = targets.alpha, targets.beta
     start, width = 0, 64
     c_limit = _c_limit(kernel, cap, model, defects)
     while True:
@@ -362,7 +379,7 @@ def design_single(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 
             feasible[have] = kernel.at_aql(nm[have], cs[have]) >= 1.0 - alpha - TOL
         if feasible.any():
             i = int(np.argmax(feasible))
-            return result(int(nm[i]), int(cs[i]))
+            return int(nm[i]), int(cs[i])
         if cap is not None and not have[-1]:
             # n_min never decreases in c: beyond a c without any n under the cap
             # there is none either.
