@@ -20,7 +20,7 @@ Examples
 >>> plan, scope = parse_plan("n=80,c=2"), Scope()
 >>> ps = attribute_grid(plan, scope, "binomial", points="3")
 >>> [round(float(p), 3) for p in ps]
-[0.0, 0.05, 0.1]
+[0.0, 0.1, 0.2]
 >>> attribute_oc(plan, scope, "binomial", ps)["columns"]
 ['p', 'binomial', 'poisson', 'poisson_minus_exact']
 """

@@ -125,9 +125,7 @@ def plan_from(plan_text, n, c, *, required=True):
                          "or as --plan \"n=80,c=2\"")
     nn = parse_count(n, "--n", minimum=1)
     cc = parse_count(c, "--c", minimum=0)
-    if cc > nn:
-        raise InputError(f"--c ({cc}) must not be greater than --n ({nn})")
-    return SinglePlan(n=nn, c=cc)
+    return SinglePlan(n=nn, c=cc)  # c <= n is checked with the scope (items, not per unit)
 
 
 def levels_out_of_order(a, r, defects, as_json):

@@ -22,7 +22,6 @@ References
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -281,20 +280,7 @@ def unit_walk(acc, rej, model, x, N=None, *, lot_size=None) -> WalkResult:
         beyond = None
         if lo <= hi:
             if model == "poisson":
-                width = top - lo + 1
-                band = S[lo:hi + 1].copy()
-                mass = band.sum(axis=0)
-                S[lo:hi + 1] = 0.0
-                if width > 0:
-                    new = np.zeros((width, P))
-                    for u in range(min(band.shape[0], width)):
-                        new[u:] += band[u:u + 1] * pois[:width - u]
-                    S[lo:top + 1] = new
-                    beyond = np.maximum(mass - new.sum(axis=0), 0.0)
-                    hi = top
-                else:
-                    beyond = mass
-                    hi = lo - 1
+                beyond, hi = _poisson_unit(S, lo, hi, top, pois)
             else:
                 if model == "binomial":
                     q, keep = pnc, qnc
@@ -322,18 +308,7 @@ def unit_walk(acc, rej, model, x, N=None, *, lot_size=None) -> WalkResult:
             has_over = True
         a = accl[m]
         if a >= lo and lo <= hi:
-            k = a if a < hi else hi
-            took = S[lo:k + 1]
-            got = acc_at[m]
-            took.sum(axis=0, out=got)
-            if left is not None:
-                if model == "hypergeometric":
-                    dd = np.arange(lo, k + 1, dtype=float)[:, None]
-                    left += (took * (xr - dd)).sum(axis=0)
-                else:
-                    left += got * x * (lot - m)
-            S[lo:k + 1] = 0.0
-            lo = k + 1
+            lo = _accept_unit(S, lo, hi, a, acc_at[m], left, model, x, lot, m)
         if lo > hi and not has_over:
             last = m
             break
@@ -343,3 +318,37 @@ def unit_walk(acc, rej, model, x, N=None, *, lot_size=None) -> WalkResult:
     acc_units = ms @ acc_at
     asn = acc_units + ms @ rej_at
     return WalkResult(pa=pa, asn=asn, accepted_units=acc_units, left_in_accepted=left)
+
+
+def _poisson_unit(S, lo: int, hi: int, top: int, pois):
+    """One more unit under the Poisson model: the undecided counts ``lo..hi``
+    convolved with the unit's count, kept up to ``top``; returns the mass that
+    went beyond ``top`` and the new ``hi``."""
+    width = top - lo + 1
+    band = S[lo:hi + 1].copy()
+    mass = band.sum(axis=0)
+    S[lo:hi + 1] = 0.0
+    if width <= 0:
+        return mass, lo - 1
+    new = np.zeros((width, S.shape[1]))
+    for u in range(min(band.shape[0], width)):
+        new[u:] += band[u:u + 1] * pois[:width - u]
+    S[lo:top + 1] = new
+    return np.maximum(mass - new.sum(axis=0), 0.0), top
+
+
+def _accept_unit(S, lo: int, hi: int, a: int, got, left, model: str, x, lot, m: int) -> int:
+    """Accept the undecided lots with counts ``lo..a`` at unit ``m`` (their
+    probability into ``got``, the nonconforming left in them into ``left``);
+    returns the new lowest undecided count."""
+    k = a if a < hi else hi
+    took = S[lo:k + 1]
+    took.sum(axis=0, out=got)
+    if left is not None:
+        if model == "hypergeometric":
+            dd = np.arange(lo, k + 1, dtype=float)[:, None]
+            left += (took * (x[None, :] - dd)).sum(axis=0)
+        else:
+            left += got * x * (lot - m)
+    S[lo:k + 1] = 0.0
+    return k + 1

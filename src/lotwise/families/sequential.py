@@ -882,6 +882,13 @@ def report_extras(plan, targets, scope: Scope, model: str, report: dict) -> dict
          "asn_aql": float(plan.wald_asn(targets.aql, per_unit)),
          "asn_rql": float(plan.wald_asn(targets.rql, per_unit))}
     m, a = report["models"][model], report["asn"]
+    if plan.never_accepts:
+        never = (f"This plan never accepts a lot: the acceptance number is below 0 at every unit "
+                 f"up to the truncation point (the midpoint line there is {plan.midpoint:.4g}), "
+                 f"so every lot is rejected after {plan.max_sample} units at most and Pa is 0 "
+                 "at every quality level. Lower h1 or raise h2 (or the truncation point) "
+                 "before using it.")
+        return {"wald": w, "statements": [never]}
     return {
         "wald": w,
         "truncation_rule": ("a lot still undecided after the last unit is accepted if its "

@@ -1088,40 +1088,14 @@ def design_variables(*, aql: float, rql: float, alpha: float = 0.05, beta: float
     InputError
         Malformed arguments.
     """
-    if sigma not in ("known", "unknown"):
-        raise InputError(f"--sigma ({sigma}) must be 'known' or 'unknown'")
-    if limit not in ("upper", "lower", "both"):
-        raise InputError(f"--limit ({limit}) must be one of: upper, lower, both")
-    if k_rule not in K_RULES:
-        raise InputError(f"k rule ({k_rule}) must be one of: {', '.join(K_RULES)}")
-    if sigma == "unknown" and sigma_value is not None:
-        raise InputError(f"--sigma-value ({sigma_value:g}) is given with --sigma unknown; "
-                         "use --sigma known")
-    if limit == "upper" and lower is not None:
-        raise InputError(f"--lower ({lower:g}) is given with --limit upper; use --limit both")
-    if limit == "lower" and upper is not None:
-        raise InputError(f"--upper ({upper:g}) is given with --limit lower; use --limit both")
-    if max_n is not None and max_n < 1:
-        raise InputError(f"--max-n ({max_n}) must be at least 1")
+    width = _checked_width(sigma=sigma, limit=limit, k_rule=k_rule, sigma_value=sigma_value,
+                           lower=lower, upper=upper, max_n=max_n, width=width)
     targets = Targets(aql=aql, rql=rql, alpha=alpha, beta=beta)
     check_targets(targets, False)
-    if limit == "both" and sigma == "known" and width is None and None not in (
-            lower, upper, sigma_value):
-        if not lower < upper:
-            raise InputError(f"--lower ({lower:g}) must be below --upper ({upper:g})")
-        width = (upper - lower) / sigma_value
-    if width is not None and not (limit == "both" and sigma == "known"):
-        raise InputError("a tolerance width applies only to --limit both with --sigma known")
     notes: list[str] = []
     two: dict | None = None
     if limit == "both" and sigma == "known" and width is not None:
-        p_min = 2.0 * float(special.ndtr(-0.5 * width))
-        if aql < p_min:
-            raise Infeasible(
-                f"the process cannot run as well as the AQL ({format_level(aql)}): with a "
-                f"tolerance {width:.4g} sigma wide even a centred process has "
-                f"{format_level(p_min)} beyond the limits; a smaller sigma is needed",
-                {"p_min": p_min, "width_sigma": width})
+        _check_reachable(aql, width)
 
     if limit == "both" and sigma == "unknown":
         return _design_estimate_method(targets, lower=lower, upper=upper, k_rule=k_rule,
@@ -1132,10 +1106,6 @@ def design_variables(*, aql: float, rql: float, alpha: float = 0.05, beta: float
     if cap < start:
         raise InputError(f"--max-n ({cap}) must be at least {start} for this method")
     eff_limit = "upper" if (limit == "both" and sigma == "unknown") else limit
-
-    def plan_for(n, k):
-        return VariablesPlan(n=n, k=k, sigma=sigma, limit=limit, sigma_value=sigma_value,
-                               lower=lower, upper=upper, width=w)
 
     def risks(n, k):
         """Exact Pa at the AQL and RQL (two limits: the worst case)."""
@@ -1158,56 +1128,17 @@ def design_variables(*, aql: float, rql: float, alpha: float = 0.05, beta: float
     n = _smallest_n(feasible, start, cap)
     if n is None:
         lo, hi = k_window(cap, targets, sigma, eff_limit, w)
-        what = "--max-n" if max_n is not None else "10,000,000"
-        raise Infeasible(
-            f"no plan with n <= {cap} ({what}) meets both risks: at n = {cap} the consumer's "
-            f"risk needs k >= {lo:.4f} and the producer's k <= {hi:.4f}",
-            {"n": cap, "k_low": lo, "k_high": hi})
+        raise _no_plan_under(cap, max_n, lo, hi)
     k_lo, k_hi = k_window(n, targets, sigma, eff_limit, w)
     prev = k_window(n - 1, targets, sigma, eff_limit, w) if n - 1 >= start else None
     k, dec = _choose_k(k_lo, k_hi, k_rule, lambda kk: meets(n, kk))
-    plan = plan_for(n, k)
+    plan = VariablesPlan(n=n, k=k, sigma=sigma, limit=limit, sigma_value=sigma_value,
+                         lower=lower, upper=upper, width=w)
     pa_aql, pa_rql = risks(n, k)
 
-    za, zb, z1, z2 = _z(targets)
-    n0, k0 = closed_form_known(za, zb, z1, z2)
-    known_n = _ceil(n0)
-    if sigma == "known":
-        approx = {"method": "closed form (sigma known), z at full precision, n rounded up",
-                  "n_unrounded": n0, "n": known_n, "k": k0}
-        if limit == "both":
-            approx["method"] += "; one-limit formula applied to the total fraction"
-    else:
-        approx = wallis(targets)
-        approx["alpha"] = 1.0 - float(pa_unknown(approx["n"], approx["k"], aql))
-        approx["beta"] = float(pa_unknown(approx["n"], approx["k"], rql))
-        approx["exact_minus_approximation"] = int(n - approx["n"])
-        approx["meets"] = bool(approx["alpha"] <= alpha + _TOL and approx["beta"] <= beta + _TOL)
-        if limit == "both":
-            approx["method"] += "; for the total fraction"
-
+    approx, known_n = _approximation(targets, sigma, limit, n)
     if limit == "both" and sigma == "known":
-        if w is not None:
-            p_min = 2.0 * float(special.ndtr(-0.5 * w))
-            two = {"convention": "tolerance width known: the mean's distance from the middle "
-                                 "of the tolerance is fixed by the total fraction (two mirror "
-                                 "positions, same Pa), so Pa is exact",
-                   "width_sigma": w, "p_min": p_min}
-            notes.append(f"Two limits {w:.4g} sigma apart: a centred process has "
-                         f"{format_level(p_min)} beyond them; Pa depends only on the total "
-                         "fraction (the mean's two mirror positions give the same Pa).")
-        else:
-            one = (float(pa_known(n, k, aql)), float(pa_known(n, k, rql)))
-            two = {"convention": "worst case over where the mean sits and how wide the "
-                                 "tolerance is: alpha on the lower edge of the band at the AQL, "
-                                 "beta on its upper edge at the RQL",
-                   "aql": {"lower": pa_aql, "upper": pa_known_two(n, k, aql, None, "upper"),
-                           "one_tail": one[0]},
-                   "rql": {"lower": pa_known_two(n, k, rql, None, "lower"), "upper": pa_rql,
-                           "one_tail": one[1]}}
-            notes.append("Two limits, tolerance width not given: the risks are met wherever the "
-                         "mean sits and however wide the tolerance (worst case); give "
-                         "--sigma-value with --lower and --upper for the exact curve.")
+        two = _known_two_limits(targets, n, k, w, pa_aql, pa_rql, notes)
 
     att, note = _attributes(targets, attributes)
     return VariablesDesign(plan=plan, targets=targets, k_low=k_lo, k_high=k_hi, k_rule=k_rule,
@@ -1216,6 +1147,102 @@ def design_variables(*, aql: float, rql: float, alpha: float = 0.05, beta: float
                            attributes_note=note, previous_window=prev, two_limit=two,
                            notes=notes)
 
+
+
+
+
+def _check_reachable(aql: float, width: float) -> None:
+    """A centred process must be able to run at the AQL within the tolerance."""
+    p_min = 2.0 * float(special.ndtr(-0.5 * width))
+    if aql < p_min:
+        raise Infeasible(
+            f"the process cannot run as well as the AQL ({format_level(aql)}): with a "
+            f"tolerance {width:.4g} sigma wide even a centred process has "
+            f"{format_level(p_min)} beyond the limits; a smaller sigma is needed",
+            {"p_min": p_min, "width_sigma": width})
+
+
+def _no_plan_under(cap: int, max_n, lo: float, hi: float) -> Infeasible:
+    what = "--max-n" if max_n is not None else "10,000,000"
+    return Infeasible(
+        f"no plan with n <= {cap} ({what}) meets both risks: at n = {cap} the consumer's "
+        f"risk needs k >= {lo:.4f} and the producer's k <= {hi:.4f}",
+        {"n": cap, "k_low": lo, "k_high": hi})
+
+def _checked_width(*, sigma, limit, k_rule, sigma_value, lower, upper, max_n, width):
+    """Validate the design's arguments; the tolerance width in sigmas (two limits,
+    sigma known, both limits given) or the width given, else None."""
+    if sigma not in ("known", "unknown"):
+        raise InputError(f"--sigma ({sigma}) must be 'known' or 'unknown'")
+    if limit not in ("upper", "lower", "both"):
+        raise InputError(f"--limit ({limit}) must be one of: upper, lower, both")
+    if k_rule not in K_RULES:
+        raise InputError(f"k rule ({k_rule}) must be one of: {', '.join(K_RULES)}")
+    if sigma == "unknown" and sigma_value is not None:
+        raise InputError(f"--sigma-value ({sigma_value:g}) is given with --sigma unknown; "
+                         "use --sigma known")
+    if limit == "upper" and lower is not None:
+        raise InputError(f"--lower ({lower:g}) is given with --limit upper; use --limit both")
+    if limit == "lower" and upper is not None:
+        raise InputError(f"--upper ({upper:g}) is given with --limit lower; use --limit both")
+    if max_n is not None and max_n < 1:
+        raise InputError(f"--max-n ({max_n}) must be at least 1")
+    if limit == "both" and sigma == "known" and width is None and None not in (
+            lower, upper, sigma_value):
+        if not lower < upper:
+            raise InputError(f"--lower ({lower:g}) must be below --upper ({upper:g})")
+        width = (upper - lower) / sigma_value
+    if width is not None and not (limit == "both" and sigma == "known"):
+        raise InputError("a tolerance width applies only to --limit both with --sigma known")
+    return width
+
+def _approximation(targets: Targets, sigma: str, limit: str, n: int) -> tuple[dict, int]:
+    """The textbook approximation beside the exact design (closed form for sigma
+    known, Wallis's for sigma unknown) and the closed form's sample size."""
+    aql, rql, alpha, beta = targets.aql, targets.rql, targets.alpha, targets.beta
+    za, zb, z1, z2 = _z(targets)
+    n0, k0 = closed_form_known(za, zb, z1, z2)
+    known_n = _ceil(n0)
+    if sigma == "known":
+        approx = {"method": "closed form (sigma known), z at full precision, n rounded up",
+                  "n_unrounded": n0, "n": known_n, "k": k0}
+        if limit == "both":
+            approx["method"] += "; one-limit formula applied to the total fraction"
+        return approx, known_n
+    approx = wallis(targets)
+    approx["alpha"] = 1.0 - float(pa_unknown(approx["n"], approx["k"], aql))
+    approx["beta"] = float(pa_unknown(approx["n"], approx["k"], rql))
+    approx["exact_minus_approximation"] = int(n - approx["n"])
+    approx["meets"] = bool(approx["alpha"] <= alpha + _TOL and approx["beta"] <= beta + _TOL)
+    if limit == "both":
+        approx["method"] += "; for the total fraction"
+    return approx, known_n
+
+
+def _known_two_limits(targets: Targets, n: int, k: float, w, pa_aql, pa_rql,
+                      notes: list) -> dict:
+    """The convention of a two-limit plan with sigma known (a sentence goes to ``notes``)."""
+    aql, rql = targets.aql, targets.rql
+    if w is not None:
+        p_min = 2.0 * float(special.ndtr(-0.5 * w))
+        notes.append(f"Two limits {w:.4g} sigma apart: a centred process has "
+                     f"{format_level(p_min)} beyond them; Pa depends only on the total "
+                     "fraction (the mean's two mirror positions give the same Pa).")
+        return {"convention": "tolerance width known: the mean's distance from the middle "
+                              "of the tolerance is fixed by the total fraction (two mirror "
+                              "positions, same Pa), so Pa is exact",
+                "width_sigma": w, "p_min": p_min}
+    one = (float(pa_known(n, k, aql)), float(pa_known(n, k, rql)))
+    notes.append("Two limits, tolerance width not given: the risks are met wherever the "
+                 "mean sits and however wide the tolerance (worst case); give "
+                 "--sigma-value with --lower and --upper for the exact curve.")
+    return {"convention": "worst case over where the mean sits and how wide the "
+                          "tolerance is: alpha on the lower edge of the band at the AQL, "
+                          "beta on its upper edge at the RQL",
+            "aql": {"lower": pa_aql, "upper": pa_known_two(n, k, aql, None, "upper"),
+                    "one_tail": one[0]},
+            "rql": {"lower": pa_known_two(n, k, rql, None, "lower"), "upper": pa_rql,
+                    "one_tail": one[1]}}
 
 def _attributes(targets: Targets, wanted: bool):
     """The attributes single plan (binomial) for the same two points."""

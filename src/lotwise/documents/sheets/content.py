@@ -208,7 +208,7 @@ def _own_sample_line(pp, owns) -> str:
         if r.get("attributes"):
             extra = (f" (an attributes plan for the same two points needs "
                      f"n = {r['attributes']['n']}, c = {r['attributes']['c']})")
-        text += f" {r['characteristic']['id']}: {r['label']}{extra}."
+        text += f" {r['characteristic']['id']}: {r.get('note') or r['label']}{extra}."
         if r["n"] is not None and pp.n is not None and r["n"] < pp.n:
             text += (f" Judge it on {r['n']} of the sampled units chosen at random "
                      "(for example with lotwise draw from the sample).")
