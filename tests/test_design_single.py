@@ -74,12 +74,23 @@ def test_exact_binomial_small_design():
 
 
 def test_tight_ppm_design():
-    # Issue reference: AQL 0.1 %/alpha 5 %, RQL 0.15 %/beta 10 %, binomial:
+    # AQL 0.1 %/alpha 5 %, RQL 0.15 %/beta 10 %, binomial (computed, no published source):
     # n = 42,399, c = 53. Verified here by the two risks and minimality in c.
     d = design_single(aql=0.001, rql=0.0015)
     assert (d.n, d.c) == (42_399, 53)
     assert oc.pa_binomial(42_399, 53, 0.001) >= 0.95
     assert oc.pa_binomial(42_399, 53, 0.0015) <= 0.10
+    # Independent check with scipy.stats.binom: the plan meets both risks, and at
+    # n = 42,398 the smallest c meeting alpha leaves beta above 10 % (a larger c
+    # only raises beta), so no plan with one unit fewer exists.
+    from scipy import stats
+
+    assert stats.binom.cdf(53, 42_399, 0.001) >= 0.95
+    assert stats.binom.cdf(53, 42_399, 0.0015) <= 0.10
+    c_star = int(stats.binom.ppf(0.95, 42_398, 0.001))
+    while stats.binom.cdf(c_star, 42_398, 0.001) < 0.95:
+        c_star += 1
+    assert stats.binom.cdf(c_star, 42_398, 0.0015) > 0.10
     assert oc.pa_binomial(42_398, 53, 0.0015) > 0.10  # one unit fewer fails beta
 
 

@@ -363,8 +363,8 @@ def test_double_plan_aoql_follows_the_aoq_formula():
     d = {"value": screened["aoql"], "at": screened["aoql_p"]}
     # Screening the sample removes what it finds, so the simple p Pa is the larger.
     assert s["value"] > d["value"]
-    # The simple AOQ is p Pa(p) (Schilling and Neubauer, Acceptance Sampling in Quality
-    # Control, 2nd ed., 2009, ch. 11, from memory): at the reported level it equals
+    # The simple AOQ is p Pa(p) (E. G. Schilling and D. V. Neubauer, 2nd ed., CRC Press,
+    # 2009, ch. 11, from memory): at the reported level it equals
     # D/N Pa(D) enumerated with scipy.stats.hypergeom, and no count does much better
     # (the report searches a grid of about 200 levels).
     N = 2000

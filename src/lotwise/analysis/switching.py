@@ -81,8 +81,7 @@ References
 .. [1] J. G. Kemeny and J. L. Snell, *Finite Markov Chains*, Van Nostrand,
    1960, ch. 3 (absorbing chains, the fundamental matrix) and ch. 4
    (regular chains, the limiting distribution).
-.. [2] E. G. Schilling and D. V. Neubauer, *Acceptance Sampling in Quality
-   Control*, 2nd ed., CRC Press, 2009, ch. 11 (switching schemes and their
+.. [2] E. G. Schilling and D. V. Neubauer, 2nd ed., CRC Press, 2009, ch. 11 (switching schemes and their
    scheme OC, from memory).
 
 Examples

@@ -16,8 +16,7 @@ References
 ----------
 .. [1] D. C. Montgomery, *Introduction to Statistical Quality Control*,
    section 15.3 (double, multiple and sequential sampling).
-.. [2] E. G. Schilling and D. V. Neubauer, *Acceptance Sampling in Quality
-   Control*, 2nd ed. (CRC Press, 2009), ch. 6-8.
+.. [2] E. G. Schilling and D. V. Neubauer, 2nd ed. (CRC Press, 2009), ch. 6-8.
 """
 
 from __future__ import annotations

@@ -217,5 +217,5 @@ def parse_skiplot(pairs: dict, text: str, option: str) -> SkipLotPlan:
 
 FAMILY = Family(
     name="skiplot", plan_class=SkipLotPlan, parse=parse_skiplot, keys_hint=("f",),
-    description="skip-lot sampling SkSP-2 over a reference plan",
+    description="SkSP-2 skip-lot inspection over a reference plan",
 )

