@@ -1,6 +1,6 @@
 """Benchmarks for double and sequential plans (see benchmark.py).
 
-Goals from issue 5: the exact OC and ASN of a sequential plan truncated at
+Speed goals: the exact OC and ASN of a sequential plan truncated at
 n = 2,000 over 200 quality levels under 200 ms, and the double-plan designer
 for AQL 1 %/RQL 5 % under 1 s in-process.
 """

@@ -24,7 +24,7 @@ def run_json(capsys, *args):
     return code, json.loads(out), err
 
 
-# JSON keys named in issue 5, checked exactly.
+# The documented JSON keys (README), checked exactly.
 def test_check_double_json(capsys):
     code, rep, err = run_json(capsys, "check", "--plan", DOUBLE, "--aql", "1%", "--rql", "5%")
     assert code == 1 and err == ""  # beta 29 % misses 10 %

@@ -119,7 +119,7 @@ def test_designer_asn_max_matches_brute_force():
 
 
 def test_double_beats_single_on_asn_at_aql():
-    # Fact of the trade (issue 5, "why"): a double plan reaches the same two
+    # Fact of the trade: a double plan reaches the same two
     # risk points with a smaller average sample at good quality.
     single = design_single(aql=0.01, rql=0.05)
     d = design_double(aql=0.01, rql=0.05)

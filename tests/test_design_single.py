@@ -53,7 +53,8 @@ def test_montgomery_design_example():
 
 
 def test_chi_square_poisson_design():
-    # A course exercise: two-point design by the chi-square/Poisson method for
+    # Two-point design by the chi-square/Poisson table method (Schilling and Neubauer,
+    # 2nd ed., CRC Press, 2009, ch. 5; from memory) for
     # p1 = 0.01, alpha = 0.05, p2 = 0.10, beta = 0.10 gives c = 2, n = 54;
     # operating ratios 44.89, 10.95, 6.51 for c = 0, 1, 2 (two decimals).
     d = design_single(aql=0.01, rql=0.10, model="poisson")

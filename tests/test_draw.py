@@ -23,7 +23,7 @@ from lotwise.core.quantities import InputError
 # --------------------------------------------------------------------------
 
 def test_same_seed_same_list():
-    # Reproducibility is the point of the seed (issue 3, item 5): no source needed.
+    # Reproducibility is the point of the seed: no source needed.
     for kw in ({}, {"strata": "cartons=400,350,250"}, {"strata": "trays=7"}):
         a = draw_units(lot_size=1000, n=32, seed=99, **kw)
         b = draw_units(lot_size=1000, n=32, seed=99, **kw)
@@ -149,7 +149,7 @@ def test_draw_properties(data):
         sizes = np.diff([0, *cuts, N]).tolist()
         strata = "boxes=" + ",".join(map(str, sizes))
     d = draw_units(lot_size=N, n=n, seed=seed, strata=strata)
-    # Without replacement (issue 3 checks): n distinct units, all in 1..N, sorted.
+    # Without replacement: n distinct units, all in 1..N, sorted.
     assert len(d.units) == n == len(set(d.units))
     assert all(1 <= u <= N for u in d.units) and list(d.units) == sorted(d.units)
     assert [p.pick for p in d.picks] == list(range(1, n + 1))

@@ -49,7 +49,7 @@ def _brute(N, pbar, model, rql=None, beta=0.10, aoql=None, formula="screened"):
 @given(st.integers(20, 90), st.sampled_from([0.005, 0.01, 0.03]),
        st.sampled_from([0.06, 0.1, 0.2]), st.sampled_from(["hypergeometric", "binomial"]))
 def test_rql_design_never_beaten_by_brute_force(N, pbar, rql, model):
-    # Brute force over every (n, c) with n <= N (the property test).
+    # Brute force over every (n, c) with n <= N (a property test).
     d = design_least_ati(lot_size=N, process_average=pbar, rql=rql, model=model)
     b = _brute(N, pbar, model, rql=rql)
     if b is None:  # no sample smaller than the lot meets beta (binomial, small lots)

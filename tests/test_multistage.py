@@ -363,7 +363,7 @@ def _scope_for(model, plan, extra):
     return PROCESS
 
 
-# Property (issue 5): a double plan with n2 = 0 and r1 = c2 + 1 is the single
+# Property: a double plan with n2 = 0 and r1 = c2 + 1 is the single
 # plan (n1, c2). Tolerance 1e-12.
 @settings(max_examples=40, deadline=None)
 @given(n1=st.integers(1, 200), c=st.integers(0, 8), c1=st.integers(0, 8),
@@ -381,7 +381,7 @@ def test_n2_zero_equals_single(n1, c, c1, p, model, extra):
     assert double.asn(p, model, scope) == pytest.approx(n1, abs=1e-12)
 
 
-# Property (issue 5): curtailed ASN <= full ASN, with the same Pa.
+# Property: curtailed ASN <= full ASN, with the same Pa.
 @settings(max_examples=40, deadline=None)
 @given(plan=double_plans(), p=st.floats(0, 0.6), model=MODELS, extra=st.integers(0, 100),
        stages=st.sampled_from(["all", "last"]), accept=st.booleans())
@@ -394,7 +394,7 @@ def test_curtailed_not_above_full(plan, p, model, extra, stages, accept):
         plan.pa(p, model, scope), abs=1e-10)
 
 
-# Property (issue 5): the stage-wise recursion for k = 2 equals the
+# Property: the stage-wise recursion for k = 2 equals the
 # double-plan formula. Tolerance 1e-12.
 @settings(max_examples=40, deadline=None)
 @given(plan=double_plans(allow_n2_zero=False), p=st.floats(0, 0.6), model=MODELS,
@@ -484,7 +484,7 @@ def test_notation_errors(text, words):
 
 # --- decisions on the bench ---------------------------------------------------------
 
-# The plan rule itself (issue 5, item 1), no external source needed beyond
+# The plan rule itself, no external source needed beyond
 # the definition: accept d1 <= c1, reject d1 >= r1, else a second sample.
 @pytest.mark.parametrize("n, d, action, more", [
     (0, 0, "continue", 50),

@@ -13,7 +13,7 @@ from hypothesis import given, settings, strategies as st
 from lotwise.core import kernels as oc
 
 mp.mp.dps = 40
-TOL = 1e-10  # absolute, as the issue asks
+TOL = 1e-10  # absolute
 
 
 def mp_binomial(n, c, p):

@@ -43,14 +43,18 @@ def test_aoql_factor_against_mpmath(c):
     assert a.at * n == pytest.approx(float(x), rel=1e-6)   # flat maximum: location to ~sqrt(eps)
 
 
-def test_homework_aoql_simple_formula():
-    # A course homework solution (plan n = 20, c = 1, N = 4000, AOQ without the
-    # (N - n)/N factor): AOQL about 0.0413 near p = 0.08. The solution read
-    # the maximum off a table at p = 0.08 (AOQ there 0.04135); the true
-    # maximum is 0.04138 at p = 0.0775, so the tolerances are 0.0005 and 0.005.
+def test_aoql_simple_formula_n20_c1():
+    # Plan n = 20, c = 1, N = 4000, AOQ without the (N - n)/N factor. Reference:
+    # independent computation, scipy.optimize's bounded maximisation of
+    # p B(1; 20, p) with scipy.stats.binom: 0.0413808 at p = 0.0774659 (a value
+    # read off a printed table at p = 0.08 would be 0.04135). Tolerance 1e-8.
+    from scipy import optimize, stats
+
+    r = optimize.minimize_scalar(lambda p: -p * stats.binom.cdf(1, 20, p), bounds=(0.01, 0.2),
+                                 method="bounded", options={"xatol": 1e-12})
     a = R.aoql(SinglePlan(n=20, c=1), Scope(lot_size=4000), "binomial", formula="simple")
-    assert a.value == pytest.approx(0.0413, abs=5e-4)
-    assert a.at == pytest.approx(0.08, abs=5e-3)
+    assert a.value == pytest.approx(-r.fun, abs=1e-8)
+    assert a.at == pytest.approx(r.x, abs=1e-5)
 
 
 def test_binomial_aoql_against_mpmath_root():
@@ -137,7 +141,7 @@ def test_finite_lot_unimodal_small_lots_exhaustive():
        st.sampled_from(["hypergeometric", "binomial", "poisson"]),
        st.sampled_from(R.FORMULAS))
 def test_aoq_never_above_aoql_and_ati_between_n_and_N(n, c, extra, model, formula):
-    # Property tests asked for by the issue (common practice, no source):
+    # Property tests (common practice, no source):
     # AOQ <= AOQL everywhere; n <= ATI <= N.
     c = min(c, n)
     N = n + extra * 7

@@ -31,7 +31,7 @@ def test_montgomery_sequential_lines():
 
 
 def test_lines_do_not_depend_on_log_base():
-    # Fact of the trade (issue 5): h and s are ratios of logarithms, so the
+    # Fact of the trade: h and s are ratios of logarithms, so the
     # base cancels; recompute with base-10 logarithms. Tolerance 1e-12.
     p1, a, p2, b = 0.01, 0.05, 0.06, 0.10
     k = math.log10(p2 * (1 - p1) / (p1 * (1 - p2)))
@@ -277,7 +277,7 @@ def test_truncated_dp_poisson_brute_force(lam):
 
 
 def test_curtailed_not_above_full_and_same_pa():
-    # Property (issue 5): curtailed ASN <= full ASN; the decisions are the same.
+    # Property: curtailed ASN <= full ASN; the decisions are the same.
     plan = SequentialPlan(h1=H1, h2=H2, s=S, truncate=150)
     ps = np.linspace(0, 0.2, 41)
     for model, scope in (("binomial", PROCESS), ("poisson", PROCESS),

@@ -29,7 +29,7 @@ def test_rows_and_numbers(result):
     # each row's numbers are its own plan's, under the same model
     assert double.pa_aql == pytest.approx(double.plan.pa(0.01, "binomial", Scope()), rel=1e-12)
     assert seq.asn_rql == pytest.approx(seq.plan.asn(0.05, "binomial", Scope()), rel=1e-12)
-    # Fact of the trade (issue 5, "why"): at the AQL the double and the
+    # Fact of the trade: at the AQL the double and the
     # sequential plans inspect fewer units on average than the single one.
     assert single.asn_aql > double.asn_aql > seq.asn_aql
     assert seq.plan.truncate == 3 * d.n

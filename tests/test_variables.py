@@ -32,13 +32,13 @@ def z(p):
 # Source: standard textbook closed forms for the k-method with sigma known
 # (e.g. Montgomery, Introduction to Statistical Quality Control, variables
 # chapter; from memory): n = ((z_a + z_b)/(z_p1 - z_p2))^2,
-# k = (z_p1 z_b + z_p2 z_a)/(z_a + z_b). A course solution (alpha = beta =
-# 0.10, p1 = 0.02, p2 = 0.10) gives n = 10.77 -> 11 with two-decimal z values;
+# k = (z_p1 z_b + z_p2 z_a)/(z_a + z_b). A worked design (alpha = beta =
+# 0.10, p1 = 0.02, p2 = 0.10; computed here, no published source) gives n = 10.77 -> 11 with two-decimal z values;
 # 10.77 is reproduced by z_0.02 = 2.06 (the first table entry at or above
 # 0.98) and z_0.10 = 1.28; the nearest two-decimal value 2.05 gives 11.05.
 # Tolerance: 0.005 on n (two decimals as printed).
 @pytest.mark.parametrize("za, zb, z1, z2, n_expected", [
-    (1.28, 1.28, 2.06, 1.28, 10.77),   # course solution, two-decimal z read upward
+    (1.28, 1.28, 2.06, 1.28, 10.77),   # two-decimal z read upward
     (1.28, 1.28, 2.05, 1.28, 11.05),   # same with the nearest two-decimal z_0.02
 ])
 def test_closed_form_two_decimal_tables(za, zb, z1, z2, n_expected):
@@ -46,18 +46,18 @@ def test_closed_form_two_decimal_tables(za, zb, z1, z2, n_expected):
     assert n == pytest.approx(n_expected, abs=0.005)
 
 
-def test_closed_form_exact_z_course_example():
-    # Source: the course example above with exact z (issue text: 11.02 and
+def test_closed_form_exact_z():
+    # Source: the worked design above with exact z (11.02 and
     # k = 1.668); z from mpmath. Tolerance 0.005 on n, 0.0005 on k.
     n, k = closed_form_known(z(0.10), z(0.10), z(0.02), z(0.10))
     assert n == pytest.approx(11.02, abs=0.005)
     assert k == pytest.approx(1.668, abs=0.0005)
 
 
-def test_course_example_exact_design_rounds_up_to_12():
+def test_exact_design_rounds_up_to_12():
     # The tool rounds the closed-form n up (exact z): 11.02 -> 12, because at
     # n = 11 no k meets both risks. Checked with mpmath's normal distribution:
-    # at n = 11 the window is empty, and the course plan (11, 1.668) carries
+    # at n = 11 the window is empty, and the plan (11, 1.668) carries
     # alpha just above 10 %.
     d = design_variables(aql=0.02, rql=0.10, alpha=0.10, beta=0.10, sigma="known")
     assert d.n == 12

@@ -752,7 +752,7 @@ def _variables_design_cases() -> list:
 
         return design_variables(aql=0.01, rql=0.06, sigma=sigma, attributes=False)
 
-    course = ("closed-form known-sigma design (Schilling and Neubauer, 2nd ed., CRC Press, "
+    closed_src = ("closed-form known-sigma design (Schilling and Neubauer, 2nd ed., CRC Press, "
               "2009, variables chapter; from memory) with two-decimal table z values, "
               "alpha = beta = 0.10, p1 = 0.02, p2 = 0.10")
     mont = ("Montgomery, Introduction to Statistical Quality Control, variables example; "
@@ -762,12 +762,12 @@ def _variables_design_cases() -> list:
             id="known-sigma-closed-form-n-two-decimal-z", area=area,
             description="closed-form n = ((z_a + z_b)/(z_p1 - z_p2))^2 with the two-decimal z "
                         "values 1.28, 1.28, 2.06 (first table entry at or above 0.98), 1.28",
-            source=course, expected=10.77, tolerance=0.005,
+            source=closed_src, expected=10.77, tolerance=0.005,
             compute=lambda: closed(1.28, 1.28, 2.06, 1.28)[0]),
         ReferenceCase(
             id="known-sigma-closed-form-n-nearest-z", area=area,
             description="the same with the nearest two-decimal z_0.02 = 2.05",
-            source=course, expected=11.05, tolerance=0.005,
+            source=closed_src, expected=11.05, tolerance=0.005,
             compute=lambda: closed(1.28, 1.28, 2.05, 1.28)[0]),
         ReferenceCase(
             id="known-sigma-closed-form-n-exact-z", area=area,
