@@ -367,7 +367,7 @@ def judge(
     if plan is None:
         raise InputError('--plan is required, e.g. --plan "variables: n=42,k=1.901,upper=25.0"')
     p = plan_from_reference(plan).plan
-    if p.scheme != "variables":
+    if p.evaluation != "process":
         raise InputError(f"--plan ({plan!r}) must be a variables plan, e.g. "
                          "\"variables: n=42,k=1.901,upper=25.0\"")
     for side in ("upper", "lower"):

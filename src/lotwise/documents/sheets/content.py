@@ -321,7 +321,7 @@ def oc_rows(pp, points: int = 41):
     scope = pp.request.scope
     top = 0.0
     for rep, plan in zip(pp.reports, pp.plans):
-        if plan.scheme == "single":
+        if plan.count_rule() is not None:
             q = quality_at(plan, 0.01, scope.exact_model, scope, "consumer")
         else:
             q = 1.25 * rep["plan_quality"]["consumer"]
@@ -333,7 +333,7 @@ def oc_rows(pp, points: int = 41):
     cols = []
     lot_count = None
     for rep, plan in zip(pp.reports, pp.plans):
-        if plan.scheme == "single":
+        if plan.count_rule() is not None:
             g = oc_grid(plan, scope, scope.models, ps)
             for m in scope.models:
                 header.append(f"{rep['characteristic']['id']}_{m}")

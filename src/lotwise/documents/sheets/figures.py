@@ -18,7 +18,8 @@ def oc_plot(pp, ax=None):
     labels = [f"{r['characteristic']['id']} ({plan_name(r)})" for r in pp.reports]
     first = pp.reports[0]["targets"]
     top = max(1.25 * r["targets"]["rql"] for r in pp.reports)
-    models = None if pp.plans[0].scheme == "single" else [pp.reports[0]["model"]]
+    # every model for a plan of one fixed sample, the judging model otherwise
+    models = None if pp.plans[0].count_rule() is not None else [pp.reports[0]["model"]]
     return oc_figure(items, models=models, aql=first["aql"], rql=first["rql"], labels=labels,
                      ax=ax, max_p=None if len(items) == 1 else top)
 
