@@ -193,6 +193,19 @@ def _infeasible(**kw):
     return f"n={d.n},c={d.c}"
 
 
+def _n50_c1_table() -> list:
+    """Binomial Pa of n = 50, c = 1 at eight levels (five decimals)."""
+    table = {0.005: 0.97387, 0.01: 0.91056, 0.02: 0.73577, 0.03: 0.55528, 0.04: 0.40048,
+             0.05: 0.27943, 0.06: 0.19000, 0.08: 0.08271}
+    return [ReferenceCase(
+        id=f"textbook-n50-c1-p{p * 100:g}pct".replace(".", "_"),
+        description=f"binomial Pa of n = 50, c = 1 at p = {p * 100:g} %",
+        source="binomial tail values of n = 50, c = 1; independent computation with "
+               "scipy.stats.binom",
+        expected=val, tolerance=5e-6, compute=lambda p=p: _pa(50, 1, p))
+        for p, val in table.items()]
+
+
 def single_sampling_cases() -> list:
     """Reference cases of single sampling by attributes (those tests/test_design_single.py
     checks)."""
@@ -242,15 +255,7 @@ def single_sampling_cases() -> list:
             expected=(112, 3), tolerance=0,
             compute=lambda: _design(aql=0.01, rql=0.06, model="poisson")),
     ]
-    table = {0.005: 0.97387, 0.01: 0.91056, 0.02: 0.73577, 0.03: 0.55528, 0.04: 0.40048,
-             0.05: 0.27943, 0.06: 0.19000, 0.08: 0.08271}
-    for p, val in table.items():
-        cases.append(ReferenceCase(
-            id=f"textbook-n50-c1-p{p * 100:g}pct".replace(".", "_"),
-            description=f"binomial Pa of n = 50, c = 1 at p = {p * 100:g} %",
-            source="binomial tail values of n = 50, c = 1; independent computation with "
-                   "scipy.stats.binom",
-            expected=val, tolerance=5e-6, compute=lambda p=p: _pa(50, 1, p)))
+    cases += _n50_c1_table()
     cases.append(ReferenceCase(
         id="chisquare-design-c2-n54",
         description="two-point Poisson design, p1 1 %/alpha 5 %, p2 10 %/beta 10 %: (n, c)",
