@@ -32,7 +32,7 @@ def _group() -> None:
 
 #: Which module defines each command, in the order ``lotwise --help`` lists them.
 COMMANDS = {
-    "design": "single", "check": "single", "oc": "single",
+    "design": "design", "check": "check", "oc": "oc",
     "sheet": "sheets", "compare": "sheets", "demo": "sheets",
     "draw": "draw", "zero": "zero", "demonstrate": "zero",
     "next": "multistage", "judge": "variables",

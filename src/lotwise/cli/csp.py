@@ -1,7 +1,7 @@
 """Command-line glue for continuous sampling plans CSP-1, CSP-2 and CSP-3.
 
 Called from ``design --scheme csp1|csp2|csp3``, ``check``, ``oc`` (in
-:mod:`lotwise.cli.single`) and ``next`` (in :mod:`lotwise.cli.multistage`)
+:mod:`lotwise.cli.design`) and ``next`` (in :mod:`lotwise.cli.multistage`)
 when the plan is a CSP plan; the library side is :mod:`lotwise.families.csp`.
 """
 
@@ -15,10 +15,9 @@ from . import common
 from lotwise.core.quantities import (Infeasible, InputError, format_pct, parse_count,
                                      parse_level)
 
-SCHEMES = ("csp1", "csp2", "csp3")
 
 #: Options of ``design`` that do not apply to CSP plans, in the order
-#: :func:`lotwise.cli.single.design` passes their values.
+#: :func:`lotwise.cli.design.design` passes their values.
 DESIGN_UNUSED = ("--aql", "--rql", "--lot-size", "--defects", "--c", "--n", "--max-n",
                  "--sigma", "--sigma-value", "--limit", "--lower", "--upper", "--ratio",
                  "--truncate", "--plot")
@@ -63,9 +62,6 @@ def design_cmd(*, scheme, aoql, f_values, i, minimize, process_average, model, u
     :data:`DESIGN_UNUSED`)."""
     from lotwise.families.csp import MAX_I, design_csp
 
-    if scheme not in SCHEMES:
-        opt, val = ("--f", ", ".join(f_values)) if f_values else ("--i", i)
-        raise InputError(f"{opt} ({val}) applies to --scheme csp1, csp2 or csp3")
     _refuse(scheme, dict(zip(DESIGN_UNUSED, unused)))
     _model(model)
     if aoql is None:
@@ -117,23 +113,9 @@ def _render_design(d) -> str:
     if d.candidates:
         rows = [[str(c["i"]), format_f(c["f"]), _pct(c["afi"])] for c in d.candidates]
         lines.append(common.table(rows, ["i", "f", "AFI"]))
-    lines.append(f"  {_procedure(plan)}")
+    lines.append(f"  {plan.procedure()}")
     lines.append(f"  {SAFETY}")
     return "\n".join(lines)
-
-
-def _procedure(plan) -> str:
-    from lotwise.families.csp import format_f
-
-    text = (f"Inspect every unit until {plan.i} in a row are conforming, then inspect a "
-            f"fraction {format_f(plan.f)} of the units at random.")
-    if plan.scheme == "csp1":
-        return text + " A nonconforming unit found restores 100 % inspection."
-    if plan.scheme == "csp3":
-        text += (f" A nonconforming unit found: inspect the next {plan.burst} units; a "
-                 "nonconforming one among them restores 100 % inspection.")
-    return text + (f" After a finding, another nonconforming unit among the next {plan.k} "
-                   "inspected restores 100 % inspection.")
 
 
 # --- check and oc ---------------------------------------------------------------------
@@ -158,7 +140,7 @@ def _render_check(plan, out) -> str:
 
     M = out.get("run_length")
     header = ["p", "AFI", "AOQ", "pa", "100 % run", "sampling run"]
-    if plan.scheme == "csp3":
+    if plan.burst_units:
         header.append("burst run")
     if M:
         header += [f"AFI ({M} units)", f"AOQ ({M} units)"]
@@ -167,7 +149,7 @@ def _render_check(plan, out) -> str:
         runs = lv["runs"]
         row = [_pct(lv["p"]), _pct(lv["afi"]), _pct(lv["aoq"]), f"{lv['pa']:.4f}",
                _units(runs["full"]), _units(runs["sampling"])]
-        if plan.scheme == "csp3":
+        if plan.burst_units:
             row.append(_units(runs["burst"]))
         if M:
             row += [_pct(lv["run_afi"]), _pct(lv["run_aoq"])]
@@ -178,7 +160,7 @@ def _render_check(plan, out) -> str:
              "  AFI: long-run fraction of units inspected; AOQ: fraction nonconforming going "
              "out (units found nonconforming are replaced); pa: fraction of units passed "
              "under sampling; runs: average units per spell of each phase.",
-             f"  {_procedure(plan)}", f"  {SAFETY}"]
+             f"  {plan.procedure()}", f"  {SAFETY}"]
     if M:
         lines.insert(3, f"  Short run: the first {M} units after a start in 100 % inspection "
                         "(exact expectations).")

@@ -1,7 +1,7 @@
 """Command-line glue for double, multiple and sequential plans.
 
 ``design --scheme double|sequential|compare-all``, ``check`` and ``oc`` for
-plans whose sample size varies dispatch here from :mod:`lotwise.cli.single`;
+plans whose sample size varies dispatch here from :mod:`lotwise.cli.design`;
 ``lotwise next`` (accept, reject or continue on the bench) is defined here.
 """
 
@@ -13,9 +13,6 @@ import typer
 
 from . import app, common
 from lotwise.core.quantities import InputError, Infeasible, format_pct, parse_count
-
-SCHEMES = ("single", "double", "sequential", "compare-all")
-
 
 def _scope(lot, defects, model):
     return common.scope_and_model(lot, defects, model)
@@ -57,14 +54,9 @@ def _minimize(text) -> str:
     return t
 
 
-def design_other(*, scheme, aql, rql, alpha, beta, lot, model, defects, n, c, max_n, ratio,
-                 minimize, truncate, plot, force, as_json):
-    """``lotwise design`` for every scheme but single."""
+def _targets(aql, rql, alpha, beta, lot, model, defects, plot, scheme):
     from lotwise.core.types import Targets
 
-    if scheme not in SCHEMES:
-        raise InputError(f"--scheme ({scheme}) must be one of: {', '.join(SCHEMES)}")
-    _not_for(scheme, n=n, c=c)
     a, r = common.levels(aql, rql, defects)
     al, be = common.risks(alpha, beta)
     scope, mdl = _scope(lot, defects, model)
@@ -72,21 +64,46 @@ def design_other(*, scheme, aql, rql, alpha, beta, lot, model, defects, n, c, ma
     targets = Targets(aql=a, rql=r, alpha=al, beta=be)
     base = {"scheme": scheme, "model": mdl, "lot_size": scope.lot_size,
             "targets": targets.as_dict()}
-    if scheme == "double":
-        _not_for(scheme, truncate=truncate)
-        cap = parse_count(max_n, "--max-n", minimum=2) if max_n is not None else None
-        return _design_double(targets, scope, mdl, _ratio(ratio), _minimize(minimize), cap,
-                              plot, force, as_json, base)
-    if scheme == "sequential":
-        _not_for(scheme, ratio=ratio, minimize=minimize, max_n=max_n)
-        t = parse_count(truncate, "--truncate", minimum=1, maximum=10_000_000) \
-            if truncate is not None else None
-        return _design_sequential(targets, scope, mdl, t, plot, force, as_json, base)
+    return targets, scope, mdl, plot, base
+
+
+def _truncate(text):
+    return parse_count(text, "--truncate", minimum=1, maximum=10_000_000) \
+        if text is not None else None
+
+
+def design_double_cmd(*, scheme, aql, rql, alpha, beta, lot, model, defects, n, c, max_n,
+                      ratio, minimize, truncate, plot, force, as_json, **_others):
+    """``lotwise design --scheme double``."""
+    _not_for(scheme, n=n, c=c)
+    targets, scope, mdl, plot, base = _targets(aql, rql, alpha, beta, lot, model, defects,
+                                               plot, scheme)
+    _not_for(scheme, truncate=truncate)
+    cap = parse_count(max_n, "--max-n", minimum=2) if max_n is not None else None
+    return _design_double(targets, scope, mdl, _ratio(ratio), _minimize(minimize), cap,
+                          plot, force, as_json, base)
+
+
+def design_sequential_cmd(*, scheme, aql, rql, alpha, beta, lot, model, defects, n, c, max_n,
+                          ratio, minimize, truncate, plot, force, as_json, **_others):
+    """``lotwise design --scheme sequential``."""
+    _not_for(scheme, n=n, c=c)
+    targets, scope, mdl, plot, base = _targets(aql, rql, alpha, beta, lot, model, defects,
+                                               plot, scheme)
+    _not_for(scheme, ratio=ratio, minimize=minimize, max_n=max_n)
+    return _design_sequential(targets, scope, mdl, _truncate(truncate), plot, force, as_json,
+                              base)
+
+
+def compare_all_cmd(*, scheme, aql, rql, alpha, beta, lot, model, defects, n, c, max_n,
+                    ratio, minimize, truncate, plot, force, as_json, **_others):
+    """``lotwise design --scheme compare-all``: single, double and sequential side by side."""
+    _not_for(scheme, n=n, c=c)
+    targets, scope, mdl, plot, _base = _targets(aql, rql, alpha, beta, lot, model, defects,
+                                                plot, scheme)
     _not_for(scheme, max_n=max_n)
-    t = parse_count(truncate, "--truncate", minimum=1, maximum=10_000_000) \
-        if truncate is not None else None
-    return _compare_all(targets, scope, mdl, _ratio(ratio), _minimize(minimize), t, plot, force,
-                        as_json)
+    return _compare_all(targets, scope, mdl, _ratio(ratio), _minimize(minimize),
+                        _truncate(truncate), plot, force, as_json)
 
 
 def _design_double(targets, scope, mdl, ratio, minimize, cap, plot, force, as_json, base):
@@ -311,12 +328,3 @@ def next_unit(
         typer.echo(f"  Next decision point after {dec.more_to_next} more unit(s) "
                    f"(n = {dec.next_decision_at}); at most {dec.more_at_most} more unit(s) "
                    "before the plan has decided.")
-
-
-def design_options(*, scheme, aql, rql, alpha, beta, lot, model, defects, n, c, max_n, ratio,
-                   minimize, truncate, plot, force, as_json, **_others):
-    """:func:`design_other` called with every design option (see ``single.DESIGN_HANDLERS``)."""
-    return design_other(scheme=scheme, aql=aql, rql=rql, alpha=alpha, beta=beta, lot=lot,
-                        model=model, defects=defects, n=n, c=c, max_n=max_n, ratio=ratio,
-                        minimize=minimize, truncate=truncate, plot=plot, force=force,
-                        as_json=as_json)

@@ -1,6 +1,6 @@
 """``check --prior`` and ``design --minimize cost``: plans judged against the
 supplier's history (the options are declared here and added to ``design``
-and ``check`` in :mod:`lotwise.cli.single`)."""
+and ``check`` in :mod:`lotwise.cli.design`)."""
 
 from __future__ import annotations
 
@@ -193,11 +193,8 @@ def design_cost(**opts):
 
     as_json = opts["as_json"]
     if opts.get("minimize") != "cost":
-        raise InputError(f"{given(opts)[0]} ({opts[_key(given(opts)[0])]}) applies to "
+        raise InputError(f"{given(opts)[0]} ({opts[option_key(given(opts)[0])]}) applies to "
                          "check, or to design with --minimize cost")
-    if opts.get("scheme", "single") != "single":
-        raise InputError(f"--minimize cost designs single plans; --scheme ({opts['scheme']}) "
-                         "must be single")
     for key, opt in _NOT_FOR_COST.items():
         if opts.get(key):
             raise InputError(f"{opt} ({opts[key]}) does not apply to --minimize cost")
@@ -262,7 +259,7 @@ def _write_sheet(path, out, info, year, *, force):
                option="--sheet")
 
 
-def _key(option: str) -> str:
+def option_key(option: str) -> str:
     return {**{v: k for k, v in PRIOR_OPTIONS.items()},
             **{v: k for k, v in COST_OPTIONS.items()}}[option]
 

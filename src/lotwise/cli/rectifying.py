@@ -1,6 +1,6 @@
 """Command-line glue for rectifying inspection, least-inspection designs,
 chain and skip-lot plans (called from ``design`` and ``check`` in
-:mod:`lotwise.cli.single`), and the ``zero`` and ``demonstrate`` commands."""
+:mod:`lotwise.cli.design`), and the ``zero`` and ``demonstrate`` commands."""
 
 from __future__ import annotations
 
@@ -15,20 +15,24 @@ MINIMIZE = ("ati",)
 
 # --- design --minimize ati / --scheme chain ----------------------------------------
 
-def design_dispatch(*, scheme, minimize, aql, rql, alpha, beta, lot, model, defects, c, n,
-                    max_n, process_average, aoql, aoq_formula, as_json):
-    """``lotwise design`` for ``--minimize ati`` and ``--scheme chain``."""
+def least_ati_cmd(*, minimize, aql, rql, alpha, beta, lot, model, defects, c, n, max_n,
+                  process_average, aoql, aoq_formula, as_json, **_others):
+    """``lotwise design --minimize ati``: the single plan of least average total inspection."""
+    if minimize not in MINIMIZE:
+        raise InputError(f"--minimize ({minimize}) must be one of: {', '.join(MINIMIZE)}")
+    for name, val in (("--c", c), ("--n", n), ("--max-n", max_n)):
+        if val is not None:
+            raise InputError(f"{name} ({val}) cannot be combined with --minimize ati")
+    return _least_ati(aql, rql, alpha, beta, lot, model, defects, process_average, aoql,
+                      aoq_formula, as_json)
+
+
+def chain_cmd(*, minimize, aql, rql, alpha, beta, lot, model, defects, c, n, max_n,
+              process_average, aoql, as_json, **_others):
+    """``lotwise design --scheme chain``: the ChSP-1 plan with the smallest sample."""
     if minimize is not None:
-        if minimize not in MINIMIZE:
-            raise InputError(f"--minimize ({minimize}) must be one of: {', '.join(MINIMIZE)}")
-        if scheme != "single":
-            raise InputError(f"--minimize ati designs single plans; --scheme ({scheme}) must "
-                             "be single")
-        for name, val in (("--c", c), ("--n", n), ("--max-n", max_n)):
-            if val is not None:
-                raise InputError(f"{name} ({val}) cannot be combined with --minimize ati")
-        return _least_ati(aql, rql, alpha, beta, lot, model, defects, process_average, aoql,
-                          aoq_formula, as_json)
+        raise InputError(f"--minimize ({minimize}) does not apply to --scheme chain (it "
+                         "designs the smallest sample)")
     for name, val in (("--process-average", process_average), ("--aoql", aoql)):
         if val is not None:
             raise InputError(f"{name} ({val}) needs --minimize ati")
@@ -193,12 +197,3 @@ def render_extras(rep: dict) -> str:
     if "aoq_plot" in rep:
         parts.append(f"  wrote {rep['aoq_plot']}")
     return ("\n\n" + "\n\n".join(parts)) if parts else ""
-
-
-def design_options(*, scheme, minimize, aql, rql, alpha, beta, lot, model, defects, c, n,
-                   max_n, process_average, aoql, aoq_formula, as_json, **_others):
-    """:func:`design_dispatch` called with every design option."""
-    return design_dispatch(scheme=scheme, minimize=minimize, aql=aql, rql=rql, alpha=alpha,
-                           beta=beta, lot=lot, model=model, defects=defects, c=c, n=n,
-                           max_n=max_n, process_average=process_average, aoql=aoql,
-                           aoq_formula=aoq_formula, as_json=as_json)

@@ -1,5 +1,5 @@
 """Command-line glue for variables plans: ``lotwise design --scheme variables``,
-``check``/``oc`` of a variables plan (dispatched from :mod:`lotwise.cli.single`)
+``check``/``oc`` of a variables plan (dispatched from :mod:`lotwise.cli.design`)
 and ``lotwise judge`` (the verdict for a measured sample).
 
 Measurements file (``lotwise judge ... FILE``): plain text or CSV with one

@@ -168,6 +168,7 @@ def own_report(plan, ch, scope, model=None, design=None) -> dict:
           "meets_beta": bool(row["beta"] <= t.beta + 1e-12)}
     mr["meets"] = mr["meets_alpha"] and mr["meets_beta"]
     rep = {"scheme": plan.scheme, "plan": plan.to_dict(), "label": plan.label,
+           "short_label": plan.short_label,
            "notation": plan.notation(), "n": largest_sample(plan), "model": row["model"],
            "lot_size": scope.lot_size, "defects": scope.defects, "targets": row["targets"],
            "models": {row["model"]: mr}, "meets": mr["meets"],
@@ -176,8 +177,8 @@ def own_report(plan, ch, scope, model=None, design=None) -> dict:
            "designed": design is not None, "note": own_note(plan, design is not None)}
     if "asn" in row:
         rep["asn"] = row["asn"]
-    if design is not None and hasattr(design, "as_dict"):
-        d = design.as_dict()
+    if design is not None:  # what the design adds that a sheet shows
+        d = design.report_extra()
         for key in ("attributes", "approximation", "k_range"):
             if key in d:
                 rep[key] = d[key]

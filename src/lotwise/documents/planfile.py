@@ -132,12 +132,9 @@ class Characteristic:
         """Judged on a plan of its own (a given plan notation, or a design of
         another scheme than single) rather than on the part's common
         attributes sample."""
-        return self.plan is not None or self.scheme != "single"
+        from lotwise.families.base import family
 
-    @property
-    def variables(self) -> dict:
-        """The designer options of a variables characteristic (empty otherwise)."""
-        return dict(self.options) if self.scheme == "variables" else {}
+        return self.plan is not None or not family(self.scheme).plan_class.common_sample
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -227,10 +224,10 @@ def _scheme_options(ch: dict, w: str, path: str, defects: bool, c, plan) -> tupl
         raise InputError(f"{path}: {w}scheme ({scheme!r}) must be one of: {', '.join(names)} "
                          f"(a plan of another kind is given as {w}plan = \"...\")")
     scheme = scheme.strip().lower()
-    if c is not None and scheme != "single":
+    fam = family(scheme)
+    if c is not None and not fam.plan_class.common_sample:
         raise InputError(f"{path}: {w}c ({c}) applies to scheme single; {w}scheme ({scheme}) "
                          "designs its own acceptance numbers")
-    fam = family(scheme)
     options = {}
     for key in given:
         if key not in fam.design_options:
@@ -238,28 +235,12 @@ def _scheme_options(ch: dict, w: str, path: str, defects: bool, c, plan) -> tupl
                              + " or ".join(f'"{s}"' for s in owners[key])
                              + f" (it is {scheme!r})")
         options[key] = design_option(fam, key, ch[key], f"{path}: {w}{key}")
-    if scheme == "variables":
-        _variables_rules(options, w, path, defects)
+    if fam.check_options is not None:
+        try:
+            fam.check_options(options, defects=defects, key=lambda name: f"{w}{name}")
+        except InputError as exc:
+            raise InputError(f"{path}: {exc}") from None
     return scheme, options
-
-
-def _variables_rules(var: dict, w: str, path: str, defects: bool) -> None:
-    """What a variables characteristic of a plan file needs beyond its options' types."""
-    if defects:
-        raise InputError(f"{path}: {w}scheme (variables) does not apply to "
-                         "nonconformities per unit")
-    if "lower" not in var and "upper" not in var:
-        raise InputError(f"{path}: {w}scheme (variables) needs {w}upper and/or "
-                         f"{w}lower (specification limits)")
-    if "lower" in var and "upper" in var and not var["lower"] < var["upper"]:
-        raise InputError(f"{path}: {w}lower ({var['lower']:g}) must be below {w}upper "
-                         f"({var['upper']:g})")
-    var.setdefault("sigma", "known" if "sigma_value" in var else "unknown")
-    if var["sigma"] == "known" and "sigma_value" not in var:
-        raise InputError(f"{path}: {w}sigma (known) needs {w}sigma_value")
-    if var["sigma"] == "unknown" and "sigma_value" in var:
-        raise InputError(f"{path}: {w}sigma_value ({var['sigma_value']:g}) is given with "
-                         f"{w}sigma (unknown); drop one of them")
 
 
 def _unknown(keys, allowed, where: str, path: str) -> None:

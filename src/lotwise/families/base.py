@@ -192,6 +192,10 @@ class Plan(ABC):
     evaluation: ClassVar[str] = "lot"
     #: True when the plan has a curtailed-inspection ASN (``asn_curtailed``).
     has_curtailment: ClassVar[bool] = False
+    #: True when several characteristics of one part may be judged on one common
+    #: sample of this family (each with its own acceptance number): a part's plan
+    #: file, sheet and pick list then draw that sample once.
+    common_sample: ClassVar[bool] = False
     #: How :meth:`aoq_count` computes the finite-lot AOQ, in words for reports.
     finite_aoq_text: ClassVar[str] = "the plan's exact E[(D - X) 1{accept}] / N"
 
@@ -218,6 +222,11 @@ class Plan(ABC):
     @abstractmethod
     def notation(self) -> str:
         """Plan notation that :func:`parse_plan` reads back to an equal plan."""
+
+    @property
+    def short_label(self) -> str:
+        """The label cut to what tells plans apart in a legend (default: :attr:`label`)."""
+        return self.label
 
     @abstractmethod
     def to_dict(self) -> dict:
@@ -396,6 +405,9 @@ class Family:
         ``oc_columns(plan, ps, model, scope) -> dict`` of extra OC-table columns.
     cases : str or None
         ``"module:function"`` returning the family's reference cases.
+    check_options : callable or None
+        ``check_options(options, defects=, key=)``: the rules tying the designer
+        options together (raises InputError); None when each option stands alone.
     """
 
     name: str
@@ -412,6 +424,10 @@ class Family:
     oc_columns: Callable | None = None
     cases: str | None = None
     description: str = ""
+    #: ``check_options(options, defects=, key=)`` raises InputError when designer
+    #: options that each pass their own type check do not fit together (``key(name)``
+    #: spells an option's name as the caller's user wrote it).
+    check_options: Callable | None = None
 
 
 class OptionKind(StrEnum):

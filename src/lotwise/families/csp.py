@@ -404,6 +404,19 @@ class CspPlan(Plan):
         raise InputError(f"--plan ({self.notation()}): a {self.title} plan decides unit by "
                          "unit; give the results so far with --history")
 
+    # -- the bench rule in words --------------------------------------------------
+    def procedure(self) -> str:
+        """The plan's rule as the inspector follows it, in one paragraph."""
+        text = (f"Inspect every unit until {self.i} in a row are conforming, then inspect a "
+                f"fraction {format_f(self.f)} of the units at random.")
+        if self.burst_units:
+            text += (f" A nonconforming unit found: inspect the next {self.burst_units} "
+                     "units; a nonconforming one among them restores 100 % inspection.")
+        if not self.probation:
+            return text + " A nonconforming unit found restores 100 % inspection."
+        return text + (f" After a finding, another nonconforming unit among the next "
+                       f"{self.probation} inspected restores 100 % inspection.")
+
     # -- names -------------------------------------------------------------------
     def _extra_keys(self) -> dict:
         return {}

@@ -84,6 +84,7 @@ class SinglePlan(Plan):
         # several); for items it is refused by check_scope, which knows the scope.
 
     scheme = "single"
+    common_sample = True
 
     def check_scope(self, scope: Scope) -> None:
         """Refuse ``c > n`` when counting nonconforming items (a sample of ``n``

@@ -505,6 +505,10 @@ class VariablesPlan(Plan):
         return f"n={self.n}, k={self.k:g}, {lim}, {sig}"
 
     @property
+    def short_label(self) -> str:
+        return self.label if self.k is None else f"variables n={self.n}, k={self.k:g}"
+
+    @property
     def max_sample(self) -> int:
         return int(self.n)
 
@@ -1515,10 +1519,36 @@ def design_registered(*, aql: float, rql: float, alpha: float = 0.05, beta: floa
                             **options)
 
 
+
+def check_options(var: dict, *, defects: bool, key=lambda name: name) -> None:
+    """The rules tying a variables design's options together (plan files and
+    catalogues; the command line checks its options as it reads them).
+
+    ``var`` is modified in place: ``sigma`` defaults to ``known`` when
+    ``sigma_value`` is given, else ``unknown``.
+    """
+    if defects:
+        raise InputError(f"{key('scheme')} (variables) does not apply to "
+                         "nonconformities per unit")
+    if "lower" not in var and "upper" not in var:
+        raise InputError(f"{key('scheme')} (variables) needs {key('upper')} and/or "
+                         f"{key('lower')} (specification limits)")
+    if "lower" in var and "upper" in var and not var["lower"] < var["upper"]:
+        raise InputError(f"{key('lower')} ({var['lower']:g}) must be below {key('upper')} "
+                         f"({var['upper']:g})")
+    var.setdefault("sigma", "known" if "sigma_value" in var else "unknown")
+    if var["sigma"] == "known" and "sigma_value" not in var:
+        raise InputError(f"{key('sigma')} (known) needs {key('sigma_value')}")
+    if var["sigma"] == "unknown" and "sigma_value" in var:
+        raise InputError(f"{key('sigma_value')} ({var['sigma_value']:g}) is given with "
+                         f"{key('sigma')} (unknown); drop one of them")
+
+
 FAMILY = Family(
     name="variables", plan_class=VariablesPlan, parse=parse_variables, keys_hint=("k",),
     extras=report_extras,
     design=design_registered,
+    check_options=check_options,
     design_options={"sigma": "known or unknown (default: known when sigma_value is given)",
                     "sigma_value": "known process sigma",
                     "limit": "upper, lower or both (default: the limits given)",

@@ -22,9 +22,6 @@ from lotwise.core.quantities import (InputError, Infeasible, parse_count, parse_
 __all__ = ["Reply", "Refused", "design", "plan_from", "bounded", "lot_size_option",
            "levels_options", "risk_options", "scope_and_model", "csp_refuse", "csp_model"]
 
-CSP = ("csp1", "csp2", "csp3")
-
-
 @dataclass(frozen=True, kw_only=True)
 class Reply:
     """A JSON body and the command line's exit code for the same request."""
@@ -104,7 +101,7 @@ def plan_from(plan_text, n, c, *, required=True):
 def bounded(p, text) -> None:
     from lotwise.web.query import MAX_PLAN_SAMPLE
 
-    if p.scheme in CSP:  # a flow of units: no sample to bound
+    if p.evaluation == "flow":  # a flow of units: no sample to bound
         return
     size = p.max_sample
     if isinstance(size, (int, float)) and size > MAX_PLAN_SAMPLE:
@@ -123,17 +120,19 @@ def design(q) -> Reply:
              scheme=q.get("scheme", "single"), aoq_formula=q.get("aoq_formula", "screened"),
              defects=q.flag("defects"), f=q.many("f"))
     scheme = o["scheme"]
-    if scheme in CSP or o["f"] or o["i"] is not None:
-        return _design_csp(o)
-    if scheme == "variables":
-        return _design_variables(o)
-    if scheme in ("double", "sequential", "compare-all"):
-        return _design_other(o)
-    if scheme not in ("single", "chain"):
-        raise InputError(f"--scheme ({scheme}) must be one of: single, double, sequential, "
-                         "compare-all, chain, variables, csp1, csp2, csp3")
-    if o["minimize"] is not None or scheme == "chain":
-        return _design_rectifying(o)
+    if scheme not in DESIGNERS:
+        raise InputError(f"--scheme ({scheme}) must be one of: {', '.join(DESIGNERS)}")
+    return DESIGNERS[scheme](o)
+
+
+def _single_route(o) -> Reply:
+    """``--scheme single``; ``--minimize ati`` is routed from here, as on the command
+    line."""
+    if o["f"] or o["i"] is not None:  # the continuous plans' options
+        opt, val = ("--f", ", ".join(o["f"])) if o["f"] else ("--i", o["i"])
+        raise InputError(f"{opt} ({val}) applies to --scheme csp1, csp2 or csp3")
+    if o["minimize"] is not None:
+        return _least_ati_route(o)
     for name, val in (("--process-average", o["process_average"]), ("--aoql", o["aoql"])):
         if val is not None:
             raise InputError(f"{name} ({val}) needs --minimize ati")
@@ -171,9 +170,6 @@ def _design_csp(o) -> Reply:
     from lotwise.families.csp import MAX_I, design_csp, parse_f
 
     scheme = o["scheme"]
-    if scheme not in CSP:
-        opt, val = ("--f", ", ".join(o["f"])) if o["f"] else ("--i", o["i"])
-        raise InputError(f"{opt} ({val}) applies to --scheme csp1, csp2 or csp3")
     unused = (("--aql", o["aql"]), ("--rql", o["rql"]), ("--lot-size", o["lot_size"]),
               ("--defects", o["defects"]), ("--c", o["c"]), ("--n", o["n"]),
               ("--max-n", o["max_n"]), ("--sigma", o["sigma"]),
@@ -327,48 +323,58 @@ def _truncate(text):
         if text is not None else None
 
 
-def _design_other(o) -> Reply:
-    """Double, sequential and the three side by side (``compare-all``)."""
-    from lotwise.analysis.assess import assess
+def _other_targets(o):
     from lotwise.core.types import Targets
 
-    scheme = o["scheme"]
-    _not_for(scheme, n=o["n"], c=o["c"])
+    _not_for(o["scheme"], n=o["n"], c=o["c"])
     a, r = levels_options(o["aql"], o["rql"], o["defects"])
     al, be = risk_options(o["alpha"], o["beta"])
     scope, mdl = scope_and_model(o["lot_size"], o["defects"], o["model"])
     targets = Targets(aql=a, rql=r, alpha=al, beta=be)
-    base = {"scheme": scheme, "model": mdl, "lot_size": scope.lot_size,
+    base = {"scheme": o["scheme"], "model": mdl, "lot_size": scope.lot_size,
             "targets": targets.as_dict()}
     kw = dict(aql=a, rql=r, alpha=al, beta=be, lot_size=scope.lot_size, model=mdl,
               defects=scope.defects)
-    if scheme == "double":
-        from lotwise.families.double import design_double
+    return targets, scope, mdl, base, kw
 
-        _not_for(scheme, truncate=o["truncate"])
-        cap = parse_count(o["max_n"], "--max-n", minimum=2) if o["max_n"] is not None else None
-        ratio, minimize = _ratio(o["ratio"]), _minimize(o["minimize"])
-        base.update({"ratio": ratio, "minimize": minimize})
-        try:
-            d = design_double(**kw, ratio=ratio, minimize=minimize, max_n=cap)
-        except Infeasible as exc:
-            _infeasible(exc, base)
-        return Reply(body=assess(d.plan, targets, scope, mdl, design=d,
-                                 design_options={"ratio": ratio,
-                                                 "minimize": minimize}).to_json())
-    if scheme == "sequential":
-        from lotwise.families.sequential import design_sequential
 
-        _not_for(scheme, ratio=o["ratio"], minimize=o["minimize"], max_n=o["max_n"])
-        t = _truncate(o["truncate"])
-        try:
-            d = design_sequential(**kw, truncate=t)
-        except Infeasible as exc:
-            _infeasible(exc, base)
-        return Reply(body=assess(d.plan, targets, scope, mdl, design=d).to_json())
+def _design_double(o) -> Reply:
+    from lotwise.analysis.assess import assess
+    from lotwise.families.double import design_double
+
+    targets, scope, mdl, base, kw = _other_targets(o)
+    _not_for(o["scheme"], truncate=o["truncate"])
+    cap = parse_count(o["max_n"], "--max-n", minimum=2) if o["max_n"] is not None else None
+    ratio, minimize = _ratio(o["ratio"]), _minimize(o["minimize"])
+    base.update({"ratio": ratio, "minimize": minimize})
+    try:
+        d = design_double(**kw, ratio=ratio, minimize=minimize, max_n=cap)
+    except Infeasible as exc:
+        _infeasible(exc, base)
+    return Reply(body=assess(d.plan, targets, scope, mdl, design=d,
+                             design_options={"ratio": ratio, "minimize": minimize}).to_json())
+
+
+def _design_sequential(o) -> Reply:
+    from lotwise.analysis.assess import assess
+    from lotwise.families.sequential import design_sequential
+
+    targets, scope, mdl, base, kw = _other_targets(o)
+    _not_for(o["scheme"], ratio=o["ratio"], minimize=o["minimize"], max_n=o["max_n"])
+    t = _truncate(o["truncate"])
+    try:
+        d = design_sequential(**kw, truncate=t)
+    except Infeasible as exc:
+        _infeasible(exc, base)
+    return Reply(body=assess(d.plan, targets, scope, mdl, design=d).to_json())
+
+
+def _compare_all(o) -> Reply:
+    """Single, double and sequential side by side (``compare-all``)."""
     from lotwise.analysis.tradeoff import asn_tradeoff
 
-    _not_for(scheme, max_n=o["max_n"])
+    targets, scope, mdl, _base, _kw = _other_targets(o)
+    _not_for(o["scheme"], max_n=o["max_n"])
     t = _truncate(o["truncate"])
     ratio, minimize = _ratio(o["ratio"]), _minimize(o["minimize"])
     if t is not None and scope.lot_size is not None and t > scope.lot_size:
@@ -378,19 +384,21 @@ def _design_other(o) -> Reply:
     return Reply(body=res.as_dict())
 
 
-def _design_rectifying(o) -> Reply:
-    """``--minimize ati`` (least inspection) and ``--scheme chain``."""
-    scheme = o["scheme"]
+def _least_ati_route(o) -> Reply:
+    """``--minimize ati`` (least inspection)."""
+    if o["minimize"] not in ("ati",):
+        raise InputError(f"--minimize ({o['minimize']}) must be one of: ati")
+    for name, val in (("--c", o["c"]), ("--n", o["n"]), ("--max-n", o["max_n"])):
+        if val is not None:
+            raise InputError(f"{name} ({val}) cannot be combined with --minimize ati")
+    return _least_ati(o)
+
+
+def _chain_route(o) -> Reply:
+    """``--scheme chain``."""
     if o["minimize"] is not None:
-        if o["minimize"] not in ("ati",):
-            raise InputError(f"--minimize ({o['minimize']}) must be one of: ati")
-        if scheme != "single":
-            raise InputError(f"--minimize ati designs single plans; --scheme ({scheme}) must "
-                             "be single")
-        for name, val in (("--c", o["c"]), ("--n", o["n"]), ("--max-n", o["max_n"])):
-            if val is not None:
-                raise InputError(f"{name} ({val}) cannot be combined with --minimize ati")
-        return _least_ati(o)
+        raise InputError(f"--minimize ({o['minimize']}) does not apply to --scheme chain (it "
+                         "designs the smallest sample)")
     for name, val in (("--process-average", o["process_average"]), ("--aoql", o["aoql"])):
         if val is not None:
             raise InputError(f"{name} ({val}) needs --minimize ati")
@@ -452,3 +460,11 @@ def _chain(o) -> Reply:
     except Infeasible as exc:
         _infeasible(exc, base)
     return Reply(body=assess(d.plan, d.targets, d.scope, d.model, design=d).to_json())
+
+
+#: ``--scheme`` -> its designer, in the command line's order
+#: (:data:`lotwise.cli.design.SCHEMES`).
+DESIGNERS = {"single": _single_route, "double": _design_double,
+             "sequential": _design_sequential, "compare-all": _compare_all,
+             "chain": _chain_route, "variables": _design_variables, "csp1": _design_csp,
+             "csp2": _design_csp, "csp3": _design_csp}

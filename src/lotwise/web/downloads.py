@@ -24,7 +24,6 @@ __all__ = ["Download", "plan_file_text", "plan_file", "sheet", "oc_csv"]
 
 #: The sheet is written for lot-by-lot plans; continuous sampling and the
 #: side-by-side trade-off have no plan file.
-NO_SHEET = ("csp1", "csp2", "csp3", "compare-all")
 _TEXT = re.compile(r"^[\w .,;:()/&+'#-]{0,80}$", re.UNICODE)
 
 
@@ -52,10 +51,14 @@ def _toml(value: str) -> str:
 
 def _designed_plan(q):
     """The plan the page shows: the ``plan`` parameter, or the designed one."""
+    from lotwise.families.base import families
+
     scheme = q.get("scheme", "single")
-    if scheme in NO_SHEET:
+    sheets = [f.name for f in families()
+              if f.design is not None and f.plan_class.evaluation != "flow"]
+    if scheme in commands.DESIGNERS and scheme not in sheets:
         raise InputError(f"--scheme ({scheme}): a plan sheet is written for lot-by-lot plans "
-                         "(single, double, sequential, chain, variables)")
+                         f"({', '.join(sheets)})")
     if q.get("plan") is not None:
         return commands.plan_from(q.get("plan"), None, None), True
     body = commands.design(q).body
@@ -89,7 +92,8 @@ def plan_file_text(q) -> str:
     sampling = []
     if q.get("model") is not None:
         sampling.append(f"model = {_toml(q.get('model').strip().lower())}")
-    single_request = plan.scheme == "single" and not given and q.get("minimize") is None
+    # A plan judged on the part's common sample is written as its design request.
+    single_request = plan.common_sample and not given and q.get("minimize") is None
     if single_request:
         for key in ("n", "max_n"):
             if q.get(key) is not None:

@@ -8,7 +8,7 @@ See :mod:`lotwise.web.commands` for the rules these follow.
 from __future__ import annotations
 
 from lotwise.core.quantities import InputError, parse_count, parse_level
-from lotwise.web.commands import (CSP, Refused, Reply, csp_model, csp_refuse, levels_options,
+from lotwise.web.commands import (Refused, Reply, csp_model, csp_refuse, levels_options,
                                   lot_size_option, risk_options, scope_and_model, plan_from)
 
 __all__ = ["check", "oc", "compare", "tradeoff", "outlook"]
@@ -25,7 +25,7 @@ def check(q) -> Reply:
     aoq_formula, skip_lot = q.get("aoq_formula"), q.get("skip_lot")
     at, run_length = q.many("at"), q.get("run_length")
     p = plan_from(q.get("plan"), q.get("n"), q.get("c"))
-    if p.scheme in CSP:
+    if p.evaluation == "flow":
         from lotwise.analysis.outputs import csp_check
 
         csp_refuse(p.scheme, {"--aql": aql, "--rql": rql, "--lot-size": lot,
@@ -37,12 +37,14 @@ def check(q) -> Reply:
         if val:
             raise InputError(f"{opt} ({val if opt == '--run-length' else ', '.join(val)}) "
                              "applies to continuous sampling plans (csp1, csp2, csp3)")
-    if p.scheme == "variables":
+    if p.evaluation == "process":
         return _check_variables(p, aql, rql, alpha, beta)
-    if p.scheme == "skiplot":
+    p, layer = p.audit_parts()  # a skip-lot plan: its reference plan with --skip-lot
+    if layer is not None:
         if skip_lot is not None:
-            raise InputError("--skip-lot cannot be combined with a skiplot --plan")
-        p, skip_lot = p.reference, (p.i, p.f)
+            raise InputError(f"--skip-lot ({skip_lot}) cannot be combined with a skip-lot "
+                             "--plan")
+        skip_lot = layer
     a, r = levels_options(aql, rql, defects)
     al, be = risk_options(alpha, beta)
     scope, mdl = scope_and_model(lot, defects, model)
@@ -108,13 +110,13 @@ def oc(q) -> Reply:
     aql, rql, at = q.get("aql"), q.get("rql"), q.many("at")
     max_p, points = q.get("max_p"), q.get("points", "21")
     p = plan_from(q.get("plan"), q.get("n"), q.get("c"))
-    if p.scheme in CSP:
+    if p.evaluation == "flow":
         csp_refuse(p.scheme, {"--lot-size": lot, "--defects": defects, "--aql": aql,
                                "--rql": rql})
         csp_model(model)
         return Reply(body=outputs.csp_oc(p, outputs.csp_grid(p, max_p=max_p, points=points,
                                                                at=at)))
-    if p.scheme == "variables":
+    if p.evaluation == "process":
         _a, r = levels_options(aql, rql, False, need=False)
         return Reply(body=outputs.variables_oc(p, max_p=max_p, points=points, at=at, rql=r))
     scope, mdl = scope_and_model(lot, defects, model)
@@ -150,9 +152,9 @@ def compare(q) -> Reply:
             from lotwise.web.commands import bounded
 
             bounded(p, text)
-            if scope.lot_size and (getattr(p, "n", 0) or 0) > scope.lot_size:
-                raise InputError(f"--plan #{i} ({text}): n must not be greater than --lot-size "
-                                 f"({scope.lot_size})")
+            if scope.lot_size and p.max_sample > scope.lot_size:
+                raise InputError(f"--plan #{i} ({text}): the plan inspects up to "
+                                 f"{p.max_sample} units, more than --lot-size ({scope.lot_size})")
             entries.append((p.label, p, targets, scope, mdl))
     if len(entries) < 2:
         raise InputError("compare needs at least two plans: give --plan twice or more, or plan "

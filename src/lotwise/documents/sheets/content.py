@@ -85,10 +85,7 @@ def plan_name(rep) -> str:
     """Short plan name for legends and sentences."""
     if not rep.get("own_sample"):
         return f"n={rep['n']}, c={rep['c']}"
-    plan = rep["plan"]
-    if plan.get("scheme") == "variables" and plan.get("k") is not None:
-        return f"variables n={plan['n']}, k={plan['k']:g}"
-    return rep["label"]
+    return rep.get("short_label", rep["label"])
 
 
 def alternatives(pp) -> str:
@@ -98,7 +95,7 @@ def alternatives(pp) -> str:
     if not pp.designed or pp.n is None:
         return ""
     single = {r["characteristic"]["id"] for r in pp.reports
-              if r.get("scheme") == "single" and not r.get("own_sample")}
+              if not r.get("own_sample")}  # judged on the part's common sample
     ch = next((c for c in pp.request.characteristics if c.id in single and c.c is None), None)
     if ch is None:
         return ""
@@ -110,9 +107,10 @@ def alternatives(pp) -> str:
         return ""
     parts, single_n = [], None
     for row in tr.rows:
-        if row.scheme == "single" and row.plan is not None:
+        if row.plan is None:
+            continue
+        if not row.plan.varying_sample:  # the single plan the others are set against
             single_n = row.n_max
-        if row.plan is None or row.scheme == "single":
             continue
         verdict = "" if row.meets else ", NOT meeting a target exactly"
         parts.append(f"{row.scheme} {row.label} (average sample {row.asn_aql:.1f} at the AQL, "

@@ -1,0 +1,82 @@
+"""``lotwise design``: the plan of each ``--scheme`` with the smallest sample meeting both
+risks. The command reads the options; the scheme's handler (one function per scheme, in the
+module named in :data:`SCHEMES`) checks the ones that apply to it and designs."""
+
+from __future__ import annotations
+
+from typing import List, Optional
+
+import typer
+
+from . import app, common
+from . import prior as prior_cli
+from lotwise.core.quantities import InputError
+
+#: ``--scheme`` -> (``"module:function"`` in this package taking every design option as
+#: keywords, whether the scheme takes the prior and cost options of ``--minimize cost``).
+SCHEMES = {
+    "single": ("single:design_cmd", True),
+    "double": ("multistage:design_double_cmd", False),
+    "sequential": ("multistage:design_sequential_cmd", False),
+    "compare-all": ("multistage:compare_all_cmd", False),
+    "chain": ("rectifying:chain_cmd", False),
+    "variables": ("variables:design_options", False),
+    "csp1": ("csp:design_options", False),
+    "csp2": ("csp:design_options", False),
+    "csp3": ("csp:design_options", False),
+}
+
+
+@app.command()
+def design(
+    aql: Optional[str] = common.AQL,
+    rql: Optional[str] = common.RQL,
+    alpha: str = common.ALPHA,
+    beta: str = common.BETA,
+    lot: Optional[str] = common.LOT,
+    model: Optional[str] = common.MODEL,
+    defects: bool = common.DEFECTS,
+    scheme: str = typer.Option("single", "--scheme", help="Plan family: single, double, sequential, compare-all (the three side by side), chain (ChSP-1), variables, or csp1, csp2, csp3 (continuous sampling)."),
+    c: Optional[str] = typer.Option(None, "--c", help="Fix the acceptance number (0 for accept-on-zero)."),
+    n: Optional[str] = typer.Option(None, "--n", help="Fix the sample size and find c."),
+    max_n: Optional[str] = typer.Option(None, "--max-n", help="Largest affordable sample."),
+    minimize: Optional[str] = typer.Option(None, "--minimize", help="single: ati (least average total inspection at --process-average) or cost (least expected cost per lot under --prior); double: asn-aql (default) or asn-max."),
+    process_average: Optional[str] = typer.Option(None, "--process-average", help="Supplier's process average, for --minimize ati."),
+    aoql: Optional[str] = typer.Option(None, "--aoql", help="AOQL limit, for --minimize ati (instead of --rql)."),
+    aoq_formula: str = typer.Option("screened", "--aoq-formula", help="screened: AOQ = p Pa (N - n)/N; simple: p Pa."),
+    sigma: Optional[str] = typer.Option(None, "--sigma", help="variables: known or unknown."),
+    sigma_value: Optional[str] = typer.Option(None, "--sigma-value", help="variables: the known sigma."),
+    limit: Optional[str] = typer.Option(None, "--limit", help="variables: upper, lower or both."),
+    lower: Optional[str] = typer.Option(None, "--lower", help="variables: lower specification limit."),
+    upper: Optional[str] = typer.Option(None, "--upper", help="variables: upper specification limit."),
+    ratio: Optional[str] = typer.Option(None, "--ratio", help="double: n2 / n1 (default 2)."),
+    truncate: Optional[str] = typer.Option(None, "--truncate", help="sequential: most units to inspect (default 3 x the single plan's n)."),
+    plot: Optional[str] = typer.Option(None, "--plot", help="double, sequential, compare-all: draw the chart to PATH.png, .svg or .pdf."),
+    force: bool = typer.Option(False, "--force", help="Overwrite files not written by lotwise."),
+    csp_f: Optional[List[str]] = typer.Option(None, "--f", help="csp1/2/3: sampling fraction (0.1, 1/10 or 10%); repeat for the list --minimize afi searches."),
+    csp_i: Optional[str] = typer.Option(None, "--i", help="csp1/2/3: clearance number; find the smallest f instead."),
+    prior: Optional[str] = prior_cli.PRIOR, prior_from: Optional[str] = prior_cli.PRIOR_FROM,
+    part: Optional[str] = prior_cli.PART, supplier: Optional[str] = prior_cli.SUPPLIER,
+    half_life: Optional[str] = prior_cli.HALF_LIFE, cost_inspect: Optional[str] = prior_cli.COST_INSPECT,
+    cost_escape: Optional[str] = prior_cli.COST_ESCAPE, cost_reject_lot: Optional[str] = prior_cli.COST_REJECT,
+    sheet: Optional[str] = prior_cli.SHEET, deliveries: Optional[str] = prior_cli.DELIVERIES,
+    as_json: bool = common.JSON,
+):
+    """Design the plan with the smallest sample meeting both risks (or, --minimize cost, the cheapest)."""
+    opts = dict(locals())
+    key = scheme.strip().lower()
+    if key not in SCHEMES:
+        raise InputError(f"--scheme ({scheme}) must be one of: {', '.join(SCHEMES)}")
+    target, takes_prior = SCHEMES[key]
+    extra = prior_cli.given(opts)
+    if not takes_prior and (extra or minimize == "cost"):
+        opt = extra[0] if extra else "--minimize"
+        val = opts[prior_cli.option_key(opt)] if extra else minimize
+        raise InputError(f"{opt} ({val}) applies to --scheme single (--minimize cost designs "
+                         f"single plans), not {key}")
+    import importlib
+
+    module, func = target.split(":")
+    handler = getattr(importlib.import_module(f"{__package__}.{module}"), func)
+    opts["scheme"] = key
+    return handler(**opts)

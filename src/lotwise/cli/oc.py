@@ -1,0 +1,94 @@
+"""``lotwise oc``: the OC table (and curve) of a plan, exact and Poisson side by side."""
+
+from __future__ import annotations
+
+from typing import List, Optional
+
+import typer
+
+from . import app, common
+from lotwise.core.quantities import InputError
+
+
+@app.command("oc")
+def oc_table(
+    plan: Optional[str] = typer.Option(None, "--plan", help='Plan notation, e.g. "n=80,c=2".'),
+    n: Optional[str] = typer.Option(None, "--n", help="Sample size."),
+    c: Optional[str] = typer.Option(None, "--c", help="Acceptance number."),
+    lot: Optional[str] = common.LOT,
+    model: Optional[str] = common.MODEL,
+    defects: bool = common.DEFECTS,
+    max_p: Optional[str] = typer.Option(None, "--max-p", help="Largest quality level of the grid."),
+    points: str = typer.Option("21", "--points", help="Number of grid points."),
+    at: Optional[List[str]] = typer.Option(None, "--at", help="Evaluate at these levels instead of a grid (repeatable, or comma-separated)."),
+    aql: Optional[str] = typer.Option(None, "--aql", help="Mark the AQL on the plot."),
+    rql: Optional[str] = typer.Option(None, "--rql", help="Mark the RQL on the plot."),
+    csv: Optional[str] = typer.Option(None, "--csv", help="Write the table as CSV to PATH, or - for stdout."),
+    plot: Optional[str] = typer.Option(None, "--plot", help="Draw the OC curve to PATH.png or PATH.svg."),
+    force: bool = typer.Option(False, "--force", help="Overwrite files not written by lotwise."),
+    as_json: bool = common.JSON,
+):
+    """OC table: exact and Poisson acceptance probabilities side by side."""
+    from lotwise.analysis.outputs import attribute_oc
+
+    p = common.plan_from(plan, n, c)
+    if p.evaluation == "flow":  # continuous sampling: AFI, AOQ and pa per produced unit
+        from .csp import oc_cmd as flow_oc
+
+        return flow_oc(p, max_p=max_p, points=points, at=at, csv=csv, plot=plot, model=model,
+                       force=force, as_json=as_json,
+                       unused={"--lot-size": lot, "--defects": defects, "--aql": aql,
+                               "--rql": rql})
+    if p.evaluation == "process":  # a measured process: the plan's own normal-theory OC
+        from .variables import oc_cmd as process_oc
+
+        return process_oc(p, max_p=max_p, points=points, at=at, aql=aql, rql=rql, csv=csv,
+                          plot=plot, force=force, as_json=as_json)
+    scope, mdl = common.scope_and_model(lot, defects, model)
+    p = p.for_scope(scope)  # checks the scope; a plan may be meant per the scope
+    a, r = common.levels(aql, rql, defects, need=False)
+    if plot is not None and not plot.lower().endswith((".png", ".svg", ".pdf")):
+        raise InputError(f"--plot ({plot}) must end in .png, .svg or .pdf")
+    ps = common.level_grid(p, scope, mdl, max_p, points, at, r)
+    out = attribute_oc(p, scope, mdl, ps)
+    header, rows = out["columns"], out["rows"]
+    if csv is not None:
+        common.write_csv(csv, header, rows, force=force)
+    if plot is not None:
+        from lotwise.data.files import save_figure
+
+        top = float(ps.max()) if len(ps) and ps.max() > 0 else None
+        if p.varying_sample:
+            from lotwise.documents.plots.multistage import oc_asn_figure
+
+            fig = oc_asn_figure(p, scope, model=mdl, aql=a, rql=r, max_p=top)
+        else:
+            from lotwise.documents.plots.style import oc_figure
+
+            fig = oc_figure([(p, scope)], models=scope.models, aql=a, rql=r, max_p=top)
+        save_figure(fig, plot, force=force, option="--plot")
+    if as_json:
+        common.emit_json(out)
+    elif csv != "-":
+        nm = len(scope.models)
+        shown = [[common.fmt_level(row[0], defects)] + [f"{v:.5f}" for v in row[1:1 + nm]]
+                 + [_cell(k, v) for k, v in zip(header[1 + nm:], row[1 + nm:])] for row in rows]
+        what = "OC and ASN table" if p.varying_sample else "OC table"
+        typer.echo(f"{what} for the {p.scheme} plan {p.label}"
+                   + (f", lot of {scope.lot_size}" if scope.lot_size else "")
+                   + f" (exact model: {scope.exact_model})")
+        typer.echo(common.table(shown, header))
+        if csv:
+            typer.echo(f"  wrote {csv}")
+        if plot:
+            typer.echo(f"  wrote {plot}")
+
+
+def _cell(key: str, v) -> str:
+    if key == "poisson_minus_exact":
+        return f"{v:+.5f}"
+    if key == "lot_count":
+        return str(v)
+    if key in ("aoq", "wald_pa"):
+        return f"{v:.5f}"
+    return f"{v:.1f}"
