@@ -130,7 +130,7 @@ def design(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 0.10,
     scope = Scope(lot_size=lot_size, defects=per_unit)
     targets = Targets(aql=aql, rql=rql, alpha=alpha, beta=beta)
     redesign = {k: v for k, v in options.items() if k in ("ratio", "minimize")}
-    return _result(assess(d.plan, targets, scope, getattr(d, "model", None), design=d,
+    return _result(assess(d.plan, targets, scope, d.model, design=d,
                           design_options=redesign))
 
 

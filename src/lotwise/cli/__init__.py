@@ -34,8 +34,8 @@ def _group() -> None:
 COMMANDS = {
     "design": "design", "check": "check", "oc": "oc",
     "sheet": "sheets", "compare": "sheets", "demo": "sheets",
-    "draw": "draw", "zero": "zero", "demonstrate": "zero",
-    "next": "multistage", "judge": "variables",
+    "draw": "draw", "zero": "zero", "demonstrate": "demonstrate",
+    "next": "next_step", "judge": "judge",
     "records": "records", "supplier": "records", "tradeoff": "records",
     "batch": "batch", "validate": "validate",
     "scheme": "scheme",

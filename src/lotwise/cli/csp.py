@@ -1,7 +1,7 @@
 """Command-line glue for continuous sampling plans CSP-1, CSP-2 and CSP-3.
 
 Called from ``design --scheme csp1|csp2|csp3``, ``check``, ``oc`` (in
-:mod:`lotwise.cli.design`) and ``next`` (in :mod:`lotwise.cli.multistage`)
+:mod:`lotwise.cli.design`) and ``next`` (in :mod:`lotwise.cli.next_step`)
 when the plan is a CSP plan; the library side is :mod:`lotwise.families.csp`.
 """
 

@@ -977,6 +977,12 @@ class VariablesDesign:
         out.append(SAFETY)
         return out
 
+    @property
+    def model(self) -> None:
+        """No attributes model: the plan judges measurements (designs of counted
+        plans name the model they were judged by)."""
+        return None
+
     def report_extra(self) -> dict:
         """What the design adds to the plan's assessment (see :meth:`as_dict`)."""
         return self.as_dict()

@@ -51,7 +51,7 @@ def asn_figure(items, *, model=None, aql=None, rql=None, max_p=None, labels=None
         Also draw each plan's curtailed ASN (thin, same style), labelled by
         ``curtailed_label`` (``{label}`` is the plan's label).
     """
-    if hasattr(items, "asn_curves"):
+    if not isinstance(items, (list, tuple)):  # a trade-off result
         fig, ax = new_axes(ax)
         return tradeoff_figure(items, ax=ax, title=title)
     fig, ax = new_axes(ax)
