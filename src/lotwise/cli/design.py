@@ -65,9 +65,10 @@ def design(
     """Design the plan with the smallest sample meeting both risks (or, --minimize cost, the cheapest)."""
     opts = dict(locals())
     key = scheme.strip().lower()
-    if key not in SCHEMES:
-        raise InputError(f"--scheme ({scheme}) must be one of: {', '.join(SCHEMES)}")
-    target, takes_prior = SCHEMES[key]
+    names = list(SCHEMES) + [f for f in _registered() if f not in SCHEMES]
+    if key not in names:
+        raise InputError(f"--scheme ({scheme}) must be one of: {', '.join(names)}")
+    target, takes_prior = SCHEMES.get(key, ("design:registered_cmd", False))
     extra = prior_cli.given(opts)
     if not takes_prior and (extra or minimize == "cost"):
         opt = extra[0] if extra else "--minimize"
@@ -80,3 +81,47 @@ def design(
     handler = getattr(importlib.import_module(f"{__package__}.{module}"), func)
     opts["scheme"] = key
     return handler(**opts)
+
+
+def _registered() -> list[str]:
+    """Families with a designer, in the registry's order."""
+    from lotwise.families.base import designable
+
+    return designable()
+
+
+#: Options a family without a handler of its own cannot take (it is designed from the
+#: targets, the lot size and the model alone).
+_SCHEME_OPTIONS = ("c", "n", "max_n", "minimize", "process_average", "aoql", "sigma",
+                   "sigma_value", "limit", "lower", "upper", "ratio", "truncate", "plot",
+                   "csp_f", "csp_i")
+
+
+def registered_cmd(*, scheme, aql, rql, alpha, beta, lot, model, defects, as_json, **o):
+    """``lotwise design --scheme NAME`` for a family whose module registers a designer and
+    that has no handler in :data:`SCHEMES`: its designer with the targets only."""
+    from lotwise.analysis.assess import assess
+    from lotwise.core.quantities import Infeasible
+    from lotwise.core.types import Targets
+    from lotwise.families.base import family
+
+    for key in _SCHEME_OPTIONS:
+        if o.get(key):
+            raise InputError(f"--{key.replace('_', '-').replace('csp-', '')} ({o[key]}) does "
+                             f"not apply to --scheme {scheme}")
+    a, r = common.levels(aql, rql, defects)
+    al, be = common.risks(alpha, beta)
+    scope, mdl = common.scope_and_model(lot, defects, model)
+    targets = Targets(aql=a, rql=r, alpha=al, beta=be)
+    try:
+        d = family(scheme).design(aql=a, rql=r, alpha=al, beta=be, lot_size=scope.lot_size,
+                                  model=mdl, defects=defects)
+    except Infeasible as exc:
+        common.infeasible(exc, as_json, {"scheme": scheme, "model": mdl,
+                                         "lot_size": scope.lot_size,
+                                         "targets": targets.as_dict()})
+    rep = assess(d.plan, targets, scope, d.model, design=d)
+    if as_json:
+        common.emit_json(rep.to_json())
+    else:
+        typer.echo(rep.render(f"{scheme} plan (designed by its family's designer)"))

@@ -119,10 +119,43 @@ def design(q) -> Reply:
     o.update(alpha=q.get("alpha", "5%"), beta=q.get("beta", "10%"),
              scheme=q.get("scheme", "single"), aoq_formula=q.get("aoq_formula", "screened"),
              defects=q.flag("defects"), f=q.many("f"))
+    from lotwise.families.base import designable
+
     scheme = o["scheme"]
-    if scheme not in DESIGNERS:
-        raise InputError(f"--scheme ({scheme}) must be one of: {', '.join(DESIGNERS)}")
-    return DESIGNERS[scheme](o)
+    names = list(DESIGNERS) + [f for f in designable() if f not in DESIGNERS]
+    if scheme not in names:
+        raise InputError(f"--scheme ({scheme}) must be one of: {', '.join(names)}")
+    return DESIGNERS.get(scheme, _design_registered)(o)
+
+
+#: Options a family without a designer function of its own here cannot take.
+_SCHEME_OPTIONS = ("c", "n", "max_n", "minimize", "process_average", "aoql", "sigma",
+                   "sigma_value", "limit", "lower", "upper", "ratio", "truncate", "f", "i")
+
+
+def _design_registered(o) -> Reply:
+    """A family registered with a designer and no function in :data:`DESIGNERS` (the
+    command line's ``design.registered_cmd``): its designer with the targets only."""
+    from lotwise.analysis.assess import assess
+    from lotwise.core.types import Targets
+    from lotwise.families.base import family
+
+    for key in _SCHEME_OPTIONS:
+        if o.get(key):
+            raise InputError(f"--{key.replace('_', '-')} ({o[key]}) does not apply to "
+                             f"--scheme {o['scheme']}")
+    a, r = levels_options(o["aql"], o["rql"], o["defects"])
+    al, be = risk_options(o["alpha"], o["beta"])
+    scope, mdl = scope_and_model(o["lot_size"], o["defects"], o["model"])
+    targets = Targets(aql=a, rql=r, alpha=al, beta=be)
+    try:
+        d = family(o["scheme"]).design(aql=a, rql=r, alpha=al, beta=be,
+                                       lot_size=scope.lot_size, model=mdl,
+                                       defects=o["defects"])
+    except Infeasible as exc:
+        _infeasible(exc, {"scheme": o["scheme"], "model": mdl, "lot_size": scope.lot_size,
+                          "targets": targets.as_dict()})
+    return Reply(body=assess(d.plan, targets, scope, d.model, design=d).to_json())
 
 
 def _single_route(o) -> Reply:
