@@ -106,13 +106,19 @@ def attribute_grid(plan, scope, model, *, max_p=None, points="21", at=None, rql=
     return np.linspace(0.0, top, k)
 
 
-def attribute_oc(plan, scope, model, ps) -> dict:
-    """``oc --json`` of an attribute plan at the levels ``ps``."""
-    from lotwise.analysis.assess import oc_table
+def attribute_oc(plan, scope, model, ps, *, aql=None, rql=None) -> dict:
+    """``oc --json`` of an attribute plan at the levels ``ps``; in a finite lot
+    with ``lot_count_rule``, the rounding of each level to a whole count
+    (up at and below ``aql``, down at and above ``rql``, see
+    :func:`lotwise.analysis.assess.count_rule`)."""
+    from lotwise.analysis.assess import count_rule, oc_table
 
-    header, rows = oc_table(plan, scope, model, ps)
-    return {"scheme": plan.scheme, "n": None, "c": None, **plan.to_dict(),
-            "lot_size": scope.lot_size, "model": model, "columns": header, "rows": rows}
+    header, rows = oc_table(plan, scope, model, ps, aql=aql, rql=rql)
+    out = {"scheme": plan.scheme, "n": None, "c": None, **plan.to_dict(),
+           "lot_size": scope.lot_size, "model": model, "columns": header, "rows": rows}
+    if "lot_count" in header:
+        out["lot_count_rule"] = count_rule(plan, scope, aql=aql, rql=rql)[1]
+    return out
 
 
 def _variables_top(plan, rql):
