@@ -207,3 +207,20 @@ def test_oc_json_states_the_rounding_rule():
     out = attribute_oc(parse_plan("n=129,c=2"), Scope(lot_size=150), "hypergeometric",
                        np.array([0.01, 0.02]), aql=0.01, rql=0.025)
     assert "rounded up" in out["lot_count_rule"] and "indifference count 3" in out["lot_count_rule"]
+
+
+# The wording of the finite-lot AOQ: the exact E[(D - X) 1{X <= c}]/N (summed
+# here with scipy.stats.hypergeom) is never below the plug-in p Pa (N - n)/N,
+# and for c = 0 it is N/(N - n) times it (C(N, n)/C(N - 1, n), algebra).
+@pytest.mark.parametrize("n,c,N", [(20, 0, 100), (129, 0, 150), (129, 2, 150), (50, 1, 400),
+                                   (13, 0, 500)])
+def test_finite_lot_aoq_is_the_exact_expectation_and_not_below_the_plug_in(n, c, N):
+    plan, scope = parse_plan(f"n={n},c={c}"), Scope(lot_size=N)
+    for D in range(1, N + 1, max(1, N // 37)):
+        x = np.arange(0, min(c, D) + 1)
+        exact = float(np.sum((D - x) * hypergeom.pmf(x, N, D, n))) / N
+        assert abs(float(plan.aoq_count(D, scope)) - exact) < TOL_PA
+        plug_in = D / N * ref_single(n, c, N, D) * (N - n) / N
+        assert exact >= plug_in - TOL_PA
+        if c == 0 and plug_in > 1e-300:
+            assert abs(exact / plug_in - N / (N - n)) < 1e-9 * N / (N - n)
