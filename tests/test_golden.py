@@ -257,6 +257,7 @@ CHANGED: dict[str, str] = {
     "compare_designed_lot:json.plans[0].plan_quality.indifference": INDIFFERENCE_COUNT,
     "compare_plan_files:json.plans[1].plan_quality.indifference": INDIFFERENCE_COUNT,
     "compare_designed_lot:json.plans[1].plan_quality.indifference": INDIFFERENCE_COUNT,
+    "compare_designed_lot:json.plans[2].plan_quality.indifference": INDIFFERENCE_COUNT,
 }
 
 #: What ``main`` prints on stderr when a command failed with an internal error.
