@@ -123,10 +123,12 @@ def attribute_oc(plan, scope, model, ps, *, aql=None, rql=None) -> dict:
 
 def _variables_top(plan, rql):
     """Right end of the default grid: where Pa has fallen to 1 %, or 1.25 RQL."""
+    from lotwise.families.variables import TWO_LIMIT_EXACT
+
     lo, hi = 0.0, 1.0
     for _ in range(60):
         mid = 0.5 * (lo + hi)
-        if float(plan.pa(mid) if plan.exact_model != "estimate-exact"
+        if float(plan.pa(mid) if plan.exact_model not in TWO_LIMIT_EXACT
                  else plan.pa(mid, "noncentral-t")) > 0.01:
             lo = mid
         else:
@@ -144,13 +146,15 @@ def variables_oc(plan, *, max_p=None, points="21", at=None, rql=None) -> dict:
         k = parse_count(points, "--points", minimum=2, maximum=MAX_POINTS)
         top = parse_level(max_p, "--max-p") if max_p is not None else _variables_top(plan, rql)
         ps = np.linspace(0.0, top, k)
+    from lotwise.families.variables import TWO_LIMIT_EXACT
+
     band = plan.limit == "both" and (plan.sigma == "unknown" or plan.width is None)
     header = ["p", "pa"]
     cols = [np.asarray(plan.pa(ps), dtype=float)]
     if band:
         header.append("pa_lower")
         cols.append(np.asarray(plan.pa(ps, envelope="lower"), dtype=float))
-    if plan.exact_model == "estimate-exact":
+    if plan.exact_model in TWO_LIMIT_EXACT:
         header.append("pa_one_tail_noncentral_t")
         cols.append(np.asarray(plan.pa(ps, "noncentral-t"), dtype=float))
     rows = [[float(pv)] + [float(c[i]) for c in cols] for i, pv in enumerate(ps)]

@@ -189,7 +189,7 @@ def oc_cmd(plan, *, max_p, points, at, aql, rql, csv, plot, force, as_json):
         if band:
             typer.echo("  pa = largest Pa over where the mean sits (consumer's worst case), "
                        "pa_lower = smallest (producer's)")
-        if plan.exact_model == "estimate-exact":
+        if plan.exact_model in ("estimate-exact", "k-two-limit-exact"):
             typer.echo("  exact: quadrature over the law of s at the worst split of each level")
         shown = [[f"{100 * row[0]:.4g} %"] + [f"{v:.5f}" for v in row[1:]] for row in rows]
         typer.echo(common.table(shown, header))
@@ -293,7 +293,7 @@ def judge_sample(plan, values) -> dict:
         elif n >= 3:
             est[side] = float(estimate_unknown(qv, n))
     p_hat = sum(est.values()) if len(est) == len(q) else None
-    if plan.limit == "both" and not known:
+    if plan.limit == "both" and not known and plan.rule == "estimate":
         accept = p_hat <= plan.m
         out["statistic"] = {"estimate_total": p_hat, "m": plan.m, "q": q,
                             "rule": "accept when the estimated fraction beyond both limits "
