@@ -198,9 +198,16 @@ def compare(
         q = r["plan_quality"]
         per = r["defects"]
         asn = r.get("asn")
+        counts = r.get("plan_quality_counts")
+
+        def level(side):
+            if counts is None:
+                return format_level(q[side], per)
+            return f"D = {counts[side]} (Pa {r['plan_quality_pa'][side]:.3f})"
+
         rows.append([r["label"], r["model"], f"{r['pa_aql']:.4f}", format_pct(r["alpha"]),
-                     f"{r['pa_rql']:.4f}", format_pct(r["beta"]), format_level(q["producer"], per),
-                     format_level(q["indifference"], per), format_level(q["consumer"], per),
+                     f"{r['pa_rql']:.4f}", format_pct(r["beta"]), level("producer"),
+                     level("indifference"), level("consumer"),
                      f"{asn['aql']:.1f} / {asn['rql']:.1f}" if asn else "fixed",
                      "yes" if r["meets"] else "NO"])
     typer.echo(common.table(rows, ["plan", "model", "Pa(AQL)", "alpha", "Pa(RQL)", "beta",
