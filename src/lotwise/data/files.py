@@ -26,8 +26,11 @@ __all__ = ["RECORD", "write_bytes", "write_text", "save_figure", "check_writable
 RECORD = ".lotwise-files.json"
 
 
-def _digest(data: bytes) -> str:
-    return hashlib.sha256(data).hexdigest()
+def _digest(data) -> str:
+    h = hashlib.sha256()
+    for part in [data] if isinstance(data, bytes) else data:
+        h.update(part)
+    return h.hexdigest()
 
 
 def _read_record(folder: Path) -> dict:
@@ -37,11 +40,11 @@ def _read_record(folder: Path) -> dict:
         return {}
 
 
-def _atomic(path: Path, data: bytes) -> None:
+def _atomic(path: Path, data) -> None:
     fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
     try:
         with os.fdopen(fd, "wb") as fh:
-            fh.write(data)
+            fh.writelines([data] if isinstance(data, bytes) else data)
             fh.flush()
             os.fsync(fh.fileno())
         os.replace(tmp, path)
@@ -70,8 +73,9 @@ def check_writable(path, *, force: bool = False, option: str = "output") -> Path
     return path
 
 
-def write_bytes(path, data: bytes, *, force: bool = False, option: str = "output") -> Path:
-    """Write ``data`` to ``path`` atomically, respecting overwrite protection."""
+def write_bytes(path, data, *, force: bool = False, option: str = "output") -> Path:
+    """Write ``data`` (bytes, or a list of bytes written one after the other)
+    to ``path`` atomically, respecting overwrite protection."""
     path = Path(path)
     if not path.parent.exists():
         try:
