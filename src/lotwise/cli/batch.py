@@ -60,7 +60,7 @@ def batch(
     if out == "-":
         sys.stdout.writelines(res.csv_chunks(table))
     else:
-        write_bytes(out, [p.encode("utf-8") for p in res.csv_chunks(table)], force=force,
+        write_bytes(out, (p.encode("utf-8") for p in res.csv_chunks(table)), force=force,
                     option="--out")
     errors = table["error"] != ""
     lines = df["_line"].to_numpy()

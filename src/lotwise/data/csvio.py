@@ -230,13 +230,13 @@ def _field_counts(buf, delim: int):
     close a whole field, a line end inside quotes). Delimiters between
     quotes do not count; worked in slices so no array of the file's size is
     made."""
-    nl = np.flatnonzero(buf == 10)
+    step = 1 << 23
+    nl = _positions(buf, 10, step)
     ends = np.r_[nl, buf.size] if (buf.size and buf[-1] != 10) else nl
-    q = np.flatnonzero(buf == 34)
+    q = _positions(buf, 34, step)
     if q.size and not _plain_quotes(buf, q, delim, ends):
         return None
     counts = np.zeros(ends.size, dtype=np.int64)
-    step = 1 << 23
     for s in range(0, buf.size, step):
         pos = np.flatnonzero(buf[s:s + step] == delim) + s
         if q.size:
@@ -244,6 +244,12 @@ def _field_counts(buf, delim: int):
         if pos.size:
             counts += np.diff(np.searchsorted(pos, np.r_[-1, ends]))
     return counts + 1, ends.size
+
+
+def _positions(buf, byte: int, step: int):
+    """Where ``byte`` occurs in ``buf``, found slice by slice."""
+    found = [np.flatnonzero(buf[s:s + step] == byte) + s for s in range(0, buf.size, step)]
+    return np.concatenate(found) if found else np.zeros(0, dtype=np.int64)
 
 
 def _plain_quotes(buf, q, delim: int, ends) -> bool:
@@ -275,23 +281,18 @@ def _fast_columns(raw: bytes, source: str, option: str):
         return None
     counts, n_lines = found
     width_all = int(counts.max())
+    factors = None
     for enc in ("utf-8", "latin-1"):
         try:
-            df = pd.read_csv(io.BytesIO(raw), sep=delim, header=None, names=list(range(width_all)),
-                             dtype=str, na_filter=False, skip_blank_lines=False,
-                             quoting=csv.QUOTE_MINIMAL, encoding=enc, engine="c")
+            factors = _read_factors(raw, delim, width_all, enc)
             break
         except UnicodeDecodeError:
             continue
-    if len(df) != n_lines:
+    if factors is None or factors[0][0].size != n_lines:
         return None
-    factors = []
-    blank = np.ones(len(df), dtype=bool)
-    for col in list(df.columns):  # each column as codes into its distinct texts
-        codes, texts = pd.factorize(df.pop(col).to_numpy(dtype=object))
-        texts = np.asarray(texts, dtype=object)
+    blank = np.ones(n_lines, dtype=bool)
+    for codes, texts in factors:
         blank &= np.array([not v.strip() for v in texts.tolist()], dtype=bool)[codes]
-        factors.append((codes, texts))
     rows = np.flatnonzero(~blank)
     if rows.size < 1:
         return None
@@ -308,6 +309,34 @@ def _fast_columns(raw: bytes, source: str, option: str):
             zip(names, factors)}
     return Columns(source=source, raw_header=header, header=names, data=data,
                    lines=rows.astype(np.int64) + 1, problems=problems)
+
+
+def _read_factors(raw: bytes, delim: str, width: int, encoding: str, rows: int = 50_000):
+    """Every column of the file as ``(codes, distinct texts)``, read by the
+    pandas C reader in slices of ``rows`` lines so that only one slice is
+    held as Python strings at a time."""
+    import pandas as pd
+
+    parts: list = [[] for _ in range(width)]
+    reader = pd.read_csv(io.BytesIO(raw), sep=delim, header=None, names=list(range(width)),
+                         dtype=str, na_filter=False, skip_blank_lines=False,
+                         quoting=csv.QUOTE_MINIMAL, encoding=encoding, engine="c",
+                         chunksize=rows)
+    with reader:
+        for chunk in reader:
+            for j in range(width):
+                codes, uniq = pd.factorize(chunk.pop(j).to_numpy(dtype=object))
+                parts[j].append((codes.astype(np.int32), np.asarray(uniq, dtype=object)))
+    out = []
+    for pieces in parts:
+        if not pieces:
+            return None
+        texts_all = np.concatenate([u for _, u in pieces])
+        glob, texts = pd.factorize(texts_all)
+        offsets = np.cumsum([0] + [len(u) for _, u in pieces[:-1]])
+        codes = np.concatenate([glob[o + c] for (c, _), o in zip(pieces, offsets)])
+        out.append((codes.astype(np.int32), np.asarray(texts, dtype=object)))
+    return out
 
 
 def _categorical(codes, texts):

@@ -85,12 +85,13 @@ def _column_texts(col):
         codes = np.asarray(col.cat.codes, dtype=np.int64)
         texts = _fields(np.asarray(col.cat.categories, dtype=object).tolist(),
                         col.cat.categories.dtype) + [""]
-        return np.where(codes < 0, len(texts) - 1, codes), np.array(texts, dtype=object)
+        return (np.where(codes < 0, len(texts) - 1, codes).astype(np.int32),
+                np.array(texts, dtype=object))
     text_like = isinstance(col.dtype, pd.StringDtype) or col.dtype == object
     values = col.to_numpy(dtype=object) if text_like else col.array
     codes, uniq = pd.factorize(values, use_na_sentinel=False)
     texts = _fields(list(uniq), col.dtype)
-    return np.asarray(codes, dtype=np.int64), np.array(texts or [""], dtype=object)
+    return np.asarray(codes, dtype=np.int32), np.array(texts or [""], dtype=object)
 
 
 def _merged(cols, m: int) -> list:
@@ -102,12 +103,12 @@ def _merged(cols, m: int) -> list:
     out = [cols[0]]
     for codes, texts in cols[1:]:
         c0, t0 = out[-1]
-        pair, first = pd.factorize(c0 * len(texts) + codes)
+        pair, first = pd.factorize(c0.astype(np.int64) * len(texts) + codes)
         if len(first) <= m // 8:
             first = np.asarray(first, dtype=np.int64)
             joined = [a + "," + b for a, b in zip(t0[first // len(texts)].tolist(),
                                                    texts[first % len(texts)].tolist())]
-            out[-1] = (np.asarray(pair, dtype=np.int64), np.array(joined + [""], dtype=object))
+            out[-1] = (np.asarray(pair, dtype=np.int32), np.array(joined + [""], dtype=object))
         else:
             out.append((codes, texts))
     return out

@@ -26,11 +26,8 @@ __all__ = ["RECORD", "write_bytes", "write_text", "save_figure", "check_writable
 RECORD = ".lotwise-files.json"
 
 
-def _digest(data) -> str:
-    h = hashlib.sha256()
-    for part in [data] if isinstance(data, bytes) else data:
-        h.update(part)
-    return h.hexdigest()
+def _digest(data: bytes) -> str:
+    return hashlib.sha256(data).hexdigest()
 
 
 def _read_record(folder: Path) -> dict:
@@ -40,11 +37,16 @@ def _read_record(folder: Path) -> dict:
         return {}
 
 
-def _atomic(path: Path, data) -> None:
+def _atomic(path: Path, data) -> str:
+    """Write ``data`` (bytes or an iterable of bytes) to ``path`` through a
+    temporary file renamed over it; returns the SHA-256 of what was written."""
     fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
+    h = hashlib.sha256()
     try:
         with os.fdopen(fd, "wb") as fh:
-            fh.writelines([data] if isinstance(data, bytes) else data)
+            for part in [data] if isinstance(data, bytes) else data:
+                fh.write(part)
+                h.update(part)
             fh.flush()
             os.fsync(fh.fileno())
         os.replace(tmp, path)
@@ -54,6 +56,7 @@ def _atomic(path: Path, data) -> None:
         except OSError:
             pass
         raise
+    return h.hexdigest()
 
 
 def check_writable(path, *, force: bool = False, option: str = "output") -> Path:
@@ -74,8 +77,9 @@ def check_writable(path, *, force: bool = False, option: str = "output") -> Path
 
 
 def write_bytes(path, data, *, force: bool = False, option: str = "output") -> Path:
-    """Write ``data`` (bytes, or a list of bytes written one after the other)
-    to ``path`` atomically, respecting overwrite protection."""
+    """Write ``data`` (bytes, or an iterable of bytes written one after the
+    other, never all held at once) to ``path`` atomically, respecting
+    overwrite protection."""
     path = Path(path)
     if not path.parent.exists():
         try:
@@ -85,9 +89,9 @@ def write_bytes(path, data, *, force: bool = False, option: str = "output") -> P
                              f"({exc.strerror})") from None
     check_writable(path, force=force, option=option)
     try:
-        _atomic(path, data)
+        digest = _atomic(path, data)
         record = _read_record(path.parent)
-        record[path.name] = _digest(data)
+        record[path.name] = digest
         _atomic(path.parent / RECORD,
                 (json.dumps(record, indent=1, sort_keys=True) + "\n").encode("utf-8"))
     except OSError as exc:
