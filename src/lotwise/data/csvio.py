@@ -202,20 +202,19 @@ def read_columns(path, option: str) -> Columns:
     pandas C reader (every line one row, its fields counted on the raw
     bytes); anything else goes through :func:`read_table`.
     """
-    raw, source = _raw_bytes(path, option)
-    cols = _fast_columns(raw, source, option) if raw is not None else None
+    cols = None
+    if not hasattr(path, "read"):
+        cols = _fast_columns(_raw_bytes(path, option), path, str(Path(path)))
     if cols is None:
         cols = Columns.of(read_table(path, option))
     return cols
 
 
-def _raw_bytes(path, option):
-    """The file's bytes and its name (``None`` for an open stream)."""
-    if hasattr(path, "read"):
-        return None, option
+def _raw_bytes(path, option) -> bytes:
+    """The bytes of the file at ``path``."""
     p = Path(path)
     try:
-        return p.read_bytes(), str(p)
+        return p.read_bytes()
     except FileNotFoundError:
         raise InputError(f"{option} ({p}) does not exist") from None
     except IsADirectoryError:
@@ -248,8 +247,10 @@ def _field_counts(buf, delim: int):
 
 def _positions(buf, byte: int, step: int):
     """Where ``byte`` occurs in ``buf``, found slice by slice."""
-    found = [np.flatnonzero(buf[s:s + step] == byte) + s for s in range(0, buf.size, step)]
-    return np.concatenate(found) if found else np.zeros(0, dtype=np.int64)
+    kind = np.int32 if buf.size < 2**31 - 1 else np.int64
+    found = [(np.flatnonzero(buf[s:s + step] == byte) + s).astype(kind)
+             for s in range(0, buf.size, step)]
+    return np.concatenate(found) if found else np.zeros(0, dtype=kind)
 
 
 def _plain_quotes(buf, q, delim: int, ends) -> bool:
@@ -264,16 +265,15 @@ def _plain_quotes(buf, q, delim: int, ends) -> bool:
     return bool(np.isin(prev, (delim, 10, 34)).all() and np.isin(nxt, (delim, 10, 13, 34)).all())
 
 
-def _fast_columns(raw: bytes, source: str, option: str):
-    """The pandas C reader's columns, or None where :func:`read_table` must
+def _fast_columns(raw: bytes, path, source: str):
+    """The pandas C reader's columns of the file at ``path`` (whose bytes are
+    ``raw``, dropped once scanned: the caller keeps no reference), or None where :func:`read_table` must
     decide (quotes, carriage returns alone, a header problem, no data)."""
-    import pandas as pd
-
     if raw.startswith(b"\xef\xbb\xbf"):
         raw = raw[3:]
-    if b"\x00" in raw or raw.count(b"\r") != raw.count(b"\r\n") or not raw.strip():
+    if b"\x00" in raw or raw.count(b"\r") != raw.count(b"\r\n") or raw.isspace() or not raw:
         return None
-    first = raw.split(b"\n", 1)[0]
+    first = raw[:raw.find(b"\n")] if b"\n" in raw else raw  # no copy of the whole file
     delim = ";" if (b";" in first and b"," not in first) else ","
     buf = np.frombuffer(raw, dtype=np.uint8)
     found = _field_counts(buf, ord(delim))
@@ -281,10 +281,11 @@ def _fast_columns(raw: bytes, source: str, option: str):
         return None
     counts, n_lines = found
     width_all = int(counts.max())
+    del raw, buf  # the reader streams the file itself
     factors = None
-    for enc in ("utf-8", "latin-1"):
+    for enc in ("utf-8-sig", "latin-1"):
         try:
-            factors = _read_factors(raw, delim, width_all, enc)
+            factors = _read_factors(path, delim, width_all, enc)
             break
         except UnicodeDecodeError:
             continue
@@ -311,14 +312,14 @@ def _fast_columns(raw: bytes, source: str, option: str):
                    lines=rows.astype(np.int64) + 1, problems=problems)
 
 
-def _read_factors(raw: bytes, delim: str, width: int, encoding: str, rows: int = 50_000):
+def _read_factors(path, delim: str, width: int, encoding: str, rows: int = 50_000):
     """Every column of the file as ``(codes, distinct texts)``, read by the
     pandas C reader in slices of ``rows`` lines so that only one slice is
     held as Python strings at a time."""
     import pandas as pd
 
     parts: list = [[] for _ in range(width)]
-    reader = pd.read_csv(io.BytesIO(raw), sep=delim, header=None, names=list(range(width)),
+    reader = pd.read_csv(path, sep=delim, header=None, names=list(range(width)),
                          dtype=str, na_filter=False, skip_blank_lines=False,
                          quoting=csv.QUOTE_MINIMAL, encoding=encoding, engine="c",
                          chunksize=rows)

@@ -406,6 +406,17 @@ class _Cells:
                                        np.array([""], dtype=object))
         return self._factors[name]
 
+    def sorted_categorical(self, name, rows):
+        """Column ``name`` at the rows ``rows`` (a mask) as a pandas
+        ``Categorical`` whose categories are in sorted order (so sorting by
+        it sorts by the text)."""
+        import pandas as pd
+
+        codes, texts = self.factor(name)
+        cats, where = np.unique(texts.astype(str), return_inverse=True)
+        return pd.Categorical.from_codes(where[codes[rows]],
+                                         categories=pd.Index(cats.astype(object), dtype=object))
+
     def get(self, name):
         """Column ``name`` as stripped text (an array of str)."""
         codes, texts = self.factor(name)
@@ -528,8 +539,8 @@ def records_frame(t, *, plans_dir=None) -> LotRecords:
     frame = pd.DataFrame({
         "line": line[good],
         "date": dates[good].reset_index(drop=True),
-        "supplier": cells.get("supplier")[good],
-        "part": cells.get("part")[good],
+        "supplier": cells.sorted_categorical("supplier", good),
+        "part": cells.sorted_categorical("part", good),
         "lot_id": cells.get("lot_id")[good],
         "lot_size": lot[good],
         "sample_size": sample[good],
@@ -682,7 +693,7 @@ def summarise(records: LotRecords, *, confidence: float = 0.95,
     df = df.sort_values(["supplier", "part", "date", "line"], kind="stable")
     df = df.reset_index(drop=True)
     lots = _Lots.of(df)
-    pkeys, pinv = np.unique(lots.keys.astype(str), return_inverse=True)
+    pkeys, pinv = _sorted_codes(lots.keys)
     expect, deviation, notes = _expected_dispositions(lots, plans, pkeys, pinv)
     mismatch = (expect >= 0) & (expect != lots.accepted.astype(np.int8))
     findings = _findings(df, plans, expect, mismatch, deviation, notes)
@@ -715,6 +726,20 @@ def summarise(records: LotRecords, *, confidence: float = 0.95,
                                      confidence=confidence, significance=significance,
                                      chart=chart))
     return RecordsSummary(groups=groups, findings=findings, rows_used=len(df), **done)
+
+
+def _sorted_codes(values):
+    """``np.unique(values.astype(str), return_inverse=True)`` without a
+    fixed-width copy of every value: the distinct values found by hashing,
+    then sorted."""
+    import pandas as pd
+
+    codes, uniq = pd.factorize(values)
+    uniq = np.asarray(uniq, dtype=object).astype(str)
+    order = np.argsort(uniq, kind="stable")
+    rank = np.empty(order.size, dtype=np.int64)
+    rank[order] = np.arange(order.size)
+    return uniq[order], rank[codes]
 
 
 @dataclass(frozen=True, kw_only=True)
