@@ -112,7 +112,8 @@ def save_figure(fig, path, *, force: bool = False, option: str = "--plot", **kwa
     meta = {"png": {"Software": "lotwise"}, "svg": {"Creator": "lotwise"},
             "pdf": {"Creator": "lotwise"}}.get(fmt)
     fig.savefig(buf, format=fmt, metadata=meta, **kwargs)
-    import matplotlib.pyplot as plt
+    import sys
 
-    plt.close(fig)
+    if "matplotlib.pyplot" in sys.modules:  # a pyplot figure of the caller's: release it
+        sys.modules["matplotlib.pyplot"].close(fig)
     return write_bytes(path, buf.getvalue(), force=force, option=option)

@@ -4,8 +4,9 @@ The page is A4 portrait. Text is laid out top to bottom with a cursor;
 tables are aligned in fixed columns; the OC figure sits beside the
 plain-words guarantees. If the content would run past the bottom margin the
 page is laid out again with slightly smaller type, so the sheet is always
-exactly one page. Fonts are embedded as TrueType (``pdf.fonttype = 42``) so
-the numbers can be extracted from the PDF text.
+exactly one page. The text is set in the PDF core font Helvetica
+(:data:`CORE_FONTS`), which every reader has, so nothing is embedded and the
+numbers can be extracted from the PDF text.
 """
 
 from __future__ import annotations
@@ -19,6 +20,11 @@ from lotwise.documents.sheets.figures import aoq_plot, oc_plot
 __all__ = ["render"]
 
 PAGE_W, PAGE_H = 8.27, 11.69  # inches, A4
+
+#: The page's fonts: the PDF core Helvetica (no font file embedded or
+#: subset; the sheet's text is plain ASCII and the minus sign is the hyphen).
+CORE_FONTS = {"pdf.use14corefonts": True, "font.family": "sans-serif",
+              "font.sans-serif": ["Helvetica"], "axes.unicode_minus": False}
 MARGIN = 0.55
 
 
@@ -165,12 +171,26 @@ def _layout(content, pp, scale: float):
 
 def render(content, pp) -> bytes:
     """PDF bytes of exactly one page."""
-    import matplotlib
-
     from lotwise.documents.plots.style import mpl
 
+    import logging
+
     plt = mpl()
-    with matplotlib.rc_context({"pdf.fonttype": 42, "font.family": "DejaVu Sans"}):
+    # The core Helvetica's metrics file calls its regular weight "Medium"; the
+    # font manager warns of the substitution it makes on purpose.
+    fm_log = logging.getLogger("matplotlib.font_manager")
+    level = fm_log.level
+    fm_log.setLevel(logging.ERROR)
+    try:
+        return _render(content, pp, plt)
+    finally:
+        fm_log.setLevel(level)
+
+
+def _render(content, pp, plt) -> bytes:
+    import matplotlib
+
+    with matplotlib.rc_context(CORE_FONTS):
         for scale in (1.0, 0.93, 0.86, 0.8, 0.74, 0.68):
             fig, bottom = _layout(content, pp, scale)
             if bottom >= MARGIN * 0.6:
