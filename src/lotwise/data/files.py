@@ -13,6 +13,7 @@ Every file the tool writes goes through :func:`write_bytes`:
 
 from __future__ import annotations
 
+import contextlib
 import hashlib
 import json
 import os
@@ -59,6 +60,24 @@ def _atomic(path: Path, data) -> str:
     return h.hexdigest()
 
 
+@contextlib.contextmanager
+def _folder_lock(folder: Path):
+    """An exclusive lock on ``folder`` (``flock`` on the folder itself, where
+    the system has it) while its record is read and rewritten."""
+    try:
+        import fcntl
+
+        fd = os.open(folder, os.O_RDONLY)
+    except (ImportError, OSError):
+        yield
+        return
+    try:
+        fcntl.flock(fd, fcntl.LOCK_EX)
+        yield
+    finally:
+        os.close(fd)
+
+
 def check_writable(path, *, force: bool = False, option: str = "output") -> Path:
     """Raise :class:`InputError` if ``path`` holds a file the tool did not write."""
     path = Path(path)
@@ -90,10 +109,11 @@ def write_bytes(path, data, *, force: bool = False, option: str = "output") -> P
     check_writable(path, force=force, option=option)
     try:
         digest = _atomic(path, data)
-        record = _read_record(path.parent)
-        record[path.name] = digest
-        _atomic(path.parent / RECORD,
-                (json.dumps(record, indent=1, sort_keys=True) + "\n").encode("utf-8"))
+        with _folder_lock(path.parent):  # several processes may write into one folder
+            record = _read_record(path.parent)
+            record[path.name] = digest
+            _atomic(path.parent / RECORD,
+                    (json.dumps(record, indent=1, sort_keys=True) + "\n").encode("utf-8"))
     except OSError as exc:
         raise InputError(f"{option} ({path}) cannot be written: {exc.strerror or exc}") from None
     return path

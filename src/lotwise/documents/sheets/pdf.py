@@ -87,7 +87,7 @@ def _hline(fig, x0, x1, y):
                   linewidth=0.6, transform=fig.transFigure)
 
 
-def _layout(content, pp, scale: float):
+def _layout(content, pp, scale: float, figures: bool = True):
     from lotwise.documents.plots.style import mpl
 
     plt = mpl()
@@ -124,12 +124,14 @@ def _layout(content, pp, scale: float):
         plot_w = 4.1 if rect else 4.05
         ax = fig.add_axes([MARGIN / PAGE_W + 0.045, (top - plot_h) / PAGE_H + 0.028,
                            plot_w / PAGE_W, (plot_h - 0.35) / PAGE_H])
-        oc_plot(pp, ax=ax)
+        if figures:  # a trial layout only measures the text
+            oc_plot(pp, ax=ax)
         if rect:
             ax2 = fig.add_axes([(MARGIN + plot_w + 0.75) / PAGE_W, (top - plot_h) / PAGE_H
                                 + 0.028, (PAGE_W - 2 * MARGIN - plot_w - 0.8) / PAGE_W,
                                 (plot_h - 0.5) / PAGE_H])
-            aoq_plot(pp, ax=ax2)
+            if figures:
+                aoq_plot(pp, ax=ax2)
             for t in (ax2.title, ax2._left_title):
                 t.set_fontsize(7.5)
             ax2.xaxis.label.set_fontsize(7)
@@ -192,10 +194,12 @@ def _render(content, pp, plt) -> bytes:
 
     with matplotlib.rc_context(CORE_FONTS):
         for scale in (1.0, 0.93, 0.86, 0.8, 0.74, 0.68):
-            fig, bottom = _layout(content, pp, scale)
+            # the cursor does not depend on the figures: draw them once, at the end
+            fig, bottom = _layout(content, pp, scale, figures=False)
+            plt.close(fig)
             if bottom >= MARGIN * 0.6:
                 break
-            plt.close(fig)
+        fig, _ = _layout(content, pp, scale)
         buf = io.BytesIO()
         fig.savefig(buf, format="pdf", metadata={"Creator": "lotwise",
                                                  "Title": content.title})
