@@ -227,17 +227,16 @@ def demo(
     force: bool = typer.Option(False, "--force", help="Overwrite files lotwise did not write."),
 ):
     """Run the main job end to end on the invented demo scenario in plans/."""
-    from lotwise.documents.sheets import write_sheets
-
     plans = _project_root() / "plans"
     if not plans.is_dir():
         raise InputError(f"demo: the scenario folder {plans} is missing; run lotwise from a "
                          "clone of the project (pip install -e .)")
     typer.echo("lotwise demo: receiving inspection at Quillmoor Pumps (an invented company), "
                f"{len(list(plans.glob('*.toml')))} purchased parts from {plans}\n")
-    results = []
-    for pp in _resolve_files([plans]):
-        results.append((pp, write_sheets(pp, out, force=force)))
+    from lotwise.documents.planfile import plan_files
+    from lotwise.documents.sheets.many import write_many
+
+    results = write_many(plan_files([plans]), out, force=force)
     _summary(results)
     short = [pp.request.part_id for pp, _ in results if not pp.meets]
     typer.echo(f"\n  Sheets written to {out}/ (PDF, Markdown, OC plot and table, pick list).")

@@ -41,17 +41,33 @@ STYLE = {
 MARKERS = ("o", "s", "^", "D", "v", "P")
 
 
+class _Figures:
+    """The three pyplot calls the plots make (``figure``, ``subplots``,
+    ``close``) on matplotlib's object API: a ``Figure`` with an Agg canvas,
+    never pyplot (no GUI backend, no global figure registry, a faster
+    import). Saving to PDF or SVG picks that backend by the file format."""
+
+    @staticmethod
+    def figure(figsize=None, dpi=None):
+        from matplotlib.backends.backend_agg import FigureCanvasAgg
+        from matplotlib.figure import Figure
+
+        fig = Figure(figsize=figsize, dpi=dpi)
+        FigureCanvasAgg(fig)
+        return fig
+
+    def subplots(self, nrows=1, ncols=1, *, figsize=None, dpi=None, **kw):
+        fig = self.figure(figsize=figsize, dpi=dpi)
+        return fig, fig.subplots(nrows, ncols, **kw)
+
+    @staticmethod
+    def close(fig) -> None:
+        """Nothing to release: the figure is not registered anywhere."""
+
+
 def mpl():
-    import matplotlib
-
-    if matplotlib.get_backend().lower() not in ("agg", "pdf", "svg", "module://matplotlib_inline.backend_inline"):
-        try:
-            matplotlib.use("Agg")
-        except Exception:  # pragma: no cover - a backend already chosen interactively
-            pass
-    import matplotlib.pyplot as plt
-
-    return plt
+    """The figure factory of every plot (see :class:`_Figures`)."""
+    return _Figures()
 
 
 def new_axes(ax=None, size=(6.4, 4.0)):
