@@ -13,7 +13,8 @@ from hypothesis import strategies as st
 
 from generated import catalogue
 from lotwise.analysis.audit import risks_under
-from lotwise.data.batch import OUTPUT, design_catalogue, design_many, read_catalogue
+from lotwise.data.batch import OUTPUT, design_catalogue, read_catalogue
+from lotwise.families.single_many import design_many
 from lotwise.cli import main
 from lotwise.families.single import design_single
 from lotwise.core.quantities import Infeasible, InputError, parse_level, parse_risk
@@ -95,13 +96,15 @@ def test_identical_designs_are_computed_once(monkeypatch):
     import lotwise.data.batch as batch
 
     sizes = []
-    real = batch.design_many
+    import lotwise.families.single_many as single_many
+
+    real = single_many.design_many
 
     def counting(**kw):
         sizes.append(len(np.atleast_1d(kw["aql"])))
         return real(**kw)
 
-    monkeypatch.setattr(batch, "design_many", counting)
+    monkeypatch.setattr(single_many, "design_many", counting)
     cat = pd.DataFrame({"part": [f"P{i}" for i in range(500)], "lot_size": ["1000"] * 500,
                         "aql": ["1%"] * 250 + ["0.01"] * 250, "rql": ["6%"] * 500})
     res = batch.design_catalogue(cat)

@@ -114,20 +114,17 @@ True
 
 from __future__ import annotations
 
-import importlib
 import math
 import sys
 from dataclasses import dataclass, field
 
 import numpy as np
-from scipy import special
 
-from lotwise.core import kernels as oc
 from lotwise.core.types import Scope
 from lotwise.core.quantities import InputError, Infeasible, parse_count, parse_level, parse_risk
 
-__all__ = ["REQUIRED", "OPTIONAL", "OUTPUT", "SCHEMES", "SAFETY_NOTE", "BatchResult",
-           "design_many", "design_catalogue", "read_catalogue", "catalogue_frame", "parse_rate",
+__all__ = ["REQUIRED", "OPTIONAL", "OUTPUT", "SAFETY_NOTE", "BatchResult",
+           "design_catalogue", "read_catalogue", "catalogue_frame", "parse_rate",
            "progress_bar"]
 
 REQUIRED = ("part", "lot_size", "aql", "rql")
@@ -136,304 +133,14 @@ OPTIONAL = ("alpha", "beta", "scheme", "model", "fixed_c", "max_n", "defects",
 OUTPUT = ("n", "c", "plan", "model_used", "alpha_actual", "beta_actual", "full_inspection",
           "units_per_year", "error")
 
-#: Plan families the batch designs by other means than the family registry:
-#: ``scheme -> "module:function"`` or ``None`` for the built-in array search
-#: (single sampling). Every other family with a designer in
-#: :data:`lotwise.families.base.REGISTRY` is designed by its own designer
-#: (:func:`design_registered`). A function here takes one normalised problem
-#: as keywords (``aql, rql, alpha, beta, lot_size, model, defects, fixed_c,
-#: max_n``) and returns a dict with the keys ``n``, ``c``, ``plan``
-#: (notation), ``alpha_actual``, ``beta_actual``, ``full_inspection``; it
-#: raises :class:`~lotwise.core.quantities.Infeasible` or
-#: :class:`~lotwise.core.quantities.InputError` with the reason.
-SCHEMES: dict[str, str | None] = {
-    "single": None,
-}
-
 #: Printed with every batch: what sampling plans cannot do.
 SAFETY_NOTE = ("Sampling cannot guarantee a lot free of nonconforming items. Critical "
                "characteristics need 100 % inspection or stricter plans as contract and "
                "regulation require; defer to your applicable standards and qualified quality "
                "professionals.")
 
-_TOL = 1e-12  # the slack design_single allows at a risk boundary
 _YES = {"yes", "y", "true", "1", "x"}
 _NO = {"no", "n", "false", "0", ""}
-
-
-# --- the array search ---------------------------------------------------------
-
-def _pa(model: str, n, c, level, count, N):
-    """``Pa`` under ``model``; ``level`` for binomial/Poisson, ``count`` and
-    ``N`` for the hypergeometric."""
-    if model == "binomial":
-        return np.asarray(oc.pa_binomial(n, c, level), dtype=float)
-    if model == "poisson":
-        return np.asarray(oc.pa_poisson(n, c, level), dtype=float)
-    return np.asarray(oc.pa_hypergeometric(n, c, N, count), dtype=float)
-
-
-def _n_min(model, c, rql, d2, N, beta, cap, fails_aql=None):
-    """Smallest ``n`` with ``Pa(RQL; n, c) <= beta`` for each element (flat
-    arrays); ``-1`` where none exists up to ``cap`` (``inf`` for none).
-
-    Integer bisection (``Pa`` falls in ``n``, documented in
-    :mod:`lotwise.core.kernels`) on a bracket around the Poisson guess; the guessed ends
-    are checked and replaced by the full range where they fail.
-
-    ``fails_aql(idx, n)``, when given, tells where ``(n, c)`` misses the
-    producer's risk. Once a lower end ``lo`` is known to miss the consumer's
-    risk, ``n_min > lo``; if ``(lo + 1, c)`` already misses the producer's
-    risk, so does ``(n_min, c)`` (``Pa`` falls in ``n``), and the element is
-    returned as ``-2`` (a sample size exists, the acceptance number cannot
-    work) without bisecting.
-    """
-    c = c.astype(float)
-    size = c.shape[0]
-    if size == 0:
-        return np.zeros(0, dtype=np.int64)
-    pa = lambda idx, n: _pa(model, n, c[idx], rql[idx], d2[idx], N[idx])  # noqa: E731
-    bad = lambda idx, n: pa(idx, n) > beta[idx] + _TOL  # noqa: E731
-    # Bracket: the Poisson size lambda/p and lambda/(-log(1 - p)) (exact for
-    # c = 0), with the finite-lot factor 1/(1 + n/N) on the lower one; as a
-    # rule n_min lies between them. Each end is checked before it is used.
-    lam = special.gammainccinv(c + 1.0, beta)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        p = d2 / N if model == "hypergeometric" else rql
-        upper_g = lam / p
-        lower_g = upper_g if model == "poisson" else lam / -np.log1p(-p)
-        if model == "hypergeometric":
-            lower_g = lower_g / (1.0 + np.maximum(lower_g - 1.0, 0.0) / N)
-    upper_g = np.where(np.isfinite(upper_g), upper_g, c + 1.0)
-    lower_g = np.where(np.isfinite(lower_g), lower_g, c)
-    floor_ = c.copy()  # n = c accepts every lot: Pa = 1 > beta
-    hi = np.minimum(np.maximum(np.ceil(upper_g) + 1.0, c + 1.0), cap)
-    lo = np.minimum(np.maximum(np.floor(lower_g) - 1.0, floor_), hi - 1.0)
-    hi_known = np.zeros(size, dtype=bool)
-    # 1. The lower end must still miss beta; where it does not, n_min <= lo.
-    chk = np.flatnonzero(lo > floor_)
-    if chk.size:
-        wrong = chk[~bad(chk, lo[chk])]
-        hi[wrong] = lo[wrong]
-        lo[wrong] = floor_[wrong]
-        hi_known[wrong] = True
-    # 2. n_min > lo; if (lo + 1, c) already misses alpha, c cannot work.
-    doomed = np.zeros(size, dtype=bool)
-    if fails_aql is not None:
-        probe = np.flatnonzero(hi - lo > 1)
-        if probe.size:
-            doomed[probe[fails_aql(probe, lo[probe] + 1.0)]] = True
-    # 3. The upper end must meet beta; grow it where it does not.
-    ok_hi = np.ones(size, dtype=bool)
-    chk = np.flatnonzero(~hi_known & ~doomed)
-    if chk.size:
-        ok_hi[chk] = ~bad(chk, hi[chk])
-    grow = np.flatnonzero(~ok_hi & (hi < cap))
-    while grow.size:
-        lo[grow] = hi[grow]
-        hi[grow] = np.minimum(hi[grow] * 2.0, cap[grow])
-        good = ~bad(grow, hi[grow])
-        ok_hi[grow] = good
-        grow = grow[~good & (hi[grow] < cap[grow])]
-    none = ~ok_hi  # no n up to the cap meets beta
-    act = np.flatnonzero(ok_hi & ~doomed & (hi - lo > 1))
-    while act.size:
-        mid = np.floor((lo[act] + hi[act]) / 2.0)
-        good = ~bad(act, mid)
-        hi[act] = np.where(good, mid, hi[act])
-        lo[act] = np.where(good, lo[act], mid)
-        act = act[hi[act] - lo[act] > 1]
-    out = hi.astype(np.int64)
-    out[doomed] = -2
-    out[none] = -1
-    return out
-
-
-def _first_c_guess(aql, rql, alpha, beta):
-    """Acceptance number a Poisson two-point design would pick (sizes the
-    first block of the scan only)."""
-    ratio = rql / aql
-    cs = np.arange(0, 257, dtype=float)
-    out = np.full(aql.shape, 256, dtype=np.int64)
-    for a, b in set(zip(alpha.tolist(), beta.tolist())):
-        sel = (alpha == a) & (beta == b)
-        r = special.gammainccinv(cs + 1.0, b) / special.gammainccinv(cs + 1.0, 1.0 - a)
-        # r falls in c: the first c with r(c) <= ratio
-        k = np.searchsorted(-r, -ratio[sel], side="left")
-        out[sel] = np.minimum(k, 256)
-    return out
-
-
-def design_many(*, model: str, aql, rql, alpha, beta, lot_size=None, fixed_c=None,
-                c_cap: int = 10_000_000):
-    """Smallest single plans for many design problems under one model.
-
-    Parameters
-    ----------
-    model : {'hypergeometric', 'binomial', 'poisson'}
-    aql, rql, alpha, beta : array_like
-        Targets, one element per problem (validated by the caller:
-        ``aql < rql``, ``alpha + beta < 1``).
-    lot_size : array_like, optional
-        Lot sizes (required for the hypergeometric model).
-    fixed_c : array_like of int, optional
-        Fixed acceptance numbers, ``-1`` where free.
-
-    Returns
-    -------
-    n, c : ndarray of int
-        The plans; ``-1`` where the array search settles nothing (the caller
-        hands those problems to :func:`design_single` for its verdict).
-    alpha_actual, beta_actual : ndarray
-        The plans' risks under ``model`` (NaN where unsettled).
-
-    Examples
-    --------
-    >>> n, c, a, b = design_many(model="binomial", aql=[0.01, 0.02], rql=[0.06, 0.15],
-    ...                          alpha=[0.05, 0.10], beta=[0.10, 0.20])
-    >>> n.tolist(), c.tolist()
-    ([110, 19], [3, 1])
-    """
-    pr = _Problems.build(model=model, aql=aql, rql=rql, alpha=alpha, beta=beta,
-                         lot_size=lot_size, c_cap=c_cap)
-    m = pr.aql.size
-    fixed = np.full(m, -1, dtype=np.int64) if fixed_c is None else \
-        np.asarray(fixed_c, dtype=np.int64).ravel()
-    n_out = np.full(m, -1, dtype=np.int64)
-    c_out = np.full(m, -1, dtype=np.int64)
-    _search_fixed_c(pr, fixed, n_out, c_out)
-    _scan_free_c(pr, np.flatnonzero(fixed < 0), n_out, c_out)
-    a_act, b_act = pr.risks(n_out, c_out)
-    return n_out, c_out, a_act, b_act
-
-
-@dataclass(frozen=True, kw_only=True)
-class _Problems:
-    """The design problems of one :func:`design_many` call under one model,
-    as flat arrays (one element per problem)."""
-
-    model: str
-    aql: np.ndarray
-    rql: np.ndarray
-    alpha: np.ndarray
-    beta: np.ndarray
-    N: np.ndarray        # lot sizes (1 for the binomial and Poisson models)
-    d1: np.ndarray       # lot counts at the AQL (rounded up), hypergeometric
-    d2: np.ndarray       # lot counts at the RQL (rounded down), hypergeometric
-    cap: np.ndarray      # largest sample size
-    c_limit: np.ndarray  # acceptance numbers from here on cannot work
-
-    @classmethod
-    def build(cls, *, model, aql, rql, alpha, beta, lot_size, c_cap) -> "_Problems":
-        aql = np.asarray(aql, dtype=float).ravel()
-        rql = np.asarray(rql, dtype=float).ravel()
-        m = aql.size
-        alpha = np.broadcast_to(np.asarray(alpha, dtype=float), (m,)).copy()
-        beta = np.broadcast_to(np.asarray(beta, dtype=float), (m,)).copy()
-        if model == "hypergeometric":
-            N = np.asarray(lot_size, dtype=float).ravel()
-            d1 = _counts(aql, N, "up")
-            d2 = _counts(rql, N, "down")
-            cap = N.copy()
-            c_limit = d2.copy()  # c >= D2 accepts every lot at the RQL
-        else:
-            N = np.ones(m)
-            d1 = d2 = np.zeros(m)
-            cap = np.full(m, np.inf)
-            c_limit = np.full(m, float(c_cap))
-        return cls(model=model, aql=aql, rql=rql, alpha=alpha, beta=beta, N=N, d1=d1, d2=d2,
-                   cap=cap, c_limit=c_limit)
-
-    def aql_ok(self, rows, n, c):
-        """Where ``(n, c)`` meets the producer's risk, for problems ``rows``."""
-        pa = _pa(self.model, n, c, self.aql[rows], self.d1[rows], self.N[rows])
-        return pa >= 1.0 - self.alpha[rows] - _TOL
-
-    def n_min(self, rows, c):
-        """:func:`_n_min` for problems ``rows`` and acceptance numbers ``c``."""
-        def fails(idx, n):
-            return ~self.aql_ok(rows[idx], n, c[idx])
-
-        return _n_min(self.model, c, self.rql[rows], self.d2[rows], self.N[rows],
-                      self.beta[rows], self.cap[rows], fails)
-
-    def risks(self, n_out, c_out):
-        """``(alpha_actual, beta_actual)`` of the plans found (NaN where none)."""
-        m = self.aql.size
-        ok = n_out >= 0
-        a_act = np.full(m, np.nan)
-        b_act = np.full(m, np.nan)
-        if ok.any():
-            i = np.flatnonzero(ok)
-            a_act[i] = 1.0 - _pa(self.model, n_out[i], c_out[i], self.aql[i], self.d1[i],
-                                 self.N[i])
-            b_act[i] = _pa(self.model, n_out[i], c_out[i], self.rql[i], self.d2[i], self.N[i])
-        return a_act, b_act
-
-
-def _search_fixed_c(pr: _Problems, fixed, n_out, c_out) -> None:
-    """Fixed acceptance numbers: one ``n`` each, written into ``n_out``/``c_out``."""
-    fx = np.flatnonzero((fixed >= 0) & (fixed < pr.c_limit))
-    if not fx.size:
-        return
-    nm = pr.n_min(fx, fixed[fx])
-    have = nm >= 0  # -2: the fixed c cannot meet alpha; left to design_single
-    good = np.zeros(fx.size, dtype=bool)
-    good[have] = pr.aql_ok(fx[have], nm[have], fixed[fx][have])
-    n_out[fx[good]] = nm[good]
-    c_out[fx[good]] = fixed[fx][good]
-
-
-def _scan_free_c(pr: _Problems, rows, n_out, c_out) -> None:
-    """Free acceptance numbers: scan ``c`` in blocks, all ``rows`` at once; the
-    first ``c`` whose smallest ``n`` meets the producer's risk gives the plan."""
-    if not rows.size:
-        return
-    start = np.zeros(rows.size, dtype=np.int64)
-    width = np.clip(_first_c_guess(pr.aql[rows], pr.rql[rows], pr.alpha[rows], pr.beta[rows])
-                    + 3, 4, 64)
-    while rows.size:
-        lim = pr.c_limit[rows]
-        width = np.minimum(width, np.maximum(lim - start, 0)).astype(np.int64)
-        owner = np.repeat(np.arange(rows.size), width)
-        offset = np.arange(owner.size) - np.repeat(np.cumsum(width) - width, width)
-        cs = start[owner] + offset
-        r_of = rows[owner]
-        nm = pr.n_min(r_of, cs)
-        have = nm >= 0
-        good = np.zeros(owner.size, dtype=bool)
-        good[have] = pr.aql_ok(r_of[have], nm[have], cs[have])
-        hit = np.flatnonzero(good)
-        done = np.zeros(rows.size, dtype=bool)
-        if hit.size:
-            first_owner, first_at = np.unique(owner[hit], return_index=True)
-            pick = hit[first_at]
-            n_out[rows[first_owner]] = nm[pick]
-            c_out[rows[first_owner]] = cs[pick]
-            done[first_owner] = True
-        # A block whose last c has no n under the cap ends the search (n_min
-        # never decreases in c); so does reaching the acceptance-number limit.
-        last_none = np.zeros(rows.size, dtype=bool)
-        if owner.size:
-            ends = np.cumsum(width) - 1
-            nz = width > 0
-            last_none[nz] = nm[ends[nz]] == -1
-        start = start + width
-        stop = done | last_none | (start >= lim) | (width == 0)
-        keep = ~stop
-        rows, start, width = rows[keep], start[keep], np.minimum(width[keep] * 2, 4096)
-
-
-def _counts(level, N, rounding):
-    """Vectorised :func:`lotwise.core.kernels.lot_count` for per-row lot sizes."""
-    x = level * N
-    r = np.round(x)
-    whole = np.abs(x - r) <= 1e-9 * np.maximum(1.0, np.abs(x))
-    if rounding == "up":
-        out = np.where(whole, r, np.ceil(x))
-    else:
-        out = np.where(whole, r, np.floor(x))
-    return np.clip(out, 0, N)
 
 
 # --- the catalogue ------------------------------------------------------------
@@ -874,30 +581,38 @@ def _solve(good, sol: _Designs, rows_ok, progress, chunk: int) -> int:
 
 
 def _solve_by_arrays(u, usol: _Designs, progress, chunk: int) -> int:
-    """The array search (:func:`design_many`) for the problems it can take;
-    returns how many problems it was given."""
-    # Nonconformities per unit (c may exceed n) go to the single designer.
-    simple = ((u["scheme"] == "single") & (u["max_n"] == 0) & (u["rql"] > u["aql"])
+    """The families' array searches (``Family.design_many``, e.g. single plans) for the
+    problems they can take; returns how many problems they were given."""
+    from lotwise.families.base import family
+    from lotwise.families.single_many import whole_counts
+
+    many = {s: family(s).array_designer() for s in u["scheme"].unique()}
+    many = {s: f for s, f in many.items() if f is not None}
+    # Nonconformities per unit (c may exceed n) and a largest sample go to the
+    # family's own designer.
+    simple = (u["scheme"].isin(list(many)) & (u["max_n"] == 0) & (u["rql"] > u["aql"])
               & (u["alpha"] + u["beta"] < 1.0) & ~u["defects"].astype(bool)).to_numpy().copy()
     hyper = (u["model"] == "hypergeometric").to_numpy()
     if hyper.any():
         Nh = u["lot"].to_numpy(dtype=float)
-        d1 = _counts(u["aql"].to_numpy(), Nh, "up")
-        d2 = _counts(u["rql"].to_numpy(), Nh, "down")
+        d1 = whole_counts(u["aql"].to_numpy(), Nh, "up")
+        d2 = whole_counts(u["rql"].to_numpy(), Nh, "down")
         simple &= ~hyper | ((d2 >= 1) & (d1 < d2))
     done = 0
-    for mdl in ("hypergeometric", "binomial", "poisson"):
-        idx = np.flatnonzero(simple & (u["model"] == mdl).to_numpy())
-        for s in range(0, idx.size, chunk):
-            part = idx[s:s + chunk]
-            n_, c_, a_, b_ = design_many(
-                model=mdl, aql=u["aql"].to_numpy()[part], rql=u["rql"].to_numpy()[part],
-                alpha=u["alpha"].to_numpy()[part], beta=u["beta"].to_numpy()[part],
-                lot_size=u["lot"].to_numpy()[part], fixed_c=u["fixed_c"].to_numpy()[part])
-            usol.n[part], usol.c[part], usol.alpha[part], usol.beta[part] = n_, c_, a_, b_
-            done += part.size
-            if progress is not None:
-                progress(done, len(u))
+    for scheme, design_many in many.items():
+        mine = simple & (u["scheme"] == scheme).to_numpy()
+        for mdl in ("hypergeometric", "binomial", "poisson"):
+            idx = np.flatnonzero(mine & (u["model"] == mdl).to_numpy())
+            for s in range(0, idx.size, chunk):
+                part = idx[s:s + chunk]
+                n_, c_, a_, b_ = design_many(
+                    model=mdl, aql=u["aql"].to_numpy()[part], rql=u["rql"].to_numpy()[part],
+                    alpha=u["alpha"].to_numpy()[part], beta=u["beta"].to_numpy()[part],
+                    lot_size=u["lot"].to_numpy()[part], fixed_c=u["fixed_c"].to_numpy()[part])
+                usol.n[part], usol.c[part], usol.alpha[part], usol.beta[part] = n_, c_, a_, b_
+                done += part.size
+                if progress is not None:
+                    progress(done, len(u))
     return done
 
 
@@ -951,7 +666,7 @@ def _scheme(v):
     from lotwise.families.base import designable
 
     s = str(v).strip().lower()
-    names = list(dict.fromkeys(list(SCHEMES) + designable()))
+    names = designable()
     if s not in names:
         raise InputError(f"scheme ({v}) must be one of: {', '.join(names)}")
     return s
@@ -1019,18 +734,24 @@ def design_registered(*, scheme: str, aql: float, rql: float, alpha: float, beta
     """One catalogue problem through the designer of family ``scheme`` (the
     registry's common signature) and judged as ``lotwise check`` judges it.
 
-    Returns the dict of a :data:`SCHEMES` function: ``n`` is the most units
-    one lot may take (the sample size of a fixed-sample plan), ``c`` is -1
-    (no single acceptance number), ``model`` the model the plan is judged by.
+    Returns a dict with the keys ``n`` (the most units one lot may take: the
+    sample size of a fixed-sample plan), ``c`` (the plan's one acceptance
+    number, -1 for plans without one), ``plan`` (notation), ``model`` (the
+    model the plan is judged by), ``alpha_actual``, ``beta_actual`` and
+    ``full_inspection``; raises Infeasible or InputError with the reason.
     """
     from lotwise.analysis.compare import plan_risks
     from lotwise.core.types import Targets
-    from lotwise.families.base import family
+    from lotwise.families.base import families, family
 
     fam = family(scheme, "scheme")
-    if fixed_c is not None:
-        raise InputError(f"fixed_c ({fixed_c}) applies to scheme single, not to {scheme}")
     kw = dict(options)
+    if fixed_c is not None:
+        if "c" not in fam.design_options:
+            takes = [f.name for f in families() if "c" in f.design_options]
+            raise InputError(f"fixed_c ({fixed_c}) applies to scheme {' or '.join(takes)}, "
+                             f"not to {scheme}")
+        kw["c"] = fixed_c
     if max_n is not None:
         if "max_n" not in fam.design_options:
             raise InputError(f"max_n ({max_n}) does not apply to scheme {scheme}")
@@ -1041,47 +762,31 @@ def design_registered(*, scheme: str, aql: float, rql: float, alpha: float, beta
     except InputError as exc:  # name the catalogue's columns, not the command's options
         msg = str(exc)
         for key in fam.design_options:
-            msg = msg.replace(f"--{key.replace('_', '-')} ", f"{key} ")
+            column = "fixed_c" if key == "c" else key
+            msg = msg.replace(f"--{key.replace('_', '-')} ", f"{column} ")
         raise InputError(msg) from None
     plan = d.plan
     targets = Targets(aql=aql, rql=rql, alpha=alpha, beta=beta)
     mdl, pa_aql, pa_rql = plan_risks(plan, targets, Scope(lot_size=lot_size, defects=defects),
                                      model)
-    return {"n": int(plan.max_sample), "c": -1, "plan": plan.notation(), "model": mdl,
+    c = plan.sole_acceptance_number
+    return {"n": int(plan.max_sample), "c": -1 if c is None else int(c),
+            "plan": plan.notation(), "model": mdl,
             "alpha_actual": 1.0 - pa_aql, "beta_actual": pa_rql,
             "full_inspection": bool(lot_size and plan.max_sample >= lot_size)}
 
 
 def _design_one(row) -> dict:
-    """One problem through :func:`design_single` (or a registered scheme)."""
-    if row["scheme"] not in SCHEMES:
-        import json
+    """One problem through its family's designer (:func:`design_registered`)."""
+    import json
 
-        return design_registered(
-            scheme=row["scheme"], aql=float(row["aql"]), rql=float(row["rql"]),
-            alpha=float(row["alpha"]), beta=float(row["beta"]),
-            lot_size=int(row["lot"]) or None, model=row["model"], defects=bool(row["defects"]),
-            fixed_c=int(row["fixed_c"]) if int(row["fixed_c"]) >= 0 else None,
-            max_n=int(row["max_n"]) or None,
-            options=json.loads(row["options"]) if row["options"] else {})
-    kw = dict(aql=float(row["aql"]), rql=float(row["rql"]), alpha=float(row["alpha"]),
-              beta=float(row["beta"]), lot_size=int(row["lot"]) or None, model=row["model"],
-              defects=bool(row["defects"]),
-              fixed_c=int(row["fixed_c"]) if int(row["fixed_c"]) >= 0 else None,
-              max_n=int(row["max_n"]) or None)
-    target = SCHEMES.get(row["scheme"])
-    if target is not None:
-        mod, func = target.split(":")
-        return getattr(importlib.import_module(mod), func)(**kw)
-    from lotwise.analysis.audit import risks_under
-    from lotwise.families.single import design_single
-
-    d = design_single(aql=kw["aql"], rql=kw["rql"], alpha=kw["alpha"], beta=kw["beta"],
-                      lot_size=kw["lot_size"], model=kw["model"], defects=kw["defects"],
-                      c=kw["fixed_c"], max_n=kw["max_n"])
-    r = risks_under(d.plan, d.targets, d.scope, d.model)
-    return {"n": d.n, "c": d.c, "plan": f"n={d.n},c={d.c}", "alpha_actual": r.alpha,
-            "beta_actual": r.beta, "full_inspection": d.full_inspection}
+    return design_registered(
+        scheme=row["scheme"], aql=float(row["aql"]), rql=float(row["rql"]),
+        alpha=float(row["alpha"]), beta=float(row["beta"]),
+        lot_size=int(row["lot"]) or None, model=row["model"], defects=bool(row["defects"]),
+        fixed_c=int(row["fixed_c"]) if int(row["fixed_c"]) >= 0 else None,
+        max_n=int(row["max_n"]) or None,
+        options=json.loads(row["options"]) if row["options"] else {})
 
 
 def _amount(v, name):

@@ -224,6 +224,11 @@ class Plan(ABC):
         """Plan notation that :func:`parse_plan` reads back to an equal plan."""
 
     @property
+    def sole_acceptance_number(self) -> int | None:
+        """The plan's one acceptance number, if it has one (a single plan's c)."""
+        return None
+
+    @property
     def short_label(self) -> str:
         """The label cut to what tells plans apart in a legend (default: :attr:`label`)."""
         return self.label
@@ -416,6 +421,11 @@ class Family:
     check_options : callable or None
         ``check_options(options, defects=, key=)``: the rules tying the designer
         options together (raises InputError); None when each option stands alone.
+    design_many : str or None
+        ``"module:function"`` designing arrays of problems under one model
+        (``design_many(model=, aql=, rql=, alpha=, beta=, lot_size=, fixed_c=)`` ->
+        arrays ``n, c, alpha, beta``, ``n = -1`` where the row is left to
+        :attr:`design`), for catalogues of thousands of parts.
     """
 
     name: str
@@ -432,10 +442,20 @@ class Family:
     oc_columns: Callable | None = None
     cases: str | None = None
     description: str = ""
+    #: ``"module:function"`` of an array search designing many problems of this family
+    #: at once (catalogues), or None; see :meth:`array_designer`.
+    design_many: str | None = None
     #: ``check_options(options, defects=, key=)`` raises InputError when designer
     #: options that each pass their own type check do not fit together (``key(name)``
     #: spells an option's name as the caller's user wrote it).
     check_options: Callable | None = None
+
+    def array_designer(self) -> Callable | None:
+        """The function :attr:`design_many` names (imported now), or None."""
+        if self.design_many is None:
+            return None
+        module, func = self.design_many.split(":")
+        return getattr(importlib.import_module(module), func)
 
 
 class OptionKind(StrEnum):

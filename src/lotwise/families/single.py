@@ -86,6 +86,10 @@ class SinglePlan(Plan):
     scheme = "single"
     common_sample = True
 
+    @property
+    def sole_acceptance_number(self) -> int:
+        return int(self.c)
+
     def check_scope(self, scope: Scope) -> None:
         """Refuse ``c > n`` when counting nonconforming items (a sample of ``n``
         cannot hold more than ``n``) and a sample larger than the lot; counting
@@ -463,6 +467,7 @@ def min_sample_size(*, c: int, rql: float, beta: float, lot_size: int | None = N
 FAMILY = Family(
     name="single", plan_class=SinglePlan, parse=parse_single,
     design=design_single, poisson_redesign=True,
+    design_many="lotwise.families.single_many:design_many",
     design_options={"n": "fixed sample size", "c": "fixed acceptance number",
                     "max_n": "largest affordable sample"},
     option_types={"n": Option(kind=OptionKind.WHOLE, minimum=1),
