@@ -367,8 +367,11 @@ class _SeenKernel:
             for key, d in (("aql", self.d1), ("rql", self.d2)):
                 lo, pmf, _ = flagged_counts(d, self.N, rates.miss_rate, rates.false_alarm)
                 ks = lo + np.arange(pmf.size)
-                # masses below 1e-18 of the largest change no risk by more than 1e-15
-                keep = (ks <= self.N) & (pmf > 1e-18 * pmf.max())
+                # tails of at most 1e-15 of mass each change no risk by more than 2e-15
+                # (Pa lies in [0, 1]), well inside the 1e-12 tolerance of the searches
+                head = np.cumsum(pmf)
+                tail = np.cumsum(pmf[::-1])[::-1]
+                keep = (ks <= self.N) & (head > 1e-15) & (tail > 1e-15)
                 self._mixes[key] = (ks[keep].astype(float), pmf[keep])
 
     def at_aql(self, n, c):
