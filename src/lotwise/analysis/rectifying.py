@@ -515,9 +515,17 @@ def render_rectifying(rep: dict, per_unit: bool = False) -> str:
     if "ati" in rep:
         header += ["ATI at AQL", "ATI at RQL"]
     lines.append(table(rows, header, indent="    "))
-    lines.append(f"    - Whatever the incoming quality, the outgoing quality averages no worse "
-                 f"than {format_outgoing(rep['aoql'], per_unit)} (the AOQL), reached when lots "
-                 f"arrive at {format_level(rep['aoql_p'], per_unit)}.")
+    miss = (rep.get("inspection_error") or {}).get("miss_rate", 0.0)
+    if miss > 0:  # imperfect screening: the AOQ rises again beyond its first peak
+        lines.append(f"    - Over the levels the plan sentences the outgoing quality averages "
+                     f"at most {format_outgoing(rep['aoql'], per_unit)} (the AOQL), reached "
+                     f"when lots arrive at {format_level(rep['aoql_p'], per_unit)}; screening "
+                     f"that misses {format_pct(miss)} of nonconforming items lets worse "
+                     "incoming quality out in proportion.")
+    else:
+        lines.append(f"    - Whatever the incoming quality, the outgoing quality averages no "
+                     f"worse than {format_outgoing(rep['aoql'], per_unit)} (the AOQL), reached "
+                     f"when lots arrive at {format_level(rep['aoql_p'], per_unit)}.")
     if "ati" in rep:
         lines.append(f"    - Items inspected per lot of {N}: {rep['ati']['aql']:,.1f} on average "
                      f"at the AQL, {rep['ati']['rql']:,.1f} at the RQL.")
