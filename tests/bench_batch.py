@@ -57,3 +57,45 @@ CASES = [
     {"name": "records: summary of 100,000 lots (2,000 supplier/part groups), read + summarise",
      "func": _records, "goal_ms": 5_000, "repeat": 5},
 ]
+
+
+# --- a million rows (mostly repeated targets), each job in a child process ----------
+
+_BIG = _DIR / "catalogue-1m.csv"
+_BIG_LOTS = _DIR / "lots-1m.csv"
+
+
+def _big_files():
+    """A catalogue of 10^6 parts over 200 standard lot sizes (about 54,000
+    distinct designs) and a log of 10^6 lots; written on first use."""
+    if not _BIG.exists():
+        catalogue(1_000_000, seed=3, distinct_lots=200).to_csv(_BIG, index=False)
+        pd.concat([
+            history(500_000, p=0.01, seed=4, suppliers=tuple(f"S{i}" for i in range(40)),
+                    parts=tuple(f"P{i}" for i in range(25))),
+            history(500_000, p=0.02, seed=5, suppliers=tuple(f"T{i}" for i in range(40)),
+                    parts=tuple(f"P{i}" for i in range(25)), plan=(125, 3)),
+        ]).to_csv(_BIG_LOTS, index=False)
+
+
+def _cli(*args):
+    """The command in a child process; prints its peak memory (RSS)."""
+    import os
+    import resource
+    import subprocess
+
+    _big_files()
+    env = dict(os.environ, PYTHONPATH=str(Path(__file__).resolve().parents[1] / "src"))
+    subprocess.run([sys.executable, "-m", "lotwise", *args], check=True, env=env,
+                   stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    peak = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss / 1024
+    print(f"    peak RSS of the largest child so far: {peak:.0f} MB (goal <= 500 MB)")
+
+
+CASES += [
+    {"name": "batch CLI: 10^6 catalogue rows, 200 standard lot sizes, read + design + write",
+     "func": lambda: _cli("batch", str(_BIG), "--out", str(_DIR / "plans-1m.csv"), "--force"),
+     "goal_ms": 10_000, "repeat": 3},
+    {"name": "records CLI: 10^6 lots, --json",
+     "func": lambda: _cli("records", str(_BIG_LOTS), "--json"), "goal_ms": 5_000, "repeat": 3},
+]

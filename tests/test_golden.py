@@ -76,6 +76,10 @@ VARIABLES_EXACT = ("two-limit variables plans with sigma unknown: the OC is exac
                    "model estimate-exact; the old designed plan n = 43, M = 0.02657 carries beta "
                    "10.07 % exactly, so the design is now n = 43, M = 0.02648 and the check of n = "
                    "43, k = 1.902 falls short")
+INDIFFERENCE_COUNT = ("in a finite lot the indifference quality is the whole count D whose Pa "
+                      "is nearest 0.5 (was the smallest D with Pa <= 0.5); plan_quality_counts "
+                      "and plan_quality_pa give D and its true Pa; checked against "
+                      "scipy.stats.hypergeom in tests/test_quality_counts.py")
 #: Deliberate, named differences: "case_name:json.path" -> reason.
 CHANGED: dict[str, str] = {
     # Every plan now has notation() (the plan interface); a single plan's was null.
@@ -233,6 +237,27 @@ CHANGED: dict[str, str] = {
     "oc_variables_unknown_both:json.simulation": VARIABLES_EXACT,
     "judge_unknown_both:json.plan": VARIABLES_EXACT,
     "judge_file_unknown_both:json.plan": VARIABLES_EXACT,
+    # Whole counts in finite lots.
+    "*:json.rectifying.aoq_expression": "the screened AOQ text names p Pa (N - n)/N as the "
+                                        "binomial/Poisson form beside the exact finite-lot "
+                                        "expression (it read as if it were the finite-lot AOQ)",
+    "design_single_small_lot:json.plan_quality.indifference": INDIFFERENCE_COUNT,
+    "design_double_lot:json.plan_quality.indifference": INDIFFERENCE_COUNT,
+    "design_sequential_lot:json.plan_quality.indifference": INDIFFERENCE_COUNT,
+    "check_single_lot:json.plan_quality.indifference": INDIFFERENCE_COUNT,
+    "check_single_lot_aoq_simple:json.plan_quality.indifference": INDIFFERENCE_COUNT,
+    "check_single_whole_lot:json.plan_quality.indifference": INDIFFERENCE_COUNT,
+    "check_skiplot_lot:json.plan_quality.indifference": INDIFFERENCE_COUNT,
+    "check_skiplot_lot_aoq_simple:json.plan_quality.indifference": INDIFFERENCE_COUNT,
+    "check_double_lot:json.plan_quality.indifference": INDIFFERENCE_COUNT,
+    "check_double_lot_aoq_simple:json.plan_quality.indifference": INDIFFERENCE_COUNT,
+    "check_multiple_lot:json.plan_quality.indifference": INDIFFERENCE_COUNT,
+    "compare_lot:json.plans[1].plan_quality.indifference": INDIFFERENCE_COUNT,
+    "compare_plan_files:json.plans[0].plan_quality.indifference": INDIFFERENCE_COUNT,
+    "compare_designed_lot:json.plans[0].plan_quality.indifference": INDIFFERENCE_COUNT,
+    "compare_plan_files:json.plans[1].plan_quality.indifference": INDIFFERENCE_COUNT,
+    "compare_designed_lot:json.plans[1].plan_quality.indifference": INDIFFERENCE_COUNT,
+    "compare_designed_lot:json.plans[2].plan_quality.indifference": INDIFFERENCE_COUNT,
 }
 
 #: What ``main`` prints on stderr when a command failed with an internal error.

@@ -72,8 +72,14 @@ def test_sheet_numbers_equal_json(tmp_path, capsys, name):
             q = rep["plan_quality"]
             from lotwise.core.quantities import format_level
 
+            counts = rep.get("plan_quality_counts")
             for key in ("producer", "indifference", "consumer"):
-                assert format_level(q[key], req.scope.defects) in doc, key
+                if counts is None:
+                    assert format_level(q[key], req.scope.defects) in doc, key
+                else:  # a finite lot: the whole count, its share and its true Pa
+                    pa = format_pct(round(rep["plan_quality_pa"][key], 12))
+                    assert (f"{counts[key]} of {rep['lot_size']} nonconforming "
+                            f"({format_pct(q[key], 3)}) {pa} of the time") in doc, key
 
 
 def test_sheet_has_required_parts(tmp_path, capsys):

@@ -25,6 +25,10 @@ a key means the same thing, with the same type, whatever plan it describes:
     the same under the judging model;
 ``plan_quality``
     the plan's own producer's, indifference and consumer's quality levels;
+``plan_quality_counts``, ``plan_quality_pa`` (finite lot: an attribute plan
+judged by the hypergeometric model; absent otherwise)
+    those levels as whole counts ``D`` of the lot (``plan_quality`` is then
+    ``D/N``) and the true ``Pa`` at each count;
 ``asn`` (plans whose sample varies)
     ``{"aql", "rql", "max", "max_at"}``, and ``asn_curtailed``;
 ``aoql``, ``aoql_p``, ``ati``, ``rectifying`` (lot size known)
@@ -58,11 +62,12 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from lotwise.analysis.audit import risks_under
-from lotwise.core.quantities import format_level, format_risk as _pct, format_risk_vs as pct_vs
-from lotwise.core.types import AoqFormula, Scope, Targets, lot_counts, parse_choice
+from lotwise.core.quantities import (format_level, format_pct, format_risk as _pct,
+                                     format_risk_vs as pct_vs)
+from lotwise.core.types import AoqFormula, Scope, Targets, lot_counts, parse_choice, table_counts
 from lotwise.families.base import Plan, family_of
 
-__all__ = ["Assessment", "assess", "SAFETY", "oc_levels", "oc_table"]
+__all__ = ["Assessment", "assess", "SAFETY", "oc_levels", "oc_table", "count_rule"]
 
 #: The safety note every report ends with.
 SAFETY = ("Sampling cannot guarantee a lot free of nonconforming items; critical "
@@ -119,7 +124,10 @@ class Assessment:
         applicable model, and ASN, AOQ and ATI where they apply.
 
         ``p`` defaults to ``points`` levels from 0 to where the exact ``Pa``
-        has fallen to 1 %.
+        has fallen to 1 %. In a finite lot (hypergeometric) each level is
+        taken as the whole count ``lot_count`` the OC table uses
+        (:func:`count_rule`), and the hypergeometric ``Pa``, AOQ and ATI are
+        those of that count.
         """
         import pandas as pd
 
@@ -130,7 +138,20 @@ class Assessment:
         for m in self.report["models"]:
             cols[m] = np.atleast_1d(np.asarray(self.plan.pa(ps, m, self.scope), dtype=float))
         if self.plan.attribute_plan and self.model == "hypergeometric":
-            cols["lot_count"] = lot_counts(ps, self.scope.lot_size, "nearest").astype(int)
+            # whole counts rounded as the OC table rounds them (see count_rule)
+            split, _ = count_rule(self.plan, self.scope, aql=self.targets.aql,
+                                  rql=self.targets.rql)
+            d = table_counts(ps, self.scope.lot_size, split, aql=self.targets.aql,
+                             rql=self.targets.rql)
+            cols["hypergeometric"] = np.atleast_1d(np.asarray(
+                self.plan.pa_count(d, self.scope), dtype=float))
+            cols["lot_count"] = d.astype(int)
+            extra = _sample_columns(self.plan, self.scope, self.model, ps, d)
+            cols.update({k: v for k, v in extra.items() if k in ("asn", "aoq", "ati")})
+            if not self.plan.varying_sample:
+                cols["aoq"] = np.atleast_1d(self.plan.aoq_count(d, self.scope))
+                cols["ati"] = np.atleast_1d(self.plan.ati_count(d, self.scope))
+            return pd.DataFrame(cols)
         if self.plan.varying_sample:
             cols["asn"] = np.atleast_1d(self.plan.asn(ps, self.model, self.scope))
         if self.plan.attribute_plan and self.scope.lot_size:
@@ -153,33 +174,54 @@ def oc_levels(plan, scope: Scope, model: str, *, points: int = 101, top_pa: floa
     return np.linspace(0.0, max(top, 1e-9), points)
 
 
-def oc_table(plan: Plan, scope: Scope, model: str, ps) -> tuple[list[str], list[list]]:
+def count_rule(plan: Plan, scope: Scope, *, aql=None, rql=None) -> tuple[int, str]:
+    """The plan's indifference count (where a finite lot's OC table switches
+    from rounding up to rounding down, see :func:`lotwise.core.types.table_counts`)
+    and the rule in words for the table's header."""
+    split = int(plan.quality_count(0.5, scope, "indifference"))
+    bounds = []
+    if aql is not None:
+        bounds.append(f"up at levels up to the AQL ({format_level(aql)})")
+    if rql is not None:
+        bounds.append(f"down from the RQL ({format_level(rql)}) on")
+    text = (f"lot_count D: the nonconforming items of the lot of {scope.lot_size} a row is "
+            "taken as (hypergeometric Pa, ASN, AOQ, ATI at D); p N rounded up below the "
+            f"plan's indifference count {split}, down from it on"
+            + ("; " + " and ".join(bounds) if bounds else "")
+            + " (design's conservative rounding: up at the AQL, down at the RQL)")
+    return split, text
+
+
+def oc_table(plan: Plan, scope: Scope, model: str, ps, *, aql=None,
+             rql=None) -> tuple[list[str], list[list]]:
     """The OC table of any attribute plan: ``(header, rows)``.
 
     Columns: ``p``; ``Pa`` under every applicable model; ``poisson_minus_exact``
     (where Poisson is an approximation); ``lot_count`` (finite lot: the whole
-    count each level is taken as, rounded to the nearest); ``asn`` and
-    ``asn_curtailed`` (plans whose sample varies); ``aoq`` and ``ati`` (lot size
-    known, plans whose sample varies); and the family's own columns
-    (``Family.oc_columns``, e.g. Wald's approximations of a sequential plan).
+    count ``D`` each level is taken as, rounded by :func:`count_rule`; the
+    hypergeometric ``Pa`` and, under that model, ASN, AOQ and ATI are those
+    of ``D``); ``asn`` and ``asn_curtailed`` (plans whose sample varies);
+    ``aoq`` and ``ati`` (lot size known, plans whose sample varies); and the
+    family's own columns (``Family.oc_columns``, e.g. Wald's approximations
+    of a sequential plan).
     """
     ps = np.atleast_1d(np.asarray(ps, dtype=float))
     models = plan.models_for(scope)
     cols = {m: np.atleast_1d(np.asarray(plan.pa(ps, m, scope, "nearest"), dtype=float))
-            for m in models}
-    exact = models[0]
+            for m in models if m != "hypergeometric"}
     extra = {}
+    counts = None
+    if "hypergeometric" in models:
+        split, _ = count_rule(plan, scope, aql=aql, rql=rql)
+        counts = table_counts(ps, scope.lot_size, split, aql=aql, rql=rql)
+        cols["hypergeometric"] = np.atleast_1d(np.asarray(plan.pa_count(counts, scope),
+                                                          dtype=float))
+    exact = models[0]
     if exact != "poisson" and "poisson" in cols:
         extra["poisson_minus_exact"] = cols["poisson"] - cols[exact]
-    if "hypergeometric" in models:
-        extra["lot_count"] = lot_counts(ps, scope.lot_size, "nearest").astype(int)
-    if plan.varying_sample:
-        extra["asn"] = np.atleast_1d(plan.asn(ps, model, scope))
-        if plan.has_curtailment:
-            extra["asn_curtailed"] = np.atleast_1d(plan.asn_curtailed(ps, model, scope))
-        if scope.lot_size:
-            extra["aoq"] = np.atleast_1d(plan.aoq(ps, model, scope))
-            extra["ati"] = np.atleast_1d(plan.ati(ps, model, scope))
+    if counts is not None:
+        extra["lot_count"] = counts.astype(int)
+    extra.update(_sample_columns(plan, scope, model, ps, counts))
     fam = family_of(plan)
     if fam.oc_columns is not None:
         extra.update({k: np.atleast_1d(v) for k, v in fam.oc_columns(plan, ps, model, scope).items()})
@@ -190,6 +232,27 @@ def oc_table(plan: Plan, scope: Scope, model: str, ps) -> tuple[list[str], list[
         row += [int(v[i]) if k == "lot_count" else float(v[i]) for k, v in extra.items()]
         rows.append(row)
     return header, rows
+
+
+def _sample_columns(plan, scope: Scope, model: str, ps, counts) -> dict:
+    """ASN (and curtailed ASN), AOQ and ATI columns of plans whose sample varies;
+    at the table's whole counts under the hypergeometric model."""
+    if not plan.varying_sample:
+        return {}
+    by_count = model == "hypergeometric" and counts is not None
+    out = {"asn": np.atleast_1d(plan.asn_count(counts, scope) if by_count
+                                else plan.asn(ps, model, scope))}
+    if plan.has_curtailment:
+        at = counts / scope.lot_size if by_count else ps
+        out["asn_curtailed"] = np.atleast_1d(plan.asn_curtailed(at, model, scope))
+    if scope.lot_size:
+        if by_count:
+            out["aoq"] = np.atleast_1d(plan.aoq_count(counts, scope))
+            out["ati"] = np.atleast_1d(plan.ati_count(counts, scope))
+        else:
+            out["aoq"] = np.atleast_1d(plan.aoq(ps, model, scope))
+            out["ati"] = np.atleast_1d(plan.ati(ps, model, scope))
+    return out
 
 
 def assess(plan: Plan, targets: Targets, scope: Scope | None = None, model: str | None = None,
@@ -278,10 +341,7 @@ def _core(plan, targets: Targets, scope: Scope, model: str) -> dict:
         "alpha": main["alpha"], "beta": main["beta"],
         "meets": main["meets"],
     })
-    probs = (1.0 - targets.alpha, 0.5, targets.beta)
-    rep["plan_quality"] = {
-        side: float(plan.quality_at(pr, model, scope, side))
-        for side, pr in zip(("producer", "indifference", "consumer"), probs)}
+    rep.update(_plan_quality(plan, targets, scope, model))
     if "lot_counts" in main:
         lc = main["lot_counts"]
         rep["lot_counts"] = {"aql": lc["aql"], "rql": lc["rql"], "aql_rounding": "up",
@@ -299,6 +359,28 @@ def _core(plan, targets: Targets, scope: Scope, model: str) -> dict:
     return rep
 
 
+def _plan_quality(plan, targets: Targets, scope: Scope, model: str) -> dict:
+    """``plan_quality``: the levels where ``Pa`` is 1 - alpha, 0.5 and beta.
+
+    In a finite lot (an attribute plan judged by the hypergeometric model)
+    they are whole counts ``D`` (``plan_quality_counts``), ``plan_quality``
+    holds ``D/N`` and ``plan_quality_pa`` the true ``Pa`` at each count:
+    producer the largest ``D`` with ``Pa >= 1 - alpha``, indifference the
+    ``D`` whose ``Pa`` is nearest 0.5, consumer the smallest ``D`` with
+    ``Pa <= beta``. Elsewhere the two count keys are absent.
+    """
+    sides = ("producer", "indifference", "consumer")
+    probs = (1.0 - targets.alpha, 0.5, targets.beta)
+    if plan.attribute_plan and model == "hypergeometric":
+        N = scope.lot_size
+        counts = {s: int(plan.quality_count(pr, scope, s)) for s, pr in zip(sides, probs)}
+        return {"plan_quality": {s: counts[s] / N for s in sides},
+                "plan_quality_counts": counts,
+                "plan_quality_pa": {s: float(plan.pa_count(counts[s], scope)) for s in sides}}
+    return {"plan_quality": {s: float(plan.quality_at(pr, model, scope, s))
+                             for s, pr in zip(sides, probs)}}
+
+
 def _levels(targets, scope: Scope, model: str):
     """The AQL and RQL as evaluated under ``model`` (whole lot counts under
     the hypergeometric model, rounded up at the AQL and down at the RQL)."""
@@ -310,10 +392,36 @@ def _levels(targets, scope: Scope, model: str):
     return targets.aql, targets.rql
 
 
+def _quality_sentences(rep: dict, lots: str, lvl) -> list[str]:
+    """The plan's own quality levels in words; in a finite lot each a whole
+    count stated with its true ``Pa``."""
+    t, q = rep["targets"], rep["plan_quality"]
+    counts = rep.get("plan_quality_counts")
+    if counts is None:
+        return [f"The AQL it really protects: {lots} {lvl(q['producer'])} are accepted "
+                f"{_pct(1 - t['alpha'])} of the time.",
+                f"Indifference quality: {lots} {lvl(q['indifference'])} are accepted half "
+                "the time.",
+                f"The RQL it really gives: {lots} {lvl(q['consumer'])} are accepted "
+                f"{_pct(t['beta'])} of the time."]
+    N, pa = rep["lot_size"], rep["plan_quality_pa"]
+
+    def held(side):
+        return (f"lots holding {counts[side]} of {N} nonconforming "
+                f"({format_pct(q[side], 3)}) are accepted {_pct(pa[side])} of the time")
+
+    return [f"The AQL it really protects: {held('producer')} (the largest count of the lot "
+            f"accepted at least {_pct(1 - t['alpha'])} of the time).",
+            f"Indifference quality: {held('indifference')} (the count whose acceptance is "
+            "nearest half the time).",
+            f"The RQL it really gives: {held('consumer')} (the smallest count accepted at "
+            f"most {_pct(t['beta'])} of the time)."]
+
+
 def _statements(rep: dict, plan, scope: Scope) -> list[str]:
     """Plain-words sentences: risks at the targets, the plan's own quality
     levels, lot rounding, ASN and AOQL where they apply."""
-    t, m, q = rep["targets"], rep["models"][rep["model"]], rep["plan_quality"]
+    t, m = rep["targets"], rep["models"][rep["model"]]
     per_unit = scope.defects
     lots = "lots averaging" if per_unit else "lots with"
     if per_unit:
@@ -328,11 +436,7 @@ def _statements(rep: dict, plan, scope: Scope) -> list[str]:
         f"Accepts {lots} {lvl(t['rql'])} (the RQL) {_pct(m['pa_rql'])} of the time: "
         f"consumer's risk {pct_vs(m['beta'], t['beta'])} against a target of "
         f"{_pct(t['beta'])}, {ok(m['meets_beta'])}.",
-        f"The AQL it really protects: {lots} {lvl(q['producer'])} are accepted "
-        f"{_pct(1 - t['alpha'])} of the time.",
-        f"Indifference quality: {lots} {lvl(q['indifference'])} are accepted half the time.",
-        f"The RQL it really gives: {lots} {lvl(q['consumer'])} are accepted "
-        f"{_pct(t['beta'])} of the time.",
+        *_quality_sentences(rep, lots, lvl),
     ]
     if "lot_counts" in rep:
         lc = rep["lot_counts"]

@@ -47,6 +47,9 @@ def row_for(label, plan, targets, scope, model=None) -> dict:
            **{k: rep[k] for k in ("pa_aql", "pa_rql", "alpha", "beta", "meets",
                                   "plan_quality", "targets")},
            "defects": scope.defects}
+    for key in ("plan_quality_counts", "plan_quality_pa"):  # finite lot: whole counts
+        if key in rep:
+            row[key] = rep[key]
     if "asn" in rep:
         row["asn"] = {"aql": rep["asn"]["aql"], "rql": rep["asn"]["rql"]}
     return row

@@ -106,21 +106,29 @@ def attribute_grid(plan, scope, model, *, max_p=None, points="21", at=None, rql=
     return np.linspace(0.0, top, k)
 
 
-def attribute_oc(plan, scope, model, ps) -> dict:
-    """``oc --json`` of an attribute plan at the levels ``ps``."""
-    from lotwise.analysis.assess import oc_table
+def attribute_oc(plan, scope, model, ps, *, aql=None, rql=None) -> dict:
+    """``oc --json`` of an attribute plan at the levels ``ps``; in a finite lot
+    with ``lot_count_rule``, the rounding of each level to a whole count
+    (up at and below ``aql``, down at and above ``rql``, see
+    :func:`lotwise.analysis.assess.count_rule`)."""
+    from lotwise.analysis.assess import count_rule, oc_table
 
-    header, rows = oc_table(plan, scope, model, ps)
-    return {"scheme": plan.scheme, "n": None, "c": None, **plan.to_dict(),
-            "lot_size": scope.lot_size, "model": model, "columns": header, "rows": rows}
+    header, rows = oc_table(plan, scope, model, ps, aql=aql, rql=rql)
+    out = {"scheme": plan.scheme, "n": None, "c": None, **plan.to_dict(),
+           "lot_size": scope.lot_size, "model": model, "columns": header, "rows": rows}
+    if "lot_count" in header:
+        out["lot_count_rule"] = count_rule(plan, scope, aql=aql, rql=rql)[1]
+    return out
 
 
 def _variables_top(plan, rql):
     """Right end of the default grid: where Pa has fallen to 1 %, or 1.25 RQL."""
+    from lotwise.families.variables import TWO_LIMIT_EXACT
+
     lo, hi = 0.0, 1.0
     for _ in range(60):
         mid = 0.5 * (lo + hi)
-        if float(plan.pa(mid) if plan.exact_model != "estimate-exact"
+        if float(plan.pa(mid) if plan.exact_model not in TWO_LIMIT_EXACT
                  else plan.pa(mid, "noncentral-t")) > 0.01:
             lo = mid
         else:
@@ -138,13 +146,15 @@ def variables_oc(plan, *, max_p=None, points="21", at=None, rql=None) -> dict:
         k = parse_count(points, "--points", minimum=2, maximum=MAX_POINTS)
         top = parse_level(max_p, "--max-p") if max_p is not None else _variables_top(plan, rql)
         ps = np.linspace(0.0, top, k)
+    from lotwise.families.variables import TWO_LIMIT_EXACT
+
     band = plan.limit == "both" and (plan.sigma == "unknown" or plan.width is None)
     header = ["p", "pa"]
     cols = [np.asarray(plan.pa(ps), dtype=float)]
     if band:
         header.append("pa_lower")
         cols.append(np.asarray(plan.pa(ps, envelope="lower"), dtype=float))
-    if plan.exact_model == "estimate-exact":
+    if plan.exact_model in TWO_LIMIT_EXACT:
         header.append("pa_one_tail_noncentral_t")
         cols.append(np.asarray(plan.pa(ps, "noncentral-t"), dtype=float))
     rows = [[float(pv)] + [float(c[i]) for c in cols] for i, pv in enumerate(ps)]

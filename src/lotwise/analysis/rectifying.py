@@ -18,8 +18,12 @@ replaced). For a lot of ``N`` items inspected with a sample of ``n``:
 
     (from ``(D - x) C(D, x) = D C(D - 1, x)``), with ``Pa(n, c | N - 1, D - 1)``
     the acceptance probability for a lot of ``N - 1`` items holding ``D - 1``.
-    It is slightly below the plug-in ``(D/N) Pa(D) (N - n)/N`` because an
-    accepted lot's sample holds few nonconforming items.
+    It is never below the plug-in ``(D/N) Pa(D) (N - n)/N`` and can be far
+    above it when the sample is a large part of the lot: an accepted lot's
+    sample holds few nonconforming items, so its unsampled remainder holds
+    more than the average ``D (N - n)/N``. For ``c = 0`` the ratio is exactly
+    ``N/(N - n)`` (``C(N, n)/C(N - 1, n)``): 1.25 for ``n = 20`` of ``N = 100``,
+    about 7.1 for ``n = 129`` of ``N = 150``.
 ``simple``
     ``AOQ(p) = p Pa(p)``, the form some texts use: nonconforming items found
     in the sample of an accepted lot are not replaced (or the lot is so
@@ -115,8 +119,9 @@ __all__ = [
 FORMULAS = ("screened", "simple")
 
 FORMULA_TEXT = {
-    "screened": "AOQ = p Pa (N - n)/N (rejected lots screened, nonconforming items found "
-                "replaced; finite lot: (D/N)((N - n)/N) Pa(n, c | N - 1, D - 1))",
+    "screened": "AOQ = p Pa (N - n)/N under the binomial and Poisson models (rejected lots "
+                "screened, nonconforming items found replaced; finite lot: (D/N)((N - n)/N) "
+                "Pa(n, c | N - 1, D - 1))",
     "simple": "AOQ = p Pa (the form without (N - n)/N: nonconforming items found in an "
               "accepted lot's sample are not replaced)",
 }

@@ -33,7 +33,7 @@ def batch(
     """
     from lotwise.data.batch import (SAFETY_NOTE, design_catalogue, parse_rate, progress_bar,
                                     read_catalogue)
-    from lotwise.data.files import check_writable, write_text
+    from lotwise.data.files import check_writable, write_bytes
 
     if audit:
         from .scheme import batch_audit
@@ -57,11 +57,11 @@ def batch(
         vals = table[col]
         if vals.notna().any() and (vals.dropna() % 1 == 0).all():
             table[col] = vals.round().astype("Int64")
-    text = table.to_csv(index=False, lineterminator="\n")
     if out == "-":
-        sys.stdout.write(text)
+        sys.stdout.writelines(res.csv_chunks(table))
     else:
-        write_text(out, text, force=force, option="--out")
+        write_bytes(out, (p.encode("utf-8") for p in res.csv_chunks(table)), force=force,
+                    option="--out")
     errors = table["error"] != ""
     lines = df["_line"].to_numpy()
     failed = [{"line": int(lines[i]), "part": str(table["part"].iloc[i]),

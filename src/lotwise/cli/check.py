@@ -24,7 +24,7 @@ def check(
     lot: Optional[str] = common.LOT,
     model: Optional[str] = common.MODEL,
     defects: bool = common.DEFECTS,
-    aoq_formula: Optional[str] = typer.Option(None, "--aoq-formula", help="With --lot-size: screened (AOQ = p Pa (N - n)/N, default) or simple (p Pa)."),
+    aoq_formula: Optional[str] = typer.Option(None, "--aoq-formula", help="With --lot-size: screened (default; rejected lots screened, nonconforming items found replaced): the exact finite-lot AOQ E[(D - X) 1{accept}]/N, for a single plan (D/N)((N - n)/N) Pa(n, c | N - 1, D - 1), never below p Pa (N - n)/N and N/(N - n) times it for c = 0 (p Pa (N - n)/N under --model binomial or poisson); or simple (p Pa)."),
     skip_lot: Optional[str] = typer.Option(None, "--skip-lot", help='Compare with skip-lot SkSP-2 over this plan, e.g. "i=4,f=0.25".'),
     aoq_plot: Optional[str] = typer.Option(None, "--aoq-plot", help="With --lot-size: draw OC, AOQ and ATI curves to PATH.png, .svg or .pdf."),
     force: bool = typer.Option(False, "--force", help="Overwrite files not written by lotwise."),

@@ -43,7 +43,7 @@ def design(
     minimize: Optional[str] = typer.Option(None, "--minimize", help="single: ati (least average total inspection at --process-average) or cost (least expected cost per lot under --prior); double: asn-aql (default) or asn-max."),
     process_average: Optional[str] = typer.Option(None, "--process-average", help="Supplier's process average, for --minimize ati."),
     aoql: Optional[str] = typer.Option(None, "--aoql", help="AOQL limit, for --minimize ati (instead of --rql)."),
-    aoq_formula: str = typer.Option("screened", "--aoq-formula", help="screened: AOQ = p Pa (N - n)/N; simple: p Pa."),
+    aoq_formula: str = typer.Option("screened", "--aoq-formula", help="screened (rejected lots screened, nonconforming items found replaced): in a finite lot the exact AOQ E[(D - X) 1{accept}]/N, for a single plan (D/N)((N - n)/N) Pa(n, c | N - 1, D - 1), never below p Pa (N - n)/N and N/(N - n) times it for c = 0; p Pa (N - n)/N under the binomial and Poisson models. simple: p Pa."),
     sigma: Optional[str] = typer.Option(None, "--sigma", help="variables: known or unknown."),
     sigma_value: Optional[str] = typer.Option(None, "--sigma-value", help="variables: the known sigma."),
     limit: Optional[str] = typer.Option(None, "--limit", help="variables: upper, lower or both."),

@@ -133,7 +133,7 @@ def judge_sample(plan, values) -> dict:
         elif n >= 3:
             est[side] = float(estimate_unknown(qv, n))
     p_hat = sum(est.values()) if len(est) == len(q) else None
-    if plan.limit == "both" and not known:
+    if plan.limit == "both" and not known and plan.rule == "estimate":
         accept = p_hat <= plan.m
         out["statistic"] = {"estimate_total": p_hat, "m": plan.m, "q": q,
                             "rule": "accept when the estimated fraction beyond both limits "

@@ -58,7 +58,7 @@ def oc_table(
     if plot is not None and not plot.lower().endswith((".png", ".svg", ".pdf")):
         raise InputError(f"--plot ({plot}) must end in .png, .svg or .pdf")
     ps = common.level_grid(p, scope, mdl, max_p, points, at, r)
-    out = common.add_rates(attribute_oc(p, scope, mdl, ps), rates)
+    out = common.add_rates(attribute_oc(p, scope, mdl, ps, aql=a, rql=r), rates)
     header, rows = out["columns"], out["rows"]
     if csv is not None:
         common.write_csv(csv, header, rows, force=force)
@@ -85,6 +85,8 @@ def oc_table(
         typer.echo(f"{what} for the {p.scheme} plan {p.label}"
                    + (f", lot of {scope.lot_size}" if scope.lot_size else "")
                    + f" (exact model: {scope.exact_model})")
+        if "lot_count_rule" in out:
+            typer.echo("  " + out["lot_count_rule"])
         typer.echo(common.table(shown, header))
         if csv:
             typer.echo(f"  wrote {csv}")

@@ -208,9 +208,16 @@ def compare(
         q = r["plan_quality"]
         per = r["defects"]
         asn = r.get("asn")
+        counts = r.get("plan_quality_counts")
+
+        def level(side):
+            if counts is None:
+                return format_level(q[side], per)
+            return f"D = {counts[side]} (Pa {r['plan_quality_pa'][side]:.3f})"
+
         rows.append([r["label"], r["model"], f"{r['pa_aql']:.4f}", format_pct(r["alpha"]),
-                     f"{r['pa_rql']:.4f}", format_pct(r["beta"]), format_level(q["producer"], per),
-                     format_level(q["indifference"], per), format_level(q["consumer"], per),
+                     f"{r['pa_rql']:.4f}", format_pct(r["beta"]), level("producer"),
+                     level("indifference"), level("consumer"),
                      f"{asn['aql']:.1f} / {asn['rql']:.1f}" if asn else "fixed",
                      "yes" if r["meets"] else "NO"])
     typer.echo(common.table(rows, ["plan", "model", "Pa(AQL)", "alpha", "Pa(RQL)", "beta",
@@ -230,17 +237,16 @@ def demo(
     force: bool = typer.Option(False, "--force", help="Overwrite files lotwise did not write."),
 ):
     """Run the main job end to end on the invented demo scenario in plans/."""
-    from lotwise.documents.sheets import write_sheets
-
     plans = _project_root() / "plans"
     if not plans.is_dir():
         raise InputError(f"demo: the scenario folder {plans} is missing; run lotwise from a "
                          "clone of the project (pip install -e .)")
     typer.echo("lotwise demo: receiving inspection at Quillmoor Pumps (an invented company), "
                f"{len(list(plans.glob('*.toml')))} purchased parts from {plans}\n")
-    results = []
-    for pp in _resolve_files([plans]):
-        results.append((pp, write_sheets(pp, out, force=force)))
+    from lotwise.documents.planfile import plan_files
+    from lotwise.documents.sheets.many import write_many
+
+    results = write_many(plan_files([plans]), out, force=force)
     _summary(results)
     short = [pp.request.part_id for pp, _ in results if not pp.meets]
     typer.echo(f"\n  Sheets written to {out}/ (PDF, Markdown, OC plot and table, pick list).")

@@ -165,7 +165,7 @@ def oc_cmd(plan, *, max_p, points, at, aql, rql, csv, plot, force, as_json):
         if band:
             typer.echo("  pa = largest Pa over where the mean sits (consumer's worst case), "
                        "pa_lower = smallest (producer's)")
-        if plan.exact_model == "estimate-exact":
+        if plan.exact_model in ("estimate-exact", "k-two-limit-exact"):
             typer.echo("  exact: quadrature over the law of s at the worst split of each level")
         shown = [[f"{100 * row[0]:.4g} %"] + [f"{v:.5f}" for v in row[1:]] for row in rows]
         typer.echo(common.table(shown, header))

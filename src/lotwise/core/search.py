@@ -10,9 +10,9 @@ vectorised bracketing); no float root is rounded to an integer.
 * :class:`Kernel` -- ``Pa`` at the AQL and at the RQL for arrays of ``(n, c)``;
 * :func:`n_min` -- the smallest ``n`` meeting the consumer's risk, for each ``c``;
 * :func:`c_min` -- the smallest ``c`` meeting the producer's risk at a given ``n``;
-* :func:`count_level` / :func:`invert_level` -- the quality level where any
-  plan's ``Pa`` crosses a probability (whole counts in a finite lot, or a
-  continuous level);
+* :func:`count_at` / :func:`count_level` / :func:`invert_level` -- the quality
+  level where any plan's ``Pa`` crosses a probability (whole counts in a
+  finite lot, or a continuous level);
 * :func:`check_targets` / :func:`check_lot` -- the targets can be told apart at all.
 
 Examples
@@ -37,7 +37,7 @@ from lotwise.core import kernels as oc
 from lotwise.core.quantities import Infeasible, format_level, format_pct
 from lotwise.core.types import TOL, Scope, Targets, lot_targets
 
-__all__ = ["Kernel", "n_min", "c_min", "count_level", "invert_level", "check_targets",
+__all__ = ["Kernel", "n_min", "c_min", "count_at", "count_level", "invert_level", "check_targets",
            "check_lot", "initial_upper", "maximise_over_levels"]
 
 
@@ -194,22 +194,31 @@ def check_lot(targets: Targets, lot_size: int, counts: tuple[int, int]) -> None:
             {"lot_counts": {"aql": d1, "rql": d2}, "beta_min": 1.0 - targets.alpha})
 
 
-def count_level(plan, prob: float, scope: Scope, side: str) -> float:
-    """Whole-count search under the hypergeometric model (Pa falls in ``D``):
-    ``side='producer'`` gives the largest ``D/N`` with ``Pa >= prob``, any other
-    side the smallest ``D/N`` with ``Pa <= prob``. Each pass evaluates up to 127
-    counts inside the bracket in one vectorised call and keeps the
-    sub-interval where ``Pa`` crosses ``prob`` (a 128-fold narrowing)."""
-    N = scope.lot_size
-    if side == "producer":
+def count_at(plan, prob: float, scope: Scope, side: str) -> int:
+    """A plan's own quality level as a whole count ``D`` of a lot of
+    ``scope.lot_size`` (hypergeometric model; ``Pa`` falls in ``D``).
+
+    ``side='producer'``: the largest ``D`` with ``Pa(D) >= prob`` (0 when even
+    ``Pa(0)`` is below ``prob``); ``side='indifference'``: of the two counts
+    either side of the crossing, the one whose ``Pa`` is nearest ``prob`` (the
+    smaller count on a tie); any other side (``'consumer'``): the smallest
+    ``D`` with ``Pa(D) <= prob`` (the lot size when no count gets there).
+    Each pass evaluates up to 127 counts inside the bracket in one vectorised
+    call and keeps the sub-interval where ``Pa`` crosses ``prob`` (a 128-fold
+    narrowing).
+    """
+    N = int(scope.lot_size)
+    producer = side in ("producer", "indifference")
+    if producer:
         good = lambda pa: pa >= prob - TOL  # noqa: E731  (true for small D)
     else:
         good = lambda pa: pa > prob + TOL  # noqa: E731
     if good(float(plan.pa_count(N, scope))):
-        return 1.0
-    if not good(float(plan.pa_count(0, scope))):
-        return 0.0
-    lo, hi = 0, N  # good(lo) holds, good(hi) does not
+        lo, hi = N, N + 1
+    elif not good(float(plan.pa_count(0, scope))):
+        lo, hi = -1, 0
+    else:
+        lo, hi = 0, N  # good(lo) holds, good(hi) does not
     while hi - lo > 1:
         ds = np.unique(np.linspace(lo, hi, 129).round().astype(np.int64)[1:-1])
         ds = ds[(ds > lo) & (ds < hi)]
@@ -220,7 +229,18 @@ def count_level(plan, prob: float, scope: Scope, side: str) -> float:
             lo = int(ds[np.flatnonzero(ok)[-1]])
         if (~ok).any():
             hi = int(ds[np.flatnonzero(~ok)[0]])
-    return (lo if side == "producer" else hi) / N
+    if side == "producer":
+        return max(lo, 0)
+    if side != "indifference":
+        return min(hi, N)
+    pair = [d for d in (lo, hi) if 0 <= d <= N]
+    gaps = [abs(float(plan.pa_count(d, scope)) - prob) for d in pair]
+    return pair[int(np.argmin(gaps))]  # argmin keeps the first (smaller) on a tie
+
+
+def count_level(plan, prob: float, scope: Scope, side: str) -> float:
+    """:func:`count_at` as a fraction of the lot, ``D/N``."""
+    return count_at(plan, prob, scope, side) / scope.lot_size
 
 
 def invert_level(plan, prob: float, model: str, scope: Scope) -> float:

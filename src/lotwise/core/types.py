@@ -38,7 +38,7 @@ from lotwise.core.kernels import lot_count
 from lotwise.core.quantities import InputError
 
 __all__ = ["Model", "Side", "Rounding", "AoqFormula", "Scope", "Targets", "lot_counts",
-           "lot_targets", "TOL"]
+           "lot_targets", "table_counts", "TOL"]
 
 #: Slack for floating-point ties at a risk boundary.
 TOL = 1e-12
@@ -162,3 +162,27 @@ def lot_targets(targets: Targets, lot_size: int) -> tuple[int, int]:
     """Whole counts ``(D1, D2)`` of nonconforming items at the AQL (rounded up)
     and at the RQL (rounded down) for a lot of ``lot_size``."""
     return (lot_count(targets.aql, lot_size, "up"), lot_count(targets.rql, lot_size, "down"))
+
+
+def table_counts(p, lot_size: int, split: int, *, aql: float | None = None,
+                 rql: float | None = None):
+    """Whole counts for the levels ``p`` of an OC table of a finite lot, rounded
+    the conservative way design rounds the targets (:func:`lot_targets`: up at
+    the AQL, down at the RQL): ``p N`` is rounded **up** on the producer's side
+    of the curve -- below ``split`` (the plan's indifference count) and at any
+    level up to ``aql`` -- and **down** on the consumer's side -- from ``split``
+    on and at any level from ``rql`` on. A level that is a whole count (within
+    1e-9) is that count.
+
+    Examples
+    --------
+    >>> table_counts([0.01, 0.02, 0.025], 150, 3, aql=0.01, rql=0.025).tolist()
+    [2.0, 3.0, 3.0]
+    """
+    p = np.asarray(p, dtype=float)
+    use_up = p * float(lot_size) < split
+    if aql is not None:
+        use_up = use_up | (p <= aql)
+    if rql is not None:
+        use_up = use_up & ~(p >= rql)
+    return np.where(use_up, lot_counts(p, lot_size, "up"), lot_counts(p, lot_size, "down"))

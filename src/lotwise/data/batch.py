@@ -468,6 +468,15 @@ class BatchResult:
     units_per_year: int | None
     rows_without_deliveries: int
     dropped_columns: tuple = field(default_factory=tuple)
+    classes: object = field(default=None, repr=False)
+
+    def csv_chunks(self, table=None):
+        """The CSV text of ``table`` (default :attr:`table`; the same rows,
+        columns possibly re-typed) in pieces, the plan columns formatted
+        once per distinct design (:func:`lotwise.data.csvwrite.csv_chunks`)."""
+        from lotwise.data.csvwrite import csv_chunks
+
+        return csv_chunks(self.table if table is None else table, classes=self.classes)
 
     def summary(self) -> dict:
         return {"rows": self.rows, "designed": self.designed, "failed": self.failed,
@@ -477,12 +486,13 @@ class BatchResult:
 
 
 def read_catalogue(path, option: str = "CATALOGUE"):
-    """Read a catalogue CSV into a DataFrame of strings (all columns as
-    written, names normalised) plus ``_line`` (the line each row starts on)
-    and ``_shape`` (a problem with the row's field count, or '')."""
-    from lotwise.data.csvio import read_table
+    """Read a catalogue CSV into a DataFrame of text (all columns as written,
+    names normalised; categorical columns, one code per cell) plus ``_line``
+    (the line each row starts on) and ``_shape`` (a problem with the row's
+    field count, or '')."""
+    from lotwise.data.csvio import read_columns
 
-    t = read_table(path, option)
+    t = read_columns(path, option)
     missing = [c for c in REQUIRED if c not in t.header]
     if missing:
         raise InputError(f"{option} ({t.source}) lacks the column(s) {', '.join(missing)}; "
@@ -491,13 +501,16 @@ def read_catalogue(path, option: str = "CATALOGUE"):
 
 
 def catalogue_frame(t):
-    """A :class:`lotwise.data.csvio.Table` as the DataFrame :func:`read_catalogue` returns."""
+    """A :class:`lotwise.data.csvio.Table` or :class:`~lotwise.data.csvio.Columns`
+    as the DataFrame :func:`read_catalogue` returns."""
     import pandas as pd
 
-    if len(t):
-        df = pd.DataFrame(t.fields, columns=t.header, dtype=object)
-    else:
-        df = pd.DataFrame({h: pd.Series(dtype=object) for h in t.header})
+    from lotwise.data.csvio import Columns
+
+    if not isinstance(t, Columns):
+        t = Columns.of(t)
+    df = pd.DataFrame({h: pd.Series(t.data[h]) for h in t.header}) if len(t) else \
+        pd.DataFrame({h: pd.Series(dtype=object) for h in t.header})
     df["_line"] = np.asarray(t.lines, dtype=np.int64)
     df["_shape"] = t.problem_list()
     return df
@@ -526,6 +539,105 @@ def _flag(text: str, column: str) -> bool:
 def design_catalogue(df, *, deliveries_per_year: float | None = None, progress=None,
                      chunk: int = 5_000) -> BatchResult:
     """Design every row of a catalogue.
+
+    Parameters
+    ----------
+    df : pandas.DataFrame
+        Columns as in the module table, values as text (as read from CSV).
+    deliveries_per_year : float, optional
+        Default delivery rate for rows without a ``deliveries_per_year`` value.
+    progress : callable, optional
+        Called as ``progress(done, total)`` with counts of distinct problems.
+    chunk : int
+        Distinct problems solved per array pass.
+
+    Notes
+    -----
+    Rows whose design cells agree (the same text, or texts with the same
+    value for alpha, beta, scheme, fixed_c, max_n and defects; any valid
+    ``deliveries_per_year``) form one class: one row of each class is
+    designed and its plan columns are copied to the others on whole
+    columns, so a large catalogue costs its distinct problems, not its rows.
+    """
+    import pandas as pd
+
+    from lotwise.data.classes import row_classes, text_codes
+
+    df, dropped = _prepared(df)
+    cols = [c for c in _design_columns() if c in df.columns]
+    inv, first = row_classes(df, cols + ["_shape"], _canon())
+    small = df.iloc[first][["part"] + cols + ["_line", "_shape"]].astype(object)
+    small = small.reset_index(drop=True)
+    rate = np.full(len(df), np.nan if deliveries_per_year is None else deliveries_per_year)
+    if "deliveries_per_year" in df.columns:
+        codes, texts = text_codes(df["deliveries_per_year"])
+        per_text = np.array([_rate_or_nan(t, deliveries_per_year) for t in texts] or [0.0])
+        rate = per_text[codes]
+        # the rate enters units_per_year only (below): any valid one stands for all
+        small.loc[np.isfinite(rate[first]), "deliveries_per_year"] = "0"
+    res = _design_table(small, progress=progress, chunk=chunk)
+    table = df.drop(columns=["_line", "_shape"])
+    per_class = [c for c in res.table.columns if c not in small.columns]
+    for col in per_class:
+        table[col] = res.table[col].take(inv).reset_index(drop=True).array
+    per_class.remove("units_per_year")
+    designed = (table["error"] == "").to_numpy() & table["n"].notna().to_numpy()
+    n = table["n"].to_numpy(dtype=float, na_value=np.nan)
+    per_year = np.where(designed & np.isfinite(rate), n * rate, np.nan)
+    table["units_per_year"] = per_year
+    have_rate = designed & np.isfinite(rate)
+    return BatchResult(table=table, rows=len(df), designed=int(designed.sum()),
+                       failed=int(len(df) - designed.sum()), distinct=res.distinct,
+                       units_per_lot=int(n[designed].sum()),
+                       units_per_year=int(round(float(np.nansum(per_year))))
+                       if have_rate.any() else None,
+                       rows_without_deliveries=int((designed & ~np.isfinite(rate)).sum()),
+                       dropped_columns=dropped, classes=(inv, res.table[per_class]))
+
+
+def _design_columns() -> list:
+    """The catalogue columns a row's design depends on."""
+    return list(dict.fromkeys([c for c in REQUIRED + OPTIONAL if c != "part"]
+                              + list(option_columns()) + list(COST_COLUMNS)))
+
+
+def _canon() -> dict:
+    """Class of a cell text for :func:`row_classes`: the parsed value (or
+    the text where it is invalid), for the columns whose parsing needs
+    nothing else of the row."""
+    def by(parse, default):
+        def f(text):
+            if text == "":
+                return ("value", default)
+            try:
+                return ("value", parse(text))
+            except InputError:
+                return ("text", text)
+        return f
+
+    return {"alpha": by(lambda v: parse_risk(v, "alpha"), 0.05),
+            "beta": by(lambda v: parse_risk(v, "beta"), 0.10),
+            "scheme": by(_scheme, "single"),
+            "fixed_c": by(lambda v: parse_count(v, "fixed_c", minimum=0), -1),
+            "max_n": by(lambda v: parse_count(v, "max_n", minimum=1), 0),
+            "defects": by(lambda v: _flag(v, "defects"), False),
+            "deliveries_per_year": by(lambda v: parse_rate(v, "deliveries_per_year") * 0, 0)}
+
+
+def _rate_or_nan(text: str, default) -> float:
+    """A row's delivery rate (NaN where none or invalid)."""
+    if text == "":
+        return np.nan if default is None else float(default)
+    try:
+        return parse_rate(text, "deliveries_per_year")
+    except InputError:
+        return np.nan
+
+
+def _design_table(df, *, deliveries_per_year: float | None = None, progress=None,
+                  chunk: int = 5_000) -> BatchResult:
+    """Design every row of a catalogue, row by row (:func:`design_catalogue`
+    hands it one row per class of identical design cells).
 
     Parameters
     ----------

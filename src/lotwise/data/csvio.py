@@ -24,9 +24,11 @@ import io
 from dataclasses import dataclass
 from pathlib import Path
 
+import numpy as np
+
 from lotwise.core.quantities import InputError
 
-__all__ = ["Row", "Table", "read_table", "normalise_name"]
+__all__ = ["Row", "Table", "Columns", "read_table", "read_columns", "normalise_name"]
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -145,3 +147,207 @@ def read_table(path, option: str) -> Table:
         seen.add(name)
     return Table(source=source, raw_header=header, header=names, fields=fields_out, lines=lines,
                  problems=problems)
+
+
+# --- whole columns, for large files ----------------------------------------------
+
+@dataclass(frozen=True, kw_only=True)
+class Columns:
+    """A CSV file as whole columns: like :class:`Table`, but each column is a
+    pandas ``Categorical`` of the cells as written (not stripped), so a large
+    file with repeated values costs one small integer per cell. ``lines`` is
+    an array of the line each row starts on."""
+
+    source: str
+    raw_header: list
+    header: list
+    data: dict
+    lines: object
+    problems: dict
+
+    def __len__(self) -> int:
+        return int(self.lines.size)
+
+    def factor(self, name: str):
+        """``(codes, texts)``: column ``name`` as integer codes into an object
+        array of its distinct cells (as written)."""
+        cat = self.data[name]
+        return np.asarray(cat.codes, dtype=np.int64), np.asarray(cat.categories, dtype=object)
+
+    def problem_list(self) -> list:
+        """The shape problem of every row ('' where none)."""
+        out = [""] * len(self)
+        for i, p in self.problems.items():
+            out[i] = p
+        return out
+
+    @classmethod
+    def of(cls, t: Table) -> "Columns":
+        """A :class:`Table` as columns (the slow reader's result)."""
+        import pandas as pd
+
+        cols = list(zip(*t.fields)) if len(t) else [()] * len(t.header)
+        data = {h: pd.Categorical(np.asarray(c, dtype=object) if c else
+                                  np.zeros(0, dtype=object)) for h, c in zip(t.header, cols)}
+        return cls(source=t.source, raw_header=t.raw_header, header=t.header, data=data,
+                   lines=np.asarray(t.lines, dtype=np.int64), problems=dict(t.problems))
+
+
+def read_columns(path, option: str) -> Columns:
+    """Read ``path`` as :func:`read_table` does (same rows, line numbers,
+    problems and errors), into :class:`Columns`.
+
+    A file (not a stream) with plain quoting (quotes only around whole
+    fields, no line end inside quotes) and plain line ends is read by the
+    pandas C reader (every line one row, its fields counted on the raw
+    bytes); anything else goes through :func:`read_table`.
+    """
+    cols = None
+    if not hasattr(path, "read"):
+        cols = _fast_columns(_raw_bytes(path, option), path, str(Path(path)))
+    if cols is None:
+        cols = Columns.of(read_table(path, option))
+    return cols
+
+
+def _raw_bytes(path, option) -> bytes:
+    """The bytes of the file at ``path``."""
+    p = Path(path)
+    try:
+        return p.read_bytes()
+    except FileNotFoundError:
+        raise InputError(f"{option} ({p}) does not exist") from None
+    except IsADirectoryError:
+        raise InputError(f"{option} ({p}) is a folder; give a CSV file") from None
+    except OSError as exc:
+        raise InputError(f"{option} ({p}) cannot be read: {exc.strerror or exc}") from None
+
+
+def _field_counts(buf, delim: int):
+    """Fields per physical line of ``buf`` (uint8 array) and the line count,
+    or ``None`` when the quoting is not plain (a quote that does not open or
+    close a whole field, a line end inside quotes). Delimiters between
+    quotes do not count; worked in slices so no array of the file's size is
+    made."""
+    step = 1 << 23
+    nl = _positions(buf, 10, step)
+    ends = np.r_[nl, buf.size] if (buf.size and buf[-1] != 10) else nl
+    q = _positions(buf, 34, step)
+    if q.size and not _plain_quotes(buf, q, delim, ends):
+        return None
+    counts = np.zeros(ends.size, dtype=np.int64)
+    for s in range(0, buf.size, step):
+        pos = np.flatnonzero(buf[s:s + step] == delim) + s
+        if q.size:
+            pos = pos[np.searchsorted(q, pos) % 2 == 0]
+        if pos.size:
+            counts += np.diff(np.searchsorted(pos, np.r_[-1, ends]))
+    return counts + 1, ends.size
+
+
+def _positions(buf, byte: int, step: int):
+    """Where ``byte`` occurs in ``buf``, found slice by slice."""
+    kind = np.int32 if buf.size < 2**31 - 1 else np.int64
+    found = [(np.flatnonzero(buf[s:s + step] == byte) + s).astype(kind)
+             for s in range(0, buf.size, step)]
+    return np.concatenate(found) if found else np.zeros(0, dtype=kind)
+
+
+def _plain_quotes(buf, q, delim: int, ends) -> bool:
+    """Whether every quote at ``q`` opens a field (at its start, or doubling
+    a quote just closed) or closes one (before a delimiter, line end or a
+    doubling quote), with no line end inside quotes."""
+    if q.size % 2 or (np.searchsorted(q, ends) % 2).any():
+        return False
+    opening, closing = q[0::2], q[1::2]
+    prev = np.where(opening > 0, buf[np.maximum(opening - 1, 0)], 10)
+    nxt = np.where(closing + 1 < buf.size, buf[np.minimum(closing + 1, buf.size - 1)], 10)
+    return bool(np.isin(prev, (delim, 10, 34)).all() and np.isin(nxt, (delim, 10, 13, 34)).all())
+
+
+def _fast_columns(raw: bytes, path, source: str):
+    """The pandas C reader's columns of the file at ``path`` (whose bytes are
+    ``raw``, dropped once scanned: the caller keeps no reference), or None where :func:`read_table` must
+    decide (quotes, carriage returns alone, a header problem, no data)."""
+    if raw.startswith(b"\xef\xbb\xbf"):
+        raw = raw[3:]
+    if b"\x00" in raw or raw.count(b"\r") != raw.count(b"\r\n") or raw.isspace() or not raw:
+        return None
+    first = raw[:raw.find(b"\n")] if b"\n" in raw else raw  # no copy of the whole file
+    delim = ";" if (b";" in first and b"," not in first) else ","
+    buf = np.frombuffer(raw, dtype=np.uint8)
+    found = _field_counts(buf, ord(delim))
+    if found is None:
+        return None
+    counts, n_lines = found
+    width_all = int(counts.max())
+    del raw, buf  # the reader streams the file itself
+    factors = None
+    for enc in ("utf-8-sig", "latin-1"):
+        try:
+            factors = _read_factors(path, delim, width_all, enc)
+            break
+        except UnicodeDecodeError:
+            continue
+    if factors is None or factors[0][0].size != n_lines:
+        return None
+    blank = np.ones(n_lines, dtype=bool)
+    for codes, texts in factors:
+        blank &= np.array([not v.strip() for v in texts.tolist()], dtype=bool)[codes]
+    rows = np.flatnonzero(~blank)
+    if rows.size < 1:
+        return None
+    head = rows[0]
+    header = [str(texts[codes[head]]).strip() for codes, texts in factors[:counts[head]]]
+    width = len(header)
+    rows = rows[1:]
+    names = [normalise_name(h) for h in header]
+    if _header_problem(names) or not rows.size:
+        return None  # read_table words the error
+    bad = np.flatnonzero(counts[rows] != width)
+    problems = {int(k): f"has {counts[rows[k]]} field(s), the header has {width}" for k in bad}
+    data = {name: _categorical(codes[rows], texts) for name, (codes, texts) in
+            zip(names, factors)}
+    return Columns(source=source, raw_header=header, header=names, data=data,
+                   lines=rows.astype(np.int64) + 1, problems=problems)
+
+
+def _read_factors(path, delim: str, width: int, encoding: str, rows: int = 50_000):
+    """Every column of the file as ``(codes, distinct texts)``, read by the
+    pandas C reader in slices of ``rows`` lines so that only one slice is
+    held as Python strings at a time."""
+    import pandas as pd
+
+    parts: list = [[] for _ in range(width)]
+    reader = pd.read_csv(path, sep=delim, header=None, names=list(range(width)),
+                         dtype=str, na_filter=False, skip_blank_lines=False,
+                         quoting=csv.QUOTE_MINIMAL, encoding=encoding, engine="c",
+                         chunksize=rows)
+    with reader:
+        for chunk in reader:
+            for j in range(width):
+                codes, uniq = pd.factorize(chunk.pop(j).to_numpy(dtype=object))
+                parts[j].append((codes.astype(np.int32), np.asarray(uniq, dtype=object)))
+    out = []
+    for pieces in parts:
+        if not pieces:
+            return None
+        texts_all = np.concatenate([u for _, u in pieces])
+        glob, texts = pd.factorize(texts_all)
+        offsets = np.cumsum([0] + [len(u) for _, u in pieces[:-1]])
+        codes = np.concatenate([glob[o + c] for (c, _), o in zip(pieces, offsets)])
+        out.append((codes.astype(np.int32), np.asarray(texts, dtype=object)))
+    return out
+
+
+def _categorical(codes, texts):
+    """A pandas ``Categorical`` from codes and distinct texts (checked unique)."""
+    import pandas as pd
+
+    return pd.Categorical.from_codes(codes, dtype=pd.CategoricalDtype(pd.Index(texts, dtype=object)),
+                                     validate=False)
+
+
+def _header_problem(names) -> bool:
+    """Whether the header has an unnamed or repeated column."""
+    return any(not n for n in names) or len(set(names)) != len(names)

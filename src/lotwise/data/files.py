@@ -13,6 +13,7 @@ Every file the tool writes goes through :func:`write_bytes`:
 
 from __future__ import annotations
 
+import contextlib
 import hashlib
 import json
 import os
@@ -37,11 +38,16 @@ def _read_record(folder: Path) -> dict:
         return {}
 
 
-def _atomic(path: Path, data: bytes) -> None:
+def _atomic(path: Path, data) -> str:
+    """Write ``data`` (bytes or an iterable of bytes) to ``path`` through a
+    temporary file renamed over it; returns the SHA-256 of what was written."""
     fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
+    h = hashlib.sha256()
     try:
         with os.fdopen(fd, "wb") as fh:
-            fh.write(data)
+            for part in [data] if isinstance(data, bytes) else data:
+                fh.write(part)
+                h.update(part)
             fh.flush()
             os.fsync(fh.fileno())
         os.replace(tmp, path)
@@ -51,6 +57,25 @@ def _atomic(path: Path, data: bytes) -> None:
         except OSError:
             pass
         raise
+    return h.hexdigest()
+
+
+@contextlib.contextmanager
+def _folder_lock(folder: Path):
+    """An exclusive lock on ``folder`` (``flock`` on the folder itself, where
+    the system has it) while its record is read and rewritten."""
+    try:
+        import fcntl
+
+        fd = os.open(folder, os.O_RDONLY)
+    except (ImportError, OSError):
+        yield
+        return
+    try:
+        fcntl.flock(fd, fcntl.LOCK_EX)
+        yield
+    finally:
+        os.close(fd)
 
 
 def check_writable(path, *, force: bool = False, option: str = "output") -> Path:
@@ -70,8 +95,10 @@ def check_writable(path, *, force: bool = False, option: str = "output") -> Path
     return path
 
 
-def write_bytes(path, data: bytes, *, force: bool = False, option: str = "output") -> Path:
-    """Write ``data`` to ``path`` atomically, respecting overwrite protection."""
+def write_bytes(path, data, *, force: bool = False, option: str = "output") -> Path:
+    """Write ``data`` (bytes, or an iterable of bytes written one after the
+    other, never all held at once) to ``path`` atomically, respecting
+    overwrite protection."""
     path = Path(path)
     if not path.parent.exists():
         try:
@@ -81,11 +108,12 @@ def write_bytes(path, data: bytes, *, force: bool = False, option: str = "output
                              f"({exc.strerror})") from None
     check_writable(path, force=force, option=option)
     try:
-        _atomic(path, data)
-        record = _read_record(path.parent)
-        record[path.name] = _digest(data)
-        _atomic(path.parent / RECORD,
-                (json.dumps(record, indent=1, sort_keys=True) + "\n").encode("utf-8"))
+        digest = _atomic(path, data)
+        with _folder_lock(path.parent):  # several processes may write into one folder
+            record = _read_record(path.parent)
+            record[path.name] = digest
+            _atomic(path.parent / RECORD,
+                    (json.dumps(record, indent=1, sort_keys=True) + "\n").encode("utf-8"))
     except OSError as exc:
         raise InputError(f"{option} ({path}) cannot be written: {exc.strerror or exc}") from None
     return path
@@ -104,7 +132,8 @@ def save_figure(fig, path, *, force: bool = False, option: str = "--plot", **kwa
     meta = {"png": {"Software": "lotwise"}, "svg": {"Creator": "lotwise"},
             "pdf": {"Creator": "lotwise"}}.get(fmt)
     fig.savefig(buf, format=fmt, metadata=meta, **kwargs)
-    import matplotlib.pyplot as plt
+    import sys
 
-    plt.close(fig)
+    if "matplotlib.pyplot" in sys.modules:  # a pyplot figure of the caller's: release it
+        sys.modules["matplotlib.pyplot"].close(fig)
     return write_bytes(path, buf.getvalue(), force=force, option=option)

@@ -367,9 +367,9 @@ def read_records(path, *, plans_dir=None, option: str = "RECORDS") -> LotRecords
     in ``bad_rows``, never raised; a file that cannot be read or lacks a
     required column raises :class:`InputError`.
     """
-    from lotwise.data.csvio import read_table
+    from lotwise.data.csvio import read_columns
 
-    t = read_table(path, option)
+    t = read_columns(path, option)
     missing = [c for c in REQUIRED if c not in t.header]
     if "plan" not in t.header and "plan_file" not in t.header:
         missing.append("plan (or plan_file)")
@@ -381,24 +381,46 @@ def read_records(path, *, plans_dir=None, option: str = "RECORDS") -> LotRecords
 
 class _Cells:
     """The text cells of a lot-records table and the problems found in its rows
-    (a working object of :func:`records_frame`)."""
+    (a working object of :func:`records_frame`). Each column is held as
+    codes into its distinct texts, and every check runs once per text."""
 
     def __init__(self, t):
-        self.m = len(t.fields)
-        self._where = {h: i for i, h in enumerate(t.header)}
-        self._columns = list(zip(*t.fields)) if self.m else [()] * len(t.header)
-        self._text: dict = {}
+        from lotwise.data.csvio import Columns
+
+        t = t if isinstance(t, Columns) else Columns.of(t)
+        self.m = len(t)
+        self._t = t
+        self._factors: dict = {}
         self.reasons: dict[int, list] = {}
+
+    def factor(self, name):
+        """``(codes, texts)``: column ``name`` as codes into its distinct
+        stripped texts (all '' where the column is missing)."""
+        if name not in self._factors:
+            if name in self._t.header:
+                codes, texts = self._t.factor(name)
+                texts = np.array([v.strip() for v in texts.tolist()] + [""], dtype=object)
+                self._factors[name] = (np.where(codes < 0, texts.size - 1, codes), texts)
+            else:
+                self._factors[name] = (np.zeros(self.m, dtype=np.int64),
+                                       np.array([""], dtype=object))
+        return self._factors[name]
+
+    def sorted_categorical(self, name, rows):
+        """Column ``name`` at the rows ``rows`` (a mask) as a pandas
+        ``Categorical`` whose categories are in sorted order (so sorting by
+        it sorts by the text)."""
+        import pandas as pd
+
+        codes, texts = self.factor(name)
+        cats, where = np.unique(texts.astype(str), return_inverse=True)
+        return pd.Categorical.from_codes(where[codes[rows]],
+                                         categories=pd.Index(cats.astype(object), dtype=object))
 
     def get(self, name):
         """Column ``name`` as stripped text (an array of str)."""
-        if name not in self._text:
-            if name in self._where:
-                self._text[name] = np.array([v.strip() for v in
-                                             self._columns[self._where[name]]], dtype=object)
-            else:
-                self._text[name] = np.full(self.m, "", dtype=object)
-        return self._text[name]
+        codes, texts = self.factor(name)
+        return texts[codes]
 
     def note(self, mask, message):
         """Record ``message(i)`` (or a fixed text) for each row ``i`` in ``mask``."""
@@ -410,13 +432,11 @@ class _Cells:
         """Whole numbers of column ``name`` and where they are valid."""
         import pandas as pd
 
+        codes, texts = self.factor(name)
+        num = pd.to_numeric(pd.Series(texts, dtype=object).str.replace("_", "", regex=False),
+                            errors="coerce").to_numpy(dtype=float)
+        v = num[codes]
         txt = self.get(name)
-        try:  # the common case: every cell a plain whole number
-            v = txt.astype(str).astype(np.int64).astype(float)
-        except (ValueError, OverflowError):
-            num = pd.to_numeric(pd.Series(txt).str.replace("_", "", regex=False),
-                                errors="coerce")
-            v = num.to_numpy(dtype=float)
         with np.errstate(invalid="ignore"):
             badnum = ~np.isfinite(v) | (v != np.floor(v))
         self.note(badnum & (txt != ""), lambda i: f"{name} ({txt[i]!r}) must be a whole number")
@@ -441,8 +461,10 @@ def _counts_checked(cells: _Cells):
 def _dates_checked(cells: _Cells):
     import pandas as pd
 
-    dtxt = cells.get("date")
-    dates = pd.to_datetime(pd.Series(dtxt), format="ISO8601", errors="coerce")
+    codes, texts = cells.factor("date")
+    parsed = pd.to_datetime(pd.Series(texts, dtype=object), format="ISO8601", errors="coerce")
+    dates = pd.Series(parsed.to_numpy()[codes])
+    dtxt = texts[codes]
     cells.note(dates.isna().to_numpy() & (dtxt != ""),
                lambda i: f"date ({dtxt[i]!r}) must be a date written YYYY-MM-DD")
     return dates
@@ -451,9 +473,10 @@ def _dates_checked(cells: _Cells):
 def _dispositions_checked(cells: _Cells):
     import pandas as pd
 
-    disp_txt = cells.get("disposition")
-    dv, dinv = np.unique(disp_txt.astype(str), return_inverse=True)
-    disp = pd.Series(np.array([_ACCEPT.get(v.lower()) for v in dv], dtype=object)[dinv])
+    codes, texts = cells.factor("disposition")
+    disp_txt = texts[codes]
+    disp = pd.Series(np.array([_ACCEPT.get(v.lower()) for v in texts.tolist()],
+                              dtype=object)[codes])
     cells.note(disp.isna().to_numpy() & (disp_txt != ""),
                lambda i: f"disposition ({disp_txt[i]!r}) must be accept or reject")
     return disp
@@ -462,11 +485,18 @@ def _dispositions_checked(cells: _Cells):
 def _plans_checked(cells: _Cells, plans_dir):
     """Each distinct plan text parsed (or plan file resolved) once:
     ``(plans, key of each row)`` with ``plans`` keyed ``plan:...``/``file:...``."""
-    plan_txt, file_txt = cells.get("plan"), cells.get("plan_file")
+    import pandas as pd
+
+    (pc, pt), (fc, ft) = cells.factor("plan"), cells.factor("plan_file")
+    pair, first = pd.factorize(pc.astype(np.int64) * ft.size + fc)
+    first = np.asarray(first, dtype=np.int64)
+    pair_key = [f"plan:{a}" if a != "" else f"file:{b}"
+                for a, b in zip(pt[first // ft.size].tolist(), ft[first % ft.size].tolist())]
+    uniq, pair_inv = np.unique(np.array(pair_key, dtype=str), return_inverse=True)
+    inv = pair_inv[pair]
+    key = uniq.astype(object)[inv]
     plans: dict = {}
     plan_err: dict = {}
-    key = np.where(plan_txt != "", "plan:" + plan_txt, "file:" + file_txt).astype(object)
-    uniq, inv = np.unique(key.astype(str), return_inverse=True)
     failed = np.zeros(uniq.size, dtype=bool)
     for j, k in enumerate(uniq):
         kind, _, txt = k.partition(":")
@@ -479,7 +509,7 @@ def _plans_checked(cells: _Cells, plans_dir):
             plan_err[k] = str(exc)
             failed[j] = True
     cells.note(failed[inv], lambda i: plan_err[str(key[i])])
-    return plans, uniq[inv]
+    return plans, key
 
 
 def records_frame(t, *, plans_dir=None) -> LotRecords:
@@ -509,8 +539,8 @@ def records_frame(t, *, plans_dir=None) -> LotRecords:
     frame = pd.DataFrame({
         "line": line[good],
         "date": dates[good].reset_index(drop=True),
-        "supplier": cells.get("supplier")[good],
-        "part": cells.get("part")[good],
+        "supplier": cells.sorted_categorical("supplier", good),
+        "part": cells.sorted_categorical("part", good),
         "lot_id": cells.get("lot_id")[good],
         "lot_size": lot[good],
         "sample_size": sample[good],
@@ -663,7 +693,7 @@ def summarise(records: LotRecords, *, confidence: float = 0.95,
     df = df.sort_values(["supplier", "part", "date", "line"], kind="stable")
     df = df.reset_index(drop=True)
     lots = _Lots.of(df)
-    pkeys, pinv = np.unique(lots.keys.astype(str), return_inverse=True)
+    pkeys, pinv = _sorted_codes(lots.keys)
     expect, deviation, notes = _expected_dispositions(lots, plans, pkeys, pinv)
     mismatch = (expect >= 0) & (expect != lots.accepted.astype(np.int8))
     findings = _findings(df, plans, expect, mismatch, deviation, notes)
@@ -696,6 +726,20 @@ def summarise(records: LotRecords, *, confidence: float = 0.95,
                                      confidence=confidence, significance=significance,
                                      chart=chart))
     return RecordsSummary(groups=groups, findings=findings, rows_used=len(df), **done)
+
+
+def _sorted_codes(values):
+    """``np.unique(values.astype(str), return_inverse=True)`` without a
+    fixed-width copy of every value: the distinct values found by hashing,
+    then sorted."""
+    import pandas as pd
+
+    codes, uniq = pd.factorize(values)
+    uniq = np.asarray(uniq, dtype=object).astype(str)
+    order = np.argsort(uniq, kind="stable")
+    rank = np.empty(order.size, dtype=np.int64)
+    rank[order] = np.arange(order.size)
+    return uniq[order], rank[codes]
 
 
 @dataclass(frozen=True, kw_only=True)

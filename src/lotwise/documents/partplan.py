@@ -175,8 +175,9 @@ def own_report(plan, ch, scope, model=None, design=None) -> dict:
            "plan_quality": row["plan_quality"], "own_sample": True,
            "varying_sample": bool(plan.varying_sample),
            "designed": design is not None, "note": own_note(plan, design is not None)}
-    if "asn" in row:
-        rep["asn"] = row["asn"]
+    for key in ("asn", "plan_quality_counts", "plan_quality_pa"):
+        if key in row:
+            rep[key] = row[key]
     if design is not None:  # what the design adds that a sheet shows
         d = design.report_extra()
         for key in ("attributes", "approximation", "k_range"):

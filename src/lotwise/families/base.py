@@ -291,12 +291,20 @@ class Plan(ABC):
         """Quality level where ``Pa`` equals ``prob``.
 
         Under the hypergeometric model the answer is a whole count over the lot
-        size: ``side='producer'`` the largest ``D/N`` with ``Pa >= prob``, any
-        other side the smallest ``D/N`` with ``Pa <= prob``.
+        size, ``D/N`` with ``D`` from :meth:`quality_count`.
         """
         if model == "hypergeometric":
             return search.count_level(self, prob, scope, side)
         return search.invert_level(self, prob, model, scope)
+
+    def quality_count(self, prob: float, scope: Scope, side: str = "producer") -> int:
+        """The plan's own quality level as a whole count ``D`` of a lot of
+        ``scope.lot_size``: ``side='producer'`` the largest ``D`` with
+        ``Pa(D) >= prob``, ``'indifference'`` the ``D`` whose ``Pa`` is nearest
+        ``prob`` (the smaller on a tie), ``'consumer'`` the smallest ``D`` with
+        ``Pa(D) <= prob`` (see :func:`lotwise.core.search.count_at`)."""
+        need_lot(scope, "whole-count quality level")
+        return search.count_at(self, prob, scope, side)
 
     def aoq(self, p, model: str, scope: Scope, *, formula: str = "screened",
             rounding: str = "nearest"):

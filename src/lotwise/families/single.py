@@ -218,6 +218,12 @@ def parse_single(pairs: dict, text: str, option: str) -> SinglePlan:
 
 
 
+#: The tie rule of the single designer, in words for its output.
+TIE_RULE = ("Tie rule: when several acceptance numbers reach the smallest sample size, the "
+            "smallest is taken; c = {c} is the smallest acceptance number meeting the "
+            "producer's risk at n = {n}.")
+
+
 @dataclass(frozen=True, kw_only=True)
 class SingleDesign:
     """Result of :func:`design_single`.
@@ -242,9 +248,14 @@ class SingleDesign:
     targets: Targets
     full_inspection: bool = False
     lot_counts: tuple[int, int] | None = None
+    #: True when the designer chose ``c`` (it was not fixed with ``--c``).
+    c_chosen: bool = True
 
     def report_extra(self) -> dict:
-        return {"full_inspection": bool(self.full_inspection)}
+        out = {"full_inspection": bool(self.full_inspection)}
+        if self.c_chosen and not self.full_inspection:
+            out["statements"] = [TIE_RULE.format(n=self.plan.n, c=self.plan.c)]
+        return out
 
     @property
     def n(self) -> int:
@@ -320,7 +331,8 @@ def design_single(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 
     def result(nn: int, cc: int) -> SingleDesign:
         full = lot_size is not None and nn >= lot_size
         return SingleDesign(plan=SinglePlan(n=int(nn), c=int(cc)), model=model, scope=scope,
-                            targets=targets, full_inspection=bool(full), lot_counts=counts)
+                            targets=targets, full_inspection=bool(full), lot_counts=counts,
+                            c_chosen=c is None)
 
     cap = max_n
     if lot_size is not None:

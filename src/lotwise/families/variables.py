@@ -124,11 +124,13 @@ from lotwise.families.base import Family, Option, OptionKind, Plan
 
 __all__ = ['VARIABLES_MODELS', 'VariablesPlan', 'z_upper', 'pa_known', 'pa_unknown',
            'nct_sf_quadrature', 'pa_known_two', 'tail_split', 'estimate_known',
-           'estimate_unknown', 'max_estimate_for_k', 'k_for_estimate', 'pa_estimate_two',
+           'estimate_unknown', 'max_estimate_for_k', 'k_for_estimate', 'pa_estimate_two', 'pa_k_two_unknown',
            'VariablesDesign', 'design_variables', 'closed_form_known', 'wallis', 'k_window']
 
 
-VARIABLES_MODELS = ("normal-known-sigma", "noncentral-t", "estimate-exact")
+VARIABLES_MODELS = ("normal-known-sigma", "noncentral-t", "estimate-exact", "k-two-limit-exact")
+#: The exact band models of two-limit plans with sigma unknown.
+TWO_LIMIT_EXACT = ("estimate-exact", "k-two-limit-exact")
 
 _LIMITS = ("upper", "lower", "both")
 
@@ -346,6 +348,18 @@ def k_for_estimate(n, m):
     return 0.5 * (lo + hi)
 
 
+def pa_k_two_unknown(n, k, p, envelope="upper"):
+    """Exact ``Pa`` of the two-limit k-method with sigma unknown (accept when
+    ``(U - xbar)/s >= k`` and ``(xbar - L)/s >= k``) at total fraction(s) ``p``:
+    the upper or lower edge of the band over every split of ``p`` between the
+    tails (quadrature over the law of ``s``, :mod:`lotwise.core.twolimit`)."""
+    from lotwise.core.twolimit import band
+
+    if envelope not in ("upper", "lower"):
+        raise InputError(f"envelope ({envelope!r}) must be 'upper' or 'lower'")
+    return band(int(n), p, k=float(k), which=envelope)
+
+
 def pa_estimate_two(n, m, p, envelope="upper"):
     """Exact two-limit ``Pa`` of the estimate method (sigma unknown) at total
     fraction(s) ``p``: the upper (``envelope='upper'``) or lower edge of the
@@ -389,6 +403,12 @@ class VariablesPlan(Plan):
     width : float, optional
         Tolerance width in sigma, ``(U - L)/sigma`` (two limits, sigma known);
         derived from ``lower``, ``upper`` and ``sigma_value`` when all are given.
+    rule : {'estimate', 'k'}
+        Two limits with sigma unknown: the estimate method (``'estimate'``, the
+        default: accept when the estimated total fraction is at most ``M``) or
+        the two-limit k-method (``'k'``, notation ``method=k``: accept when
+        ``(U - xbar)/s >= k`` and ``(xbar - L)/s >= k``; exact OC band by
+        quadrature, :mod:`lotwise.core.twolimit`, model ``k-two-limit-exact``).
     """
 
     n: int
@@ -400,6 +420,7 @@ class VariablesPlan(Plan):
     upper: float | None = None
     m: float | None = None
     width: float | None = None
+    rule: str = "estimate"
 
     scheme = "variables"
 
@@ -434,7 +455,17 @@ class VariablesPlan(Plan):
         if self.limit == "lower" and self.upper is not None:
             raise InputError(f"upper ({_num(self.upper)}) is given for a lower-limit plan; "
                              "give both limits for a two-limit plan")
-        estimate_method = self.limit == "both" and self.sigma == "unknown"
+        if self.rule not in ("estimate", "k"):
+            raise InputError(f"method ({self.rule!r}) must be 'estimate' or 'k'")
+        if self.rule == "k" and not (self.limit == "both" and self.sigma == "unknown"):
+            raise InputError("method=k applies only to two limits with sigma unknown (the "
+                             "other plans are k-methods already)")
+        if self.rule == "k" and (self.k is None or self.m is not None):
+            raise InputError("method=k needs k (and no m)")
+        if self.rule == "k" and not self.k > 0:
+            raise InputError(f"k ({self.k:g}) must be above 0 for the two-limit k-method")
+        estimate_method = (self.limit == "both" and self.sigma == "unknown"
+                           and self.rule == "estimate")
         if self.m is not None:
             if not estimate_method:
                 raise InputError(f"m ({self.m}) applies only to two limits with sigma unknown; "
@@ -476,6 +507,8 @@ class VariablesPlan(Plan):
     # -- description ---------------------------------------------------------
     @property
     def method(self) -> str:
+        if self.rule == "k":
+            return "k-method (sigma unknown, two limits)"
         if self.limit == "both" and self.sigma == "unknown":
             return "estimate method (sigma unknown, two limits)"
         return ("k-method (sigma known)" if self.sigma == "known"
@@ -486,16 +519,20 @@ class VariablesPlan(Plan):
     def exact_model(self) -> str:
         if self.sigma == "known":
             return "normal-known-sigma"
-        return "estimate-exact" if self.limit == "both" else "noncentral-t"
+        if self.limit != "both":
+            return "noncentral-t"
+        return "k-two-limit-exact" if self.rule == "k" else "estimate-exact"
 
     @property
     def models(self) -> tuple[str, ...]:
-        if self.exact_model == "estimate-exact":
-            return ("estimate-exact", "noncentral-t")
+        if self.exact_model in TWO_LIMIT_EXACT:
+            return (self.exact_model, "noncentral-t")
         return (self.exact_model,)
 
     @property
     def label(self) -> str:
+        if self.rule == "k":
+            return f"n={self.n}, k={self.k:g}, two limits, sigma unknown, k-method"
         if self.limit == "both" and self.sigma == "unknown":
             kk = f"M={self.m:.4g}" if self.k is None else f"k={self.k:g} (M={self.m:.4g})"
             return f"n={self.n}, {kk}, two limits, sigma unknown"
@@ -527,6 +564,8 @@ class VariablesPlan(Plan):
             parts.append("limit=both")
         elif self.lower is None and self.upper is None:
             parts.append(f"limit={self.limit}")
+        if self.rule == "k":
+            parts.append("method=k")
         if self.sigma_value is not None:
             parts.append(f"sigma={self.sigma_value!r}")
         elif self.sigma == "known":
@@ -539,7 +578,7 @@ class VariablesPlan(Plan):
     def _model(self, model):
         if model is None or model in ("hypergeometric", "binomial", "poisson"):
             return self.exact_model
-        if model == "noncentral-t" and self.exact_model == "estimate-exact":
+        if model == "noncentral-t" and self.exact_model in TWO_LIMIT_EXACT:
             return model
         if model != self.exact_model:
             raise InputError(f"model ({model}) does not apply to this plan ({self.method}); "
@@ -572,8 +611,11 @@ class VariablesPlan(Plan):
         if model == "noncentral-t":
             return pa_unknown(self.n, k_eq, p)
         scalar = np.ndim(p) == 0
-        pa = pa_estimate_two(self.n, self.m, np.clip(np.atleast_1d(np.asarray(p, dtype=float)),
-                                                     0.0, 1.0), envelope)
+        pc = np.clip(np.atleast_1d(np.asarray(p, dtype=float)), 0.0, 1.0)
+        if self.rule == "k":
+            pa = pa_k_two_unknown(self.n, self.k, pc, envelope)
+        else:
+            pa = pa_estimate_two(self.n, self.m, pc, envelope)
         return float(pa[0]) if scalar else pa
 
     # -- the plan interface: a process curve under the plan's own models --------
@@ -637,6 +679,8 @@ class VariablesPlan(Plan):
             v = getattr(self, key)
             if v is not None:
                 d[key] = float(v)
+        if self.rule == "k":
+            d["two_limit_rule"] = "k"
         return d
 
 
@@ -669,15 +713,16 @@ def parse_variables(pairs: dict, text: str, option: str) -> VariablesPlan:
     ``upper`` and/or ``lower`` (or ``limit=upper|lower|both`` when the limits
     are not needed); ``sigma`` = the known standard deviation, or
     ``sigma=known``/``sigma=unknown``; ``width`` = tolerance width in sigma
-    (two limits, sigma known, limits not given).
+    (two limits, sigma known, limits not given); ``method=k`` for the two-limit
+    k-method with sigma unknown (default ``method=estimate``, the estimate method).
     """
     from lotwise.core.quantities import parse_count
 
-    allowed = {"n", "k", "m", "upper", "lower", "sigma", "limit", "width"}
+    allowed = {"n", "k", "m", "upper", "lower", "sigma", "limit", "width", "method"}
     unknown = sorted(set(pairs) - allowed)
     if unknown:
         raise InputError(f"{option} ({text!r}): unknown key {unknown[0]!r}; a variables plan "
-                         "takes n, k (or m), upper and/or lower, sigma, limit, width")
+                         "takes n, k (or m), upper and/or lower, sigma, limit, width, method")
     if "n" not in pairs:
         raise InputError(f"{option} ({text!r}) lacks n; write for example "
                          "\"variables: n=42,k=1.9,upper=25\"")
@@ -721,12 +766,16 @@ def parse_variables(pairs: dict, text: str, option: str) -> VariablesPlan:
                                  "(the known process standard deviation)")
             sigma = "known"
     width = _float(pairs["width"], option, "width") if "width" in pairs else None
+    rule = pairs.get("method", "estimate").strip().lower()
+    if rule not in ("estimate", "k"):
+        raise InputError(f"{option} method ({pairs['method']!r}) must be one of: estimate, k "
+                         "(two limits with sigma unknown)")
     if k is None and m is None:
         raise InputError(f"{option} ({text!r}) lacks k; write for example "
                          "\"variables: n=42,k=1.9,upper=25\"")
     try:
         return VariablesPlan(n=n, k=k, sigma=sigma, limit=limit, sigma_value=sigma_value,
-                             lower=lower, upper=upper, m=m, width=width)
+                             lower=lower, upper=upper, m=m, width=width, rule=rule)
     except InputError as exc:
         raise InputError(f"{option} ({text!r}): {exc}") from None
 

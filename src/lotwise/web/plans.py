@@ -121,9 +121,9 @@ def oc(q) -> Reply:
         return Reply(body=outputs.variables_oc(p, max_p=max_p, points=points, at=at, rql=r))
     scope, mdl = scope_and_model(lot, defects, model)
     p.check_scope(scope)
-    _a, r = levels_options(aql, rql, defects, need=False)
+    a, r = levels_options(aql, rql, defects, need=False)
     ps = outputs.attribute_grid(p, scope, mdl, max_p=max_p, points=points, at=at, rql=r)
-    return Reply(body=outputs.attribute_oc(p, scope, mdl, ps))
+    return Reply(body=outputs.attribute_oc(p, scope, mdl, ps, aql=a, rql=r))
 
 
 def compare(q) -> Reply:

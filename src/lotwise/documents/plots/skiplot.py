@@ -17,7 +17,7 @@ def skiplot_figure(plan: SkipLotPlan, scope: Scope, ax=None, *, model=None, max_
     """OC curve of the skip-lot plan beside its reference plan's, and the
     average fraction of lots inspected ``F`` (dotted). Returns the figure."""
     from lotwise.analysis.audit import quality_at
-    from lotwise.documents.plots.style import STYLE, pct_axis, new_axes
+    from lotwise.documents.plots.style import STYLE, pct_axis, new_axes, target_point
 
     model = scope.check_model(model)
     fig, ax = new_axes(ax)
@@ -33,12 +33,12 @@ def skiplot_figure(plan: SkipLotPlan, scope: Scope, ax=None, *, model=None, max_
             **STYLE["poisson"])
     ax.plot(ps, plan.fraction_inspected(ps, model, scope),
             label="fraction of lots inspected F", **STYLE["binomial"])
-    for level, marker, name in ((aql, "o", "AQL"), (rql, "s", "RQL")):
+    for level, marker, name, rounding in ((aql, "o", "AQL", "up"), (rql, "s", "RQL", "down")):
         if level is not None:
-            y = float(plan.pa(level, model, scope))
-            ax.plot([level], [y], marker=marker, markersize=7, markerfacecolor="white",
+            y, where, x = target_point(plan, level, model, scope, rounding)
+            ax.plot([x], [y], marker=marker, markersize=7, markerfacecolor="white",
                     markeredgecolor="0.0", markeredgewidth=1.3, linestyle="none",
-                    label=f"{name}: Pa {y:.3f}")
+                    label=f"{name}{where}: Pa {y:.3f}")
     ax.set_xlim(0, max_p)
     ax.set_ylim(0, 1.02)
     ax.set_ylabel("Probability / fraction of lots", fontsize=9.5)

@@ -23,7 +23,7 @@ from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["oc_figure", "curve_figure", "new_axes", "STYLE"]
+__all__ = ["oc_figure", "curve_figure", "new_axes", "target_point", "STYLE"]
 
 #: Line styles by role; grey levels rather than hues.
 STYLE = {
@@ -41,17 +41,33 @@ STYLE = {
 MARKERS = ("o", "s", "^", "D", "v", "P")
 
 
+class _Figures:
+    """The three pyplot calls the plots make (``figure``, ``subplots``,
+    ``close``) on matplotlib's object API: a ``Figure`` with an Agg canvas,
+    never pyplot (no GUI backend, no global figure registry, a faster
+    import). Saving to PDF or SVG picks that backend by the file format."""
+
+    @staticmethod
+    def figure(figsize=None, dpi=None):
+        from matplotlib.backends.backend_agg import FigureCanvasAgg
+        from matplotlib.figure import Figure
+
+        fig = Figure(figsize=figsize, dpi=dpi)
+        FigureCanvasAgg(fig)
+        return fig
+
+    def subplots(self, nrows=1, ncols=1, *, figsize=None, dpi=None, **kw):
+        fig = self.figure(figsize=figsize, dpi=dpi)
+        return fig, fig.subplots(nrows, ncols, **kw)
+
+    @staticmethod
+    def close(fig) -> None:
+        """Nothing to release: the figure is not registered anywhere."""
+
+
 def mpl():
-    import matplotlib
-
-    if matplotlib.get_backend().lower() not in ("agg", "pdf", "svg", "module://matplotlib_inline.backend_inline"):
-        try:
-            matplotlib.use("Agg")
-        except Exception:  # pragma: no cover - a backend already chosen interactively
-            pass
-    import matplotlib.pyplot as plt
-
-    return plt
+    """The figure factory of every plot (see :class:`_Figures`)."""
+    return _Figures()
 
 
 def new_axes(ax=None, size=(6.4, 4.0)):
@@ -129,6 +145,11 @@ def oc_figure(items, *, models=None, aql=None, rql=None, alpha=None, beta=None,
             style, name = STYLE["exact"], f"{labels[0]}: {m} (exact)"
         else:
             style, name = STYLE.get(m, STYLE["poisson"]), f"{labels[0]}: {m}"
+        if m == "hypergeometric" and scope0.lot_size:  # at the whole counts a lot can hold
+            N = scope0.lot_size
+            xs = np.arange(0, min(N, int(np.ceil(max_p * N))) + 1) / N
+            ax.plot(xs, plan0.pa_count(xs * N, scope0), label=name, **style)
+            continue
         ax.plot(ps, plan0.pa(ps, m, scope0), label=name, **style)
 
     for i, (plan, scope) in enumerate(items[1:]):
@@ -137,15 +158,15 @@ def oc_figure(items, *, models=None, aql=None, rql=None, alpha=None, beta=None,
         ax.plot(ps, plan.pa(ps, scope.exact_model, scope), label=f"{labels[i + 1]}: {own}",
                 **style)
 
-    for level, marker, name in ((aql, "o", "AQL"), (rql, "s", "RQL")):
+    for level, marker, name, rounding in ((aql, "o", "AQL", "up"), (rql, "s", "RQL", "down")):
         if level is None:
             continue
-        y = float(plan0.pa(level, exact, scope0))
-        ax.plot([level, level], [0, y], color="0.55", linewidth=0.7, linestyle=":")
-        ax.plot([0, level], [y, y], color="0.55", linewidth=0.7, linestyle=":")
-        ax.plot([level], [y], marker=marker, markersize=7, markerfacecolor="white",
+        y, where, x = target_point(plan0, level, exact, scope0, rounding)
+        ax.plot([x, x], [0, y], color="0.55", linewidth=0.7, linestyle=":")
+        ax.plot([0, x], [y, y], color="0.55", linewidth=0.7, linestyle=":")
+        ax.plot([x], [y], marker=marker, markersize=7, markerfacecolor="white",
                 markeredgecolor="0.0", markeredgewidth=1.3, linestyle="none",
-                label=f"{name} {100 * level:.3g} %: Pa {y:.3f}" if not per_unit
+                label=f"{name} {100 * level:.3g} %{where}: Pa {y:.3f}" if not per_unit
                 else f"{name} {level:g}/unit: Pa {y:.3f}")
 
     ax.set_xlim(0, max_p)
@@ -159,6 +180,20 @@ def oc_figure(items, *, models=None, aql=None, rql=None, alpha=None, beta=None,
     ax.legend(fontsize=7.5, frameon=False, loc="upper right")
     _tidy(fig)
     return fig
+
+
+def target_point(plan, level: float, model: str, scope, rounding: str):
+    """``(Pa, words, x)`` at an AQL (``rounding='up'``) or RQL (``'down'``) as
+    the check and the OC table state it: in a finite lot at the whole count
+    ``D`` design uses, with ``words`` = ``" (D = d of N)"`` and the point drawn
+    at ``x = D/N`` on the whole-count curve; elsewhere at the level itself."""
+    if model == "hypergeometric" and plan.attribute_plan and scope.lot_size:
+        from lotwise.core.types import lot_counts
+
+        d = int(lot_counts(level, scope.lot_size, rounding))
+        return (float(plan.pa_count(d, scope)), f" (D = {d} of {scope.lot_size})",
+                d / scope.lot_size)
+    return float(plan.pa(level, model, scope)), "", level
 
 
 def curve_figure(x, curves, *, xlabel, ylabel, per_unit=False, ax=None, title=None,

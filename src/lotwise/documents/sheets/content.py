@@ -184,12 +184,23 @@ def _guarantees(rep, per_unit: bool) -> list:
     if "asn" in rep:
         name += (f"; average sample {rep['asn']['aql']:.1f} at the AQL, "
                  f"{rep['asn']['rql']:.1f} at the RQL")
-    out = [
-        f"{ch['id']} ({name}): accepts lots at "
-        f"{_lvl(q['producer'], per_unit)}{unit} {format_pct(1 - t['alpha'])} of the time (the "
-        f"AQL it really protects), at {_lvl(q['indifference'], per_unit)} half the time, and at "
-        f"{_lvl(q['consumer'], per_unit)} {format_pct(t['beta'])} of the time (the RQL it "
-        "really gives)."]
+    counts = rep.get("plan_quality_counts")
+    if counts is not None:  # finite lot: whole counts, each with its true Pa
+        pa, N = rep["plan_quality_pa"], rep["lot_size"]
+        at = {s: f"{counts[s]} of {N} nonconforming ({format_pct(q[s], 3)}) "
+                 f"{format_pct(round(pa[s], 12))} of the time" for s in counts}
+        out = [f"{ch['id']} ({name}): accepts lots holding {at['producer']} (the AQL it "
+               f"really protects: the largest count accepted at least "
+               f"{format_pct(1 - t['alpha'])} of the time), {at['indifference']} (the count "
+               f"nearest half the time), and {at['consumer']} (the RQL it really gives: the "
+               f"smallest count accepted at most {format_pct(t['beta'])} of the time)."]
+    else:
+        out = [
+            f"{ch['id']} ({name}): accepts lots at "
+            f"{_lvl(q['producer'], per_unit)}{unit} {format_pct(1 - t['alpha'])} of the time "
+            f"(the AQL it really protects), at {_lvl(q['indifference'], per_unit)} half the "
+            f"time, and at {_lvl(q['consumer'], per_unit)} {format_pct(t['beta'])} of the time "
+            "(the RQL it really gives)."]
     if "aoql" in rep:
         out.append(
             f"{ch['id']}, rejected lots screened 100 %: AOQL {format_pct(rep['aoql'], 3)} "
@@ -247,7 +258,9 @@ def _model_note(pp) -> str:
             lc = rep["lot_counts"]
             parts.append(f"{rep['characteristic']['id']}: AQL -> {lc['aql']}, RQL -> {lc['rql']}")
         note += (" Lot counts of nonconforming items, rounded up at the AQL and down at the RQL "
-                 "(the conservative way for each risk): " + "; ".join(parts) + ".")
+                 "(the conservative way for each risk): " + "; ".join(parts) + ". The OC "
+                 "table's rows are whole counts D of the lot (p = D/N, column lot_count), so "
+                 "no row is rounded.")
     return note
 
 
@@ -311,7 +324,8 @@ def build_content(pp, *, picks=None, today: _dt.date | None = None,
 
 def oc_rows(pp, points: int = 41):
     """OC table (header, rows) for every characteristic's plan under every model
-    that applies to it (a plan of another type under its own model)."""
+    that applies to it (a plan of another type under its own model). In a
+    finite lot the rows are the whole counts ``D`` of the lot (``p = D/N``)."""
     import numpy as np
 
     from lotwise.analysis.audit import oc_grid, quality_at
@@ -327,6 +341,10 @@ def oc_rows(pp, points: int = 41):
     if not scope.defects:
         top = min(top, 1.0)
     ps = np.linspace(0.0, top, points)
+    if scope.lot_size and not scope.defects:
+        # a finite lot: every row a whole count D/N, so the lot_count column
+        # needs no rounding and serves every characteristic's plan
+        ps = np.unique(np.round(ps * scope.lot_size)) / scope.lot_size
     header = ["p"]
     cols = []
     lot_count = None

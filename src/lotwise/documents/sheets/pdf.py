@@ -4,8 +4,9 @@ The page is A4 portrait. Text is laid out top to bottom with a cursor;
 tables are aligned in fixed columns; the OC figure sits beside the
 plain-words guarantees. If the content would run past the bottom margin the
 page is laid out again with slightly smaller type, so the sheet is always
-exactly one page. Fonts are embedded as TrueType (``pdf.fonttype = 42``) so
-the numbers can be extracted from the PDF text.
+exactly one page. The text is set in the PDF core font Helvetica
+(:data:`CORE_FONTS`), which every reader has, so nothing is embedded and the
+numbers can be extracted from the PDF text.
 """
 
 from __future__ import annotations
@@ -19,6 +20,11 @@ from lotwise.documents.sheets.figures import aoq_plot, oc_plot
 __all__ = ["render"]
 
 PAGE_W, PAGE_H = 8.27, 11.69  # inches, A4
+
+#: The page's fonts: the PDF core Helvetica (no font file embedded or
+#: subset; the sheet's text is plain ASCII and the minus sign is the hyphen).
+CORE_FONTS = {"pdf.use14corefonts": True, "font.family": "sans-serif",
+              "font.sans-serif": ["Helvetica"], "axes.unicode_minus": False}
 MARGIN = 0.55
 
 
@@ -81,7 +87,7 @@ def _hline(fig, x0, x1, y):
                   linewidth=0.6, transform=fig.transFigure)
 
 
-def _layout(content, pp, scale: float):
+def _layout(content, pp, scale: float, figures: bool = True):
     from lotwise.documents.plots.style import mpl
 
     plt = mpl()
@@ -118,12 +124,14 @@ def _layout(content, pp, scale: float):
         plot_w = 4.1 if rect else 4.05
         ax = fig.add_axes([MARGIN / PAGE_W + 0.045, (top - plot_h) / PAGE_H + 0.028,
                            plot_w / PAGE_W, (plot_h - 0.35) / PAGE_H])
-        oc_plot(pp, ax=ax)
+        if figures:  # a trial layout only measures the text
+            oc_plot(pp, ax=ax)
         if rect:
             ax2 = fig.add_axes([(MARGIN + plot_w + 0.75) / PAGE_W, (top - plot_h) / PAGE_H
                                 + 0.028, (PAGE_W - 2 * MARGIN - plot_w - 0.8) / PAGE_W,
                                 (plot_h - 0.5) / PAGE_H])
-            aoq_plot(pp, ax=ax2)
+            if figures:
+                aoq_plot(pp, ax=ax2)
             for t in (ax2.title, ax2._left_title):
                 t.set_fontsize(7.5)
             ax2.xaxis.label.set_fontsize(7)
@@ -165,17 +173,33 @@ def _layout(content, pp, scale: float):
 
 def render(content, pp) -> bytes:
     """PDF bytes of exactly one page."""
-    import matplotlib
-
     from lotwise.documents.plots.style import mpl
 
+    import logging
+
     plt = mpl()
-    with matplotlib.rc_context({"pdf.fonttype": 42, "font.family": "DejaVu Sans"}):
+    # The core Helvetica's metrics file calls its regular weight "Medium"; the
+    # font manager warns of the substitution it makes on purpose.
+    fm_log = logging.getLogger("matplotlib.font_manager")
+    level = fm_log.level
+    fm_log.setLevel(logging.ERROR)
+    try:
+        return _render(content, pp, plt)
+    finally:
+        fm_log.setLevel(level)
+
+
+def _render(content, pp, plt) -> bytes:
+    import matplotlib
+
+    with matplotlib.rc_context(CORE_FONTS):
         for scale in (1.0, 0.93, 0.86, 0.8, 0.74, 0.68):
-            fig, bottom = _layout(content, pp, scale)
+            # the cursor does not depend on the figures: draw them once, at the end
+            fig, bottom = _layout(content, pp, scale, figures=False)
+            plt.close(fig)
             if bottom >= MARGIN * 0.6:
                 break
-            plt.close(fig)
+        fig, _ = _layout(content, pp, scale)
         buf = io.BytesIO()
         fig.savefig(buf, format="pdf", metadata={"Creator": "lotwise",
                                                  "Title": content.title})
