@@ -85,6 +85,7 @@ quality it lets through, reached when lots arrive near 7.7 % nonconforming:
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -296,9 +297,50 @@ def aoql(plan, scope: Scope, model: str | None = None, formula: str = "screened"
     """
     check_formula(formula, "formula")
     model = scope.check_model(model)
+    if getattr(plan, "imperfect_screening", False):
+        return aoq_peak(plan, scope, model, formula)
     if model == "hypergeometric":
         return _aoql_counts(plan, scope, formula)
     return _aoql_continuous(plan, model, scope, formula)
+
+
+def _first_peak(vals) -> int:
+    """Index of the first local maximum of a sequence."""
+    vals = np.asarray(vals, dtype=float)
+    down = np.flatnonzero(np.diff(vals) < 0)
+    return int(down[0]) if down.size else len(vals) - 1
+
+
+def aoq_peak(plan, scope: Scope, model: str, formula: str = "screened") -> AOQL:
+    """The AOQL of a plan whose screening misses nonconforming items: the first peak
+    of the AOQ curve over the levels the plan sentences (up to where ``Pa`` has
+    fallen to 1e-9). Beyond them nearly every lot is screened and the AOQ rises
+    again towards ``e2 p`` (the miss rate times the incoming quality), which the
+    report states separately."""
+    top = _top_level(plan, model, scope)
+    if model == "hypergeometric":
+        N = int(scope.lot_size)
+        dmax = int(min(N, math.ceil(top * N)))
+        d = np.unique(np.linspace(0, dmax, min(dmax + 1, _GRID + 1)).round())
+        vals = np.asarray(aoq_count(plan, d, scope, formula), dtype=float)
+        i = _first_peak(vals)
+        fine = np.arange(d[max(i - 1, 0)], d[min(i + 1, len(d) - 1)] + 1, dtype=float)
+        fv = np.asarray(aoq_count(plan, fine, scope, formula), dtype=float)
+        j = _first_peak(fv)
+        return AOQL(value=float(fv[j]), at=float(fine[j] / N), count=int(fine[j]),
+                    model=model, formula=formula, lot_size=N)
+    grid = np.linspace(0.0, top, _GRID + 1)
+    vals = np.asarray(aoq(plan, grid, model, scope, formula), dtype=float)
+    i = _first_peak(vals)
+    if i == len(grid) - 1:
+        return AOQL(value=float(vals[i]), at=float(grid[i]), model=model, formula=formula,
+                    lot_size=scope.lot_size)
+    f = plan.aoq_function(model, scope, formula=formula)
+    x, fx = brent_max(f, float(grid[max(i - 1, 0)]), float(grid[i + 1]))
+    if fx < vals[i]:
+        x, fx = float(grid[i]), float(vals[i])
+    return AOQL(value=float(fx), at=float(x), model=model, formula=formula,
+                lot_size=scope.lot_size)
 
 
 # --- vectorised AOQL of many single plans (used by the least-inspection designer) -
@@ -478,9 +520,17 @@ def render_rectifying(rep: dict, per_unit: bool = False) -> str:
     if "ati" in rep:
         header += ["ATI at AQL", "ATI at RQL"]
     lines.append(table(rows, header, indent="    "))
-    lines.append(f"    - Whatever the incoming quality, the outgoing quality averages no worse "
-                 f"than {format_outgoing(rep['aoql'], per_unit)} (the AOQL), reached when lots "
-                 f"arrive at {format_level(rep['aoql_p'], per_unit)}.")
+    miss = (rep.get("inspection_error") or {}).get("miss_rate", 0.0)
+    if miss > 0:  # imperfect screening: the AOQ rises again beyond its first peak
+        lines.append(f"    - Over the levels the plan sentences the outgoing quality averages "
+                     f"at most {format_outgoing(rep['aoql'], per_unit)} (the AOQL), reached "
+                     f"when lots arrive at {format_level(rep['aoql_p'], per_unit)}; screening "
+                     f"that misses {format_pct(miss)} of nonconforming items lets worse "
+                     "incoming quality out in proportion.")
+    else:
+        lines.append(f"    - Whatever the incoming quality, the outgoing quality averages no "
+                     f"worse than {format_outgoing(rep['aoql'], per_unit)} (the AOQL), reached "
+                     f"when lots arrive at {format_level(rep['aoql_p'], per_unit)}.")
     if "ati" in rep:
         lines.append(f"    - Items inspected per lot of {N}: {rep['ati']['aql']:,.1f} on average "
                      f"at the AQL, {rep['ati']['rql']:,.1f} at the RQL.")

@@ -33,6 +33,9 @@ def check(
     prior: Optional[str] = prior_cli.PRIOR, prior_from: Optional[str] = prior_cli.PRIOR_FROM,
     part: Optional[str] = prior_cli.PART, supplier: Optional[str] = prior_cli.SUPPLIER,
     half_life: Optional[str] = prior_cli.HALF_LIFE,
+    miss_rate: Optional[str] = common.MISS_RATE,
+    false_alarm: Optional[str] = common.FALSE_ALARM,
+    study: Optional[str] = common.STUDY,
     as_json: bool = common.JSON,
 ):
     """Audit a plan (or re-verify plan files): the risks it really carries.
@@ -49,10 +52,14 @@ def check(
     if paths:
         if plan is not None or n is not None or c is not None:
             raise InputError("give plan files/folders or --plan/--n/--c, not both")
+        if common.error_rates(miss_rate, false_alarm, study) is not None:
+            raise InputError("--miss-rate/--false-alarm/--study apply to --plan/--n/--c; a "
+                             "plan file states its rates in its [inspection] table")
         from .sheets import check_folder
 
         raise typer.Exit(check_folder(paths, as_json))
     p = common.plan_from(plan, n, c)
+    rates = common.error_rates(miss_rate, false_alarm, study)
     if p.evaluation == "flow":  # continuous sampling: long-run figures at --at levels
         from .csp import check_cmd as flow_check
 
@@ -60,7 +67,9 @@ def check(
                           unused={"--aql": aql, "--rql": rql, "--lot-size": lot,
                                   "--defects": defects, "--aoq-formula": aoq_formula,
                                   "--skip-lot": skip_lot, "--aoq-plot": aoq_plot,
-                                  "--prior": prior, "--prior-from": prior_from})
+                                  "--prior": prior, "--prior-from": prior_from,
+                                  "--miss-rate": miss_rate, "--false-alarm": false_alarm,
+                                  "--study": study})
     for opt, val in (("--at", at), ("--run-length", run_length)):
         if val:
             raise InputError(f"{opt} ({val if opt == '--run-length' else ', '.join(val)}) "
@@ -77,13 +86,15 @@ def check(
     al, be = common.risks(alpha, beta)
     scope, mdl = common.scope_and_model(lot, defects, model)
     p = p.for_scope(scope)  # checks the scope; a plan may be meant per the scope
+    p = common.with_errors(p, rates, scope)  # judged at the true quality
     if not r > a:
         common.levels_out_of_order(a, r, defects, as_json)
     if aoq_formula is not None and not scope.lot_size:
         raise InputError(f"--aoq-formula ({aoq_formula}) needs --lot-size (AOQ and ATI are "
                          "computed for lots of a known size)")
     targets = Targets(aql=a, rql=r, alpha=al, beta=be)
-    rep = assess(p, targets, scope, mdl, aoq_formula=aoq_formula).to_json()
+    rep = common.add_rates(assess(p, targets, scope, mdl, aoq_formula=aoq_formula).to_json(),
+                           rates)
     rep = rect_cli.check_extras(rep, p, scope, mdl, targets, aoq_formula=aoq_formula,
                                 skip_lot=skip_lot, aoq_plot=aoq_plot, force=force)
     rep = prior_cli.add_posterior(rep, p, pri, info, targets, scope, skip_lot)

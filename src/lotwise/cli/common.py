@@ -154,3 +154,48 @@ def nice(x: float) -> float:
 def fmt_level(x: float, per_unit: bool) -> str:
     """A quality level in an OC table: per unit, or a percentage."""
     return f"{x:.6g}" if per_unit else f"{100 * x:.4g} %"
+
+
+# --- imperfect inspection (design, check, oc, compare) -------------------------------
+
+MISS_RATE = typer.Option(None, "--miss-rate", help="Share of nonconforming items the inspection passes as conforming (0.1 or 10%); figures are then at the true quality.")
+FALSE_ALARM = typer.Option(None, "--false-alarm", help="Share of conforming items the inspection flags as nonconforming.")
+STUDY = typer.Option(None, "--study", help='The two rates from an agreement study, e.g. "missed 4 of 50 nonconforming; flagged 2 of 50 conforming" (risks also shown at the 95 % upper bounds).')
+
+
+def error_rates(miss_rate, false_alarm, study):
+    """The :class:`~lotwise.core.inspection.ErrorRates` of ``--miss-rate``,
+    ``--false-alarm`` or ``--study``; None when none is given."""
+    from lotwise.core.inspection import ErrorRates, parse_rate, parse_study
+
+    if study is not None:
+        if miss_rate is not None or false_alarm is not None:
+            opt, val = ("--miss-rate", miss_rate) if miss_rate is not None \
+                else ("--false-alarm", false_alarm)
+            raise InputError(f"{opt} ({val}) cannot be combined with --study (the study gives "
+                             "both rates)")
+        return parse_study(study, "--study")
+    if miss_rate is None and false_alarm is None:
+        return None
+    e2 = parse_rate(miss_rate, "--miss-rate") if miss_rate is not None else 0.0
+    e1 = parse_rate(false_alarm, "--false-alarm") if false_alarm is not None else 0.0
+    from lotwise.core.inspection import check_rates
+
+    check_rates(e2, e1)
+    return ErrorRates(miss_rate=e2, false_alarm=e1)
+
+
+def with_errors(plan, rates, scope):
+    """``plan`` (already fitted to ``scope``) judged under ``rates`` (unchanged without)."""
+    if rates is None:
+        return plan
+    from lotwise.families.misclassified import wrap
+
+    return wrap(plan, rates).for_scope(scope)
+
+
+def add_rates(rep: dict, rates) -> dict:
+    """``inspection_error`` in a report whose plan was not wrapped (both rates zero)."""
+    if rates is not None and "inspection_error" not in rep:
+        rep["inspection_error"] = rates.as_dict()
+    return rep

@@ -60,10 +60,13 @@ def design(
     half_life: Optional[str] = prior_cli.HALF_LIFE, cost_inspect: Optional[str] = prior_cli.COST_INSPECT,
     cost_escape: Optional[str] = prior_cli.COST_ESCAPE, cost_reject_lot: Optional[str] = prior_cli.COST_REJECT,
     sheet: Optional[str] = prior_cli.SHEET, deliveries: Optional[str] = prior_cli.DELIVERIES,
+    miss_rate: Optional[str] = common.MISS_RATE, false_alarm: Optional[str] = common.FALSE_ALARM,
+    study: Optional[str] = common.STUDY,
     as_json: bool = common.JSON,
 ):
     """Design the plan with the smallest sample meeting both risks (or, --minimize cost, the cheapest)."""
     opts = dict(locals())
+    rates = common.error_rates(opts.pop("miss_rate"), opts.pop("false_alarm"), opts.pop("study"))
     key = scheme.strip().lower()
     names = list(SCHEMES) + [f for f in _registered() if f not in SCHEMES]
     if key not in names:
@@ -77,6 +80,10 @@ def design(
                          f"single plans), not {key}")
     import importlib
 
+    if rates is not None:  # the true risks held under inspection errors
+        from .inspection import design_cmd
+
+        return design_cmd(rates, **{**opts, "scheme": key})
     module, func = target.split(":")
     handler = getattr(importlib.import_module(f"{__package__}.{module}"), func)
     opts["scheme"] = key

@@ -26,19 +26,26 @@ def oc_table(
     csv: Optional[str] = typer.Option(None, "--csv", help="Write the table as CSV to PATH, or - for stdout."),
     plot: Optional[str] = typer.Option(None, "--plot", help="Draw the OC curve to PATH.png or PATH.svg."),
     force: bool = typer.Option(False, "--force", help="Overwrite files not written by lotwise."),
+    miss_rate: Optional[str] = common.MISS_RATE,
+    false_alarm: Optional[str] = common.FALSE_ALARM,
+    study: Optional[str] = common.STUDY,
     as_json: bool = common.JSON,
 ):
     """OC table: exact and Poisson acceptance probabilities side by side."""
     from lotwise.analysis.outputs import attribute_oc
 
     p = common.plan_from(plan, n, c)
+    rates = common.error_rates(miss_rate, false_alarm, study)
     if p.evaluation == "flow":  # continuous sampling: AFI, AOQ and pa per produced unit
         from .csp import oc_cmd as flow_oc
 
         return flow_oc(p, max_p=max_p, points=points, at=at, csv=csv, plot=plot, model=model,
                        force=force, as_json=as_json,
                        unused={"--lot-size": lot, "--defects": defects, "--aql": aql,
-                               "--rql": rql})
+                               "--rql": rql, "--miss-rate": miss_rate,
+                               "--false-alarm": false_alarm, "--study": study})
+    if p.evaluation == "process" and rates is not None:
+        common.with_errors(p, rates, None)  # refused: a gauge's error is --measurement-sd
     if p.evaluation == "process":  # a measured process: the plan's own normal-theory OC
         from .variables import oc_cmd as process_oc
 
@@ -46,11 +53,12 @@ def oc_table(
                           plot=plot, force=force, as_json=as_json)
     scope, mdl = common.scope_and_model(lot, defects, model)
     p = p.for_scope(scope)  # checks the scope; a plan may be meant per the scope
+    p = common.with_errors(p, rates, scope)  # Pa at the true quality
     a, r = common.levels(aql, rql, defects, need=False)
     if plot is not None and not plot.lower().endswith((".png", ".svg", ".pdf")):
         raise InputError(f"--plot ({plot}) must end in .png, .svg or .pdf")
     ps = common.level_grid(p, scope, mdl, max_p, points, at, r)
-    out = attribute_oc(p, scope, mdl, ps, aql=a, rql=r)
+    out = common.add_rates(attribute_oc(p, scope, mdl, ps, aql=a, rql=r), rates)
     header, rows = out["columns"], out["rows"]
     if csv is not None:
         common.write_csv(csv, header, rows, force=force)
@@ -91,6 +99,6 @@ def _cell(key: str, v) -> str:
         return f"{v:+.5f}"
     if key == "lot_count":
         return str(v)
-    if key in ("aoq", "wald_pa"):
+    if key in ("aoq", "wald_pa", "error_free_pa"):
         return f"{v:.5f}"
     return f"{v:.1f}"

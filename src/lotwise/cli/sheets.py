@@ -142,6 +142,9 @@ def compare(
     designed: bool = typer.Option(False, "--designed", help="Add the single, double and sequential plans designed for --aql/--rql (the trade-off view)."),
     plot: Optional[str] = typer.Option(None, "--plot", help="OC curves of all plans to PATH.png/.svg."),
     force: bool = typer.Option(False, "--force", help="Overwrite files lotwise did not write."),
+    miss_rate: Optional[str] = common.MISS_RATE,
+    false_alarm: Optional[str] = common.FALSE_ALARM,
+    study: Optional[str] = common.STUDY,
     as_json: bool = common.JSON,
 ):
     """Several plans side by side: risks, quality levels, ASN, one OC plot."""
@@ -149,6 +152,11 @@ def compare(
     from lotwise.core.types import Scope
     from lotwise.families.base import parse_plan
     from lotwise.core.quantities import format_level, format_pct
+    rates = common.error_rates(miss_rate, false_alarm, study)
+    if rates is not None and (designed or files):
+        raise InputError("--miss-rate/--false-alarm/--study apply to the --plan entries of "
+                         "compare, not to --designed or plan files (a plan file states its "
+                         "rates in its [inspection] table)")
     entries = []  # (label, plan, targets, scope, model)
     for pp in _resolve_files(files or []):
         for rep, p in zip(pp.reports, pp.plans):
@@ -172,6 +180,8 @@ def compare(
             if scope.lot_size and p.max_sample > scope.lot_size:
                 raise InputError(f"--plan #{i} ({text}): the plan inspects up to "
                                  f"{p.max_sample} units, more than --lot-size ({scope.lot_size})")
+            if rates is not None:
+                p = common.with_errors(p.for_scope(scope), rates, scope)
             entries.append((p.label, p, Targets(aql=a, rql=r, alpha=al, beta=be), scope, mdl))
     if len(entries) < 2:
         raise InputError("compare needs at least two plans: give --plan twice or more, or plan "
@@ -191,7 +201,7 @@ def compare(
                         max_p=max(1.3 * e[2].rql for e in entries))
         save_figure(fig, plot, force=force)
     if as_json:
-        common.emit_json({"plans": rows_})
+        common.emit_json(common.add_rates({"plans": rows_}, rates) if rates else {"plans": rows_})
         return
     rows = []
     for r in rows_:

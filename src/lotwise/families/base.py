@@ -373,6 +373,11 @@ class Plan(ABC):
         ``(i, f)`` over it (None); a skip-lot plan answers with its reference."""
         return self, None
 
+    def family_record(self) -> "Family":
+        """The :class:`Family` whose hooks (extras, OC columns, Poisson redesign)
+        describe this plan: its scheme's, unless the plan wraps another."""
+        return family(self.scheme, "plan")
+
     def describe(self) -> list[str]:
         """The plan's rule in words, one or more lines for reports."""
         return [f"plan      {self.label}"]
@@ -597,8 +602,10 @@ def designable() -> list[str]:
 
 
 def family_of(plan) -> Family:
-    """The family of a plan object."""
-    return family(plan.scheme, "plan")
+    """The family of a plan object (as the plan itself says, see
+    :meth:`Plan.family_record`)."""
+    own = getattr(plan, "family_record", None)
+    return own() if own is not None else family(plan.scheme, "plan")
 
 
 _PAIR = re.compile(r"^\s*([A-Za-z][A-Za-z0-9_]*)\s*=\s*(.*?)\s*$")
