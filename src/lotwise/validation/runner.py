@@ -592,6 +592,11 @@ PROVIDERS: list[str] = [
     "lotwise.validation.cases:sequential_cases",
     "lotwise.validation.cases:variables_cases",
     "lotwise.validation.csp_cases:validation_cases",
+    "lotwise.validation.workflow_cases:records_ci_cases",
+    "lotwise.validation.workflow_cases:sheet_cases",
+    "lotwise.validation.workflow_cases:judge_cases",
+    "lotwise.validation.workflow_cases:two_limit_cases",
+    "lotwise.validation.workflow_cases:draw_cases",
 ]
 
 
