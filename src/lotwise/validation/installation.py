@@ -30,11 +30,11 @@ Examples
 >>> (root / "sub").mkdir(parents=True)
 >>> _ = (root / "a.py").write_text("x = 1\\n")
 >>> _ = (root / "sub" / "b.py").write_text("y = 2\\n")
->>> _ = write_manifest(root, root / "manifest.json")
->>> check_files(root, manifest=root / "manifest.json").ok
+>>> _ = write_manifest(root, root / MANIFEST_NAME)
+>>> check_files(root).ok
 True
 >>> _ = (root / "a.py").write_text("x = 2\\n")
->>> chk = check_files(root, manifest=root / "manifest.json")
+>>> chk = check_files(root)
 >>> chk.ok, chk.changed
 (False, ['a.py'])
 """

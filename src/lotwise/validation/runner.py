@@ -287,9 +287,8 @@ def _n50_c1_table() -> list:
         for p in (0.005, 0.01, 0.02, 0.03, 0.04, 0.05, 0.06, 0.08)]
 
 
-def single_sampling_cases() -> list:
-    """Reference cases of single sampling by attributes (those tests/test_design_single.py
-    checks)."""
+def _cameron_cases() -> list:
+    """Cameron's Poisson unity values, published and exact."""
     from lotwise.validation import independent as ind
 
     cases = []
@@ -313,6 +312,37 @@ def single_sampling_cases() -> list:
                                "values (c = 6 and c = 9 at Pa = 0.95) are one unit off in the "
                                "third decimal, so the case passes on the exact value",
                 compute=lambda c=c, prob=prob: _unity(c, prob), needs=("mpmath",)))
+    return cases
+
+
+def _success_run_cases() -> list:
+    """Accept-on-zero (and c = 1) confidence/reliability sample sizes."""
+    from lotwise.validation import independent as ind
+
+    cases = []
+    for cid, c, conf, rel, val in (("c0-95-95", 0, 0.95, 0.95, 59), ("c0-90-90", 0, 0.90, 0.90, 22),
+                                   ("c0-95-99", 0, 0.95, 0.99, 299), ("c1-95-95", 1, 0.95, 0.95, 93)):
+        cases.append(ReferenceCase(
+            id=f"zero-acceptance-{cid}" if c == 0 else f"acceptance-{cid}",
+            description=f"smallest n with c = {c} showing {rel:.0%} reliability at "
+                        f"{conf:.0%} confidence",
+            source="success-run confidence/reliability sizes (common practice, no source); "
+                   "value by independent computation: enumeration of n with mpmath binomial "
+                   "sums at 30 digits",
+            expected=lambda c=c, conf=conf, rel=rel: ind.success_run_n(rel, conf, c),
+            tolerance=0, published=val, published_note="the size as commonly quoted",
+            needs=("mpmath",),
+            compute=lambda c=c, conf=conf, rel=rel: _design(
+                aql=1e-9, rql=1.0 - rel, beta=1.0 - conf, c=c, model="binomial")[0]))
+    return cases
+
+
+def single_sampling_cases() -> list:
+    """Reference cases of single sampling by attributes (those tests/test_design_single.py
+    checks)."""
+    from lotwise.validation import independent as ind
+
+    cases = _cameron_cases()
     mont = (0.93969, 0.73658, 0.49848, 0.30416, 0.17208)
     for k, val in enumerate(mont, start=1):
         cases.append(ReferenceCase(
@@ -386,20 +416,7 @@ def single_sampling_cases() -> list:
             needs=("mpmath",),
             compute=lambda: _infeasible(aql=0.02, rql=0.15, alpha=0.10, beta=0.20, c=0)),
     ]
-    for cid, c, conf, rel, val in (("c0-95-95", 0, 0.95, 0.95, 59), ("c0-90-90", 0, 0.90, 0.90, 22),
-                                   ("c0-95-99", 0, 0.95, 0.99, 299), ("c1-95-95", 1, 0.95, 0.95, 93)):
-        cases.append(ReferenceCase(
-            id=f"zero-acceptance-{cid}" if c == 0 else f"acceptance-{cid}",
-            description=f"smallest n with c = {c} showing {rel:.0%} reliability at "
-                        f"{conf:.0%} confidence",
-            source="success-run confidence/reliability sizes (common practice, no source); "
-                   "value by independent computation: enumeration of n with mpmath binomial "
-                   "sums at 30 digits",
-            expected=lambda c=c, conf=conf, rel=rel: ind.success_run_n(rel, conf, c),
-            tolerance=0, published=val, published_note="the size as commonly quoted",
-            needs=("mpmath",),
-            compute=lambda c=c, conf=conf, rel=rel: _design(
-                aql=1e-9, rql=1.0 - rel, beta=1.0 - conf, c=c, model="binomial")[0]))
+    cases += _success_run_cases()
     cases.append(ReferenceCase(
         id="design-aql0_1-rql0_15",
         description="exact binomial design, AQL 0.1 %/alpha 5 %, RQL 0.15 %/beta 10 %",
