@@ -148,9 +148,17 @@ def is_temporary(name: str) -> bool:
 
 # --- checks before writing -------------------------------------------------------------
 
+def _stat(path):
+    """``os.stat`` of ``path``, or None where there is nothing (or a name too long)."""
+    try:
+        return os.stat(path)
+    except (OSError, ValueError):
+        return None
+
+
 def _existing_ancestor(folder: Path) -> Path:
     folder = Path(os.path.abspath(folder))
-    while not folder.exists() and folder.parent != folder:
+    while _stat(folder) is None and folder.parent != folder:
         folder = folder.parent
     return folder
 
@@ -172,7 +180,8 @@ def _check_base(base: Path, option: str, path) -> None:
 def check_folder(path, *, option: str = "--out") -> Path:
     """Raise :class:`InputError` unless ``path`` is a writable folder or can be made one."""
     path = Path(path)
-    if path.exists() and not path.is_dir():
+    st = _stat(path)
+    if st is not None and not stat.S_ISDIR(st.st_mode):
         raise InputError(f"{option} ({path}) is a file; give a folder")
     _check_base(_existing_ancestor(path), option, path)
     return path
@@ -192,23 +201,24 @@ def check_target(path, *, force: bool = False, option: str = "output",
     name = path.name
     if not name or name in (".", "..") or raw.endswith(("/", os.sep)):
         raise InputError(f"{option} ({path}) is not a file name; give one, e.g. out.csv")
-    if figure and path.suffix.lower() not in FIGURE_SUFFIXES:
-        raise InputError(f"{option} ({path}) must be a file name ending in .png, .svg or .pdf "
-                         "(for example oc.png)")
     if name in (RECORD, LOCK) or is_temporary(name):
         raise InputError(f"{option} ({path}): {name} is the name of lotwise's own "
                          "bookkeeping file; choose another name")
-    if path.is_dir():
-        raise InputError(f"{option} ({path}) is a folder; give a file name")
-    if path.exists() and not path.is_file():
-        raise InputError(f"{option} ({path}) exists and is not a regular file")
     base = _existing_ancestor(path.parent)
     _check_base(base, option, path)
     size, limit = len(os.fsencode(name)), _name_max(base)
     if size > limit:
         raise InputError(f"{option} ({path}): the file name is {size} bytes long; this file "
                          f"system allows at most {limit}")
-    if path.exists() and not force and not _owned(path, _read_record(path.parent)):
+    st = _stat(path)
+    if st is not None and stat.S_ISDIR(st.st_mode):
+        raise InputError(f"{option} ({path}) is a folder; give a file name")
+    if figure and path.suffix.lower() not in FIGURE_SUFFIXES:
+        raise InputError(f"{option} ({path}) must be a file name ending in .png, .svg or .pdf "
+                         "(for example oc.png)")
+    if st is not None and not stat.S_ISREG(st.st_mode):
+        raise InputError(f"{option} ({path}) exists and is not a regular file")
+    if st is not None and not force and not _owned(path, _read_record(path.parent)):
         raise InputError(f"{option} ({path}) exists and was not written by lotwise "
                          "(or was changed since); use --force to overwrite it")
     return path
