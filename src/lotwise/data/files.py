@@ -536,7 +536,10 @@ def _acquire(fd: int, path: Path):
 
         def attempt():
             os.lseek(fd, 0, os.SEEK_SET)
-            msvcrt.locking(fd, msvcrt.LK_NBLCK, 1)
+            try:
+                msvcrt.locking(fd, msvcrt.LK_NBLCK, 1)
+            except OSError as exc:  # held by another process (EACCES or EDEADLOCK)
+                raise BlockingIOError(*exc.args) from None
 
         def release():
             os.lseek(fd, 0, os.SEEK_SET)
