@@ -33,7 +33,7 @@ def batch(
     """
     from lotwise.data.batch import (SAFETY_NOTE, design_catalogue, parse_rate, progress_bar,
                                     read_catalogue)
-    from lotwise.data.files import check_writable, write_bytes
+    from lotwise.data.files import write_bytes
 
     if audit:
         from .scheme import batch_audit
@@ -44,8 +44,7 @@ def batch(
     if out == "-" and as_json:
         raise InputError("--out - (the plans on stdout) cannot be combined with --json")
     rate = parse_rate(deliveries, "--deliveries-per-year") if deliveries is not None else None
-    if out != "-":
-        check_writable(out, force=force, option="--out")
+    common.outputs(force, ("--out", out))
     df = read_catalogue(path, "CATALOGUE")
     cb, close = progress_bar(len(df)) if len(df) >= 2000 else (None, lambda: None)
     try:

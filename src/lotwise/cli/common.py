@@ -84,6 +84,23 @@ def csv_cell(v) -> str:
     return cell(v)
 
 
+def outputs(force: bool, *targets) -> None:
+    """Check every output path of a command before any work and any write.
+
+    Each target is ``(option, path)`` or ``(option, path, "figure")``; see
+    :func:`lotwise.data.files.check_outputs` (None and ``-`` are skipped).
+    """
+    from lotwise.data.files import check_outputs
+
+    check_outputs(*targets, force=force)
+
+
+def plot_path(plot, force: bool, option: str = "--plot"):
+    """``plot`` checked as a figure file name (.png, .svg or .pdf) that may be written."""
+    outputs(force, (option, plot, "figure"))
+    return plot
+
+
 def write_csv(dest: str, header, rows, *, force: bool, cell=csv_cell) -> None:
     """Table to ``dest`` (a path, written safely, or ``-`` for stdout)."""
     from lotwise.analysis.outputs import csv_text

@@ -124,10 +124,7 @@ def draw(
     if csv == "-" and as_json:
         raise InputError("--csv (-) cannot be combined with --json: both would write to "
                          "stdout; give --csv a file name")
-    if csv is not None and csv != "-":
-        from lotwise.data.files import check_writable
-
-        check_writable(csv, force=force, option="--csv")  # refuse before drawing
+    common.outputs(force, ("--csv", csv))  # refuse before drawing
     d = draw_units(lot_size=N, n=nn, seed=seed, strata=strata)
     if csv is not None:
         if csv == "-":

@@ -137,6 +137,7 @@ def judge(
                          "value of sigma to judge a sample")
     if plot is not None and not plot.lower().endswith(".png"):
         raise InputError(f"--plot ({plot}) must end in .png")
+    common.plot_path(plot, force)
     if (measurements is None) == (values is None):
         raise InputError("give the measurements either as a FILE or as --values 1.2,1.3,... "
                          "(one of them)")

@@ -12,12 +12,6 @@ def _scope(lot, defects, model):
     return common.scope_and_model(lot, defects, model)
 
 
-def _plot_path(plot):
-    if plot is not None and not plot.lower().endswith((".png", ".svg", ".pdf")):
-        raise InputError(f"--plot ({plot}) must end in .png, .svg or .pdf")
-    return plot
-
-
 def _not_for(scheme, **given):
     for opt, val in given.items():
         if val is not None and val is not False:
@@ -48,13 +42,13 @@ def _minimize(text) -> str:
     return t
 
 
-def _targets(aql, rql, alpha, beta, lot, model, defects, plot, scheme):
+def _targets(aql, rql, alpha, beta, lot, model, defects, plot, scheme, force):
     from lotwise.core.types import Targets
 
     a, r = common.levels(aql, rql, defects)
     al, be = common.risks(alpha, beta)
     scope, mdl = _scope(lot, defects, model)
-    plot = _plot_path(plot)
+    plot = common.plot_path(plot, force)
     targets = Targets(aql=a, rql=r, alpha=al, beta=be)
     base = {"scheme": scheme, "model": mdl, "lot_size": scope.lot_size,
             "targets": targets.as_dict()}
@@ -71,7 +65,7 @@ def design_double_cmd(*, scheme, aql, rql, alpha, beta, lot, model, defects, n, 
     """``lotwise design --scheme double``."""
     _not_for(scheme, n=n, c=c)
     targets, scope, mdl, plot, base = _targets(aql, rql, alpha, beta, lot, model, defects,
-                                               plot, scheme)
+                                               plot, scheme, force)
     _not_for(scheme, truncate=truncate)
     cap = parse_count(max_n, "--max-n", minimum=2) if max_n is not None else None
     return _design_double(targets, scope, mdl, _ratio(ratio), _minimize(minimize), cap,
@@ -83,7 +77,7 @@ def design_sequential_cmd(*, scheme, aql, rql, alpha, beta, lot, model, defects,
     """``lotwise design --scheme sequential``."""
     _not_for(scheme, n=n, c=c)
     targets, scope, mdl, plot, base = _targets(aql, rql, alpha, beta, lot, model, defects,
-                                               plot, scheme)
+                                               plot, scheme, force)
     _not_for(scheme, ratio=ratio, minimize=minimize, max_n=max_n)
     return _design_sequential(targets, scope, mdl, _truncate(truncate), plot, force, as_json,
                               base)
@@ -94,7 +88,7 @@ def compare_all_cmd(*, scheme, aql, rql, alpha, beta, lot, model, defects, n, c,
     """``lotwise design --scheme compare-all``: single, double and sequential side by side."""
     _not_for(scheme, n=n, c=c)
     targets, scope, mdl, plot, _base = _targets(aql, rql, alpha, beta, lot, model, defects,
-                                                plot, scheme)
+                                                plot, scheme, force)
     _not_for(scheme, max_n=max_n)
     return _compare_all(targets, scope, mdl, _ratio(ratio), _minimize(minimize),
                         _truncate(truncate), plot, force, as_json)

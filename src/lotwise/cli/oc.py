@@ -7,7 +7,6 @@ from typing import List, Optional
 import typer
 
 from . import app, common
-from lotwise.core.quantities import InputError
 
 
 @app.command("oc")
@@ -55,26 +54,17 @@ def oc_table(
     p = p.for_scope(scope)  # checks the scope; a plan may be meant per the scope
     p = common.with_errors(p, rates, scope)  # Pa at the true quality
     a, r = common.levels(aql, rql, defects, need=False)
-    if plot is not None and not plot.lower().endswith((".png", ".svg", ".pdf")):
-        raise InputError(f"--plot ({plot}) must end in .png, .svg or .pdf")
+    common.outputs(force, ("--csv", csv), ("--plot", plot, "figure"))
     ps = common.level_grid(p, scope, mdl, max_p, points, at, r)
     out = common.add_rates(attribute_oc(p, scope, mdl, ps, aql=a, rql=r), rates)
     header, rows = out["columns"], out["rows"]
-    if csv is not None:
-        common.write_csv(csv, header, rows, force=force)
-    if plot is not None:
-        from lotwise.data.files import save_figure
+    from lotwise.data.files import all_or_nothing
 
-        top = float(ps.max()) if len(ps) and ps.max() > 0 else None
-        if p.varying_sample:
-            from lotwise.documents.plots.multistage import oc_asn_figure
-
-            fig = oc_asn_figure(p, scope, model=mdl, aql=a, rql=r, max_p=top)
-        else:
-            from lotwise.documents.plots.style import oc_figure
-
-            fig = oc_figure([(p, scope)], models=scope.models, aql=a, rql=r, max_p=top)
-        save_figure(fig, plot, force=force, option="--plot")
+    with all_or_nothing():  # the table and the figure, or neither
+        if csv is not None:
+            common.write_csv(csv, header, rows, force=force)
+        if plot is not None:
+            _plot(p, scope, mdl, a, r, ps, plot, force)
     if as_json:
         common.emit_json(out)
     elif csv != "-":
@@ -92,6 +82,21 @@ def oc_table(
             typer.echo(f"  wrote {csv}")
         if plot:
             typer.echo(f"  wrote {plot}")
+
+
+def _plot(p, scope, mdl, a, r, ps, plot, force) -> None:
+    from lotwise.data.files import save_figure
+
+    top = float(ps.max()) if len(ps) and ps.max() > 0 else None
+    if p.varying_sample:
+        from lotwise.documents.plots.multistage import oc_asn_figure
+
+        fig = oc_asn_figure(p, scope, model=mdl, aql=a, rql=r, max_p=top)
+    else:
+        from lotwise.documents.plots.style import oc_figure
+
+        fig = oc_figure([(p, scope)], models=scope.models, aql=a, rql=r, max_p=top)
+    save_figure(fig, plot, force=force, option="--plot")
 
 
 def _cell(key: str, v) -> str:

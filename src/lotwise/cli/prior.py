@@ -224,6 +224,7 @@ def design_cost(**opts):
     if a is not None and not r > a:
         raise InputError(f"--rql ({rql}) must be above --aql ({aql})")
     model = Scope(lot_size=N).check_model(opts.get("model"))
+    _check_sheet(opts.get("sheet"), force=opts.get("force", False))
     prior, info = load_prior(prior=opts.get("prior"), prior_from=opts.get("prior_from"),
                              part=opts.get("part"), supplier=opts.get("supplier"),
                              half_life=opts.get("half_life"), as_json=as_json)
@@ -249,12 +250,22 @@ def design_cost(**opts):
         typer.echo(_render_cost(d, out, info))
 
 
+def _check_sheet(path, *, force):
+    """``--sheet`` names a Markdown file that may be written (checked before the work)."""
+    from pathlib import Path
+
+    if path is None:
+        return
+    if Path(str(path)).suffix.lower() != ".md":
+        raise InputError(f"--sheet ({path}) must be a file name ending in .md")
+    common.outputs(force, ("--sheet", path))
+
+
 def _write_sheet(path, out, info, year, *, force):
     from lotwise.data.files import write_text
     from lotwise.documents.sheets.cost import cost_section
 
-    if not str(path).lower().endswith(".md"):
-        raise InputError(f"--sheet ({path}) must end in .md")
+    _check_sheet(path, force=force)
     write_text(path, cost_section(out, info, deliveries_per_year=year), force=force,
                option="--sheet")
 

@@ -71,12 +71,6 @@ def _prob(p: float) -> str:
     return f"{p:.4f}"
 
 
-def _plot_path(plot):
-    if plot is not None and not plot.lower().endswith((".png", ".svg", ".pdf")):
-        raise InputError(f"--plot ({plot}) must end in .png, .svg or .pdf")
-    return plot
-
-
 @app.command()
 def records(
     path: str = typer.Argument(..., metavar="RECORDS", help="CSV of inspected lots."),
@@ -99,7 +93,7 @@ def records(
 
     conf = float(f"{parse_risk(confidence, '--confidence'):.12g}")
     sig = float(f"{parse_risk(significance, '--significance'):.12g}")
-    _plot_path(plot)
+    common.plot_path(plot, force)
     recs = _load(path, plans)
     _select(recs, supplier, part)
     s = summarise(recs, confidence=conf, significance=sig, supplier=supplier, part=part,
@@ -275,7 +269,7 @@ def tradeoff(
     from lotwise.core.types import Scope
 
     mdl = Scope(lot_size=N).check_model(model)
-    _plot_path(plot)
+    common.outputs(force, ("--csv", csv), ("--plot", plot, "figure"))
     L = parse_count(deliveries, "--deliveries-per-year", minimum=1, maximum=10**7) \
         if deliveries is not None else None
     post = None
@@ -293,16 +287,19 @@ def tradeoff(
     header = ["aql", "rql", "ratio", "n", "c", "alpha_actual", "beta_actual",
               "supplier_p_reject", "supplier_p_reject_predictive", "rejected_per_year",
               "full_inspection", "reason"]
-    if csv is not None:
-        common.write_csv(csv, header, [[r.as_dict()[h] for h in header] for r in rows],
-                         force=force, cell=_cell)
-    if plot is not None:
-        from lotwise.documents.plots.charts import tradeoff_figure
-        from lotwise.data.files import save_figure
+    from lotwise.data.files import all_or_nothing
 
-        if not any(r.plan is not None for r in rows):
-            raise InputError("--plot: no pair of the grid has a plan; nothing to draw")
-        save_figure(tradeoff_figure(rows), plot, force=force, option="--plot")
+    with all_or_nothing():  # the table and the figure, or neither
+        if csv is not None:
+            common.write_csv(csv, header, [[r.as_dict()[h] for h in header] for r in rows],
+                             force=force, cell=_cell)
+        if plot is not None:
+            from lotwise.documents.plots.charts import tradeoff_figure
+            from lotwise.data.files import save_figure
+
+            if not any(r.plan is not None for r in rows):
+                raise InputError("--plot: no pair of the grid has a plan; nothing to draw")
+            save_figure(tradeoff_figure(rows), plot, force=force, option="--plot")
     if as_json:
         common.emit_json({
             "alpha": al, "beta": be, "lot_size": N, "model": mdl, "process_average": pavg,

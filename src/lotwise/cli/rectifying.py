@@ -165,12 +165,10 @@ def check_extras(rep: dict, plan, scope, model, targets, *, aoq_formula, skip_lo
             raise InputError(f"--aoq-plot ({aoq_plot}) is drawn for single plans only")
         if not scope.lot_size:
             raise InputError(f"--aoq-plot ({aoq_plot}) needs --lot-size")
-        if not aoq_plot.lower().endswith((".png", ".svg", ".pdf")):
-            raise InputError(f"--aoq-plot ({aoq_plot}) must end in .png, .svg or .pdf")
-        from lotwise.data.files import check_writable, save_figure
+        from lotwise.data.files import save_figure
         from lotwise.documents.plots.rectifying import rectifying_figure
 
-        check_writable(aoq_plot, force=force, option="--aoq-plot")
+        common.plot_path(aoq_plot, force, "--aoq-plot")
         fig = rectifying_figure(plan, scope, formula=aoq_formula or "screened",
                                 aql=targets.aql, rql=targets.rql)
         save_figure(fig, aoq_plot, force=force, option="--aoq-plot")

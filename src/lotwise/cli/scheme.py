@@ -73,11 +73,6 @@ def _top(req) -> float:
     return top
 
 
-def _plot_path(plot):
-    if plot is not None and not plot.lower().endswith((".png", ".svg", ".pdf")):
-        raise InputError(f"--plot ({plot}) must end in .png, .svg or .pdf")
-
-
 @app.command()
 def scheme(
     path: str = typer.Argument(..., metavar="FILE", help="Plan file with a [switching] table."),
@@ -108,7 +103,7 @@ def scheme(
     for opt, val in (("--part", part), ("--plans", plans)):
         if val is not None:
             raise InputError(f"{opt} ({val}) needs --records")
-    _plot_path(plot)
+    common.plot_path(plot, force)
     from lotwise.analysis.switching import scheme_oc
 
     ps = _levels(req, at, points, max_p)
@@ -320,9 +315,7 @@ def batch_audit(path, out, force, as_json, max_alpha, max_beta) -> int:
     lim = AuditLimits(max_alpha=parse_risk(max_alpha, "--max-alpha"),
                       max_beta=parse_risk(max_beta, "--max-beta"))
     if out is not None and out != "-":
-        from lotwise.data.files import check_writable
-
-        check_writable(out, force=force, option="--out")
+        common.outputs(force, ("--out", out))
     items = read_audit_csv(path, "PLANS")
     for it in items:
         row = it["row"]

@@ -96,6 +96,9 @@ def sheet(
     """Write the plan sheet (PDF, Markdown, OC plot and table, pick list) per plan file."""
     from lotwise.documents.sheets import write_sheets
 
+    from lotwise.data.files import all_or_nothing, check_folder
+
+    check_folder(out, option="--out")
     results = []
     if lot is not None:  # a user's plan table: the row for this lot size (see cli.scheme)
         from lotwise.documents.partplan import resolve
@@ -103,9 +106,10 @@ def sheet(
         from .scheme import requests_for_lot
 
         pps = [resolve(r) for r in requests_for_lot([load(f) for f in plan_files(files)], lot)]
-    for pp in _resolve_files(files) if lot is None else pps:
-        paths = write_sheets(pp, out, force=force)
-        results.append((pp, paths))
+    with all_or_nothing():  # every sheet's files, or none when one cannot be written
+        for pp in _resolve_files(files) if lot is None else pps:
+            paths = write_sheets(pp, out, force=force)
+            results.append((pp, paths))
     if as_json:
         common.emit_json({"sheets": [{"file": pp.request.path, "part": pp.request.part_id,
                                       "n": pp.n, "meets": pp.meets,
@@ -186,8 +190,7 @@ def compare(
     if len(entries) < 2:
         raise InputError("compare needs at least two plans: give --plan twice or more, or plan "
                          "files")
-    if plot is not None and not plot.lower().endswith((".png", ".svg", ".pdf")):
-        raise InputError(f"--plot ({plot}) must end in .png, .svg or .pdf")
+    common.plot_path(plot, force)
     from lotwise.analysis.compare import compare_plans
 
     rows_ = compare_plans(entries)
@@ -199,7 +202,7 @@ def compare(
         fig = oc_figure([(p, s) for _, p, _, s, _ in entries], models=[rows_[0]["model"]],
                         aql=t0.aql, rql=t0.rql, labels=[e[0] for e in entries],
                         max_p=max(1.3 * e[2].rql for e in entries))
-        save_figure(fig, plot, force=force)
+        save_figure(fig, plot, force=force, option="--plot")
     if as_json:
         common.emit_json(common.add_rates({"plans": rows_}, rates) if rates else {"plans": rows_})
         return
@@ -237,6 +240,9 @@ def demo(
     force: bool = typer.Option(False, "--force", help="Overwrite files lotwise did not write."),
 ):
     """Run the main job end to end on the invented demo scenario in plans/."""
+    from lotwise.data.files import check_folder
+
+    check_folder(out, option="--out")
     plans = _project_root() / "plans"
     if not plans.is_dir():
         raise InputError(f"demo: the scenario folder {plans} is missing; run lotwise from a "

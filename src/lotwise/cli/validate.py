@@ -20,25 +20,25 @@ def validate(
 
     Exit 0 when every case passes, 1 when any fails or cannot be run.
     """
-    from pathlib import Path
+    import datetime as dt
 
-    from lotwise.data.files import check_writable, write_bytes, write_text
-    from lotwise.core.quantities import InputError
+    from lotwise.data.files import all_or_nothing, check_folder, write_bytes, write_text
     from lotwise.validation.runner import markdown_report, pdf_report, run_cases
     from lotwise.documents.validation_report import fingerprint, report_body
 
-    folder = Path(out)
-    if folder.exists() and not folder.is_dir():
-        raise InputError(f"--out ({out}) is a file; give a folder")
+    folder = check_folder(out, option="--out")
+
+    def paths(day):
+        stem = f"validation-{day.isoformat()}"
+        return folder / f"{stem}.md", folder / f"{stem}.pdf"
+
+    common.outputs(force, *(("--out", p) for p in paths(dt.datetime.now(dt.timezone.utc).date())))  # before the work
     val = run_cases()
-    stem = f"validation-{val.started.date().isoformat()}"
-    md_path, pdf_path = folder / f"{stem}.md", folder / f"{stem}.pdf"
-    if folder.exists():
-        check_writable(md_path, force=force, option="--out")
-        check_writable(pdf_path, force=force, option="--out")
+    md_path, pdf_path = paths(val.started.date())
     digest = fingerprint(report_body(val))
-    write_text(md_path, markdown_report(val), force=force, option="--out")
-    write_bytes(pdf_path, pdf_report(val), force=force, option="--out")
+    with all_or_nothing():  # both reports, or neither
+        write_text(md_path, markdown_report(val), force=force, option="--out")
+        write_bytes(pdf_path, pdf_report(val), force=force, option="--out")
     if as_json:
         d = val.as_dict()
         d["report"] = {"markdown": str(md_path), "pdf": str(pdf_path)}

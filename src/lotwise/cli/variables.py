@@ -141,8 +141,7 @@ def oc_cmd(plan, *, max_p, points, at, aql, rql, csv, plot, force, as_json):
     """``lotwise oc --plan "variables: ..."``: the exact OC table (and plot)."""
     import numpy as np
 
-    if plot is not None and not plot.lower().endswith((".png", ".svg", ".pdf")):
-        raise InputError(f"--plot ({plot}) must end in .png, .svg or .pdf")
+    common.outputs(force, ("--csv", csv), ("--plot", plot, "figure"))
     a, r = common.levels(aql, rql, False, need=False)
     from lotwise.analysis.outputs import variables_oc
 
@@ -150,14 +149,17 @@ def oc_cmd(plan, *, max_p, points, at, aql, rql, csv, plot, force, as_json):
     header, rows = out["columns"], out["rows"]
     ps = np.array([row[0] for row in rows])
     band = "pa_lower" in header
-    if csv is not None:
-        common.write_csv(csv, header, rows, force=force)
-    if plot is not None:
-        from lotwise.data.files import save_figure
-        from lotwise.documents.plots.variables import variables_oc_figure
+    from lotwise.data.files import all_or_nothing, save_figure
 
-        fig = variables_oc_figure(plan, aql=a, rql=r, max_p=float(ps.max()) if len(ps) else None)
-        save_figure(fig, plot, force=force, option="--plot")
+    with all_or_nothing():  # the table and the figure, or neither
+        if csv is not None:
+            common.write_csv(csv, header, rows, force=force)
+        if plot is not None:
+            from lotwise.documents.plots.variables import variables_oc_figure
+
+            fig = variables_oc_figure(plan, aql=a, rql=r,
+                                      max_p=float(ps.max()) if len(ps) else None)
+            save_figure(fig, plot, force=force, option="--plot")
     if as_json:
         common.emit_json(out)
     elif csv != "-":

@@ -37,8 +37,7 @@ def zero(
     be = parse_risk(beta, "--beta")
     al = parse_risk(alpha, "--alpha")
     a = parse_level(aql, "--aql", per_unit=defects) if aql is not None else None
-    if plot is not None and not plot.lower().endswith((".png", ".svg", ".pdf")):
-        raise InputError(f"--plot ({plot}) must end in .png, .svg or .pdf")
+    common.plot_path(plot, force)
     given = common.plan_from(plan, n, c, required=False)
     if given is not None:
         if rql is not None:
