@@ -185,6 +185,16 @@ class BatchResult:
 
         return csv_chunks(self.table if table is None else table, classes=self.classes)
 
+    def errors(self, lines) -> list:
+        """The rows not designed as ``{"line", "part", "error"}`` dicts, in
+        row order; ``lines`` holds each row's line number (taken on whole
+        columns, never row by row)."""
+        err = self.table["error"].to_numpy(dtype=object)
+        idx = np.flatnonzero(err != "")
+        parts = self.table["part"].take(idx).tolist()
+        return [{"line": int(ln), "part": str(p), "error": str(e)}
+                for ln, p, e in zip(np.asarray(lines)[idx].tolist(), parts, err[idx].tolist())]
+
     def summary(self) -> dict:
         return {"rows": self.rows, "designed": self.designed, "failed": self.failed,
                 "distinct_designs": self.distinct, "units_per_lot": self.units_per_lot,
@@ -620,8 +630,9 @@ def _solve_one_by_one(u, usol: _Designs, progress, done: int) -> None:
     """Everything the array search did not settle goes through the single
     designer (or a scheme's own), whose messages the rows then carry."""
     rest = np.flatnonzero(usol.n < 0)
-    for k, i in enumerate(rest):
-        row = u.iloc[i]
+    # plain dicts, taken on whole columns: row-by-row indexing costs more than the design
+    records = u.take(rest).to_dict("records")
+    for k, (i, row) in enumerate(zip(rest.tolist(), records)):
         try:
             res = _design_one(row)
         except (Infeasible, InputError) as exc:
