@@ -16,7 +16,11 @@ Every ``tests/bench_*.py`` module contributes a list ``CASES`` of dicts:
     a slower reference callable measured in the same run, and the smallest
     acceptable ratio ``baseline / func``;
 ``repeat`` (optional)
-    repetitions (default 15; baselines run ``baseline_repeat``, default 3).
+    repetitions (default 15; baselines run ``baseline_repeat``, default 3);
+``peak_mb`` and ``peak_mb_goal`` (optional)
+    a callable giving the largest peak memory (MB) of the case's own child
+    process over its runs (see bench_child.py), and its goal: above the
+    goal the case's verdict is ``OVER``.
 """
 
 from __future__ import annotations
@@ -77,6 +81,12 @@ def main(argv=None) -> int:
             rg = case.get("ratio_goal")
             if rg is not None:
                 status = "SLOW" if ratio < rg or status == "SLOW" else "ok"
+        if case.get("peak_mb") is not None:
+            peak, cap = case["peak_mb"](), case.get("peak_mb_goal")
+            print(f"    largest peak RSS of the case's child: {peak:.0f} MB"
+                  + ("" if cap is None else f" (goal <= {cap:g} MB)"))
+            if cap is not None and (peak is None or peak > cap):
+                status = "OVER" if status != "SLOW" else "SLOW, OVER"
         rows.append((case["name"], med, goal, ratio, case.get("ratio_goal"), status))
         r = "" if ratio is None else f"  ratio {_ratio(ratio)} (goal >= {case.get('ratio_goal')}x)"
         g = "" if goal is None else f" (goal <= {goal:g} ms)"
@@ -87,7 +97,7 @@ def main(argv=None) -> int:
     for name, med, goal, ratio, rg, status in rows:
         print(f"| {name} | {med:.2f} ms | {'' if goal is None else f'<= {goal:g} ms'} | "
               f"{'' if ratio is None else f'{_ratio(ratio)} (goal >= {rg}x)'} | {status or '-'} |")
-    return 1 if any(r[-1] == "SLOW" for r in rows) else 0
+    return 1 if any(r[-1] not in ("", "ok") for r in rows) else 0
 
 
 if __name__ == "__main__":

@@ -92,14 +92,14 @@ def _levels(targets, scope: Scope, model: str):
     return targets.aql, targets.rql
 
 
-def _row(scheme, plan, targets, scope, model, note=""):
+def _row(scheme, plan, targets, scope, model, note="", peak=True):
     from lotwise.analysis.audit import risks_under
 
     la, lr = _levels(targets, scope, model)
     r = risks_under(plan, targets, scope, model)
     asn_aql = float(plan.asn(la, model, scope))
     asn_rql = float(plan.asn(lr, model, scope))
-    amax = float(plan.max_asn(model, scope)[0])
+    amax = float(plan.max_asn(model, scope)[0]) if peak else float("nan")
     n_max = plan.max_sample
     return TradeoffRow(scheme=scheme, plan=plan, label=plan.label, pa_aql=r.pa_aql,
                        pa_rql=r.pa_rql, asn_aql=asn_aql, asn_rql=asn_rql, asn_max=amax,
@@ -108,7 +108,8 @@ def _row(scheme, plan, targets, scope, model, note=""):
 
 def asn_tradeoff(targets, scope: Scope, *, model: str | None = None, ratio: float = 2.0,
                  minimize: str = "asn-aql", truncate: int | None = None,
-                 points: int = 101, max_p: float | None = None) -> Tradeoff:
+                 points: int = 101, max_p: float | None = None,
+                 curves: bool = True) -> Tradeoff:
     """Single, double and sequential plans for ``targets`` in ``scope``.
 
     Parameters
@@ -125,6 +126,10 @@ def asn_tradeoff(targets, scope: Scope, *, model: str | None = None, ratio: floa
     points : int
         Grid points of the curves, from 0 to ``max_p`` (default 2.5 times
         the RQL, at most 1).
+    curves : bool
+        False for the plans and their ASN at the AQL and RQL only: no
+        curves, and ``asn_max`` NaN (the search over quality levels for the
+        largest ASN is the costly part of a row).
 
     Returns
     -------
@@ -150,7 +155,10 @@ def asn_tradeoff(targets, scope: Scope, *, model: str | None = None, ratio: floa
         except Infeasible as exc:
             rows.append(TradeoffRow(scheme=scheme, plan=None, label="-", note=str(exc)))
             continue
-        rows.append(_row(scheme, plan, targets, scope, model))
+        rows.append(_row(scheme, plan, targets, scope, model, peak=curves))
+    if not curves:
+        return Tradeoff(targets=targets, scope=scope, model=model, rows=tuple(rows),
+                        ps=np.zeros(0))
     top = max_p if max_p is not None else 2.5 * targets.rql
     if not scope.defects:
         top = min(top, 1.0)

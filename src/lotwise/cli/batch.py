@@ -61,10 +61,7 @@ def batch(
     else:
         write_bytes(out, (p.encode("utf-8") for p in res.csv_chunks(table)), force=force,
                     option="--out")
-    errors = table["error"] != ""
-    lines = df["_line"].to_numpy()
-    failed = [{"line": int(lines[i]), "part": str(table["part"].iloc[i]),
-               "error": str(table["error"].iloc[i])} for i in errors.to_numpy().nonzero()[0]]
+    failed = res.errors(df["_line"].to_numpy())
     if as_json:
         d = res.summary()
         d.update({"out": out, "errors": failed, "dropped_columns": list(res.dropped_columns)})

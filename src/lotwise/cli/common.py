@@ -53,7 +53,15 @@ def _clean(obj):
 
 
 def emit_json(obj: dict) -> None:
-    sys.stdout.write(json.dumps(_clean(obj), indent=2) + "\n")
+    """Print ``obj`` as indented JSON, written in pieces (a batch of a million
+    rows may list a hundred thousand errors: the text is never held whole)."""
+    pieces: list = []
+    for piece in json.JSONEncoder(indent=2).iterencode(_clean(obj)):
+        pieces.append(piece)
+        if len(pieces) >= 4096:
+            sys.stdout.write("".join(pieces))
+            pieces.clear()
+    sys.stdout.write("".join(pieces) + "\n")
 
 
 def fail(message: str, code: int = 1, payload: dict | None = None, as_json: bool = False):

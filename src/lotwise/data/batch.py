@@ -185,6 +185,16 @@ class BatchResult:
 
         return csv_chunks(self.table if table is None else table, classes=self.classes)
 
+    def errors(self, lines) -> list:
+        """The rows not designed as ``{"line", "part", "error"}`` dicts, in
+        row order; ``lines`` holds each row's line number (taken on whole
+        columns, never row by row)."""
+        err = self.table["error"].to_numpy(dtype=object)
+        idx = np.flatnonzero(err != "")
+        parts = self.table["part"].take(idx).tolist()
+        return [{"line": int(ln), "part": str(p), "error": str(e)}
+                for ln, p, e in zip(np.asarray(lines)[idx].tolist(), parts, err[idx].tolist())]
+
     def summary(self) -> dict:
         return {"rows": self.rows, "designed": self.designed, "failed": self.failed,
                 "distinct_designs": self.distinct, "units_per_lot": self.units_per_lot,
@@ -219,8 +229,21 @@ def catalogue_frame(t):
     df = pd.DataFrame({h: pd.Series(t.data[h]) for h in t.header}) if len(t) else \
         pd.DataFrame({h: pd.Series(dtype=object) for h in t.header})
     df["_line"] = np.asarray(t.lines, dtype=np.int64)
-    df["_shape"] = t.problem_list()
+    df["_shape"] = _shape_column(t.problems, len(t))
     return df
+
+
+def _shape_column(problems: dict, m: int):
+    """The shape problem of every row ('' where none) as a categorical column:
+    one small code per row, not a million references to ''."""
+    import pandas as pd
+
+    texts = list(dict.fromkeys([""] + list(problems.values())))
+    codes = np.zeros(m, dtype=np.int32)
+    if problems:
+        at = {t: k for k, t in enumerate(texts)}
+        codes[np.fromiter(problems, dtype=np.int64)] = [at[p] for p in problems.values()]
+    return pd.Categorical.from_codes(codes, categories=pd.Index(texts, dtype=object))
 
 
 def _parse_unique(values, parse):
@@ -286,7 +309,7 @@ def design_catalogue(df, *, deliveries_per_year: float | None = None, progress=N
     table = df.drop(columns=["_line", "_shape"])
     per_class = [c for c in res.table.columns if c not in small.columns]
     for col in per_class:
-        table[col] = res.table[col].take(inv).reset_index(drop=True).array
+        table[col] = _spread(res.table[col], inv)
     per_class.remove("units_per_year")
     designed = (table["error"] == "").to_numpy() & table["n"].notna().to_numpy()
     n = table["n"].to_numpy(dtype=float, na_value=np.nan)
@@ -300,6 +323,18 @@ def design_catalogue(df, *, deliveries_per_year: float | None = None, progress=N
                        if have_rate.any() else None,
                        rows_without_deliveries=int((designed & ~np.isfinite(rate)).sum()),
                        dropped_columns=dropped, classes=(inv, res.table[per_class]))
+
+
+def _spread(column, inv):
+    """A per-class column taken to the rows (row ``i`` gets class ``inv[i]``):
+    numbers as they are, text as a categorical column (small codes into
+    the distinct texts)."""
+    import pandas as pd
+
+    if column.dtype != object:
+        return column.take(inv).reset_index(drop=True).array
+    codes, uniq = pd.factorize(column.to_numpy(dtype=object), use_na_sentinel=False)
+    return pd.Categorical.from_codes(codes[inv], categories=pd.Index(uniq, dtype=object))
 
 
 def _design_columns() -> list:
@@ -397,7 +432,7 @@ def _design_table(df, *, deliveries_per_year: float | None = None, progress=None
 def _prepared(df):
     """A copy of the catalogue with the required columns checked, ``_line`` and
     ``_shape`` present and earlier output columns dropped: ``(df, dropped)``."""
-    df = df.copy()
+    df = df.copy(deep=False)  # copy on write: the caller's columns are not copied
     for col in REQUIRED:
         if col not in df.columns:
             raise InputError(f"catalogue lacks the column {col}; required: {', '.join(REQUIRED)}")
@@ -620,8 +655,9 @@ def _solve_one_by_one(u, usol: _Designs, progress, done: int) -> None:
     """Everything the array search did not settle goes through the single
     designer (or a scheme's own), whose messages the rows then carry."""
     rest = np.flatnonzero(usol.n < 0)
-    for k, i in enumerate(rest):
-        row = u.iloc[i]
+    # plain dicts, taken on whole columns: row-by-row indexing costs more than the design
+    records = u.take(rest).to_dict("records")
+    for k, (i, row) in enumerate(zip(rest.tolist(), records)):
         try:
             res = _design_one(row)
         except (Infeasible, InputError) as exc:

@@ -78,20 +78,28 @@ def _fields(uniq, dtype) -> list:
 
 def _column_texts(col):
     """``(codes, texts)``: a column as codes into its distinct cells written
-    as CSV fields."""
+    as CSV fields; a categorical column keeps its own (small) codes, ``-1``
+    for a missing cell (see :func:`_slice_codes`)."""
     import pandas as pd
 
     if isinstance(col.dtype, pd.CategoricalDtype):
-        codes = np.asarray(col.cat.codes, dtype=np.int64)
         texts = _fields(np.asarray(col.cat.categories, dtype=object).tolist(),
                         col.cat.categories.dtype) + [""]
-        return (np.where(codes < 0, len(texts) - 1, codes).astype(np.int32),
-                np.array(texts, dtype=object))
+        return np.asarray(col.cat.codes), np.array(texts, dtype=object)
     text_like = isinstance(col.dtype, pd.StringDtype) or col.dtype == object
     values = col.to_numpy(dtype=object) if text_like else col.array
     codes, uniq = pd.factorize(values, use_na_sentinel=False)
     texts = _fields(list(uniq), col.dtype)
     return np.asarray(codes, dtype=np.int32), np.array(texts or [""], dtype=object)
+
+
+def _slice_codes(codes, texts, s: int, e: int, inv=None):
+    """Codes of rows ``s:e`` (through each row's class ``inv`` when given),
+    a missing cell (``-1``) pointing at the empty last text."""
+    part = codes[inv[s:e]] if inv is not None else codes[s:e]
+    part = part.astype(np.int32)
+    part[part < 0] = len(texts) - 1
+    return part
 
 
 def _merged(cols, m: int) -> list:
@@ -114,7 +122,7 @@ def _merged(cols, m: int) -> list:
     return out
 
 
-def csv_chunks(df, rows: int = 100_000, classes=None):
+def csv_chunks(df, rows: int = 25_000, classes=None):
     """The CSV text of ``df`` (header, then the rows; no index) in pieces of
     ``rows`` rows; ``"".join`` of them equals ``df.to_csv(index=False,
     lineterminator="\\n")``.
@@ -122,7 +130,8 @@ def csv_chunks(df, rows: int = 100_000, classes=None):
     ``classes``, optional, is ``(inv, per_class)``: each row's class and a
     DataFrame with one row per class holding columns of ``df`` whose value
     is the same for every row of a class (``df[c] == per_class[c][inv]``);
-    those columns are formatted once per class.
+    those columns are formatted once per class and taken row by row only a
+    slice at a time, so no column of codes as long as the table is made.
     """
     if df.shape[1] < 2:  # a lone empty field is written quoted: pandas knows how
         yield df.to_csv(index=False, lineterminator="\n")
@@ -134,13 +143,14 @@ def csv_chunks(df, rows: int = 100_000, classes=None):
     cols = []
     for c in df.columns:
         if classes is not None and c in classes[1].columns:
-            codes, texts = _column_texts(classes[1][c])
-            cols.append((codes[classes[0]], texts))
+            cols.append(_column_texts(classes[1][c]) + (classes[0],))
         else:
-            cols.append(_column_texts(df[c]))
-    cols = _merged(cols, m)
+            cols.append(_column_texts(df[c]) + (None,))
     for s in range(0, m, rows):
-        parts = [texts[codes[s:s + rows]].tolist() for codes, texts in cols]
+        e = min(s + rows, m)
+        parts = _merged([(_slice_codes(codes, texts, s, e, inv), texts)
+                         for codes, texts, inv in cols], e - s)
+        parts = [texts[codes].tolist() for codes, texts in parts]
         if len(parts) == 1:
             yield "\n".join(parts[0]) + "\n"
         else:

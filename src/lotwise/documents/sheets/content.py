@@ -102,7 +102,7 @@ def alternatives(pp) -> str:
     from lotwise.analysis.tradeoff import asn_tradeoff
 
     try:
-        tr = asn_tradeoff(ch.targets, pp.request.scope, model=pp.request.model)
+        tr = asn_tradeoff(ch.targets, pp.request.scope, model=pp.request.model, curves=False)
     except Exception:  # the view is an extra; never let it stop a sheet
         return ""
     parts, single_n = [], None

@@ -24,6 +24,17 @@ def one_file(path, out, force: bool):
     return pp, write_sheets(pp, out, force=force)
 
 
+def _preload() -> None:
+    """Import what every sheet needs (the designers, the page, matplotlib's
+    Agg and PDF backends) before the workers are forked."""
+    import matplotlib.backends.backend_agg  # noqa: F401
+    import matplotlib.backends.backend_pdf  # noqa: F401
+    import matplotlib.figure  # noqa: F401
+
+    import lotwise.documents.partplan  # noqa: F401
+    import lotwise.documents.sheets.pdf  # noqa: F401
+
+
 def write_many(files, out, *, force: bool = False, workers: int | None = None) -> list:
     """``[(pp, paths), ...]`` for ``files`` (plan file paths), in order.
 
@@ -40,6 +51,8 @@ def write_many(files, out, *, force: bool = False, workers: int | None = None) -
         return [one_file(f, out, force) for f in files]
     import multiprocessing as mp
     from concurrent.futures import ProcessPoolExecutor
+
+    _preload()  # forked workers start with these: imported once, not once per worker
 
     ctx = mp.get_context("fork") if "fork" in mp.get_all_start_methods() else None
     with ProcessPoolExecutor(max_workers=workers, mp_context=ctx) as pool:
