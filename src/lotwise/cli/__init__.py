@@ -33,10 +33,10 @@ def _group() -> None:
 #: Which module defines each command, in the order ``lotwise --help`` lists them.
 COMMANDS = {
     "design": "design", "check": "check", "oc": "oc",
-    "sheet": "sheets", "compare": "sheets", "demo": "sheets",
+    "sheet": "sheet", "compare": "compare", "demo": "demo",
     "draw": "draw", "zero": "zero", "demonstrate": "demonstrate",
     "next": "next_step", "judge": "judge",
-    "records": "records", "supplier": "records", "tradeoff": "records",
+    "records": "records", "supplier": "supplier", "tradeoff": "tradeoff",
     "batch": "batch", "validate": "validate",
     "scheme": "scheme",
     "serve": "serve",

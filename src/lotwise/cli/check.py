@@ -55,7 +55,7 @@ def check(
         if common.error_rates(miss_rate, false_alarm, study) is not None:
             raise InputError("--miss-rate/--false-alarm/--study apply to --plan/--n/--c; a "
                              "plan file states its rates in its [inspection] table")
-        from .sheets import check_folder
+        from .sheets import check_folder  # the folder audit
 
         raise typer.Exit(check_folder(paths, as_json))
     p = common.plan_from(plan, n, c)
