@@ -9,7 +9,8 @@ from typing import Optional
 import typer
 
 from . import app, common
-from lotwise.core.quantities import InputError, format_level, format_pct, parse_count, parse_risk
+from lotwise.core.quantities import (InputError, format_level, format_pct, parse_count, parse_rate,
+                                     parse_risk)
 
 
 def _bad_rows(records) -> None:
@@ -193,7 +194,7 @@ def supplier(
         raise InputError('--plan is required (for example --plan "n=80,c=2")')
     p = parse_plan(plan)
     prob = parse_risk(interval, "--interval")
-    L = parse_count(deliveries, "--deliveries-per-year", minimum=1, maximum=10**7) \
+    L = parse_rate(deliveries, "--deliveries-per-year", minimum=1, whole=True) \
         if deliveries is not None else None
     lots = None
     if records_path is not None:
@@ -274,7 +275,7 @@ def tradeoff(
 
     mdl = Scope(lot_size=N).check_model(model)
     _plot_path(plot)
-    L = parse_count(deliveries, "--deliveries-per-year", minimum=1, maximum=10**7) \
+    L = parse_rate(deliveries, "--deliveries-per-year", minimum=1, whole=True) \
         if deliveries is not None else None
     post = None
     lots = None
