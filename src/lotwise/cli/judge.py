@@ -106,7 +106,49 @@ def parse_values(text: str) -> list[float]:
     return out
 
 
-def judge_sample(plan, values) -> dict:
+def scale_free(x, plan, source: str = "--values") -> tuple[float, float | None, dict]:
+    """Mean, standard deviation and the statistics ``q`` (distance from the
+    mean to each limit in units of s, or of the known sigma) of the sample
+    ``x``, computed scale-free.
+
+    The values and limits are first divided by a power of two ``2**e`` at
+    least their largest magnitude (exactly: only the exponent changes), so
+    neither the sum of values near 1e308 overflows nor the squares of
+    subnormal values vanish; ``q`` does not depend on the units. A result
+    beyond the floats (a mean or s above 1.8e308, or a q that large) is
+    refused. ``s`` is None for a single value.
+    """
+    import numpy as np
+
+    limits = {side: getattr(plan, side) for side in ("upper", "lower")
+              if getattr(plan, side) is not None}
+    top = max([float(np.max(np.abs(x)))] + [abs(v) for v in limits.values()])
+    e = math.frexp(top)[1] if top > 0 else 0
+    xs = np.ldexp(x, -e)
+    mean_s = float(xs.mean())
+    sd_s = float((xs - mean_s).std(ddof=1)) if x.size > 1 else None
+    if plan.sigma == "known":
+        mant, exp = math.frexp(plan.sigma_value)
+    else:
+        mant, exp = sd_s, e
+    q = {}
+    try:
+        xbar = math.ldexp(mean_s, e)
+        s = None if sd_s is None else math.ldexp(sd_s, e)
+        for side, lim in limits.items():
+            d = math.ldexp(lim, -e) - mean_s
+            q[side] = math.ldexp((d if side == "upper" else -d) / mant, e - exp)
+        if not all(math.isfinite(v) for v in q.values()):
+            raise OverflowError
+    except (OverflowError, ZeroDivisionError):
+        raise InputError(f"{source} ({x.size} values from {float(x.min()):g} to "
+                         f"{float(x.max()):g}) give a mean, s or distance to a limit beyond "
+                         "the largest number a float holds (1.8e308); give them in other "
+                         "units") from None
+    return xbar, s, q
+
+
+def judge_sample(plan, values, source: str = "--values") -> dict:
     """Verdict, statistics, estimated fraction nonconforming and normality check."""
     import numpy as np
 
@@ -114,18 +156,12 @@ def judge_sample(plan, values) -> dict:
 
     x = np.asarray(values, dtype=float)
     n = x.size
-    xbar = float(x.mean())
-    s = float(x.std(ddof=1)) if n > 1 else float("nan")
     known = plan.sigma == "known"
+    xbar, s, q = scale_free(x, plan, source)
     dev = plan.sigma_value if known else s
     out = {"scheme": "variables", "plan": plan.to_dict(), "notation": plan.notation(), "n": n,
            "xbar": xbar, "s": s, "sigma_used": dev,
            "deviation": "sigma (known)" if known else "s (sample)"}
-    q = {}
-    if plan.upper is not None:
-        q["upper"] = (plan.upper - xbar) / dev
-    if plan.lower is not None:
-        q["lower"] = (xbar - plan.lower) / dev
     est = {}
     for side, qv in q.items():
         if known:
@@ -232,7 +268,7 @@ def judge(
     if p.sigma == "unknown" and len(set(xs)) == 1:
         raise InputError(f"{source}: all {len(xs)} values are equal ({xs[0]:g}), so s = 0 and "
                          "the plan cannot judge the sample; check the gauge's resolution")
-    rep = judge_sample(p, xs)
+    rep = judge_sample(p, xs, source if values is not None else f"measurements ({source})")
     rep["source"] = source
     if plot is not None:
         from lotwise.data.files import save_figure
@@ -259,7 +295,7 @@ def render_judge(rep: dict, plan) -> str:
     lines = [f"Verdict: {verdict} the lot  (plan {plan.label}; {plan.method})",
              f"  sample    n = {rep['n']} from {rep['source']}",
              f"  mean      xbar = {rep['xbar']:.6g}",
-             f"  std dev   s = {rep['s']:.6g}" + (f"; judged with the known sigma = "
+             "  std dev   s = " + ("- (one value)" if rep["s"] is None else f"{rep['s']:.6g}") + (f"; judged with the known sigma = "
                                                  f"{plan.sigma_value:g}" if plan.sigma == "known"
                                                  else "")]
     st = rep["statistic"]
