@@ -111,40 +111,41 @@ def scale_free(x, plan, source: str = "--values") -> tuple[float, float | None, 
     mean to each limit in units of s, or of the known sigma) of the sample
     ``x``, computed scale-free.
 
-    The values and limits are first divided by a power of two ``2**e`` at
-    least their largest magnitude (exactly: only the exponent changes), so
-    neither the sum of values near 1e308 overflows nor the squares of
-    subnormal values vanish; ``q`` does not depend on the units. A result
-    beyond the floats (a mean or s above 1.8e308, or a q that large) is
-    refused. ``s`` is None for a single value.
+    The values are divided by a power of two at least their largest
+    magnitude (exactly: only the exponents change) before they are summed,
+    and their deviations from the mean by another before they are squared,
+    so neither values near 1e308 overflow nor subnormal values vanish; ``q``
+    does not depend on the units. A result beyond the floats (a mean, s or q
+    above 1.8e308) is refused. ``s`` is None for a single value.
     """
     import numpy as np
 
-    limits = {side: getattr(plan, side) for side in ("upper", "lower")
-              if getattr(plan, side) is not None}
-    top = max([float(np.max(np.abs(x)))] + [abs(v) for v in limits.values()])
-    e = math.frexp(top)[1] if top > 0 else 0
-    xs = np.ldexp(x, -e)
+    e1 = math.frexp(float(np.max(np.abs(x))))[1]
+    xs = np.ldexp(x, -e1)
     mean_s = float(xs.mean())
-    sd_s = float((xs - mean_s).std(ddof=1)) if x.size > 1 else None
+    dev = xs - mean_s
+    e2 = math.frexp(float(np.max(np.abs(dev))))[1]
+    sd2 = float(np.ldexp(dev, -e2).std(ddof=1)) if x.size > 1 else None
     if plan.sigma == "known":
         mant, exp = math.frexp(plan.sigma_value)
     else:
-        mant, exp = sd_s, e
+        mant, exp = sd2, e1 + e2
     q = {}
     try:
-        xbar = math.ldexp(mean_s, e)
-        s = None if sd_s is None else math.ldexp(sd_s, e)
-        for side, lim in limits.items():
-            d = math.ldexp(lim, -e) - mean_s
-            q[side] = math.ldexp((d if side == "upper" else -d) / mant, e - exp)
-        if not all(math.isfinite(v) for v in q.values()):
+        xbar = math.ldexp(mean_s, e1)
+        s = None if sd2 is None else math.ldexp(sd2, e1 + e2)
+        for side in ("upper", "lower"):
+            lim = getattr(plan, side)
+            if lim is not None:
+                d = math.ldexp(lim, -e1) - mean_s
+                q[side] = math.ldexp((d if side == "upper" else -d) / mant, e1 - exp)
+        if not all(math.isfinite(v) for v in (xbar, s or 0.0, *q.values())):
             raise OverflowError
     except (OverflowError, ZeroDivisionError):
         raise InputError(f"{source} ({x.size} values from {float(x.min()):g} to "
-                         f"{float(x.max()):g}) give a mean, s or distance to a limit beyond "
-                         "the largest number a float holds (1.8e308); give them in other "
-                         "units") from None
+                         f"{float(x.max()):g}) give a mean, s or distance to a limit (in "
+                         "units of s or sigma) beyond the largest number a float holds "
+                         "(1.8e308); give them in other units") from None
     return xbar, s, q
 
 
@@ -278,6 +279,7 @@ def judge(
         note = None if nm["w"] is None else (f"Shapiro-Wilk W = {nm['w']:.3f}, p = "
                                               f"{nm['p_value']:.3f}")
         fig = normal_probability_figure(xs, lower=p.lower, upper=p.upper, note=note,
+                                        mean=rep["xbar"], sd=rep["s"] or 0.0,
                                         title=f"Normal probability plot, {len(xs)} measurements")
         save_figure(fig, plot, force=force, option="--plot")
         rep["plot"] = plot
