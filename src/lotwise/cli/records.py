@@ -71,8 +71,14 @@ def _prob(p: float) -> str:
 
 
 def _plot_path(plot):
-    if plot is not None and not plot.lower().endswith((".png", ".svg", ".pdf")):
-        raise InputError(f"--plot ({plot}) must end in .png, .svg or .pdf")
+    from pathlib import PurePath
+
+    if plot is None:
+        return plot
+    name = PurePath(plot).name.lower()
+    if not name.endswith((".png", ".svg", ".pdf")) or name in (".png", ".svg", ".pdf"):
+        raise InputError(f"--plot ({plot}) must be a file name ending in .png, .svg or .pdf, "
+                         "for example charts.png")
     return plot
 
 
