@@ -43,7 +43,7 @@ MALFORMED = [
     (GOOD + "[sampling]\nmax_n = -3\n", f"{F}: sampling.max_n (-3) must be at least 1"),
     (GOOD + "[sampling]\ncost_per_unit = -1\n",
      f"{F}: sampling.cost_per_unit (-1) must be a number of at least 0"),
-    (GOOD + "[sampling]\nseed = 1.5\n", f"{F}: sampling.seed (1.5) must be a whole number of at least 0"),
+    (GOOD + "[sampling]\nseed = 1.5\n", f"{F}: sampling.seed (1.5) must be a whole number from 0 to 2**128 - 1, written without quotes"),
     (GOOD + "[samplng]\n", f"{F}: samplng: unknown key; did you mean 'sampling'?"),
     (GOOD.split("[[characteristic]]")[0], f"{F}: no [[characteristic]] given; at least one is required"),
     (GOOD.replace('class = "major"', 'class = "severe"'),

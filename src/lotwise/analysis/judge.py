@@ -8,13 +8,60 @@ and the validation report checks it against an independent computation.
 
 from __future__ import annotations
 
-__all__ = ["NORMALITY_LEVEL", "judge_sample", "normality"]
+import math
+
+from lotwise.core.quantities import InputError
+
+__all__ = ["NORMALITY_LEVEL", "judge_sample", "normality", "scale_free"]
 
 #: Shapiro-Wilk p-value below which normality is called doubtful.
 NORMALITY_LEVEL = 0.05
 
 
-def judge_sample(plan, values) -> dict:
+def scale_free(x, plan, source: str = "--values") -> tuple[float, float | None, dict]:
+    """Mean, standard deviation and the statistics ``q`` (distance from the
+    mean to each limit in units of s, or of the known sigma) of the sample
+    ``x``, computed scale-free.
+
+    The values are divided by a power of two at least their largest
+    magnitude (exactly: only the exponents change) before they are summed,
+    and their deviations from the mean by another before they are squared,
+    so neither values near 1e308 overflow nor subnormal values vanish; ``q``
+    does not depend on the units. A result beyond the floats (a mean, s or q
+    above 1.8e308) is refused. ``s`` is None for a single value.
+    """
+    import numpy as np
+
+    e1 = math.frexp(float(np.max(np.abs(x))))[1]
+    xs = np.ldexp(x, -e1)
+    mean_s = float(xs.mean())
+    dev = xs - mean_s
+    e2 = math.frexp(float(np.max(np.abs(dev))))[1]
+    sd2 = float(np.ldexp(dev, -e2).std(ddof=1)) if x.size > 1 else None
+    if plan.sigma == "known":
+        mant, exp = math.frexp(plan.sigma_value)
+    else:
+        mant, exp = sd2, e1 + e2
+    q = {}
+    try:
+        xbar = math.ldexp(mean_s, e1)
+        s = None if sd2 is None else math.ldexp(sd2, e1 + e2)
+        for side in ("upper", "lower"):
+            lim = getattr(plan, side)
+            if lim is not None:
+                d = math.ldexp(lim, -e1) - mean_s
+                q[side] = math.ldexp((d if side == "upper" else -d) / mant, e1 - exp)
+        if not all(math.isfinite(v) for v in (xbar, s or 0.0, *q.values())):
+            raise OverflowError
+    except (OverflowError, ZeroDivisionError):
+        raise InputError(f"{source} ({x.size} values from {float(x.min()):g} to "
+                         f"{float(x.max()):g}) give a mean, s or distance to a limit (in "
+                         "units of s or sigma) beyond the largest number a float holds "
+                         "(1.8e308); give them in other units") from None
+    return xbar, s, q
+
+
+def judge_sample(plan, values, source: str = "--values") -> dict:
     """Verdict, statistics, estimated fraction nonconforming and normality check."""
     import numpy as np
 
@@ -22,18 +69,12 @@ def judge_sample(plan, values) -> dict:
 
     x = np.asarray(values, dtype=float)
     n = x.size
-    xbar = float(x.mean())
-    s = float(x.std(ddof=1)) if n > 1 else float("nan")
     known = plan.sigma == "known"
+    xbar, s, q = scale_free(x, plan, source)
     dev = plan.sigma_value if known else s
     out = {"scheme": "variables", "plan": plan.to_dict(), "notation": plan.notation(), "n": n,
            "xbar": xbar, "s": s, "sigma_used": dev,
            "deviation": "sigma (known)" if known else "s (sample)"}
-    q = {}
-    if plan.upper is not None:
-        q["upper"] = (plan.upper - xbar) / dev
-    if plan.lower is not None:
-        q["lower"] = (xbar - plan.lower) / dev
     est = {}
     for side, qv in q.items():
         if known:

@@ -182,10 +182,16 @@ def design_zero(*, rql: float, beta: float = 0.10, lot_size: int | None = None,
     """
     from lotwise.analysis import audit
     from lotwise.core.types import Targets
-    from lotwise.core.search import Kernel, n_min
+    from lotwise.core.search import MAX_SAMPLE, MIN_LEVEL, Kernel, n_min
 
     scope = Scope(lot_size=lot_size, defects=defects)
     model = scope.check_model(model)
+    if rql < MIN_LEVEL and lot_size is None:
+        raise Infeasible(f"the RQL ({format_level(rql, defects)}) is below {MIN_LEVEL:g}: a c = 0 "
+                         f"sample meeting the consumer's risk would need more than "
+                         f"{MAX_SAMPLE:.0e} units; state the level in a coarser unit (for "
+                         "example per million) or inspect every item",
+                         {"rql": rql, "min_level": MIN_LEVEL})
     if aql is not None and not aql < rql:
         raise Infeasible(f"the RQL ({format_level(rql, defects)}) must be above the AQL "
                          f"({format_level(aql, defects)})", {"aql": aql, "rql": rql})
@@ -205,7 +211,9 @@ def design_zero(*, rql: float, beta: float = 0.10, lot_size: int | None = None,
         if lot_size is not None and (max_n is None or max_n >= lot_size):
             nm, full = int(lot_size), True
         else:
-            raise Infeasible(f"no c = 0 plan with n <= {cap} (--max-n) meets the consumer's "
+            raise Infeasible(f"no c = 0 plan with n <= {cap or MAX_SAMPLE:,}"
+                             + (" (--max-n)" if max_n is not None else "")
+                             + " meets the consumer's "
                              f"risk {format_pct(beta)} at the RQL {format_level(rql, defects)}",
                              {"n": cap, "c": 0})
     plan = SinglePlan(n=nm, c=0)

@@ -31,8 +31,8 @@ def batch(
     (empty when the row was designed). A row that cannot be designed gets its
     reason in error; the batch goes on.
     """
-    from lotwise.data.batch import (SAFETY_NOTE, design_catalogue, parse_rate, progress_bar,
-                                    read_catalogue)
+    from lotwise.core.quantities import parse_rate
+    from lotwise.data.batch import SAFETY_NOTE, design_catalogue, progress_bar, read_catalogue
     from lotwise.data.files import write_bytes
 
     if audit:

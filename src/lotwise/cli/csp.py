@@ -13,7 +13,7 @@ import typer
 
 from . import common
 from lotwise.core.quantities import (Infeasible, InputError, format_pct, parse_count,
-                                     parse_level)
+                                     parse_level, parse_seed)
 
 
 #: Options of ``design`` that do not apply to CSP plans, in the order
@@ -220,7 +220,7 @@ def next_cmd(plan, *, history, seed, systematic, unused, as_json):
         raise InputError("--history is required: the results so far as ok, bad or - "
                          "(passed without inspection), or a file of them; \"\" for a new run")
     marks = parse_history(_history_text(history))
-    sd = parse_count(seed, "--seed", minimum=0, maximum=2**63 - 1) if seed is not None else None
+    sd = parse_seed(seed, "--seed") if seed is not None else None
     res = next_units(plan, marks, seed=sd, systematic=systematic)
     if as_json:
         common.emit_json({"scheme": plan.scheme, "plan": plan.to_dict(),

@@ -137,7 +137,6 @@ def judge(
                          "value of sigma to judge a sample")
     if plot is not None and not plot.lower().endswith(".png"):
         raise InputError(f"--plot ({plot}) must end in .png")
-    common.plot_path(plot, force)
     if (measurements is None) == (values is None):
         raise InputError("give the measurements either as a FILE or as --values 1.2,1.3,... "
                          "(one of them)")
@@ -151,7 +150,7 @@ def judge(
     if p.sigma == "unknown" and len(set(xs)) == 1:
         raise InputError(f"{source}: all {len(xs)} values are equal ({xs[0]:g}), so s = 0 and "
                          "the plan cannot judge the sample; check the gauge's resolution")
-    rep = judge_sample(p, xs)
+    rep = judge_sample(p, xs, source if values is not None else f"measurements ({source})")
     rep["source"] = source
     if plot is not None:
         from lotwise.data.files import save_figure
@@ -161,6 +160,7 @@ def judge(
         note = None if nm["w"] is None else (f"Shapiro-Wilk W = {nm['w']:.3f}, p = "
                                               f"{nm['p_value']:.3f}")
         fig = normal_probability_figure(xs, lower=p.lower, upper=p.upper, note=note,
+                                        mean=rep["xbar"], sd=rep["s"] or 0.0,
                                         title=f"Normal probability plot, {len(xs)} measurements")
         save_figure(fig, plot, force=force, option="--plot")
         rep["plot"] = plot
@@ -178,7 +178,7 @@ def render_judge(rep: dict, plan) -> str:
     lines = [f"Verdict: {verdict} the lot  (plan {plan.label}; {plan.method})",
              f"  sample    n = {rep['n']} from {rep['source']}",
              f"  mean      xbar = {rep['xbar']:.6g}",
-             f"  std dev   s = {rep['s']:.6g}" + (f"; judged with the known sigma = "
+             "  std dev   s = " + ("- (one value)" if rep["s"] is None else f"{rep['s']:.6g}") + (f"; judged with the known sigma = "
                                                  f"{plan.sigma_value:g}" if plan.sigma == "known"
                                                  else "")]
     st = rep["statistic"]

@@ -7,7 +7,7 @@ from typing import Optional
 import typer
 
 from . import app, common, records
-from lotwise.core.quantities import InputError, format_pct, parse_count, parse_risk
+from lotwise.core.quantities import InputError, format_pct, parse_rate, parse_count, parse_risk
 
 
 @app.command()
@@ -36,7 +36,7 @@ def supplier(
         raise InputError('--plan is required (for example --plan "n=80,c=2")')
     p = parse_plan(plan)
     prob = parse_risk(interval, "--interval")
-    L = parse_count(deliveries, "--deliveries-per-year", minimum=1, maximum=10**7) \
+    L = parse_rate(deliveries, "--deliveries-per-year", minimum=1, whole=True) \
         if deliveries is not None else None
     lots = None
     if records_path is not None:

@@ -8,7 +8,7 @@ from typing import Optional
 import typer
 
 from . import app, common, records
-from lotwise.core.quantities import InputError, format_level, format_pct, parse_count
+from lotwise.core.quantities import InputError, format_level, format_pct, parse_rate
 
 
 @app.command()
@@ -48,7 +48,7 @@ def tradeoff(
 
     mdl = Scope(lot_size=N).check_model(model)
     common.outputs(force, ("--csv", csv), ("--plot", plot, "figure"))
-    L = parse_count(deliveries, "--deliveries-per-year", minimum=1, maximum=10**7) \
+    L = parse_rate(deliveries, "--deliveries-per-year", minimum=1, whole=True) \
         if deliveries is not None else None
     post = None
     lots = None

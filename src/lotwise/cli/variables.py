@@ -93,6 +93,9 @@ def render_design(rep: dict) -> str:
 
     t = rep["targets"]
     lines = [f"Variables plan, {rep['method']} (smallest sample meeting both risks)"]
+    if rep.get("full_inspection"):  # as a single plan says it when n reaches the lot
+        lines.append(f"  100 % inspection: the plan measures {rep['n']} items, not fewer than "
+                     f"the lot of {rep['lot_size']}; measure every item.")
     kr = rep["k_range"]
     plan = f"  plan      n = {rep['n']}, k = {rep['k']:g}"
     if rep.get("m") is not None:

@@ -30,6 +30,10 @@ __all__ = [
     "parse_level",
     "parse_risk",
     "parse_count",
+    "parse_seed",
+    "parse_rate",
+    "MAX_COUNT",
+    "MAX_RATE",
     "format_level",
     "format_pct",
 ]
@@ -70,7 +74,11 @@ def parse_fraction(text, name: str) -> float:
             raise InputError(f"{name} ({text!r}) must be a number such as 0.01, 1% or 250ppm")
         number = m.group(1).replace("_", "")
         unit = m.group(2).lower() if m.group(2) else None
-        value = float(number) / _SCALE[unit]  # 95% -> 0.95 exactly, not 0.9500000000000001
+        try:
+            value = float(number) / _SCALE[unit]  # 95% -> 0.95 exactly, not 0.9500000000000001
+        except ValueError:  # 1.2.3: digits and dots, but not one number
+            raise InputError(f"{name} ({text!r}) must be a number such as 0.01, 1% or "
+                             "250ppm") from None
     if not math.isfinite(value):
         raise InputError(f"{name} ({text!r}) must be a finite number")
     return value
@@ -107,9 +115,17 @@ def parse_risk(text, name: str) -> float:
 
 _COUNT_RE = re.compile(r"^\s*\d+(?:[_,]\d{3})*\s*$")
 
+#: Largest count or size the computations honour (sample sizes, lot sizes,
+#: acceptance numbers): beyond it the float arithmetic of the kernels no
+#: longer tells one unit from the next.
+MAX_COUNT = 10**12
+#: Largest rate (lots or deliveries a year).
+MAX_RATE = 10**9
 
-def parse_count(text, name: str, *, minimum: int = 0, maximum: int | None = None) -> int:
-    """A whole number such as ``1000``, ``1_000`` or ``1,000`` within bounds."""
+
+def parse_count(text, name: str, *, minimum: int = 0, maximum: int | None = MAX_COUNT) -> int:
+    """A whole number such as ``1000``, ``1_000`` or ``1,000`` within bounds
+    (at most :data:`MAX_COUNT` unless ``maximum`` says otherwise)."""
     if isinstance(text, bool):
         raise InputError(f"{name} ({text!r}) must be a whole number")
     if isinstance(text, int):
@@ -127,6 +143,47 @@ def parse_count(text, name: str, *, minimum: int = 0, maximum: int | None = None
         raise InputError(f"{name} ({value}) must be at least {minimum}")
     if maximum is not None and value > maximum:
         raise InputError(f"{name} ({value}) must be at most {maximum:,}")
+    return value
+
+
+_SEED_RE = re.compile(r"^\s*\d+(?:_\d+)*\s*$")
+
+
+def parse_seed(text, name: str, *, bits: int = 63) -> int:
+    """A seed: a whole number from 0 to ``2**bits - 1`` (default 2**63 - 1,
+    what a 64-bit signed integer holds)."""
+    allowed = f"a whole number from 0 to 2**{bits} - 1"
+    if isinstance(text, bool) or not isinstance(text, (int, str)):
+        raise InputError(f"{name} ({text!r}) must be {allowed}")
+    if isinstance(text, str):
+        if not _SEED_RE.match(text):
+            raise InputError(f"{name} ({text!r}) must be {allowed} (digits only)")
+        text = int(text.strip().replace("_", ""))
+    if not 0 <= text <= 2**bits - 1:
+        raise InputError(f"{name} ({text}) must be {allowed}")
+    return text
+
+
+def parse_rate(text, name: str, *, minimum: int = 0, whole: bool = False) -> int | float:
+    """A rate of lots (deliveries) a year, from ``minimum`` to :data:`MAX_RATE`;
+    with ``whole`` a whole number (returned as an int)."""
+    what = "a whole number of lots per year" if whole else "a number of lots per year"
+    allowed = f"{what} from {minimum} to {MAX_RATE:,}"
+    if isinstance(text, bool):
+        raise InputError(f"{name} ({text!r}) must be {allowed}")
+    if isinstance(text, (int, float)):
+        value = float(text)
+    else:
+        try:
+            value = float(str(text).strip().replace("_", ""))
+        except ValueError:
+            raise InputError(f"{name} ({text!r}) must be {allowed}") from None
+    if not (math.isfinite(value) and minimum <= value <= MAX_RATE):
+        raise InputError(f"{name} ({text}) must be {allowed}")
+    if whole:
+        if value != int(value):
+            raise InputError(f"{name} ({text}) must be {allowed}")
+        return int(value)
     return value
 
 

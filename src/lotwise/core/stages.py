@@ -237,6 +237,30 @@ def unit_walk(acc, rej, model, x, N=None, *, lot_size=None) -> WalkResult:
     left in accepted lots, for AOQ.
     """
     x = np.asarray(x, dtype=float).ravel()
+    # The walk keeps arrays of (units + 1) x levels: evaluate the levels in
+    # blocks so that memory stays bounded whatever the lot (a search over
+    # every count of a lot of 10^9 asks for millions of levels at once).
+    step = max(1, WALK_CELLS // len(acc))
+    if x.size <= step:
+        return _walk_block(acc, rej, model, x, N, lot_size=lot_size)
+    parts = [_walk_block(acc, rej, model, x[k:k + step], N, lot_size=lot_size)
+             for k in range(0, x.size, step)]
+    left = None if parts[0].left_in_accepted is None else \
+        np.concatenate([r.left_in_accepted for r in parts])
+    return WalkResult(pa=np.concatenate([r.pa for r in parts]),
+                      asn=np.concatenate([r.asn for r in parts]),
+                      accepted_units=np.concatenate([r.accepted_units for r in parts]),
+                      left_in_accepted=left)
+
+
+#: Most cells (units x quality levels) of one block of :func:`unit_walk`
+#: (about 32 MB per array).
+WALK_CELLS = 1 << 22
+
+
+def _walk_block(acc, rej, model, x, N=None, *, lot_size=None) -> WalkResult:
+    """:func:`unit_walk` for one block of quality levels ``x``."""
+    x = np.asarray(x, dtype=float).ravel()
     P = x.size
     acc = np.asarray(acc, dtype=np.int64)
     rej = np.asarray(rej, dtype=np.int64)

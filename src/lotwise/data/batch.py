@@ -121,10 +121,11 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from lotwise.core.types import Scope
-from lotwise.core.quantities import InputError, Infeasible, parse_count, parse_level, parse_risk
+from lotwise.core.quantities import (InputError, Infeasible, parse_count, parse_level, parse_rate,
+                                     parse_risk)
 
 __all__ = ["REQUIRED", "OPTIONAL", "OUTPUT", "SAFETY_NOTE", "BatchResult",
-           "design_catalogue", "read_catalogue", "catalogue_frame", "parse_rate",
+           "design_catalogue", "read_catalogue", "catalogue_frame",
            "progress_bar"]
 
 REQUIRED = ("part", "lot_size", "aql", "rql")
@@ -750,18 +751,6 @@ def _row_options(text: dict, scheme, columns) -> tuple:
         except InputError as exc:
             errs[i] = str(exc)
     return opts, errs
-
-
-def parse_rate(v, name: str) -> float:
-    """A delivery rate (lots per year, 0 or more) from text; ``name`` is the
-    option or column named in the error."""
-    try:
-        x = float(str(v).replace("_", ""))
-    except ValueError:
-        raise InputError(f"{name} ({v!r}) must be a number of lots per year, 0 or more") from None
-    if not (math.isfinite(x) and x >= 0):
-        raise InputError(f"{name} ({v}) must be a number of lots per year, 0 or more")
-    return x
 
 
 def design_registered(*, scheme: str, aql: float, rql: float, alpha: float, beta: float,

@@ -84,7 +84,7 @@ from typing import Sequence
 
 import numpy as np
 
-from lotwise.core.quantities import InputError
+from lotwise.core.quantities import InputError, parse_seed
 
 __all__ = ["Stratum", "Pick", "Draw", "draw_units", "split_strata", "allocate",
            "MAX_LOT", "MAX_N", "MAX_STRATA", "MAX_SEED"]
@@ -213,27 +213,20 @@ def _whole(value, option: str, minimum: int, maximum: int) -> int:
 def _seed(seed) -> int:
     if seed is None:
         return int(np.random.SeedSequence().entropy)
-    if isinstance(seed, str):
-        text = seed.strip()
-        if not _INT.match(text):
-            raise InputError(f"--seed ({seed!r}) must be a whole number from 0 to 2**128 - 1 "
-                             "(digits only)")
-        seed = int(text.replace("_", ""))
-    if isinstance(seed, (bool, np.bool_)) or not isinstance(seed, (int, np.integer)):
-        raise InputError(f"--seed ({seed!r}) must be a whole number from 0 to 2**128 - 1")
-    seed = int(seed)
-    if not 0 <= seed <= MAX_SEED:
-        raise InputError(f"--seed ({seed}) must be a whole number from 0 to 2**128 - 1")
-    return seed
+    if isinstance(seed, np.integer) and not isinstance(seed, np.bool_):
+        seed = int(seed)
+    return parse_seed(seed, "--seed", bits=128)
 
 
-def split_strata(lot_size: int, strata) -> tuple[str, list[int]]:
+def split_strata(lot_size: int, strata, *, option: str = "--strata",
+                 lot_option: str = "--lot-size") -> tuple[str, list[int]]:
     """Read a strata specification: returns the name and the list of sizes.
 
     ``strata`` is ``"NAME=COUNT"`` (COUNT equal consecutive strata, the last
     ``lot_size % COUNT`` of them one unit larger), ``"NAME=SIZE,SIZE,..."``
     (sizes adding up to ``lot_size``), either without ``NAME=`` (the name is
     then ``"stratum"``), an int (a count) or a sequence of ints (sizes).
+    Messages name ``option`` and ``lot_option`` (the option or file key).
 
     >>> split_strata(1010, "cartons=40")[1][28:32]
     [25, 25, 26, 26]
@@ -247,12 +240,12 @@ def split_strata(lot_size: int, strata) -> tuple[str, list[int]]:
         if "=" in text:
             name, text = (s.strip() for s in text.split("=", 1))
             if not _NAME.match(name):
-                raise InputError(f"--strata ({strata!r}): the name ({name!r}) must start with "
+                raise InputError(f"{option} ({strata!r}): the name ({name!r}) must start with "
                                  "a letter and hold only letters, digits, spaces, '_', '-' "
                                  f"or '.'; {_STRATA_HELP}")
         parts = [p.strip() for p in text.split(",")]
         if not text or any(not _INT.match(p) for p in parts):
-            raise InputError(f"--strata ({strata!r}) is not a strata specification; "
+            raise InputError(f"{option} ({strata!r}) is not a strata specification; "
                              f"{_STRATA_HELP}")
         values = [int(p.replace("_", "")) for p in parts]
         if len(values) == 1:
@@ -268,31 +261,31 @@ def split_strata(lot_size: int, strata) -> tuple[str, list[int]]:
         count, sizes = None, [int(v) for v in strata]
         shown = ",".join(str(v) for v in sizes)
         if len(sizes) == 0:
-            raise InputError(f"--strata ({strata!r}) is empty; {_STRATA_HELP}")
+            raise InputError(f"{option} ({strata!r}) is empty; {_STRATA_HELP}")
     else:
-        raise InputError(f"--strata ({strata!r}) is not a strata specification; {_STRATA_HELP}")
+        raise InputError(f"{option} ({strata!r}) is not a strata specification; {_STRATA_HELP}")
 
     if sizes is None:
         if count < 1:
-            raise InputError(f"--strata ({shown}) asks for {count} strata; give at least 1")
+            raise InputError(f"{option} ({shown}) asks for {count} strata; give at least 1")
         if count > lot_size:
-            raise InputError(f"--strata ({shown}) asks for {count:,} strata but --lot-size is "
+            raise InputError(f"{option} ({shown}) asks for {count:,} strata but {lot_option} is "
                              f"{lot_size:,}; each stratum needs at least one unit")
         if count > MAX_STRATA:
-            raise InputError(f"--strata ({shown}) asks for {count:,} strata; at most "
+            raise InputError(f"{option} ({shown}) asks for {count:,} strata; at most "
                              f"{MAX_STRATA:,} are allowed")
         q, r = divmod(lot_size, count)
         return name, [q] * (count - r) + [q + 1] * r
     if len(sizes) > MAX_STRATA:
-        raise InputError(f"--strata gives {len(sizes):,} sizes; at most {MAX_STRATA:,} "
+        raise InputError(f"{option} gives {len(sizes):,} sizes; at most {MAX_STRATA:,} "
                          "strata are allowed")
     for k, s in enumerate(sizes, 1):
         if s < 1:
-            raise InputError(f"--strata ({shown}): the size of stratum {k} ({s}) must be "
+            raise InputError(f"{option} ({shown}): the size of stratum {k} ({s}) must be "
                              "at least 1")
     total = sum(sizes)
     if total != lot_size:
-        raise InputError(f"--strata ({shown}): the sizes add up to {total:,} but --lot-size "
+        raise InputError(f"{option} ({shown}): the sizes add up to {total:,} but {lot_option} "
                          f"is {lot_size:,}; they must be equal")
     return name, sizes
 

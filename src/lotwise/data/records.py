@@ -109,7 +109,7 @@ from scipy import special
 from lotwise.core import kernels as oc
 from lotwise.core.types import Scope
 from lotwise.families.base import parse_plan
-from lotwise.core.quantities import InputError
+from lotwise.core.quantities import MAX_COUNT, InputError
 
 __all__ = ["REQUIRED", "LIMIT_TAIL", "BadRow", "LotRecords", "GroupSummary",
            "RecordsSummary", "read_records", "records_frame", "summarise",
@@ -442,7 +442,9 @@ class _Cells:
         self.note(badnum & (txt != ""), lambda i: f"{name} ({txt[i]!r}) must be a whole number")
         low = ~badnum & (np.where(badnum, minimum, v) < minimum)
         self.note(low, lambda i: f"{name} ({txt[i]}) must be at least {minimum}")
-        return np.where(badnum, 0, v).astype(np.int64), ~badnum & ~low
+        high = ~badnum & (np.where(badnum, 0, v) > MAX_COUNT)  # beyond int64 too
+        self.note(high, lambda i: f"{name} ({txt[i]}) must be at most {MAX_COUNT:,}")
+        return np.where(badnum | high, 0, v).astype(np.int64), ~badnum & ~low & ~high
 
 
 def _counts_checked(cells: _Cells):

@@ -96,7 +96,8 @@ from pathlib import Path
 
 from lotwise.core.types import Targets
 from lotwise.core.types import Scope
-from lotwise.core.quantities import InputError, parse_count, parse_level, parse_risk
+from lotwise.core.quantities import (MAX_COUNT, InputError, parse_count, parse_level,
+                                     parse_risk, parse_seed)
 from lotwise.documents.schemefile import parse_extras
 
 __all__ = ["Characteristic", "PlanRequest", "load", "loads", "CLASSES"]
@@ -313,6 +314,33 @@ def _sampling_count(smp: dict, key: str, minimum: int, path: str):
     return parse_count(v, f"{path}: sampling.{key}", minimum=minimum)
 
 
+def _seed(smp: dict, path: str):
+    """``sampling.seed`` (the pick list's: a whole number from 0 to 2**128 - 1), or None."""
+    if "seed" not in smp:
+        return None
+    v = smp["seed"]
+    if not isinstance(v, int) or isinstance(v, bool):
+        raise InputError(f"{path}: sampling.seed ({v!r}) must be a whole number from 0 to "
+                         "2**128 - 1, written without quotes")
+    return parse_seed(v, f"{path}: sampling.seed", bits=128)
+
+
+def _strata(smp: dict, size, path: str):
+    """``sampling.strata``, checked against ``lot.size`` as the pick list will
+    use it, or None."""
+    strata = _text(smp, "strata", "sampling.", path) or None
+    if strata is None:
+        return None
+    from lotwise.data.draw import split_strata
+
+    key = {"option": f"{path}: sampling.strata", "lot_option": "lot.size"}
+    if size is not None:
+        split_strata(size, strata, **key)
+    elif "," not in strata:  # a count of strata: its form and range (sizes need the lot)
+        split_strata(MAX_COUNT, strata, **key)
+    return strata
+
+
 def _cost(smp: dict, path: str):
     """``sampling.cost_per_unit`` (a number of at least 0), or None."""
     if "cost_per_unit" not in smp:
@@ -353,20 +381,25 @@ def _fixed_c(ch: dict, w: str, path: str, n, defects: bool = False):
     return v
 
 
-def _own_plan(ch: dict, w: str, path: str, c):
-    """A characteristic's own plan notation, parsed, or None."""
+def _own_plan(ch: dict, w: str, path: str, c, size=None):
+    """A characteristic's own plan notation, parsed, or None; it may not
+    inspect more than the lot (``size``, when given)."""
     if "plan" not in ch:
         return None
     from lotwise.families.base import parse_plan
 
-    plan = parse_plan(_text(ch, "plan", w, path, required=True), f"{path}: {w}plan")
+    text = _text(ch, "plan", w, path, required=True)
+    plan = parse_plan(text, f"{path}: {w}plan")
+    if size is not None and plan.max_sample > size:
+        raise InputError(f"{path}: {w}plan ({text}) inspects up to {plan.max_sample:,} units, "
+                         f"more than lot.size ({size:,})")
     if c is not None:
         raise InputError(f"{path}: {w}c ({c}) cannot be combined with {w}plan; the plan "
                          "notation holds the acceptance numbers")
     return plan
 
 
-def _characteristic(ch: dict, i: int, path: str, *, defects: bool, n, seen: set):
+def _characteristic(ch: dict, i: int, path: str, *, defects: bool, n, seen: set, size=None):
     """``[[characteristic]]`` number ``i`` (from 1), validated; its id is added
     to ``seen``."""
     w = f"characteristic[{i}]."
@@ -381,15 +414,61 @@ def _characteristic(ch: dict, i: int, path: str, *, defects: bool, n, seen: set)
                          + ", ".join(CLASSES))
     targets = _targets(ch, w, path, defects)
     c = _fixed_c(ch, w, path, n, defects)
-    plan = _own_plan(ch, w, path, c)
+    plan = _own_plan(ch, w, path, c, size)
     scheme, options = _scheme_options(ch, w, path, defects, c, plan)
     return Characteristic(id=cid, description=_text(ch, "description", w, path),
                           klass=klass, targets=targets, c=c, plan=plan,
                           scheme=scheme, options=options)
 
 
+#: Largest plan file read (characters): a plan file is a page of text.
+MAX_CHARS = 1_000_000
+#: Deepest nesting of arrays and inline tables in a plan file.
+MAX_DEPTH = 16
+
+
+def _nesting(text: str) -> int:
+    """The deepest nesting of ``[`` and ``{`` in TOML ``text``, outside strings
+    and comments (an upper bound: a ``[table]`` header counts as one level)."""
+    depth = deepest = i = 0
+    size = len(text)
+    while i < size:
+        ch = text[i]
+        if ch == "#":
+            j = text.find("\n", i)
+            i = size if j < 0 else j
+        elif ch in "\"'":
+            quote = text[i:i + 3] if text[i:i + 3] in ('"""', "'''") else ch
+            j = i + len(quote)
+            while j < size and text[j:j + len(quote)] != quote:
+                j += 2 if ch == '"' and text[j] == "\\" else 1
+                if len(quote) == 1 and j < size and text[j] == "\n":
+                    break
+            i = j + len(quote)
+            continue
+        elif ch in "[{":
+            depth += 1
+            deepest = max(deepest, depth)
+        elif ch in "]}":
+            depth = max(0, depth - 1)
+        i += 1
+    return deepest
+
+
+def _bounded(text: str, path: str) -> None:
+    """Refuse a file too large or too deeply nested to be a plan file, before parsing."""
+    if len(text) > MAX_CHARS:
+        raise InputError(f"{path}: the file ({len(text):,} characters) is too large for a plan "
+                         f"file; at most {MAX_CHARS:,} characters are read")
+    depth = _nesting(text)
+    if depth > MAX_DEPTH:
+        raise InputError(f"{path}: arrays or inline tables nested {depth} deep; a plan file "
+                         f"nests them at most {MAX_DEPTH} deep")
+
+
 def loads(text: str, path: str = "<plan>") -> PlanRequest:
     """Validate plan-file text; ``path`` is used in messages."""
+    _bounded(text, path)
     try:
         doc = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
@@ -408,11 +487,11 @@ def loads(text: str, path: str = "<plan>") -> PlanRequest:
     model = _model(smp, scope, path)
     n = _sampling_count(smp, "n", 1, path)
     max_n = _sampling_count(smp, "max_n", 1, path)
-    seed = _sampling_count(smp, "seed", 0, path)
+    seed = _seed(smp, path)
     if size is not None and n is not None and n > size:
         raise InputError(f"{path}: sampling.n ({n}) must not be greater than lot.size ({size})")
     cost = _cost(smp, path)
-    strata = _text(smp, "strata", "sampling.", path) or None
+    strata = _strata(smp, size, path)
     rejected = _text(smp, "rejected_lot", where="sampling.", path=path)
     rationale = _text(doc, "rationale", "", path)
 
@@ -428,7 +507,7 @@ def loads(text: str, path: str = "<plan>") -> PlanRequest:
     chars = []
     seen = set()
     for i, ch in enumerate(chars_raw, 1):
-        chars.append(_characteristic(ch, i, path, defects=defects, n=n, seen=seen))
+        chars.append(_characteristic(ch, i, path, defects=defects, n=n, seen=seen, size=size))
     return PlanRequest(
         path=str(path), part_id=part_id, part_description=_text(part, "description", "part.", path),
         supplier=_text(part, "supplier", "part.", path),
@@ -441,6 +520,9 @@ def load(path) -> PlanRequest:
     """Read and validate one plan file."""
     p = Path(path)
     try:
+        if p.is_file() and p.stat().st_size > 4 * MAX_CHARS:
+            raise InputError(f"{path}: the file ({p.stat().st_size:,} bytes) is too large for "
+                             f"a plan file; at most {MAX_CHARS:,} characters are read")
         text = p.read_text(encoding="utf-8")
     except FileNotFoundError:
         raise InputError(f"{path}: no such plan file") from None

@@ -511,6 +511,11 @@ class SequentialPlan(Plan):
 _YES = {"1": True, "yes": True, "true": True, "0": False, "no": False, "false": False}
 
 
+#: Allowed intercepts and slope of a plan written as its lines: counts beyond
+#: the largest truncation (10^7 units), a slope beyond what a count can follow.
+LINE_RANGE = {"h1": (1e-9, 1e7), "h2": (1e-9, 1e7), "s": (1e-15, 1e6)}
+
+
 def parse_sequential(pairs: dict, text: str, option: str) -> SequentialPlan:
     """``sequential: h1=1.22,h2=1.57,s=0.0281,truncate=300`` or
     ``sequential: p1=1%,alpha=5%,p2=6%,beta=10%,truncate=300``.
@@ -544,10 +549,11 @@ def parse_sequential(pairs: dict, text: str, option: str) -> SequentialPlan:
             if key not in pairs:
                 raise InputError(f"{option} ({text!r}) lacks {key}; write for example {example}")
         vals = {}
-        for key in ("h1", "h2", "s"):
+        for key, (low, high) in LINE_RANGE.items():
             v = parse_fraction(pairs[key], f"{option} {key}")
-            if not v > 0:
-                raise InputError(f"{option} {key} ({pairs[key]}) must be a positive number")
+            if not low <= v <= high:
+                raise InputError(f"{option} {key} ({pairs[key]}) must be a positive number from "
+                                 f"{low:g} to {high:g}")
             vals[key] = v
         return SequentialPlan(h1=vals["h1"], h2=vals["h2"], s=vals["s"], truncate=t)
     for key in ("p1", "p2"):

@@ -686,6 +686,11 @@ class VariablesPlan(Plan):
 
 # --- notation -------------------------------------------------------------------
 
+#: Largest acceptability constant of a written plan (|k|): far beyond the
+#: z at which the normal tail leaves the floats (about 38).
+MAX_K = 1000.0
+
+
 def _float(text, option, key):
     try:
         v = float(str(text).strip())
@@ -728,6 +733,9 @@ def parse_variables(pairs: dict, text: str, option: str) -> VariablesPlan:
                          "\"variables: n=42,k=1.9,upper=25\"")
     n = parse_count(pairs["n"], f"{option} n", minimum=1)
     k = _float(pairs["k"], option, "k") if "k" in pairs else None
+    if k is not None and not abs(k) <= MAX_K:
+        raise InputError(f"{option} k ({pairs['k']}) must be a number from -{MAX_K:g} to "
+                         f"{MAX_K:g} (beyond, the normal tail is below the smallest float)")
     m = None
     if "m" in pairs:
         from lotwise.core.quantities import parse_fraction

@@ -7,7 +7,7 @@ See :mod:`lotwise.web.commands` for the rules these follow.
 
 from __future__ import annotations
 
-from lotwise.core.quantities import InputError, parse_count, parse_level
+from lotwise.core.quantities import InputError, parse_level, parse_rate
 from lotwise.web.commands import (Refused, Reply, csp_model, csp_refuse, levels_options,
                                   lot_size_option, risk_options, scope_and_model, plan_from)
 
@@ -175,7 +175,7 @@ def tradeoff(q) -> Reply:
     N = lot_size_option(q.get("lot_size"))
     mdl = Scope(lot_size=N).check_model(q.get("model"))
     deliveries = q.get("deliveries_per_year")
-    L = parse_count(deliveries, "--deliveries-per-year", minimum=1, maximum=10**7) \
+    L = parse_rate(deliveries, "--deliveries-per-year", minimum=1, whole=True) \
         if deliveries is not None else None
     pavg = q.get("process_average")
     pavg = parse_level(pavg, "--process-average") if pavg is not None else None
@@ -203,7 +203,7 @@ def outlook(q) -> Reply:
         raise InputError("--process-average is required (for example --process-average 0.8%)")
     pbar = parse_level(q.get("process_average"), "--process-average", per_unit=defects)
     deliveries = q.get("deliveries_per_year")
-    L = parse_count(deliveries, "--deliveries-per-year", minimum=1, maximum=10**7) \
+    L = parse_rate(deliveries, "--deliveries-per-year", minimum=1, whole=True) \
         if deliveries is not None else None
     rows = []
     for i, text in enumerate(q.many("plan") or [], 1):

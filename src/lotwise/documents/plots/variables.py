@@ -78,22 +78,36 @@ def variables_oc_figure(plan, *, aql=None, rql=None, max_p=None, attributes_plan
 
 
 def normal_probability_figure(values, *, lower=None, upper=None, ax=None, title=None,
-                              note=None):
+                              note=None, mean=None, sd=None):
     """Normal probability plot: ordered measurements against normal scores
     (Blom's positions ``(i - 3/8)/(n + 1/4)``), with the line
     ``xbar + s z`` and the specification limits. Points far from the line
-    (a bend, an S shape, a lone outlier) argue against normality."""
+    (a bend, an S shape, a lone outlier) argue against normality.
+
+    ``mean`` and ``sd`` are the sample's mean and s when already computed
+    (``lotwise judge`` computes them scale-free); a line that leaves the
+    floats (values near 1e308) is refused, naming ``--plot``.
+    """
     from scipy import special
 
-    fig, ax = new_axes(ax, size=(6.0, 4.4))
+    from lotwise.core.quantities import InputError
+
     x = np.sort(np.asarray(values, dtype=float))
     n = x.size
     z = special.ndtri((np.arange(1, n + 1) - 0.375) / (n + 0.25))
-    m, s = float(x.mean()), float(x.std(ddof=1)) if n > 1 else 0.0
+    m = float(np.mean(x)) if mean is None else mean
+    s = (float(x.std(ddof=1)) if n > 1 else 0.0) if sd is None else sd
+    zz = np.array([min(z.min(), -2.5), max(z.max(), 2.5)])
+    with np.errstate(over="ignore", invalid="ignore"):
+        line = m + s * zz
+    if not (np.isfinite(line).all() and np.isfinite(x).all()):
+        raise InputError(f"--plot: the normal line of these measurements (mean {m:.4g}, "
+                         f"s {s:.4g}) reaches beyond the largest number a float holds; give "
+                         "the measurements in other units to plot them")
+    fig, ax = new_axes(ax, size=(6.0, 4.4))
     ax.plot(z, x, marker="o", markersize=5, markerfacecolor="white", markeredgecolor="0.0",
             linestyle="none", label=f"measurements (n = {n})")
-    zz = np.array([min(z.min(), -2.5), max(z.max(), 2.5)])
-    ax.plot(zz, m + s * zz, label=f"normal line: mean {m:.5g}, s {s:.4g}", **STYLE["exact"])
+    ax.plot(zz, line, label=f"normal line: mean {m:.5g}, s {s:.4g}", **STYLE["exact"])
     for level, tag in ((lower, "lower limit"), (upper, "upper limit")):
         if level is not None:
             ax.axhline(level, color="0.35", linewidth=1.0, linestyle=(0, (5, 3)))

@@ -54,7 +54,9 @@ def write_sheets(pp, out_dir, *, force: bool = False, today=None) -> dict:
     stem = req.stem
     picks = None
     paths = {}
-    if pp.n is not None and req.scope.lot_size:
+    from lotwise.data.draw import MAX_N
+
+    if pp.n is not None and req.scope.lot_size and pp.n <= MAX_N:  # else no pick list
         from lotwise.data.draw import draw_units
         from lotwise.documents.partplan import pick_seed
 

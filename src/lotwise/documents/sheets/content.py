@@ -268,6 +268,12 @@ def _selection(pp, picks) -> str:
     """How to select the sample: the pick list when there is one."""
     req = pp.request
     scope = req.scope
+    if picks is None and scope.lot_size and pp.n:
+        from lotwise.data.draw import MAX_N
+
+        return (f"Draw the {pp.n:,} units at random from the lot of {scope.lot_size:,} (every "
+                f"unit equally likely); no pick list is written for a sample above "
+                f"{MAX_N:,} units.")
     if picks is None:
         return ("Draw the units at random from the whole lot (every unit equally likely), "
                 "for example with a seeded pick list from `lotwise draw` once the lot size "
