@@ -30,7 +30,8 @@ import numpy as np
 import pytest
 
 from lotwise.cli import main
-from lotwise.core.inspection import ErrorRates, clopper_pearson_upper, parse_study
+from lotwise.core.inspection import (ErrorRates, clopper_pearson_upper, observed_cdf,
+                                     parse_study)
 from lotwise.core.types import Scope, Targets
 from lotwise.families.base import parse_plan
 from lotwise.families.misclassified import design_misclassified, wrap
@@ -196,6 +197,9 @@ def test_finite_lot_against_mpmath_sample_form(n, c, N, D, e2, e1):
         total += h * inner
     plan = wrap(parse_plan(f"n={n},c={c}"), ErrorRates(miss_rate=e2, false_alarm=e1))
     assert float(plan.pa_count(D, Scope(lot_size=N))) == pytest.approx(float(total), abs=1e-10)
+    # the designer's own sample-form kernel, every c up to this one at once
+    cdf = observed_cdf([n, n + 1], D, N, e2, e1, c)
+    assert cdf[0][c] == pytest.approx(float(total), abs=1e-10)
 
 
 # Seeded simulation of rectifying inspection with misses and false alarms (lots drawn
@@ -271,6 +275,7 @@ def test_study_text():
 DESIGNS = [  # aql, rql, lot, e2, e1
     (0.01, 0.06, None, 0.1, 0.01),
     (0.01, 0.06, 2000, 0.1, 0.01),
+    (0.01, 0.06, 10_000, 0.1, 0.02),
     (0.02, 0.10, 500, 0.2, 0.0),
     (0.005, 0.05, None, 0.0, 0.005),
 ]

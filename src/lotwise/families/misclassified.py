@@ -62,7 +62,8 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from lotwise.core.inspection import ErrorRates, apparent, check_rates, flagged_counts
+from lotwise.core.inspection import (ErrorRates, apparent, check_rates, flagged_counts,
+                                     observed_cdf)
 from lotwise.core.quantities import InputError
 from lotwise.core.types import AoqFormula, Scope, lot_counts, parse_choice
 from lotwise.families.base import Family, Plan, family, finish, need_lot
@@ -339,8 +340,10 @@ class _SeenKernel:
     for arrays of ``n`` and ``c`` (the interface of :class:`lotwise.core.search.Kernel`).
 
     Binomial and Poisson: the plain kernel at the apparent levels. Finite lot: the
-    hypergeometric ``Pa`` averaged over the flagged count ``D'`` at each target.
-    Both stay monotone (falling in ``n``, rising in ``c``): a mixture of functions
+    flagged count of the sample in its sample form
+    (:func:`lotwise.core.inspection.observed_cdf`), one CDF over every ``c`` per
+    sample size and target, kept for the rest of the search.
+    Both stay monotone (falling in ``n``, rising in ``c``): in the lot form a mixture of functions
     falling in ``n`` with weights free of ``n`` falls in ``n``.
     """
 
@@ -358,21 +361,12 @@ class _SeenKernel:
                                     scope.defects),
                        alpha=targets.alpha, beta=targets.beta)
         self.t = seen  # initial_upper's guess uses the RQL as inspection sees it
-        self._plain = Kernel(model if model != "hypergeometric" else "binomial", seen, scope)
+        self.plain = Kernel(model if model != "hypergeometric" else "binomial", seen, scope)
         if model == "hypergeometric":
             from lotwise.core.types import lot_targets
 
             self.d1, self.d2 = lot_targets(targets, self.N)
-            self._mixes = {}
-            for key, d in (("aql", self.d1), ("rql", self.d2)):
-                lo, pmf, _ = flagged_counts(d, self.N, rates.miss_rate, rates.false_alarm)
-                ks = lo + np.arange(pmf.size)
-                # tails of at most 1e-15 of mass each change no risk by more than 2e-15
-                # (Pa lies in [0, 1]), well inside the 1e-12 tolerance of the searches
-                head = np.cumsum(pmf)
-                tail = np.cumsum(pmf[::-1])[::-1]
-                keep = (ks <= self.N) & (head > 1e-15) & (tail > 1e-15)
-                self._mixes[key] = (ks[keep].astype(float), pmf[keep])
+            self._cdfs = {}
 
     def at_aql(self, n, c):
         return self._pa(n, c, "aql")
@@ -382,14 +376,33 @@ class _SeenKernel:
 
     def _pa(self, n, c, key):
         if self.model != "hypergeometric":
-            return self._plain.at_aql(n, c) if key == "aql" else self._plain.at_rql(n, c)
-        from lotwise.core import kernels as oc
+            return self.plain.at_aql(n, c) if key == "aql" else self.plain.at_rql(n, c)
+        n, c = np.broadcast_arrays(np.asarray(n, dtype=np.int64), np.asarray(c, dtype=np.int64))
+        flat_n, flat_c = n.ravel(), c.ravel()
+        out = np.ones(flat_n.size)  # c >= n accepts every sample of items
+        inside = flat_c < flat_n
+        if inside.any():
+            self._fill(key, flat_n[inside], flat_c[inside])
+            out[inside] = [self._cdfs[(key, int(nn))][int(cc)]
+                           for nn, cc in zip(flat_n[inside], flat_c[inside])]
+        return out.reshape(n.shape)
 
-        ks, w = self._mixes[key]
-        n = np.asarray(n, dtype=float)
-        c = np.asarray(c, dtype=float)
-        pa = oc.pa_hypergeometric(n[..., None], c[..., None], float(self.N), ks)
-        return np.asarray(pa, dtype=float) @ w
+    def _fill(self, key: str, ns, cs) -> None:
+        """Compute (in one batch) the CDFs of the flagged count for every sample size in
+        ``ns`` not yet known up to the ``c`` asked for; kept for the rest of the search."""
+        need = {}
+        for nn, cc in zip(ns.tolist(), cs.tolist()):
+            have = self._cdfs.get((key, nn))
+            if have is None or have.size <= cc:
+                need[nn] = max(need.get(nn, 0), cc)
+        if not need:
+            return
+        sizes = np.array(sorted(need), dtype=np.int64)
+        top = min(int(sizes.max()), max(need.values()) + 1)
+        rows = observed_cdf(sizes, self.d1 if key == "aql" else self.d2, self.N,
+                            self.rates.miss_rate, self.rates.false_alarm, top)
+        for nn, row in zip(sizes.tolist(), rows):
+            self._cdfs[(key, nn)] = row[:nn]  # c < n only: c >= n accepts every sample
 
 
 def design_misclassified(scheme: str, rates: ErrorRates, *, aql: float, rql: float,
@@ -515,7 +528,19 @@ def design_single_seen(rates: ErrorRates, *, aql, rql, alpha=0.05, beta=0.10, lo
         if a <= alpha + TOL:
             return result(nm, c)
         raise short(nm, f"c = {c}", fixed_c=c)
-    start, width = 0, 8
+    nn, cc = _smallest_seen(kernel, alpha, beta, cap, defects, short)
+    return result(nn, cc)
+
+
+def _smallest_seen(kernel, alpha, beta, cap, defects, short) -> tuple[int, int]:
+    """``(n, c)``: the smallest ``c`` whose smallest ``n`` meeting beta also meets alpha,
+    in blocks of increasing ``c`` from the first ``c`` not ruled out by
+    :func:`_ruled_out`; ``short(n, what)`` builds the error when none fits the cap."""
+    from lotwise.core.quantities import Infeasible
+    from lotwise.core.search import n_min
+    from lotwise.core.types import TOL
+
+    start, width = _ruled_out(kernel, alpha, beta, cap), 8
     while True:
         stop = start + width if cap is None or defects else min(start + width, cap + 1)
         if stop <= start:
@@ -528,9 +553,44 @@ def design_single_seen(rates: ErrorRates, *, aql, rql, alpha=0.05, beta=0.10, lo
             ok[have] = kernel.at_aql(nm[have], cs[have]) >= 1.0 - alpha - TOL
         if ok.any():
             i = int(np.argmax(ok))
-            return result(nm[i], cs[i])
+            return int(nm[i]), int(cs[i])
         if cap is not None and not have[-1]:
             raise short(cap, f"n <= {cap}")
         start, width = stop, width * 2
         if start > 10_000_000:
             raise Infeasible("no plan found with an acceptance number below 10,000,000")
+
+
+def _ruled_out(kernel, alpha, beta, cap) -> int:
+    """The number of acceptance numbers ``0, 1, ...`` shown not to give the design
+    without their own search (finite lot; 0 under the other models).
+
+    The binomial design at the apparent levels brackets the finite-lot one (sampling
+    a finite lot varies less). For each ``c`` below its acceptance number, one sample
+    size ``L`` (nine tenths of the binomial ``n_min(c)``) is tried: when ``Pa`` at the
+    RQL still exceeds beta there, ``n_min(c) > L``, and when ``Pa`` at the AQL is
+    already below ``1 - alpha`` there it is lower still at ``n_min(c)`` (``Pa`` falls
+    in ``n``), so ``c`` cannot meet both risks. Exact: nothing is assumed of ``c``s
+    not so shown.
+    """
+    from lotwise.core.search import n_min
+    from lotwise.core.types import TOL
+
+    if kernel.model != "hypergeometric":
+        return 0
+    cs = np.arange(0, 64, dtype=np.int64)
+    nb = n_min(kernel.plain, cs, beta, cap)
+    have = nb >= 0
+    good = np.zeros_like(have)
+    good[have] = kernel.plain.at_aql(nb[have], cs[have]) >= 1.0 - alpha - TOL
+    if not good.any():
+        return 0
+    cs = cs[:int(np.argmax(good))]
+    if cs.size == 0:
+        return 0
+    trial = np.maximum((0.9 * nb[:cs.size]).astype(np.int64), cs + 1)
+    if cap is not None:
+        trial = np.minimum(trial, cap)
+    shown = ((kernel.at_rql(trial, cs) > beta + TOL)
+             & (kernel.at_aql(trial, cs) < 1.0 - alpha - TOL))
+    return int(cs.size if shown.all() else np.argmin(shown))
