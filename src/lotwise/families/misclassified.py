@@ -328,8 +328,12 @@ def report_keys(plan: MisclassifiedPlan, targets, scope: Scope, model: str, repo
     return {"inspection_error": info, "statements": says}
 
 
-def error_free_columns(plan: MisclassifiedPlan, ps, model: str, scope: Scope) -> dict:
-    """The OC of the same plan with a perfect inspection, beside the true one."""
+def error_free_columns(plan: MisclassifiedPlan, ps, model: str, scope: Scope,
+                       counts=None) -> dict:
+    """The OC of the same plan with a perfect inspection, beside the true one; in a
+    finite lot at the table's whole counts (the same lot as the exact column)."""
+    if model == "hypergeometric" and counts is not None:
+        return {"error_free_pa": plan.inner.pa_count(counts, scope)}
     return {"error_free_pa": plan.inner.pa(ps, model, scope, "nearest")}
 
 
