@@ -166,23 +166,9 @@ STUDY = typer.Option(None, "--study", help='The two rates from an agreement stud
 def error_rates(miss_rate, false_alarm, study):
     """The :class:`~lotwise.core.inspection.ErrorRates` of ``--miss-rate``,
     ``--false-alarm`` or ``--study``; None when none is given."""
-    from lotwise.core.inspection import ErrorRates, parse_rate, parse_study
+    from lotwise.core.inspection import read_rates
 
-    if study is not None:
-        if miss_rate is not None or false_alarm is not None:
-            opt, val = ("--miss-rate", miss_rate) if miss_rate is not None \
-                else ("--false-alarm", false_alarm)
-            raise InputError(f"{opt} ({val}) cannot be combined with --study (the study gives "
-                             "both rates)")
-        return parse_study(study, "--study")
-    if miss_rate is None and false_alarm is None:
-        return None
-    e2 = parse_rate(miss_rate, "--miss-rate") if miss_rate is not None else 0.0
-    e1 = parse_rate(false_alarm, "--false-alarm") if false_alarm is not None else 0.0
-    from lotwise.core.inspection import check_rates
-
-    check_rates(e2, e1)
-    return ErrorRates(miss_rate=e2, false_alarm=e1)
+    return read_rates(miss_rate, false_alarm, study)
 
 
 def with_errors(plan, rates, scope):

@@ -62,7 +62,7 @@ from scipy import special
 from lotwise.core.quantities import InputError, format_pct, parse_fraction
 
 __all__ = ["ErrorRates", "apparent", "check_rates", "parse_rate", "parse_study",
-           "clopper_pearson_upper", "binomial_window", "flagged_counts", "observed_cdf",
+           "clopper_pearson_upper", "binomial_window", "read_rates", "flagged_counts", "observed_cdf",
            "STUDY_LEVEL"]
 
 #: Confidence of the one-sided upper bounds on rates from a study.
@@ -224,6 +224,29 @@ def parse_study(text, option: str = "--study") -> ErrorRates:
                       false_alarm_upper=clopper_pearson_upper(fx, fm) if fm else 0.0,
                       study={"missed": mx, "nonconforming": mm, "flagged": fx,
                              "conforming": fm})
+
+
+def read_rates(miss_rate=None, false_alarm=None, study=None, *,
+               names=("--miss-rate", "--false-alarm", "--study"),
+               prefix: str = "") -> ErrorRates | None:
+    """The rates given as a miss rate and/or a false-alarm rate, or as a study (not
+    both); None when none is given. ``names`` spell the three inputs as the caller's
+    user wrote them (options, plan-file keys, form fields), ``prefix`` goes before
+    every message (e.g. the file)."""
+    miss_name, false_name, study_name = (prefix + k for k in names)
+    if study is not None:
+        if miss_rate is not None or false_alarm is not None:
+            opt, val = ((miss_name, miss_rate) if miss_rate is not None
+                        else (false_name, false_alarm))
+            raise InputError(f"{opt} ({val}) cannot be combined with {names[2]} (the study "
+                             "gives both rates)")
+        return parse_study(study, study_name)
+    if miss_rate is None and false_alarm is None:
+        return None
+    e2 = parse_rate(miss_rate, miss_name) if miss_rate is not None else 0.0
+    e1 = parse_rate(false_alarm, false_name) if false_alarm is not None else 0.0
+    check_rates(e2, e1, miss_name, names[1])
+    return ErrorRates(miss_rate=e2, false_alarm=e1)
 
 
 def _whole(word: str, option: str, text: str) -> int:
