@@ -68,7 +68,8 @@ from lotwise.core.quantities import InputError
 from lotwise.core.types import AoqFormula, Scope, lot_counts, parse_choice
 from lotwise.families.base import Family, Plan, family, finish, need_lot
 
-__all__ = ["MisclassifiedPlan", "wrap", "ErrorRates", "report_keys"]
+__all__ = ["MisclassifiedPlan", "wrap", "ErrorRates", "report_keys", "refuse_options",
+           "option_value", "DESIGN_TAKES"]
 
 
 def wrap(plan: Plan, rates: ErrorRates | None) -> Plan:
@@ -407,6 +408,44 @@ class _SeenKernel:
                             self.rates.miss_rate, self.rates.false_alarm, top)
         for nn, row in zip(sizes.tolist(), rows):
             self._cdfs[(key, nn)] = row[:nn]  # c < n only: c >= n accepts every sample
+
+
+#: Design options that still apply with inspection errors, per scheme.
+DESIGN_TAKES = {"single": ("c", "n", "max_n"), "double": ("ratio",), "sequential": ("truncate",),
+                "chain": ("max_n",)}
+_NOT_ATTRIBUTE = ("variables", "csp1", "csp2", "csp3", "compare-all")
+
+
+def refuse_options(scheme: str, given) -> None:
+    """Refuse a design with inspection errors that cannot be had: a scheme that is not an
+    attribute plan, or an option (``given``: ``(name, value)`` pairs, names as the
+    design options, e.g. ``max_n``, ``csp_f``) the scheme does not take with errors."""
+    if scheme in _NOT_ATTRIBUTE:
+        raise InputError(f"--scheme ({scheme}): --miss-rate/--false-alarm/--study design "
+                         "attribute plans (single, double, sequential, chain)"
+                         + ("; a gauge's error in a variables plan is --measurement-sd"
+                            if scheme == "variables" else ""))
+    takes = DESIGN_TAKES.get(scheme, ())
+    for key, val in given:
+        if val and key not in takes:
+            opt = "--" + key.replace("_", "-").replace("csp-", "")
+            shown = ", ".join(val) if isinstance(val, list) else val
+            raise InputError(f"{opt} ({shown}) cannot be combined with --miss-rate/"
+                             f"--false-alarm/--study for --scheme {scheme}")
+
+
+def option_value(key: str, value):
+    """A design option's value with inspection errors, checked as the error-free
+    designers check it."""
+    from lotwise.core.quantities import parse_count, parse_fraction
+
+    if key == "ratio":
+        v = parse_fraction(value, "--ratio")
+        if not v > 0:
+            raise InputError(f"--ratio ({value}) must be a number above 0")
+        return v
+    minimum = 0 if key == "c" else 1
+    return parse_count(value, "--" + key.replace("_", "-"), minimum=minimum)
 
 
 def design_misclassified(scheme: str, rates: ErrorRates, *, aql: float, rql: float,
