@@ -136,3 +136,15 @@ def test_sheet_states_rates_and_error_free_curve(tmp_path, capsys):
         assert free_pa == pytest.approx(float(_binom_cdf(row["n"], row["c"], p)), abs=1e-12)
         pe = mpmath.mpf(p) * (1 - mpmath.mpf("0.08")) + (1 - mpmath.mpf(p)) * mpmath.mpf("0.04")
         assert true_pa == pytest.approx(float(_binom_cdf(row["n"], row["c"], pe)), abs=1e-12)
+
+
+# Scope (README): designs of double, sequential and chain plans with inspection errors
+# in a finite lot are refused in one line that says what to do instead (project rule for
+# bad input: common practice, no source).
+@pytest.mark.parametrize("scheme", ["double", "sequential", "chain"])
+def test_finite_lot_design_of_other_families_refused(capsys, scheme):
+    code, out, err = _run(capsys, "design", "--scheme", scheme, "--aql", "1%", "--rql", "6%",
+                          "--lot-size", "2000", "--miss-rate", "10%")
+    assert code == 2 and out == ""
+    assert f"--scheme ({scheme})" in err and "--model binomial" in err
+    assert "check --lot-size" in err and "\n" not in err.strip()

@@ -472,10 +472,11 @@ def design_misclassified(scheme: str, rates: ErrorRates, *, aql: float, rql: flo
         return design_single_seen(rates, aql=aql, rql=rql, alpha=alpha, beta=beta,
                                   lot_size=lot_size, model=model, defects=defects, **options)
     if model == "hypergeometric":
-        raise InputError(f"--scheme ({scheme}): with --miss-rate/--false-alarm and a lot size "
-                         "only single plans are designed exactly; design a single plan, or "
-                         f"a {scheme} plan with --model binomial (a process), and check it "
-                         "with --lot-size")
+        raise InputError(f"--scheme ({scheme}): with --miss-rate/--false-alarm/--study and a "
+                         "lot size only single plans are designed (a finite-lot design of "
+                         f"this family has no exact error model yet); design a single plan, or "
+                         f"a {scheme} plan with --model binomial (a process) and judge it "
+                         "exactly in the lot with check --lot-size and the same rates")
     from lotwise.core.search import check_targets
     from lotwise.core.types import Targets
 
