@@ -54,6 +54,9 @@ IGNORED_KEYS = frozenset({
     "report",  # validate: report paths carry the date
 })
 
+VALIDATE_INSTALL = ("validate checks the installed files against the commit or build manifest: "
+                    "FAILED (exit 1) while a working tree has uncommitted changes")
+
 PER_UNIT_C = ("nonconformities per unit: c may exceed n, so AQL 0.5 / RQL 2 per unit needs "
               "n = 5, c = 5 (was n = 9, c = 8: the old search assumed n = c accepts every lot); "
               "checked by brute force with scipy.stats.poisson in test_design_single.py")
@@ -107,9 +110,16 @@ CHANGED: dict[str, str] = {
     "next_single_reject_early:json.notation": "single plans now print their notation",
     "next_single_defects_continue:json.notation": "single plans now print their notation",
     # lotwise validate gained the reference cases of continuous sampling plans (CSP-1/2/3).
-    "validate_reference_cases:json.cases": "continuous sampling reference cases added",
-    "validate_reference_cases:json.passed": "continuous sampling reference cases added",
-    "validate_reference_cases:json.results": "continuous sampling reference cases added",
+    # It then gained the workflow cases (sheets, judge, two-limit OC, records, pick lists),
+    # cross-checks by mpmath/enumeration instead of the scipy routines the tool calls, and the
+    # installation check, which fails by design in a working tree with uncommitted changes
+    # (tests/test_validation.py checks verdict and exit code on a clean copy).
+    "validate_reference_cases:json.cases": "workflow and continuous sampling cases added",
+    "validate_reference_cases:json.passed": "workflow and continuous sampling cases added",
+    "validate_reference_cases:json.results": "cases added, renamed, sources rewritten",
+    "validate_reference_cases:json.verdict": VALIDATE_INSTALL,
+    "validate_reference_cases:json.failed": VALIDATE_INSTALL,
+    "validate_reference_cases:exit": VALIDATE_INSTALL,
     # --aoq-formula simple was ignored for double and sequential plans (the screened AOQL
     # was printed); it now gives the p Pa AOQL, as it does for single and chain plans.
     "check_double_lot_aoq_simple:json.aoql": "--aoq-formula simple now reaches double plans",

@@ -26,10 +26,12 @@ def _load(path, plans_dir, option="RECORDS"):
         if not Path(plans_dir).is_dir():
             raise InputError(f"--plans ({plans_dir}) is not a folder")
     recs = read_records(path, plans_dir=plans_dir, option=option)
+    if not len(recs.frame):  # one line: the first bad row says why
+        bad = recs.bad_rows
+        why = (f": line {bad[0].line}: {bad[0].reason}"
+               + (f" (and {len(bad) - 1} more bad row(s))" if len(bad) > 1 else "")) if bad else ""
+        raise InputError(f"{option} ({recs.source}) has no usable rows{why}")
     _bad_rows(recs)
-    if not len(recs.frame):
-        raise InputError(f"{option} ({recs.source}) has no usable rows "
-                         f"({len(recs.bad_rows)} bad row(s) reported above)")
     return recs
 
 

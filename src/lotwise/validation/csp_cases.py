@@ -22,8 +22,9 @@ from lotwise.validation.runner import ReferenceCase
 __all__ = ["validation_cases"]
 
 AREA = "continuous sampling (CSP)"
-DODGE = ("H. F. Dodge, Annals of Mathematical Statistics 14(3), 1943 (CSP-1 clearance "
-         "numbers i by f and AOQL, as reproduced in textbooks); from memory")
+DODGE43 = ("H. F. Dodge, 'A sampling inspection plan for continuous production', Annals of "
+           "Mathematical Statistics 14(3), 1943")
+DODGE = DODGE43 + ", CSP-1 clearance numbers i by f and AOQL (from memory)"
 
 
 def _plan(scheme, **kw):
@@ -113,37 +114,39 @@ def validation_cases() -> list:
             id="csp1-aoql-stationarity-i38-f10", area=AREA,
             description="CSP-1 i = 38, f = 1/10: AOQL against ((i + 1) p - 1)/i at the root "
                         "of q (f + (1 - f) q^i) = i f p (dAOQ/dp = 0 of Dodge's AOQ)",
-            source="closed form derived from Dodge (1943)'s AOQ; mpmath root, computed at "
-                   "run time",
+            source="independent computation: mpmath root at 30 digits of the stationarity "
+                   "condition of the AOQ of " + DODGE43,
             expected=lambda: _csp1_stationarity(38, 0.1), tolerance=1e-10,
             compute=lambda: c1.aoql()[0], needs=("mpmath",)),
         ReferenceCase(
             id="csp1-dodge-afi-i38-f10-p2pct", area=AREA,
             description="CSP-1 i = 38, f = 1/10: AFI at 2 % nonconforming",
-            source="H. F. Dodge, Annals of Mathematical Statistics 14(3), 1943: "
-                   "AFI = (u + f v)/(u + v), computed at run time",
-            expected=_dodge_afi(38, 0.1, 0.02), tolerance=1e-12, compute=afi(c1, 0.02)),
+            source="AFI = (u + f v)/(u + v) of " + DODGE43 + "; independent computation in "
+                   "double precision",
+            expected=lambda: _dodge_afi(38, 0.1, 0.02), tolerance=1e-12, compute=afi(c1, 0.02)),
         ReferenceCase(
             id="csp2-chain-i20-f1_5-p4pct", area=AREA,
             description="CSP-2 i = k = 20, f = 1/5: fraction passed under sampling at 4 %, "
                         "closed form against the chain's stationary law",
-            source="stationary distribution of the plan's Markov chain (numpy.linalg), "
-                   "computed at run time",
+            source="independent computation: stationary law of the plan's Markov chain by a "
+                   "dense least-squares solve (numpy.linalg); the chain's transition matrix is "
+                   "the tool's own (lotwise.families.csp.transition_matrix)",
             expected=lambda: _stationary_pa(c2, 0.04), tolerance=1e-10,
             compute=lambda: float(c2.pa(0.04))),
         ReferenceCase(
             id="csp3-chain-i20-f1_5-k15-p4pct", area=AREA,
             description="CSP-3 i = 20, f = 1/5, k = 15, burst 4: fraction passed under "
                         "sampling at 4 %, closed form against the chain's stationary law",
-            source="stationary distribution of the plan's Markov chain (numpy.linalg), "
-                   "computed at run time",
+            source="independent computation: stationary law of the plan's Markov chain by a "
+                   "dense least-squares solve (numpy.linalg); the chain's transition matrix is "
+                   "the tool's own (lotwise.families.csp.transition_matrix)",
             expected=lambda: _stationary_pa(c3, 0.04), tolerance=1e-10,
             compute=lambda: float(c3.pa(0.04))),
         ReferenceCase(
             id="csp1-short-run-enumeration-M8", area=AREA,
             description="CSP-1 i = 2, f = 1/2: expected fraction inspected in the first 8 "
                         "units at 10 % nonconforming",
-            source="enumeration of every path of unit results, computed at run time",
+            source="independent computation: enumeration of every path of unit results",
             expected=lambda: _enumerate_afi(2, 0.5, 0.1, 8), tolerance=1e-12,
             compute=lambda: _plan("csp1", i=2, f=0.5).run_figures(0.1, 8)[0]),
     ]

@@ -51,6 +51,7 @@ from __future__ import annotations
 import importlib
 import math
 import platform
+import sys
 from dataclasses import dataclass, field
 from datetime import datetime, timezone
 from typing import Any, Callable
@@ -70,10 +71,13 @@ class ReferenceCase:
     description : str
         What is computed, in words.
     source : str
-        Where the expected value comes from, worded as in the tests
-        ("from memory", "common practice, no source" where so).
+        Where the expected value comes from: a published work (author, title,
+        edition, year, section where known; "from memory" where so) or
+        "independent computation" naming the method (mpmath at N digits,
+        enumeration, quadrature, simulation), never an internal document.
     expected : number, tuple, str or callable
-        The reference; a callable is evaluated at run time (cross-checks).
+        The reference; a callable is evaluated at run time (cross-checks). With
+        ``within=True`` a pair ``(lo, hi)`` the computed value must lie in.
     tolerance : float
         Largest absolute difference accepted (each element of a tuple).
     compute : callable
@@ -82,6 +86,22 @@ class ReferenceCase:
         Group heading in the report.
     needs : tuple of str
         Modules the reference needs (a missing one skips the case).
+    requirement : str
+        Id of the claim in :data:`lotwise.validation.requirements.REQUIREMENTS`
+        the case covers (default: the area's).
+    exercises : str
+        The command or function exercised, when it is not simply the lotwise
+        functions the case calls (those are recorded at run time).
+    tolerance_reason : str
+        Why the tolerance is what it is (default: by rule, see
+        :func:`tolerance_reason`).
+    published : number, optional
+        A published value that is only an approximation (a nomograph reading,
+        a table built on two-decimal z values, a misprint): recorded beside the
+        exact ``expected`` value, which the case passes on; ``published_note``
+        says how far apart they are and why.
+    within : bool
+        ``expected`` is an interval ``(lo, hi)``.
     """
 
     id: str
@@ -92,6 +112,12 @@ class ReferenceCase:
     compute: Callable[[], Any]
     area: str = "single sampling"
     needs: tuple = ()
+    requirement: str = ""
+    exercises: str = ""
+    tolerance_reason: str = ""
+    published: Any = None
+    published_note: str = ""
+    within: bool = False
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -102,13 +128,34 @@ class CaseResult:
     difference: float | None
     verdict: str  # pass, FAIL, ERROR, skipped
     note: str = ""
+    exercised: tuple = ()
+    reference_calls: tuple = ()
+
+    @property
+    def requirement(self) -> str:
+        return requirement_of(self.case)
+
+    @property
+    def exercises(self) -> str:
+        """The command or function exercised: as the case states it, else the
+        lotwise functions its computation called (recorded at run time)."""
+        return self.case.exercises or ", ".join(self.exercised) or "-"
+
+    @property
+    def tolerance_reason(self) -> str:
+        return tolerance_reason(self.case)
 
     def as_dict(self) -> dict:
         return {"id": self.case.id, "area": self.case.area,
                 "description": self.case.description, "source": self.case.source,
                 "expected": _plain(self.expected), "computed": _plain(self.computed),
                 "tolerance": self.case.tolerance, "difference": self.difference,
-                "verdict": self.verdict, "note": self.note}
+                "verdict": self.verdict, "note": self.note,
+                "requirement": self.requirement, "exercises": self.exercises,
+                "tolerance_reason": self.tolerance_reason,
+                "published": _plain(self.case.published),
+                "published_note": self.case.published_note,
+                "reference_calls": list(self.reference_calls)}
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -116,6 +163,7 @@ class Validation:
     results: list
     started: datetime
     versions: dict = field(default_factory=dict)
+    installation: Any = None  # an InstallationCheck, or None when not made
 
     @property
     def passed(self) -> int:
@@ -131,17 +179,50 @@ class Validation:
 
     @property
     def verdict(self) -> str:
-        if self.failed:
+        inst = self.installation.verdict if self.installation is not None else "pass"
+        if self.failed or inst == "FAIL":
             return "FAILED"
-        if self.skipped:
+        if self.skipped or inst != "pass":
             return "INCOMPLETE"
         return "PASSED"
 
+    def requirement_table(self) -> list:
+        """``[(id, claim, [case ids])]`` of every requirement, in order."""
+        from lotwise.validation.requirements import REQUIREMENTS
+
+        return [(rid, claim, [r.case.id for r in self.results if r.requirement == rid])
+                for rid, claim in REQUIREMENTS.items()]
+
     def as_dict(self) -> dict:
+        inst = self.installation.as_dict() if self.installation is not None else None
         return {"verdict": self.verdict, "cases": len(self.results), "passed": self.passed,
                 "failed": self.failed, "skipped": self.skipped,
                 "date": self.started.isoformat(timespec="seconds"),
-                "versions": self.versions, "results": [r.as_dict() for r in self.results]}
+                "versions": self.versions, "results": [r.as_dict() for r in self.results],
+                "installation": inst,
+                "requirements": [{"id": rid, "claim": claim, "cases": ids}
+                                 for rid, claim, ids in self.requirement_table()]}
+
+
+def requirement_of(case: ReferenceCase) -> str:
+    """The case's requirement id: its own, else its area's."""
+    from lotwise.validation.requirements import requirement_for
+
+    return case.requirement or requirement_for(case.id, case.area)
+
+
+def tolerance_reason(case: ReferenceCase) -> str:
+    """Why the case's tolerance is what it is: the case's own words, else a
+    rule (exact agreement for a tolerance of 0; rounding only for a reference
+    computed at run time)."""
+    if case.tolerance_reason:
+        return case.tolerance_reason
+    if case.tolerance == 0:
+        return "exact agreement (an integer, a plan or a word)"
+    if callable(case.expected):
+        return ("floating-point rounding only: the tool's double-precision value against an "
+                "independent evaluation")
+    return ""
 
 
 def _plain(v):
@@ -194,21 +275,22 @@ def _infeasible(**kw):
 
 
 def _n50_c1_table() -> list:
-    """Binomial Pa of n = 50, c = 1 at eight levels (five decimals)."""
-    table = {0.005: 0.97387, 0.01: 0.91056, 0.02: 0.73577, 0.03: 0.55528, 0.04: 0.40048,
-             0.05: 0.27943, 0.06: 0.19000, 0.08: 0.08271}
+    """Binomial Pa of n = 50, c = 1 at eight levels, against mpmath."""
+    from lotwise.validation.independent import binomial_cdf
+
     return [ReferenceCase(
         id=f"textbook-n50-c1-p{p * 100:g}pct".replace(".", "_"),
         description=f"binomial Pa of n = 50, c = 1 at p = {p * 100:g} %",
-        source="binomial tail values of n = 50, c = 1; independent computation with "
-               "scipy.stats.binom",
-        expected=val, tolerance=5e-6, compute=lambda p=p: _pa(50, 1, p))
-        for p, val in table.items()]
+        source="independent computation: binomial masses summed in mpmath at 50 digits",
+        expected=lambda p=p: binomial_cdf(50, 1, p), tolerance=1e-12,
+        compute=lambda p=p: _pa(50, 1, p), needs=("mpmath",))
+        for p in (0.005, 0.01, 0.02, 0.03, 0.04, 0.05, 0.06, 0.08)]
 
 
-def single_sampling_cases() -> list:
-    """Reference cases of single sampling by attributes (those tests/test_design_single.py
-    checks)."""
+def _cameron_cases() -> list:
+    """Cameron's Poisson unity values, published and exact."""
+    from lotwise.validation import independent as ind
+
     cases = []
     cameron = {0: (0.051, 2.303), 1: (0.355, 3.890), 2: (0.818, 5.322), 3: (1.366, 6.681),
                4: (1.970, 7.994), 5: (2.613, 9.275), 6: (3.286, 10.532), 7: (3.981, 11.771),
@@ -218,91 +300,131 @@ def single_sampling_cases() -> list:
             cases.append(ReferenceCase(
                 id=f"cameron-c{c}-pa{int(round(prob * 100)):02d}",
                 description=f"Poisson unity value n*p at Pa = {prob:.2f} for c = {c}",
-                source="Cameron (1952) unity values for single sampling, alpha 0.05, "
-                       "beta 0.10; from memory",
-                expected=val, tolerance=0.002,
-                compute=lambda c=c, prob=prob: _unity(c, prob)))
-    mont = (0.93969, 0.73658, 0.49848, 0.30416, 0.17208)
-    for k, val in enumerate(mont, start=1):
-        cases.append(ReferenceCase(
-            id=f"montgomery-n89-c2-p{k}pct",
-            description=f"binomial Pa of n = 89, c = 2 at p = {k} %",
-            source="Montgomery, Introduction to Statistical Quality Control, "
-                   "single-sampling example; from memory",
-            expected=val, tolerance=5e-6,
-            compute=lambda p=k / 100: _pa(89, 2, p)))
-    cases += [
-        ReferenceCase(
-            id="montgomery-n89-c2-alpha",
-            description="producer's risk of the nomograph plan n = 89, c = 2 at AQL 1 %",
-            source="Montgomery, Introduction to Statistical Quality Control (alpha about "
-                   "6.0 %); from memory",
-            expected=0.060, tolerance=0.0005, compute=lambda: 1.0 - _pa(89, 2, 0.01)),
-        ReferenceCase(
-            id="montgomery-design-binomial",
-            description="exact binomial design, AQL 1 %/alpha 5 %, RQL 6 %/beta 10 %: (n, c)",
-            source="Montgomery, Introduction to Statistical Quality Control, 6th ed. (Wiley, "
-                   "2009), single-plan design example targets (from memory); the plan checked "
-                   "by brute-force enumeration with scipy.stats.binom",
-            expected=(110, 3), tolerance=0,
-            compute=lambda: _design(aql=0.01, rql=0.06)),
-        ReferenceCase(
-            id="montgomery-design-poisson",
-            description="Poisson-based design for the same targets: (n, c)",
-            source="Montgomery, Introduction to Statistical Quality Control, 6th ed. (Wiley, "
-                   "2009), same targets (from memory); Poisson design checked by brute-force "
-                   "enumeration with scipy.stats.poisson",
-            expected=(112, 3), tolerance=0,
-            compute=lambda: _design(aql=0.01, rql=0.06, model="poisson")),
-    ]
-    cases += _n50_c1_table()
-    cases.append(ReferenceCase(
-        id="chisquare-design-c2-n54",
-        description="two-point Poisson design, p1 1 %/alpha 5 %, p2 10 %/beta 10 %: (n, c)",
-        source="two-point design by the chi-square/Poisson table method (Schilling and "
-               "Neubauer, 2nd ed., CRC Press, 2009, ch. 5; from memory)",
-        expected=(54, 2), tolerance=0,
-        compute=lambda: _design(aql=0.01, rql=0.10, model="poisson")))
-    for c, val in ((0, 44.89), (1, 10.95), (2, 6.51)):
-        cases.append(ReferenceCase(
-            id=f"chisquare-operating-ratio-c{c}",
-            description=f"operating ratio np(Pa = 0.10) / np(Pa = 0.95) for c = {c}",
-            source="operating ratios of the chi-square/Poisson table method (Schilling and "
-                   "Neubauer, 2nd ed., CRC Press, 2009, ch. 5; from memory), two decimals",
-            expected=val, tolerance=0.005,
-            compute=lambda c=c: _unity(c, 0.10) / _unity(c, 0.95)))
-    cases += [
-        ReferenceCase(
-            id="binomial-design-n19-c1",
-            description="exact binomial design, AQL 2 %/alpha 10 %, RQL 15 %/beta 20 %",
-            source="independent computation: brute-force enumeration of (n, c) with "
-                   "scipy.stats.binom",
-            expected=(19, 1), tolerance=0,
-            compute=lambda: _design(aql=0.02, rql=0.15, alpha=0.10, beta=0.20)),
-        ReferenceCase(
-            id="binomial-design-c0-infeasible",
-            description="the same targets with c = 0 fixed have no plan",
-            source="independent computation: brute-force enumeration of (n, c) with "
-                   "scipy.stats.binom",
-            expected="infeasible", tolerance=0,
-            compute=lambda: _infeasible(aql=0.02, rql=0.15, alpha=0.10, beta=0.20, c=0)),
-    ]
+                source="J. M. Cameron, 'Tables for constructing and for computing the operating "
+                       "characteristics of single-sampling plans', Industrial Quality Control "
+                       "9(1), 1952, table of unity values (from memory); exact value by "
+                       "independent computation: mpmath bisection at 50 digits",
+                expected=lambda c=c, prob=prob: ind.poisson_unity(c, prob), tolerance=1e-7,
+                tolerance_reason="the tool inverts the OC by a bracketed search to about "
+                                 "1e-9 relative; 1e-7 absolute covers n*p up to 16",
+                published=val,
+                published_note="the table prints three decimals; two of the remembered "
+                               "values (c = 6 and c = 9 at Pa = 0.95) are one unit off in the "
+                               "third decimal, so the case passes on the exact value",
+                compute=lambda c=c, prob=prob: _unity(c, prob), needs=("mpmath",)))
+    return cases
+
+
+def _success_run_cases() -> list:
+    """Accept-on-zero (and c = 1) confidence/reliability sample sizes."""
+    from lotwise.validation import independent as ind
+
+    cases = []
     for cid, c, conf, rel, val in (("c0-95-95", 0, 0.95, 0.95, 59), ("c0-90-90", 0, 0.90, 0.90, 22),
                                    ("c0-95-99", 0, 0.95, 0.99, 299), ("c1-95-95", 1, 0.95, 0.95, 93)):
         cases.append(ReferenceCase(
             id=f"zero-acceptance-{cid}" if c == 0 else f"acceptance-{cid}",
             description=f"smallest n with c = {c} showing {rel:.0%} reliability at "
                         f"{conf:.0%} confidence",
-            source="zero-acceptance confidence/reliability sizes; common practice, no source",
-            expected=val, tolerance=0,
+            source="success-run confidence/reliability sizes (common practice, no source); "
+                   "value by independent computation: enumeration of n with mpmath binomial "
+                   "sums at 30 digits",
+            expected=lambda c=c, conf=conf, rel=rel: ind.success_run_n(rel, conf, c),
+            tolerance=0, published=val, published_note="the size as commonly quoted",
+            needs=("mpmath",),
             compute=lambda c=c, conf=conf, rel=rel: _design(
                 aql=1e-9, rql=1.0 - rel, beta=1.0 - conf, c=c, model="binomial")[0]))
+    return cases
+
+
+def single_sampling_cases() -> list:
+    """Reference cases of single sampling by attributes (those tests/test_design_single.py
+    checks)."""
+    from lotwise.validation import independent as ind
+
+    cases = _cameron_cases()
+    mont = (0.93969, 0.73658, 0.49848, 0.30416, 0.17208)
+    for k, val in enumerate(mont, start=1):
+        cases.append(ReferenceCase(
+            id=f"montgomery-n89-c2-p{k}pct",
+            description=f"binomial Pa of n = 89, c = 2 at p = {k} %",
+            source="D. C. Montgomery, Introduction to Statistical Quality Control, 6th ed., Wiley, 2009, chapter on lot-by-lot acceptance sampling for attributes, "
+                   "OC curve example of n = 89, c = 2 (from memory; section not verified)",
+            expected=val, tolerance=5e-6,
+            tolerance_reason="half a unit in the fifth decimal, the digits published",
+            compute=lambda p=k / 100: _pa(89, 2, p)))
+    cases += [
+        ReferenceCase(
+            id="montgomery-n89-c2-alpha",
+            description="producer's risk of the nomograph plan n = 89, c = 2 at AQL 1 %",
+            source="D. C. Montgomery, Introduction to Statistical Quality Control, 6th ed., Wiley, 2009, chapter on lot-by-lot acceptance sampling for attributes, "
+                   "nomograph plan n = 89, c = 2, alpha about 6.0 % (from memory)",
+            expected=0.060, tolerance=0.0005,
+            tolerance_reason="half a unit in the last published digit (6.0 %)", compute=lambda: 1.0 - _pa(89, 2, 0.01)),
+        ReferenceCase(
+            id="montgomery-design-binomial",
+            description="exact binomial design, AQL 1 %/alpha 5 %, RQL 6 %/beta 10 %: (n, c)",
+            source="D. C. Montgomery, Introduction to Statistical Quality Control, 6th ed., Wiley, 2009, chapter on lot-by-lot acceptance sampling for attributes, "
+                   "single-plan design targets (from memory); the plan by independent "
+                   "computation: enumeration of n with the smallest c meeting alpha, mpmath "
+                   "binomial sums at 30 digits",
+            expected=lambda: ind.single_design(0.01, 0.06), tolerance=0, needs=("mpmath",),
+            compute=lambda: _design(aql=0.01, rql=0.06)),
+        ReferenceCase(
+            id="montgomery-design-poisson",
+            description="Poisson-based design for the same targets: (n, c)",
+            source="D. C. Montgomery, Introduction to Statistical Quality Control, 6th ed., Wiley, 2009, chapter on lot-by-lot acceptance sampling for attributes, "
+                   "same targets (from memory); the plan by independent computation: "
+                   "enumeration with mpmath Poisson sums at 30 digits",
+            expected=lambda: ind.single_design(0.01, 0.06, model="poisson"), tolerance=0,
+            needs=("mpmath",),
+            compute=lambda: _design(aql=0.01, rql=0.06, model="poisson")),
+    ]
+    cases += _n50_c1_table()
+    cases.append(ReferenceCase(
+        id="chisquare-design-c2-n54",
+        description="two-point Poisson design, p1 1 %/alpha 5 %, p2 10 %/beta 10 %: (n, c)",
+        source="two-point design by the chi-square/Poisson table method (E. G. Schilling "
+               "and D. V. Neubauer, 2nd ed., CRC Press, 2009, ch. 5; from memory)",
+        expected=(54, 2), tolerance=0,
+        compute=lambda: _design(aql=0.01, rql=0.10, model="poisson")))
+    for c, val in ((0, 44.89), (1, 10.95), (2, 6.51)):
+        cases.append(ReferenceCase(
+            id=f"chisquare-operating-ratio-c{c}",
+            description=f"operating ratio np(Pa = 0.10) / np(Pa = 0.95) for c = {c}",
+            source="operating ratios of the chi-square/Poisson table method (E. G. "
+                   "Schilling and D. V. Neubauer, 2nd ed., CRC Press, 2009, ch. 5; from "
+                   "memory), two decimals",
+            expected=val, tolerance=0.005,
+            tolerance_reason="half a unit in the second decimal, the digits published",
+            compute=lambda c=c: _unity(c, 0.10) / _unity(c, 0.95)))
+    cases += [
+        ReferenceCase(
+            id="binomial-design-n19-c1",
+            description="exact binomial design, AQL 2 %/alpha 10 %, RQL 15 %/beta 20 %",
+            source="independent computation: enumeration of n with the smallest c "
+                   "meeting alpha, mpmath binomial sums at 30 digits",
+            expected=lambda: ind.single_design(0.02, 0.15, 0.10, 0.20), tolerance=0,
+            needs=("mpmath",),
+            compute=lambda: _design(aql=0.02, rql=0.15, alpha=0.10, beta=0.20)),
+        ReferenceCase(
+            id="binomial-design-c0-infeasible",
+            description="the same targets with c = 0 fixed have no plan",
+            source="independent computation: enumeration of n up to 400 with c = 0, "
+                   "mpmath binomial sums at 30 digits",
+            expected=lambda: ind.single_design(0.02, 0.15, 0.10, 0.20, c=0), tolerance=0,
+            needs=("mpmath",),
+            compute=lambda: _infeasible(aql=0.02, rql=0.15, alpha=0.10, beta=0.20, c=0)),
+    ]
+    cases += _success_run_cases()
     cases.append(ReferenceCase(
         id="design-aql0_1-rql0_15",
         description="exact binomial design, AQL 0.1 %/alpha 5 %, RQL 0.15 %/beta 10 %",
-        source=("independent computation: scipy.stats.binom shows (42,399, 53) meets both "
-                "risks and no acceptance number does at n = 42,398 (tests/test_design_single.py)"),
-        expected=(42399, 53), tolerance=0,
+        source=("independent computation: mpmath binomial sums at 30 digits show (42,399, 53) "
+                "meets both risks, c = 52 misses alpha, and the smallest c meeting alpha at "
+                "n = 42,398 misses beta"),
+        expected=lambda: ind.design_is_smallest(42399, 53, 0.001, 0.0015), tolerance=0,
+        needs=("mpmath",),
         compute=lambda: _design(aql=0.001, rql=0.0015)))
     cases += _mpmath_cases()
     return cases
@@ -364,7 +486,8 @@ def _mp_bisect(f, lo, hi, steps=200):
 
 
 def _mpmath_cases() -> list:
-    src = "mpmath arbitrary-precision sum, computed at run time"
+    src = "independent computation: mpmath sums at 60 digits (exact binomial coefficients " \
+          "at 80 digits for the hypergeometric)"
     pts = [
         ("mpmath-binomial-n1e7", "binomial Pa, n = 10,000,000, c = 9,950, p = 0.001",
          lambda: _mp_binomial(10_000_000, 9_950, 0.001),
@@ -439,27 +562,36 @@ def records_cases() -> list:
         post = Posterior.from_counts(14, 3200)
         return 1.0 - post.expect(lambda p: SinglePlan(n=80, c=2).pa(p, "binomial", _scope()))
 
+    def _mp_cp0():
+        import mpmath as mp
+
+        with mp.workdps(40):
+            return float(1 - mp.mpf("0.05") ** (mp.mpf(1) / 59))
+
     return [
         ReferenceCase(
             id="clopper-pearson-0-of-59", area="lot records and supplier view",
             description="upper end of the 90 % Clopper-Pearson interval for 0 found in 59",
-            source="closed form 1 - 0.05^(1/59) for x = 0 (exact arithmetic)",
-            expected=1.0 - 0.05 ** (1.0 / 59.0), tolerance=1e-12, compute=cp_upper),
+            source="independent computation: closed form 1 - 0.05^(1/59) for x = 0 "
+                   "(C. J. Clopper and E. S. Pearson, Biometrika 26(4), 1934), mpmath at 40 "
+                   "digits",
+            expected=_mp_cp0, tolerance=1e-12, compute=cp_upper, needs=("mpmath",)),
         ReferenceCase(
             id="clopper-pearson-5-of-320", area="lot records and supplier view",
             description="95 % Clopper-Pearson interval for 5 found in 320",
-            source="mpmath root of the binomial tail equations, computed at run time",
+            source="independent computation: mpmath bisection at 40 digits on the binomial "
+                   "tail equations (C. J. Clopper and E. S. Pearson, Biometrika 26(4), 1934)",
             expected=mp_cp, tolerance=1e-10, compute=cp_interval, needs=("mpmath",)),
         ReferenceCase(
             id="predictive-rejection-beta-binomial", area="lot records and supplier view",
             description="predictive P(reject) of n = 80, c = 2, Jeffreys posterior from "
                         "14 in 3,200",
-            source="mpmath beta-binomial sum, computed at run time",
+            source="independent computation: beta-binomial sum with mpmath at 40 digits",
             expected=mp_bb, tolerance=1e-10, compute=bb, needs=("mpmath",)),
         ReferenceCase(
             id="predictive-rejection-quadrature", area="lot records and supplier view",
             description="the same by the quadrature other plan types use",
-            source="mpmath beta-binomial sum, computed at run time",
+            source="independent computation: beta-binomial sum with mpmath at 40 digits",
             expected=mp_bb, tolerance=1e-9, compute=quad, needs=("mpmath",)),
     ]
 
@@ -477,6 +609,11 @@ PROVIDERS: list[str] = [
     "lotwise.validation.cases:sequential_cases",
     "lotwise.validation.cases:variables_cases",
     "lotwise.validation.csp_cases:validation_cases",
+    "lotwise.validation.workflow_cases:records_ci_cases",
+    "lotwise.validation.workflow_cases:sheet_cases",
+    "lotwise.validation.workflow_cases:judge_cases",
+    "lotwise.validation.workflow_cases:two_limit_cases",
+    "lotwise.validation.workflow_cases:draw_cases",
 ]
 
 
@@ -494,9 +631,18 @@ def all_cases(providers=None) -> list:
     return out
 
 
-def _compare(expected, computed, tol):
+def _compare(expected, computed, tol, within=False):
     """``(ok, difference)``; numbers and tuples of numbers within ``tol``,
-    everything else equal."""
+    an interval ``(lo, hi)`` containing the number (``within``), everything
+    else equal."""
+    if within:
+        lo, hi = expected
+        try:
+            x = float(computed)
+        except (TypeError, ValueError):
+            return False, None
+        d = max(lo - x, x - hi, 0.0)
+        return bool(math.isfinite(x) and d <= tol), d
     if isinstance(expected, tuple):
         if not isinstance(computed, tuple) or len(computed) != len(expected):
             return False, None
@@ -524,45 +670,109 @@ def _available(mod: str) -> bool:
     return True
 
 
-def run_cases(cases=None) -> Validation:
-    """Run ``cases`` (default :func:`all_cases`) and collect the verdicts."""
+def _traced(fn) -> tuple[Any, tuple]:
+    """``(fn(), calls)``: the lotwise functions (outside this validation
+    package) that the validation code called directly while ``fn`` ran, as
+    ``module.qualname``, in first-call order. Exceptions propagate."""
+    from pathlib import Path
+
+    pkg = str(Path(__file__).resolve().parent.parent)
+    here = str(Path(__file__).resolve().parent)
+    calls: dict = {}
+
+    def hook(frame, event, arg):
+        if event != "call":
+            return
+        name = frame.f_code.co_filename
+        if not name.startswith(pkg) or name.startswith(here):
+            return
+        back = frame.f_back
+        if back is not None and back.f_code.co_filename.startswith(here):
+            qual = getattr(frame.f_code, "co_qualname", frame.f_code.co_name)
+            calls.setdefault(f"{frame.f_globals.get('__name__', '?')}.{qual}", None)
+
+    old = sys.getprofile()
+    sys.setprofile(hook)
+    try:
+        value = fn()
+    finally:
+        sys.setprofile(old)
+    return value, tuple(calls)
+
+
+def _run_one(case: ReferenceCase) -> CaseResult:
+    missing = [m for m in case.needs if not _available(m)]
+    if missing:
+        return CaseResult(case=case, expected=None, computed=None, difference=None,
+                          verdict="skipped",
+                          note=f"needs {', '.join(missing)} (pip install {' '.join(missing)})")
+    try:
+        if callable(case.expected):
+            expected, ref_calls = _traced(case.expected)
+        else:
+            expected, ref_calls = case.expected, ()
+    except Exception as exc:  # a reference that cannot be had is not a pass
+        return CaseResult(case=case, expected=None, computed=None, difference=None,
+                          verdict="ERROR", note=f"reference failed: {type(exc).__name__}: {exc}")
+    try:
+        computed, calls = _traced(case.compute)
+    except Exception as exc:
+        return CaseResult(case=case, expected=expected, computed=None, difference=None,
+                          verdict="ERROR", note=f"{type(exc).__name__}: {exc}",
+                          reference_calls=ref_calls)
+    ok, diff = _compare(expected, computed, case.tolerance, case.within)
+    return CaseResult(case=case, expected=expected, computed=computed, difference=diff,
+                      verdict="pass" if ok else "FAIL", exercised=calls,
+                      reference_calls=ref_calls)
+
+
+def run_cases(cases=None, *, installation: bool = True) -> Validation:
+    """Run ``cases`` (default :func:`all_cases`) and collect the verdicts;
+    with ``installation`` also check the installed files
+    (:func:`lotwise.validation.installation.check_installation`)."""
     started = datetime.now(timezone.utc)
     cases = all_cases() if cases is None else list(cases)
-    results = []
-    for case in cases:
-        missing = [m for m in case.needs if not _available(m)]
-        if missing:
-            results.append(CaseResult(case=case, expected=None, computed=None, difference=None,
-                                      verdict="skipped",
-                                      note=f"needs {', '.join(missing)} (pip install "
-                                           f"{' '.join(missing)})"))
+    results = [_run_one(case) for case in cases]
+    inst = None
+    if installation:
+        from lotwise.validation.installation import check_installation
+
+        inst = check_installation()
+    return Validation(results=results, started=started, versions=versions(),
+                      installation=inst)
+
+
+def dependencies() -> list[str]:
+    """The distributions lotwise requires (its metadata), plus mpmath and
+    pypdf, which the reference cases and their tests use."""
+    import re
+    from importlib import metadata
+
+    names = []
+    try:
+        reqs = metadata.requires("lotwise") or []
+    except metadata.PackageNotFoundError:
+        reqs = []
+    for req in reqs:
+        if "extra ==" in req:
             continue
-        try:
-            expected = case.expected() if callable(case.expected) else case.expected
-        except Exception as exc:  # a reference that cannot be had is not a pass
-            results.append(CaseResult(case=case, expected=None, computed=None, difference=None,
-                                      verdict="ERROR",
-                                      note=f"reference failed: {type(exc).__name__}: {exc}"))
-            continue
-        try:
-            computed = case.compute()
-        except Exception as exc:
-            results.append(CaseResult(case=case, expected=expected, computed=None,
-                                      difference=None, verdict="ERROR",
-                                      note=f"{type(exc).__name__}: {exc}"))
-            continue
-        ok, diff = _compare(expected, computed, case.tolerance)
-        results.append(CaseResult(case=case, expected=expected, computed=computed,
-                                  difference=diff, verdict="pass" if ok else "FAIL"))
-    return Validation(results=results, started=started, versions=versions())
+        m = re.match(r"[A-Za-z0-9_.\-]+", req)
+        if m and m.group(0).lower() not in names:
+            names.append(m.group(0).lower())
+    for extra in ("numpy", "scipy", "pandas", "matplotlib", "typer", "mpmath"):
+        if extra not in names:
+            names.append(extra)
+    return names
 
 
 def versions() -> dict:
-    """Versions of the tool, Python, the platform and the dependencies."""
+    """Versions of the tool, Python, the platform and every dependency
+    (``importlib.metadata``)."""
+    from lotwise.core.version import __version__
 
-    out = {"lotwise": _version("lotwise"), "python": platform.python_version(),
+    out = {"lotwise": __version__, "python": platform.python_version(),
            "platform": platform.platform()}
-    for dist in ("numpy", "scipy", "pandas", "matplotlib", "typer", "mpmath"):
+    for dist in dependencies():
         out[dist] = _version(dist)
     return out
 
