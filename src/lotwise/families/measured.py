@@ -43,10 +43,10 @@ References
 
 Examples
 --------
-A gauge with half the process's spread turns a true 1 % into an apparent 1.85 %:
+A gauge with half the process's spread turns a true 1 % into an apparent 1.87 %:
 
 >>> round(apparent_fraction(0.01, 1.0 / (1.0 + 0.25) ** 0.5), 4)
-0.0185
+0.0187
 """
 
 from __future__ import annotations

@@ -311,10 +311,12 @@ def _model_note(pp) -> str:
     scope = pp.request.scope
     model = pp.model or (scope.exact_model)
     note = f"Model judged by: {MODEL_TEXT.get(model, model)} (marked *)."
-    if getattr(pp.request, "inspection", None) is not None:
+    rates = getattr(pp.request, "inspection", None)
+    if rates is not None:
         note += (" Rows 'perfect insp.': the same plan under that model if the inspection "
-                 "never erred (what a sheet without inspection errors would state); rows "
-                 "'upper bounds': at the study's one-sided 95 % upper bounds on both rates.")
+                 "never erred (what a sheet without inspection errors would state)"
+                 + ("; rows 'upper bounds': at the study's one-sided 95 % upper bounds on both "
+                    "rates." if rates.has_bounds else "."))
     if scope.lot_size and any("lot_counts" in r for r in pp.reports):
         parts = []
         for rep in (r for r in pp.reports if "lot_counts" in r):
