@@ -30,7 +30,8 @@ import numpy as np
 import pytest
 
 from lotwise.cli import main
-from lotwise.core.inspection import ErrorRates, clopper_pearson_upper, parse_study
+from lotwise.core.inspection import (ErrorRates, clopper_pearson_upper, observed_cdf,
+                                     parse_study)
 from lotwise.core.types import Scope, Targets
 from lotwise.families.base import parse_plan
 from lotwise.families.misclassified import design_misclassified, wrap
@@ -196,6 +197,9 @@ def test_finite_lot_against_mpmath_sample_form(n, c, N, D, e2, e1):
         total += h * inner
     plan = wrap(parse_plan(f"n={n},c={c}"), ErrorRates(miss_rate=e2, false_alarm=e1))
     assert float(plan.pa_count(D, Scope(lot_size=N))) == pytest.approx(float(total), abs=1e-10)
+    # the designer's own sample-form kernel, every c up to this one at once
+    cdf = observed_cdf([n, n + 1], D, N, e2, e1, c)
+    assert cdf[0][c] == pytest.approx(float(total), abs=1e-10)
 
 
 # Seeded simulation of rectifying inspection with misses and false alarms (lots drawn
@@ -271,6 +275,7 @@ def test_study_text():
 DESIGNS = [  # aql, rql, lot, e2, e1
     (0.01, 0.06, None, 0.1, 0.01),
     (0.01, 0.06, 2000, 0.1, 0.01),
+    (0.01, 0.06, 10_000, 0.1, 0.02),
     (0.02, 0.10, 500, 0.2, 0.0),
     (0.005, 0.05, None, 0.0, 0.005),
 ]
@@ -363,3 +368,27 @@ def test_other_options_refused(capsys):
     code, _, err = run(capsys, "check", "--plan", "chain: n=50,i=3", "--aql", "1%", "--rql",
                        "6%", "--lot-size", "500", "--miss-rate", "5%")
     assert code == 2 and "chain" in err and err.count("\n") == 1
+
+
+# The error-free column of a finite-lot OC table is taken at the table's own whole
+# counts (up at and below the AQL, down at and above the RQL): each row equals the
+# hypergeometric sum at that row's lot_count (mpmath, 30 digits), 1e-12.
+ERROR_FREE_ROWS = [  # plan, N, aql, rql, levels
+    ("n=50,c=1", 1000, "1%", "7%", "0.0105,0.0335,0.07,0.0715"),
+    ("n=20,c=0", 75, "2%", "10%", "0.01,0.02,0.05,0.1,0.13"),
+]
+
+
+@pytest.mark.parametrize("plan,N,aql,rql,levels", ERROR_FREE_ROWS)
+def test_error_free_column_at_the_tables_counts(capsys, plan, N, aql, rql, levels):
+    code, out, _ = run(capsys, "oc", "--plan", plan, "-N", str(N), "--aql", aql, "--rql", rql,
+                       "--at", levels, "--miss-rate", "0.1", "--false-alarm", "0.02", "--json")
+    assert code == 0
+    rep = json.loads(out)
+    cols = rep["columns"]
+    n, c = (int(kv.split("=")[1]) for kv in plan.split(","))
+    for row in rep["rows"]:
+        D = row[cols.index("lot_count")]
+        exact = sum(mpmath.binomial(D, k) * mpmath.binomial(N - D, n - k)
+                    for k in range(c + 1)) / mpmath.binomial(N, n)
+        assert row[cols.index("error_free_pa")] == pytest.approx(float(exact), abs=1e-12)

@@ -111,6 +111,15 @@ CASES = [
     ("compare", P(designed="1", plan="n=89,c=2", aql="1%", rql="6%")),
     ("tradeoff", P(aql="0.65%,1%", rql="2%..6%:2%", process_average="0.8%",
                    deliveries_per_year="52")),
+    # inspection errors, read as --miss-rate, --false-alarm and --study
+    ("design", P(aql="1%", rql="6%", miss_rate="10%", false_alarm="2%", lot_size="2000")),
+    ("design", P(aql="1%", rql="8%", scheme="double",
+                 study="missed 4 of 50 nonconforming; flagged 2 of 50 conforming")),
+    ("design", P(aql="1%", rql="2%", miss_rate="10%", max_n="100")),
+    ("check", P(plan="n=80,c=2", aql="1%", rql="6%", miss_rate="0.1", lot_size="1000")),
+    ("oc", P(plan="n=80,c=2", lot_size="500", miss_rate="10%", false_alarm="1%", points="6")),
+    ("compare", P(plan="n=32,c=1", aql="1%", rql="8%", false_alarm="1%",
+                  **{"plan ": "n=50,c=1"})),
 ]
 
 
@@ -180,6 +189,12 @@ BAD = [
     ("oc", P(plan="csp1: i=38,f=1/10", lot_size="100")),
     ("compare", P(plan="n=80,c=2", aql="1%", rql="6%")),
     ("tradeoff", P(aql="1%..90%:0.01%", rql="2%")),
+    ("design", P(aql="1%", rql="6%", miss_rate="60%", false_alarm="50%")),
+    ("design", P(aql="1%", rql="6%", miss_rate="0.1", study="missed 1 of 5 nonconforming")),
+    ("design", P(aql="1%", rql="6%", scheme="variables", miss_rate="10%")),
+    ("check", P(plan="variables: n=42,k=1.901,upper=25", aql="1%", rql="6%",
+                miss_rate="10%")),
+    ("oc", P(plan="n=80,c=2", study="missed 4 of 3 nonconforming")),
 ]
 
 

@@ -224,7 +224,8 @@ def oc_table(plan: Plan, scope: Scope, model: str, ps, *, aql=None,
     extra.update(_sample_columns(plan, scope, model, ps, counts))
     fam = family_of(plan)
     if fam.oc_columns is not None:
-        extra.update({k: np.atleast_1d(v) for k, v in fam.oc_columns(plan, ps, model, scope).items()})
+        own = fam.oc_columns(plan, ps, model, scope, counts=counts)
+        extra.update({k: np.atleast_1d(v) for k, v in own.items()})
     header = ["p", *models, *extra]
     rows = []
     for i, pv in enumerate(ps):

@@ -36,6 +36,9 @@ def check(
     miss_rate: Optional[str] = common.MISS_RATE,
     false_alarm: Optional[str] = common.FALSE_ALARM,
     study: Optional[str] = common.STUDY,
+    measurement_sd: Optional[str] = common.MEASUREMENT_SD,
+    sigma_is: Optional[str] = common.SIGMA_IS,
+    process_sd: Optional[str] = common.PROCESS_SD,
     as_json: bool = common.JSON,
 ):
     """Audit a plan (or re-verify plan files): the risks it really carries.
@@ -60,6 +63,7 @@ def check(
         raise typer.Exit(check_folder(paths, as_json))
     p = common.plan_from(plan, n, c)
     rates = common.error_rates(miss_rate, false_alarm, study)
+    gauge = common.gauge_args(measurement_sd, sigma_is, process_sd)
     if p.evaluation == "flow":  # continuous sampling: long-run figures at --at levels
         from .csp import check_cmd as flow_check
 
@@ -86,7 +90,7 @@ def check(
     al, be = common.risks(alpha, beta)
     scope, mdl = common.scope_and_model(lot, defects, model)
     p = p.for_scope(scope)  # checks the scope; a plan may be meant per the scope
-    p = common.with_errors(p, rates, scope)  # judged at the true quality
+    p = common.with_gauge(common.with_errors(p, rates, scope), gauge)  # at the true quality
     if not r > a:
         common.levels_out_of_order(a, r, defects, as_json)
     if aoq_formula is not None and not scope.lot_size:

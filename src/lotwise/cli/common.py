@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import math
 import sys
 
 import typer
@@ -191,23 +192,9 @@ STUDY = typer.Option(None, "--study", help='The two rates from an agreement stud
 def error_rates(miss_rate, false_alarm, study):
     """The :class:`~lotwise.core.inspection.ErrorRates` of ``--miss-rate``,
     ``--false-alarm`` or ``--study``; None when none is given."""
-    from lotwise.core.inspection import ErrorRates, parse_rate, parse_study
+    from lotwise.core.inspection import read_rates
 
-    if study is not None:
-        if miss_rate is not None or false_alarm is not None:
-            opt, val = ("--miss-rate", miss_rate) if miss_rate is not None \
-                else ("--false-alarm", false_alarm)
-            raise InputError(f"{opt} ({val}) cannot be combined with --study (the study gives "
-                             "both rates)")
-        return parse_study(study, "--study")
-    if miss_rate is None and false_alarm is None:
-        return None
-    e2 = parse_rate(miss_rate, "--miss-rate") if miss_rate is not None else 0.0
-    e1 = parse_rate(false_alarm, "--false-alarm") if false_alarm is not None else 0.0
-    from lotwise.core.inspection import check_rates
-
-    check_rates(e2, e1)
-    return ErrorRates(miss_rate=e2, false_alarm=e1)
+    return read_rates(miss_rate, false_alarm, study)
 
 
 def with_errors(plan, rates, scope):
@@ -224,3 +211,53 @@ def add_rates(rep: dict, rates) -> dict:
     if rates is not None and "inspection_error" not in rep:
         rep["inspection_error"] = rates.as_dict()
     return rep
+
+
+# --- a gauge's error in variables plans (design, check, oc) ----------------------------
+
+MEASUREMENT_SD = typer.Option(None, "--measurement-sd", help="variables: the gauge's standard deviation (units of the limits); figures are then at the true fraction nonconforming.")
+SIGMA_IS = typer.Option(None, "--sigma-is", help="variables, sigma known, with --measurement-sd: process (the plan's sigma is the process's own) or observed (the spread of measured values, gauge included).")
+PROCESS_SD = typer.Option(None, "--process-sd", help="variables, sigma unknown, with --measurement-sd: the process sigma the true-quality figures are stated at.")
+
+
+def gauge_args(measurement_sd, sigma_is, process_sd) -> dict | None:
+    """``--measurement-sd``, ``--sigma-is`` and ``--process-sd`` read (None without
+    ``--measurement-sd``; the other two alone are refused)."""
+    def number(text, option):
+        if text is None:
+            return None
+        try:
+            v = float(str(text).strip())
+        except ValueError:
+            raise InputError(f"{option} ({text!r}) must be a number such as 0.02") from None
+        if not math.isfinite(v):
+            raise InputError(f"{option} ({text!r}) must be a finite number")
+        return v
+
+    if measurement_sd is None:
+        for opt, val in (("--sigma-is", sigma_is), ("--process-sd", process_sd)):
+            if val is not None:
+                raise InputError(f"{opt} ({val}) applies with --measurement-sd")
+        return None
+    sm = number(measurement_sd, "--measurement-sd")
+    if not sm >= 0:
+        raise InputError(f"--measurement-sd ({measurement_sd}) must be a number of at least 0 "
+                         "(the gauge's standard deviation, in the units of the limits)")
+    si = sigma_is.strip().lower() if sigma_is is not None else None
+    return {"measurement_sd": sm, "sigma_is": si,
+            "process_sd": number(process_sd, "--process-sd")}
+
+
+def with_gauge(plan, gauge: dict | None):
+    """A variables ``plan`` judged through the gauge of :func:`gauge_args` (unchanged
+    without one, or with a zero standard deviation once the options are checked)."""
+    if gauge is None:
+        return plan
+    if plan.evaluation != "process":
+        raise InputError(f"--measurement-sd ({gauge['measurement_sd']:g}) applies to variables "
+                         "plans; an attribute inspection that misjudges items is "
+                         "--miss-rate/--false-alarm")
+    from lotwise.families.measured import gauge_for, measured
+
+    return measured(plan, gauge_for(plan, gauge["measurement_sd"], sigma_is=gauge["sigma_is"],
+                                    process_sd=gauge["process_sd"]))

@@ -62,11 +62,15 @@ def design(
     sheet: Optional[str] = prior_cli.SHEET, deliveries: Optional[str] = prior_cli.DELIVERIES,
     miss_rate: Optional[str] = common.MISS_RATE, false_alarm: Optional[str] = common.FALSE_ALARM,
     study: Optional[str] = common.STUDY,
+    measurement_sd: Optional[str] = common.MEASUREMENT_SD, sigma_is: Optional[str] = common.SIGMA_IS,
+    process_sd: Optional[str] = common.PROCESS_SD,
     as_json: bool = common.JSON,
 ):
     """Design the plan with the smallest sample meeting both risks (or, --minimize cost, the cheapest)."""
     opts = dict(locals())
     rates = common.error_rates(opts.pop("miss_rate"), opts.pop("false_alarm"), opts.pop("study"))
+    gauge = common.gauge_args(opts.pop("measurement_sd"), opts.pop("sigma_is"),
+                              opts.pop("process_sd"))
     key = scheme.strip().lower()
     names = list(SCHEMES) + [f for f in _registered() if f not in SCHEMES]
     if key not in names:
@@ -80,6 +84,12 @@ def design(
                          f"single plans), not {key}")
     import importlib
 
+    if gauge is not None:
+        if key != "variables":
+            raise InputError(f"--measurement-sd ({gauge['measurement_sd']:g}) applies to "
+                             "--scheme variables; an attribute inspection that misjudges items "
+                             "is --miss-rate/--false-alarm")
+        opts["gauge"] = gauge
     if rates is not None:  # the true risks held under inspection errors
         from .inspection import design_cmd
 

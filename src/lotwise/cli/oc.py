@@ -28,6 +28,9 @@ def oc_table(
     miss_rate: Optional[str] = common.MISS_RATE,
     false_alarm: Optional[str] = common.FALSE_ALARM,
     study: Optional[str] = common.STUDY,
+    measurement_sd: Optional[str] = common.MEASUREMENT_SD,
+    sigma_is: Optional[str] = common.SIGMA_IS,
+    process_sd: Optional[str] = common.PROCESS_SD,
     as_json: bool = common.JSON,
 ):
     """OC table: exact and Poisson acceptance probabilities side by side."""
@@ -35,6 +38,7 @@ def oc_table(
 
     p = common.plan_from(plan, n, c)
     rates = common.error_rates(miss_rate, false_alarm, study)
+    gauge = common.gauge_args(measurement_sd, sigma_is, process_sd)
     if p.evaluation == "flow":  # continuous sampling: AFI, AOQ and pa per produced unit
         from .csp import oc_cmd as flow_oc
 
@@ -48,8 +52,9 @@ def oc_table(
     if p.evaluation == "process":  # a measured process: the plan's own normal-theory OC
         from .variables import oc_cmd as process_oc
 
-        return process_oc(p, max_p=max_p, points=points, at=at, aql=aql, rql=rql, csv=csv,
+        return process_oc(common.with_gauge(p, gauge), max_p=max_p, points=points, at=at, aql=aql, rql=rql, csv=csv,
                           plot=plot, force=force, as_json=as_json)
+    common.with_gauge(p, gauge)  # refused: a gauge's error is for variables plans
     scope, mdl = common.scope_and_model(lot, defects, model)
     p = p.for_scope(scope)  # checks the scope; a plan may be meant per the scope
     p = common.with_errors(p, rates, scope)  # Pa at the true quality

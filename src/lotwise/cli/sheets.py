@@ -25,6 +25,7 @@ def check_folder(paths, as_json: bool) -> int:
     from lotwise.core.quantities import format_pct
 
     rows, items, t_rows, t_items = [], [], [], []
+    files_rates = {}
     for pp in resolve_files(paths):
         req = pp.request
         if req.switching is not None or req.table:  # plan tables: see cli.scheme
@@ -58,7 +59,11 @@ def check_folder(paths, as_json: bool) -> int:
                           "designed": pp.designed, "pa_aql": r["pa_aql"], "pa_rql": r["pa_rql"],
                           "notation": rep.get("notation") or f"n={rep['n']},c={rep['c']}",
                           "own_sample": bool(rep.get("own_sample")),
-                          "note": rep.get("note", "")})
+                          "note": rep.get("note", "")}
+                         | ({"inspection_error": rep["inspection_error"]}
+                            if "inspection_error" in rep else {}))
+        if req.inspection is not None:
+            files_rates[Path(req.path).name] = req.inspection.describe()
     ok = all(i["meets"] for i in items) and all(i["meets"] for i in t_items)
     if as_json:
         common.emit_json({"meets": ok, "characteristics": items}
@@ -70,6 +75,8 @@ def check_folder(paths, as_json: bool) -> int:
             for i in items:
                 if i.get("note"):
                     typer.echo(f"  {Path(i['file']).name} {i['characteristic']}: {i['note']}")
+            for name, text in files_rates.items():
+                typer.echo(f"  {name}: judged at the true quality with {text}")
             short = sum(not i["meets"] for i in items)
             typer.echo(f"\n  {len(items)} characteristic(s) checked; "
                        + ("all meet their targets." if all(i["meets"] for i in items)

@@ -29,7 +29,7 @@ def number(text, option: str) -> float | None:
 # --- design --------------------------------------------------------------------
 
 def design_cmd(*, aql, rql, alpha, beta, sigma, sigma_value, limit, lower, upper, max_n,
-               lot, model, defects, c, n, as_json):
+               lot, model, defects, c, n, as_json, gauge=None):
     """``lotwise design --scheme variables``."""
     from lotwise.families.variables import design_variables
     from lotwise.core.quantities import parse_count
@@ -63,6 +63,10 @@ def design_cmd(*, aql, rql, alpha, beta, sigma, sigma_value, limit, lower, upper
     nlot = common.lot_size(lot)
     base = {"scheme": "variables", "sigma": sigma, "limit": limit,
             "targets": {"aql": a, "alpha": al, "rql": r, "beta": be}}
+    if gauge is not None:
+        return _design_measured(gauge, base, nlot, as_json, aql=a, rql=r, alpha=al, beta=be,
+                                sigma=sigma, limit=limit, sigma_value=sv, lower=lo, upper=up,
+                                max_n=cap)
     try:
         d = design_variables(aql=a, rql=r, alpha=al, beta=be, sigma=sigma, limit=limit,
                              sigma_value=sv, lower=lo, upper=up, max_n=cap)
@@ -80,6 +84,45 @@ def design_cmd(*, aql, rql, alpha, beta, sigma, sigma_value, limit, lower, upper
         common.emit_json(rep)
     else:
         typer.echo(render_design(rep))
+
+
+def _design_measured(gauge, base, nlot, as_json, **kw):
+    """``design --scheme variables --measurement-sd``: the smallest plan holding both
+    risks at the true fraction nonconforming through the gauge, and the guard-banded
+    alternative (see :mod:`lotwise.families.measured`)."""
+    from lotwise.analysis.assess import assess
+    from lotwise.core.types import Scope, Targets
+    from lotwise.families.measured import design_measured, gauge_for
+    from lotwise.families.variables import VariablesPlan
+
+    if gauge["measurement_sd"] == 0:  # checked, then today's design exactly
+        gauge_for(VariablesPlan(n=2, k=1.0, sigma=kw["sigma"], limit=kw["limit"],
+                                sigma_value=kw["sigma_value"]), 0.0,
+                  sigma_is=gauge["sigma_is"], process_sd=gauge["process_sd"])
+        return design_cmd(**{k: kw[k] for k in ("aql", "rql", "alpha", "beta", "sigma",
+                                               "limit", "lower", "upper")},
+                          sigma_value=None if kw["sigma_value"] is None
+                          else repr(kw["sigma_value"]), max_n=kw["max_n"], lot=nlot,
+                          model=None, defects=False, c=None, n=None, as_json=as_json)
+    targets = Targets(aql=kw["aql"], rql=kw["rql"], alpha=kw["alpha"], beta=kw["beta"])
+    try:
+        plan, _d, guard = design_measured(gauge, **kw)
+    except Infeasible as exc:
+        common.infeasible(exc, as_json, base)
+    rep = assess(plan, targets, Scope(lot_size=nlot)).to_json()
+    rep["guard_banded"] = guard
+    rep["statements"].append(
+        f"Guard-banded alternative: keep the sample of the plan designed for a perfect gauge "
+        f"(n = {guard['n']}) and raise k from {guard['k_error_free']:g} to {guard['k']:.4f}, "
+        f"which holds beta ({_pct(guard['beta'])}) at the true RQL; alpha is then "
+        f"{_pct(guard['alpha'])}" + ("" if guard["meets"] else " (above its target)") + ".")
+    if as_json:
+        common.emit_json(rep)
+    else:
+        from lotwise.analysis.report import render_assessment
+
+        typer.echo(render_assessment(rep, "Variables plan holding both risks at the true "
+                                          "fraction nonconforming, through the gauge"))
 
 
 def _pct(x):
@@ -182,9 +225,9 @@ def oc_cmd(plan, *, max_p, points, at, aql, rql, csv, plot, force, as_json):
 # --- judge -----------------------------------------------------------------------
 
 def design_options(*, aql, rql, alpha, beta, sigma, sigma_value, limit, lower, upper, max_n,
-                   lot, model, defects, c, n, as_json, **_others):
+                   lot, model, defects, c, n, as_json, gauge=None, **_others):
     """:func:`design_cmd` called with every design option."""
     return design_cmd(aql=aql, rql=rql, alpha=alpha, beta=beta, sigma=sigma,
                       sigma_value=sigma_value, limit=limit, lower=lower, upper=upper,
                       max_n=max_n, lot=lot, model=model, defects=defects, c=c, n=n,
-                      as_json=as_json)
+                      as_json=as_json, gauge=gauge)

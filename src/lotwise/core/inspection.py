@@ -62,7 +62,8 @@ from scipy import special
 from lotwise.core.quantities import InputError, format_pct, parse_fraction
 
 __all__ = ["ErrorRates", "apparent", "check_rates", "parse_rate", "parse_study",
-           "clopper_pearson_upper", "binomial_window", "flagged_counts", "STUDY_LEVEL"]
+           "clopper_pearson_upper", "binomial_window", "read_rates", "flagged_counts", "observed_cdf",
+           "STUDY_LEVEL"]
 
 #: Confidence of the one-sided upper bounds on rates from a study.
 STUDY_LEVEL = 0.95
@@ -225,6 +226,29 @@ def parse_study(text, option: str = "--study") -> ErrorRates:
                              "conforming": fm})
 
 
+def read_rates(miss_rate=None, false_alarm=None, study=None, *,
+               names=("--miss-rate", "--false-alarm", "--study"),
+               prefix: str = "") -> ErrorRates | None:
+    """The rates given as a miss rate and/or a false-alarm rate, or as a study (not
+    both); None when none is given. ``names`` spell the three inputs as the caller's
+    user wrote them (options, plan-file keys, form fields), ``prefix`` goes before
+    every message (e.g. the file)."""
+    miss_name, false_name, study_name = (prefix + k for k in names)
+    if study is not None:
+        if miss_rate is not None or false_alarm is not None:
+            opt, val = ((miss_name, miss_rate) if miss_rate is not None
+                        else (false_name, false_alarm))
+            raise InputError(f"{opt} ({val}) cannot be combined with {names[2]} (the study "
+                             "gives both rates)")
+        return parse_study(study, study_name)
+    if miss_rate is None and false_alarm is None:
+        return None
+    e2 = parse_rate(miss_rate, miss_name) if miss_rate is not None else 0.0
+    e1 = parse_rate(false_alarm, false_name) if false_alarm is not None else 0.0
+    check_rates(e2, e1, miss_name, names[1])
+    return ErrorRates(miss_rate=e2, false_alarm=e1)
+
+
 def _whole(word: str, option: str, text: str) -> int:
     if not word.isdigit():
         raise InputError(f"{option} ({text!r}): {word!r} must be a whole number")
@@ -282,3 +306,66 @@ def flagged_counts(d: int, lot_size: int, miss_rate: float, false_alarm: float):
     pmf = np.convolve(pb, pf)
     bad = np.convolve(b * pb, pf)
     return lo_b + lo_f, pmf, bad
+
+
+def _binomial_rows(sizes: np.ndarray, prob: float, top: int) -> np.ndarray:
+    """``P(Bin(size, prob) = j)`` for each size (rows) and ``j = 0..top`` (columns):
+    the log mass at 0 (or at ``size`` when ``prob = 1``) and the cumulated log ratios
+    ``log P(j + 1) - log P(j) = log((size - j) / (j + 1)) + log(prob / (1 - prob))``."""
+    m = sizes.astype(float)[:, None]
+    j = np.arange(top + 1, dtype=float)[None, :]
+    if prob <= 0.0 or prob >= 1.0:
+        at = np.zeros_like(m) if prob <= 0.0 else m
+        return (j == at).astype(float)
+    odds = math.log(prob) - math.log1p(-prob)
+    with np.errstate(all="ignore"):
+        steps = np.log(np.maximum(m - j[:, :-1], 0.0)) - np.log(j[:, 1:]) + odds
+        logp = np.concatenate([np.broadcast_to(m * math.log1p(-prob), m.shape),
+                               steps], axis=1)
+        out = np.exp(np.cumsum(logp, axis=1))
+    return np.where(j <= m, out, 0.0)
+
+
+def _sample_window(m: int, d: int, N: int) -> tuple[int, int]:
+    """``(lo, hi + 1)``: the true counts of a sample of ``m`` worth summing."""
+    mean = m * d / N
+    spread = 12.0 * math.sqrt(mean * (1.0 - d / N)) + 30.0
+    return (max(0, m - (N - d), int(math.floor(mean - spread))),
+            min(m, d, int(math.ceil(mean + spread))) + 1)
+
+
+def observed_cdf(n, d: int, lot_size: int, miss_rate: float, false_alarm: float,
+                 top: int) -> np.ndarray:
+    """``P(X <= k)`` for ``k = 0..top``: ``X`` the flagged count of a sample of ``n``
+    from a lot of ``lot_size`` holding ``d`` nonconforming items (sample form); one
+    row per sample size when ``n`` is an array.
+
+    The true count ``T`` of the sample is hypergeometric; given ``T`` the flagged
+    count is ``Bin(T, 1 - e2) + Bin(n - T, e1)``. Only masses up to ``top`` are
+    needed, so each convolution is cut there. ``T`` is summed over its mean plus or
+    minus 12 binomial standard deviations and 30 (a hypergeometric count is less
+    spread than the binomial one, whose tails beyond that are far below 1e-20:
+    Hoeffding, JASA 58, 1963, section 6), and masses below 1e-20 are dropped (at most
+    ``n`` of them: no probability moves by more than 1e-15).
+    The same law as the lot form (:func:`flagged_counts`) for a single sample.
+    """
+    from lotwise.core.kernels import hypergeometric_pmf
+
+    sizes = np.atleast_1d(np.asarray(n, dtype=np.int64))
+    d, N, top = int(d), int(lot_size), int(top)
+    parts = [np.arange(*_sample_window(m, d, N)) for m in sizes.tolist()]
+    owner = np.repeat(np.arange(sizes.size), [p.size for p in parts])
+    t = np.concatenate(parts)
+    h = np.asarray(hypergeometric_pmf(t, sizes[owner], N, d), dtype=float)
+    keep = h > 1e-20
+    t, h, owner = t[keep], h[keep], owner[keep]
+    a = _binomial_rows(t, 1.0 - miss_rate, top)
+    b = _binomial_rows(sizes[owner] - t, false_alarm, top)
+    conv = np.zeros_like(a)
+    for j in range(top + 1):
+        conv[:, j:] += a[:, j:j + 1] * b[:, :top + 1 - j]
+    pmf = np.zeros((sizes.size, top + 1))
+    firsts = np.flatnonzero(np.r_[True, owner[1:] != owner[:-1]])
+    pmf[owner[firsts]] = np.add.reduceat(h[:, None] * conv, firsts, axis=0)
+    out = np.minimum(np.cumsum(pmf, axis=1), 1.0)
+    return out if np.ndim(n) else out[0]

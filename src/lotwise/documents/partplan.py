@@ -105,23 +105,22 @@ def _common_sample(req, chars, floor: int = 0) -> tuple[int, list]:
     """
     scope, model = req.scope, req.model
     if req.fixed:
-        return req.n, [SinglePlan(n=req.n, c=ch.c) for ch in chars]
+        return req.n, [judged(SinglePlan(n=req.n, c=ch.c), req, ch) for ch in chars]
     cap = req.max_n
     if scope.lot_size is not None:
         cap = scope.lot_size if cap is None else min(cap, scope.lot_size)
     if req.n is not None:
         n = req.n
     else:
-        n = max(design_single(aql=ch.targets.aql, rql=ch.targets.rql, alpha=ch.targets.alpha,
-                              beta=ch.targets.beta, lot_size=scope.lot_size, model=model,
-                              defects=scope.defects, c=ch.c, max_n=cap).n for ch in chars)
+        n = max(_design_single(req, ch.targets, c=ch.c, max_n=cap).plan.max_sample
+                for ch in chars)
         n = max(n, min(floor, cap) if cap is not None else floor)
     while True:
         plans, short = [], None
         for ch in chars:
             t = ch.targets
             if ch.c is not None:
-                plan = SinglePlan(n=n, c=ch.c)
+                plan = judged(SinglePlan(n=n, c=ch.c), req, ch)
                 risk = assess(plan, t, scope, model, verdict=False, rectifying=False).to_json()
                 mr = risk["models"][risk["model"]]
                 if not mr["meets_alpha"]:
@@ -136,9 +135,7 @@ def _common_sample(req, chars, floor: int = 0) -> tuple[int, list]:
                     break
             else:
                 try:
-                    plan = design_single(aql=t.aql, rql=t.rql, alpha=t.alpha, beta=t.beta,
-                                         lot_size=scope.lot_size, model=model,
-                                         defects=scope.defects, n=n).plan
+                    plan = _design_single(req, t, n=n).plan
                 except Infeasible:
                     short = ch
                     break
@@ -149,6 +146,39 @@ def _common_sample(req, chars, floor: int = 0) -> tuple[int, list]:
             raise Infeasible(f"no common sample size up to {n} meets the risks of "
                              f"characteristic {short.id}")
         n += 1
+
+
+def _design_single(req, t, **options):
+    """The single design for targets ``t`` (holding them at the true quality when the
+    file states inspection errors)."""
+    kw = dict(aql=t.aql, rql=t.rql, alpha=t.alpha, beta=t.beta, lot_size=req.scope.lot_size,
+              model=req.model, defects=req.scope.defects, **options)
+    if req.inspection is None:
+        return design_single(**kw)
+    from lotwise.families.misclassified import design_misclassified
+
+    return design_misclassified("single", req.inspection, **kw)
+
+
+def judged(plan, req, ch):
+    """``plan`` as the inspection of the file judges it: wrapped with the rates of
+    ``[inspection]`` (unchanged without), refused for plans they do not apply to."""
+    rates = getattr(req, "inspection", None)
+    if rates is None:
+        return plan
+    from lotwise.families.misclassified import MisclassifiedPlan, wrap
+
+    if isinstance(plan, MisclassifiedPlan):
+        return plan
+    if not plan.attribute_plan or plan.evaluation != "lot":
+        raise InputError(f"{req.path}: [inspection] (miss_rate, false_alarm, study) applies to "
+                         f"attribute plans judged lot by lot; characteristic {ch.id} has a "
+                         f"{plan.scheme} plan (state a gauge's error for variables plans with "
+                         "--measurement-sd on the command line)")
+    try:
+        return wrap(plan, rates).for_scope(req.scope)
+    except InputError as exc:
+        raise InputError(f"{req.path}: [inspection] with characteristic {ch.id}: {exc}") from None
 
 
 def largest_sample(plan) -> int | None:
@@ -197,7 +227,7 @@ def _own_plan(ch, req):
     """The given plan of a characteristic, or its design by the family its
     ``scheme`` names (through the registry)."""
     if ch.plan is not None:
-        return ch.plan, None
+        return judged(ch.plan, req, ch), None
     from lotwise.families.base import family
 
     fam = family(ch.scheme)
@@ -205,10 +235,22 @@ def _own_plan(ch, req):
     if req.max_n is not None and "max_n" in fam.design_options:
         opts.setdefault("max_n", req.max_n)
     t = ch.targets
+    design = fam.design
+    if req.inspection is not None:
+        from functools import partial
+
+        from lotwise.families.misclassified import design_misclassified
+
+        cls = fam.plan_class
+        if not cls.attribute_plan or cls.evaluation != "lot":
+            raise InputError(f"{req.path}: [inspection] (miss_rate, false_alarm, study) "
+                             f"applies to attribute plans judged lot by lot; characteristic "
+                             f"{ch.id} designs a {ch.scheme} plan")
+        design = partial(design_misclassified, ch.scheme, req.inspection)
     try:
-        d = fam.design(aql=t.aql, rql=t.rql, alpha=t.alpha, beta=t.beta,
-                       lot_size=req.scope.lot_size, model=req.model,
-                       defects=req.scope.defects, **opts)
+        d = design(aql=t.aql, rql=t.rql, alpha=t.alpha, beta=t.beta,
+                   lot_size=req.scope.lot_size, model=req.model,
+                   defects=req.scope.defects, **opts)
     except InputError as exc:
         where = f"characteristic[{req.characteristics.index(ch) + 1}]."
         msg = str(exc)
@@ -243,11 +285,13 @@ def resolve(req, *, verdict: bool = True) -> PartPlan:
         if ch.id in by_id:
             p = by_id[ch.id]
             rep = _with_char(assess(p, ch.targets, scope, model, verdict=verdict, rectifying=False).to_json(), ch)
-            rep["full_inspection"] = bool(scope.lot_size and p.n >= scope.lot_size)
+            rep["full_inspection"] = bool(scope.lot_size and p.max_sample >= scope.lot_size)
             _add_rectifying([rep], [p], [ch], scope)
         else:
             p, design = own[ch.id]
             rep = own_report(p, ch, scope, model, design)
+        if req.inspection is not None and "inspection_error" not in rep:
+            rep["inspection_error"] = req.inspection.as_dict()
         reps.append(rep)
         plans.append(p)
     if n is None:
@@ -262,7 +306,7 @@ def _add_rectifying(reps, plans, chars, scope) -> None:
     from lotwise.analysis.rectifying import rectifying_summary
 
     for rep, plan, ch in zip(reps, plans, chars):
-        if plan.n < scope.lot_size:
+        if plan.max_sample < scope.lot_size:
             rep.update(rectifying_summary(plan, scope, rep["model"], ch.targets))
 
 

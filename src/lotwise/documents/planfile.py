@@ -36,6 +36,13 @@ Format
     strata = "trays=12"                          # stratified pick list
     rejected_lot = "Return to supplier ..."      # what to do with a rejected lot
 
+    [inspection]                                 # optional: the inspection errs
+    miss_rate = "10%"                            # nonconforming item judged conforming
+    false_alarm = "2%"                           # conforming item judged nonconforming
+    # study = "missed 4 of 50 nonconforming; flagged 2 of 50 conforming"
+    #                                            # or both rates from an agreement study
+    #                                            # (risks also at its 95 % upper bounds)
+
     [[characteristic]]                           # one or more
     id = "C1"
     description = "Free length"
@@ -64,6 +71,10 @@ registry, with ``sampling.max_n`` as its cap where the family takes one);
 the others share the part's common attributes sample. The allowed option
 keys are those of :attr:`lotwise.families.base.Family.design_options`; a key
 of another scheme is refused, naming the scheme it needs.
+
+With ``[inspection]`` every characteristic is designed and judged at the true
+quality (the plan sentences what the inspection flags, see
+:mod:`lotwise.families.misclassified`); it applies to attribute plans.
 
 A file may also hold a switching scheme (``[switching]``, ``[switching.rules]``)
 and a table of plans by lot size (``[[table]]``), with file-level ``aql``,
@@ -106,7 +117,8 @@ CLASSES = ("critical", "major", "minor")
 COUNTS = ("items", "nonconformities")
 
 _TOP = {"rationale", "part", "sampling", "lot", "characteristic", "switching", "table",
-        "aql", "rql", "max_alpha", "max_beta"}
+        "aql", "rql", "max_alpha", "max_beta", "inspection"}
+_INSPECTION = {"miss_rate", "false_alarm", "study"}
 _PART = {"id", "description", "supplier", "drawing", "revision"}
 _LOT = {"size", "definition", "counts"}
 _SAMPLING = {"model", "n", "max_n", "cost_per_unit", "seed", "strata", "rejected_lot"}
@@ -164,6 +176,7 @@ class PlanRequest:
     switching: object | None = None   # a Scheme (see lotwise.documents.schemefile)
     table: tuple = ()                 # TableRow per [[table]] row
     limits: object | None = None      # AuditLimits of [switching] and [[table]]
+    inspection: object | None = None  # ErrorRates of [inspection], or None
     raw: dict = field(default_factory=dict, repr=False, compare=False)
 
     @property
@@ -399,6 +412,24 @@ def _own_plan(ch: dict, w: str, path: str, c, size=None):
     return plan
 
 
+def _inspection(doc: dict, path: str):
+    """``[inspection]``: the misclassification rates (stated, or from a study), or None."""
+    from lotwise.core.inspection import read_rates
+
+    insp = _table(doc, "inspection", path)
+    _unknown(insp, _INSPECTION, "inspection.", path)
+    if "study" in insp and not isinstance(insp["study"], str):
+        raise InputError(f"{path}: inspection.study ({insp['study']!r}) must be text in quotes, "
+                         'e.g. "missed 4 of 50 nonconforming; flagged 2 of 50 conforming"')
+    for key in ("miss_rate", "false_alarm"):
+        if isinstance(insp.get(key), bool):
+            raise InputError(f"{path}: inspection.{key} ({insp[key]!r}) must be a rate such as "
+                             "0.1 or \"10%\"")
+    return read_rates(insp.get("miss_rate"), insp.get("false_alarm"), insp.get("study"),
+                      names=("inspection.miss_rate", "inspection.false_alarm",
+                             "inspection.study"), prefix=f"{path}: ")
+
+
 def _characteristic(ch: dict, i: int, path: str, *, defects: bool, n, seen: set, size=None):
     """``[[characteristic]]`` number ``i`` (from 1), validated; its id is added
     to ``seen``."""
@@ -494,6 +525,7 @@ def loads(text: str, path: str = "<plan>") -> PlanRequest:
     strata = _strata(smp, size, path)
     rejected = _text(smp, "rejected_lot", where="sampling.", path=path)
     rationale = _text(doc, "rationale", "", path)
+    inspection = _inspection(doc, path)
 
     extras = parse_extras(doc, scope, path, _unknown)  # [switching], [[table]]: may omit these
     chars_raw = doc.get("characteristic", [] if extras["switching"] or extras["table"] else None)
@@ -513,7 +545,8 @@ def loads(text: str, path: str = "<plan>") -> PlanRequest:
         supplier=_text(part, "supplier", "part.", path),
         lot_definition=_text(lot, "definition", "lot.", path), scope=scope, model=model, n=n,
         max_n=max_n, cost_per_unit=cost, seed=seed, strata=strata, rejected_lot=rejected,
-        rationale=rationale, characteristics=tuple(chars), raw=doc, **extras)
+        rationale=rationale, characteristics=tuple(chars), raw=doc, inspection=inspection,
+        **extras)
 
 
 def load(path) -> PlanRequest:

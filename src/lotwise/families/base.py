@@ -420,7 +420,9 @@ class Family:
         report keys (``report`` holds the common keys already computed); a
         ``"statements"`` list is added to the plain-words sentences.
     oc_columns : callable or None
-        ``oc_columns(plan, ps, model, scope) -> dict`` of extra OC-table columns.
+        ``oc_columns(plan, ps, model, scope, counts=) -> dict`` of extra OC-table
+        columns; ``counts`` are the table's whole counts in a finite lot (None
+        otherwise), for columns taken at the same counts as the exact ``Pa``.
     cases : str or None
         ``"module:function"`` returning the family's reference cases.
     check_options : callable or None

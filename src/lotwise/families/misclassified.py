@@ -62,12 +62,14 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from lotwise.core.inspection import ErrorRates, apparent, check_rates, flagged_counts
+from lotwise.core.inspection import (ErrorRates, apparent, check_rates, flagged_counts,
+                                     observed_cdf)
 from lotwise.core.quantities import InputError
 from lotwise.core.types import AoqFormula, Scope, lot_counts, parse_choice
 from lotwise.families.base import Family, Plan, family, finish, need_lot
 
-__all__ = ["MisclassifiedPlan", "wrap", "ErrorRates", "report_keys"]
+__all__ = ["MisclassifiedPlan", "wrap", "ErrorRates", "report_keys", "refuse_options",
+           "option_value", "DESIGN_TAKES"]
 
 
 def wrap(plan: Plan, rates: ErrorRates | None) -> Plan:
@@ -327,8 +329,12 @@ def report_keys(plan: MisclassifiedPlan, targets, scope: Scope, model: str, repo
     return {"inspection_error": info, "statements": says}
 
 
-def error_free_columns(plan: MisclassifiedPlan, ps, model: str, scope: Scope) -> dict:
-    """The OC of the same plan with a perfect inspection, beside the true one."""
+def error_free_columns(plan: MisclassifiedPlan, ps, model: str, scope: Scope,
+                       counts=None) -> dict:
+    """The OC of the same plan with a perfect inspection, beside the true one; in a
+    finite lot at the table's whole counts (the same lot as the exact column)."""
+    if model == "hypergeometric" and counts is not None:
+        return {"error_free_pa": plan.inner.pa_count(counts, scope)}
     return {"error_free_pa": plan.inner.pa(ps, model, scope, "nearest")}
 
 
@@ -339,8 +345,10 @@ class _SeenKernel:
     for arrays of ``n`` and ``c`` (the interface of :class:`lotwise.core.search.Kernel`).
 
     Binomial and Poisson: the plain kernel at the apparent levels. Finite lot: the
-    hypergeometric ``Pa`` averaged over the flagged count ``D'`` at each target.
-    Both stay monotone (falling in ``n``, rising in ``c``): a mixture of functions
+    flagged count of the sample in its sample form
+    (:func:`lotwise.core.inspection.observed_cdf`), one CDF over every ``c`` per
+    sample size and target, kept for the rest of the search.
+    Both stay monotone (falling in ``n``, rising in ``c``): in the lot form a mixture of functions
     falling in ``n`` with weights free of ``n`` falls in ``n``.
     """
 
@@ -358,21 +366,12 @@ class _SeenKernel:
                                     scope.defects),
                        alpha=targets.alpha, beta=targets.beta)
         self.t = seen  # initial_upper's guess uses the RQL as inspection sees it
-        self._plain = Kernel(model if model != "hypergeometric" else "binomial", seen, scope)
+        self.plain = Kernel(model if model != "hypergeometric" else "binomial", seen, scope)
         if model == "hypergeometric":
             from lotwise.core.types import lot_targets
 
             self.d1, self.d2 = lot_targets(targets, self.N)
-            self._mixes = {}
-            for key, d in (("aql", self.d1), ("rql", self.d2)):
-                lo, pmf, _ = flagged_counts(d, self.N, rates.miss_rate, rates.false_alarm)
-                ks = lo + np.arange(pmf.size)
-                # tails of at most 1e-15 of mass each change no risk by more than 2e-15
-                # (Pa lies in [0, 1]), well inside the 1e-12 tolerance of the searches
-                head = np.cumsum(pmf)
-                tail = np.cumsum(pmf[::-1])[::-1]
-                keep = (ks <= self.N) & (head > 1e-15) & (tail > 1e-15)
-                self._mixes[key] = (ks[keep].astype(float), pmf[keep])
+            self._cdfs = {}
 
     def at_aql(self, n, c):
         return self._pa(n, c, "aql")
@@ -382,14 +381,71 @@ class _SeenKernel:
 
     def _pa(self, n, c, key):
         if self.model != "hypergeometric":
-            return self._plain.at_aql(n, c) if key == "aql" else self._plain.at_rql(n, c)
-        from lotwise.core import kernels as oc
+            return self.plain.at_aql(n, c) if key == "aql" else self.plain.at_rql(n, c)
+        n, c = np.broadcast_arrays(np.asarray(n, dtype=np.int64), np.asarray(c, dtype=np.int64))
+        flat_n, flat_c = n.ravel(), c.ravel()
+        out = np.ones(flat_n.size)  # c >= n accepts every sample of items
+        inside = flat_c < flat_n
+        if inside.any():
+            self._fill(key, flat_n[inside], flat_c[inside])
+            out[inside] = [self._cdfs[(key, int(nn))][int(cc)]
+                           for nn, cc in zip(flat_n[inside], flat_c[inside])]
+        return out.reshape(n.shape)
 
-        ks, w = self._mixes[key]
-        n = np.asarray(n, dtype=float)
-        c = np.asarray(c, dtype=float)
-        pa = oc.pa_hypergeometric(n[..., None], c[..., None], float(self.N), ks)
-        return np.asarray(pa, dtype=float) @ w
+    def _fill(self, key: str, ns, cs) -> None:
+        """Compute (in one batch) the CDFs of the flagged count for every sample size in
+        ``ns`` not yet known up to the ``c`` asked for; kept for the rest of the search."""
+        need = {}
+        for nn, cc in zip(ns.tolist(), cs.tolist()):
+            have = self._cdfs.get((key, nn))
+            if have is None or have.size <= cc:
+                need[nn] = max(need.get(nn, 0), cc)
+        if not need:
+            return
+        sizes = np.array(sorted(need), dtype=np.int64)
+        top = min(int(sizes.max()), max(need.values()) + 1)
+        rows = observed_cdf(sizes, self.d1 if key == "aql" else self.d2, self.N,
+                            self.rates.miss_rate, self.rates.false_alarm, top)
+        for nn, row in zip(sizes.tolist(), rows):
+            self._cdfs[(key, nn)] = row[:nn]  # c < n only: c >= n accepts every sample
+
+
+#: Design options that still apply with inspection errors, per scheme.
+DESIGN_TAKES = {"single": ("c", "n", "max_n"), "double": ("ratio",), "sequential": ("truncate",),
+                "chain": ("max_n",)}
+_NOT_ATTRIBUTE = ("variables", "csp1", "csp2", "csp3", "compare-all")
+
+
+def refuse_options(scheme: str, given) -> None:
+    """Refuse a design with inspection errors that cannot be had: a scheme that is not an
+    attribute plan, or an option (``given``: ``(name, value)`` pairs, names as the
+    design options, e.g. ``max_n``, ``csp_f``) the scheme does not take with errors."""
+    if scheme in _NOT_ATTRIBUTE:
+        raise InputError(f"--scheme ({scheme}): --miss-rate/--false-alarm/--study design "
+                         "attribute plans (single, double, sequential, chain)"
+                         + ("; a gauge's error in a variables plan is --measurement-sd"
+                            if scheme == "variables" else ""))
+    takes = DESIGN_TAKES.get(scheme, ())
+    for key, val in given:
+        if val and key not in takes:
+            opt = "--" + key.replace("_", "-").replace("csp-", "")
+            shown = ", ".join(val) if isinstance(val, list) else val
+            raise InputError(f"{opt} ({shown}) cannot be combined with --miss-rate/"
+                             f"--false-alarm/--study for --scheme {scheme}")
+
+
+def option_value(key: str, value):
+    """A design option's value with inspection errors, checked as the error-free
+    designers check it."""
+    from lotwise.core.quantities import parse_count, parse_fraction
+
+    if key == "ratio":
+        v = parse_fraction(value, "--ratio")
+        if not v > 0:
+            raise InputError(f"--ratio ({value}) must be a number above 0")
+        return v
+    minimum = 0 if key == "c" else 1
+    return parse_count(value, "--" + key.replace("_", "-"), minimum=minimum)
 
 
 def design_misclassified(scheme: str, rates: ErrorRates, *, aql: float, rql: float,
@@ -416,10 +472,11 @@ def design_misclassified(scheme: str, rates: ErrorRates, *, aql: float, rql: flo
         return design_single_seen(rates, aql=aql, rql=rql, alpha=alpha, beta=beta,
                                   lot_size=lot_size, model=model, defects=defects, **options)
     if model == "hypergeometric":
-        raise InputError(f"--scheme ({scheme}): with --miss-rate/--false-alarm and a lot size "
-                         "only single plans are designed exactly; design a single plan, or "
-                         f"a {scheme} plan with --model binomial (a process), and check it "
-                         "with --lot-size")
+        raise InputError(f"--scheme ({scheme}): with --miss-rate/--false-alarm/--study and a "
+                         "lot size only single plans are designed (a finite-lot design of "
+                         f"this family has no exact error model yet); design a single plan, or "
+                         f"a {scheme} plan with --model binomial (a process) and judge it "
+                         "exactly in the lot with check --lot-size and the same rates")
     from lotwise.core.search import check_targets
     from lotwise.core.types import Targets
 
@@ -515,7 +572,19 @@ def design_single_seen(rates: ErrorRates, *, aql, rql, alpha=0.05, beta=0.10, lo
         if a <= alpha + TOL:
             return result(nm, c)
         raise short(nm, f"c = {c}", fixed_c=c)
-    start, width = 0, 8
+    nn, cc = _smallest_seen(kernel, alpha, beta, cap, defects, short)
+    return result(nn, cc)
+
+
+def _smallest_seen(kernel, alpha, beta, cap, defects, short) -> tuple[int, int]:
+    """``(n, c)``: the smallest ``c`` whose smallest ``n`` meeting beta also meets alpha,
+    in blocks of increasing ``c`` from the first ``c`` not ruled out by
+    :func:`_ruled_out`; ``short(n, what)`` builds the error when none fits the cap."""
+    from lotwise.core.quantities import Infeasible
+    from lotwise.core.search import n_min
+    from lotwise.core.types import TOL
+
+    start, width = _ruled_out(kernel, alpha, beta, cap), 8
     while True:
         stop = start + width if cap is None or defects else min(start + width, cap + 1)
         if stop <= start:
@@ -528,9 +597,44 @@ def design_single_seen(rates: ErrorRates, *, aql, rql, alpha=0.05, beta=0.10, lo
             ok[have] = kernel.at_aql(nm[have], cs[have]) >= 1.0 - alpha - TOL
         if ok.any():
             i = int(np.argmax(ok))
-            return result(nm[i], cs[i])
+            return int(nm[i]), int(cs[i])
         if cap is not None and not have[-1]:
             raise short(cap, f"n <= {cap}")
         start, width = stop, width * 2
         if start > 10_000_000:
             raise Infeasible("no plan found with an acceptance number below 10,000,000")
+
+
+def _ruled_out(kernel, alpha, beta, cap) -> int:
+    """The number of acceptance numbers ``0, 1, ...`` shown not to give the design
+    without their own search (finite lot; 0 under the other models).
+
+    The binomial design at the apparent levels brackets the finite-lot one (sampling
+    a finite lot varies less). For each ``c`` below its acceptance number, one sample
+    size ``L`` (nine tenths of the binomial ``n_min(c)``) is tried: when ``Pa`` at the
+    RQL still exceeds beta there, ``n_min(c) > L``, and when ``Pa`` at the AQL is
+    already below ``1 - alpha`` there it is lower still at ``n_min(c)`` (``Pa`` falls
+    in ``n``), so ``c`` cannot meet both risks. Exact: nothing is assumed of ``c``s
+    not so shown.
+    """
+    from lotwise.core.search import n_min
+    from lotwise.core.types import TOL
+
+    if kernel.model != "hypergeometric":
+        return 0
+    cs = np.arange(0, 64, dtype=np.int64)
+    nb = n_min(kernel.plain, cs, beta, cap)
+    have = nb >= 0
+    good = np.zeros_like(have)
+    good[have] = kernel.plain.at_aql(nb[have], cs[have]) >= 1.0 - alpha - TOL
+    if not good.any():
+        return 0
+    cs = cs[:int(np.argmax(good))]
+    if cs.size == 0:
+        return 0
+    trial = np.maximum((0.9 * nb[:cs.size]).astype(np.int64), cs + 1)
+    if cap is not None:
+        trial = np.minimum(trial, cap)
+    shown = ((kernel.at_rql(trial, cs) > beta + TOL)
+             & (kernel.at_aql(trial, cs) < 1.0 - alpha - TOL))
+    return int(cs.size if shown.all() else np.argmin(shown))

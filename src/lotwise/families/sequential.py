@@ -908,7 +908,7 @@ def report_extras(plan, targets, scope: Scope, model: str, report: dict) -> dict
     }
 
 
-def oc_columns(plan, ps, model: str, scope: Scope) -> dict:
+def oc_columns(plan, ps, model: str, scope: Scope, counts=None) -> dict:
     """Wald's approximate OC and ASN beside the exact truncated plan."""
     return {"wald_pa": plan.wald_pa(ps, scope.defects), "wald_asn": plan.wald_asn(ps, scope.defects)}
 

@@ -46,16 +46,20 @@ from lotwise.web.query import MAX_QUERY, Query
 __all__ = ["create_app", "is_loopback", "make_server", "ENDPOINTS"]
 
 _COMMON = {"aql", "rql", "alpha", "beta", "lot_size", "model", "defects"}
-_DESIGN = _COMMON | {"scheme", "c", "n", "max_n", "minimize", "process_average", "aoql",
-                     "aoq_formula", "sigma", "sigma_value", "limit", "lower", "upper", "ratio",
-                     "truncate", "f", "i"}
-_CHECK = _COMMON | {"plan", "n", "c", "aoq_formula", "skip_lot", "at", "run_length"}
-_OC = {"plan", "n", "c", "lot_size", "model", "defects", "max_p", "points", "at", "aql", "rql"}
-_COMPARE = _COMMON | {"plan", "designed"}
+_RATES = {"miss_rate", "false_alarm", "study"}  # inspection errors, as on the command line
+_DESIGN_BASE = _COMMON | {"scheme", "c", "n", "max_n", "minimize", "process_average", "aoql",
+                          "aoq_formula", "sigma", "sigma_value", "limit", "lower", "upper",
+                          "ratio", "truncate", "f", "i"}
+_DESIGN = _DESIGN_BASE | _RATES
+_CHECK = _COMMON | _RATES | {"plan", "n", "c", "aoq_formula", "skip_lot", "at", "run_length"}
+_OC_BASE = {"plan", "n", "c", "lot_size", "model", "defects", "max_p", "points", "at", "aql",
+            "rql"}
+_OC = _OC_BASE | _RATES
+_COMPARE = _COMMON | _RATES | {"plan", "designed"}
 _TRADEOFF = {"aql", "rql", "alpha", "beta", "lot_size", "model", "process_average",
              "deliveries_per_year"}
 _OUTLOOK = {"plan", "process_average", "deliveries_per_year", "defects"}
-_SHEET = _DESIGN | {"plan", "part", "supplier"}
+_SHEET = _DESIGN_BASE | {"plan", "part", "supplier"}
 
 #: ``name -> (task in lotwise.web.workers.TASKS, allowed parameters, repeatable ones)``.
 ENDPOINTS = {
@@ -70,7 +74,7 @@ DOWNLOADS = {
     "sheet.pdf": ("sheet.pdf", _SHEET, ("f",)),
     "sheet.md": ("sheet.md", _SHEET, ("f",)),
     "plan.toml": ("plan.toml", _SHEET, ("f",)),
-    "oc.csv": ("oc.csv", _OC, ("at",)),
+    "oc.csv": ("oc.csv", _OC_BASE, ("at",)),
 }
 STATIC = {"app.js": "text/javascript; charset=utf-8", "style.css": "text/css; charset=utf-8",
           "index.html": "text/html; charset=utf-8"}

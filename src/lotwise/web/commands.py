@@ -20,7 +20,8 @@ from lotwise.core.quantities import (InputError, Infeasible, parse_count, parse_
                                      parse_risk)
 
 __all__ = ["Reply", "Refused", "design", "plan_from", "bounded", "lot_size_option",
-           "levels_options", "risk_options", "scope_and_model", "csp_refuse", "csp_model"]
+           "levels_options", "risk_options", "scope_and_model", "csp_refuse", "csp_model",
+           "error_rates", "with_rates", "judged"]
 
 @dataclass(frozen=True, kw_only=True)
 class Reply:
@@ -121,11 +122,65 @@ def design(q) -> Reply:
              defects=q.flag("defects"), f=q.many("f"))
     from lotwise.families.base import designable
 
+    rates = error_rates(q)
     scheme = o["scheme"]
     names = list(DESIGNERS) + [f for f in designable() if f not in DESIGNERS]
     if scheme not in names:
         raise InputError(f"--scheme ({scheme}) must be one of: {', '.join(names)}")
+    if rates is not None:  # the true risks held under inspection errors
+        return _design_with_errors(o, rates)
     return DESIGNERS.get(scheme, _design_registered)(o)
+
+
+def error_rates(q):
+    """The rates of ``miss_rate``, ``false_alarm`` or ``study`` (None without), read as the
+    command line reads ``--miss-rate``, ``--false-alarm`` and ``--study``."""
+    from lotwise.core.inspection import read_rates
+
+    return read_rates(q.get("miss_rate"), q.get("false_alarm"), q.get("study"))
+
+
+def _design_with_errors(o, rates) -> Reply:
+    """``lotwise design ... --miss-rate/--false-alarm/--study --json``."""
+    from lotwise.analysis.assess import assess
+    from lotwise.core.types import Targets
+    from lotwise.families.misclassified import (DESIGN_TAKES, design_misclassified,
+                                                option_value, refuse_options)
+
+    scheme = o["scheme"]
+    refuse_options(scheme, [("csp_" + k if k in ("f", "i") else k, o.get(k))
+                            for k in _SCHEME_OPTIONS])
+    a, r = levels_options(o["aql"], o["rql"], o["defects"])
+    al, be = risk_options(o["alpha"], o["beta"])
+    scope, mdl = scope_and_model(o["lot_size"], o["defects"], o["model"])
+    options = {k: option_value(k, o[k]) for k in DESIGN_TAKES.get(scheme, ())
+               if o.get(k) is not None}
+    targets = Targets(aql=a, rql=r, alpha=al, beta=be)
+    try:
+        d = design_misclassified(scheme, rates, aql=a, rql=r, alpha=al, beta=be,
+                                 lot_size=scope.lot_size, model=mdl, defects=o["defects"],
+                                 **options)
+    except Infeasible as exc:
+        _infeasible(exc, {"scheme": scheme, "model": mdl, "lot_size": scope.lot_size,
+                          "targets": targets.as_dict(), "inspection_error": rates.as_dict()})
+    return Reply(body=with_rates(assess(d.plan, targets, scope, d.model, design=d).to_json(),
+                                 rates))
+
+
+def with_rates(rep: dict, rates) -> dict:
+    """``inspection_error`` in a report whose plan was not wrapped (both rates zero)."""
+    if rates is not None and "inspection_error" not in rep:
+        rep["inspection_error"] = rates.as_dict()
+    return rep
+
+
+def judged(p, rates, scope):
+    """``p`` (fitted to ``scope``) judged under ``rates`` (unchanged without)."""
+    if rates is None:
+        return p
+    from lotwise.families.misclassified import wrap
+
+    return wrap(p, rates).for_scope(scope)
 
 
 #: Options a family without a designer function of its own here cannot take.

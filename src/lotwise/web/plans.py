@@ -8,8 +8,9 @@ See :mod:`lotwise.web.commands` for the rules these follow.
 from __future__ import annotations
 
 from lotwise.core.quantities import InputError, parse_level, parse_rate
-from lotwise.web.commands import (Refused, Reply, csp_model, csp_refuse, levels_options,
-                                  lot_size_option, risk_options, scope_and_model, plan_from)
+from lotwise.web.commands import (Refused, Reply, csp_model, csp_refuse, error_rates, judged,
+                                  levels_options, lot_size_option, risk_options,
+                                  scope_and_model, plan_from, with_rates)
 
 __all__ = ["check", "oc", "compare", "tradeoff", "outlook"]
 
@@ -25,12 +26,15 @@ def check(q) -> Reply:
     aoq_formula, skip_lot = q.get("aoq_formula"), q.get("skip_lot")
     at, run_length = q.many("at"), q.get("run_length")
     p = plan_from(q.get("plan"), q.get("n"), q.get("c"))
+    rates = error_rates(q)
     if p.evaluation == "flow":
         from lotwise.analysis.outputs import csp_check
 
         csp_refuse(p.scheme, {"--aql": aql, "--rql": rql, "--lot-size": lot,
                                "--defects": defects, "--aoq-formula": aoq_formula,
-                               "--skip-lot": skip_lot})
+                               "--skip-lot": skip_lot, "--miss-rate": q.get("miss_rate"),
+                               "--false-alarm": q.get("false_alarm"),
+                               "--study": q.get("study")})
         csp_model(model)
         return Reply(body=csp_check(p, at=at, run_length=run_length))
     for opt, val in (("--at", at), ("--run-length", run_length)):
@@ -38,7 +42,7 @@ def check(q) -> Reply:
             raise InputError(f"{opt} ({val if opt == '--run-length' else ', '.join(val)}) "
                              "applies to continuous sampling plans (csp1, csp2, csp3)")
     if p.evaluation == "process":
-        return _check_variables(p, aql, rql, alpha, beta)
+        return _check_variables(p, aql, rql, alpha, beta, rates)
     p, layer = p.audit_parts()  # a skip-lot plan: its reference plan with --skip-lot
     if layer is not None:
         if skip_lot is not None:
@@ -49,13 +53,15 @@ def check(q) -> Reply:
     al, be = risk_options(alpha, beta)
     scope, mdl = scope_and_model(lot, defects, model)
     p.check_scope(scope)
+    if rates is not None:  # judged at the true quality
+        p = judged(p.for_scope(scope), rates, scope)
     if not r > a:
         _out_of_order(a, r, defects)
     if aoq_formula is not None and not scope.lot_size:
         raise InputError(f"--aoq-formula ({aoq_formula}) needs --lot-size (AOQ and ATI are "
                          "computed for lots of a known size)")
     targets = Targets(aql=a, rql=r, alpha=al, beta=be)
-    rep = assess(p, targets, scope, mdl, aoq_formula=aoq_formula).to_json()
+    rep = with_rates(assess(p, targets, scope, mdl, aoq_formula=aoq_formula).to_json(), rates)
     if skip_lot is not None:
         rep = _skip_lot(rep, p, scope, mdl, targets, skip_lot, aoq_formula)
     meets = rep["meets"] and rep.get("skip_lot", {}).get("meets", True)
@@ -70,12 +76,13 @@ def _out_of_order(a, r, defects):
                   {"feasible": False, "reason": "rql must be above aql"})
 
 
-def _check_variables(p, aql, rql, alpha, beta) -> Reply:
+def _check_variables(p, aql, rql, alpha, beta, rates=None) -> Reply:
     from lotwise.analysis.assess import assess
     from lotwise.core.types import Scope, Targets
 
     a, r = levels_options(aql, rql, False)
     al, be = risk_options(alpha, beta)
+    judged(p, rates, Scope())  # refused: a gauge's error is --measurement-sd
     if not r > a:
         _out_of_order(a, r, False)
     rep = assess(p, Targets(aql=a, rql=r, alpha=al, beta=be), Scope()).to_json()
@@ -110,20 +117,26 @@ def oc(q) -> Reply:
     aql, rql, at = q.get("aql"), q.get("rql"), q.many("at")
     max_p, points = q.get("max_p"), q.get("points", "21")
     p = plan_from(q.get("plan"), q.get("n"), q.get("c"))
+    rates = error_rates(q)
     if p.evaluation == "flow":
         csp_refuse(p.scheme, {"--lot-size": lot, "--defects": defects, "--aql": aql,
-                               "--rql": rql})
+                               "--rql": rql, "--miss-rate": q.get("miss_rate"),
+                               "--false-alarm": q.get("false_alarm"),
+                               "--study": q.get("study")})
         csp_model(model)
         return Reply(body=outputs.csp_oc(p, outputs.csp_grid(p, max_p=max_p, points=points,
                                                                at=at)))
     if p.evaluation == "process":
+        judged(p, rates, None)  # refused: a gauge's error is --measurement-sd
         _a, r = levels_options(aql, rql, False, need=False)
         return Reply(body=outputs.variables_oc(p, max_p=max_p, points=points, at=at, rql=r))
     scope, mdl = scope_and_model(lot, defects, model)
     p.check_scope(scope)
+    if rates is not None:  # Pa at the true quality
+        p = judged(p.for_scope(scope), rates, scope)
     a, r = levels_options(aql, rql, defects, need=False)
     ps = outputs.attribute_grid(p, scope, mdl, max_p=max_p, points=points, at=at, rql=r)
-    return Reply(body=outputs.attribute_oc(p, scope, mdl, ps, aql=a, rql=r))
+    return Reply(body=with_rates(outputs.attribute_oc(p, scope, mdl, ps, aql=a, rql=r), rates))
 
 
 def compare(q) -> Reply:
@@ -133,6 +146,11 @@ def compare(q) -> Reply:
     from lotwise.families.base import parse_plan
 
     plans, designed, defects = q.many("plan"), q.flag("designed"), q.flag("defects")
+    rates = error_rates(q)
+    if rates is not None and designed:
+        raise InputError("--miss-rate/--false-alarm/--study apply to the --plan entries of "
+                         "compare, not to --designed or plan files (a plan file states its "
+                         "rates in its [inspection] table)")
     entries = []
     if plans or designed:
         a, r = levels_options(q.get("aql"), q.get("rql"), defects)
@@ -155,11 +173,14 @@ def compare(q) -> Reply:
             if scope.lot_size and p.max_sample > scope.lot_size:
                 raise InputError(f"--plan #{i} ({text}): the plan inspects up to "
                                  f"{p.max_sample} units, more than --lot-size ({scope.lot_size})")
+            if rates is not None:
+                p = judged(p.for_scope(scope), rates, scope)
             entries.append((p.label, p, targets, scope, mdl))
     if len(entries) < 2:
         raise InputError("compare needs at least two plans: give --plan twice or more, or plan "
                          "files")
-    return Reply(body={"plans": compare_plans(entries)})
+    body = {"plans": compare_plans(entries)}
+    return Reply(body=with_rates(body, rates) if rates else body)
 
 
 def tradeoff(q) -> Reply:

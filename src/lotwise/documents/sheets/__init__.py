@@ -72,11 +72,10 @@ def write_sheets(pp, out_dir, *, force: bool = False, today=None) -> dict:
                                    option="sheet", dpi=150)
         if "aoql" in pp.reports[0]:
             from lotwise.documents.plots.rectifying import rectifying_figure
-            from lotwise.families.single import SinglePlan
 
             rep = pp.reports[0]
             paths["rectifying_png"] = save_figure(
-                rectifying_figure(SinglePlan(n=rep["n"], c=rep["c"]), req.scope,
+                rectifying_figure(pp.plans[0], req.scope,
                                   aql=rep["targets"]["aql"], rql=rep["targets"]["rql"]),
                 out / f"{stem}-oc-aoq-ati.png", force=force, option="sheet", dpi=110)
         if picks is not None:

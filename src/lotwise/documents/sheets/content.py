@@ -17,7 +17,8 @@ from lotwise.core.quantities import format_level, format_pct
 from lotwise.core.version import __version__
 
 __all__ = ["CAUTION", "DEFAULT_REJECTED", "MODEL_TEXT", "PLAN_HEADER", "RISK_HEADER",
-           "SheetContent", "alternatives", "build_content", "fmt_pa", "oc_rows", "plan_name"]
+           "SheetContent", "alternatives", "build_content", "error_free", "fmt_pa", "oc_rows",
+           "plan_name"]
 
 CAUTION = (
     "Sampling inspection judges lots; it cannot guarantee that an accepted lot is free of "
@@ -77,6 +78,14 @@ class SheetContent:
     alternatives: str = ""
 
 
+def error_free(plan):
+    """The plan as a perfect inspection would judge it, when ``plan`` is judged with
+    inspection errors; else None."""
+    from lotwise.families.misclassified import MisclassifiedPlan
+
+    return plan.inner if isinstance(plan, MisclassifiedPlan) else None
+
+
 def _lvl(x, per_unit):
     return format_level(x, per_unit)
 
@@ -92,8 +101,8 @@ def alternatives(pp) -> str:
     """The trade-off view in one sentence: for the first designed attributes
     characteristic, the double and sequential plans for the same two risk
     points and their average sample numbers beside the single plan."""
-    if not pp.designed or pp.n is None:
-        return ""
+    if not pp.designed or pp.n is None or getattr(pp.request, "inspection", None) is not None:
+        return ""  # (with inspection errors the trade-off view would assume none)
     single = {r["characteristic"]["id"] for r in pp.reports
               if not r.get("own_sample")}  # judged on the part's common sample
     ch = next((c for c in pp.request.characteristics if c.id in single and c.c is None), None)
@@ -142,6 +151,11 @@ def _scope_rows(req) -> list:
     rows.append(("Lot", (req.lot_definition + "; " if req.lot_definition else "")
                  + f"lot size {lot}"))
     rows.append(("Counted", counted))
+    if getattr(req, "inspection", None) is not None:
+        rows.append(("Inspection", req.inspection.describe()[0].upper()
+                     + req.inspection.describe()[1:] + "; every risk, curve and AOQ on this "
+                     "sheet is at the true quality, the plan counting what the inspection "
+                     "flags"))
     rows.append(("Characteristics", "; ".join(
         f"{c.id} {c.description} [{c.klass}]".replace("  ", " ") for c in req.characteristics)))
     return rows
@@ -171,7 +185,20 @@ def _risk_rows(rep) -> list:
         rows.append([ch["id"], m + star, fmt_pa(r["pa_aql"]), format_pct(r["alpha"]),
                      format_pct(t["alpha"]), fmt_pa(r["pa_rql"]), format_pct(r["beta"]),
                      format_pct(t["beta"]), "meets" if r["meets"] else "SHORT"])
+    info = rep.get("inspection_error", {})
+    for key, name in (("at_upper", "upper bounds"), ("error_free", "perfect insp.")):
+        r = info.get(key)
+        if r:  # the same plan at the study's upper bounds / as an error-free sheet says
+            rows.append([ch["id"], name, fmt_pa(r["pa_aql"]),
+                         _pct_cell(r["alpha"]), format_pct(t["alpha"]), fmt_pa(r["pa_rql"]),
+                         _pct_cell(r["beta"]), format_pct(t["beta"]),
+                         "meets" if r["meets"] else "SHORT"])
     return rows
+
+
+def _pct_cell(x: float) -> str:
+    """A risk in a narrow table cell: below 0.001 % written as a bound."""
+    return "< 0.001 %" if 0 < x < 1e-5 else format_pct(x)
 
 
 def _guarantees(rep, per_unit: bool) -> list:
@@ -206,6 +233,38 @@ def _guarantees(rep, per_unit: bool) -> list:
             f"{ch['id']}, rejected lots screened 100 %: AOQL {format_pct(rep['aoql'], 3)} "
             f"(reached at {_lvl(rep['aoql_p'], per_unit)}); average items inspected per lot "
             f"{rep['ati']['aql']:,.0f} at the AQL, {rep['ati']['rql']:,.0f} at the RQL.")
+    return out + _error_sentences(rep)
+
+
+def _error_sentences(rep) -> list:
+    """What inspection errors do to one characteristic's risks, in words."""
+    info = rep.get("inspection_error")
+    if not info:
+        return []
+    cid, m = rep["characteristic"]["id"], rep["models"][rep["model"]]
+    out = []
+    free = info.get("error_free")
+    if free:
+        out.append(f"{cid}, inspection errors: at the true quality alpha is "
+                   f"{format_pct(m['alpha'])} and beta {format_pct(m['beta'])}; with a perfect "
+                   f"inspection the same plan would carry alpha {format_pct(free['alpha'])} and "
+                   f"beta {format_pct(free['beta'])} (the curve marked 'with a perfect inspection').")
+    up = info.get("at_upper")
+    if up:
+        out.append(f"{cid}, at the study's one-sided 95 % upper bounds (miss rate "
+                   f"{format_pct(info['miss_rate_upper'])}, false-alarm rate "
+                   f"{format_pct(info['false_alarm_upper'])}): alpha {format_pct(up['alpha'])}, "
+                   f"beta {format_pct(up['beta'])}"
+                   + ("" if up["meets"] else ": the targets are NOT met there; study more "
+                      "items or improve the inspection") + ".")
+    elif "at_upper" in info:
+        out.append(f"{cid}: at the study's upper bounds the two rates add up to 1 or more "
+                   "(the inspection might carry no information); study more items.")
+    if "aoql" in rep and info["miss_rate"] > 0:
+        out.append(f"{cid}: screening misses nonconforming items too, so the AOQL is the peak "
+                   "over the levels the plan sentences; a very bad lot is not cleaned up by "
+                   f"screening (about {format_pct(info['miss_rate'])} of its nonconforming "
+                   "items stay).")
     return out
 
 
@@ -252,6 +311,12 @@ def _model_note(pp) -> str:
     scope = pp.request.scope
     model = pp.model or (scope.exact_model)
     note = f"Model judged by: {MODEL_TEXT.get(model, model)} (marked *)."
+    rates = getattr(pp.request, "inspection", None)
+    if rates is not None:
+        note += (" Rows 'perfect insp.': the same plan under that model if the inspection "
+                 "never erred (what a sheet without inspection errors would state)"
+                 + ("; rows 'upper bounds': at the study's one-sided 95 % upper bounds on both "
+                    "rates." if rates.has_bounds else "."))
     if scope.lot_size and any("lot_counts" in r for r in pp.reports):
         parts = []
         for rep in (r for r in pp.reports if "lot_counts" in r):
@@ -364,6 +429,11 @@ def oc_rows(pp, points: int = 41):
         else:
             header.append(f"{rep['characteristic']['id']}_{rep['model']}")
             cols.append(np.asarray(plan.pa(ps, rep["model"], scope), dtype=float))
+        inner = error_free(plan)
+        if inner is not None:  # the same plan with a perfect inspection (a finite lot's
+            # rows are whole counts D/N, so no level is rounded)
+            header.append(f"{rep['characteristic']['id']}_error_free_{rep['model']}")
+            cols.append(np.asarray(inner.pa(ps, rep["model"], scope), dtype=float))
     if lot_count is not None:
         header.append("lot_count")
         cols.append(lot_count)
