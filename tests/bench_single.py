@@ -130,3 +130,14 @@ def _refused():
 
 CASES.append({"name": "design single, AQL 1e-20: a clear error", "func": _refused,
               "goal_ms": 1000, "repeat": 5})
+
+# Cold start of every design scheme against the same baseline.
+for _scheme, _extra in (("double", []), ("multiple", []), ("sequential", []), ("chain", []),
+                        ("variables", ["--sigma", "unknown"])):
+    _cmd = [sys.executable, "-m", "lotwise", "design", "--scheme", _scheme, "--aql", "1%",
+            "--rql", "6%", "--json", *_extra]
+    CASES.append({
+        "name": f"cold `lotwise design --scheme {_scheme} --json` (AQL 1 %/RQL 6 %) vs the "
+                "same baseline (goal ratio >= 0.77)",
+        "func": (lambda cmd=_cmd: _cold(cmd)), "baseline": lambda: _cold(_BASE),
+        "ratio_goal": 0.77, "repeat": 5, "baseline_repeat": 5})
