@@ -131,8 +131,9 @@ def _refused():
 CASES.append({"name": "design single, AQL 1e-20: a clear error", "func": _refused,
               "goal_ms": 1000, "repeat": 5})
 
-# Cold start of every design scheme against the same baseline.
-for _scheme, _extra in (("double", []), ("multiple", []), ("sequential", []), ("chain", []),
+# Cold start of every design scheme against the same baseline (there is no
+# multiple-plan designer; the chain designer finds no plan at these targets).
+for _scheme, _extra in (("double", []), ("sequential", []),
                         ("variables", ["--sigma", "unknown"])):
     _cmd = [sys.executable, "-m", "lotwise", "design", "--scheme", _scheme, "--aql", "1%",
             "--rql", "6%", "--json", *_extra]
