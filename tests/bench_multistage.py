@@ -30,3 +30,45 @@ CASES = [
      "func": lambda: design_double(aql=0.01, rql=0.05, lot_size=1000), "goal_ms": 1000,
      "repeat": 5},
 ]
+
+# Long truncation: the walk stops per level once the undecided mass is below
+# 1e-15; the memory is the band of counts times the levels, not the units.
+LONG = SequentialPlan(h1=H1, h2=H2, s=S, truncate=100_000)
+
+
+def _long_with_memory():
+    import tracemalloc
+
+    tracemalloc.start()
+    try:
+        LONG.oc_asn(PS, "binomial", Scope())
+        peak = tracemalloc.get_traced_memory()[1]
+    finally:
+        tracemalloc.stop()
+    if peak > 100e6:
+        raise AssertionError(f"peak memory {peak / 1e6:.0f} MB is above 100 MB")
+
+
+def _design_sequential_cli():
+    import subprocess
+    import sys
+
+    subprocess.run([sys.executable, "-m", "lotwise", "design", "--scheme", "sequential",
+                    "--aql", "1%", "--rql", "5%", "--truncate", "100000", "--json"],
+                   check=True, capture_output=True)
+
+
+CASES += [
+    {"name": "sequential exact OC+ASN, truncated at 100,000, 200 levels, binomial",
+     "func": lambda: LONG.oc_asn(PS, "binomial", Scope()), "goal_ms": 200, "repeat": 5},
+    {"name": "sequential exact OC+ASN, truncated at 100,000, 200 levels, hypergeometric "
+             "(lot 1,000,000)",
+     "func": lambda: LONG.oc_asn(PS, "hypergeometric", Scope(lot_size=1_000_000)),
+     "goal_ms": 200, "repeat": 5},
+    {"name": "same, binomial, with tracemalloc (fails above 100 MB peak)",
+     "func": _long_with_memory, "repeat": 3},
+    {"name": "`lotwise design --scheme sequential --truncate 100000 --json` (cold)",
+     "func": _design_sequential_cli, "goal_ms": 2000, "repeat": 3},
+    {"name": "double-plan designer, AQL 1 %/RQL 1.5 %, binomial",
+     "func": lambda: design_double(aql=0.01, rql=0.015), "goal_ms": 1000, "repeat": 1},
+]

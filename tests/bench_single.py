@@ -71,3 +71,74 @@ CASES.append({
     "func": lambda: _cold(_CLI), "baseline": lambda: _cold(_BASE), "ratio_goal": 0.77,
     "repeat": 7, "baseline_repeat": 7,
 })
+
+
+# --- single design near the limit: time, and CDF evaluations beside the
+# (c + 1) log2 n cost of scanning every acceptance number up to the answer.
+
+def _evaluations(kw):
+    """CDF evaluations of one design (the kernel counts them) and the bound."""
+    import math
+
+    from lotwise.core import search
+
+    seen = []
+    real = search.Kernel.__init__
+
+    def spy(self, *a, **k):
+        real(self, *a, **k)
+        seen.append(self)
+
+    search.Kernel.__init__ = spy
+    try:
+        d = design_single(**kw)
+    finally:
+        search.Kernel.__init__ = real
+    return seen[-1].evaluations, (d.c + 1) * math.log2(d.n), d
+
+
+NEAR = [
+    ("binomial, AQL 1 %/RQL 1.05 %", dict(aql=0.01, rql=0.0105), 50),
+    ("Poisson (per unit), AQL 1 %/RQL 1.05 %", dict(aql=0.01, rql=0.0105, defects=True), 50),
+    ("hypergeometric, lot 10^9, AQL 1 %/RQL 1.05 %",
+     dict(aql=0.01, rql=0.0105, lot_size=10**9), 50),
+    ("hypergeometric, lot 10^6, AQL 0.1 %/RQL 0.15 %",
+     dict(aql=0.001, rql=0.0015, lot_size=10**6), 50),
+    ("binomial, AQL 1 %/RQL 6 %", dict(aql=0.01, rql=0.06), 50),
+    ("binomial, AQL 1 %/RQL 1.01 %", dict(aql=0.01, rql=0.0101), 1000),
+    ("hypergeometric, lot 10^9, AQL 1 %/RQL 1.02 %",
+     dict(aql=0.01, rql=0.0102, lot_size=10**9), 1000),
+]
+
+for _label, _kw, _goal in NEAR:
+    _ev, _bound, _d = _evaluations(_kw)
+    CASES.append({
+        "name": f"design single, {_label} (n = {_d.n:,}, c = {_d.c:,}; {_ev:,} CDF evaluations, "
+                f"(c + 1) log2 n = {_bound:,.0f})",
+        "func": (lambda kw=_kw: design_single(**kw)), "goal_ms": _goal, "repeat": 5})
+
+
+def _refused():
+    from lotwise.core.quantities import Infeasible
+
+    try:
+        design_single(aql=1e-20, rql=2e-20)
+    except Infeasible:
+        return
+    raise AssertionError("AQL 1e-20 was not refused")
+
+
+CASES.append({"name": "design single, AQL 1e-20: a clear error", "func": _refused,
+              "goal_ms": 1000, "repeat": 5})
+
+# Cold start of every design scheme against the same baseline (there is no
+# multiple-plan designer; the chain designer finds no plan at these targets).
+for _scheme, _extra in (("double", []), ("sequential", []),
+                        ("variables", ["--sigma", "unknown"])):
+    _cmd = [sys.executable, "-m", "lotwise", "design", "--scheme", _scheme, "--aql", "1%",
+            "--rql", "6%", "--json", *_extra]
+    CASES.append({
+        "name": f"cold `lotwise design --scheme {_scheme} --json` (AQL 1 %/RQL 6 %) vs the "
+                "same baseline (goal ratio >= 0.77)",
+        "func": (lambda cmd=_cmd: _cold(cmd)), "baseline": lambda: _cold(_BASE),
+        "ratio_goal": 0.77, "repeat": 5, "baseline_repeat": 5})

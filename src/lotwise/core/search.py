@@ -37,12 +37,17 @@ from lotwise.core import kernels as oc
 from lotwise.core.quantities import Infeasible, format_level, format_pct
 from lotwise.core.types import TOL, Scope, Targets, lot_targets
 
-__all__ = ["Kernel", "n_min", "c_min", "count_at", "count_level", "invert_level", "check_targets",
-           "check_lot", "initial_upper", "maximise_over_levels"]
+__all__ = ["Kernel", "n_min", "n_max", "c_min", "smallest_plan", "count_at", "count_level",
+           "invert_level", "check_targets", "check_lot", "initial_upper", "last_true",
+           "maximise_over_levels"]
 
 
 class Kernel:
-    """``Pa`` at the AQL and at the RQL for arrays of ``n`` and ``c``."""
+    """``Pa`` at the AQL and at the RQL for arrays of ``n`` and ``c``.
+
+    ``evaluations`` counts the acceptance probabilities computed (one per
+    element of each call), so that benchmarks can show the cost of a search.
+    """
 
     def __init__(self, model: str, targets: Targets, scope: Scope):
         self.model = model
@@ -51,6 +56,7 @@ class Kernel:
         #: Nonconformities per unit: ``c`` may exceed ``n`` and ``n = c`` does
         #: not accept every lot.
         self.per_unit = scope.defects
+        self.evaluations = 0
         if model == "hypergeometric":
             self.d1, self.d2 = lot_targets(targets, self.N)
 
@@ -60,7 +66,37 @@ class Kernel:
     def at_rql(self, n, c):
         return self._pa(n, c, self.t.rql, "d2")
 
+    def level(self, which: str) -> float:
+        """The quality level at the AQL (``"aql"``) or RQL as a fraction (lot
+        counts over the lot size under the hypergeometric model)."""
+        if self.model == "hypergeometric":
+            return (self.d1 if which == "aql" else self.d2) / self.N
+        return self.t.aql if which == "aql" else self.t.rql
+
+    def n_limit(self, cap: int | None) -> int:
+        """Largest sample size any search may return: the cap, the lot size
+        and :data:`MAX_SAMPLE`, whichever is smallest."""
+        limit = MAX_SAMPLE if cap is None else min(int(cap), MAX_SAMPLE)
+        if self.model == "hypergeometric":
+            limit = min(limit, int(self.N))
+        return limit
+
+    def guess_n(self, c, prob: float, which: str) -> np.ndarray:
+        """Approximate sample size where ``Pa`` at the AQL or RQL equals
+        ``prob`` for each ``c`` (Poisson quantile over ``-log(1 - p)``, with a
+        finite-lot correction); only a starting point for exact searches."""
+        p = self.level(which)
+        lam = special.gammainccinv(np.asarray(c, dtype=float) + 1.0, prob)
+        if p <= 0.0:
+            return np.full(np.shape(lam), float(MAX_SAMPLE))
+        rate = p if self.per_unit or p >= 1.0 else -math.log1p(-p)
+        n = lam / rate
+        if self.model == "hypergeometric":
+            n = n * self.N / (self.N + n)
+        return np.minimum(n, float(MAX_SAMPLE))
+
     def _pa(self, n, c, level, count):
+        self.evaluations += int(np.size(np.broadcast(n, c)))
         if self.model == "binomial":
             return np.asarray(oc.pa_binomial(n, c, level))
         if self.model == "poisson":
@@ -70,64 +106,268 @@ class Kernel:
 
 def initial_upper(kernel: Kernel, c: np.ndarray, beta: float) -> np.ndarray:
     """A first guess at a sample size meeting the consumer's risk for each
-    ``c``, from the Poisson approximation; :func:`n_min` checks it and
-    doubles it (up to the cap) where it falls short."""
-    lam = special.gammainccinv(c + 1.0, beta)  # Poisson mean with Pa = beta
-    guess = np.ceil(1.05 * lam / kernel.t.rql) + 2
+    ``c``, from the Poisson approximation (a starting point only)."""
+    guess = np.ceil(1.05 * kernel.guess_n(c, beta, "rql")) + 2
     guess = np.minimum(np.maximum(guess, c + 1), MAX_SAMPLE)  # no int64 overflow
     if kernel.model == "hypergeometric":
         guess = np.minimum(guess, kernel.N)
     return guess.astype(np.int64)
 
 
-def n_min(kernel: Kernel, c: np.ndarray, beta: float, cap: int | None) -> np.ndarray:
-    """Smallest ``n`` with ``Pa(RQL; n, c) <= beta`` for each ``c``; ``-1`` where
-    none exists up to ``cap`` (or the lot size).
+def last_true(test, lo: np.ndarray, guess: np.ndarray, limit: int,
+              spread: float = 0.01) -> np.ndarray:
+    """For each element, the largest ``n`` in ``[lo, limit]`` with ``test`` true,
+    where ``test(n, idx)`` (``idx`` the elements asked) is true up to some size
+    and false beyond it, and true at ``lo`` (not evaluated there).
 
-    Integer bisection: ``Pa`` falls in ``n`` (documented in :mod:`lotwise.core.kernels`).
+    Galloping from ``guess`` (first step ``spread`` times it, doubling) until the answer
+    is bracketed, then integer bisection; a good guess costs two or three
+    evaluations plus ``log2`` of 1 % of it. Every integer stays within
+    ``[0, limit]``, and ``limit <= MAX_SAMPLE`` keeps it far from int64 overflow.
     """
-    c = np.asarray(c, dtype=np.int64)
-    hi = initial_upper(kernel, c, beta)
-    limit = cap if cap is not None else None
-    if kernel.model == "hypergeometric":
-        limit = kernel.N if limit is None else min(limit, kernel.N)
-    if limit is not None:
-        hi = np.minimum(hi, limit)
-    ok = kernel.at_rql(hi, c) <= beta + TOL
-    # Grow the bracket where the guess was too small (binomial/poisson only).
+    lo = np.asarray(lo, dtype=np.int64).copy()
+    hi = np.full_like(lo, int(limit) + 1)  # beyond the limit: taken as false, not evaluated
+    g = np.nan_to_num(np.asarray(guess, dtype=float), nan=0.0, posinf=float(limit))
+    g = np.clip(np.floor(g), 0.0, float(limit)).astype(np.int64)
+    step = np.maximum(1, (spread * g).astype(np.int64))
+    probe = g.copy()
+    way = np.zeros_like(lo)  # 0: first probe; +1: probes true so far; -1: false so far
+    open_ = np.ones(lo.shape, dtype=bool)
     while True:
-        grow = ~ok & (hi < MAX_SAMPLE)
-        if limit is not None:
-            grow &= hi < limit
-        if not grow.any():
+        probe = np.clip(probe, lo + 1, np.maximum(hi - 1, lo + 1))
+        open_ &= hi - lo > 1
+        if not open_.any():
             break
-        new = np.minimum(hi[grow] * 2, MAX_SAMPLE)
-        if limit is not None:
-            new = np.minimum(new, limit)
-        hi[grow] = new
-        ok[grow] = kernel.at_rql(hi[grow], c[grow]) <= beta + TOL
-    if kernel.per_unit:
-        lo = np.zeros_like(hi)  # n = 0 inspects nothing: Pa = 1 > beta
-    else:
-        lo = np.minimum(c, hi - 1)  # n = c accepts every lot of items, so Pa = 1 > beta
-    lo = np.maximum(lo, 0)
-    # A tighter lower end where the answer is not far below the bracket's top
-    # (checked: only a size whose Pa still exceeds beta may serve as ``lo``).
-    near = np.maximum(lo, (0.8 * hi).astype(np.int64))
-    try_ = ok & (near > lo) & (near < hi)
-    if try_.any():
-        above = kernel.at_rql(near[try_], c[try_]) > beta + TOL
-        idx = np.flatnonzero(try_)[above]
-        lo[idx] = near[idx]
-    act = ok & (hi - lo > 1)
+        idx = np.flatnonzero(open_)
+        p = probe[idx]
+        ok = np.asarray(test(p, idx), dtype=bool)
+        lo[idx] = np.where(ok, p, lo[idx])
+        hi[idx] = np.where(ok, hi[idx], p)
+        w = way[idx]
+        # A probe on the other side from the previous ones closes the bracket.
+        open_[idx] = (w == 0) | ((w > 0) & ok) | ((w < 0) & ~ok)
+        way[idx] = np.where(ok, 1, -1)
+        s = step[idx]
+        probe[idx] = np.where(ok, p + s, p - s)
+        step[idx] = s * 2
+    act = hi - lo > 1
     while act.any():
-        mid = (lo[act] + hi[act]) // 2
-        good = kernel.at_rql(mid, c[act]) <= beta + TOL
-        h, l_ = hi[act], lo[act]
-        hi[act] = np.where(good, mid, h)
-        lo[act] = np.where(good, l_, mid)
-        act = ok & (hi - lo > 1)
-    return np.where(ok, hi, -1)
+        idx = np.flatnonzero(act)
+        mid = (lo[idx] + hi[idx]) // 2
+        ok = np.asarray(test(mid, idx), dtype=bool)
+        lo[idx] = np.where(ok, mid, lo[idx])
+        hi[idx] = np.where(ok, hi[idx], mid)
+        act = hi - lo > 1
+    return lo
+
+
+def _lowest_n(kernel: Kernel, c: np.ndarray) -> np.ndarray:
+    """A sample size at which ``Pa = 1`` for each ``c``: ``n = c`` for items
+    (a sample of ``c`` cannot hold ``c + 1``), ``n = 0`` per unit."""
+    return np.zeros_like(c) if kernel.per_unit else c.copy()
+
+
+def n_min(kernel: Kernel, c: np.ndarray, beta: float, cap: int | None, *,
+          guess=None, spread: float = 0.01) -> np.ndarray:
+    """Smallest ``n`` with ``Pa(RQL; n, c) <= beta`` for each ``c``; ``-1`` where
+    none exists up to ``cap`` (or the lot size, or :data:`MAX_SAMPLE`).
+
+    Integer search (:func:`last_true` on ``Pa > beta``): ``Pa`` falls in ``n``
+    (documented in :mod:`lotwise.core.kernels`).
+    """
+    c = np.atleast_1d(np.asarray(c, dtype=np.int64))
+    limit = kernel.n_limit(cap)
+    lo = np.minimum(_lowest_n(kernel, c), limit)
+    if guess is None:
+        guess = kernel.guess_n(c, beta, "rql") - 1.0
+    last = last_true(lambda n, i: kernel.at_rql(n, c[i]) > beta + TOL, lo, guess, limit, spread)
+    return np.where(last >= limit, -1, last + 1)
+
+
+def n_max(kernel: Kernel, c: np.ndarray, alpha: float, cap: int | None) -> np.ndarray:
+    """Largest ``n`` (up to the cap, lot size or :data:`MAX_SAMPLE`) with
+    ``Pa(AQL; n, c) >= 1 - alpha`` for each ``c`` (``Pa`` falls in ``n``); ``0``
+    per unit where even ``n = 1`` misses the producer's risk."""
+    c = np.atleast_1d(np.asarray(c, dtype=np.int64))
+    limit = kernel.n_limit(cap)
+    lo = np.minimum(_lowest_n(kernel, c), limit)
+    if kernel.level("aql") <= 0.0:
+        return np.full_like(c, limit)  # Pa = 1 at a perfect AQL
+    guess = kernel.guess_n(c, 1.0 - alpha, "aql")
+    return last_true(lambda n, i: kernel.at_aql(n, c[i]) >= 1.0 - alpha - TOL, lo, guess, limit)
+
+
+def smallest_plan(kernel: Kernel, alpha: float, beta: float, cap: int | None,
+                  c_limit: int | None) -> tuple[int, int] | None:
+    """The plan ``(n, c)`` with the smallest ``n`` meeting both risks, the
+    smaller ``c`` on a tie; ``None`` when no ``c < c_limit`` has one with
+    ``n`` up to the cap (lot size, :data:`MAX_SAMPLE`).
+
+    Method. With ``n_min(c)`` the smallest ``n`` meeting beta and ``n_max(c)``
+    the largest meeting alpha (both never decrease in ``c``, as ``Pa`` rises
+    with ``c`` and falls with ``n``), ``c`` has a plan exactly when
+    ``n_min(c) <= n_max(c)``, and the answer is ``(n_min(c*), c*)`` for the
+    smallest such ``c*``; as ``n_min`` never decreases, no smaller ``n`` has a
+    plan and no smaller ``c`` ties. A whole block ``a <= c < b`` holds no plan
+    when some ``m`` has ``Pa(RQL; m, a) > beta`` and ``Pa(AQL; m, b - 1) <
+    1 - alpha``: then ``n_max(c) <= n_max(b - 1) < m < n_min(a) <= n_min(c)``
+    for every ``c`` in it (two evaluations). Acceptance numbers are taken in
+    segments from 0 up to the Poisson approximation's ``c`` (then beyond),
+    cut into blocks sized to half the approximate gap between the curves;
+    blocks not ruled out are halved, single values not ruled out are decided
+    exactly (``n_min`` by integer search, then ``Pa`` at the AQL). Every ``c``
+    below the answer is thus proven infeasible by the exact model; the
+    approximations only set the cost. Cost: about two evaluations per block
+    (a few thousand blocks at RQL/AQL = 1.01) plus an integer search for each
+    single value near the answer.
+    """
+    top = c_limit if c_limit is not None else C_SEARCH_LIMIT + 1
+    c_hat = min(_approx_c(kernel, alpha, beta), max(top - 1, 0))
+    if c_limit is None and c_hat >= C_SEARCH_LIMIT:
+        raise Infeasible(
+            f"the AQL and RQL are too close together: a plan would need an acceptance number "
+            f"above {C_SEARCH_LIMIT:,} (the Poisson approximation gives about {c_hat:,})",
+            {"aql": kernel.t.aql, "rql": kernel.t.rql, "c_approx": int(c_hat)})
+    curves = _Curves(kernel, alpha, beta, cap, c_hat)
+    start, end, width = 0, c_hat + 1, 8
+    while start < top:
+        end = min(end, top)
+        found = _segment(curves, start, end)
+        if found is not None:
+            return found
+        if int(curves.n_min(np.array([end - 1]))[0]) < 0:
+            return None  # n_min passes the cap here and never falls in c
+        start, end, width = end, end + width, 2 * width
+    return None
+
+
+def _segment(curves: "_Curves", start: int, end: int) -> tuple[int, int] | None:
+    """The plan of the smallest feasible ``c`` in ``start <= c < end`` (see
+    :func:`smallest_plan`), or None."""
+    kernel = curves.kernel
+    found = None
+    blocks = _blocks(curves, start, end)
+    while blocks:
+        a = np.array([x for x, _ in blocks if found is None or x < found[1]], dtype=np.int64)
+        b = np.array([y for x, y in blocks if found is None or x < found[1]], dtype=np.int64)
+        if not a.size:
+            break
+        alive = ~_separated(curves, a, b)
+        single = alive & (b - a == 1)
+        if single.any():
+            cs = a[single]
+            nm = curves.n_min(cs)
+            ok = nm >= 0
+            ok[ok] = kernel.at_aql(nm[ok], cs[ok]) >= 1.0 - curves.alpha - TOL
+            if ok.any():
+                i = int(np.argmax(ok))
+                if found is None or cs[i] < found[1]:
+                    found = (int(nm[i]), int(cs[i]))
+        blocks = []
+        for lo_, hi_ in zip(a[alive & ~single].tolist(), b[alive & ~single].tolist()):
+            mid = (lo_ + hi_) // 2
+            blocks += [(lo_, mid), (mid, hi_)]
+    return found
+
+
+#: Acceptance numbers searched when nothing else bounds them.
+C_SEARCH_LIMIT = 10_000_000
+
+
+class _Curves:
+    """Approximate ``n_min(c)`` and ``n_max(c)`` (:meth:`Kernel.guess_n`)
+    scaled by their exact ratios at a dozen acceptance numbers spread over
+    ``0 .. end`` (interpolated in ``c``): they place block edges and
+    separating sample sizes only, so their error costs time, never a wrong
+    answer."""
+
+    def __init__(self, kernel: Kernel, alpha: float, beta: float, cap: int | None, end: int):
+        self.kernel, self.alpha, self.beta, self.cap = kernel, alpha, beta, cap
+        self.cs = np.array([0], dtype=np.int64)
+        self.fr = self.fa = np.ones(1)
+        if end > 16:  # calibration pays only when there are blocks to place
+            cs = np.unique(np.geomspace(1, end, 6).astype(np.int64))
+            self.fr = self._ratio(n_min(kernel, cs, beta, cap), self.raw_rql(cs))
+            self.fa = self._ratio(n_max(kernel, cs, alpha, cap), self.raw_aql(cs))
+            self.cs = cs
+
+    def n_min(self, cs):
+        """Exact :func:`n_min`, started from the calibrated guess."""
+        return n_min(self.kernel, cs, self.beta, self.cap, guess=self.rql(cs) - 1.0,
+                     spread=0.002 if self.cs.size > 1 else 0.01)
+
+    @staticmethod
+    def _ratio(exact, guess):
+        ok = (exact > 0) & (guess > 0) & np.isfinite(guess)
+        return np.where(ok, exact / np.where(ok, guess, 1.0), 1.0)
+
+    def raw_rql(self, c):
+        return self.kernel.guess_n(c, self.beta, "rql")
+
+    def raw_aql(self, c):
+        return self.kernel.guess_n(c, 1.0 - self.alpha, "aql")
+
+    def rql(self, c):
+        return self.raw_rql(c) * np.interp(c, self.cs, self.fr)
+
+    def aql(self, c):
+        return self.raw_aql(c) * np.interp(c, self.cs, self.fa)
+
+
+def _separated(curves: _Curves, a, b):
+    """True for the blocks ``a <= c < b`` shown to hold no plan by a sample
+    size ``m`` between the curves: ``Pa(RQL; m, a) > beta`` gives
+    ``n_min(c) >= n_min(a) > m`` and ``Pa(AQL; m, b - 1) < 1 - alpha`` gives
+    ``n_max(c) <= n_max(b - 1) < m`` for every ``c`` in the block (two
+    evaluations, whichever ``m``; the approximations only choose it)."""
+    kernel = curves.kernel
+    limit = kernel.n_limit(curves.cap)
+    lo_n = np.minimum(_lowest_n(kernel, b - 1), limit)
+    m = np.clip(np.floor(0.5 * (curves.rql(a) + curves.aql(b - 1))), 1, limit).astype(np.int64)
+    out = m > lo_n  # at or below n = c (items) every lot is accepted
+    if kernel.level("aql") <= 0.0 or not out.any():
+        return np.zeros(a.shape, dtype=bool)
+    i = np.flatnonzero(out)
+    out[i] = kernel.at_aql(m[i], b[i] - 1) < 1.0 - curves.alpha - TOL
+    i = np.flatnonzero(out)
+    if i.size:
+        out[i] = kernel.at_rql(m[i], a[i]) > curves.beta + TOL
+    return out
+
+
+def _approx_c(kernel: Kernel, alpha: float, beta: float) -> int:
+    """Smallest ``c`` whose approximate sample sizes at beta and alpha cross
+    (:meth:`Kernel.guess_n`), by doubling and bisection over ``c``: a starting
+    point for :func:`smallest_plan`, never its answer."""
+    def crosses(c):
+        return float(kernel.guess_n(c, beta, "rql")) <= float(kernel.guess_n(c, 1.0 - alpha, "aql"))
+
+    if kernel.level("aql") <= 0.0 or crosses(0):
+        return 0
+    lo, hi = 0, 1
+    while not crosses(hi):
+        lo, hi = hi, hi * 2
+        if hi > 4 * C_SEARCH_LIMIT:
+            return hi
+    while hi - lo > 1:
+        mid = (lo + hi) // 2
+        lo, hi = (lo, mid) if crosses(mid) else (mid, hi)
+    return hi
+
+
+def _blocks(curves: _Curves, start: int, stop: int) -> list:
+    """Blocks ``[a, b)`` covering ``start <= c < stop``, each about half as wide
+    as the approximate gap (in acceptance numbers) between the sample size
+    meeting beta and the one meeting alpha at its first ``c``."""
+    out = []
+    c = start
+    p1 = curves.kernel.level("aql")
+    while c < stop:
+        gap = float(curves.rql(c) - curves.aql(c))
+        w = max(1, int(min(0.5 * gap * p1, stop - c))) if gap > 0 else 1
+        out.append((c, c + w))
+        c += w
+    return out
 
 
 def c_min(kernel: Kernel, n: int, alpha: float) -> int:

@@ -31,7 +31,7 @@ from lotwise.core.quantities import InputError
 from lotwise.core.types import Scope, lot_counts
 
 __all__ = ["stage_pmf", "stage_cdf", "stage_recursion", "unit_walk", "level_to_x",
-           "finish_shape", "StageResult", "WalkResult", "NO_REJECTION"]
+           "finish_shape", "StageResult", "WalkResult", "NO_REJECTION", "WALK_EPS"]
 
 NO_REJECTION = 1 << 40  # "no rejection number at this unit"
 
@@ -217,51 +217,40 @@ class WalkResult:
     left_in_accepted: np.ndarray | None  # E[nonconforming left in accepted lots] (lot known)
 
 
-def unit_walk(acc, rej, model, x, N=None, *, lot_size=None) -> WalkResult:
+#: Undecided probability below which :func:`unit_walk` stops walking a level.
+WALK_EPS = 1e-15
+
+
+def unit_walk(acc, rej, model, x, N=None, *, lot_size=None, eps: float = WALK_EPS) -> WalkResult:
     """Exact OC and ASN of an item-by-item decision rule.
 
     After the ``m``-th unit (``m = 1 .. M``) the lot is accepted if the
     count found is at most ``acc[m]`` and rejected if it is at least
     ``rej[m]`` (index 0 unused); where both apply the rejection wins. At
-    ``m = M`` every lot must be decided (``rej[M] <= acc[M] + 1``). The dynamic program carries the probability
-    of each count among undecided lots, unit by unit; only the band of
-    counts between the two numbers is stored, so the cost is ``M`` times the
-    band width times the number of quality levels.
+    ``m = M`` every lot must be decided (``rej[M] <= acc[M] + 1``). The
+    dynamic program carries the probability of each count among undecided
+    lots, unit by unit, for every quality level at once; only the band of
+    counts between the two numbers is stored, and the probabilities of
+    stopping are added into running sums (``Pa``, units inspected), so the
+    memory is the band times the number of levels, whatever ``M``.
 
     A unit is nonconforming with probability ``p`` (binomial), with
     probability ``(D - d) / (N - m)`` given ``d`` found among the first
     ``m`` (hypergeometric), or carries a Poisson(``p``) number of
     nonconformities (Poisson).
 
+    Error bound: a level stops being walked at the first unit ``m`` (checked
+    every 16 units) where the probability ``U`` that the lot is still
+    undecided is at most ``eps`` (1e-15 by default); its ``Pa`` is then low by
+    at most ``U <= eps`` and its ASN, which counts ``m`` units for those lots,
+    low by at most ``(M - m) U <= M eps`` (1e-10 units at ``M = 10^5``).
+    Levels still undecided at ``M`` are decided there exactly by the rule.
+    ``eps = 0`` walks every level to ``M``.
+
     ``lot_size`` (or ``N``) adds the expected number of nonconforming items
     left in accepted lots, for AOQ.
     """
     x = np.asarray(x, dtype=float).ravel()
-    # The walk keeps arrays of (units + 1) x levels: evaluate the levels in
-    # blocks so that memory stays bounded whatever the lot (a search over
-    # every count of a lot of 10^9 asks for millions of levels at once).
-    step = max(1, WALK_CELLS // len(acc))
-    if x.size <= step:
-        return _walk_block(acc, rej, model, x, N, lot_size=lot_size)
-    parts = [_walk_block(acc, rej, model, x[k:k + step], N, lot_size=lot_size)
-             for k in range(0, x.size, step)]
-    left = None if parts[0].left_in_accepted is None else \
-        np.concatenate([r.left_in_accepted for r in parts])
-    return WalkResult(pa=np.concatenate([r.pa for r in parts]),
-                      asn=np.concatenate([r.asn for r in parts]),
-                      accepted_units=np.concatenate([r.accepted_units for r in parts]),
-                      left_in_accepted=left)
-
-
-#: Most cells (units x quality levels) of one block of :func:`unit_walk`
-#: (about 32 MB per array).
-WALK_CELLS = 1 << 22
-
-
-def _walk_block(acc, rej, model, x, N=None, *, lot_size=None) -> WalkResult:
-    """:func:`unit_walk` for one block of quality levels ``x``."""
-    x = np.asarray(x, dtype=float).ravel()
-    P = x.size
     acc = np.asarray(acc, dtype=np.int64)
     rej = np.asarray(rej, dtype=np.int64)
     M = len(acc) - 1
@@ -269,47 +258,92 @@ def _walk_block(acc, rej, model, x, N=None, *, lot_size=None) -> WalkResult:
         raise ValueError("unit_walk needs at least one unit")
     if rej[M] > acc[M] + 1:
         raise ValueError("the last unit must decide every lot")
-    finite = rej[1:][rej[1:] < NO_REJECTION]
-    R = int(finite.max())
-    lot = lot_size if lot_size is not None else N
     if model not in oc.MODELS:
         raise InputError(f"model ({model}) must be one of: {', '.join(oc.MODELS)}")
-    # S[d] (one row per count, one column per quality level) is the
-    # probability that the lot is undecided with count d; only rows lo..hi
-    # are non-zero and hi <= R - 1 (counts >= R can never be accepted: they
-    # are rejected, or carried in ``over`` until the next unit that has a
-    # rejection number). The probabilities of stopping at each unit are
-    # written to ``acc_at`` and ``rej_at`` and reduced at the end.
-    S = np.zeros((R + 1, P))
-    S[0] = 1.0
-    lo = hi = 0
-    over = np.zeros(P)
-    has_over = False
-    acc_at = np.zeros((M + 1, P))
-    rej_at = np.zeros((M + 1, P))
-    left = np.zeros(P) if lot is not None else None
-    xr = x[None, :]
-    if model == "poisson":
-        pois = _pois_pmf(np.arange(R + 2, dtype=float)[:, None], xr)
-    elif model == "binomial":
-        pnc = np.clip(xr, 0.0, 1.0)
-        qnc = 1.0 - pnc
-    accl = acc.tolist()
-    rejl = rej.tolist()
-    last = M
-    for m in range(1, M + 1):
-        r = rejl[m]
-        top = (r if r < R else R) - 1  # highest count still undecided or acceptable
+    walk = _Walk(acc, rej, model, x, N, lot_size if lot_size is not None else N)
+    walk.run(eps)
+    return WalkResult(pa=walk.out[0], asn=walk.out[1] + walk.out[2], accepted_units=walk.out[1],
+                      left_in_accepted=walk.out[3] if walk.lot is not None else None)
+
+
+class _Walk:
+    """State of :func:`unit_walk`: ``S[d]`` (one row per count, one column per
+    quality level still walked) is the probability that the lot is undecided
+    with count ``d``; only rows ``lo..hi`` are non-zero and ``hi <= R - 1``
+    (counts ``>= R`` can never be accepted: they are rejected, or carried in
+    ``over`` until the next unit that has a rejection number). ``sums`` holds
+    the running ``Pa``, units in accepted lots, units in rejected lots and
+    nonconforming items left in accepted lots for the walked columns
+    ``cols``; finished columns are copied to ``out``."""
+
+    def __init__(self, acc, rej, model, x, N, lot):
+        self.acc, self.rej, self.model, self.N, self.lot = acc.tolist(), rej.tolist(), model, N, lot
+        finite = rej[1:][rej[1:] < NO_REJECTION]
+        self.R = R = int(finite.max())
+        # Widest band of undecided counts (a Poisson unit adds at most this much).
+        self.band = int(min(R + 2, (np.minimum(rej[1:], R) - np.maximum(acc[:-1], -1)).max() + 3))
+        P = x.size
+        self.x = x
+        self.cols = np.arange(P)
+        self.S = np.zeros((R + 1, P))
+        self.S[0] = 1.0
+        self.lo = self.hi = 0
+        self.over = np.zeros(P)
+        self.has_over = False
+        self.sums = np.zeros((4, P))
+        self.out = np.zeros((4, P))
+        self._levels()
+
+    def _levels(self):
+        xr = self.x[None, :]
+        if self.model == "poisson":
+            self.pois = _pois_pmf(np.arange(self.band, dtype=float)[:, None], xr)
+        elif self.model == "binomial":
+            self.pnc = np.clip(xr, 0.0, 1.0)
+            self.qnc = 1.0 - self.pnc
+
+    def run(self, eps: float):
+        M = len(self.acc) - 1
+        for m in range(1, M + 1):
+            self._unit(m)
+            if self.lo > self.hi and not self.has_over:
+                break
+            if m % 16 == 0 and m < M:
+                left = self.S[self.lo:self.hi + 1].sum(axis=0) + self.over
+                done = left <= eps
+                if done.sum() * 8 >= done.size or done.all():  # compress in batches
+                    self.sums[2] += m * left * done  # counted as stopping here (see bound)
+                    self._finish(done)
+                    if not self.cols.size:
+                        return
+        self._finish(np.ones(self.cols.size, dtype=bool))
+
+    def _finish(self, done):
+        self.out[:, self.cols[done]] = self.sums[:, done]
+        keep = ~done
+        if not keep.any():
+            self.cols = self.cols[keep]
+            return
+        self.cols, self.x = self.cols[keep], self.x[keep]
+        S = np.zeros((self.S.shape[0], self.cols.size))  # only the band is copied
+        S[self.lo:self.hi + 2] = self.S[self.lo:self.hi + 2][:, keep]
+        self.S, self.over, self.sums = S, self.over[keep], self.sums[:, keep]
+        self._levels()
+
+    def _unit(self, m: int):
+        S, lo, hi = self.S, self.lo, self.hi
+        r = self.rej[m]
+        top = (r if r < self.R else self.R) - 1  # highest count still undecided or acceptable
         beyond = None
         if lo <= hi:
-            if model == "poisson":
-                beyond, hi = _poisson_unit(S, lo, hi, top, pois)
+            if self.model == "poisson":
+                beyond, hi = _poisson_unit(S, lo, hi, top, self.pois)
             else:
-                if model == "binomial":
-                    q, keep = pnc, qnc
+                if self.model == "binomial":
+                    q, keep = self.pnc, self.qnc
                 else:
                     d = np.arange(lo, hi + 1, dtype=float)[:, None]
-                    q = np.clip((xr - d) / (N - (m - 1)), 0.0, 1.0)
+                    q = np.clip((self.x[None, :] - d) / (self.N - (m - 1)), 0.0, 1.0)
                     keep = 1.0 - q
                 moved = S[lo:hi + 1] * q
                 S[lo:hi + 1] *= keep
@@ -319,28 +353,37 @@ def _walk_block(acc, rej, model, x, N=None, *, lot_size=None) -> WalkResult:
                     beyond = S[top + 1:hi + 1].sum(axis=0)
                     S[top + 1:hi + 1] = 0.0
                     hi = top
-        if r <= R:
+        if r <= self.R:
             if beyond is not None:
-                rej_at[m] = beyond
-            if has_over:
-                rej_at[m] += over
-                over = np.zeros(P)
-                has_over = False
+                self.sums[2] += m * beyond
+            if self.has_over:
+                self.sums[2] += m * self.over
+                self.over = np.zeros(self.cols.size)
+                self.has_over = False
         elif beyond is not None:
-            over = over + beyond
-            has_over = True
-        a = accl[m]
+            self.over = self.over + beyond
+            self.has_over = True
+        self.hi = hi
+        a = self.acc[m]
         if a >= lo and lo <= hi:
-            lo = _accept_unit(S, lo, hi, a, acc_at[m], left, model, x, lot, m)
-        if lo > hi and not has_over:
-            last = m
-            break
-    ms = np.arange(last + 1, dtype=float)
-    acc_at, rej_at = acc_at[:last + 1], rej_at[:last + 1]
-    pa = acc_at.sum(axis=0)
-    acc_units = ms @ acc_at
-    asn = acc_units + ms @ rej_at
-    return WalkResult(pa=pa, asn=asn, accepted_units=acc_units, left_in_accepted=left)
+            self.lo = self._accept(a, m)
+
+    def _accept(self, a: int, m: int) -> int:
+        """Accept the undecided lots with counts ``lo..a`` at unit ``m``;
+        returns the new lowest undecided count."""
+        lo, hi, S = self.lo, self.hi, self.S
+        k = a if a < hi else hi
+        got = S[lo:k + 1].sum(axis=0)
+        self.sums[0] += got
+        self.sums[1] += m * got
+        if self.lot is not None:
+            if self.model == "hypergeometric":
+                dd = np.arange(lo, k + 1, dtype=float)[:, None]
+                self.sums[3] += (S[lo:k + 1] * (self.x[None, :] - dd)).sum(axis=0)
+            else:
+                self.sums[3] += got * self.x * (self.lot - m)
+        S[lo:k + 1] = 0.0
+        return k + 1
 
 
 def _poisson_unit(S, lo: int, hi: int, top: int, pois):
@@ -358,20 +401,3 @@ def _poisson_unit(S, lo: int, hi: int, top: int, pois):
         new[u:] += band[u:u + 1] * pois[:width - u]
     S[lo:top + 1] = new
     return np.maximum(mass - new.sum(axis=0), 0.0), top
-
-
-def _accept_unit(S, lo: int, hi: int, a: int, got, left, model: str, x, lot, m: int) -> int:
-    """Accept the undecided lots with counts ``lo..a`` at unit ``m`` (their
-    probability into ``got``, the nonconforming left in them into ``left``);
-    returns the new lowest undecided count."""
-    k = a if a < hi else hi
-    took = S[lo:k + 1]
-    took.sum(axis=0, out=got)
-    if left is not None:
-        if model == "hypergeometric":
-            dd = np.arange(lo, k + 1, dtype=float)[:, None]
-            left += (took * (x[None, :] - dd)).sum(axis=0)
-        else:
-            left += got * x * (lot - m)
-    S[lo:k + 1] = 0.0
-    return k + 1

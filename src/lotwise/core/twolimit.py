@@ -98,8 +98,32 @@ _HERMITE = 2048
 
 @functools.cache
 def gauss_legendre(n: int):
-    """Gauss-Legendre nodes and weights on ``[0, 1]`` (computed once per ``n``)."""
-    x, w = np.polynomial.legendre.leggauss(n)
+    """Gauss-Legendre nodes and weights on ``[0, 1]`` (computed on first use,
+    once per ``n``).
+
+    Newton's method on the three-term recurrence of the Legendre polynomials
+    from Tricomi's initial guesses ``cos(pi (i - 1/4) / (n + 1/2))``, all
+    nodes at once (a few milliseconds for ``n = 400``, where an eigenvalue
+    method takes seconds); weights ``2 / ((1 - x^2) P_n'(x)^2)``
+    (W. H. Press et al., *Numerical Recipes*, 3rd ed., 2007, section 4.6).
+    """
+    i = np.arange(1, n + 1, dtype=float)
+    x = np.cos(np.pi * (i - 0.25) / (n + 0.5))
+    for _ in range(20):  # quadratic convergence: a handful of steps
+        p0, p1 = np.ones_like(x), x.copy()
+        for k in range(2, n + 1):
+            p0, p1 = p1, ((2 * k - 1) * x * p1 - (k - 1) * p0) / k
+        dp = n * (x * p1 - p0) / (x * x - 1.0)
+        dx = p1 / dp
+        x = x - dx
+        if np.max(np.abs(dx)) < 1e-15:
+            break
+    p0, p1 = np.ones_like(x), x.copy()
+    for k in range(2, n + 1):
+        p0, p1 = p1, ((2 * k - 1) * x * p1 - (k - 1) * p0) / k
+    dp = n * (x * p1 - p0) / (x * x - 1.0)
+    w = 2.0 / ((1.0 - x * x) * dp * dp)
+    x, w = x[::-1], w[::-1]  # ascending, as numpy's leggauss
     return 0.5 * (x + 1.0), 0.5 * w
 
 

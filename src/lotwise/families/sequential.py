@@ -92,7 +92,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from lotwise.core.search import check_lot, check_targets
-from lotwise.core.stages import finish_shape, level_to_x, unit_walk
+from lotwise.core.stages import WALK_EPS, finish_shape, level_to_x, unit_walk
 from lotwise.core.types import Scope, Targets, lot_targets
 from lotwise.families.base import Decision, Family, Option, OptionKind, Plan, check_record
 from lotwise.core import kernels as oc
@@ -397,6 +397,10 @@ class SequentialPlan(Plan):
         if self.never_accepts:
             level_to_x(p, model, scope, rounding, self.truncate)  # the usual checks
             return finish_shape(np.zeros(np.shape(p)), np.shape(p))
+        if model in ("binomial", "poisson") and self.truncate > BLOCKED_FROM:
+            # Long plans: block by block (equal to the walk within 1e-12).
+            x = level_to_x(p, model, scope, rounding, self.truncate)
+            return finish_shape(pa_blocked(self, np.ravel(x), model), np.shape(p))
         return finish_shape(self._walk(p, model, scope, rounding).pa, np.shape(p))
 
     def pa_count(self, d, scope: Scope):
@@ -645,7 +649,12 @@ def _matpow(m, k: int):
     return out
 
 
-def pa_blocked(plan: "SequentialPlan", x, model: str):
+#: Truncation points above which ``Pa`` under the binomial and Poisson models
+#: is computed block by block (:func:`pa_blocked`) rather than unit by unit.
+BLOCKED_FROM = 2000
+
+
+def pa_blocked(plan: "SequentialPlan", x, model: str, eps: float = WALK_EPS):
     """Exact ``Pa`` of the truncated plan under the binomial or Poisson model,
     block by block instead of unit by unit (same value as :meth:`SequentialPlan.pa`).
 
@@ -655,52 +664,62 @@ def pa_blocked(plan: "SequentialPlan", x, model: str):
     by the one-unit transition matrix (``d -> d + 1`` with probability ``p``
     for items, ``d -> d + j`` with Poisson(``p``) mass for nonconformities),
     counts reaching ``r`` rejected. The ``L - 1`` further units of a block are
-    one matrix power (repeated squaring), so a plan truncated at 70,000
-    units costs a few hundred small matrix products.
+    one matrix power (repeated squaring). Only the band of undecided counts is
+    stored, and the walk stops once the undecided probability is at most
+    ``eps`` at every level (``Pa`` then low by at most ``eps``, as in
+    :func:`lotwise.core.stages.unit_walk`).
     """
     x = np.atleast_1d(np.asarray(x, dtype=float))
     P = x.size
     _, acc, rej = plan.numbers()
-    n0 = plan.truncate
     change = np.flatnonzero((np.diff(acc) != 0) | (np.diff(rej) != 0)) + 1
     starts = np.concatenate([[0], change])
-    ends = np.concatenate([change, [n0]])
-    from scipy import special as sp
-
-    top = int(rej.max()) + 1
-    ks = np.arange(top + 1, dtype=float)
-    if model == "poisson":
-        inc = np.exp(sp.xlogy(ks[None, :], x[:, None]) - x[:, None] - sp.gammaln(ks + 1.0))
-    else:
-        inc = np.zeros((P, top + 1))
-        inc[:, 0] = 1.0 - x
-        inc[:, 1] = x
-    state = np.zeros((P, top + 1))  # undecided mass by count (counts >= top are rejected)
-    state[:, 0] = 1.0
+    ends = np.concatenate([change, [plan.truncate]]).tolist()
+    acc, rej, starts = acc[starts].tolist(), rej[starts].tolist(), starts.tolist()
+    lo, band = 0, np.ones((P, 1))  # undecided mass of counts lo .. lo + width - 1
     accepted = np.zeros(P)
-    for b0, b1 in zip(starts, ends):
-        a, r = int(acc[b0]), int(rej[b0])
+    for b0, b1, a, r in zip(starts, ends, acc, rej):
         # First unit of the block: one step, then accept d <= a, reject d >= r.
-        new = np.zeros_like(state)
-        for d in range(top + 1):
-            if state[:, d].any():
-                new[:, d:] += state[:, d:d + 1] * inc[:, :top + 1 - d]
-        if a >= 0:
-            accepted += new[:, :a + 1].sum(axis=1)
-            new[:, :a + 1] = 0.0
-        new[:, max(r, 0):] = 0.0
-        state = new
+        top = r - 1 if model == "poisson" else min(r - 1, lo + band.shape[1])
+        width = top - lo + 1
+        if width <= 0:
+            break  # every undecided lot is rejected here
+        inc = _unit_increments(x, model, width)
+        new = np.zeros((P, width))
+        for j in range(min(band.shape[1], width)):
+            new[:, j:] += band[:, j:j + 1] * inc[:, :width - j]
+        if a >= lo:
+            k = min(a - lo + 1, width)
+            accepted += new[:, :k].sum(axis=1)
+            new, lo = new[:, k:], lo + k
+        band = new
         steps = b1 - b0 - 1
-        lo, hi = max(a + 1, 0), r - 1
-        if steps > 0 and hi >= lo:
-            w = hi - lo + 1
+        if steps > 0 and band.shape[1] > 0:
+            w = r - lo
+            full = np.zeros((P, w))
+            full[:, :band.shape[1]] = band
+            inc = _unit_increments(x, model, w)
             i = np.arange(w)
             jump = i[:, None] - i[None, :]  # row: to, column: from
-            m = np.where(jump[None] >= 0, inc[:, np.clip(jump, 0, top)], 0.0)
-            band = _matpow(m, steps) @ state[:, lo:hi + 1, None]
-            state = np.zeros_like(state)
-            state[:, lo:hi + 1] = band[:, :, 0]
+            m = np.where(jump[None] >= 0, inc[:, np.clip(jump, 0, w - 1)], 0.0)
+            band = (_matpow(m, steps) @ full[:, :, None])[:, :, 0]
+        if not band.size or band.sum(axis=1).max() <= eps:
+            break
     return np.clip(accepted, 0.0, 1.0)
+
+
+def _unit_increments(x, model: str, width: int):
+    """Probability that one unit adds ``k = 0 .. width - 1`` to the count, per level."""
+    if model == "poisson":
+        from scipy import special as sp
+
+        ks = np.arange(width, dtype=float)
+        return np.exp(sp.xlogy(ks[None, :], x[:, None]) - x[:, None] - sp.gammaln(ks + 1.0))
+    inc = np.zeros((x.size, width))
+    inc[:, 0] = 1.0 - x
+    if width > 1:
+        inc[:, 1] = x
+    return inc
 
 
 def _smallest_up(ok, lo: float) -> float:
@@ -746,8 +765,6 @@ def _fit_lines(h1, h2, s, n0, targets, model, scope, levels):
         plan = SequentialPlan(h1=a, h2=b, s=s, truncate=n0)
         if plan.never_accepts:
             return np.zeros(len(levels))
-        if model in ("binomial", "poisson") and n0 > 2000:  # long plans: by blocks
-            return pa_blocked(plan, levels, model)
         return np.atleast_1d(plan.pa(levels, model, scope))
 
     v = pa(h1, h2)

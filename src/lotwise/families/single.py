@@ -58,7 +58,8 @@ from scipy import special
 
 from lotwise.core import kernels as oc
 from lotwise.core.quantities import InputError, Infeasible, format_pct, parse_count
-from lotwise.core.search import Kernel, c_min, check_lot, check_targets, n_min
+from lotwise.core.search import (MAX_SAMPLE, Kernel, c_min, check_lot, check_targets, n_min,
+                                 smallest_plan)
 from lotwise.core.types import TOL, Scope, Targets, lot_counts, lot_targets
 from lotwise.families.base import Decision, Family, Option, OptionKind, Plan
 
@@ -80,6 +81,11 @@ class SinglePlan(Plan):
             raise InputError(f"n ({self.n}) must be a whole number of at least 1")
         if not isinstance(self.c, (int, np.integer)) or self.c < 0:
             raise InputError(f"c ({self.c}) must be a whole number of at least 0")
+        for key in ("n", "c"):
+            if getattr(self, key) > MAX_SAMPLE:
+                raise InputError(f"{key} ({getattr(self, key)}) must be at most {MAX_SAMPLE:,} "
+                                 "(10^12): larger samples are beyond what the kernels compute "
+                                 "exactly and beyond any inspection")
         # c > n is a real plan for nonconformities per unit (a unit may carry
         # several); for items it is refused by check_scope, which knows the scope.
 
@@ -321,6 +327,9 @@ def design_single(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 
         raise InputError("--n and --c cannot both be fixed: that is a plan to check, not design")
     if max_n is not None and max_n < 1:
         raise InputError(f"--max-n ({max_n}) must be at least 1")
+    for key, value in (("--n", n), ("--c", c), ("--lot-size", lot_size)):
+        if value is not None and value > MAX_SAMPLE:
+            raise InputError(f"{key} ({value}) must be at most {MAX_SAMPLE:,} (10^12)")
     if n is not None and lot_size is not None and n > lot_size:
         raise InputError(f"--n ({n}) must not be greater than the lot size ({lot_size})")
     if n is not None and max_n is not None and n > max_n:
@@ -378,33 +387,15 @@ def _with_fixed_c(kernel: Kernel, targets: Targets, c: int, cap, lot_size) -> tu
 
 
 def _smallest_plan(kernel: Kernel, targets: Targets, cap, lot_size, model, defects):
-    """``(n, c)``: blocks of acceptance numbers in increasing ``c``, each block's
-    smallest ``n`` by one vectorised bisection, until a block holds a plan
-    meeting alpha (see the module notes)."""
-    alpha, beta = targets.alpha, targets.beta
-    start, width = 0, 64
-    c_limit = _c_limit(kernel, cap, model, defects)
-    while True:
-        stop = start + width if c_limit is None else min(start + width, c_limit)
-        if stop <= start:
-            raise _cap_infeasible(kernel, targets, cap, lot_size)
-        cs = np.arange(start, stop, dtype=np.int64)
-        nm = n_min(kernel, cs, beta, cap)
-        have = nm >= 0
-        feasible = np.zeros_like(have)
-        if have.any():
-            feasible[have] = kernel.at_aql(nm[have], cs[have]) >= 1.0 - alpha - TOL
-        if feasible.any():
-            i = int(np.argmax(feasible))
-            return int(nm[i]), int(cs[i])
-        if cap is not None and not have[-1]:
-            # n_min never decreases in c: beyond a c without any n under the cap
-            # there is none either.
-            raise _cap_infeasible(kernel, targets, cap, lot_size)
-        start, width = stop, width * 2
-        if c_limit is None and start > 10_000_000:
-            raise Infeasible("no plan found with an acceptance number below 10,000,000; "
-                             "the AQL and RQL are too close together")
+    """``(n, c)`` by :func:`lotwise.core.search.smallest_plan` (see the module notes)."""
+    found = smallest_plan(kernel, targets.alpha, targets.beta, cap,
+                          _c_limit(kernel, cap, model, defects))
+    if found is not None:
+        return found
+    if cap is None:
+        raise Infeasible(f"no plan with n <= {MAX_SAMPLE:.0e} meets both risks; the AQL and "
+                         "RQL are too close together", {"max_sample": MAX_SAMPLE})
+    raise _cap_infeasible(kernel, targets, cap, lot_size)
 
 
 def _c_limit(kernel: Kernel, cap: int | None, model: str, defects: bool) -> int | None:
