@@ -1,5 +1,5 @@
 """Rectifying inspection: AOQ, AOQL and ATI checked against published factors,
-a worked homework solution, mpmath and brute force."""
+an independent computation (scipy.optimize), mpmath and brute force."""
 
 from __future__ import annotations
 

@@ -301,9 +301,10 @@ def test_records_skip_a_lot_size_beyond_the_counts(capsys, tmp_path):
     assert "-9223372036854775808" not in err + out and "Warning" not in err
 
 
-def test_unit_walk_in_blocks_is_exact(monkeypatch):
-    # A curtailed single plan n = 30, c = 2 walked unit by unit has the OC of the
-    # single plan: scipy.stats.binom.cdf (tolerance 1e-12), here in blocks of 7 levels.
+def test_unit_walk_on_its_band_is_exact():
+    # A curtailed single plan n = 30, c = 2 walked unit by unit (only the band of
+    # counts between the lines is stored) has the OC of the single plan:
+    # scipy.stats.binom.cdf (tolerance 1e-12).
     from scipy.stats import binom
 
     from lotwise.core import stages
@@ -311,7 +312,6 @@ def test_unit_walk_in_blocks_is_exact(monkeypatch):
     n, c = 30, 2
     acc = [-1] * n + [c]
     rej = [stages.NO_REJECTION] + [c + 1] * n
-    monkeypatch.setattr(stages, "WALK_CELLS", 7 * (n + 1))
     p = np.linspace(0.0, 0.3, 50)
     res = stages.unit_walk(acc, rej, "binomial", p)
     assert np.allclose(res.pa, binom.cdf(c, n, p), atol=1e-12, rtol=0)
