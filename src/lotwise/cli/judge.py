@@ -28,60 +28,11 @@ import typer
 
 from . import app, common
 from lotwise.analysis.judge import judge_sample
+from lotwise.data.csvio import MISSING
 from lotwise.core.quantities import InputError, format_pct
-
-#: Cells read as "no value" in a measurements file.
-_MISSING = {"", "na", "n/a", "nan", "null", "none", "-", "?"}
-
 
 def _pct(x):
     return format_pct(x)
-
-
-def read_measurements(path: str) -> list[float]:
-    """Numbers from a one-column file (see the module notes); refuses a bad
-    row naming it."""
-    try:
-        with open(path, encoding="utf-8-sig") as fh:
-            text = fh.read()
-    except FileNotFoundError:
-        raise InputError(f"measurements ({path}) does not exist") from None
-    except IsADirectoryError:
-        raise InputError(f"measurements ({path}) is a folder; give a file") from None
-    except UnicodeDecodeError:
-        raise InputError(f"measurements ({path}) is not a text file (UTF-8)") from None
-    except OSError as exc:
-        raise InputError(f"measurements ({path}) cannot be read: {exc.strerror}") from None
-    lines = text.splitlines()
-    while lines and not lines[-1].strip():
-        lines.pop()
-    out: list[float] = []
-    for i, raw in enumerate(lines, start=1):
-        cell = raw.strip()
-        fields = [f.strip() for f in cell.replace(";", ",").replace("\t", ",").split(",")]
-        if len(fields) > 1:
-            if all(f == "" for f in fields[1:]):
-                fields = fields[:1]  # a trailing separator
-            else:
-                raise InputError(f"measurements ({path}) row {i} ({raw.strip()!r}) holds "
-                                 f"{len(fields)} fields; the file must be one column of numbers")
-        cell = fields[0].strip().strip('"').strip("'").strip()
-        if cell.lower() in _MISSING:
-            raise InputError(f"measurements ({path}) row {i} is a missing value "
-                             f"({raw.strip()!r}); every measurement must be there")
-        try:
-            v = float(cell)
-        except ValueError:
-            if i == 1 and not out:
-                continue  # header
-            raise InputError(f"measurements ({path}) row {i} ({cell!r}) is not a number") \
-                from None
-        if not math.isfinite(v):
-            raise InputError(f"measurements ({path}) row {i} ({cell!r}) is not a finite number")
-        out.append(v)
-    if not out:
-        raise InputError(f"measurements ({path}) holds no numbers")
-    return out
 
 
 def parse_values(text: str) -> list[float]:
@@ -91,7 +42,7 @@ def parse_values(text: str) -> list[float]:
         items = str(text).split()
     out = []
     for i, item in enumerate(items, start=1):
-        if item.lower() in _MISSING:
+        if item.lower() in MISSING:
             raise InputError(f"--values value {i} is missing ({text!r}); every measurement "
                              "must be there")
         try:
@@ -143,6 +94,8 @@ def judge(
     if values is not None:
         xs, source = parse_values(values), "--values"
     else:
+        from lotwise.data.csvio import read_measurements
+
         xs, source = read_measurements(measurements), measurements
     if len(xs) != p.n:
         where = "--values" if values is not None else f"measurements ({measurements})"

@@ -3,9 +3,11 @@
 :func:`read_table` reads a whole file with the standard :mod:`csv` module,
 so every row keeps the line number it starts on (the header is line 1) and
 rows with the wrong number of fields are reported, not silently shifted.
-Blank lines are skipped without a message. A UTF-8 byte-order mark (as
-spreadsheet programs write) is ignored, and a header holding semicolons but
-no commas makes the semicolon the delimiter.
+Blank lines are skipped without a message. UTF-8 (with or without the
+byte-order mark spreadsheet programs write), UTF-16 with its mark and latin-1
+are read alike (:func:`decode_text`); a header holding semicolons but no commas
+makes the semicolon the delimiter, one holding only tabs the tab
+(:func:`detect_delimiter`).
 
 Examples
 --------
@@ -20,6 +22,7 @@ A receiving clerk exports the lot log; the second data row lost a field:
 from __future__ import annotations
 
 import csv
+import math
 import io
 from dataclasses import dataclass
 from pathlib import Path
@@ -28,7 +31,11 @@ import numpy as np
 
 from lotwise.core.quantities import InputError
 
-__all__ = ["Row", "Table", "Columns", "read_table", "read_columns", "normalise_name"]
+__all__ = ["Row", "Table", "Columns", "read_table", "read_columns", "read_measurements",
+           "normalise_name", "decode_text", "detect_delimiter", "MISSING"]
+
+#: Cells read as "no value" in a measurements file.
+MISSING = {"", "na", "n/a", "nan", "null", "none", "-", "?"}
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -82,6 +89,30 @@ def normalise_name(name: str) -> str:
     return "_".join(str(name).strip().lower().replace("-", " ").split())
 
 
+def decode_text(raw: bytes) -> str:
+    """The text of a file as users' programs write it: UTF-16 with its byte-order
+    mark, UTF-8 with or without one, else latin-1 (every byte is a character)."""
+    if raw.startswith((b"\xff\xfe", b"\xfe\xff")):
+        try:
+            return raw.decode("utf-16")
+        except UnicodeDecodeError:
+            pass
+    try:
+        return raw.decode("utf-8-sig")
+    except UnicodeDecodeError:
+        return raw.decode("latin-1")
+
+
+def detect_delimiter(first_line: str) -> str:
+    """The field separator of a table from its header line: a comma, else a
+    semicolon (spreadsheets set to a decimal comma), else a tab."""
+    if "," in first_line:
+        return ","
+    if ";" in first_line:
+        return ";"
+    return "\t" if "\t" in first_line else ","
+
+
 def read_table(path, option: str) -> Table:
     """Read ``path`` (a file name or an open text stream) into a :class:`Table`.
 
@@ -102,12 +133,9 @@ def read_table(path, option: str) -> Table:
             raise InputError(f"{option} ({p}) is a folder; give a CSV file") from None
         except OSError as exc:
             raise InputError(f"{option} ({p}) cannot be read: {exc.strerror or exc}") from None
-        try:
-            text = raw.decode("utf-8-sig")
-        except UnicodeDecodeError:
-            text = raw.decode("latin-1")
+        text = decode_text(raw)
     first = text.split("\n", 1)[0]
-    delimiter = ";" if (";" in first and "," not in first) else ","
+    delimiter = detect_delimiter(first)
     reader = csv.reader(io.StringIO(text, newline=""), delimiter=delimiter)
     header = None
     fields_out: list = []
@@ -274,6 +302,8 @@ def _fast_columns(raw: bytes, path, source: str):
     if b"\x00" in raw or raw.count(b"\r") != raw.count(b"\r\n") or raw.isspace() or not raw:
         return None
     first = raw[:raw.find(b"\n")] if b"\n" in raw else raw  # no copy of the whole file
+    if b"\t" in first and b"," not in first and b";" not in first:
+        return None  # tab-separated: read_table
     delim = ";" if (b";" in first and b"," not in first) else ","
     buf = np.frombuffer(raw, dtype=np.uint8)
     found = _field_counts(buf, ord(delim))
@@ -351,3 +381,47 @@ def _categorical(codes, texts):
 def _header_problem(names) -> bool:
     """Whether the header has an unnamed or repeated column."""
     return any(not n for n in names) or len(set(names)) != len(names)
+
+
+def read_measurements(path: str) -> list[float]:
+    """Numbers from a one-column measurements file (one number a line, an
+    optional header; the encodings of :func:`decode_text`); refuses a bad row
+    naming it (rows are lines, the header being row 1)."""
+    try:
+        text = decode_text(Path(path).read_bytes())
+    except FileNotFoundError:
+        raise InputError(f"measurements ({path}) does not exist") from None
+    except IsADirectoryError:
+        raise InputError(f"measurements ({path}) is a folder; give a file") from None
+    except OSError as exc:
+        raise InputError(f"measurements ({path}) cannot be read: {exc.strerror}") from None
+    lines = text.splitlines()
+    while lines and not lines[-1].strip():
+        lines.pop()
+    out: list[float] = []
+    for i, raw in enumerate(lines, start=1):
+        cell = raw.strip()
+        fields = [f.strip() for f in cell.replace(";", ",").replace("\t", ",").split(",")]
+        if len(fields) > 1:
+            if all(f == "" for f in fields[1:]):
+                fields = fields[:1]  # a trailing separator
+            else:
+                raise InputError(f"measurements ({path}) row {i} ({raw.strip()!r}) holds "
+                                 f"{len(fields)} fields; the file must be one column of numbers")
+        cell = fields[0].strip().strip('"').strip("'").strip()
+        if cell.lower() in MISSING:
+            raise InputError(f"measurements ({path}) row {i} is a missing value "
+                             f"({raw.strip()!r}); every measurement must be there")
+        try:
+            v = float(cell)
+        except ValueError:
+            if i == 1 and not out:
+                continue  # header
+            raise InputError(f"measurements ({path}) row {i} ({cell!r}) is not a number") \
+                from None
+        if not math.isfinite(v):
+            raise InputError(f"measurements ({path}) row {i} ({cell!r}) is not a finite number")
+        out.append(v)
+    if not out:
+        raise InputError(f"measurements ({path}) holds no numbers")
+    return out

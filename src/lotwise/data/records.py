@@ -433,7 +433,10 @@ class _Cells:
         import pandas as pd
 
         codes, texts = self.factor(name)
-        num = pd.to_numeric(pd.Series(texts, dtype=object).str.replace("_", "", regex=False),
+        plain = pd.Series(texts, dtype=object).str.strip()
+        grouped = plain.str.fullmatch(r"\d{1,3}(?:[,_]\d{3})+")  # 1,000 as --lot-size takes it
+        plain = plain.where(~grouped.fillna(False), plain.str.replace(",", "", regex=False))
+        num = pd.to_numeric(plain.str.replace("_", "", regex=False),
                             errors="coerce").to_numpy(dtype=float)
         v = num[codes]
         txt = self.get(name)

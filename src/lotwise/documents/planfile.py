@@ -556,7 +556,9 @@ def load(path) -> PlanRequest:
         if p.is_file() and p.stat().st_size > 4 * MAX_CHARS:
             raise InputError(f"{path}: the file ({p.stat().st_size:,} bytes) is too large for "
                              f"a plan file; at most {MAX_CHARS:,} characters are read")
-        text = p.read_text(encoding="utf-8")
+        raw = p.read_bytes()
+        text = raw.decode("utf-16") if raw.startswith((b"\xff\xfe", b"\xfe\xff")) \
+            else raw.decode("utf-8-sig")  # a byte-order mark, as editors may write, is not TOML
     except FileNotFoundError:
         raise InputError(f"{path}: no such plan file") from None
     except (OSError, UnicodeDecodeError) as exc:
