@@ -361,3 +361,18 @@ def test_odd_valid_input_raises_no_warning(capsys, tmp_path, argv):
     assert code in (0, 1) and "Warning" not in err and "could not complete" not in err
     words = set(out.replace(",", " ").lower().split())
     assert not words & {"nan", "inf", "-inf"}
+
+
+def test_a_walk_beyond_its_budget_is_refused_at_once(capsys):
+    # Lines p1 = 1 %, p2 = 1.0001 % leave ~30,000 counts undecided for 10^5 units:
+    # the exact OC would take minutes; it is refused before any work, in one line
+    # (the budget of lotwise.core.stages.WALK_BUDGET; common practice, no source).
+    import time
+
+    from lotwise.cli import main
+
+    t0 = time.perf_counter()
+    code = main(["oc", "--plan", "sequential: p1=1%,p2=1.0001%,truncate=100000"])
+    _, err = capsys.readouterr()
+    assert code == 2 and err.count("\n") == 1 and "budget" in err
+    assert time.perf_counter() - t0 < 20

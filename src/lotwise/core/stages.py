@@ -221,6 +221,38 @@ class WalkResult:
 WALK_EPS = 1e-15
 
 
+#: Most cell updates (undecided counts x quality levels, summed over the units) one
+#: exact walk may take: about a minute on one core. Beyond it the walk is refused
+#: before it starts (:func:`check_walk`).
+WALK_BUDGET = 2 * 10**10
+
+
+def walk_band(acc, rej) -> np.ndarray:
+    """How many counts may be undecided after each unit ``m = 1 .. M`` (the band
+    between the acceptance and rejection numbers, at most ``m + 1`` counts)."""
+    acc = np.asarray(acc, dtype=np.int64)
+    rej = np.asarray(rej, dtype=np.int64)
+    m = np.arange(acc.size, dtype=np.int64)
+    hi = np.minimum(rej - 1, m)
+    lo = np.maximum(acc + 1, 0)
+    return np.clip(hi - lo + 1, 0, None)[1:]
+
+
+def check_walk(acc, rej, levels: int, *, what: str = "this plan") -> None:
+    """Refuse, before any work, a walk whose cost (:func:`walk_band` summed over
+    the units, times the quality levels) exceeds :data:`WALK_BUDGET`, saying what
+    it would need. The estimate is an upper bound: a walk stops early once every
+    level is decided."""
+    band = walk_band(acc, rej)
+    cost = int(band.sum()) * int(max(levels, 1))
+    if cost > WALK_BUDGET:
+        raise InputError(
+            f"{what}: its exact OC needs about {cost:.2g} updates ({band.size:,} units x up "
+            f"to {int(band.max()):,} undecided counts x {levels:,} quality level(s)), beyond "
+            f"the budget of {WALK_BUDGET:.0e} (about a minute); ask for fewer levels, or a plan "
+            "whose acceptance and rejection lines are further apart or truncated sooner")
+
+
 def unit_walk(acc, rej, model, x, N=None, *, lot_size=None, eps: float = WALK_EPS) -> WalkResult:
     """Exact OC and ASN of an item-by-item decision rule.
 
@@ -260,6 +292,7 @@ def unit_walk(acc, rej, model, x, N=None, *, lot_size=None, eps: float = WALK_EP
         raise ValueError("the last unit must decide every lot")
     if model not in oc.MODELS:
         raise InputError(f"model ({model}) must be one of: {', '.join(oc.MODELS)}")
+    check_walk(acc, rej, x.size)
     walk = _Walk(acc, rej, model, x, N, lot_size if lot_size is not None else N)
     walk.run(eps)
     return WalkResult(pa=walk.out[0], asn=walk.out[1] + walk.out[2], accepted_units=walk.out[1],

@@ -92,7 +92,8 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from lotwise.core.search import check_lot, check_targets
-from lotwise.core.stages import WALK_EPS, finish_shape, level_to_x, unit_walk
+from lotwise.core.stages import (NO_REJECTION, WALK_EPS, finish_shape, level_to_x,
+                                  unit_walk, walk_band)
 from lotwise.core.types import Scope, Targets, lot_targets
 from lotwise.families.base import Decision, Family, Option, OptionKind, Plan, check_record
 from lotwise.core import kernels as oc
@@ -319,6 +320,12 @@ class SequentialPlan(Plan):
             return _floor(self.midpoint) + 1
         return _ceil(self.s * n + self.h2)
 
+    def widest_band(self) -> int:
+        """The most counts undecided after any unit (see :func:`walk_band`)."""
+        _, a, r = self.numbers()
+        return int(walk_band(np.concatenate([[-1], a]),
+                             np.concatenate([[NO_REJECTION], r])).max(initial=0))
+
     def numbers(self):
         """``(n, acceptance, rejection)`` arrays for ``n = 1 .. truncate``."""
         n0 = self.truncate
@@ -397,7 +404,8 @@ class SequentialPlan(Plan):
         if self.never_accepts:
             level_to_x(p, model, scope, rounding, self.truncate)  # the usual checks
             return finish_shape(np.zeros(np.shape(p)), np.shape(p))
-        if model in ("binomial", "poisson") and self.truncate > BLOCKED_FROM:
+        if model in ("binomial", "poisson") and self.truncate > BLOCKED_FROM \
+                and self.widest_band() <= BLOCKED_BAND:
             # Long plans: block by block (equal to the walk within 1e-12).
             x = level_to_x(p, model, scope, rounding, self.truncate)
             return finish_shape(pa_blocked(self, np.ravel(x), model), np.shape(p))
@@ -652,6 +660,11 @@ def _matpow(m, k: int):
 #: Truncation points above which ``Pa`` under the binomial and Poisson models
 #: is computed block by block (:func:`pa_blocked`) rather than unit by unit.
 BLOCKED_FROM = 2000
+
+
+#: Widest band of undecided counts :func:`pa_blocked` takes (its block matrices are
+#: band x band); wider plans are walked unit by unit.
+BLOCKED_BAND = 2000
 
 
 def pa_blocked(plan: "SequentialPlan", x, model: str, eps: float = WALK_EPS):
