@@ -510,7 +510,8 @@ def maximise_over_levels(func, plan, model: str, scope: Scope, points: int = 201
 
     A grid over the range where ``Pa`` falls from 1 to 0.001, refined by
     repeated finer grids around the grid maximum (whole lot counts under the
-    hypergeometric model). For double plans under the binomial and
+    hypergeometric model: grids of at most ``points`` counts until the bracket
+    holds that few, then every count in it, so a lot of 10^9 costs a few grids). For double plans under the binomial and
     Poisson models :func:`lotwise.families.double.double_max_asn` gives the
     closed form; this generic search agrees with it to the refinement
     tolerance.
@@ -528,6 +529,11 @@ def maximise_over_levels(func, plan, model: str, scope: Scope, points: int = 201
         i = int(np.argmax(vals))
         lo_d = int(ds[max(i - 1, 0)])
         hi_d = int(ds[min(i + 1, len(ds) - 1)])
+        while hi_d - lo_d > points:  # zoom on whole counts until every count can be tried
+            ds = np.unique(np.linspace(lo_d, hi_d, points).round())
+            vals = np.asarray(func(ds / N, model, scope))
+            i = int(np.argmax(vals))
+            lo_d, hi_d = int(ds[max(i - 1, 0)]), int(ds[min(i + 1, len(ds) - 1)])
         fine = np.arange(lo_d, hi_d + 1, dtype=float)
         fv = np.asarray(func(fine / N, model, scope))
         j = int(np.argmax(fv))
