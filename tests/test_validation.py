@@ -104,6 +104,7 @@ def test_an_altered_reference_value_fails_loudly():
     assert "| FAIL |" in md
 
 
+@pytest.mark.slow
 def test_cli_exits_1_when_a_value_is_altered(tmp_path, capsys, monkeypatch, installed_clean):
     monkeypatch.setitem(validation.__dict__, "PROVIDERS", [f"{__name__}:_perturbed"])
     code = main(["validate", "--out", str(tmp_path), "--json"])

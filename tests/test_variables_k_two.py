@@ -52,6 +52,7 @@ def z_of(q):
     return -mp.sqrt(2) * mp.erfinv(2 * mp.mpf(q) - 1)  # upper-tail normal quantile
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("level", [0.06])
 def test_exact_oc_matches_mpmath_double_integral(level):
     plan = parse_plan("variables: n=30,k=1.9,lower=9.9,upper=10.1,method=k")
