@@ -392,3 +392,31 @@ def test_error_free_column_at_the_tables_counts(capsys, plan, N, aql, rql, level
         exact = sum(mpmath.binomial(D, k) * mpmath.binomial(N - D, n - k)
                     for k in range(c + 1)) / mpmath.binomial(N, n)
         assert row[cols.index("error_free_pa")] == pytest.approx(float(exact), abs=1e-12)
+
+
+@pytest.mark.parametrize("extra", [[], ["--lot-size", "2000"]])
+def test_cli_design_with_rates_holds_the_true_risks(capsys, extra):
+    # The designed plan's Pa at the true AQL and RQL, recomputed here from the
+    # closed form Pa = B(c; n, p(1 - e2) + (1 - p) e1) with mpmath (30 digits) for
+    # the process; both risks met (tolerance 1e-9).
+    import json
+
+    import mpmath
+
+    from lotwise.cli import main
+
+    code = main(["design", "--aql", "1%", "--rql", "6%", "--miss-rate", "10%",
+                 "--false-alarm", "1%", "--json", *extra])
+    out, err = capsys.readouterr()
+    assert code == 0, err
+    d = json.loads(out)
+    assert d["inspection_error"]["miss_rate"] == 0.1 and d["meets"]
+    if not extra:
+        n, c = d["n"], d["c"]
+
+        def pa(p):
+            pe = mpmath.mpf(p) * (1 - mpmath.mpf("0.1")) + (1 - mpmath.mpf(p)) * mpmath.mpf("0.01")
+            return sum(mpmath.binomial(n, k) * pe ** k * (1 - pe) ** (n - k) for k in range(c + 1))
+
+        assert float(pa("0.01")) >= 0.95 - 1e-9 and float(pa("0.06")) <= 0.10 + 1e-9
+        assert d["models"]["binomial"]["pa_rql"] == pytest.approx(float(pa("0.06")), abs=1e-9)

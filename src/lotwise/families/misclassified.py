@@ -65,6 +65,7 @@ import numpy as np
 from lotwise.core.inspection import (ErrorRates, apparent, check_rates, flagged_counts,
                                      observed_cdf)
 from lotwise.core.quantities import InputError
+from lotwise.core.search import Kernel
 from lotwise.core.types import AoqFormula, Scope, lot_counts, parse_choice
 from lotwise.families.base import Family, Plan, family, finish, need_lot
 
@@ -340,7 +341,7 @@ def error_free_columns(plan: MisclassifiedPlan, ps, model: str, scope: Scope,
 
 # --- design -------------------------------------------------------------------------
 
-class _SeenKernel:
+class _SeenKernel(Kernel):
     """``Pa`` of single plans ``(n, c)`` at the true AQL and RQL with inspection errors,
     for arrays of ``n`` and ``c`` (the interface of :class:`lotwise.core.search.Kernel`).
 
@@ -358,6 +359,7 @@ class _SeenKernel:
 
         self.rates = rates
         self.model = model
+        self.evaluations = 0
         self.N = scope.lot_size
         self.per_unit = scope.defects
         seen = Targets(aql=apparent(targets.aql, rates.miss_rate, rates.false_alarm,
