@@ -94,10 +94,15 @@ FRAC = pool(FRACTION, MALFORMED[:6], HUGE[:3])
 RSK = pool(RISK, MALFORMED[:4])
 CNT = pool(COUNT, MALFORMED[:5], HUGE)
 PLAN = pool(PLANS, MALFORMED[:3])
+RATE = pool(["0", "5%", "10%", "0.3", "60%", "1", "-1%", "x"])
+STUDY = pool(["missed 4 of 50 nonconforming; flagged 2 of 50 conforming",
+              "missed 0 of 10 nonconforming; flagged 0 of 10 conforming",
+              "missed 60 of 50 nonconforming; flagged 2 of 50 conforming", "x"])
+ERRORS = {"--miss-rate": RATE, "--false-alarm": RATE, "--study": STUDY}
 
 #: command -> (option -> strategy of its value, or None for a flag)
 COMMANDS = {
-    "design": {"--aql": FRAC, "--rql": FRAC, "--alpha": RSK, "--beta": RSK,
+    "design": {**ERRORS, "--aql": FRAC, "--rql": FRAC, "--alpha": RSK, "--beta": RSK,
                "--lot-size": CNT, "--model": pool(MODEL), "--defects": None,
                "--scheme": pool(["single", "double", "sequential", "chain", "variables",
                                  "csp1", "csp2", "csp3", "compare-all", "multiple", "x"]),
@@ -109,16 +114,16 @@ COMMANDS = {
                "--upper": CNT, "--ratio": pool(["2", "0.5", "0", "11", "x"]),
                "--truncate": CNT, "--f": pool(["0.1", "1/10", "10%", "0", "2", "x"]),
                "--i": CNT},
-    "check": {"--plan": PLAN, "--n": CNT, "--c": CNT, "--aql": FRAC, "--rql": FRAC,
+    "check": {**ERRORS, "--plan": PLAN, "--n": CNT, "--c": CNT, "--aql": FRAC, "--rql": FRAC,
               "--alpha": RSK, "--beta": RSK, "--lot-size": CNT, "--model": pool(MODEL),
               "--defects": None, "--aoq-formula": pool(["screened", "simple", "x"]),
               "--skip-lot": pool(["i=4,f=0.25", "i=0,f=2", "x"]), "--at": FRAC,
               "--run-length": CNT},
-    "oc": {"--plan": PLAN, "--n": CNT, "--c": CNT, "--lot-size": CNT,
+    "oc": {**ERRORS, "--plan": PLAN, "--n": CNT, "--c": CNT, "--lot-size": CNT,
            "--model": pool(MODEL), "--defects": None, "--max-p": FRAC,
            "--points": pool(["5", "21", "0", "1", "100000", "x"]), "--at": FRAC,
            "--aql": FRAC, "--rql": FRAC},
-    "compare": {"--plan": PLAN, "--aql": FRAC, "--rql": FRAC, "--alpha": RSK,
+    "compare": {**ERRORS, "--plan": PLAN, "--aql": FRAC, "--rql": FRAC, "--alpha": RSK,
                 "--beta": RSK, "--lot-size": CNT, "--model": pool(MODEL),
                 "--defects": None, "--designed": None},
     "zero": {"--rql": FRAC, "--beta": RSK, "--aql": FRAC, "--alpha": RSK, "--plan": PLAN,
