@@ -157,14 +157,14 @@ def variables_oc(plan, *, max_p=None, points="21", at=None, rql=None) -> dict:
     if plan.exact_model in TWO_LIMIT_EXACT:
         header.append("pa_one_tail_noncentral_t")
         cols.append(np.asarray(plan.pa(ps, "noncentral-t"), dtype=float))
-    gauge = getattr(plan, "gauge", None)  # judged through a gauge: the perfect gauge beside
-    if gauge is not None:
+    perfect = plan.error_free  # judged through a gauge: the perfect gauge beside
+    if perfect is not None:
         header.append("error_free_pa")
-        cols.append(np.asarray(plan.inner.pa(ps), dtype=float))
+        cols.append(np.asarray(perfect.pa(ps), dtype=float))
     rows = [[float(pv)] + [float(c[i]) for c in cols] for i, pv in enumerate(ps)]
     out = {"scheme": "variables", **plan.to_dict(), "columns": header, "rows": rows}
-    if gauge is not None:
-        out["measurement_error"] = gauge.as_dict()
+    if perfect is not None:
+        out["measurement_error"] = plan.gauge.as_dict()
     return out
 
 

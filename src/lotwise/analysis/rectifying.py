@@ -297,7 +297,7 @@ def aoql(plan, scope: Scope, model: str | None = None, formula: str = "screened"
     """
     check_formula(formula, "formula")
     model = scope.check_model(model)
-    if getattr(plan, "imperfect_screening", False):
+    if plan.imperfect_screening:
         return aoq_peak(plan, scope, model, formula)
     if model == "hypergeometric":
         return _aoql_counts(plan, scope, formula)

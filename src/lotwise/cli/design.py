@@ -85,7 +85,9 @@ def design(
     import importlib
 
     if gauge is not None:
-        if key != "variables":
+        from lotwise.families.base import REGISTRY, family
+
+        if key not in REGISTRY or family(key).plan_class.evaluation != "process":
             raise InputError(f"--measurement-sd ({gauge['measurement_sd']:g}) applies to "
                              "--scheme variables; an attribute inspection that misjudges items "
                              "is --miss-rate/--false-alarm")

@@ -166,9 +166,9 @@ def judged(plan, req, ch):
     rates = getattr(req, "inspection", None)
     if rates is None:
         return plan
-    from lotwise.families.misclassified import MisclassifiedPlan, wrap
+    from lotwise.families.misclassified import wrap
 
-    if isinstance(plan, MisclassifiedPlan):
+    if plan.error_free is not None:  # judged with its errors already
         return plan
     if not plan.attribute_plan or plan.evaluation != "lot":
         raise InputError(f"{req.path}: [inspection] (miss_rate, false_alarm, study) applies to "

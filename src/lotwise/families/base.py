@@ -196,6 +196,9 @@ class Plan(ABC):
     #: sample of this family (each with its own acceptance number): a part's plan
     #: file, sheet and pick list then draw that sample once.
     common_sample: ClassVar[bool] = False
+    #: True when rejected lots are screened by an inspection that misses
+    #: nonconforming items (the AOQ rises again; the AOQL is its first peak).
+    imperfect_screening: ClassVar[bool] = False
     #: How :meth:`aoq_count` computes the finite-lot AOQ, in words for reports.
     finite_aoq_text: ClassVar[str] = "the plan's exact E[(D - X) 1{accept}] / N"
 
@@ -222,6 +225,12 @@ class Plan(ABC):
     @abstractmethod
     def notation(self) -> str:
         """Plan notation that :func:`parse_plan` reads back to an equal plan."""
+
+    @property
+    def error_free(self) -> "Plan | None":
+        """The plan as a perfect inspection or gauge would judge it, when this plan
+        is judged with inspection or measurement errors; None otherwise."""
+        return None
 
     @property
     def sole_acceptance_number(self) -> int | None:

@@ -180,6 +180,10 @@ class MeasuredPlan(Plan):
     evaluation = "process"
 
     @property
+    def error_free(self) -> Plan:
+        return self.inner
+
+    @property
     def _seen(self) -> Plan:
         """The error-free plan whose ``Pa`` at ``p'`` is this plan's at ``p``."""
         if self.gauge.sigma_is == "process":

@@ -106,6 +106,10 @@ class MisclassifiedPlan(Plan):
     def __post_init__(self):
         check_rates(self.rates.miss_rate, self.rates.false_alarm)
 
+    @property
+    def error_free(self) -> Plan:
+        return self.inner
+
     # -- what the inner plan is --------------------------------------------------
     @property
     def scheme(self) -> str:  # type: ignore[override]

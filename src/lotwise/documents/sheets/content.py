@@ -81,9 +81,7 @@ class SheetContent:
 def error_free(plan):
     """The plan as a perfect inspection would judge it, when ``plan`` is judged with
     inspection errors; else None."""
-    from lotwise.families.misclassified import MisclassifiedPlan
-
-    return plan.inner if isinstance(plan, MisclassifiedPlan) else None
+    return plan.error_free
 
 
 def _lvl(x, per_unit):
