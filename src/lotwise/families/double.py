@@ -546,19 +546,52 @@ def _search_r1(ev, best, lower_bound, ratio, n1_cap, alpha, beta, minimize):
         asn_aql = n1s[:, None] + n2s[:, None] * (first[:, -1:] - first)
         todo = (asn_aql <= best[0] * (1 + 1e-9)) & (first[:, -1:] >= 1 - alpha - _TOL)
         todo &= np.arange(r1)[None, :] <= n1s[:, None]
-        rows = np.flatnonzero(todo.any(axis=1))
-        if not rows.size:
+        best = _best_first(ev, best, n1s, n2s, f, first, asn_aql, todo, r1, ratio, alpha,
+                           beta, minimize)
+    return best, {"r1": [1, r1 - 1], "c1": [0, "r1 - 1"],
+                  "c2": "the smallest meeting alpha for each n1, c1, r1",
+                  "n1": "L(r1 - 1) to the best ASN", "plans_evaluated": ev.evaluated - evaluated0,
+                  "stopped": stop}
+
+
+def _best_first(ev, best, n1s, n2s, f, first, asn_aql, todo, r1, ratio, alpha, beta,
+                minimize):
+    """Best plan with this ``r1`` (or ``best``), taking the candidates
+    ``(n1, c1)`` marked in ``todo`` in rising order of their ASN at the AQL.
+
+    The ASN at the AQL does not depend on ``c2`` and is a lower bound of both
+    objectives (fact 3), so once the next candidate's ASN at the AQL exceeds
+    the best objective (beyond the tie tolerance) no later one can beat or tie
+    it and the scan stops. Before the search for ``c2``, a candidate is
+    dropped when even ``c2 = r1 - 1`` (the smallest allowed) gives
+    ``Pa(RQL) > beta``: ``Pa`` rises in ``c2`` (fact 2), so no ``c2`` meets
+    beta. Nothing is dropped that could beat or tie the answer.
+    """
+    rows, cols = np.nonzero(todo)
+    key = asn_aql[rows, cols]
+    order = np.lexsort((cols, n1s[rows], key))
+    rows, cols, key = rows[order], cols[order], key[order]
+    start, chunk = 0, 64
+    while start < rows.size:
+        if key[start] > best[0] * (1 + 1e-9):
+            break
+        ri, ci = rows[start:start + chunk], cols[start:start + chunk]
+        start += chunk
+        chunk = min(chunk * 2, 4096)
+        n1, c1 = n1s[ri], ci.astype(np.int64)
+        n2 = n2s[ri]
+        ok = ev.pa_rql(n1, c1, np.full(n1.shape, r1 - 1), n2, r1) <= beta + _TOL
+        if not ok.any():
             continue
-        table = _smallest_c2(ev, n1s[rows], n2s[rows], f[rows], first[rows], r1, alpha,
-                             todo[rows])
-        n1 = np.repeat(n1s[rows], r1)
-        c1 = np.tile(np.arange(r1, dtype=np.int64), rows.size)
-        c2 = table.ravel()
+        ri, n1, c1, n2 = ri[ok], n1[ok], c1[ok], n2[ok]
+        one = np.zeros((ri.size, r1), dtype=bool)
+        one[np.arange(ri.size), c1] = True
+        table = _smallest_c2(ev, n1, n2, f[ri], first[ri], r1, alpha, one)
+        c2 = table[np.arange(ri.size), c1]
         have = c2 >= 0
-        n1, c1, c2 = n1[have], c1[have], c2[have]
+        n1, c1, c2, n2 = n1[have], c1[have], c2[have], n2[have]
         if not n1.size:
             continue
-        n2 = _n2(n1, ratio)
         good = ev.pa_rql(n1, c1, c2, n2, r1) <= beta + _TOL
         n1, c1, c2, n2 = n1[good], c1[good], c2[good], n2[good]
         if not n1.size:
@@ -568,10 +601,7 @@ def _search_r1(ev, best, lower_bound, ratio, n1_cap, alpha, beta, minimize):
             cand = (float(obj[i]), int(n1[i]), int(c2[i]), int(c1[i]), r1)
             if _better(cand, best):
                 best = cand
-    return best, {"r1": [1, r1 - 1], "c1": [0, "r1 - 1"],
-                  "c2": "the smallest meeting alpha for each n1, c1, r1",
-                  "n1": "L(r1 - 1) to the best ASN", "plans_evaluated": ev.evaluated - evaluated0,
-                  "stopped": stop}
+    return best
 
 
 def _n1_cap(cap_total, ratio):
