@@ -50,7 +50,11 @@ facts:
 First pass: for each ``c2`` every ``c1 < c2`` and every ``n1`` in
 ``[n_lo, min(n_hi, A)]`` is evaluated (vectorised). Second pass: for each
 ``r1`` every ``c1 < r1`` and every ``n1`` from ``L(r1 - 1)`` to ``A``, with
-``c2`` from fact 5. Ties in the objective (within 1e-9 relative) go to the
+``c2`` from fact 5, taken in rising order of the ASN at the AQL (a lower
+bound of both objectives that does not depend on ``c2``; the scan of an
+``r1`` stops at the first candidate above the best objective), and a
+candidate is dropped before its ``c2`` search when ``c2 = r1 - 1`` already
+gives ``Pa(RQL) > beta`` (fact 2: no larger ``c2`` meets beta). Ties in the objective (within 1e-9 relative) go to the
 smaller ``n1``, then ``c2``, then ``c1``, then ``r1``. What each pass searched
 is reported under ``search`` (``searched`` for the second).
 
@@ -520,7 +524,7 @@ def _search_r1(ev, best, lower_bound, ratio, n1_cap, alpha, beta, minimize):
     ``c2``); ``L`` does not fall in ``r1`` and ``ASN >= n1`` (fact 3), so
     ``r1`` runs from 1 until ``L(r1 - 1)`` exceeds the best objective, and
     for each ``r1`` every ``c1 < r1`` and every ``n1`` from ``L(r1 - 1)`` to
-    the best objective is tried.
+    the best objective is tried, best-first (:func:`_best_first`).
     """
     evaluated0 = ev.evaluated
     r1 = 0
@@ -546,19 +550,49 @@ def _search_r1(ev, best, lower_bound, ratio, n1_cap, alpha, beta, minimize):
         asn_aql = n1s[:, None] + n2s[:, None] * (first[:, -1:] - first)
         todo = (asn_aql <= best[0] * (1 + 1e-9)) & (first[:, -1:] >= 1 - alpha - _TOL)
         todo &= np.arange(r1)[None, :] <= n1s[:, None]
-        rows = np.flatnonzero(todo.any(axis=1))
-        if not rows.size:
-            continue
-        table = _smallest_c2(ev, n1s[rows], n2s[rows], f[rows], first[rows], r1, alpha,
-                             todo[rows])
-        n1 = np.repeat(n1s[rows], r1)
-        c1 = np.tile(np.arange(r1, dtype=np.int64), rows.size)
-        c2 = table.ravel()
+        best = _best_first(ev, best, n1s, n2s, f, first, asn_aql, todo, r1, ratio, alpha,
+                           beta, minimize)
+    return best, {"r1": [1, r1 - 1], "c1": [0, "r1 - 1"],
+                  "c2": "the smallest meeting alpha for each n1, c1, r1",
+                  "n1": "L(r1 - 1) to the best ASN", "plans_evaluated": ev.evaluated - evaluated0,
+                  "stopped": stop}
+
+
+def _best_first(ev, best, n1s, n2s, f, first, asn_aql, todo, r1, ratio, alpha, beta,
+                minimize):
+    """Best plan with this ``r1`` (or ``best``), taking the candidates
+    ``(n1, c1)`` marked in ``todo`` in rising order of their ASN at the AQL.
+
+    The ASN at the AQL does not depend on ``c2`` and is a lower bound of both
+    objectives (fact 3), so once the next candidate's ASN at the AQL exceeds
+    the best objective (beyond the tie tolerance) no later one can beat or tie
+    it and the scan stops. Before the scan, a candidate is dropped when
+    even ``c2 = r1 - 1`` (the smallest allowed) gives ``Pa(RQL) > beta``
+    (:func:`_beta_reachable`): ``Pa`` rises in ``c2`` (fact 2), so no ``c2``
+    meets beta. Nothing is dropped that could beat or tie the answer.
+    """
+    todo = todo & _beta_reachable(ev, n1s, n2s, r1, beta)
+    rows, cols = np.nonzero(todo)
+    key = asn_aql[rows, cols]
+    order = np.lexsort((cols, n1s[rows], key))
+    rows, cols, key = rows[order], cols[order], key[order]
+    start, chunk = 0, 64
+    while start < rows.size:
+        if key[start] > best[0] * (1 + 1e-9):
+            break
+        ri, ci = rows[start:start + chunk], cols[start:start + chunk]
+        start += chunk
+        chunk = min(chunk * 2, 4096)
+        n1, c1 = n1s[ri], ci.astype(np.int64)
+        n2 = n2s[ri]
+        one = np.zeros((ri.size, r1), dtype=bool)
+        one[np.arange(ri.size), c1] = True
+        table = _smallest_c2(ev, n1, n2, f[ri], first[ri], r1, alpha, one)
+        c2 = table[np.arange(ri.size), c1]
         have = c2 >= 0
-        n1, c1, c2 = n1[have], c1[have], c2[have]
+        n1, c1, c2, n2 = n1[have], c1[have], c2[have], n2[have]
         if not n1.size:
             continue
-        n2 = _n2(n1, ratio)
         good = ev.pa_rql(n1, c1, c2, n2, r1) <= beta + _TOL
         n1, c1, c2, n2 = n1[good], c1[good], c2[good], n2[good]
         if not n1.size:
@@ -568,10 +602,30 @@ def _search_r1(ev, best, lower_bound, ratio, n1_cap, alpha, beta, minimize):
             cand = (float(obj[i]), int(n1[i]), int(c2[i]), int(c1[i]), r1)
             if _better(cand, best):
                 best = cand
-    return best, {"r1": [1, r1 - 1], "c1": [0, "r1 - 1"],
-                  "c2": "the smallest meeting alpha for each n1, c1, r1",
-                  "n1": "L(r1 - 1) to the best ASN", "plans_evaluated": ev.evaluated - evaluated0,
-                  "stopped": stop}
+    return best
+
+
+def _beta_reachable(ev, n1s, n2s, r1, beta):
+    """``ok[i, c1]``: whether plan ``(n1s[i], c1, r1, n2s[i], c2 = r1 - 1)``
+    meets beta, for every ``c1 < r1``; ``n1s`` rising.
+
+    With ``c2 = r1 - 1`` fixed, ``Pa`` falls in ``n1`` (fact 1), so for each
+    ``c1`` the plans meeting beta are those from the first index that does:
+    found by integer bisection (index -1 counts as failing, ``len(n1s)`` as
+    meeting). A plan failing here fails for every ``c2 >= r1 - 1`` (fact 2).
+    """
+    c1 = np.arange(r1, dtype=np.int64)
+    lo = np.full(r1, -1, dtype=np.int64)
+    hi = np.full(r1, n1s.size, dtype=np.int64)
+    act = hi - lo > 1
+    while act.any():
+        mid = (lo + hi) // 2
+        m = mid[act]
+        good = ev.pa_rql(n1s[m], c1[act], np.full(m.shape, r1 - 1), n2s[m], r1) <= beta + _TOL
+        hi[act] = np.where(good, m, hi[act])
+        lo[act] = np.where(good, lo[act], m)
+        act = hi - lo > 1
+    return np.arange(n1s.size)[:, None] >= hi[None, :]
 
 
 def _n1_cap(cap_total, ratio):

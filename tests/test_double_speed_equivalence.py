@@ -1,0 +1,54 @@
+"""The double-plan designer returns exactly the plans of its slower predecessor.
+
+Reference: ``reference_double_before.design_double``, a verbatim copy of the
+designer before the best-first search over ``r1`` (itself checked against
+scipy.stats enumeration in test_design_double.py). Tolerance: the same plan
+(n1, c1, r1, n2, c2) and the same objective to 1e-12 relative.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+import reference_double_before as before
+from lotwise.families.double import design_double
+
+
+def _targets(count, seed):
+    """Seeded random target sets: AQL 0.5-3 %, RQL/AQL 2.5-8, ratio 0.5-3,
+    the three models, both objectives."""
+    rng = np.random.default_rng(seed)
+    out = []
+    for _ in range(count):
+        aql = float(np.round(rng.uniform(0.005, 0.03), 4))
+        rql = float(np.round(aql * rng.uniform(2.5, 8.0), 4))
+        model = str(rng.choice(["binomial", "poisson", "hypergeometric"]))
+        lot = int(rng.choice([300, 800, 2000])) if model == "hypergeometric" else None
+        out.append(dict(aql=aql, rql=min(rql, 0.4), ratio=float(rng.choice([0.5, 1, 1.5, 2, 3])),
+                        model=model, lot_size=lot,
+                        minimize=str(rng.choice(["asn-aql", "asn-max"]))))
+    return out
+
+
+def _same(kw):
+    try:
+        ref = before.design_double(**kw)
+    except before.Infeasible:
+        with pytest.raises(before.Infeasible):
+            design_double(**kw)
+        return
+    got = design_double(**kw)
+    assert got.plan.label == ref.plan.label, kw
+    assert got.objective == pytest.approx(ref.objective, rel=1e-12)
+
+
+@pytest.mark.parametrize("kw", _targets(12, 20261202))
+def test_same_plans_fast_subset(kw):
+    _same(kw)
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("kw", _targets(100, 7))
+def test_same_plans_randomised(kw):
+    _same(kw)
