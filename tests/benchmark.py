@@ -63,9 +63,13 @@ def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--quick", action="store_true", help="fewer repetitions")
     ap.add_argument("--only", default=None, help="run cases whose name contains this text")
+    ap.add_argument("--skip", action="append", default=[],
+                    help="leave out cases whose name contains this text (repeatable)")
     args = ap.parse_args(argv)
     rows = []
     for module, case in load_cases():
+        if any(text in case["name"] for text in args.skip):
+            continue
         if args.only and args.only not in case["name"]:
             continue
         rep = case.get("repeat", 15)
