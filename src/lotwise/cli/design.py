@@ -72,9 +72,10 @@ def design(
     gauge = common.gauge_args(opts.pop("measurement_sd"), opts.pop("sigma_is"),
                               opts.pop("process_sd"))
     key = scheme.strip().lower()
-    names = list(SCHEMES) + [f for f in _registered() if f not in SCHEMES]
-    if key not in names:
-        raise InputError(f"--scheme ({scheme}) must be one of: {', '.join(names)}")
+    if key not in SCHEMES:  # a family registered with a designer of its own (imports them all)
+        names = list(SCHEMES) + [f for f in _registered() if f not in SCHEMES]
+        if key not in names:
+            raise InputError(f"--scheme ({scheme}) must be one of: {', '.join(names)}")
     target, takes_prior = SCHEMES.get(key, ("design:registered_cmd", False))
     extra = prior_cli.given(opts)
     if not takes_prior and (extra or minimize == "cost"):

@@ -124,9 +124,10 @@ def design(q) -> Reply:
 
     rates = error_rates(q)
     scheme = o["scheme"]
-    names = list(DESIGNERS) + [f for f in designable() if f not in DESIGNERS]
-    if scheme not in names:
-        raise InputError(f"--scheme ({scheme}) must be one of: {', '.join(names)}")
+    if scheme not in DESIGNERS:  # a family registered with a designer of its own
+        names = list(DESIGNERS) + [f for f in designable() if f not in DESIGNERS]
+        if scheme not in names:
+            raise InputError(f"--scheme ({scheme}) must be one of: {', '.join(names)}")
     if rates is not None:  # the true risks held under inspection errors
         return _design_with_errors(o, rates)
     return DESIGNERS.get(scheme, _design_registered)(o)
