@@ -26,6 +26,7 @@ Every ``tests/bench_*.py`` module contributes a list ``CASES`` of dicts:
 from __future__ import annotations
 
 import argparse
+import os
 import importlib.util
 import statistics
 import sys
@@ -61,6 +62,11 @@ def load_cases():
 
 def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    # A user's install keeps compiled bytecode; on a machine set to write none every
+    # command started below would recompile lotwise and the timings would measure the
+    # compiler. The first start writes the bytecode, as a user's first run does.
+    os.environ.pop("PYTHONDONTWRITEBYTECODE", None)
+    sys.dont_write_bytecode = False
     ap.add_argument("--quick", action="store_true", help="fewer repetitions")
     ap.add_argument("--only", default=None, help="run cases whose name contains this text")
     ap.add_argument("--skip", action="append", default=[],
