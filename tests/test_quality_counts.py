@@ -9,7 +9,7 @@ hypergeometric tails with scipy.special and never calls scipy.stats):
 * the Pa of double sampling (the second sample drawn from the rest of the lot)
   and of ChSP-1 (Pa = P0 + P1 P0^i) and SkSP-2 (Pa = (f P + (1 - f) P^i) /
   (f + (1 - f) P^i)) as given by E. G. Schilling and D. V. Neubauer, 2nd ed.,
-  CRC Press, 2009 (chapters on double, chain and skip-lot sampling; formulas
+  CRC Press, 2009 (chapters on double, chain and skip-lot plans; formulas
   from memory), evaluated here with scipy.stats.hypergeom;
 * a brute-force scan over every count D = 0..N (no search) for the
   definitions of the three counts.

@@ -24,7 +24,7 @@ PLAN = """[part]
 id = "P-1"
 [lot]
 {lot}
-{sampling}
+{sample_table}
 [[characteristic]]
 id = "M1"
 class = "major"
@@ -46,8 +46,8 @@ def _run(capsys, argv):
     return code, out.out, out.err
 
 
-def _plan_file(tmp_path, lot="size = 60", sampling="", extra=""):
-    return _file(tmp_path, "p.toml", PLAN.format(lot=lot, sampling=sampling, extra=extra))
+def _plan_file(tmp_path, lot="size = 60", sample="", extra=""):
+    return _file(tmp_path, "p.toml", PLAN.format(sample_table=sample, lot=lot, extra=extra))
 
 
 # --- bad input: the one-line message --------------------------------------------------
@@ -131,7 +131,7 @@ def _sample_above_lot(tmp_path):
 
 
 def _no_strata(tmp_path):
-    return _plan_file(tmp_path, lot="size = 600", sampling='[sampling]\nstrata = "trays=0"')
+    return _plan_file(tmp_path, lot="size = 600", sample='[sampling]\nstrata = "trays=0"')
 
 
 def _huge_lot(tmp_path):
@@ -139,7 +139,7 @@ def _huge_lot(tmp_path):
 
 
 def _huge_seed(tmp_path):
-    return _plan_file(tmp_path, lot="size = 600", sampling=f"[sampling]\nseed = {2**128}")
+    return _plan_file(tmp_path, lot="size = 600", sample=f"[sampling]\nseed = {2**128}")
 
 
 # (file maker, what the line must hold). Rule: README "Bad input"; a plan file's

@@ -41,7 +41,7 @@ References
 .. [1] N. L. Johnson, S. Kotz and R. N. Rodriguez, "Statistical effects of
    imperfect inspection sampling", Journal of Quality Technology 18 (1986).
 .. [2] E. G. Schilling and D. V. Neubauer, 2nd ed., CRC Press, 2009
-   (inspection error in acceptance sampling).
+   (the chapter on inspection error).
 
 Examples
 --------

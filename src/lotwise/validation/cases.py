@@ -21,11 +21,11 @@ References
    Wiley, 1959 (AOQL, ATI).
 .. [2] Dodge, H. F., "Chain sampling inspection plan", *Industrial Quality
    Control* 11(4), 1955.
-.. [3] Perry, R. L., "Skip-lot sampling plans", *Journal of Quality
-   Technology* 5(3), 1973.
+.. [3] Perry, R. L., the article introducing skip-lot plans (SkSP-2), *Journal of
+   Quality Technology* 5(3), 1973.
 .. [4] Wald, A., *Sequential Analysis*, Wiley, 1947.
 .. [5] Montgomery, D. C., *Introduction to Statistical Quality Control*,
-   6th ed., Wiley, 2009 (the chapters on acceptance sampling; cited from memory).
+   6th ed., Wiley, 2009 (the chapters on acceptance plans; cited from memory).
 .. [6] NIST/SEMATECH e-Handbook of Statistical Methods, 2012, section 6.2.4.
 
 Examples

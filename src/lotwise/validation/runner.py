@@ -348,7 +348,7 @@ def single_sampling_cases() -> list:
         cases.append(ReferenceCase(
             id=f"montgomery-n89-c2-p{k}pct",
             description=f"binomial Pa of n = 89, c = 2 at p = {k} %",
-            source="D. C. Montgomery, Introduction to Statistical Quality Control, 6th ed., Wiley, 2009, chapter on lot-by-lot acceptance sampling for attributes, "
+            source="D. C. Montgomery, Introduction to Statistical Quality Control, 6th ed., Wiley, 2009, chapter on lot-by-lot acceptance plans for attributes, "
                    "OC curve example of n = 89, c = 2 (from memory; section not verified)",
             expected=val, tolerance=5e-6,
             tolerance_reason="half a unit in the fifth decimal, the digits published",
@@ -357,14 +357,14 @@ def single_sampling_cases() -> list:
         ReferenceCase(
             id="montgomery-n89-c2-alpha",
             description="producer's risk of the nomograph plan n = 89, c = 2 at AQL 1 %",
-            source="D. C. Montgomery, Introduction to Statistical Quality Control, 6th ed., Wiley, 2009, chapter on lot-by-lot acceptance sampling for attributes, "
+            source="D. C. Montgomery, Introduction to Statistical Quality Control, 6th ed., Wiley, 2009, chapter on lot-by-lot acceptance plans for attributes, "
                    "nomograph plan n = 89, c = 2, alpha about 6.0 % (from memory)",
             expected=0.060, tolerance=0.0005,
             tolerance_reason="half a unit in the last published digit (6.0 %)", compute=lambda: 1.0 - _pa(89, 2, 0.01)),
         ReferenceCase(
             id="montgomery-design-binomial",
             description="exact binomial design, AQL 1 %/alpha 5 %, RQL 6 %/beta 10 %: (n, c)",
-            source="D. C. Montgomery, Introduction to Statistical Quality Control, 6th ed., Wiley, 2009, chapter on lot-by-lot acceptance sampling for attributes, "
+            source="D. C. Montgomery, Introduction to Statistical Quality Control, 6th ed., Wiley, 2009, chapter on lot-by-lot acceptance plans for attributes, "
                    "single-plan design targets (from memory); the plan by independent "
                    "computation: enumeration of n with the smallest c meeting alpha, mpmath "
                    "binomial sums at 30 digits",
@@ -373,7 +373,7 @@ def single_sampling_cases() -> list:
         ReferenceCase(
             id="montgomery-design-poisson",
             description="Poisson-based design for the same targets: (n, c)",
-            source="D. C. Montgomery, Introduction to Statistical Quality Control, 6th ed., Wiley, 2009, chapter on lot-by-lot acceptance sampling for attributes, "
+            source="D. C. Montgomery, Introduction to Statistical Quality Control, 6th ed., Wiley, 2009, chapter on lot-by-lot acceptance plans for attributes, "
                    "same targets (from memory); the plan by independent computation: "
                    "enumeration with mpmath Poisson sums at 30 digits",
             expected=lambda: ind.single_design(0.01, 0.06, model="poisson"), tolerance=0,
