@@ -107,7 +107,7 @@ def _evaluations(kw):
 
 NEAR = [
     ("binomial, AQL 1 %/RQL 1.05 %", dict(aql=0.01, rql=0.0105), 50),
-    ("Poisson (per unit), AQL 1 %/RQL 1.05 %", dict(aql=0.01, rql=0.0105, defects=True), 50),
+    ("Poisson (per unit), AQL 1 %/RQL 1.05 %", dict(aql=0.01, rql=0.0105, per_unit=True), 50),
     ("hypergeometric, lot 10^9, AQL 1 %/RQL 1.05 %",
      dict(aql=0.01, rql=0.0105, lot_size=10**9), 50),
     ("hypergeometric, lot 10^6, AQL 0.1 %/RQL 0.15 %",

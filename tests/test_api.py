@@ -40,7 +40,7 @@ def test_design_single_matches_scipy():
     ({"aql": 0.01, "rql": 0.08, "lot_size": 500},
      ["design", "--aql", "0.01", "--rql", "0.08", "--lot-size", "500"]),
     ({"aql": 0.5, "rql": 2, "per_unit": True},
-     ["design", "--aql", "0.5", "--rql", "2", "--defects"]),
+     ["design", "--aql", "0.5", "--rql", "2", "--per-unit"]),
     ({"aql": 0.01, "rql": 0.05, "scheme": "double", "ratio": 2.0},
      ["design", "--aql", "0.01", "--rql", "0.05", "--scheme", "double", "--ratio", "2"]),
     ({"aql": 0.01, "rql": 0.15, "scheme": "chain"},

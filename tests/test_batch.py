@@ -138,11 +138,11 @@ def test_bad_rows_carry_their_reason_and_the_rest_is_designed():
 
 
 def test_per_unit_rows_match_the_single_designer():
-    # Reference: design_single with defects=True (Poisson exact for nonconformities).
+    # Reference: design_single with per_unit=True (Poisson exact for nonconformities).
     cat = pd.DataFrame({"part": ["a", "b"], "lot_size": ["100", ""], "aql": ["0.5", "1%"],
-                        "rql": ["2", "8%"], "defects": ["yes", "no"]})
+                        "rql": ["2", "8%"], "per_unit": ["yes", "no"]})
     t = design_catalogue(cat).table
-    d = design_single(aql=0.5, rql=2.0, lot_size=100, defects=True)
+    d = design_single(aql=0.5, rql=2.0, lot_size=100, per_unit=True)
     assert (int(t["n"][0]), int(t["c"][0]), t["model_used"][0]) == (d.n, d.c, "poisson")
     assert int(t["n"][1]) == design_single(aql=0.01, rql=0.08).n
 
@@ -307,7 +307,7 @@ def test_classes_of_rows_give_the_rows_designed_one_by_one():
             "beta": ["", "10%", "0.1", "0.2"],
             "scheme": ["", "single", "Single", "double", "triple"],
             "fixed_c": ["", "", "1", "-1"],
-            "defects": ["", "no", "yes", "maybe"],
+            "per_unit": ["", "no", "yes", "maybe"],
             "deliveries_per_year": ["", "12", "52", "x", "-3"]}
     cat = pd.DataFrame({"part": [f"R{i}" for i in range(300)],
                         **{c: [rng.choice(v) for _ in range(300)] for c, v in cols.items()}})

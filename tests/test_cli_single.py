@@ -172,7 +172,7 @@ def test_check_plan_with_c_above_n_per_unit(capsys):
     # Reference: scipy.stats.poisson: n = 1, c = 5 at 2 and 10 nonconformities
     # per unit accepts 0.983 and 0.067 (1e-3); the same plan counting items is
     # refused with one line and exit 2.
-    code, out, err = run(capsys, "check", "--plan", "n=1,c=5", "--defects", "--aql", "2",
+    code, out, err = run(capsys, "check", "--plan", "n=1,c=5", "--per-unit", "--aql", "2",
                          "--rql", "10", "--json")
     assert code == 0, err
     rep = json.loads(out)["models"]["poisson"]

@@ -226,7 +226,7 @@ def test_cap_reports_best_reachable():
     (dict(aql=0.01, rql=0.05, alpha=0.6, beta=0.5), Infeasible, "below 100 %"),
     (dict(aql=0.01, rql=0.05, model="hypergeometric"), InputError, "needs a lot size"),
     (dict(aql=0.01, rql=0.05, n=10, c=1), InputError, "cannot both"),
-    (dict(aql=0.01, rql=0.05, defects=True, model="binomial"), InputError, "Poisson model is exact"),
+    (dict(aql=0.01, rql=0.05, per_unit=True, model="binomial"), InputError, "Poisson model is exact"),
 ])
 def test_design_rejects(kw, exc, text):
     with pytest.raises(exc, match=text):
@@ -235,7 +235,7 @@ def test_design_rejects(kw, exc, text):
 
 def test_defects_per_unit_design_is_poisson():
     # Nonconformities per unit: the Poisson model is exact; levels may exceed 1.
-    d = design_single(aql=0.5, rql=2.0, defects=True)
+    d = design_single(aql=0.5, rql=2.0, per_unit=True)
     assert d.model == "poisson"
     assert oc.pa_poisson(d.n, d.c, 0.5) >= 0.95 and oc.pa_poisson(d.n, d.c, 2.0) <= 0.10
 
@@ -284,7 +284,7 @@ PER_UNIT_CASES = [
 def test_per_unit_design_is_smallest_by_brute_force(aql, rql, alpha, beta):
     # Reference: enumeration of every (n, c), n <= 120, c <= 400, with
     # scipy.stats.poisson (not what the designer calls); exact plan equality.
-    d = design_single(aql=aql, rql=rql, alpha=alpha, beta=beta, defects=True)
+    d = design_single(aql=aql, rql=rql, alpha=alpha, beta=beta, per_unit=True)
     assert (d.n, d.c) == _brute_per_unit(aql, rql, alpha, beta)
 
 
@@ -294,11 +294,11 @@ def test_per_unit_small_plans_named():
     # AQL 2 / RQL 10 at 5 % / 10 % (Pa 0.983 / 0.067); 1e-3 absolute.
     from scipy.stats import poisson
 
-    d = design_single(aql=0.2, rql=3.0, alpha=0.10, beta=0.25, defects=True)
+    d = design_single(aql=0.2, rql=3.0, alpha=0.10, beta=0.25, per_unit=True)
     assert (d.n, d.c) == (1, 1)
     assert poisson.cdf(1, 0.2) == pytest.approx(0.982, abs=1e-3)
     assert poisson.cdf(1, 3.0) == pytest.approx(0.199, abs=1e-3)
-    d = design_single(aql=2.0, rql=10.0, defects=True)
+    d = design_single(aql=2.0, rql=10.0, per_unit=True)
     assert (d.n, d.c) == (1, 5)
     assert poisson.cdf(5, 2.0) == pytest.approx(0.983, abs=1e-3)
     assert poisson.cdf(5, 10.0) == pytest.approx(0.067, abs=1e-3)
@@ -311,7 +311,7 @@ def test_per_unit_fixed_n_smallest_c(n):
     from scipy.stats import poisson
 
     aql, rql = 2.0, 10.0
-    d = design_single(aql=aql, rql=rql, defects=True, n=n)
+    d = design_single(aql=aql, rql=rql, per_unit=True, n=n)
     cs = np.arange(200)
     want = int(cs[np.argmax(poisson.cdf(cs, n * aql) >= 0.95 - 1e-12)])
     assert d.c == want and d.c > n
@@ -321,6 +321,6 @@ def test_c_above_n_only_for_nonconformities_per_unit():
     # Facts of the trade: a sample of n items cannot hold more than n
     # nonconforming ones, but n units may carry more than n nonconformities.
     plan = SinglePlan(n=1, c=5)
-    plan.check_scope(Scope(defects=True))
+    plan.check_scope(Scope(per_unit=True))
     with pytest.raises(InputError, match=r"c \(5\) must not be greater than n \(1\)"):
         plan.check_scope(Scope())

@@ -83,17 +83,17 @@ FAMILIES = {
 
 #: Scopes: lot size (None: process) and whether levels are per unit.
 SCOPES = {
-    "process": dict(lot=None, defects=False),
-    "lot": dict(lot=2000, defects=False),       # AQL and RQL are whole counts of the lot
-    "lot-odd": dict(lot=1250, defects=False),   # the AQL is not: conservative rounding shows
-    "per-unit": dict(lot=None, defects=True),
+    "process": dict(lot=None, per_unit=False),
+    "lot": dict(lot=2000, per_unit=False),       # AQL and RQL are whole counts of the lot
+    "lot-odd": dict(lot=1250, per_unit=False),   # the AQL is not: conservative rounding shows
+    "per-unit": dict(lot=None, per_unit=True),
 }
 
 
 def cells():
     for fam, spec in FAMILIES.items():
         for scope, sc in SCOPES.items():
-            if fam == "variables" and sc["defects"]:
+            if fam == "variables" and sc["per_unit"]:
                 continue  # a variables plan judges a fraction nonconforming
             for variant in ("fixed", "designed"):
                 if variant == "designed" and spec["cli"] is None:
@@ -103,7 +103,7 @@ def cells():
 
 def levels(fam, scope):
     a, r = FAMILIES[fam]["levels"]
-    if SCOPES[scope]["defects"]:  # the same numbers, per unit
+    if SCOPES[scope]["per_unit"]:  # the same numbers, per unit
         return str(float(a.rstrip("%")) / 100), str(float(r.rstrip("%")) / 100)
     return a, r
 
@@ -111,7 +111,7 @@ def levels(fam, scope):
 def scope_args(scope):
     sc = SCOPES[scope]
     return (["--lot-size", str(sc["lot"])] if sc["lot"] else []) + (
-        ["--defects"] if sc["defects"] else [])
+        ["--per-unit"] if sc["per_unit"] else [])
 
 
 def numbers_of(rep: dict) -> dict:
@@ -134,7 +134,7 @@ def plan_file(tmp_path: Path, fam, scope, variant, plan=None) -> Path:
     lines = ["[part]", 'id = "T-1"', "[lot]"]
     if sc["lot"]:
         lines.append(f"size = {sc['lot']}")
-    if sc["defects"]:
+    if sc["per_unit"]:
         lines.append('counts = "nonconformities"')
     lines += ["[[characteristic]]", 'id = "C1"', 'class = "major"', f'aql = "{a}"',
               f'rql = "{r}"']
@@ -284,7 +284,7 @@ def staged_pa(ns, cs, rs, dist) -> float:
 
 
 def independent_pa(fam, notation, scope, a_text, r_text):
-    per_unit = SCOPES[scope]["defects"]
+    per_unit = SCOPES[scope]["per_unit"]
     a, r = _level(a_text, per_unit), _level(r_text, per_unit)
     N = SCOPES[scope]["lot"]
     da, dr = _counts(scope, a, r)

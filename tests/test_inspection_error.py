@@ -84,7 +84,7 @@ PER_UNIT = [(50, 2, 0.02, 0.1, 0.01), (13, 0, 0.05, 0.25, 0.0), (200, 10, 0.03, 
 def test_per_unit_closed_form(n, c, u, e2, e1):
     plan = wrap(parse_plan(f"n={n},c={c}"), ErrorRates(miss_rate=e2, false_alarm=e1))
     lam = n * (mpmath.mpf(u) * (1 - mpmath.mpf(e2)) + mpmath.mpf(e1))
-    got = plan.pa(u, "poisson", Scope(defects=True))
+    got = plan.pa(u, "poisson", Scope(per_unit=True))
     assert got == pytest.approx(float(_mp_pois_cdf(c, lam)), abs=1e-12)
 
 

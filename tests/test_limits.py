@@ -17,7 +17,7 @@ import pytest
 
 @pytest.mark.parametrize("args", [
     ["--aql", "1e-20", "--rql", "2e-20"],
-    ["--defects", "--aql", "1e-300", "--rql", "2e-300"],
+    ["--per-unit", "--aql", "1e-300", "--rql", "2e-300"],
     ["--aql", "1%", "--rql", "1.0000001%"],
 ])
 def test_unresolvable_targets_refused_quickly(args):

@@ -19,7 +19,7 @@ from lotwise.families.base import parse_plan
 from lotwise.core.quantities import InputError
 
 PROCESS = Scope()
-PER_UNIT = Scope(defects=True)
+PER_UNIT = Scope(per_unit=True)
 
 
 # --- published examples --------------------------------------------------------
@@ -518,8 +518,8 @@ def test_decision_defects_no_early_acceptance():
     # With nonconformities per unit one unit can carry several, so a count
     # within c1 is not yet an acceptance before the stage ends.
     plan = DoublePlan(n1=50, c1=1, n2=100, c2=3)
-    assert plan.decide(49, 0, defects=True).action == "continue"
-    assert plan.decide(10, 12, defects=True).action == "reject"
+    assert plan.decide(49, 0, per_unit=True).action == "continue"
+    assert plan.decide(10, 12, per_unit=True).action == "reject"
 
 
 def test_multiple_decisions():

@@ -84,7 +84,7 @@ MODULE = textwrap.dedent('''
             return {}
 
 
-    def design(*, aql, rql, alpha, beta, lot_size=None, model=None, defects=False):
+    def design(*, aql, rql, alpha, beta, lot_size=None, model=None, per_unit=False):
         model = model or "binomial"
         # Pa at the RQL falls as n grows: the smallest n with (1 - rql)^n <= beta.
         n = 1
@@ -133,7 +133,7 @@ def test_check_oc_compare_next_and_design(zeroplan, capsys):
     exact = mpmath.binomial(490, 45) / mpmath.binomial(500, 45)  # D = 10 of 500
     assert row[1] == pytest.approx(float(exact), abs=1e-9)
 
-    code, out, err = run(capsys, "check", "--plan", "zeroplan: n=45", "--defects",
+    code, out, err = run(capsys, "check", "--plan", "zeroplan: n=45", "--per-unit",
                          "--aql", "0.001", "--rql", "0.05", "--json")
     assert code == 1, err  # exp(-2.25) = 0.105 > beta 0.10: it falls short, exit 1
     assert json.loads(out)["models"]["poisson"]["pa_rql"] == pytest.approx(

@@ -127,7 +127,7 @@ def test_every_attribute_family_states_whole_counts(notation, N, ref):
 
 
 @pytest.mark.parametrize("scope,model", [(Scope(), None), (Scope(lot_size=500), "binomial"),
-                                         (Scope(defects=True), None)])
+                                         (Scope(per_unit=True), None)])
 def test_counts_absent_without_a_finite_lot_model(scope, model):
     rep = assess(parse_plan("n=50,c=1"), Targets(aql=0.01, rql=0.08), scope, model).to_json()
     assert "plan_quality_counts" not in rep and "plan_quality_pa" not in rep

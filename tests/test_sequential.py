@@ -90,11 +90,11 @@ def test_wald_formulas_at_known_points(p1, a, p2, b):
 def test_wald_poisson_lines():
     # Wald (1947), the Poisson case (from memory): for nonconformities per
     # unit the OC passes through (l1, 1 - alpha) and (l2, beta).
-    h1, h2, s = sprt_lines(0.02, 0.05, 0.08, 0.10, defects=True)
+    h1, h2, s = sprt_lines(0.02, 0.05, 0.08, 0.10, per_unit=True)
     assert s == pytest.approx((0.08 - 0.02) / math.log(4), rel=1e-12)
-    assert wald_pa(0.02, h1, h2, s, defects=True) == pytest.approx(0.95, abs=1e-9)
-    assert wald_pa(0.08, h1, h2, s, defects=True) == pytest.approx(0.10, abs=1e-9)
-    assert wald_asn(s, h1, h2, s, defects=True) == pytest.approx(h1 * h2 / s, rel=1e-9)
+    assert wald_pa(0.02, h1, h2, s, per_unit=True) == pytest.approx(0.95, abs=1e-9)
+    assert wald_pa(0.08, h1, h2, s, per_unit=True) == pytest.approx(0.10, abs=1e-9)
+    assert wald_asn(s, h1, h2, s, per_unit=True) == pytest.approx(h1 * h2 / s, rel=1e-9)
 
 
 def simulate(p, h1, h2, s, runs, seed, block=1024):
@@ -264,7 +264,7 @@ def test_truncated_dp_hypergeometric_brute_force(D):
 @pytest.mark.parametrize("lam", [0.05, 0.3])
 def test_truncated_dp_poisson_brute_force(lam):
     plan = SequentialPlan(h1=0.5, h2=0.9, s=0.3, truncate=6)
-    scope = Scope(defects=True)
+    scope = Scope(per_unit=True)
     f = [math.exp(-lam) * lam ** k / math.factorial(k) for k in range(8)]
     pa = asn = 0.0
     for seq in itertools.product(range(8), repeat=6):
@@ -357,7 +357,7 @@ def test_risk_notation_takes_the_scope():
     assert ref == pytest.approx((1.623964, 2.084963, 0.108202), abs=1e-6)
     plan = parse_plan("sequential: p1=0.05,p2=0.2,truncate=40")
     assert (plan.h1, plan.h2, plan.s) == pytest.approx((1.44485, 1.85501, 0.110292), abs=1e-5)
-    per_unit = plan.for_scope(Scope(defects=True))
+    per_unit = plan.for_scope(Scope(per_unit=True))
     assert (per_unit.h1, per_unit.h2, per_unit.s) == pytest.approx(ref, rel=1e-12)
     assert plan.for_scope(PROCESS) == plan
     said = parse_plan("sequential: p1=0.05,p2=0.2,per_unit=1,truncate=40")
@@ -369,12 +369,12 @@ def test_risk_notation_takes_the_scope():
 
 
 def test_risk_notation_per_unit_on_the_command_line(capsys):
-    # Reference: as above; check --defects reports the Poisson lines.
+    # Reference: as above; check --per-unit reports the Poisson lines.
     import json
 
     from lotwise.cli import main
 
-    code = main(["check", "--plan", "sequential: p1=0.05,p2=0.2,truncate=40", "--defects",
+    code = main(["check", "--plan", "sequential: p1=0.05,p2=0.2,truncate=40", "--per-unit",
                  "--aql", "0.05", "--rql", "0.2", "--json"])
     rep = json.loads(capsys.readouterr().out)
     assert code in (0, 1)
@@ -487,6 +487,6 @@ def test_blocked_pa_equals_unit_walk(model, xs):
     from lotwise.families.sequential import pa_blocked
 
     plan = SequentialPlan(h1=4.2, h2=3.3, s=0.002, truncate=6000)
-    scope = Scope(defects=model == "poisson")
+    scope = Scope(per_unit=model == "poisson")
     ref = plan.pa(np.array(xs), model, scope)
     assert pa_blocked(plan, xs, model) == pytest.approx(ref, abs=1e-12)

@@ -54,7 +54,7 @@ def test_sheet_numbers_equal_json(tmp_path, capsys, name):
     for ch in req.characteristics:
         t = ch.targets.as_dict()
         lot = ["--lot-size", str(req.scope.lot_size)] if req.scope.lot_size else []
-        extra = ["--defects"] if req.scope.defects else []
+        extra = ["--per-unit"] if req.scope.per_unit else []
         # The same characteristic through `check` with the sheet's plan.
         c = re.search(rf"\| {re.escape(ch.id)} \| {ch.klass} \| n = \d+ \| (\d+) \|", md).group(1)
         _, rep = cli_json(capsys, "check", "--n", str(n), "--c", c, *targets_args(t), *lot, *extra)
@@ -75,7 +75,7 @@ def test_sheet_numbers_equal_json(tmp_path, capsys, name):
             counts = rep.get("plan_quality_counts")
             for key in ("producer", "indifference", "consumer"):
                 if counts is None:
-                    assert format_level(q[key], req.scope.defects) in doc, key
+                    assert format_level(q[key], req.scope.per_unit) in doc, key
                 else:  # a finite lot: the whole count, its share and its true Pa
                     pa = format_pct(round(rep["plan_quality_pa"][key], 12))
                     assert (f"{counts[key]} of {rep['lot_size']} nonconforming "

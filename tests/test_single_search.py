@@ -87,7 +87,7 @@ def _ref_smallest_plan(kernel, alpha, beta, cap, c_limit):
 def _case(rng):
     """One random problem: model, targets, scope, cap and the ``c`` bound the
     designer uses (lot count at the RQL; the cap for items)."""
-    model = rng.choice(["binomial", "poisson", "hypergeometric", "defects"])
+    model = rng.choice(["binomial", "poisson", "hypergeometric", "per_unit"])
     aql = float(10 ** rng.uniform(-4, -0.7))
     ratio = float(rng.choice([rng.uniform(1.3, 2.0), rng.uniform(2.0, 30.0)]))
     rql = min(aql * ratio, 0.9)
@@ -99,11 +99,11 @@ def _case(rng):
         scope = Scope(lot_size=N)
         cap = N if cap is None else min(cap, N)
     else:
-        scope = Scope(defects=(model == "defects"))
-        model = "poisson" if model == "defects" else model
+        scope = Scope(per_unit=(model == "per_unit"))
+        model = "poisson" if model == "per_unit" else model
     kernel = Kernel(model, t, scope)
     c_limit = kernel.d2 if model == "hypergeometric" else None
-    if cap is not None and not scope.defects:
+    if cap is not None and not scope.per_unit:
         c_limit = cap if c_limit is None else min(c_limit, cap)
     if model == "hypergeometric" and (kernel.d2 < 1 or kernel.d1 >= kernel.d2):
         return None
@@ -156,8 +156,8 @@ def _brute(kernel, alpha, beta, n_top):
     ("hypergeometric", 0.1, 0.3, 0.05, 0.10, 60),
 ])
 def test_brute_force_small(model, aql, rql, alpha, beta, N):
-    defects = model == "poisson" and aql >= 0.5
-    scope = Scope(lot_size=N, defects=defects)
+    per_unit = model == "poisson" and aql >= 0.5
+    scope = Scope(lot_size=N, per_unit=per_unit)
     kernel = Kernel(model, Targets(aql=aql, rql=rql, alpha=alpha, beta=beta), scope)
     c_limit = kernel.d2 if model == "hypergeometric" else None
     got = smallest_plan(kernel, alpha, beta, N, c_limit)
@@ -168,7 +168,7 @@ def test_per_unit_plan_with_c_above_n():
     # Nonconformities per unit: AQL 3/unit, RQL 15/unit -> n = 1, c = 6 (Poisson:
     # P(X <= 6 | 3) = 0.966, P(X <= 6 | 15) = 0.0076, P(X <= 5 | 3) = 0.916; any
     # table of the Poisson distribution), and the brute-force scan agrees.
-    scope = Scope(defects=True)
+    scope = Scope(per_unit=True)
     kernel = Kernel("poisson", Targets(aql=3.0, rql=15.0), scope)
     got = smallest_plan(kernel, 0.05, 0.10, None, None)
     assert got == _brute(kernel, 0.05, 0.10, 20)

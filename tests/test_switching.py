@@ -89,7 +89,7 @@ def test_rules_that_never_fire_give_the_normal_plan():
     (SwitchRules(tighten_rejects=3, tighten_window=7, restore_rejects=2), Scope(lot_size=600),
      "hypergeometric"),
     (SwitchRules(reduce_limit=0, relax_accepts=3), Scope(lot_size=600), "hypergeometric"),
-    (SwitchRules(), Scope(defects=True), "poisson"),
+    (SwitchRules(), Scope(per_unit=True), "poisson"),
 ])
 def test_shares_sum_to_one(rules, scope, model):
     # Probability (computed): every lot is on exactly one severity.

@@ -72,7 +72,7 @@ def test_design_other_methods_text(capsys, extra):
     (["--sigma", "known", "--lower", "5", "--upper", "4"], "--lower (5)"),
     (["--sigma", "known", "--upper", "abc"], "--upper ('abc')"),
     (["--sigma", "known", "--c", "2"], "--c (2)"),
-    (["--sigma", "known", "--defects"], "--defects"),
+    (["--sigma", "known", "--per-unit"], "--per-unit"),
 ])
 def test_design_bad_input_one_line_exit_2(capsys, args, fragment):
     code, out, err = run(capsys, "design", "--scheme", "variables", "--aql", "1%", "--rql",

@@ -20,7 +20,7 @@ import pytest
 from lotwise.cli import main
 from lotwise.web.app import create_app, input_error_body, is_loopback, make_server
 
-FLAGS = {"defects": "--defects", "per_unit": "--defects", "designed": "--designed"}
+FLAGS = {"per_unit": "--per-unit", "per_unit": "--per-unit", "designed": "--designed"}
 
 
 @pytest.fixture(scope="module")
@@ -57,7 +57,7 @@ P = lambda **kw: list(kw.items())  # noqa: E731  (parameters in order)
 CASES = [
     ("design", P(aql="1%", rql="6%")),
     ("design", P(aql="1%", rql="8%", lot_size="500")),
-    ("design", P(aql="0.5", rql="2", defects="1")),
+    ("design", P(aql="0.5", rql="2", per_unit="1")),
     ("design", P(aql="1%", rql="6%", c="0")),
     ("design", P(aql="1%", rql="6%", max_n="80")),
     ("design", P(aql="1%", rql="6%", n="150")),
@@ -69,7 +69,7 @@ CASES = [
     ("design", P(aql="1%", rql="5%", scheme="double")),
     ("design", P(aql="1%", rql="6%", scheme="double", lot_size="500", ratio="1")),
     ("design", P(aql="1%", rql="6%", scheme="double", minimize="asn-max")),
-    ("design", P(aql="0.5", rql="3", scheme="double", defects="1")),
+    ("design", P(aql="0.5", rql="3", scheme="double", per_unit="1")),
     ("design", P(aql="1%", rql="6%", scheme="sequential")),
     ("design", P(aql="1%", rql="6%", scheme="sequential", truncate="300", lot_size="5000")),
     ("design", P(aql="1%", rql="5%", scheme="compare-all")),
@@ -97,7 +97,7 @@ CASES = [
     ("check", P(plan="skiplot: n=80,c=2,i=4,f=0.25", aql="1%", rql="8%")),
     ("check", P(plan="variables: n=42,k=1.901,upper=25", aql="1%", rql="6%")),
     ("check", P(plan="csp1: i=38,f=1/10", at="1%,3%", run_length="500")),
-    ("check", P(plan="n=50,c=1", aql="0.2", rql="3", defects="1")),
+    ("check", P(plan="n=50,c=1", aql="0.2", rql="3", per_unit="1")),
     ("check", P(plan="n=80,c=2", aql="8%", rql="1%")),
     ("oc", P(plan="n=80,c=2")),
     ("oc", P(n="80", c="2", lot_size="500", aql="1%", rql="8%")),
@@ -106,7 +106,7 @@ CASES = [
     ("oc", P(plan="sequential: p1=1%,p2=6%,truncate=300", points="6")),
     ("oc", P(plan="variables: n=42,k=1.901,upper=25", points="6")),
     ("oc", P(plan="csp2: i=38,f=0.1", points="5")),
-    ("oc", P(plan="n=13,c=0", defects="1", max_p="0.5", points="6")),
+    ("oc", P(plan="n=13,c=0", per_unit="1", max_p="0.5", points="6")),
     ("compare", P(plan="n=32,c=1", aql="1%", rql="8%", **{"plan ": "n=50,c=1"})),
     ("compare", P(designed="1", plan="n=89,c=2", aql="1%", rql="6%")),
     ("tradeoff", P(aql="0.65%,1%", rql="2%..6%:2%", process_average="0.8%",
@@ -174,7 +174,7 @@ BAD = [
     ("design", P(aql="1%", rql="6%", c="x")),
     ("design", P(aql="1%", rql="6%", process_average="1%")),
     ("design", P(aql="1%", rql="6%", scheme="chain", c="1")),
-    ("design", P(aql="1%", rql="6%", defects="1", model="binomial")),
+    ("design", P(aql="1%", rql="6%", per_unit="1", model="binomial")),
     ("check", P(aql="1%", rql="6%")),
     ("check", P(plan="n=80,c=90", aql="1%", rql="6%")),
     ("check", P(plan="n=80,c=2", n="80", aql="1%", rql="6%")),
@@ -237,7 +237,7 @@ def test_error_body_names_field_value_and_what_is_allowed():
     ("/api/design?aql=" + "1" * 300 + "&rql=6%25", 400, None),
     ("/api/oc?plan=n=80,c=2" + "&at=1%25" * 201, 400, None),
     ("/api/compare?aql=1%25&rql=6%25" + "&plan=n=80,c=2" * 9, 400, None),
-    ("/api/design?aql=1%25&rql=6%25&defects=maybe", 400, "defects"),
+    ("/api/design?aql=1%25&rql=6%25&per_unit=maybe", 400, "per_unit"),
 ])
 def test_limits(client, url, status, field):
     r = client.get(url)
@@ -397,7 +397,7 @@ def test_outlook_against_scipy(client, plan, pbar, per_unit):
         pa = stats.binom.cdf(p.c, p.n, pbar)
     q = {"plan": plan, "process_average": str(pbar), "deliveries_per_year": "52"}
     if per_unit:
-        q["defects"] = "1"
+        q["per_unit"] = "1"
     body = client.get("/api/outlook?" + urlencode(q)).get_json()
     row = body["plans"][0]
     assert row["pa"] == pytest.approx(pa, rel=1e-9)  # scipy.stats, exact CDFs

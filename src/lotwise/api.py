@@ -125,9 +125,9 @@ def design(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 0.10,
         raise InputError(f"scheme ({scheme}) has no designer; check a plan of it instead")
     kw = dict(aql=aql, rql=rql, alpha=alpha, beta=beta, **options)
     if fam.plan_class.attribute_plan:
-        kw.update(lot_size=lot_size, model=model, defects=per_unit)
+        kw.update(lot_size=lot_size, model=model, per_unit=per_unit)
     d = fam.design(**kw)
-    scope = Scope(lot_size=lot_size, defects=per_unit)
+    scope = Scope(lot_size=lot_size, per_unit=per_unit)
     targets = Targets(aql=aql, rql=rql, alpha=alpha, beta=beta)
     redesign = {k: v for k, v in options.items() if k in ("ratio", "minimize")}
     return _result(assess(d.plan, targets, scope, d.model, design=d,
@@ -141,7 +141,7 @@ def check(plan: Plan | str, *, aql: float, rql: float, alpha: float = 0.05,
     p = parse_plan(plan, "plan") if isinstance(plan, str) else plan
     if not isinstance(p, Plan):
         raise InputError(f"plan ({plan!r}) must be a lotwise plan or plan notation")
-    scope = Scope(lot_size=lot_size, defects=per_unit)
+    scope = Scope(lot_size=lot_size, per_unit=per_unit)
     p.check_scope(scope)
     targets = Targets(aql=aql, rql=rql, alpha=alpha, beta=beta)
     return _result(assess(p, targets, scope, model, aoq_formula=aoq_formula))

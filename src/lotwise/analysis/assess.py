@@ -14,7 +14,7 @@ a key means the same thing, with the same type, whatever plan it describes:
 ``n1, c1, r1, n2, c2`` for a double plan; ...), ``label``, ``notation``,
 ``max_sample``
     what was judged;
-``model``, ``lot_size``, ``defects``, ``targets``
+``model``, ``lot_size``, ``per_unit``, ``targets``
     how and against what;
 ``models``
     per applicable model ``pa_aql``, ``pa_rql``, ``alpha``, ``beta``,
@@ -169,7 +169,7 @@ class Assessment:
 def oc_levels(plan, scope: Scope, model: str, *, points: int = 101, top_pa: float = 0.01):
     """``points`` quality levels from 0 to where ``Pa`` has fallen to ``top_pa``."""
     top = plan.quality_at(top_pa, model, scope, "consumer")
-    if not scope.defects:
+    if not scope.per_unit:
         top = min(1.0, top)
     return np.linspace(0.0, max(top, 1e-9), points)
 
@@ -335,7 +335,7 @@ def _core(plan, targets: Targets, scope: Scope, model: str) -> dict:
         "max_sample": plan.max_sample,
         "model": model,
         "lot_size": scope.lot_size,
-        "defects": scope.defects,
+        "per_unit": scope.per_unit,
         "targets": targets.as_dict(),
         "models": models,
         "pa_aql": main["pa_aql"], "pa_rql": main["pa_rql"],
@@ -423,7 +423,7 @@ def _statements(rep: dict, plan, scope: Scope) -> list[str]:
     """Plain-words sentences: risks at the targets, the plan's own quality
     levels, lot rounding, ASN and AOQL where they apply."""
     t, m = rep["targets"], rep["models"][rep["model"]]
-    per_unit = scope.defects
+    per_unit = scope.per_unit
     lots = "lots averaging" if per_unit else "lots with"
     if per_unit:
         lvl = lambda x: f"{x:.4g} nonconformities per unit"  # noqa: E731

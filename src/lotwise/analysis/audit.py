@@ -134,19 +134,19 @@ def audit_plan(plan, targets, scope: Scope, model: str | None = None) -> Audit:
 
 
 def _level(x: float, scope: Scope) -> str:
-    return format_level(x, scope.defects)
+    return format_level(x, scope.per_unit)
 
 
 def _lots(scope: Scope) -> str:
-    return "lots averaging" if scope.defects else "lots with"
+    return "lots averaging" if scope.per_unit else "lots with"
 
 
 def plain_words(a: Audit) -> list[str]:
     """Sentences such as "accepts lots with 6.5 % nonconforming 10 % of the time"."""
     t, r, q = a.targets, a.risks[a.model], a.quality
-    what = "nonconformities per unit" if a.scope.defects else "nonconforming"
-    unit = "" if a.scope.defects else f" {what}"
-    if a.scope.defects:
+    what = "nonconformities per unit" if a.scope.per_unit else "nonconforming"
+    unit = "" if a.scope.per_unit else f" {what}"
+    if a.scope.per_unit:
         lvl = lambda x: f"{x:.4g} nonconformities per unit"  # noqa: E731
     else:
         lvl = lambda x: f"{_level(x, a.scope)}{unit}"  # noqa: E731

@@ -46,7 +46,7 @@ def row_for(label, plan, targets, scope, model=None) -> dict:
     row = {"label": label, "scheme": plan.scheme, "plan": plan.to_dict(), "model": rep["model"],
            **{k: rep[k] for k in ("pa_aql", "pa_rql", "alpha", "beta", "meets",
                                   "plan_quality", "targets")},
-           "defects": scope.defects}
+           "per_unit": scope.per_unit}
     for key in ("plan_quality_counts", "plan_quality_pa"):  # finite lot: whole counts
         if key in rep:
             row[key] = rep[key]

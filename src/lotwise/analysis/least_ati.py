@@ -165,7 +165,7 @@ def _pa_at(model: str, n, c, level: float, N: int, rounding: str):
 
 def design_least_ati(*, lot_size: int, process_average: float, rql: float | None = None,
                      beta: float = 0.10, aoql: float | None = None, model: str | None = None,
-                     defects: bool = False, formula: str = "screened",
+                     per_unit: bool = False, formula: str = "screened",
                      aql: float | None = None, alpha: float = 0.05) -> LeastATIDesign:
     """Single plan with the smallest ATI at the process average.
 
@@ -174,14 +174,14 @@ def design_least_ati(*, lot_size: int, process_average: float, rql: float | None
     lot_size : int
         Lot size ``N``.
     process_average : float
-        The supplier's process average (fraction, or per unit with ``defects``).
+        The supplier's process average (fraction, or per unit with ``per_unit``).
     rql, beta : float
         Give these for lot-by-lot protection: ``Pa(RQL) <= beta``.
     aoql : float
         Or this for average protection: ``AOQL <= aoql``.
     model : str, optional
         Default the exact model for the scope (hypergeometric).
-    defects : bool
+    per_unit : bool
         Nonconformities per unit (Poisson model).
     formula : {'screened', 'simple'}
         AOQ formula for the AOQL constraint and the report.
@@ -204,10 +204,10 @@ def design_least_ati(*, lot_size: int, process_average: float, rql: float | None
                          "design")
     if (rql is None) == (aoql is None):
         raise InputError("give either --rql (with --beta) or --aoql for --minimize ati")
-    if not process_average > 0 or (not defects and not process_average < 1):
+    if not process_average > 0 or (not per_unit and not process_average < 1):
         raise InputError(f"--process-average ({process_average}) must be a fraction between "
                          "0 and 1, exclusive")
-    scope = Scope(lot_size=int(lot_size), defects=defects)
+    scope = Scope(lot_size=int(lot_size), per_unit=per_unit)
     model = scope.check_model(model)
     N = int(lot_size)
     constraint = "rql" if rql is not None else "aoql"
@@ -250,7 +250,7 @@ def _constraint_search(constraint: str, *, model: str, scope: Scope, process_ave
     kernel = Kernel(model, Targets(aql=process_average, rql=rql, beta=beta), scope)
     if model == "hypergeometric" and kernel.d2 < 1:
         raise Infeasible(
-            f"the RQL ({format_level(rql, scope.defects)}) rounds down to no nonconforming "
+            f"the RQL ({format_level(rql, scope.per_unit)}) rounds down to no nonconforming "
             f"item in a lot of {N}: every lot at the RQL is free of them and is always accepted",
             {"lot_counts": {"rql": kernel.d2}})
     c_limit = kernel.d2 if model == "hypergeometric" else None
@@ -364,7 +364,7 @@ def least_ati_report(d: LeastATIDesign) -> dict:
         "r": plan.r,
         "model": d.model,
         "lot_size": N,
-        "defects": scope.defects,
+        "per_unit": scope.per_unit,
         "minimize": "ati",
         "constraint": d.constraint,
         "process_average": d.process_average,
@@ -385,7 +385,7 @@ def least_ati_report(d: LeastATIDesign) -> dict:
 
 
 def _statements(d: LeastATIDesign, main: dict) -> list[str]:
-    pu = d.scope.defects
+    pu = d.scope.per_unit
     N = d.scope.lot_size
     lv = lambda x: format_level(x, pu)  # noqa: E731
     out = []

@@ -94,15 +94,15 @@ def attribute_grid(plan, scope, model, *, max_p=None, points="21", at=None, rql=
     from lotwise.analysis.audit import quality_at
 
     if at:
-        return np.array(parse_at(at, per_unit=scope.defects), dtype=float)
+        return np.array(parse_at(at, per_unit=scope.per_unit), dtype=float)
     k = parse_count(points, "--points", minimum=2, maximum=MAX_POINTS)
     if max_p is not None:
-        top = parse_level(max_p, "--max-p", per_unit=scope.defects)
+        top = parse_level(max_p, "--max-p", per_unit=scope.per_unit)
     else:
         top = quality_at(plan, 0.01, model, scope, "consumer")
         if rql is not None:
             top = max(top, 1.25 * rql)
-        top = nice(min(top, 1.0) if not scope.defects else top)
+        top = nice(min(top, 1.0) if not scope.per_unit else top)
     return np.linspace(0.0, top, k)
 
 

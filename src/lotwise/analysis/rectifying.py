@@ -217,7 +217,7 @@ def _top_level(plan, model: str, scope: Scope) -> float:
     """A quality level beyond the AOQ peak: where ``Pa`` has fallen to 1e-9."""
     q = plan.quality_at(_PA_FLOOR, "poisson" if model == "poisson" else "binomial", scope,
                         "consumer")
-    return q if scope.defects or model == "poisson" else min(1.0, q)
+    return q if scope.per_unit or model == "poisson" else min(1.0, q)
 
 
 def _aoql_continuous(plan, model, scope, formula) -> AOQL:
@@ -225,11 +225,11 @@ def _aoql_continuous(plan, model, scope, formula) -> AOQL:
     f = plan.aoq_function(model, scope, formula=formula)
     grid = np.linspace(0.0, top, _GRID + 1)
     vals = np.asarray(aoq(plan, grid, model, scope, formula), dtype=float)
-    while int(np.argmax(vals)) == len(grid) - 1 and (scope.defects or model == "poisson"
+    while int(np.argmax(vals)) == len(grid) - 1 and (scope.per_unit or model == "poisson"
                                                      or grid[-1] < 1.0):
         # The curve still rises at the end: extend the range.
         hi = grid[-1] * 2.0
-        if not (scope.defects or model == "poisson"):
+        if not (scope.per_unit or model == "poisson"):
             hi = min(hi, 1.0)
         grid = np.linspace(0.0, hi, _GRID + 1)
         vals = np.asarray(aoq(plan, grid, model, scope, formula), dtype=float)
@@ -562,9 +562,9 @@ def curve_grid(plan, scope: Scope, max_p=None, points: int = 401):
                          else "binomial", scope)
         from lotwise.analysis.audit import quality_at
 
-        q = quality_at(plan, 0.002, "poisson" if scope.defects else "binomial", scope,
+        q = quality_at(plan, 0.002, "poisson" if scope.per_unit else "binomial", scope,
                        "consumer")
         max_p = min(top, q * 1.1) if q > 0 else top
-        if not scope.defects:
+        if not scope.per_unit:
             max_p = min(max_p, 1.0)
     return np.linspace(0.0, max_p, points)

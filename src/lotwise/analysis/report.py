@@ -18,7 +18,7 @@ _MODEL_WORDS = {
 
 def context_lines(rep: dict, pct=format_pct) -> list[str]:
     """The "judged by ..." and "targets ..." lines of a report."""
-    per_unit = rep["defects"]
+    per_unit = rep["per_unit"]
     t = rep["targets"]
     counted = "nonconformities per unit" if per_unit else "fraction nonconforming"
     lot = f"lot of {rep['lot_size']}" if rep["lot_size"] else "no lot size (process)"

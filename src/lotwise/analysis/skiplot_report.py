@@ -43,7 +43,7 @@ def skiplot_report(plan: SkipLotPlan, targets, scope: Scope, model: str) -> dict
                                                      "meets", "fraction_inspected_aql",
                                                      "fraction_inspected_rql")},
            "models": models}
-    pu = scope.defects
+    pu = scope.per_unit
     lv = lambda x: format_level(x, pu)  # noqa: E731
     ref = plan.reference
     n = ref.max_sample

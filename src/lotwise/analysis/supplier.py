@@ -273,7 +273,7 @@ def rejection_at(plan, process_average: float, *, per_unit: bool = False,
                          "units, not lots, so no lot is rejected")
     if plan.attribute_plan:
         model = "poisson" if per_unit else "binomial"
-        pa = float(plan.pa(process_average, model, Scope(defects=per_unit)))
+        pa = float(plan.pa(process_average, model, Scope(per_unit=per_unit)))
     else:
         if per_unit:
             raise InputError(f"--plan ({plan.label}) judges a fraction nonconforming; "

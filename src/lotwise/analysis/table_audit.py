@@ -80,10 +80,10 @@ class TableRow:
             raise InputError("a table row needs a normal plan")
 
 
-def _lot_audit(plan, lot: int | None, aql, rql, defects: bool) -> dict:
+def _lot_audit(plan, lot: int | None, aql, rql, per_unit: bool) -> dict:
     from lotwise.analysis.rectifying import aoql
 
-    scope = Scope(lot_size=lot, defects=defects)
+    scope = Scope(lot_size=lot, per_unit=per_unit)
     model = scope.exact_model
     out = {"lot_size": lot, "model": model}
     if aql is not None:
@@ -100,7 +100,7 @@ def _lot_audit(plan, lot: int | None, aql, rql, defects: bool) -> dict:
     return out
 
 
-def audit_row(row: TableRow, limits: AuditLimits, *, defects: bool = False) -> dict:
+def audit_row(row: TableRow, limits: AuditLimits, *, per_unit: bool = False) -> dict:
     """Risks, LTPD and AOQL of every plan of ``row`` at both ends of its range,
     and the verdict on the normal plan (see the module docstring)."""
     aql = row.aql if row.aql is not None else limits.aql
@@ -110,7 +110,7 @@ def audit_row(row: TableRow, limits: AuditLimits, *, defects: bool = False) -> d
     lots = [None] if row.lot_min is None else sorted({row.lot_min, row.lot_max})
     plans = {}
     for sev, plan in row.plans.items():
-        plans[sev] = {"plan": plan.notation(), "lots": [_lot_audit(plan, n, aql, rql, defects)
+        plans[sev] = {"plan": plan.notation(), "lots": [_lot_audit(plan, n, aql, rql, per_unit)
                                                         for n in lots]}
     flags = []
     for lot in plans["normal"]["lots"]:
@@ -132,9 +132,9 @@ def audit_row(row: TableRow, limits: AuditLimits, *, defects: bool = False) -> d
             "flags": flags, "notes": notes}
 
 
-def audit_rows(rows, limits: AuditLimits, *, defects: bool = False) -> list:
+def audit_rows(rows, limits: AuditLimits, *, per_unit: bool = False) -> list:
     """:func:`audit_row` for each row."""
-    return [audit_row(r, limits, defects=defects) for r in rows]
+    return [audit_row(r, limits, per_unit=per_unit) for r in rows]
 
 
 def check_ranges(rows, where: str = "table") -> None:

@@ -74,7 +74,7 @@ class Tradeoff:
 
     def as_dict(self, curves: bool = False) -> dict:
         out = {"scheme": "compare-all", "model": self.model, "lot_size": self.scope.lot_size,
-               "defects": self.scope.defects, "targets": self.targets.as_dict(),
+               "per_unit": self.scope.per_unit, "targets": self.targets.as_dict(),
                "plans": [r.as_dict() for r in self.rows]}
         if curves:
             out["curves"] = {"p": [float(v) for v in self.ps],
@@ -143,7 +143,7 @@ def asn_tradeoff(targets, scope: Scope, *, model: str | None = None, ratio: floa
 
     model = scope.check_model(model)
     kw = dict(aql=targets.aql, rql=targets.rql, alpha=targets.alpha, beta=targets.beta,
-              lot_size=scope.lot_size, model=model, defects=scope.defects)
+              lot_size=scope.lot_size, model=model, per_unit=scope.per_unit)
     rows = []
     for scheme, make in (("single", lambda: design_single(**kw).plan),
                          ("double", lambda: design_double(**kw, ratio=ratio,
@@ -160,7 +160,7 @@ def asn_tradeoff(targets, scope: Scope, *, model: str | None = None, ratio: floa
         return Tradeoff(targets=targets, scope=scope, model=model, rows=tuple(rows),
                         ps=np.zeros(0))
     top = max_p if max_p is not None else 2.5 * targets.rql
-    if not scope.defects:
+    if not scope.per_unit:
         top = min(top, 1.0)
     ps = np.linspace(0.0, top, points)
     if model == "hypergeometric":

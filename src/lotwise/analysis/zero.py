@@ -128,7 +128,7 @@ class ZeroDesign:
             t.update({"aql": self.aql, "alpha": self.alpha})
         return {
             "scheme": "single", "n": self.plan.n, "c": 0, "r": 1, "model": self.model,
-            "lot_size": self.scope.lot_size, "defects": self.scope.defects,
+            "lot_size": self.scope.lot_size, "per_unit": self.scope.per_unit,
             "targets": t, "models": self.models,
             "producers_risk": self.producers_risk,
             "producer_quality": self.producer_quality,
@@ -138,7 +138,7 @@ class ZeroDesign:
         }
 
     def statements(self) -> list[str]:
-        pu = self.scope.defects
+        pu = self.scope.per_unit
         lv = lambda x: format_level(x, pu)  # noqa: E731
         m = self.models[self.model]
         out = []
@@ -161,7 +161,7 @@ class ZeroDesign:
 
 
 def design_zero(*, rql: float, beta: float = 0.10, lot_size: int | None = None,
-                model: str | None = None, defects: bool = False, aql: float | None = None,
+                model: str | None = None, per_unit: bool = False, aql: float | None = None,
                 alpha: float = 0.05, max_n: int | None = None) -> ZeroDesign:
     """The smallest c = 0 plan with ``Pa(RQL) <= beta``.
 
@@ -174,7 +174,7 @@ def design_zero(*, rql: float, beta: float = 0.10, lot_size: int | None = None,
         down to a whole count) and ``n`` never exceeds the lot: ``n = N`` is
         100 % inspection.
     model : str, optional
-    defects : bool
+    per_unit : bool
     aql, alpha : float, optional
         Show the producer's risk at this AQL (it is reported, not imposed).
     max_n : int, optional
@@ -184,17 +184,17 @@ def design_zero(*, rql: float, beta: float = 0.10, lot_size: int | None = None,
     from lotwise.core.types import Targets
     from lotwise.core.search import MAX_SAMPLE, MIN_LEVEL, Kernel, n_min
 
-    scope = Scope(lot_size=lot_size, defects=defects)
+    scope = Scope(lot_size=lot_size, per_unit=per_unit)
     model = scope.check_model(model)
     if rql < MIN_LEVEL and lot_size is None:
-        raise Infeasible(f"the RQL ({format_level(rql, defects)}) is below {MIN_LEVEL:g}: a c = 0 "
+        raise Infeasible(f"the RQL ({format_level(rql, per_unit)}) is below {MIN_LEVEL:g}: a c = 0 "
                          f"sample meeting the consumer's risk would need more than "
                          f"{MAX_SAMPLE:.0e} units; state the level in a coarser unit (for "
                          "example per million) or inspect every item",
                          {"rql": rql, "min_level": MIN_LEVEL})
     if aql is not None and not aql < rql:
-        raise Infeasible(f"the RQL ({format_level(rql, defects)}) must be above the AQL "
-                         f"({format_level(aql, defects)})", {"aql": aql, "rql": rql})
+        raise Infeasible(f"the RQL ({format_level(rql, per_unit)}) must be above the AQL "
+                         f"({format_level(aql, per_unit)})", {"aql": aql, "rql": rql})
     if max_n is not None and max_n < 1:
         raise InputError(f"--max-n ({max_n}) must be at least 1")
     kernel = Kernel(model, Targets(aql=aql or 0.0, rql=rql, alpha=alpha, beta=beta), scope)
@@ -214,7 +214,7 @@ def design_zero(*, rql: float, beta: float = 0.10, lot_size: int | None = None,
             raise Infeasible(f"no c = 0 plan with n <= {cap or MAX_SAMPLE:,}"
                              + (" (--max-n)" if max_n is not None else "")
                              + " meets the consumer's "
-                             f"risk {format_pct(beta)} at the RQL {format_level(rql, defects)}",
+                             f"risk {format_pct(beta)} at the RQL {format_level(rql, per_unit)}",
                              {"n": cap, "c": 0})
     plan = SinglePlan(n=nm, c=0)
     full = full or (lot_size is not None and nm >= lot_size)
@@ -289,7 +289,7 @@ class ZeroEquivalent:
             "plan": self.plan.to_dict(),
             "zero_plan": self.zero_plan.to_dict(),
             "model": self.model, "lot_size": self.scope.lot_size,
-            "defects": self.scope.defects, "beta": self.beta,
+            "per_unit": self.scope.per_unit, "beta": self.beta,
             "rql_point": self.point,
             "pa_at_rql_point": self.pa_point,
             "comparison_level": self.level,
@@ -307,7 +307,7 @@ class ZeroEquivalent:
         return out
 
     def statements(self) -> list[str]:
-        pu = self.scope.defects
+        pu = self.scope.per_unit
         lv = lambda x: format_level(x, pu)  # noqa: E731
         z, p = self.zero_plan, self.plan
         sizes = self.sample_sizes()

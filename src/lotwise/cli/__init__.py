@@ -24,7 +24,8 @@ app = typer.Typer(
 
 
 @app.callback()
-def _group() -> None:
+def _group(version: bool = typer.Option(False, "--version", "-V",
+                                        help="Print the version and exit.")) -> None:
     """Design, audit and document sampling plans for lot acceptance, computed exactly."""
     # A callback keeps typer treating the app as a group of commands even when
     # only the one command being run has been imported.
@@ -41,6 +42,10 @@ COMMANDS = {
     "scheme": "scheme",
     "serve": "serve",
 }
+
+
+#: Options that were renamed: the old spelling is refused with the new one named.
+RENAMED = {"--defects": ("--per-unit", "quality levels are nonconformities per unit")}
 
 
 def _register(args: list[str]) -> None:
@@ -63,6 +68,17 @@ def main(argv: list[str] | None = None) -> int:
     from lotwise.core.quantities import InputError
 
     args = sys.argv[1:] if argv is None else list(argv)
+    if args[:1] in (["--version"], ["-V"]):
+        from lotwise.core.version import __version__
+
+        print(f"lotwise {__version__}")
+        return _exit(0, argv)
+    old = next((a for a in args if a.split("=", 1)[0] in RENAMED), None)
+    if old is not None:
+        new = RENAMED[old.split("=", 1)[0]]
+        print(f"lotwise: error: {old} was renamed {new[0]} ({new[1]}); use {new[0]}",
+              file=sys.stderr)
+        return _exit(2, argv)
     _register(args)
     try:
         rv = app(args=args, prog_name="lotwise", standalone_mode=False)

@@ -13,7 +13,7 @@ from lotwise.core.quantities import InputError
 
 @app.command()
 def batch(
-    path: str = typer.Argument(..., metavar="CATALOGUE", help="CSV with part, lot_size, aql, rql (optional alpha, beta, scheme, model, fixed_c, max_n, defects, deliveries_per_year; ratio, minimize, truncate, sigma, sigma_value, limit, upper, lower for the other schemes)."),
+    path: str = typer.Argument(..., metavar="CATALOGUE", help="CSV with part, lot_size, aql, rql (optional alpha, beta, scheme, model, fixed_c, max_n, per_unit, deliveries_per_year; ratio, minimize, truncate, sigma, sigma_value, limit, upper, lower for the other schemes)."),
     out: Optional[str] = typer.Option(None, "--out", "-o", help="Where to write the plans (CSV), or - for stdout."),
     deliveries: Optional[str] = typer.Option(None, "--deliveries-per-year", help="Lots per year for rows without a deliveries_per_year value."),
     force: bool = typer.Option(False, "--force", help="Overwrite files not written by lotwise."),

@@ -23,7 +23,7 @@ def check(
     beta: str = common.BETA,
     lot: Optional[str] = common.LOT,
     model: Optional[str] = common.MODEL,
-    defects: bool = common.DEFECTS,
+    per_unit: bool = common.PER_UNIT,
     aoq_formula: Optional[str] = typer.Option(None, "--aoq-formula", help="With --lot-size: screened (default; rejected lots screened, nonconforming items found replaced): the exact finite-lot AOQ E[(D - X) 1{accept}]/N, for a single plan (D/N)((N - n)/N) Pa(n, c | N - 1, D - 1), never below p Pa (N - n)/N and N/(N - n) times it for c = 0 (p Pa (N - n)/N under --model binomial or poisson); or simple (p Pa)."),
     skip_lot: Optional[str] = typer.Option(None, "--skip-lot", help='Compare with skip-lot SkSP-2 over this plan, e.g. "i=4,f=0.25".'),
     aoq_plot: Optional[str] = typer.Option(None, "--aoq-plot", help="With --lot-size: draw OC, AOQ and ATI curves to PATH.png, .svg or .pdf."),
@@ -69,7 +69,7 @@ def check(
 
         return flow_check(p, at=at, run_length=run_length, model=model, as_json=as_json,
                           unused={"--aql": aql, "--rql": rql, "--lot-size": lot,
-                                  "--defects": defects, "--aoq-formula": aoq_formula,
+                                  "--per-unit": per_unit, "--aoq-formula": aoq_formula,
                                   "--skip-lot": skip_lot, "--aoq-plot": aoq_plot,
                                   "--prior": prior, "--prior-from": prior_from,
                                   "--miss-rate": miss_rate, "--false-alarm": false_alarm,
@@ -86,13 +86,13 @@ def check(
             raise InputError(f"--skip-lot ({skip_lot}) cannot be combined with a skip-lot "
                              "--plan")
         skip_lot = layer
-    a, r = common.levels(aql, rql, defects)
+    a, r = common.levels(aql, rql, per_unit)
     al, be = common.risks(alpha, beta)
-    scope, mdl = common.scope_and_model(lot, defects, model)
+    scope, mdl = common.scope_and_model(lot, per_unit, model)
     p = p.for_scope(scope)  # checks the scope; a plan may be meant per the scope
     p = common.with_gauge(common.with_errors(p, rates, scope), gauge)  # at the true quality
     if not r > a:
-        common.levels_out_of_order(a, r, defects, as_json)
+        common.levels_out_of_order(a, r, per_unit, as_json)
     if aoq_formula is not None and not scope.lot_size:
         raise InputError(f"--aoq-formula ({aoq_formula}) needs --lot-size (AOQ and ATI are "
                          "computed for lots of a known size)")

@@ -20,7 +20,7 @@ BETA = typer.Option("10%", "--beta", help="Consumer's risk at the RQL.")
 LOT = typer.Option(None, "--lot-size", "-N", help="Lot size; the default model becomes hypergeometric.")
 MODEL = typer.Option(None, "--model",
                      help="hypergeometric, binomial or poisson (default: the exact one).")
-DEFECTS = typer.Option(False, "--defects",
+PER_UNIT = typer.Option(False, "--per-unit",
                        help="Quality levels are nonconformities per unit (Poisson is exact).")
 JSON = typer.Option(False, "--json", help="Print one JSON object on stdout and nothing else.")
 
@@ -31,14 +31,14 @@ def lot_size(text) -> int | None:
     return parse_count(text, "--lot-size", minimum=1, maximum=10**12)
 
 
-def levels(aql, rql, defects: bool, need: bool = True):
+def levels(aql, rql, per_unit: bool, need: bool = True):
     if need:
         if aql is None:
             raise InputError("--aql is required (for example --aql 1%)")
         if rql is None:
             raise InputError("--rql is required (for example --rql 8%)")
-    a = parse_level(aql, "--aql", per_unit=defects) if aql is not None else None
-    r = parse_level(rql, "--rql", per_unit=defects) if rql is not None else None
+    a = parse_level(aql, "--aql", per_unit=per_unit) if aql is not None else None
+    r = parse_level(rql, "--rql", per_unit=per_unit) if rql is not None else None
     return a, r
 
 
@@ -125,12 +125,12 @@ def write_csv(dest: str, header, rows, *, force: bool, cell=csv_cell) -> None:
 
 # --- shared by the design/check/oc commands of every plan family -------------------
 
-def scope_and_model(lot, defects, model):
-    """The :class:`~lotwise.core.types.Scope` of ``--lot-size``/``--defects`` and
+def scope_and_model(lot, per_unit, model):
+    """The :class:`~lotwise.core.types.Scope` of ``--lot-size``/``--per-unit`` and
     the ``--model`` checked against it (default: the exact one)."""
     from lotwise.core.types import Scope
 
-    scope = Scope(lot_size=lot_size(lot), defects=defects)
+    scope = Scope(lot_size=lot_size(lot), per_unit=per_unit)
     return scope, scope.check_model(model)
 
 
@@ -154,12 +154,12 @@ def plan_from(plan_text, n, c, *, required=True):
     return SinglePlan(n=nn, c=cc)  # c <= n is checked with the scope (items, not per unit)
 
 
-def levels_out_of_order(a, r, defects, as_json):
+def levels_out_of_order(a, r, per_unit, as_json):
     """Fail (exit 1) because the RQL is not above the AQL."""
     from lotwise.core.quantities import format_level
 
-    fail(f"the RQL ({format_level(r, defects)}) must be above the AQL "
-         f"({format_level(a, defects)})", 1,
+    fail(f"the RQL ({format_level(r, per_unit)}) must be above the AQL "
+         f"({format_level(a, per_unit)})", 1,
          {"feasible": False, "reason": "rql must be above aql"}, as_json)
 
 

@@ -20,7 +20,7 @@ def compare(
     beta: str = common.BETA,
     lot: Optional[str] = common.LOT,
     model: Optional[str] = common.MODEL,
-    defects: bool = common.DEFECTS,
+    per_unit: bool = common.PER_UNIT,
     designed: bool = typer.Option(False, "--designed", help="Add the single, double and sequential plans designed for --aql/--rql (the trade-off view)."),
     plot: Optional[str] = typer.Option(None, "--plot", help="OC curves of all plans to PATH.png/.svg."),
     force: bool = typer.Option(False, "--force", help="Overwrite files lotwise did not write."),
@@ -45,9 +45,9 @@ def compare(
             entries.append((f"{pp.request.part_id}/{rep['characteristic']['id']}", p,
                             Targets(**rep["targets"]), pp.request.scope, pp.request.model))
     if plan or designed:
-        a, r = common.levels(aql, rql, defects)
+        a, r = common.levels(aql, rql, per_unit)
         al, be = common.risks(alpha, beta)
-        scope = Scope(lot_size=common.lot_size(lot), defects=defects)
+        scope = Scope(lot_size=common.lot_size(lot), per_unit=per_unit)
         mdl = scope.check_model(model)
         if designed:
             from lotwise.analysis.tradeoff import asn_tradeoff
@@ -87,7 +87,7 @@ def compare(
     rows = []
     for r in rows_:
         q = r["plan_quality"]
-        per = r["defects"]
+        per = r["per_unit"]
         asn = r.get("asn")
         counts = r.get("plan_quality_counts")
 

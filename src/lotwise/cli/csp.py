@@ -18,7 +18,7 @@ from lotwise.core.quantities import (Infeasible, InputError, format_pct, parse_c
 
 #: Options of ``design`` that do not apply to CSP plans, in the order
 #: :func:`lotwise.cli.design.design` passes their values.
-DESIGN_UNUSED = ("--aql", "--rql", "--lot-size", "--defects", "--c", "--n", "--max-n",
+DESIGN_UNUSED = ("--aql", "--rql", "--lot-size", "--per-unit", "--c", "--n", "--max-n",
                  "--sigma", "--sigma-value", "--limit", "--lower", "--upper", "--ratio",
                  "--truncate", "--plot")
 
@@ -238,11 +238,11 @@ def next_cmd(plan, *, history, seed, systematic, unused, as_json):
     typer.echo(f"  {SAFETY}")
 
 
-def design_options(*, scheme, aql, rql, lot, defects, c, n, max_n, sigma, sigma_value, limit,
+def design_options(*, scheme, aql, rql, lot, per_unit, c, n, max_n, sigma, sigma_value, limit,
                    lower, upper, ratio, truncate, plot, aoql, csp_f, csp_i, minimize,
                    process_average, model, as_json, **_others):
     """:func:`design_cmd` called with every design option."""
-    given = (aql, rql, lot, defects, c, n, max_n, sigma, sigma_value, limit, lower, upper,
+    given = (aql, rql, lot, per_unit, c, n, max_n, sigma, sigma_value, limit, lower, upper,
              ratio, truncate, plot)
     return design_cmd(scheme=scheme, aoql=aoql, f_values=csp_f, i=csp_i, minimize=minimize,
                       process_average=process_average, model=model, as_json=as_json,

@@ -35,7 +35,7 @@ def design(
     beta: str = common.BETA,
     lot: Optional[str] = common.LOT,
     model: Optional[str] = common.MODEL,
-    defects: bool = common.DEFECTS,
+    per_unit: bool = common.PER_UNIT,
     scheme: str = typer.Option("single", "--scheme", help="Plan family: single, double, sequential, compare-all (the three side by side), chain (ChSP-1), variables, or csp1, csp2, csp3 (continuous sampling)."),
     c: Optional[str] = typer.Option(None, "--c", help="Fix the acceptance number (0 for accept-on-zero)."),
     n: Optional[str] = typer.Option(None, "--n", help="Fix the sample size and find c."),
@@ -117,7 +117,7 @@ _SCHEME_OPTIONS = ("c", "n", "max_n", "minimize", "process_average", "aoql", "si
                    "csp_f", "csp_i")
 
 
-def registered_cmd(*, scheme, aql, rql, alpha, beta, lot, model, defects, as_json, **o):
+def registered_cmd(*, scheme, aql, rql, alpha, beta, lot, model, per_unit, as_json, **o):
     """``lotwise design --scheme NAME`` for a family whose module registers a designer and
     that has no handler in :data:`SCHEMES`: its designer with the targets only."""
     from lotwise.analysis.assess import assess
@@ -129,13 +129,13 @@ def registered_cmd(*, scheme, aql, rql, alpha, beta, lot, model, defects, as_jso
         if o.get(key):
             raise InputError(f"--{key.replace('_', '-').replace('csp-', '')} ({o[key]}) does "
                              f"not apply to --scheme {scheme}")
-    a, r = common.levels(aql, rql, defects)
+    a, r = common.levels(aql, rql, per_unit)
     al, be = common.risks(alpha, beta)
-    scope, mdl = common.scope_and_model(lot, defects, model)
+    scope, mdl = common.scope_and_model(lot, per_unit, model)
     targets = Targets(aql=a, rql=r, alpha=al, beta=be)
     try:
         d = family(scheme).design(aql=a, rql=r, alpha=al, beta=be, lot_size=scope.lot_size,
-                                  model=mdl, defects=defects)
+                                  model=mdl, per_unit=per_unit)
     except Infeasible as exc:
         common.infeasible(exc, as_json, {"scheme": scheme, "model": mdl,
                                          "lot_size": scope.lot_size,

@@ -15,7 +15,7 @@ _OPTIONS = ("c", "n", "max_n", "minimize", "process_average", "aoql", "sigma", "
             "cost_reject_lot", "sheet", "deliveries")
 
 
-def design_cmd(rates, *, scheme, aql, rql, alpha, beta, lot, model, defects, as_json, **o):
+def design_cmd(rates, *, scheme, aql, rql, alpha, beta, lot, model, per_unit, as_json, **o):
     """Design the ``scheme`` plan meeting both risks at the true levels under ``rates``."""
     from lotwise.analysis.assess import assess
     from lotwise.core.types import Targets
@@ -23,9 +23,9 @@ def design_cmd(rates, *, scheme, aql, rql, alpha, beta, lot, model, defects, as_
                                                 option_value, refuse_options)
 
     refuse_options(scheme, [(key, o.get(key)) for key in _OPTIONS])
-    a, r = common.levels(aql, rql, defects)
+    a, r = common.levels(aql, rql, per_unit)
     al, be = common.risks(alpha, beta)
-    scope, mdl = common.scope_and_model(lot, defects, model)
+    scope, mdl = common.scope_and_model(lot, per_unit, model)
     options = {}
     for key in DESIGN_TAKES.get(scheme, ()):
         if o.get(key) is not None:
@@ -33,7 +33,7 @@ def design_cmd(rates, *, scheme, aql, rql, alpha, beta, lot, model, defects, as_
     targets = Targets(aql=a, rql=r, alpha=al, beta=be)
     try:
         d = design_misclassified(scheme, rates, aql=a, rql=r, alpha=al, beta=be,
-                                 lot_size=scope.lot_size, model=mdl, defects=defects, **options)
+                                 lot_size=scope.lot_size, model=mdl, per_unit=per_unit, **options)
     except Infeasible as exc:
         common.infeasible(exc, as_json, {"scheme": scheme, "model": mdl,
                                          "lot_size": scope.lot_size,

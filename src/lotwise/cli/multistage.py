@@ -8,8 +8,8 @@ import typer
 from . import common
 from lotwise.core.quantities import InputError, Infeasible, format_pct, parse_count
 
-def _scope(lot, defects, model):
-    return common.scope_and_model(lot, defects, model)
+def _scope(lot, per_unit, model):
+    return common.scope_and_model(lot, per_unit, model)
 
 
 def _not_for(scheme, **given):
@@ -42,12 +42,12 @@ def _minimize(text) -> str:
     return t
 
 
-def _targets(aql, rql, alpha, beta, lot, model, defects, plot, scheme, force):
+def _targets(aql, rql, alpha, beta, lot, model, per_unit, plot, scheme, force):
     from lotwise.core.types import Targets
 
-    a, r = common.levels(aql, rql, defects)
+    a, r = common.levels(aql, rql, per_unit)
     al, be = common.risks(alpha, beta)
-    scope, mdl = _scope(lot, defects, model)
+    scope, mdl = _scope(lot, per_unit, model)
     plot = common.plot_path(plot, force)
     targets = Targets(aql=a, rql=r, alpha=al, beta=be)
     base = {"scheme": scheme, "model": mdl, "lot_size": scope.lot_size,
@@ -60,11 +60,11 @@ def _truncate(text):
         if text is not None else None
 
 
-def design_double_cmd(*, scheme, aql, rql, alpha, beta, lot, model, defects, n, c, max_n,
+def design_double_cmd(*, scheme, aql, rql, alpha, beta, lot, model, per_unit, n, c, max_n,
                       ratio, minimize, truncate, plot, force, as_json, **_others):
     """``lotwise design --scheme double``."""
     _not_for(scheme, n=n, c=c)
-    targets, scope, mdl, plot, base = _targets(aql, rql, alpha, beta, lot, model, defects,
+    targets, scope, mdl, plot, base = _targets(aql, rql, alpha, beta, lot, model, per_unit,
                                                plot, scheme, force)
     _not_for(scheme, truncate=truncate)
     cap = parse_count(max_n, "--max-n", minimum=2) if max_n is not None else None
@@ -72,22 +72,22 @@ def design_double_cmd(*, scheme, aql, rql, alpha, beta, lot, model, defects, n, 
                           plot, force, as_json, base)
 
 
-def design_sequential_cmd(*, scheme, aql, rql, alpha, beta, lot, model, defects, n, c, max_n,
+def design_sequential_cmd(*, scheme, aql, rql, alpha, beta, lot, model, per_unit, n, c, max_n,
                           ratio, minimize, truncate, plot, force, as_json, **_others):
     """``lotwise design --scheme sequential``."""
     _not_for(scheme, n=n, c=c)
-    targets, scope, mdl, plot, base = _targets(aql, rql, alpha, beta, lot, model, defects,
+    targets, scope, mdl, plot, base = _targets(aql, rql, alpha, beta, lot, model, per_unit,
                                                plot, scheme, force)
     _not_for(scheme, ratio=ratio, minimize=minimize, max_n=max_n)
     return _design_sequential(targets, scope, mdl, _truncate(truncate), plot, force, as_json,
                               base)
 
 
-def compare_all_cmd(*, scheme, aql, rql, alpha, beta, lot, model, defects, n, c, max_n,
+def compare_all_cmd(*, scheme, aql, rql, alpha, beta, lot, model, per_unit, n, c, max_n,
                     ratio, minimize, truncate, plot, force, as_json, **_others):
     """``lotwise design --scheme compare-all``: single, double and sequential side by side."""
     _not_for(scheme, n=n, c=c)
-    targets, scope, mdl, plot, _base = _targets(aql, rql, alpha, beta, lot, model, defects,
+    targets, scope, mdl, plot, _base = _targets(aql, rql, alpha, beta, lot, model, per_unit,
                                                 plot, scheme, force)
     _not_for(scheme, max_n=max_n)
     return _compare_all(targets, scope, mdl, _ratio(ratio), _minimize(minimize),
@@ -103,7 +103,7 @@ def _design_double(targets, scope, mdl, ratio, minimize, cap, plot, force, as_js
     try:
         d = design_double(aql=targets.aql, rql=targets.rql, alpha=targets.alpha,
                           beta=targets.beta, lot_size=scope.lot_size, model=mdl,
-                          defects=scope.defects, ratio=ratio, minimize=minimize, max_n=cap)
+                          per_unit=scope.per_unit, ratio=ratio, minimize=minimize, max_n=cap)
     except Infeasible as exc:
         common.infeasible(exc, as_json, base)
     rep = assess(d.plan, targets, scope, mdl, design=d,
@@ -164,7 +164,7 @@ def _design_sequential(targets, scope, mdl, truncate, plot, force, as_json, base
     try:
         d = design_sequential(aql=targets.aql, rql=targets.rql, alpha=targets.alpha,
                               beta=targets.beta, lot_size=scope.lot_size, model=mdl,
-                              defects=scope.defects, truncate=truncate)
+                              per_unit=scope.per_unit, truncate=truncate)
     except Infeasible as exc:
         common.infeasible(exc, as_json, base)
     rep = assess(d.plan, targets, scope, mdl, design=d).to_json()
@@ -172,7 +172,7 @@ def _design_sequential(targets, scope, mdl, truncate, plot, force, as_json, base
         from lotwise.data.files import save_figure
         from lotwise.documents.plots.multistage import sequential_figure
 
-        fig = sequential_figure(d.plan, per_unit=scope.defects,
+        fig = sequential_figure(d.plan, per_unit=scope.per_unit,
                                 title=f"Sequential plan: {d.plan.label}")
         save_figure(fig, plot, force=force, option="--plot")
     if as_json:
@@ -210,7 +210,7 @@ def _compare_all(targets, scope, mdl, ratio, minimize, truncate, plot, force, as
     if as_json:
         common.emit_json(res.as_dict())
         return
-    per_unit = scope.defects
+    per_unit = scope.per_unit
     typer.echo(f"Trade-off for AQL {format_level(targets.aql, per_unit)} at alpha "
                f"{format_pct(targets.alpha)}, RQL {format_level(targets.rql, per_unit)} at beta "
                f"{format_pct(targets.beta)} ({mdl} model"

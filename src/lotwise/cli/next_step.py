@@ -32,7 +32,7 @@ def next_unit(
     found: Optional[str] = typer.Option(None, "--found",
                                         help="Nonconforming items (or nonconformities) found "
                                              "so far, all stages together."),
-    defects: bool = common.DEFECTS,
+    per_unit: bool = common.PER_UNIT,
     history: Optional[str] = typer.Option(None, "--history", help="csp1/2/3 plans: results so far (ok, bad, - for a unit passed uninspected; comma, space or newline separated) or a file of them."),
     seed: Optional[str] = typer.Option(None, "--seed", help="csp1/2/3 plans: seed of the random choice of units to inspect."),
     systematic: bool = typer.Option(False, "--systematic", help="csp1/2/3 plans: inspect every m-th unit (f = 1/m) instead of a random choice."),
@@ -61,7 +61,7 @@ def next_unit(
 
         return next_cmd(flow, history=history, seed=seed, systematic=systematic,
                         as_json=as_json, unused={"--inspected": inspected, "--found": found,
-                                                 "--defects": defects or None})
+                                                 "--per-unit": per_unit or None})
     for opt, val in (("--history", history), ("--seed", seed), ("--systematic", systematic)):
         if val is not None and val is not False:
             raise InputError(f"{opt} ({val!r}) applies to continuous sampling plans (csp1, csp2, "
@@ -75,9 +75,9 @@ def next_unit(
     from lotwise.core.types import Scope
 
     ref = plan_from_reference(plan)
-    per_unit = bool(defects or ref.defects)
-    p = ref.plan.for_scope(Scope(defects=per_unit))  # c > n, sequential lines: per the scope
-    dec = p.decide(n, d, defects=per_unit)
+    per_unit = bool(per_unit or ref.per_unit)
+    p = ref.plan.for_scope(Scope(per_unit=per_unit))  # c > n, sequential lines: per the scope
+    dec = p.decide(n, d, per_unit=per_unit)
     if as_json:
         out = {"scheme": p.scheme, "plan": p.to_dict(), "notation": p.notation()}
         out.update(dec.as_dict())

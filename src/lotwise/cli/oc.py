@@ -16,7 +16,7 @@ def oc_table(
     c: Optional[str] = typer.Option(None, "--c", help="Acceptance number."),
     lot: Optional[str] = common.LOT,
     model: Optional[str] = common.MODEL,
-    defects: bool = common.DEFECTS,
+    per_unit: bool = common.PER_UNIT,
     max_p: Optional[str] = typer.Option(None, "--max-p", help="Largest quality level of the grid."),
     points: str = typer.Option("21", "--points", help="Number of grid points."),
     at: Optional[List[str]] = typer.Option(None, "--at", help="Evaluate at these levels instead of a grid (repeatable, or comma-separated)."),
@@ -44,7 +44,7 @@ def oc_table(
 
         return flow_oc(p, max_p=max_p, points=points, at=at, csv=csv, plot=plot, model=model,
                        force=force, as_json=as_json,
-                       unused={"--lot-size": lot, "--defects": defects, "--aql": aql,
+                       unused={"--lot-size": lot, "--per-unit": per_unit, "--aql": aql,
                                "--rql": rql, "--miss-rate": miss_rate,
                                "--false-alarm": false_alarm, "--study": study})
     if p.evaluation == "process" and rates is not None:
@@ -55,10 +55,10 @@ def oc_table(
         return process_oc(common.with_gauge(p, gauge), max_p=max_p, points=points, at=at, aql=aql, rql=rql, csv=csv,
                           plot=plot, force=force, as_json=as_json)
     common.with_gauge(p, gauge)  # refused: a gauge's error is for variables plans
-    scope, mdl = common.scope_and_model(lot, defects, model)
+    scope, mdl = common.scope_and_model(lot, per_unit, model)
     p = p.for_scope(scope)  # checks the scope; a plan may be meant per the scope
     p = common.with_errors(p, rates, scope)  # Pa at the true quality
-    a, r = common.levels(aql, rql, defects, need=False)
+    a, r = common.levels(aql, rql, per_unit, need=False)
     common.outputs(force, ("--csv", csv), ("--plot", plot, "figure"))
     ps = common.level_grid(p, scope, mdl, max_p, points, at, r)
     out = common.add_rates(attribute_oc(p, scope, mdl, ps, aql=a, rql=r), rates)
@@ -74,7 +74,7 @@ def oc_table(
         common.emit_json(out)
     elif csv != "-":
         nm = len(scope.models)
-        shown = [[common.fmt_level(row[0], defects)] + [f"{v:.5f}" for v in row[1:1 + nm]]
+        shown = [[common.fmt_level(row[0], per_unit)] + [f"{v:.5f}" for v in row[1:1 + nm]]
                  + [_cell(k, v) for k, v in zip(header[1 + nm:], row[1 + nm:])] for row in rows]
         what = "OC and ASN table" if p.varying_sample else "OC table"
         typer.echo(f"{what} for the {p.scheme} plan {p.label}"

@@ -94,9 +94,9 @@ def add_posterior(rep: dict, plan, prior, info, targets, scope, skip_lot=None) -
 
     if prior is None:
         return rep
-    if scope.defects:
+    if scope.per_unit:
         raise InputError("--prior describes a fraction nonconforming; it does not apply with "
-                         "--defects")
+                         "--per-unit")
     post = posterior_risks(plan, prior, aql=targets.aql, rql=targets.rql,
                            lot_size=scope.lot_size)
     if skip_lot is not None and "skip_lot" in rep:
@@ -198,8 +198,8 @@ def design_cost(**opts):
     for key, opt in _NOT_FOR_COST.items():
         if opts.get(key):
             raise InputError(f"{opt} ({opts[key]}) does not apply to --minimize cost")
-    if opts.get("defects"):
-        raise InputError("--defects does not apply to --minimize cost (the prior is of a "
+    if opts.get("per_unit"):
+        raise InputError("--per-unit does not apply to --minimize cost (the prior is of a "
                          "fraction nonconforming)")
     if opts.get("lot") is None:
         raise InputError("--minimize cost needs --lot-size (the costs are counted per lot)")

@@ -15,7 +15,7 @@ MINIMIZE = ("ati",)
 
 # --- design --minimize ati / --scheme chain ----------------------------------------
 
-def least_ati_cmd(*, minimize, aql, rql, alpha, beta, lot, model, defects, c, n, max_n,
+def least_ati_cmd(*, minimize, aql, rql, alpha, beta, lot, model, per_unit, c, n, max_n,
                   process_average, aoql, aoq_formula, as_json, **_others):
     """``lotwise design --minimize ati``: the single plan of least average total inspection."""
     if minimize not in MINIMIZE:
@@ -23,11 +23,11 @@ def least_ati_cmd(*, minimize, aql, rql, alpha, beta, lot, model, defects, c, n,
     for name, val in (("--c", c), ("--n", n), ("--max-n", max_n)):
         if val is not None:
             raise InputError(f"{name} ({val}) cannot be combined with --minimize ati")
-    return _least_ati(aql, rql, alpha, beta, lot, model, defects, process_average, aoql,
+    return _least_ati(aql, rql, alpha, beta, lot, model, per_unit, process_average, aoql,
                       aoq_formula, as_json)
 
 
-def chain_cmd(*, minimize, aql, rql, alpha, beta, lot, model, defects, c, n, max_n,
+def chain_cmd(*, minimize, aql, rql, alpha, beta, lot, model, per_unit, c, n, max_n,
               process_average, aoql, as_json, **_others):
     """``lotwise design --scheme chain``: the ChSP-1 plan with the smallest sample."""
     if minimize is not None:
@@ -40,10 +40,10 @@ def chain_cmd(*, minimize, aql, rql, alpha, beta, lot, model, defects, c, n, max
         if val is not None:
             raise InputError(f"{name} ({val}) does not apply to --scheme chain (its plan is "
                              "n and i)")
-    return _chain(aql, rql, alpha, beta, lot, model, defects, max_n, as_json)
+    return _chain(aql, rql, alpha, beta, lot, model, per_unit, max_n, as_json)
 
 
-def _least_ati(aql, rql, alpha, beta, lot, model, defects, process_average, aoql, formula,
+def _least_ati(aql, rql, alpha, beta, lot, model, per_unit, process_average, aoql, formula,
                as_json):
     from lotwise.analysis.least_ati import design_least_ati
     from lotwise.core.types import Scope
@@ -55,21 +55,21 @@ def _least_ati(aql, rql, alpha, beta, lot, model, defects, process_average, aoql
         raise InputError("--minimize ati needs --process-average (for example "
                          "--process-average 0.5%)")
     N = parse_count(lot, "--lot-size", minimum=2, maximum=10**12)
-    pbar = parse_level(process_average, "--process-average", per_unit=defects)
+    pbar = parse_level(process_average, "--process-average", per_unit=per_unit)
     if (rql is None) == (aoql is None):
         raise InputError("--minimize ati needs either --rql (with --beta) or --aoql")
-    r = parse_level(rql, "--rql", per_unit=defects) if rql is not None else None
-    lim = parse_level(aoql, "--aoql", per_unit=defects) if aoql is not None else None
+    r = parse_level(rql, "--rql", per_unit=per_unit) if rql is not None else None
+    lim = parse_level(aoql, "--aoql", per_unit=per_unit) if aoql is not None else None
     be = parse_risk(beta, "--beta")
     al = parse_risk(alpha, "--alpha")
-    a = parse_level(aql, "--aql", per_unit=defects) if aql is not None else None
+    a = parse_level(aql, "--aql", per_unit=per_unit) if aql is not None else None
     check_formula(formula)
-    mdl = Scope(lot_size=N, defects=defects).check_model(model)
+    mdl = Scope(lot_size=N, per_unit=per_unit).check_model(model)
     base = {"scheme": "single", "minimize": "ati", "model": mdl, "lot_size": N,
             "process_average": pbar}
     try:
         d = design_least_ati(lot_size=N, process_average=pbar, rql=r, beta=be, aoql=lim,
-                             model=mdl, defects=defects, formula=formula, aql=a, alpha=al)
+                             model=mdl, per_unit=per_unit, formula=formula, aql=a, alpha=al)
     except Infeasible as exc:
         common.infeasible(exc, as_json, base)
     rep = d.report()
@@ -83,7 +83,7 @@ def render_least_ati(rep: dict) -> str:
     from lotwise.core.quantities import format_level, format_pct
     from lotwise.analysis.report import table
 
-    pu = rep["defects"]
+    pu = rep["per_unit"]
     lv = lambda x: format_level(x, pu)  # noqa: E731
     t = rep["targets"]
     what = (f"RQL {lv(t['rql'])} at beta {format_pct(t['beta'])}" if rep["constraint"] == "rql"
@@ -113,22 +113,22 @@ def render_least_ati(rep: dict) -> str:
     return "\n".join(lines)
 
 
-def _chain(aql, rql, alpha, beta, lot, model, defects, max_n, as_json):
+def _chain(aql, rql, alpha, beta, lot, model, per_unit, max_n, as_json):
     from lotwise.families.chain import design_chain
     from lotwise.analysis.assess import assess
     from lotwise.core.types import Targets
     from lotwise.core.types import Scope
 
-    a, r = common.levels(aql, rql, defects)
+    a, r = common.levels(aql, rql, per_unit)
     al, be = common.risks(alpha, beta)
     N = common.lot_size(lot)
-    mdl = Scope(lot_size=N, defects=defects).check_model(model)
+    mdl = Scope(lot_size=N, per_unit=per_unit).check_model(model)
     cap = parse_count(max_n, "--max-n", minimum=1) if max_n is not None else None
     base = {"scheme": "chain", "model": mdl, "lot_size": N,
             "targets": Targets(aql=a, rql=r, alpha=al, beta=be).as_dict()}
     try:
         d = design_chain(aql=a, rql=r, alpha=al, beta=be, lot_size=N, model=mdl,
-                         defects=defects, max_n=cap)
+                         per_unit=per_unit, max_n=cap)
     except Infeasible as exc:
         common.infeasible(exc, as_json, base)
     a = assess(d.plan, d.targets, d.scope, d.model, design=d)
@@ -182,15 +182,15 @@ def render_extras(rep: dict) -> str:
 
     parts = []
     if "rectifying" in rep:
-        parts.append(render_rectifying(rep, rep.get("defects", False)))
+        parts.append(render_rectifying(rep, rep.get("per_unit", False)))
     if "skip_lot" in rep:
-        sk = render_skiplot(rep["skip_lot"], rep.get("defects", False))
+        sk = render_skiplot(rep["skip_lot"], rep.get("per_unit", False))
         if "aoql" in rep["skip_lot"]:
             from lotwise.core.quantities import format_level, format_pct
 
             sk += (f"\n    - With rejected lots screened, its AOQL is "
                    f"{format_pct(rep['skip_lot']['aoql'], 4)} at "
-                   f"{format_level(rep['skip_lot']['aoql_p'], rep.get('defects', False))}.")
+                   f"{format_level(rep['skip_lot']['aoql_p'], rep.get('per_unit', False))}.")
         parts.append(sk)
     if "aoq_plot" in rep:
         parts.append(f"  wrote {rep['aoq_plot']}")

@@ -42,7 +42,7 @@ def _levels(req, at, points, max_p):
         return np.array(vals, dtype=float)
     k = parse_count(points, "--points", minimum=2, maximum=10_000)
     if max_p is not None:
-        top = parse_level(max_p, "--max-p", per_unit=scope.defects)
+        top = parse_level(max_p, "--max-p", per_unit=scope.per_unit)
     else:
         top = _top(req)
     return np.linspace(0.0, top, k)
@@ -54,7 +54,7 @@ def _level(text, scope) -> float:
 
     if parse_fraction(text, "--at") == 0:
         return 0.0
-    return parse_level(text, "--at", per_unit=scope.defects)
+    return parse_level(text, "--at", per_unit=scope.per_unit)
 
 
 def _top(req) -> float:
@@ -69,7 +69,7 @@ def _top(req) -> float:
     e = math.floor(math.log10(top))
     for m in (1, 2, 2.5, 5, 10):
         if m * 10**e >= top * (1 - 1e-12):
-            return min(m * 10**e, 1.0) if not scope.defects else m * 10**e
+            return min(m * 10**e, 1.0) if not scope.per_unit else m * 10**e
     return top
 
 
@@ -132,7 +132,7 @@ def scheme(
 
 
 def _render_oc(req, oc, plot) -> None:
-    per = req.scope.defects
+    per = req.scope.per_unit
     sch = req.switching
     lot = f", lot of {req.scope.lot_size:,}" if req.scope.lot_size else ""
     typer.echo(f"Switching scheme for {req.part_id} ({Path(req.path).name}): model {oc.model}"
@@ -248,7 +248,7 @@ def table_check(req) -> tuple[list, list]:
     from lotwise.analysis.table_audit import AuditLimits, TableRow, audit_row
 
     lim = req.limits or AuditLimits()
-    defects = req.scope.defects
+    per_unit = req.scope.per_unit
     rows, items = [], []
     targets = list(req.table)
     if req.switching is not None:
@@ -256,7 +256,7 @@ def table_check(req) -> tuple[list, list]:
         targets.insert(0, TableRow(index=None, lot_min=n, lot_max=n,
                                    plans=req.switching.plans(), label="switching"))
     for tr in targets:
-        a = audit_row(tr, lim, defects=defects)
+        a = audit_row(tr, lim, per_unit=per_unit)
         a.update({"file": req.path, "part": req.part_id})
         if tr.index is None and lim.aql is not None:
             a["scheme_pa"] = _scheme_pa(req, lim)

@@ -25,7 +25,7 @@ def design_cmd(**o):
     return _design(**o)
 
 
-def _design(*, aql, rql, alpha, beta, lot, model, defects, c, n, max_n, process_average,
+def _design(*, aql, rql, alpha, beta, lot, model, per_unit, c, n, max_n, process_average,
             aoql, ratio, truncate, plot, as_json, **_others):
     from lotwise.analysis.assess import assess
     from lotwise.core.types import Targets
@@ -38,9 +38,9 @@ def _design(*, aql, rql, alpha, beta, lot, model, defects, c, n, max_n, process_
         if val is not None:
             raise InputError(f"{opt} ({val}) applies to --scheme double, sequential or "
                              "compare-all, not single")
-    a, r = common.levels(aql, rql, defects)
+    a, r = common.levels(aql, rql, per_unit)
     al, be = common.risks(alpha, beta)
-    scope, mdl = common.scope_and_model(lot, defects, model)
+    scope, mdl = common.scope_and_model(lot, per_unit, model)
     cc = parse_count(c, "--c", minimum=0) if c is not None else None
     nn = parse_count(n, "--n", minimum=1) if n is not None else None
     cap = parse_count(max_n, "--max-n", minimum=1) if max_n is not None else None
@@ -49,7 +49,7 @@ def _design(*, aql, rql, alpha, beta, lot, model, defects, c, n, max_n, process_
             "targets": targets.as_dict()}
     try:
         d = design_single(aql=a, rql=r, alpha=al, beta=be, lot_size=scope.lot_size, model=mdl,
-                          defects=defects, n=nn, c=cc, max_n=cap)
+                          per_unit=per_unit, n=nn, c=cc, max_n=cap)
     except Infeasible as exc:
         common.infeasible(exc, as_json, base)
     a = assess(d.plan, targets, scope, mdl, design=d)

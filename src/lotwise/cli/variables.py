@@ -29,7 +29,7 @@ def number(text, option: str) -> float | None:
 # --- design --------------------------------------------------------------------
 
 def design_cmd(*, aql, rql, alpha, beta, sigma, sigma_value, limit, lower, upper, max_n,
-               lot, model, defects, c, n, as_json, gauge=None):
+               lot, model, per_unit, c, n, as_json, gauge=None):
     """``lotwise design --scheme variables``."""
     from lotwise.families.variables import design_variables
     from lotwise.core.quantities import parse_count
@@ -37,8 +37,8 @@ def design_cmd(*, aql, rql, alpha, beta, sigma, sigma_value, limit, lower, upper
     for opt, val in (("--model", model), ("--c", c), ("--n", n)):
         if val is not None:
             raise InputError(f"{opt} ({val}) does not apply to --scheme variables")
-    if defects:
-        raise InputError("--defects does not apply to --scheme variables: a variables plan "
+    if per_unit:
+        raise InputError("--per-unit does not apply to --scheme variables: a variables plan "
                          "judges a fraction nonconforming from measurements")
     if sigma is None:
         raise InputError("--sigma is required with --scheme variables: known or unknown")
@@ -103,7 +103,7 @@ def _design_measured(gauge, base, nlot, as_json, **kw):
                                                "limit", "lower", "upper")},
                           sigma_value=None if kw["sigma_value"] is None
                           else repr(kw["sigma_value"]), max_n=kw["max_n"], lot=nlot,
-                          model=None, defects=False, c=None, n=None, as_json=as_json)
+                          model=None, per_unit=False, c=None, n=None, as_json=as_json)
     targets = Targets(aql=kw["aql"], rql=kw["rql"], alpha=kw["alpha"], beta=kw["beta"])
     try:
         plan, _d, guard = design_measured(gauge, **kw)
@@ -225,9 +225,9 @@ def oc_cmd(plan, *, max_p, points, at, aql, rql, csv, plot, force, as_json):
 # --- judge -----------------------------------------------------------------------
 
 def design_options(*, aql, rql, alpha, beta, sigma, sigma_value, limit, lower, upper, max_n,
-                   lot, model, defects, c, n, as_json, gauge=None, **_others):
+                   lot, model, per_unit, c, n, as_json, gauge=None, **_others):
     """:func:`design_cmd` called with every design option."""
     return design_cmd(aql=aql, rql=rql, alpha=alpha, beta=beta, sigma=sigma,
                       sigma_value=sigma_value, limit=limit, lower=lower, upper=upper,
-                      max_n=max_n, lot=lot, model=model, defects=defects, c=c, n=n,
+                      max_n=max_n, lot=lot, model=model, per_unit=per_unit, c=c, n=n,
                       as_json=as_json, gauge=gauge)

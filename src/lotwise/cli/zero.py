@@ -22,7 +22,7 @@ def zero(
     c: Optional[str] = typer.Option(None, "--c", help="Acceptance number of the plan to match."),
     lot: Optional[str] = common.LOT,
     model: Optional[str] = common.MODEL,
-    defects: bool = common.DEFECTS,
+    per_unit: bool = common.PER_UNIT,
     max_n: Optional[str] = typer.Option(None, "--max-n", help="Largest affordable sample."),
     plot: Optional[str] = typer.Option(None, "--plot", help="Draw the OC curve(s) to PATH.png, .svg or .pdf."),
     force: bool = typer.Option(False, "--force", help="Overwrite files not written by lotwise."),
@@ -32,11 +32,11 @@ def zero(
     equivalent to a given plan (same RQL point), with its producer's risk."""
     from lotwise.core.types import Scope
 
-    scope = Scope(lot_size=common.lot_size(lot), defects=defects)
+    scope = Scope(lot_size=common.lot_size(lot), per_unit=per_unit)
     mdl = scope.check_model(model)
     be = parse_risk(beta, "--beta")
     al = parse_risk(alpha, "--alpha")
-    a = parse_level(aql, "--aql", per_unit=defects) if aql is not None else None
+    a = parse_level(aql, "--aql", per_unit=per_unit) if aql is not None else None
     common.plot_path(plot, force)
     given = common.plan_from(plan, n, c, required=False)
     if given is not None:
@@ -49,13 +49,13 @@ def zero(
     if rql is None:
         raise InputError("--rql is required (for example --rql 5%), or give --plan to find "
                          "the c = 0 plan equivalent to it")
-    r = parse_level(rql, "--rql", per_unit=defects)
+    r = parse_level(rql, "--rql", per_unit=per_unit)
     cap = parse_count(max_n, "--max-n", minimum=1) if max_n is not None else None
     from lotwise.analysis.zero import design_zero
 
     base = {"scheme": "single", "c": 0, "model": mdl, "lot_size": scope.lot_size}
     try:
-        z = design_zero(rql=r, beta=be, lot_size=scope.lot_size, model=mdl, defects=defects,
+        z = design_zero(rql=r, beta=be, lot_size=scope.lot_size, model=mdl, per_unit=per_unit,
                         aql=a, alpha=al, max_n=cap)
     except Infeasible as exc:
         common.infeasible(exc, as_json, base)
@@ -78,7 +78,7 @@ def _render_zero(rep: dict) -> str:
     from lotwise.core.quantities import format_level, format_pct
     from lotwise.analysis.report import table
 
-    pu = rep["defects"]
+    pu = rep["per_unit"]
     t = rep["targets"]
     lot = f"lot of {rep['lot_size']}" if rep["lot_size"] else "no lot size (process)"
     lines = ["Accept-on-zero plan (c = 0, smallest sample meeting the consumer's risk)"]
@@ -133,7 +133,7 @@ def _equivalent(given, scope, mdl, be, a, al, plot, force, as_json):
     if as_json:
         common.emit_json(rep)
         return
-    pu = scope.defects
+    pu = scope.per_unit
     lab = given.label
     where = "AQL" if eq.level_kind == "aql" else "plan's 95 % point"
     rows = [[lab, str(rep["sample_sizes"]["plan"]), f"{eq.pa_point['plan']:.5f}",

@@ -55,7 +55,7 @@ class Kernel:
         self.N = scope.lot_size
         #: Nonconformities per unit: ``c`` may exceed ``n`` and ``n = c`` does
         #: not accept every lot.
-        self.per_unit = scope.defects
+        self.per_unit = scope.per_unit
         self.evaluations = 0
         if model == "hypergeometric":
             self.d1, self.d2 = lot_targets(targets, self.N)
@@ -489,7 +489,7 @@ def invert_level(plan, prob: float, model: str, scope: Scope) -> float:
     pass evaluates 127 levels inside the bracket in one vectorised call and
     keeps the sub-interval where ``Pa`` crosses ``prob``."""
     lo, hi = 0.0, 1.0
-    if scope.defects:  # nonconformities per unit have no upper bound
+    if scope.per_unit:  # nonconformities per unit have no upper bound
         while float(plan.pa(hi, model, scope)) > prob and hi < 1e6:
             hi *= 2.0
     for _ in range(40):
@@ -517,7 +517,7 @@ def maximise_over_levels(func, plan, model: str, scope: Scope, points: int = 201
     tolerance.
     """
     hi = plan.quality_at(0.001, model, scope, "consumer")
-    if not scope.defects:
+    if not scope.per_unit:
         hi = min(1.0, 1.2 * hi + 1e-9)
     else:
         hi = 1.2 * hi + 1e-9

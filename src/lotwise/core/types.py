@@ -23,7 +23,7 @@ A receiving inspector sentences lots of 500 housings:
 
 >>> Scope(lot_size=500).models
 ('hypergeometric', 'binomial', 'poisson')
->>> Scope(defects=True).exact_model
+>>> Scope(per_unit=True).exact_model
 'poisson'
 """
 
@@ -92,25 +92,20 @@ def parse_choice(enum, value, option: str):
 @dataclass(frozen=True, kw_only=True)
 class Scope:
     """What is sampled: a lot of ``lot_size`` items, or a process (``None``);
-    ``defects`` for nonconformities per unit."""
+    ``per_unit`` for nonconformities per unit."""
 
     lot_size: int | None = None
-    defects: bool = False
-
-    @property
-    def per_unit(self) -> bool:
-        """Counts are nonconformities per unit (the Poisson model is exact)."""
-        return self.defects
+    per_unit: bool = False
 
     @property
     def exact_model(self) -> str:
-        if self.defects:
+        if self.per_unit:
             return Model.POISSON.value
         return (Model.HYPERGEOMETRIC if self.lot_size else Model.BINOMIAL).value
 
     @property
     def models(self) -> tuple[str, ...]:
-        if self.defects:
+        if self.per_unit:
             return ("poisson",)
         if self.lot_size:
             return ("hypergeometric", "binomial", "poisson")
@@ -122,7 +117,7 @@ class Scope:
             return self.exact_model
         model = _choice(Model, model, option).value
         if model not in self.models:
-            if model == "hypergeometric" and not self.defects:
+            if model == "hypergeometric" and not self.per_unit:
                 raise InputError(f"{option} ({model}) needs a lot size (--lot-size)")
             raise InputError(f"{option} ({model}) does not apply to nonconformities per unit; "
                              "the Poisson model is exact there")

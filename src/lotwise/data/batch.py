@@ -24,7 +24,7 @@ column               required meaning
                               (default: the exact one for the row)
 ``fixed_c``          no       fix the acceptance number (0 for accept-on-zero)
 ``max_n``            no       largest affordable sample
-``defects``          no       ``yes`` when the levels are nonconformities per unit
+``per_unit``          no       ``yes`` when the levels are nonconformities per unit
 ``deliveries_per_year`` no    lots received per year, for the yearly load
 ``ratio``            no       double: ``n2 / n1`` (default 2)
 ``minimize``         no       double: ``asn-aql`` (default) or ``asn-max``
@@ -55,7 +55,7 @@ Rows with ``prior_a``, ``prior_b``, ``cost_inspect`` and ``cost_escape`` are
 designed by cost: the single plan with the least expected cost per lot under
 Hald's model (:func:`lotwise.analysis.cost.least_cost_single`, as ``lotwise
 design --minimize cost``) that also holds the row's RQL at its ``beta``; they
-need a ``lot_size`` and take no ``fixed_c``, ``max_n`` or ``defects``. When
+need a ``lot_size`` and take no ``fixed_c``, ``max_n`` or ``per_unit``. When
 the catalogue has any of these columns the output gains ``expected_cost``
 (empty for the other rows).
 
@@ -129,7 +129,7 @@ __all__ = ["REQUIRED", "OPTIONAL", "OUTPUT", "SAFETY_NOTE", "BatchResult",
            "progress_bar"]
 
 REQUIRED = ("part", "lot_size", "aql", "rql")
-OPTIONAL = ("alpha", "beta", "scheme", "model", "fixed_c", "max_n", "defects",
+OPTIONAL = ("alpha", "beta", "scheme", "model", "fixed_c", "max_n", "per_unit",
             "deliveries_per_year")
 OUTPUT = ("n", "c", "plan", "model_used", "alpha_actual", "beta_actual", "full_inspection",
           "units_per_year", "error")
@@ -211,6 +211,9 @@ def read_catalogue(path, option: str = "CATALOGUE"):
     from lotwise.data.csvio import read_columns
 
     t = read_columns(path, option)
+    if "defects" in t.header:
+        raise InputError(f"{option} ({t.source}) has the column defects, which was renamed "
+                         f"per_unit (nonconformities per unit); rename the column")
     missing = [c for c in REQUIRED if c not in t.header]
     if missing:
         raise InputError(f"{option} ({t.source}) lacks the column(s) {', '.join(missing)}; "
@@ -285,7 +288,7 @@ def design_catalogue(df, *, deliveries_per_year: float | None = None, progress=N
     Notes
     -----
     Rows whose design cells agree (the same text, or texts with the same
-    value for alpha, beta, scheme, fixed_c, max_n and defects; any valid
+    value for alpha, beta, scheme, fixed_c, max_n and per_unit; any valid
     ``deliveries_per_year``) form one class: one row of each class is
     designed and its plan columns are copied to the others on whole
     columns, so a large catalogue costs its distinct problems, not its rows.
@@ -363,7 +366,7 @@ def _canon() -> dict:
             "scheme": by(_scheme, "single"),
             "fixed_c": by(lambda v: parse_count(v, "fixed_c", minimum=0), -1),
             "max_n": by(lambda v: parse_count(v, "max_n", minimum=1), 0),
-            "defects": by(lambda v: _flag(v, "defects"), False),
+            "per_unit": by(lambda v: _flag(v, "per_unit"), False),
             "deliveries_per_year": by(lambda v: parse_rate(v, "deliveries_per_year") * 0, 0)}
 
 
@@ -402,7 +405,7 @@ def _design_table(df, *, deliveries_per_year: float | None = None, progress=None
     prob = pd.DataFrame({
         "model": rows.model, "aql": rows.aql, "rql": rows.rql, "alpha": rows.alpha,
         "beta": rows.beta, "lot": np.where(rows.has_lot, rows.lot, 0),
-        "fixed_c": rows.fixed_c, "max_n": rows.max_n, "defects": rows.defects,
+        "fixed_c": rows.fixed_c, "max_n": rows.max_n, "per_unit": rows.per_unit,
         "scheme": rows.scheme, "options": rows.options,
     })
     sol = _Designs.empty(m)
@@ -415,7 +418,7 @@ def _design_table(df, *, deliveries_per_year: float | None = None, progress=None
     model = rows.model
     model[ok] = np.where(sol.model[ok] != "", sol.model[ok], model[ok])
     cost_col = _cost_designs(df, error, model, rows.lot, rows.aql, rows.rql, rows.alpha,
-                             rows.beta, rows.defects, rows.fixed_c, rows.max_n,
+                             rows.beta, rows.per_unit, rows.fixed_c, rows.max_n,
                              (sol.n, sol.c, sol.alpha, sol.beta, sol.plan, sol.full))
     designed = (error == "") & (sol.n >= 0)
     rate = np.array([np.nan if v is None else float(v) for v in rows.deliv], dtype=float)
@@ -452,7 +455,7 @@ class _Rows:
     """The catalogue's cells parsed, one element per row (object arrays), and
     the first problem found in each row (``error``, '' where none)."""
 
-    defects: np.ndarray
+    per_unit: np.ndarray
     lot: np.ndarray
     has_lot: np.ndarray
     aql: np.ndarray
@@ -506,17 +509,17 @@ def _parse_rows(df, deliveries_per_year) -> _Rows:
     shape = np.array([str(v) if v else "" for v in df["_shape"].tolist()], dtype=object)
     error = np.where(shape == "", "", "the line " + shape).astype(object)
 
-    defects, e = _column(text, "defects", lambda v: _flag(v, "defects"), False)
+    per_unit, e = _column(text, "per_unit", lambda v: _flag(v, "per_unit"), False)
     error = _note(error, e)
-    defects = np.array([bool(v) for v in defects], dtype=bool)
+    per_unit = np.array([bool(v) for v in per_unit], dtype=bool)
     lot, e = _column(text, "lot_size", lambda v: parse_count(v, "lot_size", minimum=1,
                                                              maximum=10**12), None)
     error = _note(error, e)
-    # Levels depend on defects (per unit or a fraction): parse under each.
+    # Levels depend on per_unit (per unit or a fraction): parse under each.
     aql = np.full(m, None, dtype=object)
     rql = np.full(m, None, dtype=object)
     for flag in (False, True):
-        sel = defects == flag
+        sel = per_unit == flag
         if not sel.any():
             continue
         for name, target in (("aql", aql), ("rql", rql)):
@@ -537,25 +540,25 @@ def _parse_rows(df, deliveries_per_year) -> _Rows:
     parsed["options"], e = _row_options(text, parsed["scheme"], opt_cols)
     error = _note(error, e)
     has_lot = np.array([v is not None for v in lot], dtype=bool)
-    model, e = _resolve_models(text["model"], has_lot, defects)
+    model, e = _resolve_models(text["model"], has_lot, per_unit)
     error = _note(error, e)
-    return _Rows(defects=defects, lot=lot, has_lot=has_lot, aql=aql, rql=rql,
+    return _Rows(per_unit=per_unit, lot=lot, has_lot=has_lot, aql=aql, rql=rql,
                  alpha=parsed["alpha"], beta=parsed["beta"], scheme=parsed["scheme"],
                  options=parsed["options"], fixed_c=parsed["fixed_c"], max_n=parsed["max_n"],
                  deliv=parsed["deliveries_per_year"], model=model, error=error)
 
 
-def _resolve_models(model_text, has_lot, defects):
+def _resolve_models(model_text, has_lot, per_unit):
     """The model of each row (the lot size decides the exact one):
     ``(models, errors)``, each distinct combination checked once."""
     combo = np.array([f"{mt.lower()}|{int(hl)}|{int(dd)}" for mt, hl, dd in
-                      zip(model_text.tolist(), has_lot.tolist(), defects.tolist())])
+                      zip(model_text.tolist(), has_lot.tolist(), per_unit.tolist())])
     ucombo, cinv = np.unique(combo, return_inverse=True)
     res_model = np.full(ucombo.size, None, dtype=object)
     res_err = np.full(ucombo.size, "", dtype=object)
     for j, key in enumerate(ucombo.tolist()):
         mt, hl, dd = key.split("|")
-        scope = Scope(lot_size=1 if hl == "1" else None, defects=dd == "1")
+        scope = Scope(lot_size=1 if hl == "1" else None, per_unit=dd == "1")
         try:
             res_model[j] = scope.check_model(mt or None, "model")
         except InputError as exc:
@@ -585,7 +588,7 @@ class _Designs:
 
 
 _KEYCOLS = ["scheme", "model", "aql", "rql", "alpha", "beta", "lot", "fixed_c", "max_n",
-            "defects", "options"]
+            "per_unit", "options"]
 
 
 def _solve(good, sol: _Designs, rows_ok, progress, chunk: int) -> int:
@@ -627,7 +630,7 @@ def _solve_by_arrays(u, usol: _Designs, progress, chunk: int) -> int:
     # Nonconformities per unit (c may exceed n) and a largest sample go to the
     # family's own designer.
     simple = (u["scheme"].isin(list(many)) & (u["max_n"] == 0) & (u["rql"] > u["aql"])
-              & (u["alpha"] + u["beta"] < 1.0) & ~u["defects"].astype(bool)).to_numpy().copy()
+              & (u["alpha"] + u["beta"] < 1.0) & ~u["per_unit"].astype(bool)).to_numpy().copy()
     hyper = (u["model"] == "hypergeometric").to_numpy()
     if hyper.any():
         Nh = u["lot"].to_numpy(dtype=float)
@@ -754,7 +757,7 @@ def _row_options(text: dict, scheme, columns) -> tuple:
 
 
 def design_registered(*, scheme: str, aql: float, rql: float, alpha: float, beta: float,
-                      lot_size: int | None, model: str | None, defects: bool,
+                      lot_size: int | None, model: str | None, per_unit: bool,
                       fixed_c: int | None, max_n: int | None, options: dict) -> dict:
     """One catalogue problem through the designer of family ``scheme`` (the
     registry's common signature) and judged as ``lotwise check`` judges it.
@@ -783,7 +786,7 @@ def design_registered(*, scheme: str, aql: float, rql: float, alpha: float, beta
         kw["max_n"] = max_n
     try:
         d = fam.design(aql=aql, rql=rql, alpha=alpha, beta=beta, lot_size=lot_size,
-                       model=model, defects=defects, **kw)
+                       model=model, per_unit=per_unit, **kw)
     except InputError as exc:  # name the catalogue's columns, not the command's options
         msg = str(exc)
         for key in fam.design_options:
@@ -792,7 +795,7 @@ def design_registered(*, scheme: str, aql: float, rql: float, alpha: float, beta
         raise InputError(msg) from None
     plan = d.plan
     targets = Targets(aql=aql, rql=rql, alpha=alpha, beta=beta)
-    mdl, pa_aql, pa_rql = plan_risks(plan, targets, Scope(lot_size=lot_size, defects=defects),
+    mdl, pa_aql, pa_rql = plan_risks(plan, targets, Scope(lot_size=lot_size, per_unit=per_unit),
                                      model)
     c = plan.sole_acceptance_number
     return {"n": int(plan.max_sample), "c": -1 if c is None else int(c),
@@ -808,7 +811,7 @@ def _design_one(row) -> dict:
     return design_registered(
         scheme=row["scheme"], aql=float(row["aql"]), rql=float(row["rql"]),
         alpha=float(row["alpha"]), beta=float(row["beta"]),
-        lot_size=int(row["lot"]) or None, model=row["model"], defects=bool(row["defects"]),
+        lot_size=int(row["lot"]) or None, model=row["model"], per_unit=bool(row["per_unit"]),
         fixed_c=int(row["fixed_c"]) if int(row["fixed_c"]) >= 0 else None,
         max_n=int(row["max_n"]) or None,
         options=json.loads(row["options"]) if row["options"] else {})
@@ -832,7 +835,7 @@ def _amount(v, name):
 COST_COLUMNS = ("prior_a", "prior_b", "cost_inspect", "cost_escape", "cost_reject_lot")
 
 
-def _cost_designs(df, error, model, lot, aql, rql, alpha, beta, defects, fixed_c, max_n, cols):
+def _cost_designs(df, error, model, lot, aql, rql, alpha, beta, per_unit, fixed_c, max_n, cols):
     """Least-cost designs of the rows that give a prior and costs, written over
     the plan columns ``cols`` (n, c, alpha, beta, plan, full) and ``error``;
     returns the ``expected_cost`` column, or None when the catalogue has no
@@ -860,7 +863,7 @@ def _cost_designs(df, error, model, lot, aql, rql, alpha, beta, defects, fixed_c
                 raise InputError(f"a cost design needs prior_a, prior_b, cost_inspect and "
                                  f"cost_escape; missing: {', '.join(need)}")
             for key, val, what in (("fixed_c", fixed_c[i] >= 0, "fixed_c"),
-                                   ("max_n", max_n[i] > 0, "max_n"), ("defects", defects[i], "defects")):
+                                   ("max_n", max_n[i] > 0, "max_n"), ("per_unit", per_unit[i], "per_unit")):
                 if val:
                     raise InputError(f"{what} does not apply to a cost design (prior and costs given)")
             if lot[i] is None:

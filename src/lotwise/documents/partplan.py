@@ -152,7 +152,7 @@ def _design_single(req, t, **options):
     """The single design for targets ``t`` (holding them at the true quality when the
     file states inspection errors)."""
     kw = dict(aql=t.aql, rql=t.rql, alpha=t.alpha, beta=t.beta, lot_size=req.scope.lot_size,
-              model=req.model, defects=req.scope.defects, **options)
+              model=req.model, per_unit=req.scope.per_unit, **options)
     if req.inspection is None:
         return design_single(**kw)
     from lotwise.families.misclassified import design_misclassified
@@ -200,7 +200,7 @@ def own_report(plan, ch, scope, model=None, design=None) -> dict:
     rep = {"scheme": plan.scheme, "plan": plan.to_dict(), "label": plan.label,
            "short_label": plan.short_label,
            "notation": plan.notation(), "n": largest_sample(plan), "model": row["model"],
-           "lot_size": scope.lot_size, "defects": scope.defects, "targets": row["targets"],
+           "lot_size": scope.lot_size, "per_unit": scope.per_unit, "targets": row["targets"],
            "models": {row["model"]: mr}, "meets": mr["meets"],
            "plan_quality": row["plan_quality"], "own_sample": True,
            "varying_sample": bool(plan.varying_sample),
@@ -250,7 +250,7 @@ def _own_plan(ch, req):
     try:
         d = design(aql=t.aql, rql=t.rql, alpha=t.alpha, beta=t.beta,
                    lot_size=req.scope.lot_size, model=req.model,
-                   defects=req.scope.defects, **opts)
+                   per_unit=req.scope.per_unit, **opts)
     except InputError as exc:
         where = f"characteristic[{req.characteristics.index(ch) + 1}]."
         msg = str(exc)
@@ -301,7 +301,7 @@ def resolve(req, *, verdict: bool = True) -> PartPlan:
 
 def _add_rectifying(reps, plans, chars, scope) -> None:
     """AOQL and ATI (rejected lots screened 100 %) when the lot size is known."""
-    if not scope.lot_size or scope.defects:
+    if not scope.lot_size or scope.per_unit:
         return
     from lotwise.analysis.rectifying import rectifying_summary
 
@@ -328,7 +328,7 @@ class PlanReference:
         The file's lot size and the seed its sheet's pick list is drawn with.
     strata : str or None
         The file's strata of the pick list.
-    defects : bool
+    per_unit : bool
         The file counts nonconformities per unit (False for notation).
     """
 
@@ -339,7 +339,7 @@ class PlanReference:
     lot_size: int | None = None
     seed: int | None = None
     strata: str | None = None
-    defects: bool = False
+    per_unit: bool = False
 
 
 def pick_seed(req) -> int:
@@ -390,4 +390,4 @@ def plan_from_reference(text, option: str = "--plan") -> PlanReference:
         raise InputError(f"{option} ({body}): the plan file yields no plan: {pp.problem}")
     return PlanReference(plan=pp.plans[ids.index(cid)], text=body, path=str(path),
                          characteristic=cid, lot_size=req.scope.lot_size, seed=pick_seed(req),
-                         strata=req.strata, defects=req.scope.defects)
+                         strata=req.strata, per_unit=req.scope.per_unit)

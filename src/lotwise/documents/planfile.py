@@ -211,7 +211,7 @@ def _char_keys() -> set:
     return _CHAR_BASE | set(option_keys())
 
 
-def _scheme_options(ch: dict, w: str, path: str, defects: bool, c, plan) -> tuple[str, dict]:
+def _scheme_options(ch: dict, w: str, path: str, per_unit: bool, c, plan) -> tuple[str, dict]:
     """The characteristic's scheme and its designer options, checked.
 
     ``scheme`` names any family with a designer (default ``single``); its
@@ -251,7 +251,7 @@ def _scheme_options(ch: dict, w: str, path: str, defects: bool, c, plan) -> tupl
         options[key] = design_option(fam, key, ch[key], f"{path}: {w}{key}")
     if fam.check_options is not None:
         try:
-            fam.check_options(options, defects=defects, key=lambda name: f"{w}{name}")
+            fam.check_options(options, per_unit=per_unit, key=lambda name: f"{w}{name}")
         except InputError as exc:
             raise InputError(f"{path}: {exc}") from None
     return scheme, options
@@ -296,14 +296,14 @@ def _scope(lot: dict, path: str) -> Scope:
     if counts not in COUNTS:
         raise InputError(f"{path}: lot.counts ({counts!r}) must be one of: "
                          + ", ".join(repr(c) for c in COUNTS))
-    defects = counts == "nonconformities"
+    per_unit = counts == "nonconformities"
     size = None
     if "size" in lot:
         if not isinstance(lot["size"], int) or isinstance(lot["size"], bool):
             raise InputError(f"{path}: lot.size ({lot['size']!r}) must be a whole number of at "
                              "least 1, written without quotes")
         size = parse_count(lot["size"], f"{path}: lot.size", minimum=1)
-    return Scope(lot_size=size, defects=defects)
+    return Scope(lot_size=size, per_unit=per_unit)
 
 
 def _model(smp: dict, scope: Scope, path: str):
@@ -365,13 +365,13 @@ def _cost(smp: dict, path: str):
     return float(v)
 
 
-def _targets(ch: dict, w: str, path: str, defects: bool) -> Targets:
+def _targets(ch: dict, w: str, path: str, per_unit: bool) -> Targets:
     """A characteristic's AQL, RQL and risks."""
     for key in ("aql", "rql"):
         if key not in ch:
             raise InputError(f"{path}: {w}{key} is missing; it is required")
-    aql = parse_level(ch["aql"], f"{path}: {w}aql", per_unit=defects)
-    rql = parse_level(ch["rql"], f"{path}: {w}rql", per_unit=defects)
+    aql = parse_level(ch["aql"], f"{path}: {w}aql", per_unit=per_unit)
+    rql = parse_level(ch["rql"], f"{path}: {w}rql", per_unit=per_unit)
     if not rql > aql:
         raise InputError(f"{path}: {w}rql ({ch['rql']}) must be above {w}aql ({ch['aql']})")
     alpha = parse_risk(ch.get("alpha", 0.05), f"{path}: {w}alpha")
@@ -381,7 +381,7 @@ def _targets(ch: dict, w: str, path: str, defects: bool) -> Targets:
     return Targets(aql=aql, rql=rql, alpha=alpha, beta=beta)
 
 
-def _fixed_c(ch: dict, w: str, path: str, n, defects: bool = False):
+def _fixed_c(ch: dict, w: str, path: str, n, per_unit: bool = False):
     """A characteristic's fixed acceptance number (at most ``sampling.n`` when
     items are counted; per unit it may exceed it), or None."""
     if "c" not in ch:
@@ -389,7 +389,7 @@ def _fixed_c(ch: dict, w: str, path: str, n, defects: bool = False):
     v = ch["c"]
     if not isinstance(v, int) or isinstance(v, bool) or v < 0:
         raise InputError(f"{path}: {w}c ({v!r}) must be a whole number of at least 0")
-    if n is not None and v > n and not defects:
+    if n is not None and v > n and not per_unit:
         raise InputError(f"{path}: {w}c ({v}) must not be greater than sampling.n ({n})")
     return v
 
@@ -430,7 +430,7 @@ def _inspection(doc: dict, path: str):
                              "inspection.study"), prefix=f"{path}: ")
 
 
-def _characteristic(ch: dict, i: int, path: str, *, defects: bool, n, seen: set, size=None):
+def _characteristic(ch: dict, i: int, path: str, *, per_unit: bool, n, seen: set, size=None):
     """``[[characteristic]]`` number ``i`` (from 1), validated; its id is added
     to ``seen``."""
     w = f"characteristic[{i}]."
@@ -443,10 +443,10 @@ def _characteristic(ch: dict, i: int, path: str, *, defects: bool, n, seen: set,
     if klass not in CLASSES:
         raise InputError(f"{path}: {w}class ({klass!r}) must be one of: "
                          + ", ".join(CLASSES))
-    targets = _targets(ch, w, path, defects)
-    c = _fixed_c(ch, w, path, n, defects)
+    targets = _targets(ch, w, path, per_unit)
+    c = _fixed_c(ch, w, path, n, per_unit)
     plan = _own_plan(ch, w, path, c, size)
-    scheme, options = _scheme_options(ch, w, path, defects, c, plan)
+    scheme, options = _scheme_options(ch, w, path, per_unit, c, plan)
     return Characteristic(id=cid, description=_text(ch, "description", w, path),
                           klass=klass, targets=targets, c=c, plan=plan,
                           scheme=scheme, options=options)
@@ -514,7 +514,7 @@ def loads(text: str, path: str = "<plan>") -> PlanRequest:
 
     part_id = _text(part, "id", "part.", path, required=True)
     scope = _scope(lot, path)
-    defects, size = scope.defects, scope.lot_size
+    per_unit, size = scope.per_unit, scope.lot_size
     model = _model(smp, scope, path)
     n = _sampling_count(smp, "n", 1, path)
     max_n = _sampling_count(smp, "max_n", 1, path)
@@ -539,7 +539,7 @@ def loads(text: str, path: str = "<plan>") -> PlanRequest:
     chars = []
     seen = set()
     for i, ch in enumerate(chars_raw, 1):
-        chars.append(_characteristic(ch, i, path, defects=defects, n=n, seen=seen, size=size))
+        chars.append(_characteristic(ch, i, path, per_unit=per_unit, n=n, seen=seen, size=size))
     return PlanRequest(
         path=str(path), part_id=part_id, part_description=_text(part, "description", "part.", path),
         supplier=_text(part, "supplier", "part.", path),

@@ -117,7 +117,7 @@ def _rows(doc: dict, scope, path: str, unknown) -> tuple:
     if not isinstance(raw, list) or not all(isinstance(r, dict) for r in raw):
         raise InputError(f"{path}: table must be an array of tables, written [[table]]")
     rows = []
-    lotless = type(scope)(defects=scope.defects)  # each row gives its own lot sizes
+    lotless = type(scope)(per_unit=scope.per_unit)  # each row gives its own lot sizes
     for i, r in enumerate(raw, 1):
         w = f"table[{i}]."
         unknown(r, ROW_KEYS, w, path)
@@ -130,7 +130,7 @@ def _rows(doc: dict, scope, path: str, unknown) -> tuple:
                              f"{w}lot_max ({hi})")
         plans = {k: _plan(r, k, w, path, lotless) for k in ("normal", "tightened", "reduced")
                  if k in r}
-        levels = {k: parse_level(r[k], f"{path}: {w}{k}", per_unit=scope.defects)
+        levels = {k: parse_level(r[k], f"{path}: {w}{k}", per_unit=scope.per_unit)
                   for k in ("aql", "rql") if k in r}
         label = r.get("label", "")
         if not isinstance(label, str):
@@ -157,7 +157,7 @@ def parse_extras(doc: dict, scope, path: str, unknown) -> dict:
         return {"switching": None, "table": (), "limits": None}
     from lotwise.analysis.table_audit import AuditLimits
 
-    levels = {k: parse_level(doc[k], f"{path}: {k}", per_unit=scope.defects)
+    levels = {k: parse_level(doc[k], f"{path}: {k}", per_unit=scope.per_unit)
               for k in ("aql", "rql") if k in doc}
     if "aql" in levels and "rql" in levels and not levels["rql"] > levels["aql"]:
         raise InputError(f"{path}: rql ({doc['rql']}) must be above aql ({doc['aql']})")
@@ -230,4 +230,4 @@ def scheme_for_lot(req, lot_size: int):
     if rules.reduce_limit is not None and "reduced" not in plans:
         rules = replace(rules, reduce_limit=None)
     return replace(req, switching=Scheme(**plans, rules=rules), table=(),
-                   scope=Scope(lot_size=lot_size, defects=req.scope.defects))
+                   scope=Scope(lot_size=lot_size, per_unit=req.scope.per_unit))

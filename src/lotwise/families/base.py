@@ -117,7 +117,7 @@ class Decision:
                 "certain_early": self.certain_early, "reason": self.reason}
 
 
-def check_record(inspected, found, total, defects, option_n="--inspected",
+def check_record(inspected, found, total, per_unit, option_n="--inspected",
                  option_d="--found"):
     """Validate a bench record: whole numbers, within the plan's largest sample."""
     if not isinstance(inspected, (int, np.integer)) or inspected < 0:
@@ -127,7 +127,7 @@ def check_record(inspected, found, total, defects, option_n="--inspected",
     if inspected > total:
         raise InputError(f"{option_n} ({inspected}) must not be greater than the plan's "
                          f"largest sample ({total})")
-    if not defects and found > inspected:
+    if not per_unit and found > inspected:
         raise InputError(f"{option_d} ({found}) must not be greater than {option_n} "
                          f"({inspected}) when counting nonconforming items")
 
@@ -391,7 +391,7 @@ class Plan(ABC):
         """The plan's rule in words, one or more lines for reports."""
         return [f"plan      {self.label}"]
 
-    def decide(self, inspected: int, found: int, *, defects: bool = False) -> Decision:
+    def decide(self, inspected: int, found: int, *, per_unit: bool = False) -> Decision:
         """Accept, reject or continue on the bench; families without a bench
         rule refuse with a clear message."""
         raise InputError(f"--plan ({self.notation()}): a {self.scheme} plan has no "
@@ -415,7 +415,7 @@ class Family:
     keys_hint : tuple of str
         Keys that identify the family in notation written without a prefix.
     design : callable or None
-        ``design(aql=, rql=, alpha=, beta=, lot_size=, model=, defects=, **options)``
+        ``design(aql=, rql=, alpha=, beta=, lot_size=, model=, per_unit=, **options)``
         returning an object with ``.plan`` (and ``.model``); None when the family
         has no designer.
     design_options : dict
@@ -435,7 +435,7 @@ class Family:
     cases : str or None
         ``"module:function"`` returning the family's reference cases.
     check_options : callable or None
-        ``check_options(options, defects=, key=)``: the rules tying the designer
+        ``check_options(options, per_unit=, key=)``: the rules tying the designer
         options together (raises InputError); None when each option stands alone.
     design_many : str or None
         ``"module:function"`` designing arrays of problems under one model
@@ -461,7 +461,7 @@ class Family:
     #: ``"module:function"`` of an array search designing many problems of this family
     #: at once (catalogues), or None; see :meth:`array_designer`.
     design_many: str | None = None
-    #: ``check_options(options, defects=, key=)`` raises InputError when designer
+    #: ``check_options(options, per_unit=, key=)`` raises InputError when designer
     #: options that each pass their own type check do not fit together (``key(name)``
     #: spells an option's name as the caller's user wrote it).
     check_options: Callable | None = None

@@ -204,7 +204,7 @@ class ChainDesign:
 
 def design_chain(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 0.10,
                  lot_size: int | None = None, model: str | None = None,
-                 defects: bool = False, max_n: int | None = None,
+                 per_unit: bool = False, max_n: int | None = None,
                  max_i: int = 10_000) -> ChainDesign:
     """Smallest ChSP-1 plan ``(n, i)`` meeting both risks.
 
@@ -218,10 +218,10 @@ def design_chain(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 0
     from lotwise.core.types import Targets
     from lotwise.core.search import check_lot, check_targets, Kernel, n_min
 
-    scope = Scope(lot_size=lot_size, defects=defects)
+    scope = Scope(lot_size=lot_size, per_unit=per_unit)
     model = scope.check_model(model)
     targets = Targets(aql=aql, rql=rql, alpha=alpha, beta=beta)
-    check_targets(targets, defects)
+    check_targets(targets, per_unit)
     kernel = Kernel(model, targets, scope)
     N = lot_size
     if model == "hypergeometric":

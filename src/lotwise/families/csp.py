@@ -265,8 +265,8 @@ class CspPlan(Plan):
         if scope.lot_size:
             raise InputError(f"--lot-size ({scope.lot_size}) does not apply to a {self.title} "
                              "plan: product flows unit by unit, no lots are formed")
-        if scope.defects:
-            raise InputError(f"--defects does not apply to a {self.title} plan: units are "
+        if scope.per_unit:
+            raise InputError(f"--per-unit does not apply to a {self.title} plan: units are "
                              "conforming or nonconforming")
 
     # -- long-run figures --------------------------------------------------------
@@ -400,7 +400,7 @@ class CspPlan(Plan):
         """Not defined for a flow of units: raises :class:`InputError`."""
         return self._no_lots("sample size")
 
-    def decide(self, inspected: int, found: int, *, defects: bool = False):
+    def decide(self, inspected: int, found: int, *, per_unit: bool = False):
         raise InputError(f"--plan ({self.notation()}): a {self.title} plan decides unit by "
                          "unit; give the results so far with --history")
 

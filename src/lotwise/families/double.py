@@ -365,13 +365,13 @@ class _Eval:
 
 def design_double(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 0.10,
                   lot_size: int | None = None, model: str | None = None,
-                  defects: bool = False, ratio: float = 2.0, minimize: str = "asn-aql",
+                  per_unit: bool = False, ratio: float = 2.0, minimize: str = "asn-aql",
                   max_n: int | None = None) -> DoubleDesign:
     """Double plan with the smallest ASN meeting both risks (see module notes).
 
     Parameters
     ----------
-    aql, rql, alpha, beta, lot_size, model, defects
+    aql, rql, alpha, beta, lot_size, model, per_unit
         As for :func:`lotwise.families.single.design_single`.
     ratio : float
         ``n2 / n1`` (``n2`` is rounded to a whole number), between 0.1 and 10.
@@ -385,10 +385,10 @@ def design_double(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 
     Infeasible
         No double plan within the bounds meets both risks.
     """
-    scope = Scope(lot_size=lot_size, defects=defects)
+    scope = Scope(lot_size=lot_size, per_unit=per_unit)
     model = scope.check_model(model)
     targets = Targets(aql=aql, rql=rql, alpha=alpha, beta=beta)
-    check_targets(targets, defects)
+    check_targets(targets, per_unit)
     if isinstance(ratio, bool) or not isinstance(ratio, (int, float)) or not math.isfinite(ratio) \
             or not 0.1 <= ratio <= 10:
         raise InputError(f"--ratio ({ratio}) must be a number from 0.1 to 10 (n2 / n1)")
@@ -442,8 +442,8 @@ def design_double(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 
     if best is None:
         raise Infeasible(
             f"no double plan with ratio {ratio} meets both risks (AQL "
-            f"{format_level(aql, defects)} at alpha {format_pct(alpha)}, RQL "
-            f"{format_level(rql, defects)} at beta {format_pct(beta)}): {stopped}",
+            f"{format_level(aql, per_unit)} at alpha {format_pct(alpha)}, RQL "
+            f"{format_level(rql, per_unit)} at beta {format_pct(beta)}): {stopped}",
             {"ratio": ratio, "c2_searched": c2_last})
     best = best + (best[2] + 1,)  # (objective, n1, c2, c1, r1)
     best, r1_search = _search_r1(ev, best, lower_bound, ratio, n1_cap, alpha, beta, minimize)

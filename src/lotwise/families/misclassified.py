@@ -157,9 +157,9 @@ class MisclassifiedPlan(Plan):
     def describe(self) -> list[str]:
         return self.inner.describe() + [f"judged    with {self.rates.describe()}"]
 
-    def decide(self, inspected: int, found: int, *, defects: bool = False):
+    def decide(self, inspected: int, found: int, *, per_unit: bool = False):
         """The bench rule counts what the inspector flags: the inner plan's rule."""
-        return self.inner.decide(inspected, found, defects=defects)
+        return self.inner.decide(inspected, found, per_unit=per_unit)
 
     def models_for(self, scope: Scope) -> tuple[str, ...]:
         return self.inner.models_for(scope)
@@ -190,7 +190,7 @@ class MisclassifiedPlan(Plan):
 
     # -- evaluation ----------------------------------------------------------------
     def _seen(self, p, scope: Scope):
-        return apparent(p, self.rates.miss_rate, self.rates.false_alarm, scope.defects)
+        return apparent(p, self.rates.miss_rate, self.rates.false_alarm, scope.per_unit)
 
     def pa(self, p, model: str, scope: Scope, rounding: str = "nearest"):
         """``Pa`` at true quality level(s) ``p``."""
@@ -365,11 +365,11 @@ class _SeenKernel(Kernel):
         self.model = model
         self.evaluations = 0
         self.N = scope.lot_size
-        self.per_unit = scope.defects
+        self.per_unit = scope.per_unit
         seen = Targets(aql=apparent(targets.aql, rates.miss_rate, rates.false_alarm,
-                                    scope.defects),
+                                    scope.per_unit),
                        rql=apparent(targets.rql, rates.miss_rate, rates.false_alarm,
-                                    scope.defects),
+                                    scope.per_unit),
                        alpha=targets.alpha, beta=targets.beta)
         self.t = seen  # initial_upper's guess uses the RQL as inspection sees it
         self.plain = Kernel(model if model != "hypergeometric" else "binomial", seen, scope)
@@ -456,7 +456,7 @@ def option_value(key: str, value):
 
 def design_misclassified(scheme: str, rates: ErrorRates, *, aql: float, rql: float,
                          alpha: float = 0.05, beta: float = 0.10, lot_size: int | None = None,
-                         model: str | None = None, defects: bool = False, **options):
+                         model: str | None = None, per_unit: bool = False, **options):
     """The smallest plan of family ``scheme`` meeting ``alpha`` at the true AQL and
     ``beta`` at the true RQL when inspection errs with ``rates``.
 
@@ -469,14 +469,14 @@ def design_misclassified(scheme: str, rates: ErrorRates, *, aql: float, rql: flo
     Returns the designer's result with ``.plan`` wrapped (``.inner_design`` is the
     family designer's own result).
     """
-    scope = Scope(lot_size=lot_size, defects=defects)
+    scope = Scope(lot_size=lot_size, per_unit=per_unit)
     model = scope.check_model(model)
     if rates.zero:
         return family(scheme).design(aql=aql, rql=rql, alpha=alpha, beta=beta,
-                                     lot_size=lot_size, model=model, defects=defects, **options)
+                                     lot_size=lot_size, model=model, per_unit=per_unit, **options)
     if scheme == "single":
         return design_single_seen(rates, aql=aql, rql=rql, alpha=alpha, beta=beta,
-                                  lot_size=lot_size, model=model, defects=defects, **options)
+                                  lot_size=lot_size, model=model, per_unit=per_unit, **options)
     if model == "hypergeometric":
         raise InputError(f"--scheme ({scheme}): with --miss-rate/--false-alarm/--study and a "
                          "lot size only single plans are designed (a finite-lot design of "
@@ -486,11 +486,11 @@ def design_misclassified(scheme: str, rates: ErrorRates, *, aql: float, rql: flo
     from lotwise.core.search import check_targets
     from lotwise.core.types import Targets
 
-    check_targets(Targets(aql=aql, rql=rql, alpha=alpha, beta=beta), defects)
+    check_targets(Targets(aql=aql, rql=rql, alpha=alpha, beta=beta), per_unit)
     e2, e1 = rates.miss_rate, rates.false_alarm
-    d = family(scheme).design(aql=apparent(aql, e2, e1, defects),
-                              rql=apparent(rql, e2, e1, defects), alpha=alpha, beta=beta,
-                              lot_size=lot_size, model=model, defects=defects, **options)
+    d = family(scheme).design(aql=apparent(aql, e2, e1, per_unit),
+                              rql=apparent(rql, e2, e1, per_unit), alpha=alpha, beta=beta,
+                              lot_size=lot_size, model=model, per_unit=per_unit, **options)
     return _Wrapped(plan=wrap(d.plan, rates), model=d.model, inner_design=d)
 
 
@@ -510,7 +510,7 @@ class _Wrapped:
 
 
 def design_single_seen(rates: ErrorRates, *, aql, rql, alpha=0.05, beta=0.10, lot_size=None,
-                       model=None, defects=False, n=None, c=None, max_n=None):
+                       model=None, per_unit=False, n=None, c=None, max_n=None):
     """Smallest single plan ``(n, c)`` meeting both risks at the true levels with
     inspection errors (every model; the finite lot exactly).
 
@@ -526,10 +526,10 @@ def design_single_seen(rates: ErrorRates, *, aql, rql, alpha=0.05, beta=0.10, lo
     from lotwise.core.types import TOL, Targets
     from lotwise.families.single import SingleDesign, SinglePlan
 
-    scope = Scope(lot_size=lot_size, defects=defects)
+    scope = Scope(lot_size=lot_size, per_unit=per_unit)
     model = scope.check_model(model)
     targets = Targets(aql=aql, rql=rql, alpha=alpha, beta=beta)
-    check_targets(targets, defects)
+    check_targets(targets, per_unit)
     if n is not None and c is not None:
         raise InputError("--n and --c cannot both be fixed: that is a plan to check, not design")
     cap = max_n
@@ -578,11 +578,11 @@ def design_single_seen(rates: ErrorRates, *, aql, rql, alpha=0.05, beta=0.10, lo
         if a <= alpha + TOL:
             return result(nm, c)
         raise short(nm, f"c = {c}", fixed_c=c)
-    nn, cc = _smallest_seen(kernel, alpha, beta, cap, defects, short)
+    nn, cc = _smallest_seen(kernel, alpha, beta, cap, per_unit, short)
     return result(nn, cc)
 
 
-def _smallest_seen(kernel, alpha, beta, cap, defects, short) -> tuple[int, int]:
+def _smallest_seen(kernel, alpha, beta, cap, per_unit, short) -> tuple[int, int]:
     """``(n, c)``: the smallest ``c`` whose smallest ``n`` meeting beta also meets alpha,
     in blocks of increasing ``c`` from the first ``c`` not ruled out by
     :func:`_ruled_out`; ``short(n, what)`` builds the error when none fits the cap."""
@@ -592,7 +592,7 @@ def _smallest_seen(kernel, alpha, beta, cap, defects, short) -> tuple[int, int]:
 
     start, width = _ruled_out(kernel, alpha, beta, cap), 8
     while True:
-        stop = start + width if cap is None or defects else min(start + width, cap + 1)
+        stop = start + width if cap is None or per_unit else min(start + width, cap + 1)
         if stop <= start:
             raise short(cap, f"n <= {cap}")
         cs = np.arange(start, stop, dtype=np.int64)

@@ -107,10 +107,10 @@ __all__ = ['sprt_lines', 'SequentialPlan', 'wald_pa', 'wald_asn', 'wald_theta', 
 _EPS = 1e-9  # a line value within this of a whole number counts as that number
 
 
-def sprt_lines(p1: float, alpha: float, p2: float, beta: float, *, defects: bool = False):
+def sprt_lines(p1: float, alpha: float, p2: float, beta: float, *, per_unit: bool = False):
     """``(h1, h2, s)`` of Wald's SPRT for ``p1 < p2`` and risks ``alpha``, ``beta``.
 
-    ``defects=True`` gives the lines for nonconformities per unit (Poisson).
+    ``per_unit=True`` gives the lines for nonconformities per unit (Poisson).
     """
     for name, v in (("alpha", alpha), ("beta", beta)):
         if not 0 < v < 1:
@@ -119,9 +119,9 @@ def sprt_lines(p1: float, alpha: float, p2: float, beta: float, *, defects: bool
         raise InputError(f"alpha + beta ({alpha} + {beta}) must be below 1")
     if not 0 < p1 < p2:
         raise InputError(f"the RQL ({p2}) must be above the AQL ({p1}), both positive")
-    if not defects and not p2 < 1:
+    if not per_unit and not p2 < 1:
         raise InputError(f"the RQL ({p2}) must be below 1 for a fraction nonconforming")
-    if defects:
+    if per_unit:
         k = math.log(p2 / p1)
         s = (p2 - p1) / k
     else:
@@ -134,13 +134,13 @@ def sprt_lines(p1: float, alpha: float, p2: float, beta: float, *, defects: bool
 
 # --- Wald's approximations --------------------------------------------------
 
-def _p_of_theta(theta, s, defects):
+def _p_of_theta(theta, s, per_unit):
     t = np.asarray(theta, dtype=float)
     with np.errstate(all="ignore"):
         pos = t > 0
         tp = np.where(pos, t, 1.0)
         tn = np.where(pos, -1.0, np.where(t < 0, t, -1.0))
-        if defects:
+        if per_unit:
             up = tp * s * np.exp(-tp) / (-np.expm1(-tp))
             dn = tn * s / np.expm1(tn)
         else:
@@ -149,7 +149,7 @@ def _p_of_theta(theta, s, defects):
         return np.where(pos, up, np.where(t < 0, dn, s))
 
 
-def wald_theta(p, s: float, defects: bool = False):
+def wald_theta(p, s: float, per_unit: bool = False):
     """The nonzero root ``theta`` of ``E exp(theta (X - s)) = 1`` at level ``p``
     (``+inf`` at ``p = 0``, ``-inf`` at ``p = 1`` for 0/1 items); bisection on
     the decreasing map ``theta -> p``."""
@@ -157,25 +157,25 @@ def wald_theta(p, s: float, defects: bool = False):
     lo = np.full(p.shape, -1.0)
     hi = np.full(p.shape, 1.0)
     for _ in range(80):
-        grow = _p_of_theta(hi, s, defects) > p
+        grow = _p_of_theta(hi, s, per_unit) > p
         if not grow.any():
             break
         hi = np.where(grow, hi * 2.0, hi)
     for _ in range(80):
-        grow = _p_of_theta(lo, s, defects) < p
+        grow = _p_of_theta(lo, s, per_unit) < p
         if not grow.any():
             break
         lo = np.where(grow, lo * 2.0, lo)
     for _ in range(200):
         mid = 0.5 * (lo + hi)
-        big = _p_of_theta(mid, s, defects) > p
+        big = _p_of_theta(mid, s, per_unit) > p
         lo = np.where(big, mid, lo)
         hi = np.where(big, hi, mid)
         if np.all(hi - lo <= 1e-15 * np.maximum(np.abs(hi), 1e-300)):
             break
     theta = 0.5 * (lo + hi)
     theta = np.where(p <= 0, np.inf, theta)
-    if not defects:
+    if not per_unit:
         theta = np.where(p >= 1, -np.inf, theta)
     theta = np.where(p == s, 0.0, theta)
     return theta
@@ -195,19 +195,19 @@ def _pa_of_theta(theta, h1, h2):
     return np.clip(out, 0.0, 1.0)
 
 
-def wald_pa(p, h1: float, h2: float, s: float, defects: bool = False):
+def wald_pa(p, h1: float, h2: float, s: float, per_unit: bool = False):
     """Wald's approximate OC of the untruncated SPRT with lines ``h1, h2, s``."""
     shape = np.shape(p)
-    out = _pa_of_theta(wald_theta(p, s, defects), h1, h2)
+    out = _pa_of_theta(wald_theta(p, s, per_unit), h1, h2)
     return finish_shape(out, shape)
 
 
-def wald_asn(p, h1: float, h2: float, s: float, defects: bool = False):
+def wald_asn(p, h1: float, h2: float, s: float, per_unit: bool = False):
     """Wald's approximate ASN of the untruncated SPRT."""
     shape = np.shape(p)
     pp = np.atleast_1d(np.asarray(p, dtype=float))
-    pa = _pa_of_theta(wald_theta(pp, s, defects), h1, h2)
-    var_s = s if defects else s * (1.0 - s)
+    pa = _pa_of_theta(wald_theta(pp, s, per_unit), h1, h2)
+    var_s = s if per_unit else s * (1.0 - s)
     with np.errstate(all="ignore"):
         out = (h2 - (h1 + h2) * pa) / (pp - s)
         near = np.abs(pp - s) <= 1e-7 * s
@@ -269,7 +269,7 @@ class SequentialPlan(Plan):
         """The plan with Wald's lines for ``(p1, alpha)`` and ``(p2, beta)``:
         binomial lines for a fraction nonconforming, Poisson lines per unit
         (``per_unit`` None: items until :meth:`for_scope` says otherwise)."""
-        h1, h2, s = sprt_lines(p1, alpha, p2, beta, defects=bool(per_unit))
+        h1, h2, s = sprt_lines(p1, alpha, p2, beta, per_unit=bool(per_unit))
         return cls(h1=h1, h2=h2, s=s, truncate=truncate, spec=(p1, alpha, p2, beta, per_unit))
 
     def for_scope(self, scope: Scope) -> "SequentialPlan":
@@ -278,7 +278,7 @@ class SequentialPlan(Plan):
         nonconformities per unit; a plan that said ``per_unit`` must match
         the scope (:meth:`check_scope`)."""
         self.check_scope(scope)
-        if self.spec is None or self.spec[4] is not None or not scope.defects:
+        if self.spec is None or self.spec[4] is not None or not scope.per_unit:
             return self
         p1, alpha, p2, beta, _ = self.spec
         return SequentialPlan.from_risks(p1, alpha, p2, beta, truncate=self.truncate,
@@ -288,10 +288,10 @@ class SequentialPlan(Plan):
         """Refuse a plan whose ``per_unit`` key disagrees with the scope."""
         super().check_scope(scope)
         if self.spec is not None and self.spec[4] is not None and \
-                bool(self.spec[4]) != bool(scope.defects):
+                bool(self.spec[4]) != bool(scope.per_unit):
             said = "per_unit=1 (nonconformities per unit)" if self.spec[4] else \
                 "per_unit=0 (nonconforming items)"
-            want = "add --defects" if self.spec[4] else "drop --defects"
+            want = "add --per-unit" if self.spec[4] else "drop --per-unit"
             raise InputError(f"--plan ({self.notation()}) says {said}: its lines are for that "
                              f"count; {want} or change the key")
 
@@ -394,7 +394,7 @@ class SequentialPlan(Plan):
 
     def _walk(self, p, model, scope, rounding, curtailed=False):
         x = level_to_x(p, model, scope, rounding, self.truncate)
-        early = model != "poisson" and not scope.defects
+        early = model != "poisson" and not scope.per_unit
         acc, rej = self._bounds(curtailed, early)
         return unit_walk(acc, rej, model, np.atleast_1d(x), scope.lot_size)
 
@@ -467,18 +467,18 @@ class SequentialPlan(Plan):
         return finish_shape(res.accepted_units + scope.lot_size * (1.0 - res.pa), np.shape(p))
 
     # Wald ------------------------------------------------------------------
-    def wald_pa(self, p, defects: bool = False):
+    def wald_pa(self, p, per_unit: bool = False):
         """Wald's approximate OC of the untruncated test with these lines."""
-        return wald_pa(p, self.h1, self.h2, self.s, defects)
+        return wald_pa(p, self.h1, self.h2, self.s, per_unit)
 
-    def wald_asn(self, p, defects: bool = False):
+    def wald_asn(self, p, per_unit: bool = False):
         """Wald's approximate ASN of the untruncated test with these lines."""
-        return wald_asn(p, self.h1, self.h2, self.s, defects)
+        return wald_asn(p, self.h1, self.h2, self.s, per_unit)
 
     # on the bench ----------------------------------------------------------
-    def decide(self, inspected: int, found: int, *, defects: bool = False) -> Decision:
+    def decide(self, inspected: int, found: int, *, per_unit: bool = False) -> Decision:
         """Accept, reject or continue after ``inspected`` units with ``found``."""
-        check_record(inspected, found, self.truncate, defects)
+        check_record(inspected, found, self.truncate, per_unit)
         n0 = self.truncate
         n, d = inspected, found
         if n >= 1:
@@ -500,7 +500,7 @@ class SequentialPlan(Plan):
                                 accept_number=a, reject_number=r, reason=rule)
         # Continue: when could the next decision come at the earliest?
         m_acc = next((m for m in range(n + 1, n0 + 1) if self.acceptance_number(m) >= d), None)
-        if defects:  # one unit may carry any number of nonconformities
+        if per_unit:  # one unit may carry any number of nonconformities
             m_rej = n + 1
         else:
             m_rej = next((m for m in range(n + 1, n0 + 1)
@@ -535,7 +535,7 @@ def parse_sequential(pairs: dict, text: str, option: str) -> SequentialPlan:
     Written with the risk points, the lines depend on what is counted: Wald's
     binomial lines for nonconforming items, the Poisson lines for
     nonconformities per unit. ``per_unit=1`` (or ``0``) says which; without
-    it the plan takes the scope it is used in (``--defects``: per unit;
+    it the plan takes the scope it is used in (``--per-unit``: per unit;
     see :meth:`SequentialPlan.for_scope`). Written with ``h1, h2, s``, the
     lines are the plan.
     """
@@ -633,7 +633,7 @@ class SequentialDesign:
     def numbers(self) -> dict:
         """Acceptance and rejection numbers for each n (``None`` where impossible)."""
         ns, a, r = self.plan.numbers()
-        per_unit = self.scope.defects
+        per_unit = self.scope.per_unit
         return {"n": [int(v) for v in ns],
                 "accept": [int(v) if v >= 0 else None for v in a],
                 "reject": [int(rv) if (per_unit or rv <= n) else None for n, rv in zip(ns, r)]}
@@ -819,7 +819,7 @@ def _default_truncate(single_n, lot_size):
 
 def design_sequential(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 0.10,
                       lot_size: int | None = None, model: str | None = None,
-                      defects: bool = False, truncate: int | None = None) -> SequentialDesign:
+                      per_unit: bool = False, truncate: int | None = None) -> SequentialDesign:
     """A sequential plan whose exact truncated OC meets both risks.
 
     Wald's lines for the two risk points (:func:`sprt_lines`) are the start;
@@ -843,17 +843,17 @@ def design_sequential(*, aql: float, rql: float, alpha: float = 0.05, beta: floa
     InputError
         For a truncation point beyond the lot size or below 1.
     """
-    scope = Scope(lot_size=lot_size, defects=defects)
+    scope = Scope(lot_size=lot_size, per_unit=per_unit)
     model = scope.check_model(model)
     targets = Targets(aql=aql, rql=rql, alpha=alpha, beta=beta)
-    check_targets(targets, defects)
+    check_targets(targets, per_unit)
     if model == "hypergeometric":
         check_lot(targets, lot_size, lot_targets(targets, lot_size))
-    h1w, h2w, s = sprt_lines(aql, alpha, rql, beta, defects=defects)
+    h1w, h2w, s = sprt_lines(aql, alpha, rql, beta, per_unit=per_unit)
     single_n = None
     try:
         single_n = design_single(aql=aql, rql=rql, alpha=alpha, beta=beta, lot_size=lot_size,
-                                 model=model, defects=defects).n
+                                 model=model, per_unit=per_unit).n
     except Infeasible:
         single_n = None
     if truncate is not None:
@@ -891,10 +891,10 @@ def design_sequential(*, aql: float, rql: float, alpha: float = 0.05, beta: floa
     plan = SequentialPlan(h1=h1, h2=h2, s=s, truncate=n0)
     adjusted = (h1, h2) != (h1w, h2w)
     wald = {"h1": h1w, "h2": h2w, "s": s,
-            "pa_aql": float(wald_pa(aql, h1w, h2w, s, defects)),
-            "pa_rql": float(wald_pa(rql, h1w, h2w, s, defects)),
-            "asn_aql": float(wald_asn(aql, h1w, h2w, s, defects)),
-            "asn_rql": float(wald_asn(rql, h1w, h2w, s, defects)),
+            "pa_aql": float(wald_pa(aql, h1w, h2w, s, per_unit)),
+            "pa_rql": float(wald_pa(rql, h1w, h2w, s, per_unit)),
+            "asn_aql": float(wald_asn(aql, h1w, h2w, s, per_unit)),
+            "asn_rql": float(wald_asn(rql, h1w, h2w, s, per_unit)),
             "lines_used": not adjusted}
     pa, asn = plan.oc_asn([la, lr], model, scope)
     cur = plan.asn_curtailed([la, lr], model, scope)
@@ -912,7 +912,7 @@ def design_sequential(*, aql: float, rql: float, alpha: float = 0.05, beta: floa
 
 def report_extras(plan, targets, scope: Scope, model: str, report: dict) -> dict:
     """Wald's approximations beside the exact truncated plan, and the truncation rule."""
-    per_unit = scope.defects
+    per_unit = scope.per_unit
     w = {"pa_aql": float(plan.wald_pa(targets.aql, per_unit)),
          "pa_rql": float(plan.wald_pa(targets.rql, per_unit)),
          "asn_aql": float(plan.wald_asn(targets.aql, per_unit)),
@@ -940,7 +940,7 @@ def report_extras(plan, targets, scope: Scope, model: str, report: dict) -> dict
 
 def oc_columns(plan, ps, model: str, scope: Scope, counts=None) -> dict:
     """Wald's approximate OC and ASN beside the exact truncated plan."""
-    return {"wald_pa": plan.wald_pa(ps, scope.defects), "wald_asn": plan.wald_asn(ps, scope.defects)}
+    return {"wald_pa": plan.wald_pa(ps, scope.per_unit), "wald_asn": plan.wald_asn(ps, scope.per_unit)}
 
 
 FAMILY = Family(

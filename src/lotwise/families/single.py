@@ -100,9 +100,9 @@ class SinglePlan(Plan):
         """Refuse ``c > n`` when counting nonconforming items (a sample of ``n``
         cannot hold more than ``n``) and a sample larger than the lot; counting
         nonconformities per unit, any ``c`` is a plan."""
-        if not scope.defects and self.c > self.n:
+        if not scope.per_unit and self.c > self.n:
             raise InputError(f"c ({self.c}) must not be greater than n ({self.n}) when counting "
-                             "nonconforming items (with --defects, nonconformities per unit, "
+                             "nonconforming items (with --per-unit, nonconformities per unit, "
                              "it may be)")
         super().check_scope(scope)
 
@@ -180,11 +180,11 @@ class SinglePlan(Plan):
             return lambda p: p * k
         return lambda p: (p * float(special.betaincc(c + 1.0, n - c, p)) * k) if 0 < p < 1 else 0.0
 
-    def decide(self, inspected: int, found: int, *, defects: bool = False) -> Decision:
+    def decide(self, inspected: int, found: int, *, per_unit: bool = False) -> Decision:
         """Continue to ``n`` units unless the decision is already certain."""
         from lotwise.families.staged import StagedPlan
 
-        return StagedPlan.single(self).decide(inspected, found, defects=defects)
+        return StagedPlan.single(self).decide(inspected, found, per_unit=per_unit)
 
     def describe(self) -> list[str]:
         return [f"plan      n = {self.n}, accept on c = {self.c}, reject on {self.r}"]
@@ -283,7 +283,7 @@ class SingleDesign:
 
 def design_single(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 0.10,
                   lot_size: int | None = None, model: str | None = None,
-                  defects: bool = False, n: int | None = None, c: int | None = None,
+                  per_unit: bool = False, n: int | None = None, c: int | None = None,
                   max_n: int | None = None) -> SingleDesign:
     """Smallest single sampling plan meeting both risks.
 
@@ -291,14 +291,14 @@ def design_single(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 
     ----------
     aql, rql : float
         Acceptable and rejectable quality levels (fractions nonconforming, or
-        nonconformities per unit with ``defects=True``).
+        nonconformities per unit with ``per_unit=True``).
     alpha, beta : float
         Producer's risk at the AQL and consumer's risk at the RQL.
     lot_size : int, optional
         Lot size; the default model becomes hypergeometric.
     model : {'hypergeometric', 'binomial', 'poisson'}, optional
         Override of the default (exact) model.
-    defects : bool
+    per_unit : bool
         Quality levels are nonconformities per unit (Poisson is exact).
     n, c : int, optional
         Fix the sample size (then the smallest ``c`` meeting ``alpha`` is
@@ -317,10 +317,10 @@ def design_single(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 
     InputError
         For malformed arguments.
     """
-    scope = Scope(lot_size=lot_size, defects=defects)
+    scope = Scope(lot_size=lot_size, per_unit=per_unit)
     model = scope.check_model(model)
     targets = Targets(aql=aql, rql=rql, alpha=alpha, beta=beta)
-    check_targets(targets, defects)
+    check_targets(targets, per_unit)
     if lot_size is not None and lot_size < 1:
         raise InputError(f"--lot-size ({lot_size}) must be at least 1")
     if n is not None and c is not None:
@@ -355,7 +355,7 @@ def design_single(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 
         return result(*_with_fixed_n(kernel, n, alpha, beta))
     if c is not None:
         return result(*_with_fixed_c(kernel, targets, c, cap, lot_size))
-    return result(*_smallest_plan(kernel, targets, cap, lot_size, model, defects))
+    return result(*_smallest_plan(kernel, targets, cap, lot_size, model, per_unit))
 
 
 def _with_fixed_n(kernel: Kernel, n: int, alpha: float, beta: float) -> tuple[int, int]:
@@ -386,10 +386,10 @@ def _with_fixed_c(kernel: Kernel, targets: Targets, c: int, cap, lot_size) -> tu
         {"n": nm, "c": c, "alpha": a, "beta": float(kernel.at_rql(nm, c))})
 
 
-def _smallest_plan(kernel: Kernel, targets: Targets, cap, lot_size, model, defects):
+def _smallest_plan(kernel: Kernel, targets: Targets, cap, lot_size, model, per_unit):
     """``(n, c)`` by :func:`lotwise.core.search.smallest_plan` (see the module notes)."""
     found = smallest_plan(kernel, targets.alpha, targets.beta, cap,
-                          _c_limit(kernel, cap, model, defects))
+                          _c_limit(kernel, cap, model, per_unit))
     if found is not None:
         return found
     if cap is None:
@@ -398,10 +398,10 @@ def _smallest_plan(kernel: Kernel, targets: Targets, cap, lot_size, model, defec
     raise _cap_infeasible(kernel, targets, cap, lot_size)
 
 
-def _c_limit(kernel: Kernel, cap: int | None, model: str, defects: bool) -> int | None:
+def _c_limit(kernel: Kernel, cap: int | None, model: str, per_unit: bool) -> int | None:
     """Bound on the acceptance numbers worth trying (None: none)."""
     c_limit = kernel.d2 if model == "hypergeometric" else None  # c >= D2 accepts all at the RQL
-    if cap is not None and not defects:
+    if cap is not None and not per_unit:
         # Items: c <= n <= cap. Nonconformities per unit have no such bound on
         # c; the search ends where n_min passes the cap (it never falls in c).
         c_limit = cap if c_limit is None else min(c_limit, cap)
@@ -425,7 +425,7 @@ def _cap_infeasible(kernel: Kernel, targets: Targets, cap: int | None, lot_size:
 
 
 def min_sample_size(*, c: int, rql: float, beta: float, lot_size: int | None = None,
-                    model: str | None = None, defects: bool = False) -> int:
+                    model: str | None = None, per_unit: bool = False) -> int:
     """Smallest ``n`` with ``Pa(RQL; n, c) <= beta``: the consumer's side alone.
 
     This is the sample size that shows, with confidence ``1 - beta``, that the
@@ -440,7 +440,7 @@ def min_sample_size(*, c: int, rql: float, beta: float, lot_size: int | None = N
     >>> min_sample_size(c=0, rql=0.05, beta=0.05)
     59
     """
-    scope = Scope(lot_size=lot_size, defects=defects)
+    scope = Scope(lot_size=lot_size, per_unit=per_unit)
     model = scope.check_model(model)
     if c < 0:
         raise InputError(f"c ({c}) must be at least 0")

@@ -87,7 +87,7 @@ class StagedPlan(Plan):
         out = sum(n * r for n, r in zip(self.sizes, res.reach))
         return finish_shape(out, np.shape(p))
 
-    def _curtail_bounds(self, model: str, stages: str, accept: bool, defects: bool):
+    def _curtail_bounds(self, model: str, stages: str, accept: bool, per_unit: bool):
         """Acceptance and rejection numbers unit by unit of the curtailed plan
         (index ``m``: after ``m`` units; index 0: before the first).
 
@@ -108,7 +108,7 @@ class StagedPlan(Plan):
         M = self.n_max
         accn = np.full(M + 1, -1, dtype=np.int64)
         rejn = np.full(M + 1, NO_REJECTION, dtype=np.int64)
-        early_accept = accept and model != "poisson" and not defects
+        early_accept = accept and model != "poisson" and not per_unit
         start = 0
         for i, (n, a, r) in enumerate(zip(self.sizes, self.acc, self.rej)):
             end = start + n
@@ -133,7 +133,7 @@ class StagedPlan(Plan):
         """Curtailed ``(pa, asn)``; a plan whose acceptance is certain before
         the first unit accepts every lot without inspecting any."""
         x = self._x(p, model, scope, rounding)
-        accn, rejn = self._curtail_bounds(model, stages, accept, scope.defects)
+        accn, rejn = self._curtail_bounds(model, stages, accept, scope.per_unit)
         if accn[0] >= 0:
             return np.ones(np.shape(x)), np.zeros(np.shape(x))
         res = unit_walk(accn, rejn, model, x, scope.lot_size)
@@ -196,10 +196,10 @@ class StagedPlan(Plan):
         out = sum(a * m for a, m in zip(res.accept, self.cumulative)) + N * (1.0 - pa)
         return finish_shape(out, shape)
 
-    def decide(self, inspected: int, found: int, *, defects: bool = False) -> Decision:
+    def decide(self, inspected: int, found: int, *, per_unit: bool = False) -> Decision:
         """Accept, reject or continue after ``inspected`` units (cumulative)
         holding ``found`` nonconforming (cumulative)."""
-        check_record(inspected, found, self.n_max, defects)
+        check_record(inspected, found, self.n_max, per_unit)
         cum = self.cumulative
         stage = next(i for i, m in enumerate(cum) if inspected <= m) if inspected > 0 else 0
         if inspected == 0:
@@ -241,7 +241,7 @@ class StagedPlan(Plan):
                                 accept_number=na, reject_number=self.rej[nxt],
                                 reason=f"the second sample is empty (n2 = 0): {found} "
                                        f"{'<=' if act == 'accept' else '>'} {na}")
-            if not defects and na >= 0 and found + self.sizes[nxt] <= na:
+            if not per_unit and na >= 0 and found + self.sizes[nxt] <= na:
                 return Decision(action="accept", inspected=inspected, found=found,
                                 stage=nxt + 1, next_decision_at=cum[nxt],
                                 more_to_next=self.sizes[nxt], more_at_most=0,
@@ -268,7 +268,7 @@ class StagedPlan(Plan):
                             reason=why + "; the count can only grow, so the lot is rejected "
                                          f"now (curtailed: the other {end - inspected} units "
                                          "of the stage cannot change it)")
-        if not defects and a >= 0 and found + (end - inspected) <= a:
+        if not per_unit and a >= 0 and found + (end - inspected) <= a:
             return Decision(action="accept", inspected=inspected, found=found, stage=stage + 1,
                             next_decision_at=end, more_to_next=end - inspected, more_at_most=0,
                             accept_number=an, reject_number=r, certain_early=True,

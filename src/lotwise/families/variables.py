@@ -630,8 +630,8 @@ class VariablesPlan(Plan):
 
     def check_scope(self, scope) -> None:
         """Variables plans sample a normal process; the lot size does not enter."""
-        if scope is not None and scope.defects:
-            raise InputError("--defects does not apply to a variables plan: it judges a "
+        if scope is not None and scope.per_unit:
+            raise InputError("--per-unit does not apply to a variables plan: it judges a "
                              "fraction nonconforming from measurements")
 
     def risks(self, targets, scope, model: str):
@@ -1552,7 +1552,7 @@ def report_extras(plan, targets, scope, model: str, report: dict) -> dict:
 
 def design_registered(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 0.10,
                       lot_size: int | None = None, model: str | None = None,
-                      defects: bool = False, sigma: str | None = None,
+                      per_unit: bool = False, sigma: str | None = None,
                       limit: str | None = None, **options) -> VariablesDesign:
     """:func:`design_variables` behind the registry's common designer signature.
 
@@ -1567,7 +1567,7 @@ def design_registered(*, aql: float, rql: float, alpha: float = 0.05, beta: floa
         For nonconformities per unit (a variables plan judges a fraction
         nonconforming), or a known sigma without its value.
     """
-    if defects:
+    if per_unit:
         raise InputError("a variables plan judges a fraction nonconforming from measurements; "
                          "it does not apply to nonconformities per unit")
     lower, upper = options.get("lower"), options.get("upper")
@@ -1583,14 +1583,14 @@ def design_registered(*, aql: float, rql: float, alpha: float = 0.05, beta: floa
 
 
 
-def check_options(var: dict, *, defects: bool, key=lambda name: name) -> None:
+def check_options(var: dict, *, per_unit: bool, key=lambda name: name) -> None:
     """The rules tying a variables design's options together (plan files and
     catalogues; the command line checks its options as it reads them).
 
     ``var`` is modified in place: ``sigma`` defaults to ``known`` when
     ``sigma_value`` is given, else ``unknown``.
     """
-    if defects:
+    if per_unit:
         raise InputError(f"{key('scheme')} (variables) does not apply to "
                          "nonconformities per unit")
     if "lower" not in var and "upper" not in var:

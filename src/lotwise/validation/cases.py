@@ -50,10 +50,10 @@ __all__ = ["rectifying_cases", "least_inspection_cases", "zero_acceptance_cases"
            "sequential_cases", "variables_cases"]
 
 
-def _scope(lot=None, defects=False):
+def _scope(lot=None, per_unit=False):
     from lotwise.core.types import Scope
 
-    return Scope(lot_size=lot, defects=defects)
+    return Scope(lot_size=lot, per_unit=per_unit)
 
 
 def _single(n, c):
@@ -610,7 +610,7 @@ def _double_published_cases() -> list:
 
     def nist(ratio, c1, c2, pa):
         plan = double(n1=1000, c1=c1, n2=ratio * 1000, c2=c2)
-        return 1000 * plan.quality_at(pa, "poisson", _scope(defects=True), "x")
+        return 1000 * plan.quality_at(pa, "poisson", _scope(per_unit=True), "x")
 
     src_mont = ("D. C. Montgomery, Introduction to Statistical Quality Control, 6th ed., Wiley, 2009, double-sampling "
                 "example n1 = 50, c1 = 1, n2 = 100, c2 = 3 (from memory; section not verified)")

@@ -235,10 +235,10 @@ def _plain(v):
 
 # --- the single-sampling cases -------------------------------------------------
 
-def _scope(lot=None, defects=False):
+def _scope(lot=None, per_unit=False):
     from lotwise.core.types import Scope
 
-    return Scope(lot_size=lot, defects=defects)
+    return Scope(lot_size=lot, per_unit=per_unit)
 
 
 def _pa(n, c, p, model="binomial", lot=None):

@@ -8,7 +8,7 @@ Routes (all ``GET``):
 ``/api/design``, ``/api/check``, ``/api/oc``, ``/api/compare``, ``/api/tradeoff``
     exactly what ``lotwise design|check|oc|compare|tradeoff ... --json``
     prints for the same options (parameter = option name without ``--``,
-    ``-`` written ``_``; flags as ``defects=1``);
+    ``-`` written ``_``; flags as ``per_unit=1``);
 ``/api/outlook``
     lots rejected at the supplier's process average under each plan;
 ``/download/sheet.pdf``, ``/download/sheet.md``, ``/download/plan.toml``, ``/download/oc.csv``
@@ -45,20 +45,20 @@ from lotwise.web.query import MAX_QUERY, Query
 
 __all__ = ["create_app", "is_loopback", "make_server", "ENDPOINTS"]
 
-_COMMON = {"aql", "rql", "alpha", "beta", "lot_size", "model", "defects"}
+_COMMON = {"aql", "rql", "alpha", "beta", "lot_size", "model", "per_unit"}
 _RATES = {"miss_rate", "false_alarm", "study"}  # inspection errors, as on the command line
 _DESIGN_BASE = _COMMON | {"scheme", "c", "n", "max_n", "minimize", "process_average", "aoql",
                           "aoq_formula", "sigma", "sigma_value", "limit", "lower", "upper",
                           "ratio", "truncate", "f", "i"}
 _DESIGN = _DESIGN_BASE | _RATES
 _CHECK = _COMMON | _RATES | {"plan", "n", "c", "aoq_formula", "skip_lot", "at", "run_length"}
-_OC_BASE = {"plan", "n", "c", "lot_size", "model", "defects", "max_p", "points", "at", "aql",
+_OC_BASE = {"plan", "n", "c", "lot_size", "model", "per_unit", "max_p", "points", "at", "aql",
             "rql"}
 _OC = _OC_BASE | _RATES
 _COMPARE = _COMMON | _RATES | {"plan", "designed"}
 _TRADEOFF = {"aql", "rql", "alpha", "beta", "lot_size", "model", "process_average",
              "deliveries_per_year"}
-_OUTLOOK = {"plan", "process_average", "deliveries_per_year", "defects"}
+_OUTLOOK = {"plan", "process_average", "deliveries_per_year", "per_unit"}
 _SHEET = _DESIGN_BASE | {"plan", "part", "supplier"}
 
 #: ``name -> (task in lotwise.web.workers.TASKS, allowed parameters, repeatable ones)``.

@@ -47,14 +47,14 @@ def lot_size_option(text):
                                                  maximum=10**12)
 
 
-def levels_options(aql, rql, defects, need=True):
+def levels_options(aql, rql, per_unit, need=True):
     if need:
         if aql is None:
             raise InputError("--aql is required (for example --aql 1%)")
         if rql is None:
             raise InputError("--rql is required (for example --rql 8%)")
-    a = parse_level(aql, "--aql", per_unit=defects) if aql is not None else None
-    r = parse_level(rql, "--rql", per_unit=defects) if rql is not None else None
+    a = parse_level(aql, "--aql", per_unit=per_unit) if aql is not None else None
+    r = parse_level(rql, "--rql", per_unit=per_unit) if rql is not None else None
     return a, r
 
 
@@ -62,10 +62,10 @@ def risk_options(alpha, beta):
     return parse_risk(alpha, "--alpha"), parse_risk(beta, "--beta")
 
 
-def scope_and_model(lot, defects, model):
+def scope_and_model(lot, per_unit, model):
     from lotwise.core.types import Scope
 
-    scope = Scope(lot_size=lot_size_option(lot), defects=defects)
+    scope = Scope(lot_size=lot_size_option(lot), per_unit=per_unit)
     return scope, scope.check_model(model)
 
 
@@ -119,7 +119,7 @@ def design(q) -> Reply:
                                "limit", "lower", "upper", "ratio", "truncate", "i")}
     o.update(alpha=q.get("alpha", "5%"), beta=q.get("beta", "10%"),
              scheme=q.get("scheme", "single"), aoq_formula=q.get("aoq_formula", "screened"),
-             defects=q.flag("defects"), f=q.many("f"))
+             per_unit=q.flag("per_unit"), f=q.many("f"))
     from lotwise.families.base import designable
 
     rates = error_rates(q)
@@ -151,15 +151,15 @@ def _design_with_errors(o, rates) -> Reply:
     scheme = o["scheme"]
     refuse_options(scheme, [("csp_" + k if k in ("f", "i") else k, o.get(k))
                             for k in _SCHEME_OPTIONS])
-    a, r = levels_options(o["aql"], o["rql"], o["defects"])
+    a, r = levels_options(o["aql"], o["rql"], o["per_unit"])
     al, be = risk_options(o["alpha"], o["beta"])
-    scope, mdl = scope_and_model(o["lot_size"], o["defects"], o["model"])
+    scope, mdl = scope_and_model(o["lot_size"], o["per_unit"], o["model"])
     options = {k: option_value(k, o[k]) for k in DESIGN_TAKES.get(scheme, ())
                if o.get(k) is not None}
     targets = Targets(aql=a, rql=r, alpha=al, beta=be)
     try:
         d = design_misclassified(scheme, rates, aql=a, rql=r, alpha=al, beta=be,
-                                 lot_size=scope.lot_size, model=mdl, defects=o["defects"],
+                                 lot_size=scope.lot_size, model=mdl, per_unit=o["per_unit"],
                                  **options)
     except Infeasible as exc:
         _infeasible(exc, {"scheme": scheme, "model": mdl, "lot_size": scope.lot_size,
@@ -200,14 +200,14 @@ def _design_registered(o) -> Reply:
         if o.get(key):
             raise InputError(f"--{key.replace('_', '-')} ({o[key]}) does not apply to "
                              f"--scheme {o['scheme']}")
-    a, r = levels_options(o["aql"], o["rql"], o["defects"])
+    a, r = levels_options(o["aql"], o["rql"], o["per_unit"])
     al, be = risk_options(o["alpha"], o["beta"])
-    scope, mdl = scope_and_model(o["lot_size"], o["defects"], o["model"])
+    scope, mdl = scope_and_model(o["lot_size"], o["per_unit"], o["model"])
     targets = Targets(aql=a, rql=r, alpha=al, beta=be)
     try:
         d = family(o["scheme"]).design(aql=a, rql=r, alpha=al, beta=be,
                                        lot_size=scope.lot_size, model=mdl,
-                                       defects=o["defects"])
+                                       per_unit=o["per_unit"])
     except Infeasible as exc:
         _infeasible(exc, {"scheme": o["scheme"], "model": mdl, "lot_size": scope.lot_size,
                           "targets": targets.as_dict()})
@@ -237,9 +237,9 @@ def _design_single(o) -> Reply:
     from lotwise.core.types import Targets
     from lotwise.families.single import design_single
 
-    a, r = levels_options(o["aql"], o["rql"], o["defects"])
+    a, r = levels_options(o["aql"], o["rql"], o["per_unit"])
     al, be = risk_options(o["alpha"], o["beta"])
-    scope, mdl = scope_and_model(o["lot_size"], o["defects"], o["model"])
+    scope, mdl = scope_and_model(o["lot_size"], o["per_unit"], o["model"])
     cc = parse_count(o["c"], "--c", minimum=0) if o["c"] is not None else None
     nn = parse_count(o["n"], "--n", minimum=1) if o["n"] is not None else None
     cap = parse_count(o["max_n"], "--max-n", minimum=1) if o["max_n"] is not None else None
@@ -248,7 +248,7 @@ def _design_single(o) -> Reply:
             "targets": targets.as_dict()}
     try:
         d = design_single(aql=a, rql=r, alpha=al, beta=be, lot_size=scope.lot_size, model=mdl,
-                          defects=o["defects"], n=nn, c=cc, max_n=cap)
+                          per_unit=o["per_unit"], n=nn, c=cc, max_n=cap)
     except Infeasible as exc:
         _infeasible(exc, base)
     return Reply(body=assess(d.plan, targets, scope, mdl, design=d).to_json())
@@ -260,7 +260,7 @@ def _design_csp(o) -> Reply:
 
     scheme = o["scheme"]
     unused = (("--aql", o["aql"]), ("--rql", o["rql"]), ("--lot-size", o["lot_size"]),
-              ("--defects", o["defects"]), ("--c", o["c"]), ("--n", o["n"]),
+              ("--per-unit", o["per_unit"]), ("--c", o["c"]), ("--n", o["n"]),
               ("--max-n", o["max_n"]), ("--sigma", o["sigma"]),
               ("--sigma-value", o["sigma_value"]), ("--limit", o["limit"]),
               ("--lower", o["lower"]), ("--upper", o["upper"]), ("--ratio", o["ratio"]),
@@ -329,8 +329,8 @@ def _variables_options(o):
     for opt, val in (("--model", o["model"]), ("--c", o["c"]), ("--n", o["n"])):
         if val is not None:
             raise InputError(f"{opt} ({val}) does not apply to --scheme variables")
-    if o["defects"]:
-        raise InputError("--defects does not apply to --scheme variables: a variables plan "
+    if o["per_unit"]:
+        raise InputError("--per-unit does not apply to --scheme variables: a variables plan "
                          "judges a fraction nonconforming from measurements")
     if o["sigma"] is None:
         raise InputError("--sigma is required with --scheme variables: known or unknown")
@@ -416,14 +416,14 @@ def _other_targets(o):
     from lotwise.core.types import Targets
 
     _not_for(o["scheme"], n=o["n"], c=o["c"])
-    a, r = levels_options(o["aql"], o["rql"], o["defects"])
+    a, r = levels_options(o["aql"], o["rql"], o["per_unit"])
     al, be = risk_options(o["alpha"], o["beta"])
-    scope, mdl = scope_and_model(o["lot_size"], o["defects"], o["model"])
+    scope, mdl = scope_and_model(o["lot_size"], o["per_unit"], o["model"])
     targets = Targets(aql=a, rql=r, alpha=al, beta=be)
     base = {"scheme": o["scheme"], "model": mdl, "lot_size": scope.lot_size,
             "targets": targets.as_dict()}
     kw = dict(aql=a, rql=r, alpha=al, beta=be, lot_size=scope.lot_size, model=mdl,
-              defects=scope.defects)
+              per_unit=scope.per_unit)
     return targets, scope, mdl, base, kw
 
 
@@ -503,28 +503,28 @@ def _least_ati(o) -> Reply:
     from lotwise.analysis.rectifying import check_formula
     from lotwise.core.types import Scope
 
-    defects = o["defects"]
+    per_unit = o["per_unit"]
     if o["lot_size"] is None:
         raise InputError("--minimize ati needs --lot-size (the ATI is counted per lot)")
     if o["process_average"] is None:
         raise InputError("--minimize ati needs --process-average (for example "
                          "--process-average 0.5%)")
     N = parse_count(o["lot_size"], "--lot-size", minimum=2, maximum=10**12)
-    pbar = parse_level(o["process_average"], "--process-average", per_unit=defects)
+    pbar = parse_level(o["process_average"], "--process-average", per_unit=per_unit)
     if (o["rql"] is None) == (o["aoql"] is None):
         raise InputError("--minimize ati needs either --rql (with --beta) or --aoql")
-    r = parse_level(o["rql"], "--rql", per_unit=defects) if o["rql"] is not None else None
-    lim = parse_level(o["aoql"], "--aoql", per_unit=defects) if o["aoql"] is not None else None
+    r = parse_level(o["rql"], "--rql", per_unit=per_unit) if o["rql"] is not None else None
+    lim = parse_level(o["aoql"], "--aoql", per_unit=per_unit) if o["aoql"] is not None else None
     be = parse_risk(o["beta"], "--beta")
     al = parse_risk(o["alpha"], "--alpha")
-    a = parse_level(o["aql"], "--aql", per_unit=defects) if o["aql"] is not None else None
+    a = parse_level(o["aql"], "--aql", per_unit=per_unit) if o["aql"] is not None else None
     check_formula(o["aoq_formula"])
-    mdl = Scope(lot_size=N, defects=defects).check_model(o["model"])
+    mdl = Scope(lot_size=N, per_unit=per_unit).check_model(o["model"])
     base = {"scheme": "single", "minimize": "ati", "model": mdl, "lot_size": N,
             "process_average": pbar}
     try:
         d = design_least_ati(lot_size=N, process_average=pbar, rql=r, beta=be, aoql=lim,
-                             model=mdl, defects=defects, formula=o["aoq_formula"], aql=a,
+                             model=mdl, per_unit=per_unit, formula=o["aoq_formula"], aql=a,
                              alpha=al)
     except Infeasible as exc:
         _infeasible(exc, base)
@@ -536,16 +536,16 @@ def _chain(o) -> Reply:
     from lotwise.core.types import Scope, Targets
     from lotwise.families.chain import design_chain
 
-    a, r = levels_options(o["aql"], o["rql"], o["defects"])
+    a, r = levels_options(o["aql"], o["rql"], o["per_unit"])
     al, be = risk_options(o["alpha"], o["beta"])
     N = lot_size_option(o["lot_size"])
-    mdl = Scope(lot_size=N, defects=o["defects"]).check_model(o["model"])
+    mdl = Scope(lot_size=N, per_unit=o["per_unit"]).check_model(o["model"])
     cap = parse_count(o["max_n"], "--max-n", minimum=1) if o["max_n"] is not None else None
     base = {"scheme": "chain", "model": mdl, "lot_size": N,
             "targets": Targets(aql=a, rql=r, alpha=al, beta=be).as_dict()}
     try:
         d = design_chain(aql=a, rql=r, alpha=al, beta=be, lot_size=N, model=mdl,
-                         defects=o["defects"], max_n=cap)
+                         per_unit=o["per_unit"], max_n=cap)
     except Infeasible as exc:
         _infeasible(exc, base)
     return Reply(body=assess(d.plan, d.targets, d.scope, d.model, design=d).to_json())

@@ -78,7 +78,7 @@ def plan_file_text(q) -> str:
     plan, given = _designed_plan(q)
     part = _text(q, "part", "PART-1")
     supplier = _text(q, "supplier", "")
-    defects = q.flag("defects")
+    per_unit = q.flag("per_unit")
     lines = ["# Written by lotwise serve from the page's inputs.",
              "rationale = " + _toml("Targets agreed at the review; see the sheet for what the "
                                     "plan guarantees."), "", "[part]", f"id = {_toml(part)}"]
@@ -88,7 +88,7 @@ def plan_file_text(q) -> str:
     lot = commands.lot_size_option(q.get("lot_size"))
     if lot is not None:
         lines.append(f"size = {lot}")
-    lines.append(f"counts = {_toml('nonconformities' if defects else 'items')}")
+    lines.append(f"counts = {_toml('nonconformities' if per_unit else 'items')}")
     sampling = []
     if q.get("model") is not None:
         sampling.append(f"model = {_toml(q.get('model').strip().lower())}")

@@ -22,7 +22,7 @@ def check(q) -> Reply:
     from lotwise.core.types import Targets
 
     aql, rql, lot, model = q.get("aql"), q.get("rql"), q.get("lot_size"), q.get("model")
-    alpha, beta, defects = q.get("alpha", "5%"), q.get("beta", "10%"), q.flag("defects")
+    alpha, beta, per_unit = q.get("alpha", "5%"), q.get("beta", "10%"), q.flag("per_unit")
     aoq_formula, skip_lot = q.get("aoq_formula"), q.get("skip_lot")
     at, run_length = q.many("at"), q.get("run_length")
     p = plan_from(q.get("plan"), q.get("n"), q.get("c"))
@@ -31,7 +31,7 @@ def check(q) -> Reply:
         from lotwise.analysis.outputs import csp_check
 
         csp_refuse(p.scheme, {"--aql": aql, "--rql": rql, "--lot-size": lot,
-                               "--defects": defects, "--aoq-formula": aoq_formula,
+                               "--per-unit": per_unit, "--aoq-formula": aoq_formula,
                                "--skip-lot": skip_lot, "--miss-rate": q.get("miss_rate"),
                                "--false-alarm": q.get("false_alarm"),
                                "--study": q.get("study")})
@@ -49,14 +49,14 @@ def check(q) -> Reply:
             raise InputError(f"--skip-lot ({skip_lot}) cannot be combined with a skip-lot "
                              "--plan")
         skip_lot = layer
-    a, r = levels_options(aql, rql, defects)
+    a, r = levels_options(aql, rql, per_unit)
     al, be = risk_options(alpha, beta)
-    scope, mdl = scope_and_model(lot, defects, model)
+    scope, mdl = scope_and_model(lot, per_unit, model)
     p.check_scope(scope)
     if rates is not None:  # judged at the true quality
         p = judged(p.for_scope(scope), rates, scope)
     if not r > a:
-        _out_of_order(a, r, defects)
+        _out_of_order(a, r, per_unit)
     if aoq_formula is not None and not scope.lot_size:
         raise InputError(f"--aoq-formula ({aoq_formula}) needs --lot-size (AOQ and ATI are "
                          "computed for lots of a known size)")
@@ -68,11 +68,11 @@ def check(q) -> Reply:
     return Reply(body=rep, exit_code=0 if meets else 1)
 
 
-def _out_of_order(a, r, defects):
+def _out_of_order(a, r, per_unit):
     from lotwise.core.quantities import format_level
 
-    raise Refused(f"the RQL ({format_level(r, defects)}) must be above the AQL "
-                  f"({format_level(a, defects)})",
+    raise Refused(f"the RQL ({format_level(r, per_unit)}) must be above the AQL "
+                  f"({format_level(a, per_unit)})",
                   {"feasible": False, "reason": "rql must be above aql"})
 
 
@@ -113,13 +113,13 @@ def oc(q) -> Reply:
     """``lotwise oc --plan ... --json``."""
     from lotwise.analysis import outputs
 
-    lot, model, defects = q.get("lot_size"), q.get("model"), q.flag("defects")
+    lot, model, per_unit = q.get("lot_size"), q.get("model"), q.flag("per_unit")
     aql, rql, at = q.get("aql"), q.get("rql"), q.many("at")
     max_p, points = q.get("max_p"), q.get("points", "21")
     p = plan_from(q.get("plan"), q.get("n"), q.get("c"))
     rates = error_rates(q)
     if p.evaluation == "flow":
-        csp_refuse(p.scheme, {"--lot-size": lot, "--defects": defects, "--aql": aql,
+        csp_refuse(p.scheme, {"--lot-size": lot, "--per-unit": per_unit, "--aql": aql,
                                "--rql": rql, "--miss-rate": q.get("miss_rate"),
                                "--false-alarm": q.get("false_alarm"),
                                "--study": q.get("study")})
@@ -130,11 +130,11 @@ def oc(q) -> Reply:
         judged(p, rates, None)  # refused: a gauge's error is --measurement-sd
         _a, r = levels_options(aql, rql, False, need=False)
         return Reply(body=outputs.variables_oc(p, max_p=max_p, points=points, at=at, rql=r))
-    scope, mdl = scope_and_model(lot, defects, model)
+    scope, mdl = scope_and_model(lot, per_unit, model)
     p.check_scope(scope)
     if rates is not None:  # Pa at the true quality
         p = judged(p.for_scope(scope), rates, scope)
-    a, r = levels_options(aql, rql, defects, need=False)
+    a, r = levels_options(aql, rql, per_unit, need=False)
     ps = outputs.attribute_grid(p, scope, mdl, max_p=max_p, points=points, at=at, rql=r)
     return Reply(body=with_rates(outputs.attribute_oc(p, scope, mdl, ps, aql=a, rql=r), rates))
 
@@ -145,7 +145,7 @@ def compare(q) -> Reply:
     from lotwise.core.types import Scope, Targets
     from lotwise.families.base import parse_plan
 
-    plans, designed, defects = q.many("plan"), q.flag("designed"), q.flag("defects")
+    plans, designed, per_unit = q.many("plan"), q.flag("designed"), q.flag("per_unit")
     rates = error_rates(q)
     if rates is not None and designed:
         raise InputError("--miss-rate/--false-alarm/--study apply to the --plan entries of "
@@ -153,9 +153,9 @@ def compare(q) -> Reply:
                          "rates in its [inspection] table)")
     entries = []
     if plans or designed:
-        a, r = levels_options(q.get("aql"), q.get("rql"), defects)
+        a, r = levels_options(q.get("aql"), q.get("rql"), per_unit)
         al, be = risk_options(q.get("alpha", "5%"), q.get("beta", "10%"))
-        scope = Scope(lot_size=lot_size_option(q.get("lot_size")), defects=defects)
+        scope = Scope(lot_size=lot_size_option(q.get("lot_size")), per_unit=per_unit)
         mdl = scope.check_model(q.get("model"))
         targets = Targets(aql=a, rql=r, alpha=al, beta=be)
         if designed:
@@ -219,18 +219,18 @@ def outlook(q) -> Reply:
     from lotwise.analysis.supplier import rejection_at
     from lotwise.families.base import parse_plan
 
-    defects = q.flag("defects")
+    per_unit = q.flag("per_unit")
     if q.get("process_average") is None:
         raise InputError("--process-average is required (for example --process-average 0.8%)")
-    pbar = parse_level(q.get("process_average"), "--process-average", per_unit=defects)
+    pbar = parse_level(q.get("process_average"), "--process-average", per_unit=per_unit)
     deliveries = q.get("deliveries_per_year")
     L = parse_rate(deliveries, "--deliveries-per-year", minimum=1, whole=True) \
         if deliveries is not None else None
     rows = []
     for i, text in enumerate(q.many("plan") or [], 1):
         p = parse_plan(text, f"--plan #{i}")
-        rows.append(rejection_at(p, pbar, per_unit=defects, deliveries_per_year=L))
+        rows.append(rejection_at(p, pbar, per_unit=per_unit, deliveries_per_year=L))
     if not rows:
         raise InputError("--plan is required (one or more plans in notation, e.g. n=80,c=2)")
-    return Reply(body={"process_average": pbar, "defects": defects, "deliveries_per_year": L,
+    return Reply(body={"process_average": pbar, "per_unit": per_unit, "deliveries_per_year": L,
                        "plans": rows})

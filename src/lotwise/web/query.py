@@ -2,7 +2,7 @@
 
 A parameter is named as the command-line option without its leading dashes,
 ``-`` written ``_`` (``lot_size``, ``max_n``, ``process_average``); a flag is
-``defects=1`` (or ``per_unit=1``); a repeatable option is repeated
+``per_unit=1``; a repeatable option is repeated
 (``at=1%&at=2%``). Values are passed on as the text the command line would
 receive, so the same parser gives the same value and the same message.
 
@@ -35,8 +35,10 @@ MAX_REPEAT = {"at": 200, "plan": 8, "f": 20}
 #: Largest number of units a plan given in notation may inspect.
 MAX_PLAN_SAMPLE = 10**6
 
-ALIASES = {"ltpd": "rql", "per_unit": "defects"}
-FLAGS = ("defects", "designed")
+ALIASES = {"ltpd": "rql"}
+#: Spellings that were renamed, refused with a message naming the new one.
+RENAMED = {"defects": "per_unit"}
+FLAGS = ("per_unit", "designed")
 
 _WHOLE = re.compile(r"^\s*\d+(?:[_,]\d{3})*\s*$")
 
@@ -73,6 +75,9 @@ class Query:
         names; apply the web limits."""
         out: dict[str, list[str]] = {}
         for raw, value in pairs:
+            if raw in RENAMED:
+                raise InputError(f"{raw} ({value[:40]}) was renamed {RENAMED[raw]} "
+                                 f"(nonconformities per unit); use {RENAMED[raw]}={value[:40]}")
             name = ALIASES.get(raw, raw)
             if name not in allowed:
                 raise InputError(f"{raw} ({value[:40]}) is not a parameter of {endpoint}; "

@@ -56,7 +56,7 @@ def asn_figure(items, *, model=None, aql=None, rql=None, max_p=None, labels=None
         return tradeoff_figure(items, ax=ax, title=title)
     fig, ax = new_axes(ax)
     scope0 = items[0][1]
-    per_unit = scope0.defects
+    per_unit = scope0.per_unit
     if max_p is None:
         max_p = 2.5 * rql if rql else 0.1
         if not per_unit:
@@ -106,7 +106,7 @@ def tradeoff_figure(result, *, ax=None, title=None):
     from lotwise.documents.plots.style import mpl
 
     t = result.targets
-    per_unit = result.scope.defects
+    per_unit = result.scope.per_unit
     if ax is None:
         plt = mpl()
         fig, (a1, a2) = plt.subplots(1, 2, figsize=(10.5, 5.0), dpi=110)
@@ -207,7 +207,7 @@ def oc_asn_figure(plan, scope, *, model=None, aql=None, rql=None, max_p=None, ti
     if max_p is None:
 
         max_p = 1.1 * plan.quality_at(0.005, model or scope.exact_model, scope, "consumer")
-    if not scope.defects:
+    if not scope.per_unit:
         max_p = min(max_p, 1.0)
     oc_figure([(plan, scope)], aql=aql, rql=rql, max_p=max_p, ax=a1,
               title=title or plan.label)

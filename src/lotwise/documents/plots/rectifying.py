@@ -38,7 +38,7 @@ def _style_order(models, scope: Scope) -> tuple:
 
 
 def _xlabel(scope: Scope) -> str:
-    return ("Incoming quality: nonconformities per unit" if scope.defects else
+    return ("Incoming quality: nonconformities per unit" if scope.per_unit else
             "Incoming quality: nonconforming (%)")
 
 
@@ -65,12 +65,12 @@ def aoq_figure(plan, scope: Scope, ax=None, *, models=None, formula: str = "scre
         curves.append((f"{m}{tag}", y))
         a = aoql(plan, scope, m, formula)
         if m == scope.exact_model:
-            marks.append((a.at, a.value, f"AOQL {format_outgoing(a.value, scope.defects)} at "
-                          f"{format_level(a.at, scope.defects)}"))
+            marks.append((a.at, a.value, f"AOQL {format_outgoing(a.value, scope.per_unit)} at "
+                          f"{format_level(a.at, scope.per_unit)}"))
     lot = f", lot of {scope.lot_size}" if scope.lot_size else " (large lot)"
     fig = curve_figure(ps, curves, xlabel=_xlabel(scope),
-                       ylabel="Average outgoing quality" + ("" if scope.defects else " (%)"),
-                       per_unit=scope.defects, ax=ax, y_percent=not scope.defects,
+                       ylabel="Average outgoing quality" + ("" if scope.per_unit else " (%)"),
+                       per_unit=scope.per_unit, ax=ax, y_percent=not scope.per_unit,
                        marks=marks, title=title or f"AOQ of {plan.label}{lot}")
     return fig
 
@@ -89,7 +89,7 @@ def ati_figure(plan, scope: Scope, ax=None, *, models=None, max_p=None, points: 
         tag = " (exact)" if m == scope.exact_model else ""
         curves.append((f"{m}{tag}", np.asarray(ati(plan, ps, m, scope), dtype=float)))
     fig = curve_figure(ps, curves, xlabel=_xlabel(scope),
-                       ylabel="Average total inspection per lot", per_unit=scope.defects,
+                       ylabel="Average total inspection per lot", per_unit=scope.per_unit,
                        ax=ax, marks=list(marks),
                        title=title or f"ATI of {plan.label}, lot of {N}")
     ax_ = fig.axes[0] if ax is None else ax

@@ -21,7 +21,7 @@ def skiplot_figure(plan: SkipLotPlan, scope: Scope, ax=None, *, model=None, max_
 
     model = scope.check_model(model)
     fig, ax = new_axes(ax)
-    pu = scope.defects
+    pu = scope.per_unit
     if max_p is None:
         max_p = quality_at(plan.reference, 0.005, "poisson" if pu else "binomial", scope,
                            "consumer") * 1.1

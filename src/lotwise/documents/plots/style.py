@@ -122,7 +122,7 @@ def oc_figure(items, *, models=None, aql=None, rql=None, alpha=None, beta=None,
     """
     fig, ax = new_axes(ax)
     plan0, scope0 = items[0]
-    per_unit = scope0.defects
+    per_unit = scope0.per_unit
     exact = plan0.judging_model(scope0)
     models = tuple(models or plan0.models_for(scope0))
     if plan0.count_rule() is None:  # every model is drawn for plans of one fixed sample

@@ -31,7 +31,7 @@ def scheme_figure(scheme, scope, *, model=None, max_p=None, points: int = 101, a
 
     plt = mpl()
     model = scope.check_model(model)
-    pu = scope.defects
+    pu = scope.per_unit
     if max_p is None:
         max_p = 1.1 * float(scheme.normal.quality_at(0.02, model, scope, "consumer"))
         if not pu:

@@ -30,7 +30,7 @@ def equivalent_figure(eq: ZeroEquivalent, ax=None, *, max_p=None, points: int = 
     circles on both curves). Returns the figure."""
     fig, ax = new_axes(ax)
     scope, model = eq.scope, eq.model
-    pu = scope.defects
+    pu = scope.per_unit
     if max_p is None:
         max_p = max(quality_level(eq.plan, 0.005, model, scope, "consumer"),
                     quality_level(eq.zero_plan, 0.005, model, scope, "consumer")) * 1.1

@@ -139,7 +139,7 @@ def _verdict(pp) -> str:
 def _scope_rows(req) -> list:
     """``(label, text)`` rows of the Scope section."""
     scope = req.scope
-    counted = "nonconformities per unit" if scope.defects else "nonconforming items"
+    counted = "nonconformities per unit" if scope.per_unit else "nonconforming items"
     lot = (f"{scope.lot_size:,} items" if scope.lot_size else "not stated (treated as a process "
            "or very large lot)")
     rows = [("Part", req.part_id + (f": {req.part_description}" if req.part_description
@@ -365,7 +365,7 @@ def build_content(pp, *, picks=None, today: _dt.date | None = None,
                   alternatives_text: str = "") -> SheetContent:
     """Format a :class:`~lotwise.documents.partplan.PartPlan` for the sheets."""
     req = pp.request
-    per_unit = req.scope.defects
+    per_unit = req.scope.per_unit
     today = today or _dt.date.today()
     title = f"Sampling plan: {req.part_id}" + (f", {req.part_description}"
                                                if req.part_description else "")
@@ -407,10 +407,10 @@ def oc_rows(pp, points: int = 41):
         else:
             q = 1.25 * rep["plan_quality"]["consumer"]
         top = max(top, 1.25 * rep["targets"]["rql"], q)
-    if not scope.defects:
+    if not scope.per_unit:
         top = min(top, 1.0)
     ps = np.linspace(0.0, top, points)
-    if scope.lot_size and not scope.defects:
+    if scope.lot_size and not scope.per_unit:
         # a finite lot: every row a whole count D/N, so the lot_count column
         # needs no rounding and serves every characteristic's plan
         ps = np.unique(np.round(ps * scope.lot_size)) / scope.lot_size

@@ -69,7 +69,7 @@ def scheme_section(req, png: str | None = None) -> str:
     """Markdown lines on the file's switching scheme and plan table."""
     from lotwise.analysis.switching import scheme_oc
 
-    per = req.scope.defects
+    per = req.scope.per_unit
     lines = []
     sw = req.switching
     if sw is not None:

@@ -80,12 +80,12 @@ function designParams() {
   if (scheme === "variables") {
     p.set("sigma", val("sigma"));
     for (const k of ["lower", "upper", "sigma_value"]) if (val(k)) p.set(k, val(k));
-    if ($("defects").checked) p.set("defects", "1");
+    if ($("per_unit").checked) p.set("per_unit", "1");
     return p;
   }
   if (val("model")) p.set("model", val("model"));
   if (val("c")) p.set("c", val("c"));
-  if ($("defects").checked) p.set("defects", "1");
+  if ($("per_unit").checked) p.set("per_unit", "1");
   return p;
 }
 function scopeParams(plan, extra = {}) {
@@ -95,7 +95,7 @@ function scopeParams(plan, extra = {}) {
   if (!CSP.includes(scheme) && scheme !== "variables") {
     if (val("lot_size")) p.set("lot_size", val("lot_size"));
     if (val("model")) p.set("model", val("model"));
-    if ($("defects").checked) p.set("defects", "1");
+    if ($("per_unit").checked) p.set("per_unit", "1");
   }
   for (const [k, v] of Object.entries(extra)) if (v !== "" && v !== null && v !== undefined) p.set(k, v);
   return p;
@@ -133,7 +133,7 @@ function riskTable(rep) {
   return box;
 }
 function facts(rep) {
-  const pu = !!rep.defects;
+  const pu = !!rep.per_unit;
   const items = [];
   if (rep.asn) {
     items.push(`Average sample number ${fmtUnits(rep.asn.aql)} at the AQL, ${fmtUnits(rep.asn.rql)} at the RQL; ` +
@@ -288,7 +288,7 @@ function renderOutlook(body) {
     fmtPa(r.pa), fmtPct(r.p_reject),
     r.rejected_per_year === null ? "-" : r.rejected_per_year.toFixed(1)]);
   fill("outlook",
-    el("p", {}, `At a process average of ${fmtLevel(body.process_average, body.defects)} ` +
+    el("p", {}, `At a process average of ${fmtLevel(body.process_average, body.per_unit)} ` +
       "(lots drawn from the supplier's process; type B curve):"),
     table(["plan", "Pa", "lots rejected", `rejected of ${body.deliveries_per_year || "-"} a year`], rows));
 }
@@ -402,7 +402,7 @@ async function updateCurves(rep, mine, signal) {
   } else {
     clearSupplier(isCsp ? "not compared for continuous sampling" : "none entered");
   }
-  const perUnit = !!rep.defects;
+  const perUnit = !!rep.per_unit;
   drawChart($("oc-chart"), curves, {
     top, aql: t.aql, rql: t.rql, perUnit,
     xlabel: isCsp ? "fraction nonconforming p" : (perUnit ? "nonconformities per unit" : "fraction nonconforming in the lot or process"),
@@ -426,7 +426,7 @@ async function updateOutlook(rep, mine, signal) {
   if (state.proposal) p.append("plan", state.proposal.notation);
   p.set("process_average", val("process_average"));
   if (val("deliveries_per_year")) p.set("deliveries_per_year", val("deliveries_per_year"));
-  if ($("defects").checked && rep.scheme !== "variables") p.set("defects", "1");
+  if ($("per_unit").checked && rep.scheme !== "variables") p.set("per_unit", "1");
   const o = await ask("/api/outlook", p, signal);
   if (mine !== generation) return;
   if (o.status === 200) renderOutlook(o.body);
@@ -434,7 +434,7 @@ async function updateOutlook(rep, mine, signal) {
 }
 async function updateTrade(rep, mine, signal) {
   const t = rep.targets;
-  if (CSP.includes(rep.scheme) || rep.defects || !t || rep.scheme === "variables") {
+  if (CSP.includes(rep.scheme) || rep.per_unit || !t || rep.scheme === "variables") {
     fill("trade-table", el("p", {}, "The trade-off grid is drawn for single plans by attributes (items nonconforming)."));
     fill("trade-chart");
     return;
