@@ -13,8 +13,10 @@ from lotwise.core.quantities import InputError
 
 @app.command()
 def batch(
-    path: str = typer.Argument(..., metavar="CATALOGUE", help="CSV with part, lot_size, aql, rql (optional alpha, beta, scheme, model, fixed_c, max_n, per_unit, deliveries_per_year; ratio, minimize, truncate, sigma, sigma_value, limit, upper, lower for the other schemes)."),
-    out: Optional[str] = typer.Option(None, "--out", "-o", help="Where to write the plans (CSV), or - for stdout."),
+    path: str = typer.Argument(..., metavar="CATALOGUE", help="CSV (or .xlsx workbook) with part, lot_size, aql, rql (optional alpha, beta, scheme, model, fixed_c, max_n, per_unit, deliveries_per_year; ratio, minimize, truncate, sigma, sigma_value, limit, upper, lower for the other schemes)."),
+    out: Optional[str] = typer.Option(None, "--out", "-o", help="Where to write the plans (CSV; a workbook when the name ends in .xlsx), or - for stdout."),
+    csv_sep: Optional[str] = common.CSV_SEP,
+    decimal_comma: bool = common.DECIMAL_COMMA,
     deliveries: Optional[str] = typer.Option(None, "--deliveries-per-year", help="Lots per year for rows without a deliveries_per_year value."),
     force: bool = typer.Option(False, "--force", help="Overwrite files not written by lotwise."),
     audit: bool = typer.Option(False, "--audit", help="Audit a plan table instead: CSV with lot_min, lot_max, n, c, aql (optional rql, label); one verdict per row."),
@@ -34,6 +36,7 @@ def batch(
     from lotwise.core.quantities import parse_rate
     from lotwise.data.batch import SAFETY_NOTE, design_catalogue, progress_bar, read_catalogue
     from lotwise.data.files import write_bytes
+    from lotwise.data.xlsx import frame_xlsx, is_xlsx
 
     if audit:
         from .scheme import batch_audit
@@ -44,8 +47,11 @@ def batch(
     if out == "-" and as_json:
         raise InputError("--out - (the plans on stdout) cannot be combined with --json")
     rate = parse_rate(deliveries, "--deliveries-per-year") if deliveries is not None else None
+    style = common.csv_output(csv_sep, decimal_comma, out, "--out")
     common.outputs(force, ("--out", out))
     df = read_catalogue(path, "CATALOGUE")
+    if df.attrs.get("note"):
+        print(f"lotwise: note: {df.attrs['note']}", file=sys.stderr)
     cb, close = progress_bar(len(df)) if len(df) >= 2000 else (None, lambda: None)
     try:
         res = design_catalogue(df, deliveries_per_year=rate, progress=cb)
@@ -57,9 +63,11 @@ def batch(
         if vals.notna().any() and (vals.dropna() % 1 == 0).all():
             table[col] = vals.round().astype("Int64")
     if out == "-":
-        sys.stdout.writelines(res.csv_chunks(table))
+        sys.stdout.writelines(res.csv_chunks(table, style))
+    elif is_xlsx(out):
+        write_bytes(out, frame_xlsx(table, option="--out"), force=force, option="--out")
     else:
-        write_bytes(out, (p.encode("utf-8") for p in res.csv_chunks(table)), force=force,
+        write_bytes(out, (p.encode("utf-8") for p in res.csv_chunks(table, style)), force=force,
                     option="--out")
     failed = res.errors(df["_line"].to_numpy())
     if as_json:

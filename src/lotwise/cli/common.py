@@ -110,17 +110,41 @@ def plot_path(plot, force: bool, option: str = "--plot"):
     return plot
 
 
-def write_csv(dest: str, header, rows, *, force: bool, cell=csv_cell) -> None:
-    """Table to ``dest`` (a path, written safely, or ``-`` for stdout)."""
-    from lotwise.analysis.outputs import csv_text
+CSV_SEP = typer.Option(None, "--csv-sep", help="Field separator of CSV output: , ; or tab (default: a comma; a semicolon with --decimal-comma).")
+DECIMAL_COMMA = typer.Option(False, "--decimal-comma", help="Write the numbers of CSV output with a decimal comma (0,0912), for spreadsheets set that way; fields are then separated by ; unless --csv-sep says otherwise.")
 
-    text = csv_text(header, rows, cell)
-    if dest == "-":
+
+def csv_output(sep, decimal_comma: bool, dest, option: str = "--csv"):
+    """The :class:`~lotwise.data.tables.CsvStyle` of ``--csv-sep`` and
+    ``--decimal-comma`` for the output ``dest`` (refused for an ``.xlsx``)."""
+    from lotwise.data.tables import check_destination, csv_style
+
+    style = csv_style(sep, decimal_comma)
+    check_destination(dest, style, option)
+    return style
+
+
+def write_csv(dest: str, header, rows, *, force: bool, cell=csv_cell, style=None) -> None:
+    """Table to ``dest`` (a path, written safely, or ``-`` for stdout): a
+    workbook when the name ends in ``.xlsx``, CSV in ``style`` otherwise."""
+    from lotwise.data.xlsx import is_xlsx
+
+    if (style is None or style.plain) and not is_xlsx(dest):
+        from lotwise.analysis.outputs import csv_text
+
+        text = csv_text(header, rows, cell)
+        if dest == "-":
+            typer.echo(text, nl=False)
+        else:
+            from lotwise.data.files import write_text
+
+            write_text(dest, text, force=force, option="--csv")
+        return
+    from lotwise.data.tables import write_rows
+
+    text = write_rows(dest, header, rows, style=style, force=force, option="--csv", cell=cell)
+    if text is not None:
         typer.echo(text, nl=False)
-    else:
-        from lotwise.data.files import write_text
-
-        write_text(dest, text, force=force, option="--csv")
 
 
 # --- shared by the design/check/oc commands of every plan family -------------------

@@ -171,7 +171,7 @@ def _units(x) -> str:
     return "never ends" if x is None else f"{x:,.1f}"
 
 
-def oc_cmd(plan, *, max_p, points, at, csv, plot, model, unused, force, as_json):
+def oc_cmd(plan, *, max_p, points, at, csv, plot, model, unused, force, as_json, style=None):
     """``lotwise oc --plan "csp1: ..."``: columns ``p``, ``afi``, ``aoq``, ``pa``."""
     _refuse(plan.scheme, unused)
     _model(model)
@@ -183,7 +183,7 @@ def oc_cmd(plan, *, max_p, points, at, csv, plot, model, unused, force, as_json)
     out = csp_oc(plan, csp_grid(plan, max_p=max_p, points=points, at=at))
     header, rows, value, where = out["columns"], out["rows"], out["aoql"], out["aoql_p"]
     if csv is not None:
-        common.write_csv(csv, header, rows, force=force)
+        common.write_csv(csv, header, rows, force=force, style=style)
     if as_json:
         common.emit_json(out)
     elif csv != "-":

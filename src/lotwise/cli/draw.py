@@ -98,7 +98,9 @@ def draw(
         None, "--strata",
         help='"cartons=40" (40 equal consecutive strata) or "cartons=120,120,80" (sizes).'),
     csv: Optional[str] = typer.Option(
-        None, "--csv", help="Write the pick list as CSV to PATH, or - for stdout."),
+        None, "--csv", help="Write the pick list as CSV to PATH (a workbook when PATH ends in .xlsx), or - for stdout."),
+    csv_sep: Optional[str] = common.CSV_SEP,
+    decimal_comma: bool = common.DECIMAL_COMMA,
     plan: Optional[str] = typer.Option(
         None, "--plan", help='Pull the most units this plan may inspect: notation ("n=80,c=2", '
                              'with --lot-size) or plans/part.toml#M1 (lot size, seed and strata '
@@ -124,15 +126,16 @@ def draw(
     if csv == "-" and as_json:
         raise InputError("--csv (-) cannot be combined with --json: both would write to "
                          "stdout; give --csv a file name")
+    style = common.csv_output(csv_sep, decimal_comma, csv)
     common.outputs(force, ("--csv", csv))  # refuse before drawing
     d = draw_units(lot_size=N, n=nn, seed=seed, strata=strata)
     if csv is not None:
-        if csv == "-":
-            typer.echo(d.to_csv(), nl=False)
-        else:
-            from lotwise.data.files import write_text
+        from lotwise.data.tables import write_rows
 
-            write_text(csv, d.to_csv(), force=force, option="--csv")
+        header, rows = d.table()
+        text = write_rows(csv, header, rows, style=style, force=force, option="--csv", cell=str)
+        if text is not None:
+            typer.echo(text, nl=False)
     if as_json:
         common.emit_json(d.as_dict())
     elif csv != "-":

@@ -1,7 +1,8 @@
 """``lotwise judge``: sentence one lot of a variables plan from its measurements.
 
 Measurements file (``lotwise judge ... FILE``): plain text or CSV with one
-column of numbers, one per line, decimal point ``.``; an optional header on
+column of numbers, one per line, decimal point ``.`` (or a decimal comma ``,``
+throughout, see :func:`lotwise.data.csvio.measurement_file`); an optional header on
 the first line (any text that is not a number); blank lines at the end are
 ignored. Rows are counted as lines of the file, the header being row 1. A
 blank line or ``NA``/``nan`` before the end is a missing value and is
@@ -22,6 +23,7 @@ malformed input (one line on stderr naming the file row or the option).
 from __future__ import annotations
 
 import math
+import sys
 from typing import Optional
 
 import typer
@@ -94,9 +96,12 @@ def judge(
     if values is not None:
         xs, source = parse_values(values), "--values"
     else:
-        from lotwise.data.csvio import read_measurements
+        from lotwise.data.csvio import measurement_file
 
-        xs, source = read_measurements(measurements), measurements
+        xs, note = measurement_file(measurements)
+        source = measurements
+        if note:
+            print(f"lotwise: note: {note}", file=sys.stderr)
     if len(xs) != p.n:
         where = "--values" if values is not None else f"measurements ({measurements})"
         raise InputError(f"{where} holds {len(xs)} values; the plan needs n = {p.n}")

@@ -22,7 +22,9 @@ def oc_table(
     at: Optional[List[str]] = typer.Option(None, "--at", help="Evaluate at these levels instead of a grid (repeatable, or comma-separated)."),
     aql: Optional[str] = typer.Option(None, "--aql", help="Mark the AQL on the plot."),
     rql: Optional[str] = typer.Option(None, "--rql", help="Mark the RQL on the plot."),
-    csv: Optional[str] = typer.Option(None, "--csv", help="Write the table as CSV to PATH, or - for stdout."),
+    csv: Optional[str] = typer.Option(None, "--csv", help="Write the table as CSV to PATH (a workbook when PATH ends in .xlsx), or - for stdout."),
+    csv_sep: Optional[str] = common.CSV_SEP,
+    decimal_comma: bool = common.DECIMAL_COMMA,
     plot: Optional[str] = typer.Option(None, "--plot", help="Draw the OC curve to PATH.png or PATH.svg."),
     force: bool = typer.Option(False, "--force", help="Overwrite files not written by lotwise."),
     miss_rate: Optional[str] = common.MISS_RATE,
@@ -37,13 +39,14 @@ def oc_table(
     from lotwise.analysis.outputs import attribute_oc
 
     p = common.plan_from(plan, n, c)
+    style = common.csv_output(csv_sep, decimal_comma, csv)
     rates = common.error_rates(miss_rate, false_alarm, study)
     gauge = common.gauge_args(measurement_sd, sigma_is, process_sd)
     if p.evaluation == "flow":  # continuous sampling: AFI, AOQ and pa per produced unit
         from .csp import oc_cmd as flow_oc
 
         return flow_oc(p, max_p=max_p, points=points, at=at, csv=csv, plot=plot, model=model,
-                       force=force, as_json=as_json,
+                       force=force, as_json=as_json, style=style,
                        unused={"--lot-size": lot, "--per-unit": per_unit, "--aql": aql,
                                "--rql": rql, "--miss-rate": miss_rate,
                                "--false-alarm": false_alarm, "--study": study})
@@ -53,7 +56,7 @@ def oc_table(
         from .variables import oc_cmd as process_oc
 
         return process_oc(common.with_gauge(p, gauge), max_p=max_p, points=points, at=at, aql=aql, rql=rql, csv=csv,
-                          plot=plot, force=force, as_json=as_json)
+                          plot=plot, force=force, as_json=as_json, style=style)
     common.with_gauge(p, gauge)  # refused: a gauge's error is for variables plans
     scope, mdl = common.scope_and_model(lot, per_unit, model)
     p = p.for_scope(scope)  # checks the scope; a plan may be meant per the scope
@@ -67,7 +70,7 @@ def oc_table(
 
     with all_or_nothing():  # the table and the figure, or neither
         if csv is not None:
-            common.write_csv(csv, header, rows, force=force)
+            common.write_csv(csv, header, rows, force=force, style=style)
         if plot is not None:
             _plot(p, scope, mdl, a, r, ps, plot, force)
     if as_json:

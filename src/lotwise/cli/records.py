@@ -26,6 +26,8 @@ def load(path, plans_dir, option="RECORDS"):
         if not Path(plans_dir).is_dir():
             raise InputError(f"--plans ({plans_dir}) is not a folder")
     recs = read_records(path, plans_dir=plans_dir, option=option)
+    if recs.note:
+        print(f"lotwise: note: {recs.note}", file=sys.stderr)
     if not len(recs.frame):  # one line: the first bad row says why
         bad = recs.bad_rows
         why = (f": line {bad[0].line}: {bad[0].reason}"

@@ -183,7 +183,7 @@ def _risks(plan, a, r):
     return float(plan.pa(a, envelope="lower")), float(plan.pa(r, envelope="upper"))
 
 
-def oc_cmd(plan, *, max_p, points, at, aql, rql, csv, plot, force, as_json):
+def oc_cmd(plan, *, max_p, points, at, aql, rql, csv, plot, force, as_json, style=None):
     """``lotwise oc --plan "variables: ..."``: the exact OC table (and plot)."""
     import numpy as np
 
@@ -199,7 +199,7 @@ def oc_cmd(plan, *, max_p, points, at, aql, rql, csv, plot, force, as_json):
 
     with all_or_nothing():  # the table and the figure, or neither
         if csv is not None:
-            common.write_csv(csv, header, rows, force=force)
+            common.write_csv(csv, header, rows, force=force, style=style)
         if plot is not None:
             from lotwise.documents.plots.variables import variables_oc_figure
 

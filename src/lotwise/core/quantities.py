@@ -27,6 +27,7 @@ __all__ = [
     "InputError",
     "Infeasible",
     "parse_fraction",
+    "decimal_comma",
     "parse_level",
     "parse_risk",
     "parse_count",
@@ -55,12 +56,47 @@ class Infeasible(Exception):
 
 
 _NUMBER = r"[+-]?(?:\d+(?:[._]\d+)*(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?"
-_LEVEL_RE = re.compile(rf"^\s*({_NUMBER})\s*(%|ppm|ppb)?\s*$", re.IGNORECASE)
+_LEVEL_RE = re.compile(rf"^\s*({_NUMBER}|[+-]?\d*,\d+(?:[eE][+-]?\d+)?)\s*(%|ppm|ppb)?\s*$",
+                       re.IGNORECASE)
 _SCALE = {None: 1.0, "%": 1e2, "ppm": 1e6, "ppb": 1e9}  # divisors
+#: A number written with a decimal comma: one comma, no dot (``0,65``, ``1,5``, ``,5``).
+_COMMA_NUMBER = re.compile(r"^[+-]?\d*,\d+(?:[eE][+-]?\d+)?$")
+#: The decimal-comma numbers a thousands separator could also have written (``1,500``).
+_THOUSANDS_LIKE = re.compile(r"^[+-]?[1-9]\d{0,2},\d{3}$")
+
+
+def decimal_comma(number: str, unit, name: str, text) -> str:
+    """``number`` (the digits of a level or risk, its unit apart) with a decimal
+    comma turned into a point, when the comma can only be a decimal comma.
+
+    The rule: a number holding one comma and no dot has a decimal comma
+    (``0,65%``, ``1,5 %``, ``0,01``). ``1,500`` could also be one thousand five
+    hundred; with ``%`` or without a unit that reading is never a level or a risk
+    (1,500 % or 1500 as a fraction), so the comma is decimal; with ``ppm`` or ``ppb``
+    both readings are levels and the text is refused. Counts never take a
+    decimal comma (:func:`parse_count` reads ``1,000`` as one thousand).
+
+    >>> decimal_comma("0,65", "%", "--aql", "0,65%")
+    '0.65'
+    >>> decimal_comma("1,500", "ppm", "--aql", "1,500ppm")
+    Traceback (most recent call last):
+    ...
+    lotwise.core.quantities.InputError: --aql ('1,500ppm') is ambiguous: 1.500 ppm with a decimal comma or 1500 ppm with a thousands separator; write 1.5ppm or 1500ppm
+    """
+    if "," not in number or not _COMMA_NUMBER.match(number):
+        return number
+    if unit in ("ppm", "ppb") and _THOUSANDS_LIKE.match(number):
+        whole = number.replace(",", "")
+        raise InputError(f"{name} ({text!r}) is ambiguous: {number.replace(',', '.')} {unit} "
+                         f"with a decimal comma or {whole} {unit} with a thousands "
+                         f"separator; write {float(number.replace(',', '.')):g}{unit} or "
+                         f"{whole}{unit}")
+    return number.replace(",", ".")
 
 
 def parse_fraction(text, name: str) -> float:
-    """Read ``0.01``, ``1%``, ``1.5 %``, ``250ppm`` or ``5ppb`` as a float.
+    """Read ``0.01``, ``1%``, ``1.5 %``, ``250ppm`` or ``5ppb`` as a float; a
+    decimal comma (``0,65%``) is read as :func:`decimal_comma` says.
 
     No range check: see :func:`parse_level` and :func:`parse_risk`.
     """
@@ -72,8 +108,8 @@ def parse_fraction(text, name: str) -> float:
         m = _LEVEL_RE.match(str(text))
         if not m:
             raise InputError(f"{name} ({text!r}) must be a number such as 0.01, 1% or 250ppm")
-        number = m.group(1).replace("_", "")
         unit = m.group(2).lower() if m.group(2) else None
+        number = decimal_comma(m.group(1), unit, name, text).replace("_", "")
         try:
             value = float(number) / _SCALE[unit]  # 95% -> 0.95 exactly, not 0.9500000000000001
         except ValueError:  # 1.2.3: digits and dots, but not one number

@@ -178,13 +178,17 @@ class BatchResult:
     dropped_columns: tuple = field(default_factory=tuple)
     classes: object = field(default=None, repr=False)
 
-    def csv_chunks(self, table=None):
+    def csv_chunks(self, table=None, style=None):
         """The CSV text of ``table`` (default :attr:`table`; the same rows,
         columns possibly re-typed) in pieces, the plan columns formatted
-        once per distinct design (:func:`lotwise.data.csvwrite.csv_chunks`)."""
+        once per distinct design (:func:`lotwise.data.csvwrite.csv_chunks`);
+        ``style`` (a :class:`lotwise.data.tables.CsvStyle`) sets the separator
+        and decimal mark."""
         from lotwise.data.csvwrite import csv_chunks
 
-        return csv_chunks(self.table if table is None else table, classes=self.classes)
+        sep, dec = (",", ".") if style is None else (style.sep, style.decimal)
+        return csv_chunks(self.table if table is None else table, classes=self.classes,
+                          sep=sep, decimal=dec)
 
     def errors(self, lines) -> list:
         """The rows not designed as ``{"line", "part", "error"}`` dicts, in
@@ -204,13 +208,14 @@ class BatchResult:
 
 
 def read_catalogue(path, option: str = "CATALOGUE"):
-    """Read a catalogue CSV into a DataFrame of text (all columns as written,
-    names normalised; categorical columns, one code per cell) plus ``_line``
-    (the line each row starts on) and ``_shape`` (a problem with the row's
-    field count, or '')."""
+    """Read a catalogue (CSV, or an ``.xlsx`` workbook) into a DataFrame of
+    text (all columns as written, names normalised, numbers with decimal
+    points; categorical columns, one code per cell) plus ``_line`` (the line
+    each row starts on) and ``_shape`` (a problem with the row's field count,
+    or ''); ``attrs["note"]`` says how a file not in plain CSV was read."""
     from lotwise.data.csvio import read_columns
 
-    t = read_columns(path, option)
+    t = read_columns(path, option, keep=("part",))
     if "defects" in t.header:
         raise InputError(f"{option} ({t.source}) has the column defects, which was renamed "
                          f"per_unit (nonconformities per unit); rename the column")
@@ -218,7 +223,9 @@ def read_catalogue(path, option: str = "CATALOGUE"):
     if missing:
         raise InputError(f"{option} ({t.source}) lacks the column(s) {', '.join(missing)}; "
                          f"required: {', '.join(REQUIRED)}")
-    return catalogue_frame(t)
+    df = catalogue_frame(t)
+    df.attrs["note"] = t.note  # how the file was read ('' for plain CSV)
+    return df
 
 
 def catalogue_frame(t):

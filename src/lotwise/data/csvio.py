@@ -24,6 +24,7 @@ from __future__ import annotations
 import csv
 import math
 import io
+import re
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -32,7 +33,8 @@ import numpy as np
 from lotwise.core.quantities import InputError
 
 __all__ = ["Row", "Table", "Columns", "read_table", "read_columns", "read_measurements",
-           "normalise_name", "decode_text", "detect_delimiter", "MISSING"]
+           "normalise_name", "decode_text", "detect_delimiter", "decimal_commas",
+           "measurement_file", "MISSING"]
 
 #: Cells read as "no value" in a measurements file.
 MISSING = {"", "na", "n/a", "nan", "null", "none", "-", "?"}
@@ -61,6 +63,8 @@ class Table:
     fields: list
     lines: list
     problems: dict
+    delimiter: str = ","
+    decimal: str = "."
 
     @property
     def rows(self) -> list:
@@ -117,8 +121,14 @@ def read_table(path, option: str) -> Table:
     """Read ``path`` (a file name or an open text stream) into a :class:`Table`.
 
     Raises :class:`InputError` naming ``option`` when the file cannot be read,
-    is empty, or its header repeats a column.
+    is empty, or its header repeats a column. A file named ``*.xlsx`` is read
+    as a workbook (:func:`lotwise.data.xlsx.sheet_rows`): its first sheet, lines
+    being the sheet's row numbers.
     """
+    from lotwise.data.xlsx import is_xlsx
+
+    if is_xlsx(path):
+        return _xlsx_table(path, option)
     if hasattr(path, "read"):
         text = path.read()
         source = option
@@ -164,17 +174,45 @@ def read_table(path, option: str) -> Table:
                          f"{reader.line_num}: {exc}") from None
     if header is None:
         raise InputError(f"{option} ({source}) is empty: it needs a header line and data rows")
+    names = _checked_names(header, source, option, f"line {header_line}")
+    return Table(source=source, raw_header=header, header=names, fields=fields_out, lines=lines,
+                 problems=problems, delimiter=delimiter)
+
+
+def _xlsx_table(path, option: str) -> Table:
+    """The first sheet of a workbook as a :class:`Table` (header: its first
+    non-blank row; a row with a cell right of the header's last is a problem)."""
+    from lotwise.data.xlsx import sheet_rows
+
+    source, rows = sheet_rows(path, option)
+    if not rows:
+        raise InputError(f"{option} ({source}) is empty: it needs a header row and data rows")
+    header_line, header = rows[0]
+    header = [h.strip() for h in header]
+    width = len(header)
+    fields_out, lines, problems = [], [], {}
+    for line, cells in rows[1:]:
+        if len(cells) > width:
+            problems[len(fields_out)] = f"has {len(cells)} field(s), the header has {width}"
+        fields_out.append((cells + [""] * width)[:width])
+        lines.append(line)
+    names = _checked_names(header, source, option, f"row {header_line}")
+    return Table(source=source, raw_header=header, header=names, fields=fields_out,
+                 lines=lines, problems=problems, delimiter="", decimal="")
+
+
+def _checked_names(header, source, option, where) -> list:
+    """The normalised column names, refusing an unnamed or repeated column."""
     names = [normalise_name(h) for h in header]
     seen = set()
     for raw_name, name in zip(header, names):
         if not name:
             raise InputError(f"{option} ({source}) has an unnamed column in its header "
-                             f"(line {header_line})")
+                             f"({where})")
         if name in seen:
             raise InputError(f"{option} ({source}) names the column {raw_name!r} twice")
         seen.add(name)
-    return Table(source=source, raw_header=header, header=names, fields=fields_out, lines=lines,
-                 problems=problems)
+    return names
 
 
 # --- whole columns, for large files ----------------------------------------------
@@ -192,9 +230,25 @@ class Columns:
     data: dict
     lines: object
     problems: dict
+    delimiter: str = ","
+    decimal: str = "."
+    example: str = ""
 
     def __len__(self) -> int:
         return int(self.lines.size)
+
+    @property
+    def note(self) -> str:
+        """How the file was read, when not as a plain comma-separated CSV file
+        with decimal points ('' then): the separator, and the decimal comma
+        with one cell as read."""
+        if self.delimiter in ("", ","):
+            return ""
+        sep = "semicolons" if self.delimiter == ";" else "tabs"
+        mark = (f"; numbers with a decimal comma ({self.example!r} read as "
+                f"{_normalised(self.example)!r})" if self.decimal == "," else
+                "; numbers with a decimal point")
+        return f"{self.source}: fields separated by {sep}{mark}"
 
     def factor(self, name: str):
         """``(codes, texts)``: column ``name`` as integer codes into an object
@@ -218,24 +272,122 @@ class Columns:
         data = {h: pd.Categorical(np.asarray(c, dtype=object) if c else
                                   np.zeros(0, dtype=object)) for h, c in zip(t.header, cols)}
         return cls(source=t.source, raw_header=t.raw_header, header=t.header, data=data,
-                   lines=np.asarray(t.lines, dtype=np.int64), problems=dict(t.problems))
+                   lines=np.asarray(t.lines, dtype=np.int64), problems=dict(t.problems),
+                   delimiter=t.delimiter, decimal=t.decimal)
 
 
-def read_columns(path, option: str) -> Columns:
+def read_columns(path, option: str, *, keep=()) -> Columns:
     """Read ``path`` as :func:`read_table` does (same rows, line numbers,
     problems and errors), into :class:`Columns`.
 
     A file (not a stream) with plain quoting (quotes only around whole
     fields, no line end inside quotes) and plain line ends is read by the
     pandas C reader (every line one row, its fields counted on the raw
-    bytes); anything else goes through :func:`read_table`.
+    bytes); anything else goes through :func:`read_table`. A file separated
+    by semicolons or tabs may write its numbers with a decimal comma; they
+    are then read as :func:`decimal_commas` says (the columns named in
+    ``keep``, names and identifiers, are left as written).
     """
+    from lotwise.data.xlsx import is_xlsx
+
     cols = None
-    if not hasattr(path, "read"):
+    if not hasattr(path, "read") and not is_xlsx(path):
         cols = _fast_columns(_raw_bytes(path, option), path, str(Path(path)))
     if cols is None:
         cols = Columns.of(read_table(path, option))
-    return cols
+    return decimal_commas(cols, option, keep=keep)
+
+
+# --- decimal commas ---------------------------------------------------------------
+
+_UNIT = r"(?:\s*(?:%|ppm|ppb))?"
+#: A number whose comma can only be a decimal comma: ``0,65``, ``2,5``, ``,5``,
+#: ``1.234,5`` (thousands dots), ``12,5`` -- but not ``1,500``, which a
+#: thousands separator could have written.
+_COMMA_DECISIVE = re.compile(
+    rf"^[+-]?(?:\d{{1,3}}(?:\.\d{{3}})+,\d+|0?,\d+|\d+,(?!\d{{3}}{_UNIT}$)\d+|0\d*,\d+)"
+    rf"{_UNIT}$", re.IGNORECASE)
+#: A number whose point can only be a decimal point: ``0.65``, ``2.5``, ``1,234.5``
+#: -- but not ``1.500``, which a thousands separator could have written.
+_POINT_DECISIVE = re.compile(
+    rf"^[+-]?(?:\d{{1,3}}(?:,\d{{3}})+\.\d+|0?\.\d+|\d+\.(?!\d{{3}}{_UNIT}$)\d+|0\d*\.\d+)"
+    rf"(?:[eE][+-]?\d+)?{_UNIT}$", re.IGNORECASE)
+#: A whole number written with thousands dots (``200.000``, ``1.060``).
+_THOUSAND_DOTS = re.compile(r"^[+-]?[1-9]\d{0,2}(?:\.\d{3})+$")
+#: Numbers rewritten in a decimal-comma file: a decimal comma, thousands dots or both.
+_COMMA_NUMBER = re.compile(rf"^(\s*[+-]?)(\d{{1,3}}(?:\.\d{{3}})+|\d*)(?:,(\d+))?({_UNIT}\s*)$",
+                           re.IGNORECASE)
+
+
+def _normalised(text: str) -> str:
+    """A cell of a decimal-comma file as a decimal-point cell: ``0,65%`` ->
+    ``0.65%``, ``1.060`` -> ``1060``, ``1.234,5`` -> ``1234.5``; other text as is."""
+    m = _COMMA_NUMBER.match(text)
+    if not m or (m.group(3) is None and "." not in m.group(2)) or not (m.group(2) or m.group(3)):
+        return text
+    whole = m.group(2).replace(".", "")
+    return m.group(1) + whole + ("." + m.group(3) if m.group(3) is not None else "") + m.group(4)
+
+
+def decimal_commas(cols: Columns, option: str, *, keep=()) -> Columns:
+    """``cols`` with its numbers written with decimal points when the file
+    writes them with decimal commas.
+
+    The rule (one decision for the whole file): only a file separated by
+    semicolons or tabs may use decimal commas. It does when one of its cells
+    (outside ``keep``) is a number whose comma can only be a decimal comma
+    (``0,65%``, ``2,5``; not ``1,500``, which may be one thousand five hundred)
+    and none is a number whose point can only be a decimal point (``0.65%``);
+    both at once is refused, naming one of each. In a decimal-comma file, dots
+    between groups of three digits are thousands separators (``1.060`` is one
+    thousand and sixty); a file separated by semicolons or tabs whose only
+    telling numbers are such (``200.000`` and no ``0.65``) is read so too, as
+    the spreadsheets that write semicolons write thousands. Otherwise cells are left as written: a comma file
+    quotes ``"0,65%"`` (read by :func:`lotwise.core.quantities.parse_fraction`)
+    and ``"1,000"`` (a count, one thousand).
+
+    >>> import io
+    >>> t = read_table(io.StringIO("part;aql;lot_size\\nP-1;0,65%;1.060\\n"), "CATALOGUE")
+    >>> c = decimal_commas(Columns.of(t), "CATALOGUE", keep=("part",))
+    >>> [str(c.data[h][0]) for h in c.header], c.decimal
+    (['P-1', '0.65%', '1060'], ',')
+    """
+    if cols.delimiter not in (";", "\t") or not len(cols):
+        return cols
+    import pandas as pd
+
+    comma = point = dots = ""
+    names = [h for h in cols.header if h not in set(keep)]
+    for h in names:
+        for v in cols.data[h].categories.tolist():
+            v = str(v).strip()
+            if not comma and _COMMA_DECISIVE.match(v):
+                comma = v
+            if not point and _POINT_DECISIVE.match(v):
+                point = v
+            if not dots and _THOUSAND_DOTS.match(v):
+                dots = v
+    if comma and point:
+        raise InputError(f"{option} ({cols.source}) mixes decimal commas ({comma!r}) and "
+                         f"decimal points ({point!r}); write every number one way")
+    if point or not (comma or dots):
+        return cols
+    comma = comma or dots
+    data = dict(cols.data)
+    for h in names:
+        cat = data[h]
+        texts = [str(v) for v in cat.categories.tolist()]
+        new = [_normalised(v.strip()) if _COMMA_NUMBER.match(v) else v for v in texts]
+        if new != texts:
+            codes, uniq = pd.factorize(np.array(new + [""], dtype=object))
+            codes = np.asarray(codes)
+            old = np.asarray(cat.codes)
+            mapped = np.where(old < 0, codes[-1], codes[np.maximum(old, 0)])
+            data[h] = pd.Categorical.from_codes(
+                mapped, categories=pd.Index(np.asarray(uniq, dtype=object), dtype=object))
+    from dataclasses import replace
+
+    return replace(cols, data=data, decimal=",", example=comma)
 
 
 def _raw_bytes(path, option) -> bytes:
@@ -339,7 +491,7 @@ def _fast_columns(raw: bytes, path, source: str):
     data = {name: _categorical(codes[rows], texts) for name, (codes, texts) in
             zip(names, factors)}
     return Columns(source=source, raw_header=header, header=names, data=data,
-                   lines=rows.astype(np.int64) + 1, problems=problems)
+                   lines=rows.astype(np.int64) + 1, problems=problems, delimiter=delim)
 
 
 def _read_factors(path, delim: str, width: int, encoding: str, rows: int = 50_000):
@@ -384,9 +536,25 @@ def _header_problem(names) -> bool:
 
 
 def read_measurements(path: str) -> list[float]:
+    """Numbers from a one-column measurements file (see :func:`measurement_file`)."""
+    return measurement_file(path)[0]
+
+
+_MEASURE_COMMA = re.compile(r"^[+-]?\d*,\d+(?:[eE][+-]?\d+)?$")
+_MEASURE_POINT = re.compile(r"^[+-]?\d*\.\d+(?:[eE][+-]?\d+)?$")
+
+
+def measurement_file(path: str) -> tuple[list[float], str]:
     """Numbers from a one-column measurements file (one number a line, an
-    optional header; the encodings of :func:`decode_text`); refuses a bad row
-    naming it (rows are lines, the header being row 1)."""
+    optional header; the encodings of :func:`decode_text`) and a note saying
+    how it was read ('' for plain decimal points); refuses a bad row naming
+    it (rows are lines, the header being row 1).
+
+    Decimal commas: the file is one column, so a comma between digits can
+    only be a decimal comma (``25,012`` is 25.012) when no number in the file
+    has a decimal point; a file holding both is refused, and thousands
+    separators are not read in measurements.
+    """
     try:
         text = decode_text(Path(path).read_bytes())
     except FileNotFoundError:
@@ -398,6 +566,18 @@ def read_measurements(path: str) -> list[float]:
     lines = text.splitlines()
     while lines and not lines[-1].strip():
         lines.pop()
+    cells = [ln.strip().rstrip(";\t").strip().strip('"').strip("'").strip() for ln in lines]
+    comma = next((c for c in cells if _MEASURE_COMMA.match(c)), "")
+    point = next((c for c in cells if _MEASURE_POINT.match(c)), "")
+    note = ""
+    if comma and point:
+        raise InputError(f"measurements ({path}) mixes decimal commas ({comma!r}) and decimal "
+                         f"points ({point!r}); write every number one way")
+    if comma:
+        lines = [ln.replace(",", ".") if _MEASURE_COMMA.match(c) else ln
+                 for ln, c in zip(lines, cells)]
+        note = (f"measurements ({path}): numbers with a decimal comma ({comma!r} read as "
+                f"{comma.replace(',', '.')})")
     out: list[float] = []
     for i, raw in enumerate(lines, start=1):
         cell = raw.strip()
@@ -424,4 +604,4 @@ def read_measurements(path: str) -> list[float]:
         out.append(v)
     if not out:
         raise InputError(f"measurements ({path}) holds no numbers")
-    return out
+    return out, note

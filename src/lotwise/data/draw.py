@@ -178,11 +178,17 @@ class Draw:
         """The pick list as CSV: a header ``pick,unit,stratum,position`` and one row per unit."""
         buf = io.StringIO()
         w = csv.writer(buf, lineterminator="\n")
-        w.writerow(["pick", "unit", "stratum", "position"])
-        for p in self.picks:
-            w.writerow([p.pick, p.unit, "" if p.stratum is None else p.stratum,
-                        "" if p.position is None else p.position])
+        header, rows = self.table()
+        w.writerow(header)
+        for row in rows:
+            w.writerow(["" if v is None else v for v in row])
         return buf.getvalue()
+
+    def table(self) -> tuple[list, list]:
+        """The pick list as ``(header, rows)``: ``pick, unit, stratum, position``,
+        one row per unit (None where a unit has no stratum)."""
+        return (["pick", "unit", "stratum", "position"],
+                [[p.pick, p.unit, p.stratum, p.position] for p in self.picks])
 
     def as_dict(self) -> dict:
         return {

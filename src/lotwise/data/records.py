@@ -150,12 +150,15 @@ class LotRecords:
         ``plan_key -> plan``.
     bad_rows : list of BadRow
     source : str
+    note : str
+        How the file was read when it is not plain CSV ('' otherwise).
     """
 
     frame: object
     plans: dict
     bad_rows: list
     source: str = "records"
+    note: str = ""  # how a file not in plain CSV was read (separator, decimal comma)
 
     @property
     def rows_read(self) -> int:
@@ -363,20 +366,24 @@ def expected_disposition(plan, lot_size: int, sample_size: int, found: int):
 def read_records(path, *, plans_dir=None, option: str = "RECORDS") -> LotRecords:
     """Read a lot log (see the module's column table).
 
-    ``path`` is a file name or an open text stream. Bad rows are collected
+    ``path`` is a file name (CSV, or an ``.xlsx`` workbook) or an open text
+    stream. Bad rows are collected
     in ``bad_rows``, never raised; a file that cannot be read or lacks a
     required column raises :class:`InputError`.
     """
     from lotwise.data.csvio import read_columns
 
-    t = read_columns(path, option)
+    t = read_columns(path, option, keep=("supplier", "part", "lot_id", "plan", "plan_file",
+                                          "date", "disposition"))
     missing = [c for c in REQUIRED if c not in t.header]
     if "plan" not in t.header and "plan_file" not in t.header:
         missing.append("plan (or plan_file)")
     if missing:
         raise InputError(f"{option} ({t.source}) lacks the column(s) {', '.join(missing)}; "
                          f"required: {', '.join(REQUIRED)} and plan or plan_file")
-    return records_frame(t, plans_dir=plans_dir)
+    from dataclasses import replace
+
+    return replace(records_frame(t, plans_dir=plans_dir), note=t.note)
 
 
 class _Cells:
