@@ -23,6 +23,11 @@ request) it is ``Beta(x + 1/2, m - x + 1/2)``.
   a predictive interval (the number rejected is binomial given ``p``,
   mixed over the posterior).
 
+The run rules (:func:`side_runs`, :func:`monotone_runs`) look for a shift or a
+trend in a supplier's lot history, as ``lotwise records`` applies them; with
+:func:`run_p_value` and :func:`trend_p_value` they say how often a stable
+process would show as much.
+
 :func:`tradeoff` designs a grid of candidate AQL/RQL pairs and shows both
 sides the price of tighter targets: the sample size (the buyer's cost), the
 consumer's risk the plan really gives (the buyer's protection) and the
@@ -78,7 +83,8 @@ from lotwise.core.types import Scope
 from lotwise.core.quantities import InputError, Infeasible, parse_level
 
 __all__ = ["PRIORS", "Posterior", "Outlook", "rejection_outlook", "rejection_at",
-           "parse_levels", "TradeoffRow", "tradeoff"]
+           "parse_levels", "TradeoffRow", "tradeoff", "RUN_LENGTH", "TREND_LENGTH", "RUN_RULES",
+           "side_runs", "monotone_runs", "side_probabilities", "run_p_value", "trend_p_value"]
 
 #: Priors by name: ``name -> (a0, b0, description)``.
 PRIORS = {
@@ -425,3 +431,128 @@ def tradeoff(aqls, rqls, *, alpha: float = 0.05, beta: float = 0.10,
                                 beta_actual=risk.beta, p_reject=pr, p_reject_predictive=pp,
                                 rejected_per_year=per_year, full_inspection=d.full_inspection))
     return rows
+
+
+# --- run rules: shifts and trends in a lot history ------------------------------------
+
+#: Lots in a row on one side of the centre line that make a run signal.
+RUN_LENGTH = 8
+#: Lots in a row each above (or each below) the one before that make a trend signal.
+TREND_LENGTH = 6
+#: The run rules by key (common practice, no source).
+RUN_RULES = {
+    "run": f"{RUN_LENGTH} or more lots in a row on one side of the centre line",
+    "trend": f"{TREND_LENGTH} or more lots in a row each rising, or each falling",
+}
+
+
+def _stretches(code, group, minimum: int):
+    """Maximal stretches of equal non-zero ``code`` within a ``group`` (both
+    arrays in the order of the lots, each group contiguous): ``(start, length,
+    sign)`` of those at least ``minimum`` long."""
+    code = np.asarray(code, dtype=np.int8)
+    group = np.asarray(group)
+    m = code.size
+    if m == 0:
+        empty = np.zeros(0, dtype=np.int64)
+        return empty, empty, empty.astype(np.int8)
+    new = np.ones(m, dtype=bool)
+    new[1:] = (code[1:] != code[:-1]) | (group[1:] != group[:-1])
+    starts = np.flatnonzero(new)
+    lengths = np.diff(np.r_[starts, m])
+    keep = (code[starts] != 0) & (lengths >= minimum)
+    return starts[keep], lengths[keep], code[starts[keep]]
+
+
+def side_runs(found, sample, centre, group, minimum: int = RUN_LENGTH):
+    """Runs of lots on one side of the centre line.
+
+    Lot ``i`` lies above the line when its fraction ``found / sample`` exceeds
+    ``centre`` (the group's process average), below when it falls short; a
+    lot on the line ends a run. Returns ``(start, length, side)`` of every run
+    of at least ``minimum`` lots (``side`` +1 above, -1 below), indices into
+    the lots.
+
+    >>> s, n, side = side_runs([0, 3, 4, 5, 6, 5, 4, 3, 3, 0], [80] * 10, 0.03, [0] * 10,
+    ...                        minimum=8)
+    >>> s.tolist(), n.tolist(), side.tolist()
+    ([1], [8], [1])
+    """
+    found = np.asarray(found, dtype=float)
+    sample = np.asarray(sample, dtype=float)
+    expected = np.asarray(centre, dtype=float) * sample
+    tol = 1e-9 * np.maximum(expected, 1.0)
+    side = np.where(found > expected + tol, 1, np.where(found < expected - tol, -1, 0))
+    return _stretches(side, group, minimum)
+
+
+def monotone_runs(values, group, minimum: int = TREND_LENGTH):
+    """Lots in a row each strictly above (or below) the one before: ``(start,
+    length, direction)`` of every such stretch of at least ``minimum`` lots
+    (``direction`` +1 rising, -1 falling); a tie ends a stretch.
+
+    >>> s, n, d = monotone_runs([0.01, 0.0, 0.01, 0.02, 0.03, 0.04, 0.05, 0.0], [0] * 8)
+    >>> s.tolist(), n.tolist(), d.tolist()
+    ([1], [6], [1])
+    """
+    values = np.asarray(values, dtype=float)
+    group = np.asarray(group)
+    if values.size < 2:
+        empty = np.zeros(0, dtype=np.int64)
+        return empty, empty, empty.astype(np.int8)
+    step = np.sign(np.diff(values)).astype(np.int8)
+    step[group[1:] != group[:-1]] = 0  # no step across groups
+    starts, lengths, direction = _stretches(step, group[1:], max(minimum - 1, 1))
+    return starts, lengths + 1, direction  # k steps join k + 1 lots
+
+
+def side_probabilities(sample, centre):
+    """``(below, above)``: the probability that a lot of ``sample`` units from a
+    stable process at ``centre`` lies below (above) the centre line, its count
+    being binomial."""
+    n = np.asarray(sample, dtype=float)
+    p = float(centre)
+    mean = p * n
+    tol = 1e-9 * np.maximum(mean, 1.0)
+    below_max = np.ceil(mean - tol) - 1.0  # largest count below the line
+    at_most = np.floor(mean + tol)          # largest count not above it
+    below = np.where(below_max < 0, 0.0, oc.pa_binomial(n, np.maximum(below_max, 0.0), p))
+    above = 1.0 - np.asarray(oc.pa_binomial(n, np.minimum(at_most, n), p), dtype=float)
+    return np.clip(below, 0.0, 1.0), np.clip(above, 0.0, 1.0)
+
+
+def run_p_value(below, above, length: int) -> float:
+    """An upper bound on the probability that a stable process shows a run of
+    ``length`` or more lots on one side of its centre line anywhere in a
+    history whose lots lie below (above) the line with probabilities
+    ``below`` (``above``): the sum over every starting lot and side of the
+    probability that the ``length`` lots from there all lie on that side
+    (Boole's inequality; close to exact when small).
+
+    >>> round(run_p_value([0.5] * 8, [0.5] * 8, 8), 9)  # 2 * 0.5**8
+    0.0078125
+    """
+    total = 0.0
+    for q in (np.asarray(below, dtype=float), np.asarray(above, dtype=float)):
+        if q.size < length:
+            continue
+        with np.errstate(divide="ignore"):
+            s = np.r_[0.0, np.cumsum(np.log(q))]
+        w = s[length:] - s[:-length]
+        total += float(np.sum(np.exp(w[np.isfinite(w)])))
+    return min(1.0, total)
+
+
+def trend_p_value(lots: int, length: int) -> float:
+    """An upper bound on the probability that ``lots`` lots of a stable process
+    hold ``length`` or more in a row each rising, or each falling: each of the
+    ``lots - length + 1`` windows is strictly rising with probability at most
+    ``1 / length!`` when the lots' fractions are exchangeable (lots of one
+    sample size; ties only lower it), either way twice that (Boole's inequality).
+
+    >>> round(trend_p_value(60, 6), 4)  # 2 * 55 / 720
+    0.1528
+    """
+    if lots < length:
+        return 0.0
+    return min(1.0, 2.0 * (lots - length + 1) / math.factorial(length))

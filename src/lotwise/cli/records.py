@@ -91,6 +91,7 @@ def records(
     "n=80,c=2") or plan_file, disposition (accept/reject); lot_id optional.
     Bad rows are reported by line on stderr and skipped.
     """
+    from lotwise.analysis.supplier import RUN_RULES
     from lotwise.data.records import LIMIT_TAIL, summarise
 
     conf = float(f"{parse_risk(confidence, '--confidence'):.12g}")
@@ -130,6 +131,11 @@ def records(
                f"Clopper-Pearson interval; OC expects: the plans' type B acceptance "
                f"probability at that average; run-chart limits: exact binomial, "
                f"{100 * LIMIT_TAIL:.3g} % each side.")
+    typer.echo(f"  run rules (common practice, no source): {RUN_RULES['run']}; "
+               f"{RUN_RULES['trend']}. A signal counts against consistency when a stable "
+               f"process at the process average shows as much with probability below "
+               f"{sig:.3g} (a bound; a long history shows short runs by chance).")
+    _lot_lists(s.groups)
     odd = [g for g in s.groups if not g.consistent]
     if odd:
         typer.echo("")
@@ -151,6 +157,32 @@ def records(
         more = f" (the {shown} groups with most lots; choose with --supplier/--part)" \
             if len(s.groups) > 8 else ""
         typer.echo(f"  wrote {plot}{more}")
+
+
+def _lot_lists(groups, shown: int = 20) -> None:
+    """The lots beyond the limits and the run-rule signals, by line, lot id and date."""
+    from lotwise.data.records import signal_text
+
+    beyond = [(g, b) for g in groups for b in g.beyond_limits]
+    if beyond:
+        typer.echo("")
+        typer.echo(f"  Lots beyond the limits ({len(beyond)}):")
+        for g, b in beyond[:shown]:
+            lot = f" lot {b['lot_id']}" if b["lot_id"] else ""
+            typer.echo(f"  - line {b['line']}: {g.supplier} / {g.part}{lot}, {b['date']}: "
+                       f"{b['found']} found in {b['sample_size']} (limits {b['lower']} to "
+                       f"{b['upper']})")
+        if len(beyond) > shown:
+            typer.echo(f"  ... and {len(beyond) - shown} more (see --json)")
+    signals = [(g, x) for g in groups for x in g.signals]
+    if signals:
+        typer.echo("")
+        typer.echo(f"  Run-rule signals ({len(signals)}; * counts against consistency):")
+        for g, x in signals[:shown]:
+            mark = "*" if x["counts"] else " "
+            typer.echo(f"  {mark} {g.supplier} / {g.part}: {signal_text(x)}")
+        if len(signals) > shown:
+            typer.echo(f"  ... and {len(signals) - shown} more (see --json)")
 
 
 def posterior_from(records_path, supplier, part, plans, prior):

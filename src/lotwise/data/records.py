@@ -596,6 +596,9 @@ class GroupSummary:
     sample_deviations: int
     unchecked: int
     chart: object = None  # DataFrame of the run chart (date order)
+    oc_consistent: bool | None = None  # the OC cross-check alone (None: as consistent)
+    signals: list = field(default_factory=list)
+    beyond_limits: list = field(default_factory=list)
 
     @property
     def rejected(self) -> int:
@@ -618,12 +621,20 @@ class GroupSummary:
             what, prob = f"{self.accepted} or fewer", low
         else:
             what, prob = f"{self.accepted} or more", high
-        verdict = "consistent with" if self.consistent else "NOT consistent with"
-        return (f"{self.supplier} / {self.part}: {self.accepted} of {self.lots} lots accepted "
+        oc_ok = self.consistent if self.oc_consistent is None else self.oc_consistent
+        verdict = "consistent with" if oc_ok else "NOT consistent with"
+        text = (f"{self.supplier} / {self.part}: {self.accepted} of {self.lots} lots accepted "
                 f"({format_pct(self.acceptance_rate)}); the plans' OC at the process average "
                 f"{format_pct(self.process_average)} expects {format_pct(self.expected_acceptance_rate)}. "
                 f"Seeing {what} accepted lots has probability {_prob(prob)} "
                 f"(two-sided {_prob(self.two_sided)}): {verdict} the OC curve.")
+        counted = [g for g in self.signals if g["counts"]]
+        if counted:
+            text += (" The history shifted or drifted: " + "; ".join(
+                signal_text(g) for g in counted[:3])
+                + (f"; and {len(counted) - 3} more" if len(counted) > 3 else "")
+                + ", so no single process average describes it.")
+        return text
 
     def as_dict(self) -> dict:
         return {
@@ -638,7 +649,12 @@ class GroupSummary:
                          "expected_accepted": self.expected_accepted,
                          "p_at_most_observed": self.tails[0],
                          "p_at_least_observed": self.tails[1],
-                         "two_sided": self.two_sided, "consistent": self.consistent},
+                         "two_sided": self.two_sided,
+                         "consistent": self.consistent if self.oc_consistent is None
+                         else self.oc_consistent},
+            "consistent": self.consistent,
+            "signals": self.signals,
+            "beyond_limits": self.beyond_limits,
             "plans": self.plans,
             "first_date": self.first_date, "last_date": self.last_date,
             "out_of_limits": self.out_of_limits,
@@ -646,6 +662,18 @@ class GroupSummary:
             "sample_deviations": self.sample_deviations,
             "dispositions_unchecked": self.unchecked,
         }
+
+
+def signal_text(sig: dict) -> str:
+    """One run-rule signal in words: its lots (lot ids, else lines), what they
+    did and how often a stable process does as much."""
+    lots = sig["lots"]
+    name = lambda x: x["lot_id"] or f"line {x['line']}"  # noqa: E731
+    span = f"{name(lots[0])} to {name(lots[-1])} ({lots[0]['date']} to {lots[-1]['date']})"
+    what = {"above": "above the centre line", "below": "below the centre line",
+            "rising": "each rising", "falling": "each falling"}[sig["direction"]]
+    return (f"{sig['length']} lots in a row {what}, {span}; a stable process shows as much "
+            f"with probability at most {_prob(sig['p_value'])}")
 
 
 def _prob(p: float) -> str:
@@ -720,6 +748,10 @@ def summarise(records: LotRecords, *, confidence: float = 0.95,
     l_cnt, u_cnt = _run_chart_limits(lots, gid, stats["p"])
     out = (lots.found < l_cnt) | (lots.found > u_cnt)
     counts["out"] = np.bincount(gid, weights=out, minlength=G).astype(np.int64)
+    signals, in_signal = _run_signals(df, lots, gid, stats["p"], significance)
+    beyond = _lot_list(df, np.flatnonzero(out), gid[out], extra=lambda i: {
+        "found": int(lots.found[i]), "sample_size": int(lots.sample[i]),
+        "lower": int(l_cnt[i]), "upper": int(u_cnt[i])})
     first = np.flatnonzero(np.r_[True, gid[1:] != gid[:-1]])
     last = np.r_[first[1:] - 1, len(df) - 1]
     dates = df["date"].dt.strftime("%Y-%m-%d").to_numpy()[np.r_[first, last]]
@@ -733,10 +765,13 @@ def summarise(records: LotRecords, *, confidence: float = 0.95,
             s = lots.sample[a:b]
             chart = {"line": df["line"].to_numpy()[a:b], "fraction": lots.found[a:b] / s,
                      "lower": l_cnt[a:b] / s, "upper": u_cnt[a:b] / s,
-                     "out": out[a:b], "accepted": lots.accepted[a:b]}
+                     "out": out[a:b], "accepted": lots.accepted[a:b],
+                     "lot_id": df["lot_id"].to_numpy()[a:b],
+                     "date": df["date"].to_numpy()[a:b], "signal": in_signal[a:b]}
         groups.append(_group_summary(g, names, stats, counts, pairs, pkeys, plans,
                                      confidence=confidence, significance=significance,
-                                     chart=chart))
+                                     chart=chart, signals=signals.get(g, []),
+                                     beyond=beyond.get(g, [])))
     return RecordsSummary(groups=groups, findings=findings, rows_used=len(df), **done)
 
 
@@ -886,8 +921,76 @@ def _run_chart_limits(lots: _Lots, gid, p):
     return np.atleast_1d(l_u)[gs_inv], np.atleast_1d(u_u)[gs_inv]
 
 
+def _lot_list(df, idx, keys, extra=None) -> dict:
+    """Lots ``idx`` (indices into the sorted records) as ``{key: [{"line",
+    "lot_id", "date", ...}]}``, ``keys[k]`` being the key of lot ``idx[k]``;
+    each list in the order of ``idx``."""
+    out: dict = {}
+    if not len(idx):
+        return out
+    lines = df["line"].to_numpy()[idx]
+    ids = df["lot_id"].to_numpy()[idx]
+    dates = df["date"].iloc[idx].dt.strftime("%Y-%m-%d").to_numpy()
+    for k, i in enumerate(np.asarray(idx).tolist()):
+        item = {"line": int(lines[k]), "lot_id": str(ids[k]), "date": str(dates[k])}
+        if extra is not None:
+            item.update(extra(i))
+        out.setdefault(int(keys[k]), []).append(item)
+    return out
+
+
+def _run_signals(df, lots: _Lots, gid, p, significance: float):
+    """The run rules applied to every group's lots in inspection order:
+    ``({group: [signal]}, in_signal)``, ``in_signal`` marking the lots of a
+    signal that counts. A signal is ``{"rule", "description", "direction", "length",
+    "lots", "p_value", "counts"}``; it counts against the history's
+    consistency when ``p_value`` (the chance of as much from a stable process
+    at the group's process average, a bound) is below ``significance``."""
+    from lotwise.analysis.supplier import (RUN_RULES, monotone_runs, run_p_value, side_runs,
+                                           side_probabilities, trend_p_value)
+
+    found, sample = lots.found, lots.sample
+    in_signal = np.zeros(found.size, dtype=bool)
+    found_runs = [("run", side_runs(found, sample, p[gid], gid)),
+                  ("trend", monotone_runs(found / sample, gid))]
+    if not any(r[0].size for _, r in found_runs):
+        return {}, in_signal
+    first = np.searchsorted(gid, np.arange(int(gid.max()) + 1))
+    last = np.searchsorted(gid, np.arange(int(gid.max()) + 1), side="right")
+    sides: dict = {}
+    cache: dict = {}
+    items = []
+    for rule, (starts, lengths, signs) in found_runs:
+        for st, ln, sg in zip(starts.tolist(), lengths.tolist(), signs.tolist()):
+            g = int(gid[st])
+            a, b = int(first[g]), int(last[g])
+            key = (rule, g, ln)
+            if key not in cache:
+                if rule == "run":
+                    if g not in sides:
+                        sides[g] = side_probabilities(sample[a:b], p[g])
+                    cache[key] = run_p_value(*sides[g], ln)
+                else:
+                    cache[key] = trend_p_value(b - a, ln)
+            direction = ({1: "above", -1: "below"} if rule == "run" else
+                         {1: "rising", -1: "falling"})[sg]
+            in_signal[st:st + ln] |= cache[key] < significance
+            items.append((g, st, ln, {"rule": rule, "description": RUN_RULES[rule],
+                                      "direction": direction, "length": int(ln),
+                                      "p_value": cache[key],
+                                      "counts": bool(cache[key] < significance)}))
+    items.sort(key=lambda t: (t[0], t[1]))
+    idx = np.concatenate([np.arange(st, st + ln) for _, st, ln, _ in items])
+    listed = _lot_list(df, idx, np.repeat(np.arange(len(items)), [ln for _, _, ln, _ in items]))
+    out: dict = {}
+    for k, (g, _, _, sig) in enumerate(items):
+        sig["lots"] = listed[k]
+        out.setdefault(g, []).append(sig)
+    return out, in_signal
+
+
 def _group_summary(g, names, stats, counts, pairs: _PlanPairs, pkeys, plans, *,
-                   confidence, significance, chart) -> GroupSummary:
+                   confidence, significance, chart, signals=(), beyond=()) -> GroupSummary:
     """The :class:`GroupSummary` of group ``g``."""
     by_plan = []
     for k in range(pairs.start[g], pairs.stop[g]):
@@ -904,7 +1007,9 @@ def _group_summary(g, names, stats, counts, pairs: _PlanPairs, pkeys, plans, *,
         interval=(float(stats["lo"][g]), float(stats["hi"][g])),
         confidence=confidence, expected_accepted=float(pairs.expected[g]),
         tails=(float(pairs.low[g]), float(pairs.high[g])), two_sided=float(two),
-        consistent=bool(two >= significance), plans=by_plan,
+        consistent=bool(two >= significance) and not any(x["counts"] for x in signals),
+        oc_consistent=bool(two >= significance), signals=list(signals),
+        beyond_limits=list(beyond), plans=by_plan,
         first_date=str(names["first_date"][g]), last_date=str(names["last_date"][g]),
         out_of_limits=int(counts["out"][g]), disposition_mismatches=int(counts["mismatches"][g]),
         sample_deviations=int(counts["deviations"][g]), unchecked=int(counts["unchecked"][g]),

@@ -1,10 +1,11 @@
 """Figures for lot records and negotiations, in the style of :mod:`lotwise.documents.plots.style`.
 
 * :func:`run_chart_figure` -- the lot fractions of one supplier and part in
-  inspection order, the process average and the exact binomial probability
-  limits for each lot's sample size (a step line, since the limits change
-  with the sample size); lots beyond the limits are drawn as filled
-  markers, rejected lots as crosses.
+  inspection order against their lot ids (or, where lots have none, their
+  dates), the process average and the exact binomial probability limits for
+  each lot's sample size (a step line, since the limits change with the
+  sample size); lots beyond the limits are drawn as filled markers, rejected
+  lots as crosses, lots of a run-rule signal ringed.
 * :func:`run_charts_figure` -- several run charts stacked in one figure.
 * :func:`tradeoff_figure` -- the price of tighter targets: sample size
   against the discrimination ratio RQL/AQL, one line per AQL, and beside it
@@ -37,10 +38,13 @@ def run_chart_figure(chart, *, process_average: float, title: str | None = None,
                      tail: float = 0.00135):
     """Run chart of one group's lots (``chart`` as kept by
     :func:`lotwise.data.records.summarise`: a mapping or DataFrame with columns
-    ``fraction, lower, upper, out, accepted``, in inspection order)."""
+    ``fraction, lower, upper, out, accepted``, in inspection order, and
+    optionally ``lot_id``, ``date`` and ``signal``). The x axis names the lots
+    by their ids when every lot has one (in inspection order), else places
+    them at their dates; without either, at their order."""
     fig, ax = new_axes(ax, size=(7.0, 3.2))
     y = np.asarray(chart["fraction"], dtype=float)
-    x = np.arange(1, y.size + 1)
+    x, xlabel, dress = _lot_axis(chart, y.size)
     out = np.asarray(chart["out"], dtype=bool)
     acc = np.asarray(chart["accepted"], dtype=bool)
     ax.plot(x, y, color="0.55", linewidth=0.8, zorder=2)
@@ -56,6 +60,12 @@ def run_chart_figure(chart, *, process_average: float, title: str | None = None,
         ax.plot(x[out], y[out], linestyle="none", marker="o", markersize=6,
                 markerfacecolor="0.0", markeredgecolor="0.0", label="beyond the limits",
                 zorder=5)
+    sig = np.asarray(chart["signal"], dtype=bool) if "signal" in chart else \
+        np.zeros(y.size, dtype=bool)
+    if sig.any():
+        ax.plot(x[sig], y[sig], linestyle="none", marker="o", markersize=10,
+                markerfacecolor="none", markeredgecolor="0.35", markeredgewidth=0.9,
+                label="run-rule signal", zorder=2.5)
     ax.axhline(process_average, **STYLE["exact"], label=f"process average "
                f"{100 * process_average:.3g} %")
     upper = np.asarray(chart["upper"], dtype=float)
@@ -65,10 +75,12 @@ def run_chart_figure(chart, *, process_average: float, title: str | None = None,
             label=f"exact binomial limits ({100 * tail:.3g} % each side)")
     if np.any(lower > 0):
         ax.step(x, lower, where="mid", **lim)
-    ax.set_xlim(0.5, max(y.size, 1) + 0.5)
+    if xlabel != "Inspection date":
+        ax.set_xlim(0.5, max(y.size, 1) + 0.5)
     top = max(float(np.max(upper, initial=0)), float(np.max(y, initial=0)), process_average)
     ax.set_ylim(bottom=0, top=(top or 0.01) * 1.45)  # headroom for the legend
-    ax.set_xlabel("Lot, in inspection order", fontsize=9.5)
+    ax.set_xlabel(xlabel, fontsize=9.5)
+    dress(ax)
     ax.set_ylabel("Lot fraction nonconforming (%)", fontsize=9.5)
     pct_axis(ax, False, "y")
     if title:
@@ -76,6 +88,35 @@ def run_chart_figure(chart, *, process_average: float, title: str | None = None,
     ax.legend(fontsize=6.8, frameon=False, loc="upper left", ncol=3, columnspacing=1.2)
     fig.tight_layout()
     return fig
+
+
+def _lot_axis(chart, m: int):
+    """``(x, label, dress)``: where the lots go on the x axis, its label and a
+    function that sets its ticks. Lot ids, when every lot has one, label
+    positions 1..m (at most about 12 labels shown, turned); else the lots'
+    dates; else their order."""
+    ids = [str(v).strip() for v in chart["lot_id"]] if "lot_id" in chart else []
+    if ids and all(ids):
+        import matplotlib.ticker as mticker
+
+        x = np.arange(1, m + 1)
+        step = max(1, int(np.ceil(m / 12)))
+        ticks = list(range(1, m + 1, step))
+
+        def place(ax):
+            ax.xaxis.set_major_locator(mticker.FixedLocator(ticks))
+            ax.set_xticklabels([ids[t - 1] for t in ticks], rotation=45, ha="right",
+                               fontsize=7.5)
+        return x, "Lot id, in inspection order", place
+    if "date" in chart:
+        dates = np.asarray(chart["date"], dtype="datetime64[ns]")
+        if dates.size and not np.isnat(dates).any():
+            def turn(ax):
+                for t in ax.get_xticklabels():
+                    t.set_rotation(30)
+                    t.set_ha("right")
+            return dates, "Inspection date", turn
+    return np.arange(1, m + 1), "Lot, in inspection order", lambda ax: None
 
 
 def run_charts_figure(groups, *, limit: int = 8):
