@@ -84,7 +84,8 @@ from lotwise.core.quantities import InputError, Infeasible, parse_level
 
 __all__ = ["PRIORS", "Posterior", "Outlook", "rejection_outlook", "rejection_at",
            "parse_levels", "TradeoffRow", "tradeoff", "RUN_LENGTH", "TREND_LENGTH", "RUN_RULES",
-           "side_runs", "monotone_runs", "side_probabilities", "run_p_value", "trend_p_value"]
+           "side_runs", "monotone_runs", "side_probabilities", "run_p_value", "run_p_values",
+           "trend_p_value"]
 
 #: Priors by name: ``name -> (a0, b0, description)``.
 PRIORS = {
@@ -510,7 +511,8 @@ def side_probabilities(sample, centre):
     """``(below, above)``: the probability that a lot of ``sample`` units from a
     stable process at ``centre`` lies below (above) the centre line, its count
     being binomial."""
-    n = np.asarray(sample, dtype=float)
+    n_all = np.asarray(sample, dtype=float)
+    n, inv = np.unique(n_all, return_inverse=True)  # once per distinct sample size
     p = float(centre)
     mean = p * n
     tol = 1e-9 * np.maximum(mean, 1.0)
@@ -518,7 +520,7 @@ def side_probabilities(sample, centre):
     at_most = np.floor(mean + tol)          # largest count not above it
     below = np.where(below_max < 0, 0.0, oc.pa_binomial(n, np.maximum(below_max, 0.0), p))
     above = 1.0 - np.asarray(oc.pa_binomial(n, np.minimum(at_most, n), p), dtype=float)
-    return np.clip(below, 0.0, 1.0), np.clip(above, 0.0, 1.0)
+    return np.clip(below, 0.0, 1.0)[inv], np.clip(above, 0.0, 1.0)[inv]
 
 
 def run_p_value(below, above, length: int) -> float:
@@ -532,15 +534,25 @@ def run_p_value(below, above, length: int) -> float:
     >>> round(run_p_value([0.5] * 8, [0.5] * 8, 8), 9)  # 2 * 0.5**8
     0.0078125
     """
-    total = 0.0
+    return run_p_values(below, above, [length])[0]
+
+
+def run_p_values(below, above, lengths) -> list:
+    """:func:`run_p_value` for each of ``lengths`` (the logarithms summed once)."""
+    sums = []
     for q in (np.asarray(below, dtype=float), np.asarray(above, dtype=float)):
-        if q.size < length:
-            continue
         with np.errstate(divide="ignore"):
-            s = np.r_[0.0, np.cumsum(np.log(q))]
-        w = s[length:] - s[:-length]
-        total += float(np.sum(np.exp(w[np.isfinite(w)])))
-    return min(1.0, total)
+            sums.append(np.r_[0.0, np.cumsum(np.log(q))])
+    out = []
+    for length in lengths:
+        total = 0.0
+        for s in sums:
+            if s.size - 1 < length:
+                continue
+            w = s[length:] - s[:-length]
+            total += float(np.sum(np.exp(w[np.isfinite(w)])))
+        out.append(min(1.0, total))
+    return out
 
 
 def trend_p_value(lots: int, length: int) -> float:

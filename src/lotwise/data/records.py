@@ -946,7 +946,7 @@ def _run_signals(df, lots: _Lots, gid, p, significance: float):
     "lots", "p_value", "counts"}``; it counts against the history's
     consistency when ``p_value`` (the chance of as much from a stable process
     at the group's process average, a bound) is below ``significance``."""
-    from lotwise.analysis.supplier import (RUN_RULES, monotone_runs, run_p_value, side_runs,
+    from lotwise.analysis.supplier import (RUN_RULES, monotone_runs, run_p_values, side_runs,
                                            side_probabilities, trend_p_value)
 
     found, sample = lots.found, lots.sample
@@ -957,28 +957,27 @@ def _run_signals(df, lots: _Lots, gid, p, significance: float):
         return {}, in_signal
     first = np.searchsorted(gid, np.arange(int(gid.max()) + 1))
     last = np.searchsorted(gid, np.arange(int(gid.max()) + 1), side="right")
-    sides: dict = {}
-    cache: dict = {}
+    chance: dict = {}
+    starts, lengths, _ = found_runs[0][1]
+    for g in np.unique(gid[starts]).tolist():  # each group's side chances once
+        a, b = int(first[g]), int(last[g])
+        lens = sorted(set(lengths[gid[starts] == g].tolist()))
+        for ln, pv in zip(lens, run_p_values(*side_probabilities(sample[a:b], p[g]), lens)):
+            chance[("run", g, ln)] = pv
     items = []
     for rule, (starts, lengths, signs) in found_runs:
         for st, ln, sg in zip(starts.tolist(), lengths.tolist(), signs.tolist()):
             g = int(gid[st])
-            a, b = int(first[g]), int(last[g])
             key = (rule, g, ln)
-            if key not in cache:
-                if rule == "run":
-                    if g not in sides:
-                        sides[g] = side_probabilities(sample[a:b], p[g])
-                    cache[key] = run_p_value(*sides[g], ln)
-                else:
-                    cache[key] = trend_p_value(b - a, ln)
+            if key not in chance:  # a trend: the chance depends on the lots alone
+                chance[key] = trend_p_value(int(last[g] - first[g]), ln)
             direction = ({1: "above", -1: "below"} if rule == "run" else
                          {1: "rising", -1: "falling"})[sg]
-            in_signal[st:st + ln] |= cache[key] < significance
+            in_signal[st:st + ln] |= chance[key] < significance
             items.append((g, st, ln, {"rule": rule, "description": RUN_RULES[rule],
                                       "direction": direction, "length": int(ln),
-                                      "p_value": cache[key],
-                                      "counts": bool(cache[key] < significance)}))
+                                      "p_value": chance[key],
+                                      "counts": bool(chance[key] < significance)}))
     items.sort(key=lambda t: (t[0], t[1]))
     idx = np.concatenate([np.arange(st, st + ln) for _, st, ln, _ in items])
     listed = _lot_list(df, idx, np.repeat(np.arange(len(items)), [ln for _, _, ln, _ in items]))
