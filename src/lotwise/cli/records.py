@@ -75,7 +75,7 @@ def prob(p: float) -> str:
 
 @app.command()
 def records(
-    path: str = typer.Argument(..., metavar="RECORDS", help="CSV of inspected lots."),
+    path: str = typer.Argument(..., metavar="RECORDS", help="CSV (or .xlsx workbook) of inspected lots."),
     plans: Optional[str] = typer.Option(None, "--plans", help="Folder of plan files named in a plan_file column."),
     supplier: Optional[str] = typer.Option(None, "--supplier", help="Only this supplier."),
     part: Optional[str] = typer.Option(None, "--part", help="Only this part."),

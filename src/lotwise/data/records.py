@@ -53,6 +53,15 @@ What is computed, per supplier and part
   lots, which makes the check a little lenient;
 * dispositions that disagree with the plan (for a single plan: accept when
   ``found <= c``) and samples whose size differs from the plan's.
+* the run rules (common practice, no source): 8 or more lots in a row on
+  one side of the centre line (the process average) and 6 or more lots in a
+  row each rising or each falling, in inspection order; each signal carries
+  a bound on the chance that a stable process at the process average shows
+  as much anywhere in the history
+  (:func:`lotwise.analysis.supplier.run_p_value`,
+  :func:`~lotwise.analysis.supplier.trend_p_value`), and a signal whose bound
+  is below the significance level *counts*: the group is then not
+  ``consistent`` whatever the OC cross-check says.
 
 JSON (``lotwise records --json``)
 --------------------------------
@@ -65,7 +74,10 @@ JSON (``lotwise records --json``)
 "p_at_most_observed", "p_at_least_observed", "two_sided", "consistent"},
 "plans": [{"plan", "scheme", "lots", "accepted", "pa_at_process_average"}],
 "first_date", "last_date", "out_of_limits", "disposition_mismatches",
-"sample_deviations", "dispositions_unchecked"}``; each finding ``{"line",
+"sample_deviations", "dispositions_unchecked", "consistent", "signals": [{"rule",
+"description", "direction", "length", "lots": [{"line", "lot_id", "date"}],
+"p_value", "counts"}], "beyond_limits": [{"line", "lot_id", "date", "found",
+"sample_size", "lower", "upper"}]}``; each finding ``{"line",
 "supplier", "part", "lot_id", "date", "plan", "sample_size", "found",
 "recorded", "expected", "finding"}``.
 
