@@ -527,30 +527,34 @@ def run_p_value(below, above, length: int) -> float:
     """An upper bound on the probability that a stable process shows a run of
     ``length`` or more lots on one side of its centre line anywhere in a
     history whose lots lie below (above) the line with probabilities
-    ``below`` (``above``): the sum over every starting lot and side of the
-    probability that the ``length`` lots from there all lie on that side
-    (Boole's inequality; close to exact when small).
+    ``below`` (``above``): the expected number of such runs, summed over
+    both sides -- for each lot, the probability that a run starts there (the
+    lot before is not on that side, or there is none) and its first
+    ``length`` lots all lie on that side. The chance of at least one run is at
+    most that expectation (Markov's inequality), and close to it when small.
 
-    >>> round(run_p_value([0.5] * 8, [0.5] * 8, 8), 9)  # 2 * 0.5**8
+    >>> round(run_p_value([0.5] * 8, [0.5] * 8, 8), 9)  # 2 * 0.5**8: one window
     0.0078125
+    >>> round(run_p_value([0.5] * 9, [0.5] * 9, 8), 9)  # 2 * (0.5**8 + 0.5 * 0.5**8)
+    0.01171875
     """
     return run_p_values(below, above, [length])[0]
 
 
 def run_p_values(below, above, lengths) -> list:
     """:func:`run_p_value` for each of ``lengths`` (the logarithms summed once)."""
-    sums = []
+    sides = []
     for q in (np.asarray(below, dtype=float), np.asarray(above, dtype=float)):
         with np.errstate(divide="ignore"):
-            sums.append(np.r_[0.0, np.cumsum(np.log(q))])
+            sides.append((np.r_[0.0, np.cumsum(np.log(q))], np.r_[1.0, 1.0 - q[:-1]]))
     out = []
     for length in lengths:
         total = 0.0
-        for s in sums:
+        for s, start in sides:
             if s.size - 1 < length:
                 continue
-            w = s[length:] - s[:-length]
-            total += float(np.sum(np.exp(w[np.isfinite(w)])))
+            w = np.exp(s[length:] - s[:-length])  # all `length` lots on the side
+            total += float(np.sum(w * start[:w.size]))
         out.append(min(1.0, total))
     return out
 
