@@ -352,7 +352,7 @@ def test_cli_json_contract(capsys):
     assert d["units"] == list(draw_units(lot_size=1000, n=32, seed=4711,
                                          strata="cartons=400,350,250").units)
     assert [(s["label"], s["size"], s["allocated"]) for s in d["strata"]] == [
-        ("cartons 1", 400, 13), ("cartons 2", 350, 11), ("cartons 3", 250, 8)]
+        ("carton 1 of 3", 400, 13), ("carton 2 of 3", 350, 11), ("carton 3 of 3", 250, 8)]
     code, out, _ = run(capsys, "draw", "--lot-size", "50", "--n", "5", "--json")
     d = json.loads(out)
     assert d["strata"] is None and d["method"] == "simple random" and isinstance(d["seed"], int)

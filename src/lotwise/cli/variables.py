@@ -10,6 +10,7 @@ import math
 import typer
 
 from . import common
+from lotwise.core.numbers import probability
 from lotwise.core.quantities import InputError, Infeasible
 
 #: Shapiro-Wilk p-value below which normality is called doubtful.
@@ -215,7 +216,8 @@ def oc_cmd(plan, *, max_p, points, at, aql, rql, csv, plot, force, as_json):
                        "pa_lower = smallest (producer's)")
         if plan.exact_model in ("estimate-exact", "k-two-limit-exact"):
             typer.echo("  exact: quadrature over the law of s at the worst split of each level")
-        shown = [[f"{100 * row[0]:.4g} %"] + [f"{v:.5f}" for v in row[1:]] for row in rows]
+        shown = [[common.fmt_level(row[0], False)] + [probability(v, 5) for v in row[1:]]
+                 for row in rows]
         typer.echo(common.table(shown, header))
         for path in (csv, plot):
             if path:

@@ -1,8 +1,10 @@
 """Writing large tables as CSV text, column by column.
 
 :func:`csv_chunks` gives the same text as ``DataFrame.to_csv(index=False,
-lineterminator="\\n")`` (minimal quoting, empty cells for missing values,
-floats as their shortest round-trip repr) but formats each column's distinct
+lineterminator="\\n")`` (minimal quoting, empty cells for missing values)
+except that floats carry at most ten significant digits
+(:func:`lotwise.core.numbers.csv_number`: no float noise such as
+``0.006500000000000001``), and formats each column's distinct
 values once and joins the rows in slices, so a million-row batch costs
 seconds, not tens of seconds, and never holds the whole text twice.
 
@@ -23,9 +25,10 @@ from __future__ import annotations
 
 import csv
 import io
-import math
 
 import numpy as np
+
+from lotwise.core.numbers import csv_number
 
 __all__ = ["csv_chunks", "frame_csv"]
 
@@ -48,7 +51,7 @@ def _cell(v) -> str:
     if v is None or v is pd.NA or v is pd.NaT:
         return ""
     if isinstance(v, (float, np.floating)):
-        return "" if math.isnan(v) else repr(float(v))
+        return csv_number(float(v))
     if isinstance(v, (bool, np.bool_)):
         return str(bool(v))
     if isinstance(v, (int, np.integer)):
@@ -62,7 +65,7 @@ def _fields(uniq, dtype) -> list:
 
     vals = list(uniq)
     if pd.api.types.is_float_dtype(dtype):
-        texts = ["" if v != v else repr(float(v)) for v in vals]
+        texts = [csv_number(float(v)) for v in vals]
     elif pd.api.types.is_bool_dtype(dtype) and not any(v is pd.NA for v in vals):
         texts = [str(bool(v)) for v in vals]
     elif pd.api.types.is_integer_dtype(dtype):
