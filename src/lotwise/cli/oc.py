@@ -111,5 +111,5 @@ def _cell(key: str, v) -> str:
     if key == "lot_count":
         return str(v)
     if key in ("aoq", "wald_pa", "error_free_pa"):
-        return f"{v:.5f}"
+        return probability(v, 5)
     return f"{v:.1f}"

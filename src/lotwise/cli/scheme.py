@@ -143,7 +143,7 @@ def _render_oc(req, oc, plot) -> None:
                                        for k, v in sch.rules.as_dict().items()))
     rows = []
     for lv in oc.levels:
-        pp = [f"{lv.plan_pa[s]:.4f}" if s in lv.plan_pa else "-"
+        pp = [probability(lv.plan_pa[s], 4) if s in lv.plan_pa else "-"
               for s in ("normal", "tightened", "reduced")]
         rows.append([common.fmt_level(lv.p, per), probability(lv.pa), *pp,
                      f"{lv.asn:.1f}", *(f"{100 * lv.share[s]:.1f}" for s in
