@@ -263,6 +263,8 @@ def oc_figure(items, *, models=None, aql=None, rql=None, alpha=None, beta=None,
             name = f"{labels[0]}: {m} (exact)"
         else:
             style, name = STYLE.get(m, STYLE["poisson"]), f"{labels[0]}: {m}"
+            if several:  # beside other plans' curves: thin, without markers
+                style = {**style, "linewidth": 0.9}
         if m == "hypergeometric" and scope0.lot_size:  # at the whole counts a lot can hold
             N = scope0.lot_size
             xs = np.arange(0, min(N, int(np.ceil(max_p * N))) + 1) / N
