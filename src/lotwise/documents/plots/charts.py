@@ -146,9 +146,11 @@ def tradeoff_figure(rows, *, axes=None, title: str | None = None):
     inside = [t for t in nice if min(ratios) / 1.05 <= t <= max(ratios) * 1.05] or nice
     span = np.log10(max(inside) / min(inside)) or 1.0
     ticks = []
-    for t in inside:  # at least a 1/11 of the span apart, so no two labels touch
-        if not ticks or np.log10(t / ticks[-1]) >= span / 11:
+    first = (1, 2, 5, 10, 20, 50, 100, 200, 500, 1000, 3, 1.5, 4, 8, 30, 15, 6, 1.25)
+    for t in sorted(inside, key=first.index):  # round values first, then fill the gaps,
+        if all(abs(np.log10(t / u)) >= span / 11 for u in ticks):  # no two labels touching
             ticks.append(t)
+    ticks.sort()
     for ax in axes:
         ax.xaxis.set_major_locator(FixedLocator(ticks))
         ax.xaxis.set_minor_locator(NullLocator())
