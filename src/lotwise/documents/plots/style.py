@@ -213,7 +213,7 @@ def pct_axis(ax, per_unit: bool, which: str = "x"):
 
     if per_unit:
         return
-    fmt = FuncFormatter(lambda v, _: f"{100 * v:.3g}")
+    fmt = FuncFormatter(lambda v, _: plain_decimal(100 * v))  # plain decimals, never 1e-05
     (ax.xaxis if which == "x" else ax.yaxis).set_major_formatter(fmt)
 
 
