@@ -204,7 +204,7 @@ def test_cli_sample_of_rows_agrees_with_lotwise_design(tmp_path, capsys):
             assert (int(got["n"]), int(got["c"]), got["model_used"]) == \
                 (d["n"], d["c"], d["model"])
             assert float(got["beta_actual"]) == pytest.approx(
-                d["models"][d["model"]]["beta"], abs=1e-12)
+                d["models"][d["model"]]["beta"], rel=1e-9)  # the CSV keeps 10 significant digits
         else:
             assert code == 1 and got["error"] == json.loads(js)["reason"]
 

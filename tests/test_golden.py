@@ -47,6 +47,9 @@ ROOT = GOLDEN.parents[1]  # the repository: cases name examples/ and plans/ rela
 SNAPSHOTS = GOLDEN / "snapshots"
 TMP = "{tmp}"
 
+STRATUM_WORDS = ("stratum labels carry their index in words: 'carton 1 of 3' (was 'cartons "
+                 "1'); the units drawn are unchanged")
+
 #: Keys whose values depend on the day, the machine or the installed versions.
 IGNORED_KEYS = frozenset({
     "date", "version", "versions", "fingerprint", "generated", "elapsed",
@@ -271,6 +274,11 @@ CHANGED: dict[str, str] = {
     "compare_plan_files:json.plans[1].plan_quality.indifference": INDIFFERENCE_COUNT,
     "compare_designed_lot:json.plans[1].plan_quality.indifference": INDIFFERENCE_COUNT,
     "compare_designed_lot:json.plans[2].plan_quality.indifference": INDIFFERENCE_COUNT,
+    "*:json.skip_lot.statements": "one number formatter (lotwise.core.numbers): a share is "
+                                  "rounded to three significant figures before its decimals "
+                                  "are chosen, so 0.99996 reads 100 %, not 100.0 %",
+    "draw_strata_sizes:json.strata": STRATUM_WORDS,
+    "draw_strata_sizes:json.picks": STRATUM_WORDS,
 }
 
 #: What ``main`` prints on stderr when a command failed with an internal error.

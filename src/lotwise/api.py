@@ -67,11 +67,13 @@ class Result(Assessment):
         import html
         import io
 
+        from lotwise.core.numbers import percent, probability
+
         rep = self.report
         rows = "".join(
             f"<tr><td>{html.escape(m)}{' *' if m == rep['model'] else ''}</td>"
-            f"<td>{r['pa_aql']:.5f}</td><td>{r['alpha']:.4%}</td>"
-            f"<td>{r['pa_rql']:.5f}</td><td>{r['beta']:.4%}</td>"
+            f"<td>{probability(r['pa_aql'], 5)}</td><td>{html.escape(percent(r['alpha']))}</td>"
+            f"<td>{probability(r['pa_rql'], 5)}</td><td>{html.escape(percent(r['beta']))}</td>"
             f"<td>{'yes' if r['meets'] else 'NO'}</td></tr>"
             for m, r in rep["models"].items())
         verdict = "meets both targets" if self.meets else "FALLS SHORT"

@@ -31,6 +31,7 @@ import math
 
 import numpy as np
 
+from lotwise.core.numbers import csv_number
 from lotwise.core.quantities import parse_count, parse_level
 
 __all__ = ["json_safe", "nice", "attribute_grid", "attribute_oc", "variables_oc", "csp_grid",
@@ -54,10 +55,11 @@ def json_safe(obj):
 
 
 def csv_cell(v) -> str:
-    """A number as CSV text: whole numbers plainly, floats to full precision."""
+    """A number as CSV text: whole numbers plainly, floats to at most ten
+    significant digits (:func:`lotwise.core.numbers.csv_number`)."""
     if isinstance(v, int):
         return str(v)
-    return repr(float(v)) if v != 0 else "0"
+    return csv_number(float(v))
 
 
 def csv_text(header, rows, cell=csv_cell) -> str:

@@ -96,6 +96,7 @@ from lotwise.core.optimum import brent_max
 from lotwise.core.types import Scope, lot_counts
 from lotwise.families.base import need_lot
 from lotwise.families.single import aoq_hyper_single
+from lotwise.core.numbers import level
 from lotwise.core.quantities import InputError, format_level, format_pct
 
 __all__ = [
@@ -542,7 +543,7 @@ def render_rectifying(rep: dict, per_unit: bool = False) -> str:
 
 def format_outgoing(x: float, per_unit: bool) -> str:
     """An outgoing quality (AOQ, AOQL) as printed: per unit, or a percentage."""
-    return f"{x:.4g} per unit" if per_unit else format_pct(x, 4)
+    return level(x, True, 4) if per_unit else format_pct(x, 4)
 
 
 # --- the quality grid figures are drawn on ---------------------------------------

@@ -5,6 +5,7 @@ owns the JSON object every output reads).
 from __future__ import annotations
 
 from lotwise.core.quantities import format_level, format_pct
+from lotwise.core.numbers import probability
 
 __all__ = ["render_assessment", "context_lines", "verdict_word", "table"]
 
@@ -58,15 +59,15 @@ def render_assessment(rep: dict, title: str) -> str:
     rows = []
     for m, r in rep["models"].items():
         mark = " *" if m == rep["model"] else ""
-        row = [m + mark, f"{r['pa_aql']:.5f}", pct_vs(r["alpha"], t["alpha"]),
-               f"{r['pa_rql']:.5f}", pct_vs(r["beta"], t["beta"])]
+        row = [m + mark, probability(r['pa_aql'], 5), pct_vs(r["alpha"], t["alpha"]),
+               probability(r['pa_rql'], 5), pct_vs(r["beta"], t["beta"])]
         if varying:
             row += [f"{r['asn_aql']:.1f}", f"{r['asn_rql']:.1f}"]
         rows.append(row + [verdict_word(r)])
     if "wald" in rep:
         w = rep["wald"]
-        rows.append(["Wald approx.", f"{w['pa_aql']:.5f}", format_pct(1 - w["pa_aql"]),
-                     f"{w['pa_rql']:.5f}", format_pct(w["pa_rql"]), f"{w['asn_aql']:.1f}",
+        rows.append(["Wald approx.", probability(w['pa_aql'], 5), format_pct(1 - w["pa_aql"]),
+                     probability(w['pa_rql'], 5), format_pct(w["pa_rql"]), f"{w['asn_aql']:.1f}",
                      f"{w['asn_rql']:.1f}", "(untruncated)"])
     header = ["model", "Pa(AQL)", "alpha", "Pa(RQL)", "beta"]
     if varying:

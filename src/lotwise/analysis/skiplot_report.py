@@ -6,6 +6,7 @@ from __future__ import annotations
 from lotwise.core.quantities import format_level, format_pct
 from lotwise.core.types import TOL, Scope
 from lotwise.families.skiplot import SkipLotPlan
+from lotwise.core.numbers import probability
 
 __all__ = ["skiplot_report", "render_skiplot"]
 
@@ -75,10 +76,10 @@ def render_skiplot(rep: dict, per_unit: bool = False) -> str:
     rows = []
     for m, r in rep["models"].items():
         rows.append([m + (" *" if m == rep["model"] else ""),
-                     f"{r['pa_aql']:.5f}", f"{r['reference_pa_aql']:.5f}",
-                     f"{r['fraction_inspected_aql']:.4f}",
-                     f"{r['pa_rql']:.5f}", f"{r['reference_pa_rql']:.5f}",
-                     f"{r['fraction_inspected_rql']:.4f}"])
+                     probability(r['pa_aql'], 5), probability(r['reference_pa_aql'], 5),
+                     probability(r['fraction_inspected_aql'], 4),
+                     probability(r['pa_rql'], 5), probability(r['reference_pa_rql'], 5),
+                     probability(r['fraction_inspected_rql'], 4)])
     lines.append(table(rows, ["model", "Pa(AQL)", "ref Pa(AQL)", "F(AQL)", "Pa(RQL)",
                               "ref Pa(RQL)", "F(RQL)"], indent="    "))
     lines.append("    (F: average fraction of lots inspected)")

@@ -203,7 +203,9 @@ def nice(x: float) -> float:
 
 def fmt_level(x: float, per_unit: bool) -> str:
     """A quality level in an OC table: per unit, or a percentage."""
-    return f"{x:.6g}" if per_unit else f"{100 * x:.4g} %"
+    from lotwise.core.numbers import level, significant
+
+    return significant(x, 6) if per_unit else level(x)
 
 
 # --- imperfect inspection (design, check, oc, compare) -------------------------------

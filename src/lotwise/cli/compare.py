@@ -7,6 +7,7 @@ from typing import List, Optional
 import typer
 
 from . import app, common, sheets
+from lotwise.core.numbers import probability
 from lotwise.core.quantities import InputError
 
 
@@ -96,8 +97,8 @@ def compare(
                 return format_level(q[side], per)
             return f"D = {counts[side]} (Pa {r['plan_quality_pa'][side]:.3f})"
 
-        rows.append([r["label"], r["model"], f"{r['pa_aql']:.4f}", format_pct(r["alpha"]),
-                     f"{r['pa_rql']:.4f}", format_pct(r["beta"]), level("producer"),
+        rows.append([r["label"], r["model"], probability(r["pa_aql"]), format_pct(r["alpha"]),
+                     probability(r["pa_rql"]), format_pct(r["beta"]), level("producer"),
                      level("indifference"), level("consumer"),
                      f"{asn['aql']:.1f} / {asn['rql']:.1f}" if asn else "fixed",
                      "yes" if r["meets"] else "NO"])

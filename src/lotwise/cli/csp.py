@@ -12,6 +12,7 @@ import os
 import typer
 
 from . import common
+from lotwise.core.numbers import probability
 from lotwise.core.quantities import (Infeasible, InputError, format_pct, parse_count,
                                      parse_level, parse_seed)
 
@@ -147,7 +148,7 @@ def _render_check(plan, out) -> str:
     rows = []
     for lv in out["levels"]:
         runs = lv["runs"]
-        row = [_pct(lv["p"]), _pct(lv["afi"]), _pct(lv["aoq"]), f"{lv['pa']:.4f}",
+        row = [_pct(lv["p"]), _pct(lv["afi"]), _pct(lv["aoq"]), probability(lv["pa"]),
                _units(runs["full"]), _units(runs["sampling"])]
         if plan.burst_units:
             row.append(_units(runs["burst"]))
@@ -187,7 +188,7 @@ def oc_cmd(plan, *, max_p, points, at, csv, plot, model, unused, force, as_json,
     if as_json:
         common.emit_json(out)
     elif csv != "-":
-        shown = [[_pct(r[0]), _pct(r[1]), _pct(r[2]), f"{r[3]:.5f}"] for r in rows]
+        shown = [[_pct(r[0]), _pct(r[1]), _pct(r[2]), probability(r[3], 5)] for r in rows]
         typer.echo(f"AFI and AOQ table for {plan.label} (AOQL "
                    f"{_pct(value)} at {_pct(where)})")
         typer.echo(common.table(shown, header))

@@ -93,7 +93,7 @@ def draw(
                                       help="Units in the lot, numbered 1 to N."),
     n: Optional[str] = typer.Option(None, "--n", help="Units to pull."),
     seed: Optional[str] = typer.Option(
-        None, "--seed", help="Whole number 0 to 2**128-1; omitted: a fresh seed, recorded."),
+        None, "--seed", help="Whole number 0 to 2**128-1; omitted: a fresh seed of at most 10 digits, recorded."),
     strata: Optional[str] = typer.Option(
         None, "--strata",
         help='"cartons=40" (40 equal consecutive strata) or "cartons=120,120,80" (sizes).'),

@@ -7,6 +7,7 @@ import typer
 
 from . import common
 from lotwise.core.quantities import InputError, Infeasible, format_pct, parse_count
+from lotwise.core.numbers import probability
 
 def _scope(lot, per_unit, model):
     return common.scope_and_model(lot, per_unit, model)
@@ -220,7 +221,7 @@ def _compare_all(targets, scope, mdl, ratio, minimize, truncate, plot, force, as
         if row.plan is None:
             rows.append([row.scheme, "-", "-", "-", "-", "-", "-", "-", row.note[:60]])
             continue
-        rows.append([row.scheme, row.label, f"{row.pa_aql:.4f}", f"{row.pa_rql:.4f}",
+        rows.append([row.scheme, row.label, probability(row.pa_aql, 4), probability(row.pa_rql, 4),
                      f"{row.asn_aql:.1f}", f"{row.asn_rql:.1f}", f"{row.asn_max:.1f}",
                      str(row.n_max), "yes" if row.meets else "NO"])
     typer.echo(common.table(rows, ["scheme", "plan", "Pa(AQL)", "Pa(RQL)", "ASN(AQL)",

@@ -7,6 +7,7 @@ from typing import List, Optional
 import typer
 
 from . import app, common
+from lotwise.core.numbers import probability
 
 
 @app.command("oc")
@@ -77,7 +78,7 @@ def oc_table(
         common.emit_json(out)
     elif csv != "-":
         nm = len(scope.models)
-        shown = [[common.fmt_level(row[0], per_unit)] + [f"{v:.5f}" for v in row[1:1 + nm]]
+        shown = [[common.fmt_level(row[0], per_unit)] + [probability(v, 5) for v in row[1:1 + nm]]
                  + [_cell(k, v) for k, v in zip(header[1 + nm:], row[1 + nm:])] for row in rows]
         what = "OC and ASN table" if p.varying_sample else "OC table"
         typer.echo(f"{what} for the {p.scheme} plan {p.label}"
@@ -113,5 +114,5 @@ def _cell(key: str, v) -> str:
     if key == "lot_count":
         return str(v)
     if key in ("aoq", "wald_pa", "error_free_pa"):
-        return f"{v:.5f}"
+        return probability(v, 5)
     return f"{v:.1f}"

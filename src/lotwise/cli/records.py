@@ -61,16 +61,15 @@ def some(items, k=10):
 
 
 def pct(x: float) -> str:
-    """A rate in percent; tiny ones in scientific notation."""
-    if x is not None and 0 < x < 1e-6:
-        return f"{100 * x:.2g} %"
+    """A rate in percent, ppm below 0.1 % (:func:`lotwise.core.numbers.percent`)."""
     return format_pct(x)
 
 
 def prob(p: float) -> str:
-    if p < 1e-4:
-        return f"{p:.2g}"
-    return f"{p:.4f}"
+    """A probability as a decimal (:func:`lotwise.core.numbers.probability`)."""
+    from lotwise.core.numbers import probability
+
+    return probability(p)
 
 
 @app.command()
@@ -130,7 +129,7 @@ def records(
     typer.echo(f"  process average: nonconforming found / units inspected, with its "
                f"Clopper-Pearson interval; OC expects: the plans' type B acceptance "
                f"probability at that average; run-chart limits: exact binomial, "
-               f"{100 * LIMIT_TAIL:.3g} % each side.")
+               f"{format_pct(LIMIT_TAIL)} each side.")
     typer.echo(f"  run rules (common practice, no source): {RUN_RULES['run']}; "
                f"{RUN_RULES['trend']}. A signal counts against consistency when a stable "
                f"process at the process average shows as much with probability below "

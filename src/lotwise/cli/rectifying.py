@@ -9,6 +9,7 @@ import typer
 
 from . import common
 from lotwise.core.quantities import InputError, Infeasible, parse_count, parse_level, parse_risk
+from lotwise.core.numbers import probability
 
 MINIMIZE = ("ati",)
 
@@ -96,10 +97,10 @@ def render_least_ati(rep: dict) -> str:
              f"process average; AOQL {format_pct(rep['aoql'], 4)} at {lv(rep['aoql_p'])}", ""]
     rows = []
     for m, e in rep["models"].items():
-        row = [m + (" *" if m == rep["model"] else ""), f"{e['pa_process_average']:.5f}",
+        row = [m + (" *" if m == rep["model"] else ""), probability(e['pa_process_average'], 5),
                f"{e['ati_process_average']:,.1f}", format_pct(e["aoql"], 4)]
         if rep["constraint"] == "rql":
-            row.append(f"{e['pa_rql']:.5f}")
+            row.append(probability(e['pa_rql'], 5))
         row.append("yes" if e["meets"] else "NO")
         rows.append(row)
     header = ["model", "Pa(avg)", "ATI(avg)", "AOQL"]

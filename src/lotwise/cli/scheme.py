@@ -10,6 +10,7 @@ from typing import List, Optional
 import typer
 
 from . import app, common
+from lotwise.core.numbers import probability
 from lotwise.core.quantities import InputError, format_pct, parse_count, parse_level, parse_risk
 
 WHOLE_SCHEME = ("A switching scheme's protection is a property of the whole scheme: the "
@@ -142,9 +143,9 @@ def _render_oc(req, oc, plot) -> None:
                                        for k, v in sch.rules.as_dict().items()))
     rows = []
     for lv in oc.levels:
-        pp = [f"{lv.plan_pa[s]:.4f}" if s in lv.plan_pa else "-"
+        pp = [probability(lv.plan_pa[s], 4) if s in lv.plan_pa else "-"
               for s in ("normal", "tightened", "reduced")]
-        rows.append([f"{lv.p:.6g}" if per else f"{100 * lv.p:.4g} %", f"{lv.pa:.4f}", *pp,
+        rows.append([common.fmt_level(lv.p, per), probability(lv.pa), *pp,
                      f"{lv.asn:.1f}", *(f"{100 * lv.share[s]:.1f}" for s in
                                         ("normal", "tightened", "reduced")),
                      _lots(lv.lots_to_tightened), _lots(lv.lots_to_discontinue)])

@@ -8,6 +8,7 @@ from typing import Optional
 import typer
 
 from . import app, common, records
+from lotwise.core.numbers import csv_number
 from lotwise.core.quantities import InputError, format_level, format_pct, parse_rate
 
 
@@ -138,7 +139,7 @@ def _cell(v) -> str:
     if isinstance(v, bool):
         return "yes" if v else "no"
     if isinstance(v, float):
-        return repr(v)
+        return csv_number(v)
     s = str(v)
     if any(ch in s for ch in ',"\n'):
         s = '"' + s.replace('"', '""') + '"'

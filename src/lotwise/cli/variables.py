@@ -10,6 +10,7 @@ import math
 import typer
 
 from . import common
+from lotwise.core.numbers import probability
 from lotwise.core.quantities import InputError, Infeasible
 
 #: Shapiro-Wilk p-value below which normality is called doubtful.
@@ -147,13 +148,13 @@ def render_design(rep: dict) -> str:
     lines.append(f"  notation  {rep['notation']}")
     lines.append(f"  targets   AQL {format_level(t['aql'])} at alpha {_pct(t['alpha'])}, "
                  f"RQL {format_level(t['rql'])} at beta {_pct(t['beta'])}")
-    rows = [["exact plan", str(rep["n"]), f"{rep['k']:.4f}", f"{rep['pa_aql']:.5f}",
-             _pct(rep["alpha"]), f"{rep['pa_rql']:.5f}", _pct(rep["beta"]),
+    rows = [["exact plan", str(rep["n"]), f"{rep['k']:.4f}", probability(rep['pa_aql'], 5),
+             _pct(rep["alpha"]), probability(rep['pa_rql'], 5), _pct(rep["beta"]),
              "yes" if rep["meets"] else "NO"]]
     ap = rep["approximation"]
     if rep["sigma"] == "unknown":
-        rows.append(["Wallis", str(ap["n"]), f"{ap['k']:.4f}", f"{1 - ap['alpha']:.5f}",
-                     _pct(ap["alpha"]), f"{ap['beta']:.5f}", _pct(ap["beta"]),
+        rows.append(["Wallis", str(ap["n"]), f"{ap['k']:.4f}", probability(1 - ap['alpha'], 5),
+                     _pct(ap["alpha"]), probability(ap['beta'], 5), _pct(ap["beta"]),
                      "yes" if ap["meets"] else "NO"])
     else:
         rows.append(["closed form", f"{ap['n']} ({ap['n_unrounded']:.2f})", f"{ap['k']:.4f}",
@@ -215,7 +216,8 @@ def oc_cmd(plan, *, max_p, points, at, aql, rql, csv, plot, force, as_json, styl
                        "pa_lower = smallest (producer's)")
         if plan.exact_model in ("estimate-exact", "k-two-limit-exact"):
             typer.echo("  exact: quadrature over the law of s at the worst split of each level")
-        shown = [[f"{100 * row[0]:.4g} %"] + [f"{v:.5f}" for v in row[1:]] for row in rows]
+        shown = [[common.fmt_level(row[0], False)] + [probability(v, 5) for v in row[1:]]
+                 for row in rows]
         typer.echo(common.table(shown, header))
         for path in (csv, plot):
             if path:

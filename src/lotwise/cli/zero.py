@@ -9,6 +9,7 @@ import typer
 
 from . import app, common
 from lotwise.core.quantities import InputError, Infeasible, parse_count, parse_level, parse_risk
+from lotwise.core.numbers import probability
 
 
 @app.command()
@@ -98,10 +99,10 @@ def _render_zero(rep: dict) -> str:
                       "your AQL)"]
     rows = []
     for m, e in rep["models"].items():
-        row = [m + (" *" if m == rep["model"] else ""), f"{e['pa_rql']:.5f}",
+        row = [m + (" *" if m == rep["model"] else ""), probability(e['pa_rql'], 5),
                format_pct(e["beta"])]
         if "pa_aql" in e:
-            row += [f"{e['pa_aql']:.5f}", format_pct(e["alpha"])]
+            row += [probability(e['pa_aql'], 5), format_pct(e["alpha"])]
         rows.append(row)
     header = ["model", "Pa(RQL)", "beta"] + (["Pa(AQL)", "alpha"] if "aql" in t else [])
     lines += ["", table(rows, header), "  (* the model the plan is judged by)", ""]
@@ -136,10 +137,10 @@ def _equivalent(given, scope, mdl, be, a, al, plot, force, as_json):
     pu = scope.per_unit
     lab = given.label
     where = "AQL" if eq.level_kind == "aql" else "plan's 95 % point"
-    rows = [[lab, str(rep["sample_sizes"]["plan"]), f"{eq.pa_point['plan']:.5f}",
-             f"{eq.pa_level['plan']:.5f}", format_pct(1 - eq.pa_level["plan"])],
-            [eq.zero_plan.label, str(eq.zero_plan.n), f"{eq.pa_point['zero_plan']:.5f}",
-             f"{eq.pa_level['zero_plan']:.5f}", format_pct(1 - eq.pa_level["zero_plan"])]]
+    rows = [[lab, str(rep["sample_sizes"]["plan"]), probability(eq.pa_point['plan'], 5),
+             probability(eq.pa_level['plan'], 5), format_pct(1 - eq.pa_level["plan"])],
+            [eq.zero_plan.label, str(eq.zero_plan.n), probability(eq.pa_point['zero_plan'], 5),
+             probability(eq.pa_level['zero_plan'], 5), format_pct(1 - eq.pa_level["zero_plan"])]]
     lines = [f"Accept-on-zero equivalent of {lab} ({mdl}"
              + (f", lot of {scope.lot_size})" if scope.lot_size else ")"),
              f"  shared RQL point {format_level(eq.point, pu)} (Pa = {format_pct(be)} for {lab}); "

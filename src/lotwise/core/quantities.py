@@ -224,16 +224,11 @@ def parse_rate(text, name: str, *, minimum: int = 0, whole: bool = False) -> int
 
 
 def format_pct(x: float, digits: int = 3) -> str:
-    """``0.0123 -> '1.23 %'`` with ``digits`` significant figures (fixed
-    notation, at least two decimals below 10 %)."""
-    if x is None or (isinstance(x, float) and math.isnan(x)):
-        return "-"
-    v = 100.0 * x
-    if v == 0:
-        return "0 %"
-    mag = math.floor(math.log10(abs(v)))
-    decimals = max(0, digits - 1 - mag)
-    return f"{v:.{decimals}f} %"
+    """``0.0123 -> '1.23 %'`` with ``digits`` significant figures, ppm below
+    0.1 % (:func:`lotwise.core.numbers.percent`)."""
+    from lotwise.core.numbers import percent
+
+    return percent(x, digits)
 
 
 def format_risk(x: float) -> str:
@@ -251,10 +246,9 @@ def format_risk_vs(x: float, target: float) -> str:
 
 
 def format_level(x: float, per_unit: bool = False) -> str:
-    """A quality level as a practitioner writes it: percent above 0.1 %,
-    ppm below, and per-unit counts for nonconformities."""
-    if per_unit:
-        return f"{x:g} per unit"
-    if x < 1e-3:
-        return f"{x * 1e6:.4g} ppm"
-    return f"{100 * x:.4g} %"
+    """A quality level as a practitioner writes it: percent from 0.1 %, ppm
+    below, and per-unit counts for nonconformities
+    (:func:`lotwise.core.numbers.level`)."""
+    from lotwise.core.numbers import level
+
+    return level(x, per_unit)

@@ -1,8 +1,10 @@
 """Writing large tables as CSV text, column by column.
 
 :func:`csv_chunks` gives the same text as ``DataFrame.to_csv(index=False,
-lineterminator="\\n")`` (minimal quoting, empty cells for missing values,
-floats as their shortest round-trip repr) but formats each column's distinct
+lineterminator="\\n")`` (minimal quoting, empty cells for missing values)
+except that floats carry at most ten significant digits
+(:func:`lotwise.core.numbers.csv_number`: no float noise such as
+``0.006500000000000001``), and formats each column's distinct
 values once and joins the rows in slices, so a million-row batch costs
 seconds, not tens of seconds, and never holds the whole text twice.
 
@@ -26,9 +28,10 @@ from __future__ import annotations
 
 import csv
 import io
-import math
 
 import numpy as np
+
+from lotwise.core.numbers import csv_number
 
 __all__ = ["csv_chunks", "frame_csv"]
 
@@ -45,8 +48,9 @@ def _quoted(text: str, sep: str = ",") -> str:
 
 
 def _float(v, decimal: str = ".") -> str:
-    """A float as its shortest round-trip text, with ``decimal`` as the mark."""
-    text = repr(float(v))
+    """A float to at most ten significant digits (:func:`csv_number`), with
+    ``decimal`` as the mark."""
+    text = csv_number(float(v))
     return text if decimal == "." else text.replace(".", decimal)
 
 

@@ -15,8 +15,10 @@ old seeds re-create, and is therefore a breaking change.
 1. The generator is ``rng = numpy.random.default_rng(seed)``: numpy's
    :class:`~numpy.random.Generator` over the PCG64 bit generator, seeded
    through :class:`~numpy.random.SeedSequence` [1]_. When no seed is given a
-   fresh one is taken from ``numpy.random.SeedSequence().entropy`` (a
-   128-bit number from the operating system) and recorded.
+   fresh one of at most ten digits is taken from the operating system
+   (``secrets.randbelow(10**10)``) and recorded; any seed up to
+   ``2**128 - 1`` is still accepted, so lists drawn with the longer seeds
+   earlier versions chose are re-created.
 2. *Simple random*: ``rng.choice(N, n, replace=False)`` draws ``n`` distinct
    numbers from ``0 .. N-1`` [1]_; adding 1 and sorting gives the unit
    numbers. Every set of ``n`` units is equally likely.
@@ -69,7 +71,7 @@ first carton gets the spare unit:
 
 >>> d = draw_units(lot_size=1000, n=32, seed=4711, strata="cartons=400,350,250")
 >>> [(s.label, s.allocated) for s in d.strata]
-[('cartons 1', 13), ('cartons 2', 11), ('cartons 3', 8)]
+[('carton 1 of 3', 13), ('carton 2 of 3', 11), ('carton 3 of 3', 8)]
 >>> draw_units(lot_size=1000, n=32, seed=4711, strata="cartons=400,350,250").units == d.units
 True
 """
@@ -87,7 +89,8 @@ import numpy as np
 from lotwise.core.quantities import InputError, parse_seed
 
 __all__ = ["Stratum", "Pick", "Draw", "draw_units", "split_strata", "allocate",
-           "MAX_LOT", "MAX_N", "MAX_STRATA", "MAX_SEED"]
+           "stratum_label", "singular", "fresh_seed", "MAX_LOT", "MAX_N", "MAX_STRATA",
+           "MAX_SEED", "FRESH_DIGITS"]
 
 #: Largest lot size accepted (the same bound as the other commands).
 MAX_LOT = 10**12
@@ -95,8 +98,10 @@ MAX_LOT = 10**12
 MAX_N = 100_000
 #: Most strata accepted.
 MAX_STRATA = 100_000
-#: Largest seed accepted: 2**128 - 1, the size of a fresh seed.
+#: Largest seed accepted: 2**128 - 1 (what earlier versions drew as a fresh seed).
 MAX_SEED = 2**128 - 1
+#: Digits of a fresh seed at most: short enough to copy from a printed pick list.
+FRESH_DIGITS = 10
 
 ALGORITHM = ("numpy.random.default_rng(seed); simple random: sorted(rng.choice(N, n, "
              "replace=False)) + 1; stratified: largest-remainder allocation, then "
@@ -216,9 +221,47 @@ def _whole(value, option: str, minimum: int, maximum: int) -> int:
     return value
 
 
+def fresh_seed() -> int:
+    """A new seed of at most :data:`FRESH_DIGITS` digits (from the operating
+    system's randomness), short enough to copy from a printed pick list.
+
+    >>> 0 <= fresh_seed() < 10**FRESH_DIGITS
+    True
+    """
+    import secrets
+
+    return secrets.randbelow(10**FRESH_DIGITS)
+
+
+def stratum_label(name: str, k: int, count: int) -> str:
+    """A stratum's label with its index in words: ``stratum_label("trays", 1, 20)``
+    is ``'tray 1 of 20'`` (a plural name is made singular by the English rules
+    for regular nouns: -ies to -y; -ches, -shes, -sses, -xes, -zes lose -es;
+    otherwise a final -s not after another s is dropped).
+
+    >>> stratum_label("trays", 1, 20), stratum_label("boxes", 3, 4), stratum_label("stratum", 2, 2)
+    ('tray 1 of 20', 'box 3 of 4', 'stratum 2 of 2')
+    """
+    return f"{singular(name)} {k} of {count}"
+
+
+def singular(name: str) -> str:
+    """The singular of a regular English plural (``'cartons' -> 'carton'``,
+    ``'batches' -> 'batch'``, ``'trolleys' -> 'trolley'``, ``'bodies' ->
+    'body'``); a name that is not such a plural is kept."""
+    low = name.lower()
+    if low.endswith("ies") and len(name) > 4:
+        return name[:-3] + ("Y" if name[-1].isupper() else "y")
+    if low.endswith(("ches", "shes", "sses", "xes", "zes")):
+        return name[:-2]
+    if low.endswith("s") and not low.endswith(("ss", "us", "is")) and len(name) > 2:
+        return name[:-1]
+    return name
+
+
 def _seed(seed) -> int:
     if seed is None:
-        return int(np.random.SeedSequence().entropy)
+        return fresh_seed()
     if isinstance(seed, np.integer) and not isinstance(seed, np.bool_):
         seed = int(seed)
     return parse_seed(seed, "--seed", bits=128)
@@ -335,7 +378,8 @@ def draw_units(*, lot_size, n, seed=None, strata=None) -> Draw:
     n : int
         Units to pull (at most ``lot_size``).
     seed : int or str of digits, optional
-        0 to 2**128 - 1. When omitted a fresh seed is drawn and recorded.
+        0 to 2**128 - 1. When omitted a fresh seed of at most ten digits is
+        drawn and recorded.
     strata : str, int or sequence of int, optional
         ``"cartons=40"`` (40 equal consecutive strata) or
         ``"cartons=120,120,80"`` (explicit sizes), see :func:`split_strata`.
@@ -379,7 +423,7 @@ def draw_units(*, lot_size, n, seed=None, strata=None) -> Draw:
     out: list[Stratum] = []
     first = 1
     for k, (size, a) in enumerate(zip(sizes, alloc), 1):
-        label = f"{name} {k}"
+        label = stratum_label(name, k, len(sizes))
         out.append(Stratum(label=label, first_unit=first, size=size, allocated=a))
         if a > 0:
             pos = np.sort(rng.choice(size, a, replace=False)) + 1

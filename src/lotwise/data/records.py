@@ -689,9 +689,10 @@ def signal_text(sig: dict) -> str:
 
 
 def _prob(p: float) -> str:
-    if p < 1e-4:
-        return f"{p:.2g}"
-    return f"{p:.4f}".rstrip("0").rstrip(".") if p < 1 else "1"
+    """A probability in a sentence (:func:`lotwise.core.numbers.probability`)."""
+    from lotwise.core.numbers import probability
+
+    return probability(p)
 
 
 @dataclass(frozen=True, kw_only=True)

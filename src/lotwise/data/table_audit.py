@@ -17,6 +17,7 @@ Examples
 
 from __future__ import annotations
 
+from lotwise.core.numbers import csv_number
 from lotwise.core.quantities import InputError, parse_count, parse_level
 
 __all__ = ["AUDIT_REQUIRED", "AUDIT_COLUMNS", "read_audit_csv", "audit_csv_text"]
@@ -100,5 +101,5 @@ def _cell(v) -> str:
     if v is None:
         return ""
     if isinstance(v, float):
-        return repr(v)
+        return csv_number(v)
     return str(v)

@@ -45,7 +45,7 @@ from dataclasses import dataclass, field
 
 from lotwise.families.single import design_single
 from lotwise.families.single import SinglePlan
-from lotwise.core.quantities import Infeasible, InputError
+from lotwise.core.quantities import Infeasible, InputError, format_pct
 from lotwise.analysis.assess import assess
 
 __all__ = ["PartPlan", "resolve", "PlanReference", "plan_from_reference", "pick_seed", "own_note"]
@@ -127,8 +127,8 @@ def _common_sample(req, chars, floor: int = 0) -> tuple[int, list]:
                     # A larger sample only lowers Pa at the AQL further.
                     raise Infeasible(
                         f"at the common sample n = {n}, characteristic {ch.id} with its fixed "
-                        f"c = {ch.c} carries alpha {100 * mr['alpha']:.3g} % (target "
-                        f"{100 * t.alpha:.3g} %); relax its AQL or inspect it on a sample "
+                        f"c = {ch.c} carries alpha {format_pct(mr['alpha'])} (target "
+                        f"{format_pct(t.alpha)}); relax its AQL or inspect it on a sample "
                         "of its own")
                 if not mr["meets_beta"]:
                     short = ch

@@ -29,7 +29,9 @@ from __future__ import annotations
 
 import numpy as np
 
-from lotwise.documents.plots.style import STYLE, mpl, pct_axis, new_axes
+from lotwise.core.numbers import percent
+from lotwise.documents.plots.style import (STYLE, cycle_style, legend_outside, mpl, new_axes,
+                                           pct_axis, plain_decimal, plain_log_axis)
 
 __all__ = ["run_chart_figure", "run_charts_figure", "tradeoff_figure"]
 
@@ -67,25 +69,25 @@ def run_chart_figure(chart, *, process_average: float, title: str | None = None,
                 markerfacecolor="none", markeredgecolor="0.35", markeredgewidth=0.9,
                 label="run-rule signal", zorder=2.5)
     ax.axhline(process_average, **STYLE["exact"], label=f"process average "
-               f"{100 * process_average:.3g} %")
+               f"{percent(process_average)}")
     upper = np.asarray(chart["upper"], dtype=float)
     lower = np.asarray(chart["lower"], dtype=float)
     lim = {**STYLE["poisson"], "linewidth": 1.1}
     ax.step(x, upper, where="mid", **lim,
-            label=f"exact binomial limits ({100 * tail:.3g} % each side)")
+            label=f"exact binomial limits ({percent(tail)} each side)")
     if np.any(lower > 0):
         ax.step(x, lower, where="mid", **lim)
     if xlabel != "Inspection date":
         ax.set_xlim(0.5, max(y.size, 1) + 0.5)
     top = max(float(np.max(upper, initial=0)), float(np.max(y, initial=0)), process_average)
-    ax.set_ylim(bottom=0, top=(top or 0.01) * 1.45)  # headroom for the legend
+    ax.set_ylim(bottom=0, top=(top or 0.01) * 1.08)
     ax.set_xlabel(xlabel, fontsize=9.5)
     dress(ax)
     ax.set_ylabel("Lot fraction nonconforming (%)", fontsize=9.5)
     pct_axis(ax, False, "y")
     if title:
         ax.set_title(title, fontsize=10.5, loc="left")
-    ax.legend(fontsize=6.8, frameon=False, loc="upper left", ncol=3, columnspacing=1.2)
+    legend_outside(ax, fontsize=6.8, ncol=3)
     fig.tight_layout()
     return fig
 
@@ -116,7 +118,12 @@ def _lot_axis(chart, m: int):
                     t.set_rotation(30)
                     t.set_ha("right")
             return dates, "Inspection date", turn
-    return np.arange(1, m + 1), "Lot, in inspection order", lambda ax: None
+
+    def whole(ax):
+        from matplotlib.ticker import MaxNLocator
+
+        ax.xaxis.set_major_locator(MaxNLocator(integer=True))  # lots are counted
+    return np.arange(1, m + 1), "Lot, in inspection order", whole
 
 
 def run_charts_figure(groups, *, limit: int = 8):
@@ -151,16 +158,13 @@ def tradeoff_figure(rows, *, axes=None, title: str | None = None):
     fig = axes[0].figure
     for ax in axes:
         new_axes(ax)
-    markers = ("o", "s", "^", "D", "v", "P", "X", "*")
-    styles = [STYLE["exact"], STYLE["poisson"], STYLE["binomial"]] + STYLE["other"]
     aqls = sorted({r.aql for r in rows if r.plan is not None})
     for i, a in enumerate(aqls):
         sub = sorted((r for r in rows if r.aql == a and r.plan is not None),
                      key=lambda r: r.ratio)
         x = [r.ratio for r in sub]
-        st = {**styles[i % len(styles)], "marker": markers[i % len(markers)],
-              "markersize": 5, "markerfacecolor": "white"}
-        label = f"AQL {100 * a:.3g} %"
+        st = cycle_style(i, dense=False)
+        label = f"AQL {percent(a, trim=True)}"
         axes[0].plot(x, [r.n for r in sub], label=label, **st)
         if len(axes) > 1:
             axes[1].plot(x, [r.p_reject_predictive if r.p_reject_predictive is not None
@@ -171,7 +175,6 @@ def tradeoff_figure(rows, *, axes=None, title: str | None = None):
     axes[0].set_ylabel("Sample size n", fontsize=9.5)
     axes[0].set_title(title or "Sample size against the discrimination ratio", fontsize=10,
                       loc="left")
-    axes[0].legend(fontsize=7.5, frameon=False)
     if len(axes) > 1:
         axes[1].set_xscale("log")
         axes[1].set_xlabel("Discrimination ratio RQL / AQL", fontsize=9.5)
@@ -179,18 +182,25 @@ def tradeoff_figure(rows, *, axes=None, title: str | None = None):
         axes[1].set_title("Supplier's expected rejection rate", fontsize=10, loc="left")
         pct_axis(axes[1], False, "y")
         axes[1].set_ylim(bottom=0)
-        axes[1].legend(fontsize=7.5, frameon=False)
     from matplotlib.ticker import FixedLocator, FuncFormatter, NullFormatter, NullLocator
 
-    plain = FuncFormatter(lambda v, _: f"{v:g}")
     ratios = [r.ratio for r in rows if r.plan is not None]
     nice = [1, 1.25, 1.5, 2, 3, 4, 5, 6, 8, 10, 15, 20, 30, 50, 100, 200, 500, 1000]
-    ticks = [t for t in nice if min(ratios) / 1.05 <= t <= max(ratios) * 1.05] or nice
+    inside = [t for t in nice if min(ratios) / 1.05 <= t <= max(ratios) * 1.05] or nice
+    span = np.log10(max(inside) / min(inside)) or 1.0
+    ticks = []
+    first = (1, 2, 5, 10, 20, 50, 100, 200, 500, 1000, 3, 1.5, 4, 8, 30, 15, 6, 1.25)
+    for t in sorted(inside, key=first.index):  # round values first, then fill the gaps,
+        if all(abs(np.log10(t / u)) >= span / 11 for u in ticks):  # no two labels touching
+            ticks.append(t)
+    ticks.sort()
     for ax in axes:
         ax.xaxis.set_major_locator(FixedLocator(ticks))
         ax.xaxis.set_minor_locator(NullLocator())
-        ax.xaxis.set_major_formatter(plain)
+        ax.xaxis.set_major_formatter(FuncFormatter(lambda v, _: plain_decimal(v)))
         ax.xaxis.set_minor_formatter(NullFormatter())
-    axes[0].yaxis.set_major_formatter(plain)
+    plain_log_axis(axes[0].yaxis)
+    for ax in axes:
+        legend_outside(ax)
     fig.tight_layout()
     return fig

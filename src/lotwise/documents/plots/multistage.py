@@ -18,13 +18,16 @@ from __future__ import annotations
 
 import numpy as np
 
-from lotwise.documents.plots.style import STYLE, MARKERS, pct_axis, new_axes
+from lotwise.documents.plots.style import (STYLE, MARKERS, cycle_style, legend_outside,
+                                           level_text, new_axes, pct_axis)
 
 __all__ = ["asn_figure", "tradeoff_figure", "sequential_figure", "oc_asn_figure"]
 
 
-def _styles():
-    return [STYLE["exact"], STYLE["poisson"], STYLE["binomial"]] + STYLE["other"]
+def _style(i: int, count: int) -> dict:
+    """The ``i``-th of ``count`` curves: one curve solid, several after
+    :data:`~lotwise.documents.plots.style.CYCLE`."""
+    return dict(STYLE["exact"]) if count == 1 else cycle_style(i)
 
 
 def _xlabel(per_unit):
@@ -63,17 +66,16 @@ def asn_figure(items, *, model=None, aql=None, rql=None, max_p=None, labels=None
             max_p = min(max_p, 1.0)
     ps = np.linspace(0.0, max_p, points)
     labels = labels or [p.label for p, _ in items]
-    styles = _styles()
     first_y = None
     top = 0.0
     for i, ((plan, scope), label) in enumerate(zip(items, labels)):
         m = model or scope.exact_model
         y = np.asarray(plan.asn(ps, m, scope), dtype=float)
         top = max(top, float(np.max(y)))
-        ax.plot(ps, y, label=label, **styles[i % len(styles)])
+        ax.plot(ps, y, label=label, **_style(i, len(items)))
         if curtailed and plan.has_curtailment:
             yc = np.asarray(plan.asn_curtailed(ps, m, scope), dtype=float)
-            st = dict(styles[i % len(styles)])
+            st = _style(i, len(items))
             st["linewidth"] = 0.9
             ax.plot(ps, yc, label=curtailed_label.format(label=label), **st)
         if first_y is None:
@@ -86,7 +88,7 @@ def asn_figure(items, *, model=None, aql=None, rql=None, max_p=None, labels=None
         ax.axvline(level, color="0.55", linewidth=0.7, linestyle=":")
         ax.plot([level], [y], marker=marker, markersize=7, markerfacecolor="white",
                 markeredgecolor="0.0", markeredgewidth=1.3, linestyle="none",
-                label=(f"{name} {100 * level:.3g} %" if not per_unit else f"{name} {level:g}/unit"))
+                label=f"{name} {level_text(level, per_unit)}")
     ax.set_xlim(0, max_p)
     ax.set_ylim(0, top * 1.08 + 1)
     ax.set_xlabel(_xlabel(per_unit), fontsize=9.5)
@@ -94,7 +96,7 @@ def asn_figure(items, *, model=None, aql=None, rql=None, max_p=None, labels=None
     pct_axis(ax, per_unit)
     if title:
         ax.set_title(title, fontsize=10.5, loc="left")
-    ax.legend(fontsize=7.5, frameon=False, loc="upper right")
+    legend_outside(ax)
     fig.tight_layout()
     return fig
 
@@ -114,38 +116,42 @@ def tradeoff_figure(result, *, ax=None, title=None):
         new_axes(a2)
     else:
         fig, a1, a2 = ax.figure, ax, None
-    styles = _styles()
     top = 0.0
+    k = len(result.asn_curves)
     for i, (label, y) in enumerate(result.asn_curves.items()):
-        a1.plot(result.ps, y, label=label, **styles[i % len(styles)])
+        a1.plot(result.ps, y, label=label, **_style(i, k))
         top = max(top, float(np.max(y)))
     for level, marker, name in ((t.aql, "o", "AQL"), (t.rql, "s", "RQL")):
         a1.axvline(level, color="0.55", linewidth=0.7, linestyle=":")
         for i, row in enumerate(r for r in result.rows if r.plan is not None):
             y = row.asn_aql if name == "AQL" else row.asn_rql
             a1.plot([level], [y], marker=marker, markersize=6, markerfacecolor="white",
-                    markeredgecolor="0.0", markeredgewidth=1.1, linestyle="none")
+                    markeredgecolor="0.0", markeredgewidth=1.1, linestyle="none",
+                    label=f"{name} {level_text(level, per_unit)}" if i == 0 else None)
     a1.set_xlim(0, float(result.ps.max()))
     a1.set_ylim(0, top * 1.08 + 1)
     a1.set_xlabel(_xlabel(per_unit), fontsize=9.5)
     a1.set_ylabel("Average sample number (units)", fontsize=9.5)
-    a1.set_title(title or f"ASN, {result.model} model (AQL o, RQL s)", fontsize=10, loc="left")
+    a1.set_title(title or f"Average sample number, {result.model} model", fontsize=10,
+                 loc="left")
     pct_axis(a1, per_unit)
-    below = dict(fontsize=7, frameon=False, loc="upper center", bbox_to_anchor=(0.5, -0.14))
-    a1.legend(**below)
+    legend_outside(a1, ncol=1, fontsize=7)
     if a2 is not None:
+        k = len(result.pa_curves)
         for i, (label, y) in enumerate(result.pa_curves.items()):
-            a2.plot(result.ps, y, label=label, **styles[i % len(styles)])
-        for level, marker, prob in ((t.aql, "o", 1 - t.alpha), (t.rql, "s", t.beta)):
+            a2.plot(result.ps, y, label=label, **_style(i, k))
+        for level, marker, prob, name, risk in ((t.aql, "o", 1 - t.alpha, "AQL", "1 - alpha"),
+                                                (t.rql, "s", t.beta, "RQL", "beta")):
             a2.plot([level], [prob], marker=marker, markersize=7, markerfacecolor="white",
-                    markeredgecolor="0.0", markeredgewidth=1.3, linestyle="none")
+                    markeredgecolor="0.0", markeredgewidth=1.3, linestyle="none",
+                    label=f"{name} {level_text(level, per_unit)} at Pa {prob:.3g} ({risk})")
         a2.set_xlim(0, float(result.ps.max()))
         a2.set_ylim(0, 1.02)
         a2.set_xlabel(_xlabel(per_unit), fontsize=9.5)
         a2.set_ylabel("Probability of acceptance Pa", fontsize=9.5)
         a2.set_title("OC curves with the two risk points", fontsize=10, loc="left")
         pct_axis(a2, per_unit)
-        a2.legend(**below)
+        legend_outside(a2, ncol=1, fontsize=7)
     fig.tight_layout()
     return fig
 
@@ -190,7 +196,7 @@ def sequential_figure(plan, *, per_unit=False, ax=None, title=None, upto=None):
                   fontsize=9.5)
     if title:
         ax.set_title(title, fontsize=10.5, loc="left")
-    ax.legend(fontsize=7.2, frameon=False, loc="upper left")
+    legend_outside(ax, fontsize=7.2)
     fig.tight_layout()
     return fig
 

@@ -6,7 +6,7 @@ from __future__ import annotations
 import numpy as np
 
 from lotwise.core.types import Scope
-from lotwise.documents.plots.style import STYLE, new_axes, pct_axis
+from lotwise.documents.plots.style import STYLE, legend_outside, new_axes, pct_axis
 from lotwise.families.skiplot import SkipLotPlan
 
 __all__ = ["skiplot_figure"]
@@ -45,8 +45,8 @@ def skiplot_figure(plan: SkipLotPlan, scope: Scope, ax=None, *, model=None, max_
     ax.set_xlabel("Quality level: nonconformities per unit" if pu
                   else "Quality level: nonconforming (%)", fontsize=9.5)
     pct_axis(ax, pu)
-    ax.set_title(title or f"Skip-lot i={plan.i}, f={plan.f:g} ({model})", fontsize=10.5,
-                 loc="left")
-    ax.legend(fontsize=7.5, frameon=False, loc="upper right")
+    ax.set_title(title or f"Skip-lot plan i={plan.i}, f={plan.f:g}, {model} model",
+                 fontsize=10.5, loc="left")
+    legend_outside(ax)
     fig.tight_layout()
     return fig

@@ -6,9 +6,12 @@ takes an optional ``ax`` and returns the figure.
 
 The style is plain and survives grey print: the exact model is a solid
 line, the Poisson approximation dashed, the binomial dotted where it is not
-the exact model, further plans dash-dotted; the AQL point is marked with an
-open circle and the RQL point with an open square, each with a thin guide
-line to the axes.
+the exact model; several plans (up to eight) differ in dash pattern and in
+marker (:data:`CYCLE`); the AQL point is marked with an open circle and the
+RQL point with an open square, each with a thin guide line to the axes.
+Legends sit outside the data area, below the axis label
+(:func:`legend_outside`); log axes are labelled in plain decimals
+(:func:`plain_log_axis`).
 
 Examples
 --------
@@ -23,7 +26,9 @@ from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["oc_figure", "curve_figure", "new_axes", "target_point", "STYLE"]
+__all__ = ["oc_figure", "curve_figure", "new_axes", "target_point", "STYLE", "CYCLE",
+           "cycle_style", "legend_outside", "legend_above", "plain_log_axis",
+           "plain_decimal", "level_text"]
 
 #: Line styles by role; grey levels rather than hues.
 STYLE = {
@@ -39,6 +44,117 @@ STYLE = {
 }
 
 MARKERS = ("o", "s", "^", "D", "v", "P")
+
+#: Eight curves told apart in grey print: each differs from every other in
+#: its dash pattern AND its marker (open markers, spaced along the curve).
+#: The circle and the square are left to the AQL and RQL points.
+CYCLE = (
+    {"color": "0.0", "linestyle": "-", "marker": "^"},
+    {"color": "0.3", "linestyle": (0, (5, 2)), "marker": "D"},
+    {"color": "0.45", "linestyle": (0, (1, 1.5)), "marker": "v"},
+    {"color": "0.15", "linestyle": (0, (6, 2, 1, 2)), "marker": "P"},
+    {"color": "0.5", "linestyle": (0, (2, 1)), "marker": "X"},
+    {"color": "0.25", "linestyle": (0, (8, 2, 1, 2, 1, 2)), "marker": "*"},
+    {"color": "0.55", "linestyle": (0, (10, 3)), "marker": "<"},
+    {"color": "0.1", "linestyle": (0, (3, 1, 1, 1, 1, 1)), "marker": ">"},
+)
+
+
+def cycle_style(i: int, *, dense: bool = True) -> dict:
+    """Keyword arguments of ``ax.plot`` for the ``i``-th of several curves
+    (:data:`CYCLE`, repeating after eight). ``dense`` curves (hundreds of
+    points) carry a marker every tenth of the curve's length, each curve at
+    its own offset so markers of neighbouring curves do not sit together."""
+    st = dict(CYCLE[i % len(CYCLE)])
+    st.update(linewidth=1.5, markersize=5.5, markerfacecolor="white",
+              markeredgecolor=st["color"], markeredgewidth=1.1)
+    if dense:
+        st["markevery"] = (0.013 * (i % len(CYCLE)), 0.1)
+    return st
+
+
+def legend_outside(ax, *, where: str = "below", ncol: int | None = None,
+                   fontsize: float = 7.5, grow: bool = True):
+    """The legend of ``ax`` outside its data area, clear of the ticks and
+    the axis labels: ``"below"`` the x-axis label (columns side by side) or
+    to the ``"right"`` of the axes. The gap below is measured in points from
+    the drawn tick labels and axis label, so a later ``tight_layout`` keeps
+    it. A figure made here (``new_axes`` without ``ax``) grows by the
+    legend's height (``grow``) so the data area keeps its size. Returns the
+    legend, or None when there is nothing to show."""
+    if ax.get_legend() is not None:
+        ax.get_legend().remove()
+    handles, labels = ax.get_legend_handles_labels()
+    if not handles:
+        return None
+    fig = ax.figure
+    if where == "right":
+        return ax.legend(fontsize=fontsize, frameon=False, loc="upper left",
+                         bbox_to_anchor=(1.0, 1.0), borderaxespad=1.0)
+    if ncol is None:
+        longest = max(len(t) for t in labels)
+        ncol = 1 if longest > 42 or len(labels) < 3 else 2
+    renderer = fig.canvas.get_renderer()
+    below = ax.xaxis.get_tightbbox(renderer)  # tick labels and axis label, not the y label
+    gap_px = max(ax.bbox.y0 - below.y0, 0.0) if below is not None else 0.0
+    gap_pt = gap_px * 72.0 / fig.dpi + 6.0
+    leg = ax.legend(fontsize=fontsize, frameon=False, loc="upper center",
+                    bbox_to_anchor=(0.5, 0.0), borderaxespad=gap_pt / fontsize, ncol=ncol,
+                    columnspacing=1.5, handlelength=3.2)
+    if grow and getattr(fig, "_lotwise_own", False) and len(fig.axes) == 1:
+        h = leg.get_window_extent(renderer).height / fig.dpi + gap_pt / 72.0
+        w, h0 = fig.get_size_inches()
+        fig.set_size_inches(w, h0 + h)
+    return leg
+
+
+def legend_above(ax, floor: float) -> None:
+    """Raise the bottom of ``ax`` (shortening it) until the legend
+    :func:`legend_outside` put below it ends above ``floor`` (a fraction of
+    the figure's height): for axes placed on a page whose space below is
+    taken."""
+    leg = ax.get_legend()
+    if leg is None:
+        return
+    fig = ax.figure
+    bottom = leg.get_window_extent(fig.canvas.get_renderer()).y0 / fig.bbox.height
+    if bottom < floor:
+        pos = ax.get_position()
+        lift = min(floor - bottom, 0.8 * pos.height)
+        ax.set_position([pos.x0, pos.y0 + lift, pos.width, pos.height - lift])
+
+
+def plain_decimal(v: float) -> str:
+    """A tick value as a plain decimal: ``600``, ``0.002``, ``12,000`` (whole
+    thousands grouped by commas).
+
+    >>> plain_decimal(600.0), plain_decimal(0.002), plain_decimal(12000.0), plain_decimal(1.5)
+    ('600', '0.002', '12,000', '1.5')
+    """
+    if v == 0:
+        return "0"
+    if abs(v) >= 1000 and float(v).is_integer():
+        return f"{v:,.0f}"
+    return np.format_float_positional(float(f"{v:.6g}"), trim="-")
+
+
+def plain_log_axis(axis) -> None:
+    """Plain decimal tick labels on a log-scaled ``axis`` (``ax.xaxis`` or
+    ``ax.yaxis``): majors always, minors only over a short span."""
+    from matplotlib.ticker import FuncFormatter
+
+    def major(v, _pos):
+        return plain_decimal(v)
+
+    def minor(v, _pos):
+        lo, hi = sorted(axis.get_view_interval())
+        if lo <= 0 or np.log10(hi / lo) > 1.5:
+            return ""
+        digit = round(v / 10 ** np.floor(np.log10(v) + 1e-9), 6)
+        return plain_decimal(v) if digit in (2, 3, 5) or np.log10(hi / lo) < 0.7 else ""
+
+    axis.set_major_formatter(FuncFormatter(major))
+    axis.set_minor_formatter(FuncFormatter(minor))
 
 
 class _Figures:
@@ -97,7 +213,7 @@ def pct_axis(ax, per_unit: bool, which: str = "x"):
 
     if per_unit:
         return
-    fmt = FuncFormatter(lambda v, _: f"{100 * v:.3g}")
+    fmt = FuncFormatter(lambda v, _: plain_decimal(100 * v))  # plain decimals, never 1e-05
     (ax.xaxis if which == "x" else ax.yaxis).set_major_formatter(fmt)
 
 
@@ -137,23 +253,29 @@ def oc_figure(items, *, models=None, aql=None, rql=None, alpha=None, beta=None,
     ps = np.linspace(0.0, max_p, points)
     labels = labels or [p.label for p, _ in items]
 
+    several = len(items) > 1
     order = [exact] + [m for m in models if m != exact]
     for m in order:
         if m not in models:
             continue
         if m == exact:
-            style, name = STYLE["exact"], f"{labels[0]}: {m} (exact)"
+            style = cycle_style(0) if several else STYLE["exact"]
+            name = f"{labels[0]}: {m} (exact)"
         else:
             style, name = STYLE.get(m, STYLE["poisson"]), f"{labels[0]}: {m}"
+            if several:  # beside other plans' curves: thin, without markers
+                style = {**style, "linewidth": 0.9}
         if m == "hypergeometric" and scope0.lot_size:  # at the whole counts a lot can hold
             N = scope0.lot_size
             xs = np.arange(0, min(N, int(np.ceil(max_p * N))) + 1) / N
+            if "markevery" in style and xs.size < 40:
+                style = {**style, "markevery": 1}
             ax.plot(xs, plan0.pa_count(xs * N, scope0), label=name, **style)
             continue
         ax.plot(ps, plan0.pa(ps, m, scope0), label=name, **style)
 
     for i, (plan, scope) in enumerate(items[1:]):
-        style = STYLE["other"][i % len(STYLE["other"])]
+        style = cycle_style(i + 1)
         own = plan.judging_model(scope)
         ax.plot(ps, plan.pa(ps, scope.exact_model, scope), label=f"{labels[i + 1]}: {own}",
                 **style)
@@ -166,8 +288,7 @@ def oc_figure(items, *, models=None, aql=None, rql=None, alpha=None, beta=None,
         ax.plot([0, x], [y, y], color="0.55", linewidth=0.7, linestyle=":")
         ax.plot([x], [y], marker=marker, markersize=7, markerfacecolor="white",
                 markeredgecolor="0.0", markeredgewidth=1.3, linestyle="none",
-                label=f"{name} {100 * level:.3g} %{where}: Pa {y:.3f}" if not per_unit
-                else f"{name} {level:g}/unit: Pa {y:.3f}")
+                label=f"{name} {level_text(level, per_unit)}{where}: Pa {y:.3f}")
 
     ax.set_xlim(0, max_p)
     ax.set_ylim(0, 1.02)
@@ -177,9 +298,17 @@ def oc_figure(items, *, models=None, aql=None, rql=None, alpha=None, beta=None,
     pct_axis(ax, per_unit)
     if title:
         ax.set_title(title, fontsize=10.5, loc="left")
-    ax.legend(fontsize=7.5, frameon=False, loc="upper right")
+    legend_outside(ax)
     _tidy(fig)
     return fig
+
+
+def level_text(level: float, per_unit: bool) -> str:
+    """A marked quality level in a legend (:func:`lotwise.core.numbers.level`):
+    ``'1 %'``, ``'250 ppm'``, ``'0.5/unit'``."""
+    from lotwise.core import numbers
+
+    return f"{numbers.significant(level, 4)}/unit" if per_unit else numbers.level(level)
 
 
 def target_point(plan, level: float, model: str, scope, rounding: str):
@@ -204,9 +333,10 @@ def curve_figure(x, curves, *, xlabel, ylabel, per_unit=False, ax=None, title=No
     ``(x, y, label)`` points drawn with open markers.
     """
     fig, ax = new_axes(ax)
-    styles = [STYLE["exact"], STYLE["poisson"], STYLE["binomial"]] + STYLE["other"]
+    styles = [STYLE["exact"], STYLE["poisson"], STYLE["binomial"]]
     for i, (label, y) in enumerate(curves):
-        ax.plot(x, y, label=label, **styles[i % len(styles)])
+        ax.plot(x, y, label=label, **(styles[i] if len(curves) <= len(styles)
+                                      else cycle_style(i)))
     for i, (mx, my, label) in enumerate(marks):
         ax.plot([mx], [my], marker=MARKERS[i % len(MARKERS)], markersize=7,
                 markerfacecolor="white", markeredgecolor="0.0", markeredgewidth=1.3,
@@ -220,6 +350,6 @@ def curve_figure(x, curves, *, xlabel, ylabel, per_unit=False, ax=None, title=No
         pct_axis(ax, False, "y")
     if title:
         ax.set_title(title, fontsize=10.5, loc="left")
-    ax.legend(fontsize=7.5, frameon=False)
+    legend_outside(ax)
     _tidy(fig)
     return fig

@@ -18,7 +18,7 @@ import numpy as np
 
 __all__ = ["scheme_figure"]
 
-_PLAN_STYLE = {"normal": "poisson", "tightened": "binomial", "reduced": 0}
+_PLAN_STYLE = {"normal": 1, "tightened": 2, "reduced": 3}  # places in the curve cycle
 
 
 def scheme_figure(scheme, scope, *, model=None, max_p=None, points: int = 101, aql=None,
@@ -27,7 +27,8 @@ def scheme_figure(scheme, scope, *, model=None, max_p=None, points: int = 101, a
     expected lots from a fresh start on normal until the first switch to
     tightened and until discontinuation, on a log scale. Returns the figure."""
     from lotwise.analysis.switching import scheme_oc
-    from lotwise.documents.plots.style import STYLE, mpl, pct_axis
+    from lotwise.documents.plots.style import (STYLE, cycle_style, legend_outside, level_text,
+                                               mpl, pct_axis)
 
     plt = mpl()
     model = scope.check_model(model)
@@ -54,9 +55,8 @@ def scheme_figure(scheme, scope, *, model=None, max_p=None, points: int = 101, a
     ax.plot(ps, [lv.pa for lv in oc], label="whole scheme (long run)",
             **{**STYLE["exact"], "linewidth": 2.4})
     for sev, plan in scheme.plans().items():
-        key = _PLAN_STYLE[sev]
-        style = STYLE[key] if isinstance(key, str) else STYLE["other"][key]
-        ax.plot(ps, [lv.plan_pa[sev] for lv in oc], label=f"{sev} {plan.label}", **style)
+        ax.plot(ps, [lv.plan_pa[sev] for lv in oc], label=f"{sev} {plan.label}",
+                **cycle_style(_PLAN_STYLE[sev], dense=points > 30))
     found = iter(at)
     for level, marker, name in ((aql, "o", "AQL"), (rql, "s", "RQL")):
         lv = next(found) if level is not None else None
@@ -64,11 +64,11 @@ def scheme_figure(scheme, scope, *, model=None, max_p=None, points: int = 101, a
             y = lv.pa
             ax.plot([level], [y], marker=marker, markersize=7, markerfacecolor="white",
                     markeredgecolor="0.0", markeredgewidth=1.3, linestyle="none",
-                    label=f"{name}: scheme Pa {y:.3f}")
+                    label=f"{name} {level_text(level, pu)}: scheme Pa {y:.3f}")
     ax.set_ylim(0, 1.02)
     ax.set_ylabel("Probability of acceptance", fontsize=9.5)
-    ax.legend(fontsize=7.5, frameon=False, loc="upper right")
-    ax.set_title(title or f"Switching scheme ({model})", fontsize=10.5, loc="left")
+    ax.set_title(title or f"Switching scheme, {model} model", fontsize=10.5, loc="left")
+    legend_outside(ax, ncol=1)
     _lots_axis(bx, ps, oc, STYLE)
     fig.tight_layout()
     return fig
@@ -85,11 +85,15 @@ def _lots_axis(bx, ps, levels, style) -> None:
         bx.plot(ps, to_d, label="lots until discontinued", **style["poisson"])
     finite = np.concatenate([to_t[np.isfinite(to_t)], to_d[np.isfinite(to_d)]])
     if finite.size:
+        from lotwise.documents.plots.style import legend_outside, plain_log_axis
+
         bx.set_yscale("log")
         bx.set_ylim(1, max(10.0, min(float(finite.max()) * 1.5, 1e7)))
-        bx.legend(fontsize=7.5, frameon=False, loc="upper right")
+        plain_log_axis(bx.yaxis)
     else:
         bx.text(0.5, 0.5, "the scheme never tightens", transform=bx.transAxes,
                 ha="center", va="center", fontsize=9)
     bx.set_ylabel("Expected lots from a fresh start", fontsize=9.5)
     bx.set_title("Lots until the switch (fresh start on normal)", fontsize=10.5, loc="left")
+    if finite.size:
+        legend_outside(bx, ncol=1)

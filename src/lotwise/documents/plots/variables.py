@@ -17,7 +17,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from lotwise.documents.plots.style import STYLE, pct_axis, new_axes
+from lotwise.documents.plots.style import STYLE, legend_outside, level_text, new_axes, pct_axis
 
 __all__ = ["variables_oc_figure", "normal_probability_figure"]
 
@@ -64,7 +64,7 @@ def variables_oc_figure(plan, *, aql=None, rql=None, max_p=None, attributes_plan
         ax.plot([0, level], [y, y], color="0.55", linewidth=0.7, linestyle=":")
         ax.plot([level], [y], marker=marker, markersize=7, markerfacecolor="white",
                 markeredgecolor="0.0", markeredgewidth=1.3, linestyle="none",
-                label=f"{tag} {100 * level:.3g} %: Pa {y:.3f}")
+                label=f"{tag} {level_text(level, False)}: Pa {y:.3f}")
     ax.set_xlim(0, max_p)
     ax.set_ylim(0, 1.02)
     ax.set_ylabel("Probability of acceptance Pa", fontsize=9.5)
@@ -72,7 +72,7 @@ def variables_oc_figure(plan, *, aql=None, rql=None, max_p=None, attributes_plan
                   + (" beyond both limits" if plan.limit == "both" else ""), fontsize=9.5)
     pct_axis(ax, False)
     ax.set_title(title or plan.label, fontsize=9.5, loc="left")
-    ax.legend(fontsize=7.5, frameon=False, loc="upper right")
+    legend_outside(ax)
     fig.tight_layout()
     return fig
 
@@ -123,6 +123,6 @@ def normal_probability_figure(values, *, lower=None, upper=None, ax=None, title=
     if note:
         ax.text(0.99, 0.02, note, transform=ax.transAxes, fontsize=8, ha="right", va="bottom",
                 color="0.2")
-    ax.legend(fontsize=7.5, frameon=False, loc="upper left")
+    legend_outside(ax)
     fig.tight_layout()
     return fig

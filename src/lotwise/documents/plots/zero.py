@@ -18,7 +18,8 @@ from __future__ import annotations
 import numpy as np
 
 from lotwise.analysis.zero import ZeroEquivalent, quality_level
-from lotwise.documents.plots.style import STYLE, new_axes, pct_axis
+from lotwise.documents.plots.style import (STYLE, cycle_style, legend_outside, level_text,
+                                           new_axes, pct_axis)
 
 __all__ = ["equivalent_figure"]
 
@@ -40,8 +41,11 @@ def equivalent_figure(eq: ZeroEquivalent, ax=None, *, max_p=None, points: int = 
     lab = eq.plan.label
     ax.plot(ps, eq.plan.pa(ps, model, scope), label=f"{lab}", **STYLE["exact"])
     ax.plot(ps, eq.zero_plan.pa(ps, model, scope), label=f"c = 0 equivalent: {eq.zero_plan.label}",
-            **STYLE["other"][0])
-    lvl = (lambda x: f"{x:g}/unit") if pu else (lambda x: f"{100 * x:.3g} %")  # noqa: E731
+            **cycle_style(1))
+
+    def lvl(x):
+        return level_text(x, pu)
+
     ax.plot([eq.point, eq.point], [0, eq.beta], color="0.55", linewidth=0.7, linestyle=":")
     ax.plot([eq.point], [eq.pa_point["plan"]], marker="s", markersize=7,
             markerfacecolor="white", markeredgecolor="0.0", markeredgewidth=1.3,
@@ -61,6 +65,6 @@ def equivalent_figure(eq: ZeroEquivalent, ax=None, *, max_p=None, points: int = 
     lot = f", lot of {scope.lot_size}" if scope.lot_size else ""
     ax.set_title(title or f"{lab} and its accept-on-zero equivalent ({model}{lot})",
                  fontsize=10.5, loc="left")
-    ax.legend(fontsize=7.5, frameon=False, loc="upper right")
+    legend_outside(ax)
     fig.tight_layout()
     return fig

@@ -20,18 +20,12 @@ from __future__ import annotations
 
 from pathlib import Path
 
+from lotwise.core.numbers import csv_number
+
 from lotwise.documents.sheets.content import (CAUTION, DEFAULT_REJECTED, SheetContent,
                                               alternatives, build_content, fmt_pa, oc_rows)
 
 __all__ = ["CAUTION", "SheetContent", "build_content", "write_sheets", "fmt_pa"]
-
-
-def _csv_value(v) -> str:
-    import numpy as np
-
-    if isinstance(v, (int, np.integer)):
-        return str(int(v))
-    return repr(float(v))
 
 
 def write_sheets(pp, out_dir, *, force: bool = False, today=None) -> dict:
@@ -66,7 +60,7 @@ def write_sheets(pp, out_dir, *, force: bool = False, today=None) -> dict:
     if pp.n is not None:
         header, rows = oc_rows(pp)
         csv = ",".join(header) + "\n" + "".join(
-            ",".join(_csv_value(v) for v in row) + "\n" for row in rows)
+            ",".join(csv_number(v) for v in row) + "\n" for row in rows)
         paths["csv"] = write_text(out / f"{stem}-oc.csv", csv, force=force, option="sheet")
         paths["png"] = save_figure(oc_plot(pp), out / f"{stem}-oc.png", force=force,
                                    option="sheet", dpi=150)

@@ -13,6 +13,7 @@ import datetime as _dt
 from dataclasses import dataclass, field
 from pathlib import Path
 
+from lotwise.core.numbers import probability
 from lotwise.core.quantities import format_level, format_pct
 from lotwise.core.version import __version__
 
@@ -51,8 +52,9 @@ RISK_HEADER = ["Char.", "Model", "Pa(AQL)", "alpha", "target", "Pa(RQL)", "beta"
 
 
 def fmt_pa(x: float) -> str:
-    """Acceptance probabilities on sheets: four decimals."""
-    return f"{x:.4f}"
+    """Acceptance probabilities on sheets: four decimals
+    (:func:`lotwise.core.numbers.probability`)."""
+    return probability(x)
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -195,8 +197,8 @@ def _risk_rows(rep) -> list:
 
 
 def _pct_cell(x: float) -> str:
-    """A risk in a narrow table cell: below 0.001 % written as a bound."""
-    return "< 0.001 %" if 0 < x < 1e-5 else format_pct(x)
+    """A risk in a narrow table cell: below 0.001 ppm written as a bound."""
+    return "< 0.001 ppm" if 0 < x < 1e-9 else format_pct(x)
 
 
 def _guarantees(rep, per_unit: bool) -> list:

@@ -15,6 +15,7 @@ import io
 import textwrap
 
 from lotwise.documents.sheets.content import PLAN_HEADER, RISK_HEADER
+from lotwise.documents.plots.style import legend_above, legend_outside
 from lotwise.documents.sheets.figures import aoq_plot, oc_plot
 
 __all__ = ["render"]
@@ -124,8 +125,14 @@ def _layout(content, pp, scale: float, figures: bool = True):
         plot_w = 4.1 if rect else 4.05
         ax = fig.add_axes([MARGIN / PAGE_W + 0.045, (top - plot_h) / PAGE_H + 0.028,
                            plot_w / PAGE_W, (plot_h - 0.35) / PAGE_H])
+        floor = (top - plot_h) / PAGE_H
         if figures:  # a trial layout only measures the text
             oc_plot(pp, ax=ax)
+            ax.xaxis.label.set_fontsize(7.5)  # page sizes: room for the legend below
+            ax.set_ylabel("Probability of\nacceptance Pa", fontsize=7.5)
+            ax.tick_params(labelsize=7)
+            legend_outside(ax, fontsize=6, ncol=2)
+            legend_above(ax, floor)
         if rect:
             ax2 = fig.add_axes([(MARGIN + plot_w + 0.75) / PAGE_W, (top - plot_h) / PAGE_H
                                 + 0.028, (PAGE_W - 2 * MARGIN - plot_w - 0.8) / PAGE_W,
@@ -137,10 +144,9 @@ def _layout(content, pp, scale: float, figures: bool = True):
             ax2.xaxis.label.set_fontsize(7)
             ax2.yaxis.label.set_fontsize(7)
             ax2.tick_params(labelsize=6.5)
-            leg = ax2.get_legend()
-            if leg is not None:
-                for t in leg.get_texts():
-                    t.set_fontsize(6)
+            if figures:
+                legend_outside(ax2, fontsize=6, ncol=1)
+                legend_above(ax2, floor)
             pg.y = top - plot_h - 0.05
             for g in c.guarantees:
                 pg.text(g, size=6.8)

@@ -15,6 +15,7 @@ import datetime as _dt
 from dataclasses import replace
 from pathlib import Path
 
+from lotwise.core.numbers import csv_number
 from lotwise.core.quantities import format_level, format_pct
 
 __all__ = ["scheme_section", "scheme_files", "write_scheme_sheet", "WHOLE_SCHEME"]
@@ -129,7 +130,7 @@ def scheme_files(req, out, *, force: bool = False) -> dict:
     head = ["p", "pa", "asn", "share_normal", "share_tightened", "share_reduced",
             "lots_to_tightened", "lots_to_discontinue"]
     text = ",".join(head) + "\n" + "".join(
-        ",".join("" if v is None else repr(float(v)) for v in (
+        ",".join(csv_number(v) for v in (
             lv.p, lv.pa, lv.asn, lv.share["normal"], lv.share["tightened"],
             lv.share["reduced"], lv.lots_to_tightened, lv.lots_to_discontinue)) + "\n"
         for lv in oc.levels)

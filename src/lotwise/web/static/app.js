@@ -15,26 +15,43 @@ let generation = 0;
 let controller = null;
 let state = {};
 
-/* --- numbers as on the sheets ------------------------------------------------ */
+/* --- numbers as on the sheets: lotwise.core.numbers, line for line --------- */
 function g(v, digits) {            // Python's format(v, ".Ng")
   if (!isFinite(v)) return "-";
   return String(parseFloat(Number(v).toPrecision(digits)));
 }
-function fmtPct(x, digits = 3) {   // lotwise.core.quantities.format_pct
-  if (x === null || x === undefined || isNaN(x)) return "-";
-  const v = 100 * x;
-  if (v === 0) return "0 %";
+function fixed(v, digits, trim) {  // numbers._fixed: `digits` significant figures, fixed notation
   const mag = Math.floor(Math.log10(Math.abs(v)));
-  return v.toFixed(Math.max(0, digits - 1 - mag)) + " %";
+  let text = v.toFixed(Math.min(100, Math.max(0, digits - 1 - mag)));
+  if (trim && text.includes(".")) text = text.replace(/0+$/, "").replace(/\.$/, "");
+  return text;
 }
-function fmtLevel(x, perUnit) {     // lotwise.core.quantities.format_level
-  if (x === null || x === undefined) return "-";
-  if (x === 0) return "0";
-  if (perUnit) return g(x, 6) + " per unit";
-  if (x < 1e-3) return g(x * 1e6, 4) + " ppm";
-  return g(100 * x, 4) + " %";
+function fmtPct(x, digits = 3, trim = false) {   // numbers.percent: percent, ppm below 0.1 %
+  if (x === null || x === undefined || isNaN(x)) return "-";
+  x = Number(Number(x).toPrecision(digits));  // round first: the unit follows the rounded value
+  if (x === 0) return "0 %";
+  if (Math.abs(x) >= 1e-3) return fixed(100 * x, digits, trim) + " %";
+  const v = x * 1e6;
+  if (Math.abs(v) >= 1e-3) return fixed(v, digits, trim) + " ppm";
+  return expo(v, digits, trim) + " ppm";
 }
-const fmtPa = (x) => (x === null || x === undefined ? "-" : Number(x).toFixed(4));
+function expo(v, digits, trim) {   // Python's format(v, ".{digits-1}e"), trailing zeros dropped if trim
+  let [mant, exp] = v.toExponential(digits - 1).split("e");
+  if (trim && mant.includes(".")) mant = mant.replace(/0+$/, "").replace(/\.$/, "");
+  const e = Number(exp);
+  return `${mant}e${e < 0 ? "-" : "+"}${String(Math.abs(e)).padStart(2, "0")}`;
+}
+function fmtLevel(x, perUnit) {     // numbers.level
+  if (x === null || x === undefined || isNaN(x)) return "-";
+  if (perUnit) return (x === 0 ? "0" : g(x, 6)) + " per unit";
+  return fmtPct(x, 4, true);
+}
+function fmtPa(x, decimals = 4) {  // numbers.probability
+  if (x === null || x === undefined || isNaN(x)) return "-";
+  x = Number(x);
+  if (x !== 0 && Math.abs(x) < 0.5 * 10 ** -decimals) return expo(x, 2, true);  // Python's ".2g"
+  return x.toFixed(decimals);
+}
 const fmtUnits = (x) => (x === null || x === undefined ? "-" : Number(x).toFixed(1));
 
 /* --- small DOM helpers -------------------------------------------------------- */
