@@ -29,7 +29,8 @@ def batch(
     the input columns, then n, c, plan, model_used,
     alpha_actual, beta_actual, full_inspection, units_per_year and error
     (empty when the row was designed). A row that cannot be designed gets its
-    reason in error; the batch goes on.
+    reason in error; the batch goes on. Exit 0 when every row is designed, 1
+    when a row is not (the output is still written), 2 bad input.
     """
     from lotwise.core.quantities import parse_rate
     from lotwise.data.batch import SAFETY_NOTE, design_catalogue, progress_bar, read_catalogue
@@ -66,7 +67,7 @@ def batch(
         d = res.summary()
         d.update({"out": out, "errors": failed, "dropped_columns": list(res.dropped_columns)})
         common.emit_json(d)
-        return
+        raise typer.Exit(1 if res.failed else 0)
     say = (lambda s: print(s, file=sys.stderr)) if out == "-" else typer.echo
     if res.dropped_columns:
         say(f"  note: input column(s) {', '.join(res.dropped_columns)} replaced by the "
@@ -86,3 +87,4 @@ def batch(
     if out != "-":
         say(f"  wrote {out}")
     say(f"  {SAFETY_NOTE}")
+    raise typer.Exit(1 if res.failed else 0)
