@@ -36,12 +36,21 @@ def check_folder(paths, as_json: bool) -> int:
             t_items += more[1]
             if not req.characteristics:
                 continue
-        if pp.n is None:
+        for f in pp.failed:  # no plan meets it: the reason beside its id (README, check)
+            ch, t = f["characteristic"], f["targets"]
+            rows.append([Path(req.path).name, req.part_id, ch["id"], ch["class"], "no plan",
+                         f"- / {format_pct(t['alpha'])}", f"- / {format_pct(t['beta'])}",
+                         "NO PLAN"])
+            items.append({"file": req.path, "part": req.part_id, "characteristic": ch["id"],
+                          "class": ch["class"], "targets": t, "meets": False,
+                          "designed": pp.designed, "problem": f["reason"],
+                          "reason": f"no plan: {f['reason']}"})
+        if not pp.failed and pp.n is None:  # (every characteristic is listed in failed)
             rows.append([Path(req.path).name, req.part_id, "-", "-", "no plan", "-", "-",
                          "NO PLAN"])
             items.append({"file": req.path, "part": req.part_id, "characteristic": None,
-                          "meets": False, "problem": pp.problem})
-            continue
+                          "meets": False, "problem": pp.problem,
+                          "reason": f"no plan: {pp.problem}"})
         for rep in pp.reports:
             ch = rep["characteristic"]
             r = rep["models"][rep["model"]]
@@ -59,7 +68,7 @@ def check_folder(paths, as_json: bool) -> int:
                           "designed": pp.designed, "pa_aql": r["pa_aql"], "pa_rql": r["pa_rql"],
                           "notation": rep.get("notation") or f"n={rep['n']},c={rep['c']}",
                           "own_sample": bool(rep.get("own_sample")),
-                          "note": rep.get("note", "")}
+                          "note": rep.get("note", ""), "reason": short_reason(r, t)}
                          | ({"inspection_error": rep["inspection_error"]}
                             if "inspection_error" in rep else {}))
         if req.inspection is not None:
@@ -75,6 +84,11 @@ def check_folder(paths, as_json: bool) -> int:
             for i in items:
                 if i.get("note"):
                     typer.echo(f"  {Path(i['file']).name} {i['characteristic']}: {i['note']}")
+            for i in items:  # every failure with its characteristic and its reason
+                if not i["meets"]:
+                    typer.echo(f"  {Path(i['file']).name} {i['characteristic'] or '-'}: "
+                               + (f"NO PLAN: {i['problem']}" if "problem" in i else
+                                  f"FALLS SHORT: {i['reason']}"))
             for name, text in files_rates.items():
                 typer.echo(f"  {name}: judged at the true quality with {text}")
             short = sum(not i["meets"] for i in items)
@@ -91,16 +105,44 @@ def check_folder(paths, as_json: bool) -> int:
     return 0 if ok else 1
 
 
+def short_reason(r: dict, t: dict) -> str:
+    """Why a characteristic's plan falls short ('' when it meets): the risk above its
+    target."""
+    from lotwise.core.quantities import format_pct
+
+    out = []
+    if not r.get("meets_alpha", r["alpha"] <= t["alpha"] + 1e-12):
+        out.append(f"alpha {format_pct(r['alpha'])} is above its target "
+                   f"{format_pct(t['alpha'])}")
+    if not r.get("meets_beta", r["beta"] <= t["beta"] + 1e-12):
+        out.append(f"beta {format_pct(r['beta'])} is above its target {format_pct(t['beta'])}")
+    return "; ".join(out)
+
+
 def summary(results):
-    rows = []
+    rows, why = [], []
     for pp, paths in results:
-        cs = ", ".join(f"{r['characteristic']['id']}:" + (f"c={r['c']}" if "c" in r else
-                                                         r["label"]) for r in pp.reports) or "-"
+        cs = ", ".join([f"{r['characteristic']['id']}:" + (f"c={r['c']}" if "c" in r else
+                                                           r["label"]) for r in pp.reports]
+                       + [f"{f['characteristic']['id']}:no plan" for f in pp.failed]) or "-"
+        verdict = ("meets" if pp.meets else "NO PLAN" if pp.n is None or pp.failed
+                   else "FALLS SHORT")
         rows.append([pp.request.part_id, "-" if pp.n is None else str(pp.n), cs, pp.model or "-",
-                     "meets" if pp.meets else ("NO PLAN" if pp.n is None else "FALLS SHORT"),
-                     str(paths.get("pdf", ""))])
+                     verdict, str(paths.get("pdf", ""))])
+        for f in pp.failed:  # each characteristic without a plan, with its reason
+            why.append(f"  {pp.request.part_id} {f['characteristic']['id']}: NO PLAN: "
+                       f"{f['reason']}")
+        if pp.n is None and not pp.failed and pp.problem:
+            why.append(f"  {pp.request.part_id}: NO PLAN: {pp.problem}")
+        for r in pp.reports:
+            if not r["meets"]:
+                m = r["models"][r["model"]]
+                why.append(f"  {pp.request.part_id} {r['characteristic']['id']}: FALLS SHORT: "
+                           + short_reason(m, r["targets"]))
     typer.echo(common.table(rows, ["part", "n", "acceptance numbers", "model", "verdict",
                                    "sheet"]))
+    for line in why:
+        typer.echo(line)
 
 
 def project_root() -> Path:

@@ -132,8 +132,25 @@ def alternatives(pp) -> str:
 # --- the pieces of build_content ------------------------------------------------
 
 def _verdict(pp) -> str:
-    return ("Meets every target." if pp.meets else
-            ("NO PLAN: " + pp.problem) if pp.n is None else "FALLS SHORT of a target.")
+    if pp.meets:
+        return "Meets every target."
+    if pp.n is None:
+        return "NO PLAN: " + pp.problem
+    failed = getattr(pp, "failed", [])
+    if failed:  # the others are designed; the part is flagged
+        ids = ", ".join(f["characteristic"]["id"] for f in failed)
+        rest = ("every other characteristic meets its targets"
+                if all(r["meets"] for r in pp.reports) else "another falls short of a target")
+        return f"NO PLAN for {ids} (see below); {rest}."
+    return "FALLS SHORT of a target."
+
+
+def _failed_row(f, per_unit: bool) -> list:
+    """A plan-table row for a characteristic no plan can meet."""
+    ch, t = f["characteristic"], f["targets"]
+    return [ch["id"], ch["class"], "no plan", "-", "-",
+            f"{_lvl(t['aql'], per_unit)} / {format_pct(t['alpha'])}",
+            f"{_lvl(t['rql'], per_unit)} / {format_pct(t['beta'])}"]
 
 
 def _scope_rows(req) -> list:
@@ -378,6 +395,10 @@ def build_content(pp, *, picks=None, today: _dt.date | None = None,
         guar += _guarantees(rep, per_unit)
         if "poisson_verdict" in rep:
             pois.append(f"{rep['characteristic']['id']}: {rep['poisson_verdict']['summary']}")
+    if pp.n is not None:
+        for f in getattr(pp, "failed", []):
+            plan_rows.append(_failed_row(f, per_unit))
+            guar.append(f"{f['characteristic']['id']}: NO PLAN meets its targets: {f['reason']}.")
     footer = (f"Prepared {today.isoformat()} with lotwise {__version__}; input fingerprint "
               f"{req.fingerprint()} (SHA-256 of the plan file's parsed content). Re-create with: "
               f"lotwise sheet {req.path}")
