@@ -11,6 +11,10 @@ from . import app, common
 from lotwise.core.quantities import InputError
 
 
+#: Failed rows listed on screen (the rest are in the output's error column).
+SHOWN = 100
+
+
 @app.command()
 def batch(
     path: str = typer.Argument(..., metavar="CATALOGUE", help="CSV with part, lot_size, aql, rql (optional alpha, beta, scheme, model, fixed_c, max_n, per_unit, deliveries_per_year; ratio, minimize, truncate, sigma, sigma_value, limit, upper, lower for the other schemes)."),
@@ -80,10 +84,10 @@ def batch(
         extra = (f" ({res.rows_without_deliveries} designed row(s) without a delivery rate "
                  "left out)") if res.rows_without_deliveries else ""
         say(f"  per year: {res.units_per_year:,} units{extra}")
-    for f in failed[:10]:
-        say(f"  - line {f['line']} ({f['part']}): {f['error']}")
-    if len(failed) > 10:
-        say(f"  ... and {len(failed) - 10} more (see the error column)")
+    for f in failed[:SHOWN]:  # every failure with its part and reason (up to SHOWN)
+        say(f"  - line {f['line']} ({f['part']}): NOT DESIGNED: {f['error']}")
+    if len(failed) > SHOWN:
+        say(f"  ... and {len(failed) - SHOWN} more (see the error column)")
     if out != "-":
         say(f"  wrote {out}")
     say(f"  {SAFETY_NOTE}")

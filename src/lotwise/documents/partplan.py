@@ -48,7 +48,7 @@ from lotwise.families.single import SinglePlan
 from lotwise.core.quantities import Infeasible, InputError
 from lotwise.analysis.assess import assess
 
-__all__ = ["PartPlan", "CharacteristicInfeasible", "resolve", "PlanReference", "plan_from_reference", "pick_seed", "own_note"]
+__all__ = ["PartPlan", "CharacteristicInfeasible", "CRITICAL_NOTE", "resolve", "PlanReference", "plan_from_reference", "pick_seed", "own_note"]
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -76,6 +76,9 @@ class PartPlan:
         The characteristics no plan can meet, in file order: ``characteristic``
         (id, description, class), ``targets`` and ``reason``. The others are
         still designed, and the part is flagged (``meets`` is False).
+    full : list of dict
+        The characteristics inspected on every item (``inspection = "100%"``):
+        ``characteristic`` (id, description, class). They carry no sample.
     """
 
     request: object
@@ -85,10 +88,12 @@ class PartPlan:
     problem: str = ""
     plans: list = field(default_factory=list)
     failed: list = field(default_factory=list)
+    full: list = field(default_factory=list)
 
     @property
     def meets(self) -> bool:
-        return self.n is not None and not self.failed and all(r["meets"] for r in self.reports)
+        planned = self.n is not None or (self.full and not self.reports)  # 100 % only
+        return bool(planned) and not self.failed and all(r["meets"] for r in self.reports)
 
     @property
     def model(self) -> str:
@@ -289,11 +294,15 @@ def _own_plan(ch, req):
 def resolve(req, *, verdict: bool = True) -> PartPlan:
     """Design (or audit) the plan a plan file asks for."""
     scope, model = req.scope, req.model
-    chars = req.characteristics
-    if not chars:  # a switching scheme or a plan table only (see documents.schemefile)
+    full = [{"characteristic": {"id": ch.id, "description": ch.description,
+                                "class": ch.klass}, "inspection": "100%"}
+            for ch in req.characteristics if ch.full_inspection]
+    chars = req.sampled
+    if not chars:  # a switching scheme or a plan table only (see documents.schemefile),
+        # or every characteristic inspected on every item
         sw = getattr(req, "switching", None)
         return PartPlan(request=req, n=None if sw is None else sw.normal.max_sample,
-                        reports=[], designed=False)
+                        reports=[], designed=False, full=full)
     failed = {}  # id -> reason: characteristics no plan can meet; the others go on
     own = {}
     for ch in chars:
@@ -320,7 +329,7 @@ def resolve(req, *, verdict: bool = True) -> PartPlan:
                         for f in failures)
     if len(failed) == len(chars):
         return PartPlan(request=req, n=None, reports=[], designed=not req.fixed,
-                        problem=problem, failed=failures)
+                        problem=problem, failed=failures, full=full)
     by_id = dict(zip((ch.id for ch in common), common_plans))
     reps, plans = [], []
     for ch in chars:
@@ -334,6 +343,10 @@ def resolve(req, *, verdict: bool = True) -> PartPlan:
         else:
             p, design = own[ch.id]
             rep = own_report(p, ch, scope, model, design)
+        if ch.rql_only:  # no AQL stated: the producer's side as a quality level
+            rep["rql_only"] = True
+        if ch.klass == "critical":
+            rep["safety"] = CRITICAL_NOTE
         if req.inspection is not None and "inspection_error" not in rep:
             rep["inspection_error"] = req.inspection.as_dict()
         reps.append(rep)
@@ -341,7 +354,13 @@ def resolve(req, *, verdict: bool = True) -> PartPlan:
     if n is None:
         n = max((r["n"] or 0) for r in reps) or None
     return PartPlan(request=req, n=n, reports=reps, plans=plans, designed=not req.fixed,
-                    problem=problem, failed=failures)
+                    problem=problem, failed=failures, full=full)
+
+
+#: Said wherever a plan guards a critical characteristic.
+CRITICAL_NOTE = ("critical characteristic: sampling cannot guarantee a lot free of "
+                 "nonconforming items; use 100 % inspection or stricter plans as contract and "
+                 "regulation require")
 
 
 def _add_rectifying(reps, plans, chars, scope) -> None:
@@ -431,6 +450,9 @@ def plan_from_reference(text, option: str = "--plan") -> PlanReference:
     if cid not in ids:
         raise InputError(f"{option} ({body}): no characteristic {cid!r} in {path}; it holds "
                          + ", ".join(ids))
+    if any(f["characteristic"]["id"] == cid for f in pp.full):
+        raise InputError(f"{option} ({body}): characteristic {cid} is inspected on every item "
+                         "(inspection = \"100%\"); it has no sampling plan")
     why = next((f["reason"] for f in pp.failed if f["characteristic"]["id"] == cid), None)
     if why is not None:
         raise InputError(f"{option} ({body}): characteristic {cid} of the plan file has no "
