@@ -13,13 +13,23 @@ from . import common
 
 
 def resolve_files(paths):
+    """Every plan file of ``paths`` read and resolved, by the same rules for ``check``,
+    ``sheet``, ``compare`` and ``demo``. The files are all read before any is
+    resolved, so the errors of every bad file are reported together (one line)."""
+    from lotwise.core.quantities import InputError
     from lotwise.documents.partplan import resolve
     from lotwise.documents.planfile import load, plan_files
 
-    out = []
+    reqs, errors = [], []
     for f in plan_files(paths):
-        out.append(resolve(load(f)))
-    return out
+        try:
+            reqs.append(load(f))
+        except InputError as exc:
+            errors.append(str(exc))
+    if errors:
+        raise InputError(errors[0] if len(errors) == 1 else
+                         f"{len(errors)} plan files have errors: " + " | ".join(errors))
+    return [resolve(req) for req in reqs]
 
 
 def check_folder(paths, as_json: bool) -> int:
