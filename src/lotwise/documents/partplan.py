@@ -48,7 +48,8 @@ from lotwise.families.single import SinglePlan
 from lotwise.core.quantities import Infeasible, InputError
 from lotwise.analysis.assess import assess
 
-__all__ = ["PartPlan", "CharacteristicInfeasible", "CRITICAL_NOTE", "resolve", "PlanReference", "plan_from_reference", "pick_seed", "own_note"]
+__all__ = ["PartPlan", "CharacteristicInfeasible", "CRITICAL_NOTE", "resolve", "PlanReference",
+           "plan_from_reference", "pick_seed", "own_note"]
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -321,6 +322,9 @@ def resolve(req, *, verdict: bool = True) -> PartPlan:
         except CharacteristicInfeasible as exc:  # design the others without it
             failed[exc.cid] = str(exc)
             common = [ch for ch in common if ch.id != exc.cid]
+        except Infeasible as exc:  # (no single characteristic to blame: all of them)
+            failed.update({ch.id: str(exc) for ch in common})
+            common = []
     failures = [{"characteristic": {"id": ch.id, "description": ch.description,
                                     "class": ch.klass},
                  "targets": ch.targets.as_dict(),
