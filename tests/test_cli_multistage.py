@@ -139,10 +139,13 @@ def test_oc_plot(capsys, tmp_path):
     ("n=80,c=2", "10", "3", "reject"),
 ])
 def test_next(capsys, plan, n, d, action):
+    # Exit codes: README, "Exit codes" (accept 0, reject 1, continue 3; common practice, no
+    # source).
     code, rep, err = run_json(capsys, "next", "--plan", plan, "--inspected", n, "--found", d)
-    assert code == 0 and err == ""
+    assert code == {"accept": 0, "reject": 1, "continue": 3}[action] and err == ""
     assert rep["action"] == action
-    code, out, _ = run(capsys, "next", "--plan", plan, "--inspected", n, "--found", d)
+    code2, out, _ = run(capsys, "next", "--plan", plan, "--inspected", n, "--found", d)
+    assert code2 == code
     assert out.startswith({"accept": "ACCEPT", "reject": "REJECT",
                            "continue": "CONTINUE"}[action])
 

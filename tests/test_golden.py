@@ -87,7 +87,25 @@ INDIFFERENCE_COUNT = ("in a finite lot the indifference quality is the whole cou
                       "and plan_quality_pa give D and its true Pa; checked against "
                       "scipy.stats.hypergeom in tests/test_quality_counts.py")
 #: Deliberate, named differences: "case_name:json.path" -> reason.
+EXIT_TABLE = ("one exit-code table for every command (README, \"Exit codes\"): next exits 1 on "
+              "REJECT and 3 on CONTINUE, zero exits 1 when the producer's risk at --aql is "
+              "not met, batch exits 1 when a row is not designed (examples/catalogue.csv line "
+              "10 holds an RQL below its AQL on purpose)")
+
 CHANGED: dict[str, str] = {
+    "zero_design:exit": EXIT_TABLE,
+    "zero_design_lot:exit": EXIT_TABLE,
+    "zero_design_defects:exit": EXIT_TABLE,
+    "next_double_continue:exit": EXIT_TABLE,
+    "next_double_reject_early:exit": EXIT_TABLE,
+    "next_double_defects:exit": EXIT_TABLE,
+    "next_multiple_continue:exit": EXIT_TABLE,
+    "next_multiple_reject_mid_stage:exit": EXIT_TABLE,
+    "next_sequential_continue:exit": EXIT_TABLE,
+    "next_sequential_truncated:exit": EXIT_TABLE,
+    "next_single_reject_early:exit": EXIT_TABLE,
+    "next_single_defects_continue:exit": EXIT_TABLE,
+    "batch_catalogue:exit": EXIT_TABLE,
     "design_sequential_defects:json.asn.max_at": "the unit walk now stops a level once its "
         "undecided probability is below 1e-15 (ASN low by at most truncation x 1e-15); the "
         "flat maximum of the ASN moves by about 1e-9 relative",

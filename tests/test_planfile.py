@@ -52,7 +52,9 @@ MALFORMED = [
      f"{F}: characteristic[1].aql ('1 percent') must be a number such as 0.01, 1% or 250ppm"),
     (GOOD.replace('aql = "1%"', "aql = 1.5"),
      f"{F}: characteristic[1].aql (1.5) must be a fraction nonconforming between 0 and 1, exclusive"),
-    (GOOD.replace('aql = "1%"\n', ""), f"{F}: characteristic[1].aql is missing; it is required"),
+    (GOOD.replace('aql = "1%"\n', ""), f"{F}: characteristic[1].aql is missing; it is required "
+     "(or give only characteristic[1].rql and beta with characteristic[1].c = 0, an "
+     "accept-on-zero plan)"),
     (GOOD.replace('rql = "8%"', 'rql = "0.5%"'),
      f"{F}: characteristic[1].rql (0.5%) must be above characteristic[1].aql (1%)"),
     (GOOD + 'alpha = "150%"\n',

@@ -502,7 +502,7 @@ def test_next_picks_the_table_row(tmp_path):
     code, out, _ = run("next", "--plan-file", str(f), "--lot-size", "800", "--severity",
                        "tightened", "--inspected", "80", "--found", "2", "--json")
     d = json.loads(out)
-    assert code == 0 and d["notation"] == "n=80,c=1" and d["action"] == "reject"
+    assert code == 1 and d["notation"] == "n=80,c=1" and d["action"] == "reject"
     code, out, _ = run("next", "--plan-file", str(f), "--lot-size", "120", "--inspected", "20",
                        "--found", "0", "--json")
     assert json.loads(out)["notation"] == "n=20,c=0" and json.loads(out)["action"] == "accept"

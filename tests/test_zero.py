@@ -99,7 +99,8 @@ def test_equivalent_figure():
 
 
 def test_cli(capsys, tmp_path):
-    assert main(["zero", "--rql", "5%", "--aql", "1%", "--json"]) == 0
+    # Producer's risk 36.4 % at the AQL against 5 %: exit 1 (README, "Exit codes").
+    assert main(["zero", "--rql", "5%", "--aql", "1%", "--json"]) == 1
     out = json.loads(capsys.readouterr().out)
     assert out["n"] == 45 and out["c"] == 0 and out["producers_risk"] > 0.3
     assert main(["zero", "--plan", "n=125,c=3", "--json", "--plot", str(tmp_path / "eq.png")]) == 0

@@ -4,6 +4,12 @@ Each command group lives in its own module and registers itself on
 :data:`app`. The entry point :func:`main` turns every error into one line on
 stderr: malformed input exits 2, a well-formed request that no plan can meet
 exits 1, a plan that falls short on an audit exits 1.
+
+The exit codes of every command (README, "Exit codes"): 0 meets / accept /
+every row designed; 1 falls short / reject / a row failed / a recorded
+disposition disagrees with its plan; 2 bad input; 3 continue (``next`` on the
+bench when more units are needed). Output files are written whatever the
+verdict; ``demo`` exits 0 when it ran.
 """
 
 from __future__ import annotations

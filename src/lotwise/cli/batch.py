@@ -11,6 +11,10 @@ from . import app, common
 from lotwise.core.quantities import InputError
 
 
+#: Failed rows listed on screen (the rest are in the output's error column).
+SHOWN = 100
+
+
 @app.command()
 def batch(
     path: str = typer.Argument(..., metavar="CATALOGUE", help="CSV (or .xlsx workbook) with part, lot_size, aql, rql (optional alpha, beta, scheme, model, fixed_c, max_n, per_unit, deliveries_per_year; ratio, minimize, truncate, sigma, sigma_value, limit, upper, lower for the other schemes)."),
@@ -31,7 +35,8 @@ def batch(
     the input columns, then n, c, plan, model_used,
     alpha_actual, beta_actual, full_inspection, units_per_year and error
     (empty when the row was designed). A row that cannot be designed gets its
-    reason in error; the batch goes on.
+    reason in error; the batch goes on. Exit 0 when every row is designed, 1
+    when a row is not (the output is still written), 2 bad input.
     """
     from lotwise.core.quantities import parse_rate
     from lotwise.data.batch import SAFETY_NOTE, design_catalogue, progress_bar, read_catalogue
@@ -74,7 +79,7 @@ def batch(
         d = res.summary()
         d.update({"out": out, "errors": failed, "dropped_columns": list(res.dropped_columns)})
         common.emit_json(d)
-        return
+        raise typer.Exit(1 if res.failed else 0)
     say = (lambda s: print(s, file=sys.stderr)) if out == "-" else typer.echo
     if res.dropped_columns:
         say(f"  note: input column(s) {', '.join(res.dropped_columns)} replaced by the "
@@ -87,10 +92,11 @@ def batch(
         extra = (f" ({res.rows_without_deliveries} designed row(s) without a delivery rate "
                  "left out)") if res.rows_without_deliveries else ""
         say(f"  per year: {res.units_per_year:,} units{extra}")
-    for f in failed[:10]:
-        say(f"  - line {f['line']} ({f['part']}): {f['error']}")
-    if len(failed) > 10:
-        say(f"  ... and {len(failed) - 10} more (see the error column)")
+    for f in failed[:SHOWN]:  # every failure with its part and reason (up to SHOWN)
+        say(f"  - line {f['line']} ({f['part']}): NOT DESIGNED: {f['error']}")
+    if len(failed) > SHOWN:
+        say(f"  ... and {len(failed) - SHOWN} more (see the error column)")
     if out != "-":
         say(f"  wrote {out}")
     say(f"  {SAFETY_NOTE}")
+    raise typer.Exit(1 if res.failed else 0)

@@ -17,6 +17,11 @@ def _fits_lot(p, scope):
                          f"--lot-size ({scope.lot_size})")
 
 
+#: Exit code of each decision on the bench (README, "Exit codes"): accept 0, reject 1
+#: (as ``judge`` and ``check``), continue 3 (more units are needed before the plan decides).
+EXIT = {"accept": 0, "reject": 1, "continue": 3}
+
+
 # --- next -------------------------------------------------------------------
 
 @app.command("next")
@@ -42,6 +47,8 @@ def next_unit(
     as_json: bool = common.JSON,
 ):
     """On the bench: accept, reject or continue, and how many more units at most.
+
+    Exit 0 accept, 1 reject, 3 continue (inspect more units), 2 bad input.
 
     For a continuous sampling plan (csp1/2/3): the phase, the conforming units
     still needed to clear it and the next units to inspect, from --history.
@@ -82,7 +89,7 @@ def next_unit(
         out = {"scheme": p.scheme, "plan": p.to_dict(), "notation": p.notation()}
         out.update(dec.as_dict())
         common.emit_json(out)
-        return
+        raise typer.Exit(EXIT[dec.action])
     head = {"accept": "ACCEPT the lot", "reject": "REJECT the lot",
             "continue": "CONTINUE inspecting"}[dec.action]
     typer.echo(f"{head}  ({p.scheme} plan {p.label}; {n} inspected, {d} found)")
@@ -91,3 +98,4 @@ def next_unit(
         typer.echo(f"  Next decision point after {dec.more_to_next} more unit(s) "
                    f"(n = {dec.next_decision_at}); at most {dec.more_at_most} more unit(s) "
                    "before the plan has decided.")
+    raise typer.Exit(EXIT[dec.action])

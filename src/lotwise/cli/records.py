@@ -88,7 +88,9 @@ def records(
 
     Columns: date, supplier, part, lot_size, sample_size, found, plan (e.g.
     "n=80,c=2") or plan_file, disposition (accept/reject); lot_id optional.
-    Bad rows are reported by line on stderr and skipped.
+    Bad rows are reported by line on stderr and skipped. Exit 0 when every
+    recorded disposition agrees with its plan, 1 when one disagrees (the
+    summary, and any plot, are still written), 2 bad input.
     """
     from lotwise.analysis.supplier import RUN_RULES
     from lotwise.data.records import LIMIT_TAIL, summarise
@@ -107,11 +109,12 @@ def records(
         order = sorted(s.groups, key=lambda g: -g.lots)
         fig = run_charts_figure(order, limit=8)
         save_figure(fig, plot, force=force, option="--plot")
+    wrong = sum(g.disposition_mismatches for g in s.groups)
     if as_json:
         out = s.as_dict()
         out["plot"] = plot
         common.emit_json(out)
-        return
+        raise typer.Exit(1 if wrong else 0)
     typer.echo(f"Lot records {s.source}: {s.rows_read} row(s) read, {s.rows_used} used, "
                f"{len(s.bad_rows)} skipped")
     rows = []
@@ -156,6 +159,10 @@ def records(
         more = f" (the {shown} groups with most lots; choose with --supplier/--part)" \
             if len(s.groups) > 8 else ""
         typer.echo(f"  wrote {plot}{more}")
+    if wrong:
+        typer.echo(f"\n  {wrong} lot(s) with a recorded disposition that disagrees with the "
+                   "plan (exit 1).")
+    raise typer.Exit(1 if wrong else 0)
 
 
 def _lot_lists(groups, shown: int = 20) -> None:

@@ -182,22 +182,27 @@ def _records(req, path, part, plans_dir, as_json):
     if not len(df):
         raise InputError(f"--part ({part}) has no usable lots in {recs.source}; parts there: "
                          + (", ".join(known[:10]) or "none"))
-    lots = _lot_results(df.sort_values(["date", "line"], kind="stable"), recs.plans)
+    lots, wrong = _lot_results(df.sort_values(["date", "line"], kind="stable"), recs.plans)
     tr = track(req.switching, lots)
     if as_json:
         out = tr.as_dict()
         out.update({"part": part, "source": recs.source, "lots_used": len(lots),
                     "bad_rows": [{"line": b.line, "reason": b.reason} for b in recs.bad_rows]})
         common.emit_json(out)
-        return
-    _render_tracking(req, tr, part, recs.source, lots)
+    else:
+        _render_tracking(req, tr, part, recs.source, lots)
+        if wrong:
+            typer.echo(f"  {wrong} lot(s) with a recorded disposition that disagrees with its "
+                       "plan (exit 1).")
+    raise typer.Exit(1 if wrong else 0)  # README, "Exit codes"
 
 
-def _lot_results(df, plans) -> list:
+def _lot_results(df, plans) -> tuple[list, int]:
+    """Each lot's result, and how many lots carry a disposition their plan disagrees with."""
     from lotwise.analysis.switching import LotResult
     from lotwise.data.records import expected_disposition
 
-    out = []
+    out, wrong = [], 0
     for row in df.itertuples(index=False):
         plan = plans.get(row.plan_key)
         notes = []
@@ -205,6 +210,7 @@ def _lot_results(df, plans) -> list:
             exp, why = expected_disposition(plan, int(row.lot_size), int(row.sample_size),
                                             int(row.found))
             if exp is not None and bool(exp) != bool(row.accepted):
+                wrong += 1
                 notes.append(f"recorded {'accept' if row.accepted else 'reject'} but "
                              f"{plan.label} with {row.found} found says "
                              f"{'accept' if exp else 'reject'}")
@@ -214,7 +220,7 @@ def _lot_results(df, plans) -> list:
                              date=row.date.date().isoformat(), accepted=bool(row.accepted),
                              found=int(row.found), plan=plan, line=int(row.line),
                              note="; ".join(notes)))
-    return out
+    return out, wrong
 
 
 def _render_tracking(req, tr, part, source, lots) -> None:

@@ -30,7 +30,12 @@ def zero(
     as_json: bool = common.JSON,
 ):
     """Accept-on-zero plans: design one for an RQL, or find the c = 0 plan
-    equivalent to a given plan (same RQL point), with its producer's risk."""
+    equivalent to a given plan (same RQL point), with its producer's risk.
+
+    Exit 0 when the c = 0 plan meets its targets (the consumer's risk, and the
+    producer's risk at --aql when given), 1 when it does not or no c = 0 plan
+    fits --max-n, 2 bad input; an equivalent (--plan) exits 0.
+    """
     from lotwise.core.types import Scope
 
     scope = Scope(lot_size=common.lot_size(lot), per_unit=per_unit)
@@ -73,6 +78,7 @@ def zero(
         common.emit_json(rep)
     else:
         typer.echo(_render_zero(rep))
+    raise typer.Exit(0 if rep["meets"] else 1)  # 1: the producer's risk at --aql is not met
 
 
 def _render_zero(rep: dict) -> str:

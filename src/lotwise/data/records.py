@@ -343,6 +343,9 @@ def _plan_from_toml(path, name: str, which: str):
             raise InputError(f"plan_file ({name}) holds {len(ids)} characteristics "
                              f"({', '.join(ids)}); name one, e.g. {name}#{ids[0]}")
         which = ids[0]
+    why = next((f["reason"] for f in pp.failed if f["characteristic"]["id"] == which), None)
+    if why is not None:
+        raise InputError(f"plan_file ({name}#{which}): characteristic {which} has no plan: {why}")
     if which not in ids:
         raise InputError(f"plan_file ({name}#{which}): no characteristic {which!r}; it holds "
                          + ", ".join(ids))

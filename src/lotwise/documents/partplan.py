@@ -48,7 +48,8 @@ from lotwise.families.single import SinglePlan
 from lotwise.core.quantities import Infeasible, InputError, format_pct
 from lotwise.analysis.assess import assess
 
-__all__ = ["PartPlan", "resolve", "PlanReference", "plan_from_reference", "pick_seed", "own_note"]
+__all__ = ["PartPlan", "CharacteristicInfeasible", "CRITICAL_NOTE", "resolve", "PlanReference",
+           "plan_from_reference", "pick_seed", "own_note"]
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -68,9 +69,17 @@ class PartPlan:
     designed : bool
         False when the file fixed the plan (an audit).
     problem : str
-        Why no plan could be found, if so.
+        Why no plan could be found, if so (for a part where only some
+        characteristics have no plan: one sentence per such characteristic).
     plans : list
-        The plan object of each characteristic, in file order.
+        The plan object of each characteristic that has one, in file order.
+    failed : list of dict
+        The characteristics no plan can meet, in file order: ``characteristic``
+        (id, description, class), ``targets`` and ``reason``. The others are
+        still designed, and the part is flagged (``meets`` is False).
+    full : list of dict
+        The characteristics inspected on every item (``inspection = "100%"``):
+        ``characteristic`` (id, description, class). They carry no sample.
     """
 
     request: object
@@ -79,10 +88,13 @@ class PartPlan:
     designed: bool
     problem: str = ""
     plans: list = field(default_factory=list)
+    failed: list = field(default_factory=list)
+    full: list = field(default_factory=list)
 
     @property
     def meets(self) -> bool:
-        return self.n is not None and all(r["meets"] for r in self.reports)
+        planned = self.n is not None or (self.full and not self.reports)  # 100 % only
+        return bool(planned) and not self.failed and all(r["meets"] for r in self.reports)
 
     @property
     def model(self) -> str:
@@ -112,8 +124,7 @@ def _common_sample(req, chars, floor: int = 0) -> tuple[int, list]:
     if req.n is not None:
         n = req.n
     else:
-        n = max(_design_single(req, ch.targets, c=ch.c, max_n=cap).plan.max_sample
-                for ch in chars)
+        n = max(_own_size(req, ch, cap) for ch in chars)
         n = max(n, min(floor, cap) if cap is not None else floor)
     while True:
         plans, short = [], None
@@ -125,7 +136,7 @@ def _common_sample(req, chars, floor: int = 0) -> tuple[int, list]:
                 mr = risk["models"][risk["model"]]
                 if not mr["meets_alpha"]:
                     # A larger sample only lowers Pa at the AQL further.
-                    raise Infeasible(
+                    raise CharacteristicInfeasible(ch.id,
                         f"at the common sample n = {n}, characteristic {ch.id} with its fixed "
                         f"c = {ch.c} carries alpha {format_pct(mr['alpha'])} (target "
                         f"{format_pct(t.alpha)}); relax its AQL or inspect it on a sample "
@@ -143,9 +154,27 @@ def _common_sample(req, chars, floor: int = 0) -> tuple[int, list]:
         if short is None:
             return n, plans
         if req.n is not None or (cap is not None and n >= cap):
-            raise Infeasible(f"no common sample size up to {n} meets the risks of "
-                             f"characteristic {short.id}")
+            raise CharacteristicInfeasible(short.id, f"no common sample size up to {n} meets "
+                                           f"the risks of characteristic {short.id}")
         n += 1
+
+
+class CharacteristicInfeasible(Infeasible):
+    """No plan meets one characteristic's targets (``cid``); the part's other
+    characteristics may still be designed without it."""
+
+    def __init__(self, cid: str, message: str, reachable=None):
+        super().__init__(message, reachable)
+        self.cid = cid
+
+
+def _own_size(req, ch, cap) -> int:
+    """The sample size of ``ch``'s own single design (the common sample is at
+    least the largest of these)."""
+    try:
+        return _design_single(req, ch.targets, c=ch.c, max_n=cap).plan.max_sample
+    except Infeasible as exc:
+        raise CharacteristicInfeasible(ch.id, str(exc), exc.reachable) from None
 
 
 def _design_single(req, t, **options):
@@ -258,30 +287,58 @@ def _own_plan(ch, req):
             msg = msg.replace(f"--{key.replace('_', '-')} ", f"{where}{key} ")
         raise InputError(f"{req.path}: {where}scheme ({ch.scheme}): {msg}") from None
     except Infeasible as exc:
-        raise Infeasible(f"characteristic {ch.id} ({ch.scheme} design): {exc}",
-                         exc.reachable) from None
+        raise CharacteristicInfeasible(ch.id, f"{ch.scheme} design: {exc}",
+                                       exc.reachable) from None
     return d.plan, d
 
 
 def resolve(req, *, verdict: bool = True) -> PartPlan:
     """Design (or audit) the plan a plan file asks for."""
     scope, model = req.scope, req.model
-    chars = req.characteristics
-    if not chars:  # a switching scheme or a plan table only (see documents.schemefile)
+    full = [{"characteristic": {"id": ch.id, "description": ch.description,
+                                "class": ch.klass}, "inspection": "100%"}
+            for ch in req.characteristics if ch.full_inspection]
+    chars = req.sampled
+    if not chars:  # a switching scheme or a plan table only (see documents.schemefile),
+        # or every characteristic inspected on every item
         sw = getattr(req, "switching", None)
         return PartPlan(request=req, n=None if sw is None else sw.normal.max_sample,
-                        reports=[], designed=False)
+                        reports=[], designed=False, full=full)
+    failed = {}  # id -> reason: characteristics no plan can meet; the others go on
+    own = {}
+    for ch in chars:
+        if ch.own_sample:
+            try:
+                own[ch.id] = _own_plan(ch, req)
+            except CharacteristicInfeasible as exc:
+                failed[ch.id] = str(exc)
+    floor = max((largest_sample(p) or 0 for p, _ in own.values()), default=0)
     common = [ch for ch in chars if not ch.own_sample]
-    try:
-        own = {ch.id: _own_plan(ch, req) for ch in chars if ch.own_sample}
-        floor = max((largest_sample(p) or 0 for p, _ in own.values()), default=0)
-        n, common_plans = _common_sample(req, common, floor) if common else (None, [])
-    except Infeasible as exc:
+    n, common_plans = None, []
+    while common:
+        try:
+            n, common_plans = _common_sample(req, common, floor)
+            break
+        except CharacteristicInfeasible as exc:  # design the others without it
+            failed[exc.cid] = str(exc)
+            common = [ch for ch in common if ch.id != exc.cid]
+        except Infeasible as exc:  # (no single characteristic to blame: all of them)
+            failed.update({ch.id: str(exc) for ch in common})
+            common = []
+    failures = [{"characteristic": {"id": ch.id, "description": ch.description,
+                                    "class": ch.klass},
+                 "targets": ch.targets.as_dict(),
+                 "reason": failed[ch.id]} for ch in chars if ch.id in failed]
+    problem = "; ".join(f"characteristic {f['characteristic']['id']}: {f['reason']}"
+                        for f in failures)
+    if len(failed) == len(chars):
         return PartPlan(request=req, n=None, reports=[], designed=not req.fixed,
-                        problem=str(exc))
+                        problem=problem, failed=failures, full=full)
     by_id = dict(zip((ch.id for ch in common), common_plans))
     reps, plans = [], []
     for ch in chars:
+        if ch.id in failed:
+            continue
         if ch.id in by_id:
             p = by_id[ch.id]
             rep = _with_char(assess(p, ch.targets, scope, model, verdict=verdict, rectifying=False).to_json(), ch)
@@ -290,13 +347,24 @@ def resolve(req, *, verdict: bool = True) -> PartPlan:
         else:
             p, design = own[ch.id]
             rep = own_report(p, ch, scope, model, design)
+        if ch.rql_only:  # no AQL stated: the producer's side as a quality level
+            rep["rql_only"] = True
+        if ch.klass == "critical":
+            rep["safety"] = CRITICAL_NOTE
         if req.inspection is not None and "inspection_error" not in rep:
             rep["inspection_error"] = req.inspection.as_dict()
         reps.append(rep)
         plans.append(p)
     if n is None:
         n = max((r["n"] or 0) for r in reps) or None
-    return PartPlan(request=req, n=n, reports=reps, plans=plans, designed=not req.fixed)
+    return PartPlan(request=req, n=n, reports=reps, plans=plans, designed=not req.fixed,
+                    problem=problem, failed=failures, full=full)
+
+
+#: Said wherever a plan guards a critical characteristic.
+CRITICAL_NOTE = ("critical characteristic: sampling cannot guarantee a lot free of "
+                 "nonconforming items; use 100 % inspection or stricter plans as contract and "
+                 "regulation require")
 
 
 def _add_rectifying(reps, plans, chars, scope) -> None:
@@ -386,8 +454,16 @@ def plan_from_reference(text, option: str = "--plan") -> PlanReference:
     if cid not in ids:
         raise InputError(f"{option} ({body}): no characteristic {cid!r} in {path}; it holds "
                          + ", ".join(ids))
+    if any(f["characteristic"]["id"] == cid for f in pp.full):
+        raise InputError(f"{option} ({body}): characteristic {cid} is inspected on every item "
+                         "(inspection = \"100%\"); it has no sampling plan")
+    why = next((f["reason"] for f in pp.failed if f["characteristic"]["id"] == cid), None)
+    if why is not None:
+        raise InputError(f"{option} ({body}): characteristic {cid} of the plan file has no "
+                         f"plan: {why}")
     if pp.n is None:
         raise InputError(f"{option} ({body}): the plan file yields no plan: {pp.problem}")
-    return PlanReference(plan=pp.plans[ids.index(cid)], text=body, path=str(path),
+    have = [r["characteristic"]["id"] for r in pp.reports]
+    return PlanReference(plan=pp.plans[have.index(cid)], text=body, path=str(path),
                          characteristic=cid, lot_size=req.scope.lot_size, seed=pick_seed(req),
                          strata=req.strata, per_unit=req.scope.per_unit)

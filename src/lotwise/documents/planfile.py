@@ -122,7 +122,10 @@ _INSPECTION = {"miss_rate", "false_alarm", "study"}
 _PART = {"id", "description", "supplier", "drawing", "revision"}
 _LOT = {"size", "definition", "counts"}
 _SAMPLING = {"model", "n", "max_n", "cost_per_unit", "seed", "strata", "rejected_lot"}
-_CHAR_BASE = {"id", "description", "class", "aql", "rql", "alpha", "beta", "c", "plan", "scheme"}
+_CHAR_BASE = {"id", "description", "class", "aql", "rql", "alpha", "beta", "c", "plan", "scheme",
+              "inspection"}
+#: ``characteristic.inspection``: sampling (the default) or every item.
+INSPECTIONS = ("sampling", "100%")
 #: Designer options that live in [sampling] (the part's, not a characteristic's).
 _PART_OPTIONS = {"n", "c", "max_n"}
 
@@ -134,11 +137,16 @@ class Characteristic:
     id: str
     description: str
     klass: str
-    targets: Targets
+    targets: Targets | None  # None with inspection = "100%"
     c: int | None = None
     plan: object | None = None
     scheme: str = "single"
     options: dict = field(default_factory=dict)
+    #: Only the RQL and beta were given, with c = 0 (no AQL; ``targets.aql`` is 0): the
+    #: producer's side is stated as the quality level where Pa = 1 - alpha.
+    rql_only: bool = False
+    #: ``inspection = "100%"``: every item is inspected for it; no sample, no targets.
+    full_inspection: bool = False
 
     @property
     def own_sample(self) -> bool:
@@ -180,10 +188,15 @@ class PlanRequest:
     raw: dict = field(default_factory=dict, repr=False, compare=False)
 
     @property
+    def sampled(self) -> tuple:
+        """The characteristics judged by sampling (not ``inspection = "100%"``)."""
+        return tuple(ch for ch in self.characteristics if not ch.full_inspection)
+
+    @property
     def fixed(self) -> bool:
         """Every plan is given: the sheet audits instead of designing."""
-        common = [ch for ch in self.characteristics if not ch.own_sample]
-        own = [ch for ch in self.characteristics if ch.own_sample]
+        common = [ch for ch in self.sampled if not ch.own_sample]
+        own = [ch for ch in self.sampled if ch.own_sample]
         return (all(ch.plan is not None for ch in own)
                 and (not common or (self.n is not None and all(ch.c is not None for ch in common))))
 
@@ -258,12 +271,16 @@ def _scheme_options(ch: dict, w: str, path: str, per_unit: bool, c, plan) -> tup
 
 
 def _unknown(keys, allowed, where: str, path: str) -> None:
+    """Refuse the unknown keys of one table (all of them, in one message)."""
+    bad = []
     for k in keys:
         if k not in allowed:
             near = difflib.get_close_matches(k, sorted(allowed), n=1, cutoff=0.5)
             hint = f"; did you mean '{near[0]}'?" if near else \
                 f"; allowed: {', '.join(sorted(allowed))}"
-            raise InputError(f"{path}: {where}{k}: unknown key{hint}")
+            bad.append(f"{where}{k}: unknown key{hint}")
+    if bad:
+        raise InputError(f"{path}: " + "; ".join(bad))
 
 
 def _table(doc: dict, key: str, path: str, required: bool = False) -> dict:
@@ -290,9 +307,15 @@ def _text(table: dict, key: str, where: str, path: str, required: bool = False) 
     return value
 
 
+def _choice(value):
+    """An enumeration's value as written, compared without case or surrounding spaces
+    (``"Major"`` is ``"major"``); anything but text is returned as it is."""
+    return value.strip().lower() if isinstance(value, str) else value
+
+
 def _scope(lot: dict, path: str) -> Scope:
     """The scope of ``[lot]``: ``counts`` (items or nonconformities) and ``size``."""
-    counts = lot.get("counts", "items")
+    counts = _choice(lot.get("counts", "items"))
     if counts not in COUNTS:
         raise InputError(f"{path}: lot.counts ({counts!r}) must be one of: "
                          + ", ".join(repr(c) for c in COUNTS))
@@ -366,13 +389,18 @@ def _cost(smp: dict, path: str):
 
 
 def _targets(ch: dict, w: str, path: str, per_unit: bool) -> Targets:
-    """A characteristic's AQL, RQL and risks."""
-    for key in ("aql", "rql"):
-        if key not in ch:
-            raise InputError(f"{path}: {w}{key} is missing; it is required")
-    aql = parse_level(ch["aql"], f"{path}: {w}aql", per_unit=per_unit)
+    """A characteristic's AQL, RQL and risks. Only the RQL and beta may be given when
+    ``c = 0`` (a critical characteristic: no AQL, ``aql`` is then 0)."""
+    if "rql" not in ch:
+        raise InputError(f"{path}: {w}rql is missing; it is required")
+    if "aql" not in ch:
+        if ch.get("c") != 0 or isinstance(ch.get("c"), bool) or "plan" in ch or \
+                _choice(ch.get("scheme", "single")) != "single":
+            raise InputError(f"{path}: {w}aql is missing; it is required (or give only "
+                             f"{w}rql and beta with {w}c = 0, an accept-on-zero plan)")
+    aql = parse_level(ch["aql"], f"{path}: {w}aql", per_unit=per_unit) if "aql" in ch else 0.0
     rql = parse_level(ch["rql"], f"{path}: {w}rql", per_unit=per_unit)
-    if not rql > aql:
+    if "aql" in ch and not rql > aql:
         raise InputError(f"{path}: {w}rql ({ch['rql']}) must be above {w}aql ({ch['aql']})")
     alpha = parse_risk(ch.get("alpha", 0.05), f"{path}: {w}alpha")
     beta = parse_risk(ch.get("beta", 0.10), f"{path}: {w}beta")
@@ -430,26 +458,52 @@ def _inspection(doc: dict, path: str):
                              "inspection.study"), prefix=f"{path}: ")
 
 
-def _characteristic(ch: dict, i: int, path: str, *, per_unit: bool, n, seen: set, size=None):
+def _characteristic(ch: dict, i: int, path: str, *, per_unit: bool, n, seen: set, size=None,
+                    err: "_Errors | None" = None):
     """``[[characteristic]]`` number ``i`` (from 1), validated; its id is added
-    to ``seen``."""
+    to ``seen``. Its errors go to ``err`` (all of them; None when any), or the
+    first is raised when ``err`` is None."""
+    own = err is None
+    err = _Errors(path) if own else err
+    before = len(err.messages)
     w = f"characteristic[{i}]."
-    _unknown(ch, _char_keys(), w, path)
-    cid = _text(ch, "id", w, path, required=True)
-    if cid in seen:
-        raise InputError(f"{path}: {w}id ({cid!r}) is used twice; ids must be unique")
+    err.take(_unknown, ch, _char_keys(), w, path)
+    cid = err.take(_text, ch, "id", w, path, required=True, default="")
+    if cid and cid in seen:
+        err.take(_refuse, f"{path}: {w}id ({cid!r}) is used twice; ids must be unique")
     seen.add(cid)
-    klass = ch.get("class")
+    klass = _choice(ch.get("class"))
     if klass not in CLASSES:
-        raise InputError(f"{path}: {w}class ({klass!r}) must be one of: "
-                         + ", ".join(CLASSES))
-    targets = _targets(ch, w, path, per_unit)
-    c = _fixed_c(ch, w, path, n, per_unit)
-    plan = _own_plan(ch, w, path, c, size)
-    scheme, options = _scheme_options(ch, w, path, per_unit, c, plan)
-    return Characteristic(id=cid, description=_text(ch, "description", w, path),
-                          klass=klass, targets=targets, c=c, plan=plan,
-                          scheme=scheme, options=options)
+        err.take(_refuse, f"{path}: {w}class ({ch.get('class')!r}) must be one of: "
+                 + ", ".join(CLASSES))
+    insp = _choice(ch.get("inspection", "sampling"))
+    insp = insp.replace(" ", "") if isinstance(insp, str) else insp
+    if insp not in INSPECTIONS:
+        err.take(_refuse, f"{path}: {w}inspection ({ch['inspection']!r}) must be one of: "
+                 + ", ".join(f'"{v}"' for v in INSPECTIONS))
+    description = err.take(_text, ch, "description", w, path, default="")
+    if insp == "100%":  # every item inspected: nothing to sample, no targets
+        for k in ch:
+            if k not in ("id", "description", "class", "inspection") and k in _char_keys():
+                err.take(_refuse, f"{path}: {w}{k} does not apply with {w}inspection = "
+                                  "\"100%\" (every item is inspected: no sample, no AQL or "
+                                  "RQL); remove it or inspect by sampling")
+        result = Characteristic(id=cid, description=description, klass=klass,
+                                targets=None, full_inspection=True)
+    else:
+        targets = err.take(_targets, ch, w, path, per_unit)
+        c = err.take(_fixed_c, ch, w, path, n, per_unit)
+        plan = err.take(_own_plan, ch, w, path, c, size)
+        scheme, options = err.take(_scheme_options, ch, w, path, per_unit, c, plan,
+                                   default=("single", {}))
+        result = Characteristic(id=cid, description=description,
+                                klass=klass, targets=targets, c=c, plan=plan,
+                                scheme=scheme, options=options, rql_only="aql" not in ch)
+    if own:
+        if err.messages:
+            raise InputError(err.messages[0])
+        return result
+    return None if len(err.messages) > before else result
 
 
 #: Largest plan file read (characters): a plan file is a page of text.
@@ -497,56 +551,106 @@ def _bounded(text: str, path: str) -> None:
                          f"nests them at most {MAX_DEPTH} deep")
 
 
+class _Errors:
+    """Every error of one plan file, gathered so the file is reported at once.
+
+    ``take(fn, *args, default=...)`` runs one check and returns its value, or
+    ``default`` after noting its :class:`InputError`; ``raise_all`` raises one
+    :class:`InputError` whose single line lists them all (the first message as
+    it stands when there is only one).
+    """
+
+    def __init__(self, path: str):
+        self.path = str(path)
+        self.messages: list[str] = []
+
+    def take(self, fn, *args, default=None, **kw):
+        try:
+            return fn(*args, **kw)
+        except InputError as exc:
+            self.messages.append(str(exc))
+            return default
+
+    def raise_all(self) -> None:
+        if not self.messages:
+            return
+        if len(self.messages) == 1:
+            raise InputError(self.messages[0])
+        head = f"{self.path}: "
+        parts = [m[len(head):] if m.startswith(head) else m for m in self.messages]
+        raise InputError(f"{self.path}: {len(parts)} errors: " + "; ".join(parts))
+
+
 def loads(text: str, path: str = "<plan>") -> PlanRequest:
-    """Validate plan-file text; ``path`` is used in messages."""
+    """Validate plan-file text; ``path`` is used in messages.
+
+    Every error of the file is reported at once, in one :class:`InputError`
+    (its message one line, listing each error with its key path)."""
     _bounded(text, path)
     try:
         doc = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise InputError(f"{path}: not valid TOML ({exc})") from None
-    _unknown(doc, _TOP, "", path)
-    part = _table(doc, "part", path, required=True)
-    _unknown(part, _PART, "part.", path)
-    lot = _table(doc, "lot", path)
-    _unknown(lot, _LOT, "lot.", path)
-    smp = _table(doc, "sampling", path)
-    _unknown(smp, _SAMPLING, "sampling.", path)
+    err = _Errors(path)
+    err.take(_unknown, doc, _TOP, "", path)
+    part = err.take(_table, doc, "part", path, required=True)
+    missing_part = part is None  # (then part.id is not reported again)
+    part = part or {}
+    err.take(_unknown, part, _PART, "part.", path)
+    lot = err.take(_table, doc, "lot", path, default={})
+    err.take(_unknown, lot, _LOT, "lot.", path)
+    smp = err.take(_table, doc, "sampling", path, default={})
+    err.take(_unknown, smp, _SAMPLING, "sampling.", path)
 
-    part_id = _text(part, "id", "part.", path, required=True)
-    scope = _scope(lot, path)
+    part_id = "" if missing_part else err.take(_text, part, "id", "part.", path,
+                                               required=True, default="")
+    scope = err.take(_scope, lot, path, default=Scope())
     per_unit, size = scope.per_unit, scope.lot_size
-    model = _model(smp, scope, path)
-    n = _sampling_count(smp, "n", 1, path)
-    max_n = _sampling_count(smp, "max_n", 1, path)
-    seed = _seed(smp, path)
+    model = err.take(_model, smp, scope, path)
+    n = err.take(_sampling_count, smp, "n", 1, path)
+    max_n = err.take(_sampling_count, smp, "max_n", 1, path)
+    seed = err.take(_seed, smp, path)
     if size is not None and n is not None and n > size:
-        raise InputError(f"{path}: sampling.n ({n}) must not be greater than lot.size ({size})")
-    cost = _cost(smp, path)
-    strata = _strata(smp, size, path)
-    rejected = _text(smp, "rejected_lot", where="sampling.", path=path)
-    rationale = _text(doc, "rationale", "", path)
-    inspection = _inspection(doc, path)
+        err.take(_refuse, f"{path}: sampling.n ({n}) must not be greater than lot.size ({size})")
+    cost = err.take(_cost, smp, path)
+    strata = err.take(_strata, smp, size, path)
+    rejected = err.take(_text, smp, "rejected_lot", where="sampling.", path=path, default="")
+    rationale = err.take(_text, doc, "rationale", "", path, default="")
+    inspection = err.take(_inspection, doc, path)
 
-    extras = parse_extras(doc, scope, path, _unknown)  # [switching], [[table]]: may omit these
+    # [switching], [[table]]: a file with them may omit [[characteristic]]
+    extras = err.take(parse_extras, doc, scope, path, _unknown,
+                      default={"switching": None, "table": (), "limits": None})
     chars_raw = doc.get("characteristic", [] if extras["switching"] or extras["table"] else None)
-    if chars_raw is None:
-        raise InputError(f"{path}: no [[characteristic]] given; at least one is required")
-    if not isinstance(chars_raw, list) or not all(isinstance(c, dict) for c in chars_raw):
-        raise InputError(f"{path}: characteristic must be an array of tables, written "
-                         "[[characteristic]]")
-    if not chars_raw and "characteristic" in doc:
-        raise InputError(f"{path}: no [[characteristic]] given; at least one is required")
     chars = []
-    seen = set()
-    for i, ch in enumerate(chars_raw, 1):
-        chars.append(_characteristic(ch, i, path, per_unit=per_unit, n=n, seen=seen, size=size))
+    if chars_raw is None:
+        err.take(_refuse, f"{path}: no [[characteristic]] given; at least one is required")
+    elif not isinstance(chars_raw, list) or not all(isinstance(c, dict) for c in chars_raw):
+        err.take(_refuse, f"{path}: characteristic must be an array of tables, written "
+                          "[[characteristic]]")
+    elif not chars_raw and "characteristic" in doc:
+        err.take(_refuse, f"{path}: no [[characteristic]] given; at least one is required")
+    else:
+        seen = set()
+        for i, ch in enumerate(chars_raw, 1):
+            one = _characteristic(ch, i, path, per_unit=per_unit, n=n, seen=seen, size=size,
+                                  err=err)
+            if one is not None:
+                chars.append(one)
+    descriptions = [err.take(_text, part, key, "part.", path, default="")
+                    for key in ("description", "supplier")]
+    definition = err.take(_text, lot, "definition", "lot.", path, default="")
+    err.raise_all()
     return PlanRequest(
-        path=str(path), part_id=part_id, part_description=_text(part, "description", "part.", path),
-        supplier=_text(part, "supplier", "part.", path),
-        lot_definition=_text(lot, "definition", "lot.", path), scope=scope, model=model, n=n,
+        path=str(path), part_id=part_id, part_description=descriptions[0],
+        supplier=descriptions[1], lot_definition=definition, scope=scope, model=model, n=n,
         max_n=max_n, cost_per_unit=cost, seed=seed, strata=strata, rejected_lot=rejected,
         rationale=rationale, characteristics=tuple(chars), raw=doc, inspection=inspection,
         **extras)
+
+
+def _refuse(message: str):
+    raise InputError(message)
 
 
 def load(path) -> PlanRequest:

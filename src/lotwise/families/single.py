@@ -380,10 +380,44 @@ def _with_fixed_c(kernel: Kernel, targets: Targets, c: int, cap, lot_size) -> tu
     a = 1.0 - float(kernel.at_aql(nm, c))
     if a <= alpha + TOL:
         return nm, c
+    rounded = rounding_note(kernel, targets, lot_size, nm, c)
     raise Infeasible(
-        f"no sample size works with c = {c}: meeting beta ({format_pct(beta)}) needs "
-        f"n >= {nm}, and there alpha is {format_pct(a)} (target {format_pct(alpha)})",
-        {"n": nm, "c": c, "alpha": a, "beta": float(kernel.at_rql(nm, c))})
+        f"no sample size works with c = {c}: "
+        + (rounded if rounded else
+           f"meeting beta ({format_pct(beta)}) needs n >= {nm}, and there alpha is "
+           f"{format_pct(a)} (target {format_pct(alpha)})"),
+        {"n": nm, "c": c, "alpha": a, "beta": float(kernel.at_rql(nm, c))}
+        | ({"lot_counts": {"aql": int(kernel.d1), "rql": int(kernel.d2)}} if rounded else {}))
+
+
+def rounding_note(kernel: Kernel, targets: Targets, lot_size, n: int, c: int) -> str:
+    """Why a finite lot's rounding of the AQL to a whole count makes alpha miss its
+    target at ``n``, ``c`` ('' when the AQL is no fraction of an item to round).
+
+    With the AQL's count D1 rounded up (the conservative way for the producer's
+    risk) and c = 0, Pa(D1 = 1) = 1 - n/N exactly (hypergeometric: the sample
+    misses the one nonconforming item), so alpha is n/N whatever the plan.
+    """
+    if lot_size is None or kernel.model != "hypergeometric":
+        return ""
+    exact = targets.aql * lot_size
+    d1 = int(kernel.d1)
+    if not d1 > exact + 1e-9 * max(1.0, exact):  # not rounded up: the plan, not the count
+        return ""
+    a = 1.0 - float(kernel.at_aql(n, c))
+    head = (f"AQL {100 * targets.aql:.4g} % of a lot of {lot_size:,} rounds up to {d1} "
+            f"nonconforming item{'s' if d1 != 1 else ''} ({exact:.3g} of an item is no whole "
+            "count)")
+    if c == 0 and d1 == 1:
+        why = (f"; with c = 0 any sample rejects such a lot with probability n/N, and meeting "
+               f"beta ({format_pct(targets.beta)}) needs n >= {n}, so alpha is {n:,}/"
+               f"{lot_size:,} = {format_pct(a)} (target {format_pct(targets.alpha)})")
+    else:
+        why = (f"; meeting beta ({format_pct(targets.beta)}) needs n >= {n}, where a lot "
+               f"holding {d1} is rejected {format_pct(a)} of the time (target alpha "
+               f"{format_pct(targets.alpha)})")
+    return (head + why + ". The rounding, not the plan, sets this risk: state the AQL as a "
+            "whole count of the lot, give only the RQL and beta (c = 0), or inspect 100 %")
 
 
 def _smallest_plan(kernel: Kernel, targets: Targets, cap, lot_size, model, per_unit):

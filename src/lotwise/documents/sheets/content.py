@@ -134,8 +134,38 @@ def alternatives(pp) -> str:
 # --- the pieces of build_content ------------------------------------------------
 
 def _verdict(pp) -> str:
-    return ("Meets every target." if pp.meets else
-            ("NO PLAN: " + pp.problem) if pp.n is None else "FALLS SHORT of a target.")
+    if pp.meets and pp.full and not pp.reports:
+        return "Every item inspected (100 % inspection): no sample."
+    if pp.meets:
+        return "Meets every target."
+    if pp.n is None:
+        return "NO PLAN: " + pp.problem
+    failed = getattr(pp, "failed", [])
+    if failed:  # the others are designed; the part is flagged
+        ids = ", ".join(f["characteristic"]["id"] for f in failed)
+        rest = ("every other characteristic meets its targets"
+                if all(r["meets"] for r in pp.reports) else "another falls short of a target")
+        return f"NO PLAN for {ids} (see below); {rest}."
+    return "FALLS SHORT of a target."
+
+
+def _full_row(f) -> list:
+    """A plan-table row for a characteristic inspected on every item."""
+    ch = f["characteristic"]
+    return [ch["id"], ch["class"], "every item", "-", "-", "100 % inspection", "-"]
+
+
+FULL_SENTENCE = ("{id}: 100 % inspection: every item of the lot is inspected for it, so it "
+                 "takes no sample and carries no sampling risk (the inspection itself may "
+                 "still miss nonconforming items).")
+
+
+def _failed_row(f, per_unit: bool) -> list:
+    """A plan-table row for a characteristic no plan can meet."""
+    ch, t = f["characteristic"], f["targets"]
+    return [ch["id"], ch["class"], "no plan", "-", "-",
+            f"{_lvl(t['aql'], per_unit)} / {format_pct(t['alpha'])}",
+            f"{_lvl(t['rql'], per_unit)} / {format_pct(t['beta'])}"]
 
 
 def _scope_rows(req) -> list:
@@ -165,7 +195,8 @@ def _plan_row(rep, per_unit: bool) -> list:
     """One row of the plan table: characteristic, class, sample, rule, levels."""
     ch = rep["characteristic"]
     t = rep["targets"]
-    levels = [f"{_lvl(t['aql'], per_unit)} / {format_pct(t['alpha'])}",
+    levels = [f"{_lvl(t['aql'], per_unit)} / {format_pct(t['alpha'])}"
+              if not rep.get("rql_only") else "none stated (c = 0)",
               f"{_lvl(t['rql'], per_unit)} / {format_pct(t['beta'])}"]
     if rep.get("own_sample", False):
         k = rep["plan"].get("k")
@@ -180,11 +211,14 @@ def _risk_rows(rep) -> list:
     ch = rep["characteristic"]
     t = rep["targets"]
     rows = []
+    no_aql = rep.get("rql_only", False)  # RQL and beta only: no producer's target
     for m, r in rep["models"].items():
         star = "*" if m == rep["model"] else ""
-        rows.append([ch["id"], m + star, fmt_pa(r["pa_aql"]), format_pct(r["alpha"]),
-                     format_pct(t["alpha"]), fmt_pa(r["pa_rql"]), format_pct(r["beta"]),
-                     format_pct(t["beta"]), "meets" if r["meets"] else "SHORT"])
+        rows.append([ch["id"], m + star, "-" if no_aql else fmt_pa(r["pa_aql"]),
+                     "-" if no_aql else format_pct(r["alpha"]),
+                     "-" if no_aql else format_pct(t["alpha"]), fmt_pa(r["pa_rql"]),
+                     format_pct(r["beta"]), format_pct(t["beta"]),
+                     "meets" if r["meets"] else "SHORT"])
     info = rep.get("inspection_error", {})
     for key, name in (("at_upper", "upper bounds"), ("error_free", "perfect insp.")):
         r = info.get(key)
@@ -228,6 +262,15 @@ def _guarantees(rep, per_unit: bool) -> list:
             f"(the AQL it really protects), at {_lvl(q['indifference'], per_unit)} half the "
             f"time, and at {_lvl(q['consumer'], per_unit)} {format_pct(t['beta'])} of the time "
             "(the RQL it really gives)."]
+    if rep.get("rql_only"):
+        out.append(f"{ch['id']}: only the RQL and beta were stated (c = 0, no AQL): the "
+                   f"producer's side is the quality level where Pa = 1 - alpha = "
+                   f"{format_pct(1 - t['alpha'])}, above; the OC table gives the producer's "
+                   "risk (1 - Pa) at any other level.")
+    if ch.get("class") == "critical":
+        out.append(f"{ch['id']}: a plan guards a critical characteristic; sampling cannot "
+                   "guarantee a lot free of nonconforming items: 100 % inspection or stricter "
+                   "plans as contract and regulation require.")
     if "aoql" in rep:
         out.append(
             f"{ch['id']}, rejected lots screened 100 %: AOQL {format_pct(rep['aoql'], 3)} "
@@ -286,8 +329,21 @@ def _own_sample_line(pp, owns) -> str:
 def _plan_line(pp) -> str:
     """The one sentence saying how to inspect a lot."""
     scope = pp.request.scope
+    every = ", ".join(f["characteristic"]["id"] for f in pp.full)
+    if pp.n is None and pp.full and not pp.failed:
+        return (f"Inspect every item of each lot for {every} (100 % inspection): no sample "
+                "is drawn.")
     if pp.n is None:
         return "No plan meets these targets: " + pp.problem
+    if pp.full:
+        return _sampled_line(pp) + (f" {every}: every item of the lot is inspected (100 % "
+                                    "inspection), not sampled.")
+    return _sampled_line(pp)
+
+
+def _sampled_line(pp) -> str:
+    """The plan sentence of the sampled characteristics."""
+    scope = pp.request.scope
     plan_line = (f"Inspect n = {pp.n} units drawn at random from each lot"
                  + (f" of {scope.lot_size:,}" if scope.lot_size else "")
                  + ". For each characteristic, accept the lot if the count found is at most "
@@ -321,7 +377,9 @@ def _model_note(pp) -> str:
         parts = []
         for rep in (r for r in pp.reports if "lot_counts" in r):
             lc = rep["lot_counts"]
-            parts.append(f"{rep['characteristic']['id']}: AQL -> {lc['aql']}, RQL -> {lc['rql']}")
+            parts.append(f"{rep['characteristic']['id']}: "
+                         + ("" if rep.get("rql_only") else f"AQL -> {lc['aql']}, ")
+                         + f"RQL -> {lc['rql']}")
         note += (" Lot counts of nonconforming items, rounded up at the AQL and down at the RQL "
                  "(the conservative way for each risk): " + "; ".join(parts) + ". The OC "
                  "table's rows are whole counts D of the lot (p = D/N, column lot_count), so "
@@ -380,6 +438,13 @@ def build_content(pp, *, picks=None, today: _dt.date | None = None,
         guar += _guarantees(rep, per_unit)
         if "poisson_verdict" in rep:
             pois.append(f"{rep['characteristic']['id']}: {rep['poisson_verdict']['summary']}")
+    for f in pp.full:
+        plan_rows.append(_full_row(f))
+        guar.append(FULL_SENTENCE.format(id=f["characteristic"]["id"]))
+    if pp.n is not None:
+        for f in getattr(pp, "failed", []):
+            plan_rows.append(_failed_row(f, per_unit))
+            guar.append(f"{f['characteristic']['id']}: NO PLAN meets its targets: {f['reason']}.")
     footer = (f"Prepared {today.isoformat()} with lotwise {__version__}; input fingerprint "
               f"{req.fingerprint()} (SHA-256 of the plan file's parsed content). Re-create with: "
               f"lotwise sheet {req.path}")

@@ -27,7 +27,8 @@ def oc_plot(pp, ax=None):
     top = max(1.25 * r["targets"]["rql"] for r in pp.reports)
     # every model for a plan of one fixed sample, the judging model otherwise
     models = None if pp.plans[0].count_rule() is not None else [pp.reports[0]["model"]]
-    return oc_figure(items, models=models, aql=first["aql"], rql=first["rql"], labels=labels,
+    aql = None if pp.reports[0].get("rql_only") else first["aql"]  # no AQL stated: no mark
+    return oc_figure(items, models=models, aql=aql, rql=first["rql"], labels=labels,
                      ax=ax, max_p=None if len(items) == 1 else top)
 
 
