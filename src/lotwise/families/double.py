@@ -11,12 +11,10 @@ nonconformities per unit); no Poisson table is involved.
 
 Search and why it is exhaustive
 -------------------------------
-Bounds: ``0 <= c1 < c2 <= 2,000``; ``n1 >= 1`` with ``n1 + n2`` at most the
-lot size (and ``--max-n``); ``n2 = round(ratio n1)`` (halves up). The search
-runs in two passes: first the plans with ``r1 = c2 + 1`` (the family most
-tables use), then every ``r1 <= c2`` below the best ASN found. Within the
-bounds no plan is skipped, because every pruning step rests on one of these
-facts:
+Bounds: ``0 <= c1 < r1 <= c2 + 1`` (``c1 <= n1``); ``n1 >= 1`` with
+``n1 + n2`` at most the lot size (and ``--max-n``); ``n2 = round(ratio n1)``
+(halves up). Within the bounds no plan is skipped, because every pruning
+step rests on one of these facts:
 
 1. **Pa falls in n1** for fixed ``(c1, r1, c2)`` (``n2`` does not decrease
    as ``n1`` grows). Coupling: the plan accepts exactly when
@@ -24,39 +22,64 @@ facts:
    count in the first ``m`` units inspected; ``S`` does not decrease in
    ``m``, so a larger plan accepts only lots the smaller one accepts. (The
    same coupling holds without replacement and for a Poisson process.)
-   Hence the consumer's risk holds exactly for ``n1 >= n_lo`` and the
-   producer's for ``n1 <= n_hi``; both ends are found by integer bisection.
-2. **Pa rises in c1, in r1 and in c2** (the acceptance event grows), so
-   ``n_lo`` does not decrease in ``c1``.
+2. **Pa rises in c1, in r1 and in c2** (the acceptance event grows).
 3. **ASN >= n1** (every plan inspects the first sample), and the largest ASN
-   is at least the ASN at the AQL. So once a plan with objective ``A`` is
-   known, only ``n1 <= A`` can do better.
-4. **A lower bound for each c2 (or r1).** The plan accepts whenever the
-   whole sample holds at most ``min(c2, r1 - 1)``, so its ``Pa`` is at least
-   that of the single plan ``(n1 + n2, r1 - 1)`` (``(n1 + n2, c2)`` when
-   ``r1 = c2 + 1``). Meeting the consumer's risk therefore needs
-   ``n1 + n2 >= n_single(r1 - 1)``, the smallest single sample with that
-   acceptance number meeting it, which gives ``n1 >= L(r1 - 1)``.
-   ``n_single`` does not decrease in its acceptance number (fact 2 for
-   single plans), nor does ``L``. The first pass takes ``c2 = 1, 2, ...``
-   and stops at the first ``c2`` with ``L(c2) > A``; the second takes
-   ``r1 = 1, 2, ...`` and stops at the first with ``L(r1 - 1) > A``.
+   is at least the ASN at any level, the AQL and the RQL among them. The
+   single plan ``(n, c)`` of the same targets is the double plan
+   ``n1 = n, c1 = c, r1 = c + 1`` (no second sample, ASN ``n``), so when it
+   fits the cap the answer has an objective of at most ``n``, and only
+   ``n1 <= n`` need be searched; once a plan with objective ``A`` is known,
+   only ``n1 <= A``.
+4. **Necessary conditions from one sample.** The plan accepts whenever the
+   whole sample holds at most ``r1 - 1`` (then ``S(n1) < r1`` and the total
+   is at most ``c2``), so ``Pa(RQL) >= P_RQL(S(n1 + n2) <= r1 - 1)``: beta
+   bounds ``r1`` from above for each ``n1``, and the smallest n1 of all is
+   the one whose whole sample meets beta with ``r1 = 1``. The plan accepts
+   whenever ``S(n1) <= c1``, so ``F_RQL(c1) <= beta`` bounds ``c1``; it
+   accepts only when ``S(n1) < r1``, so ``F_AQL(r1 - 1) >= 1 - alpha``
+   bounds ``r1`` from below (``F`` the first sample's distribution
+   function).
 5. **The ASN does not depend on c2.** Both objectives depend on the second
    sample only through ``P(c1 < S(n1) < r1)``. So for given
    ``(n1, c1, r1)`` a plan exists exactly when the smallest ``c2`` meeting
    the producer's risk also meets the consumer's (fact 2), and that ``c2``
-   is the one the second pass takes.
+   is the one taken.
+6. **A bracket for c2.** With ``f`` the first sample's masses, ``G(k | d)``
+   the second sample's distribution function given ``d`` in the first
+   (rising in ``k``, and in ``d`` under the hypergeometric model, where the
+   remaining lot holds fewer nonconforming items) and ``P2 = F(r1 - 1) -
+   F(c1)``: ``F(c1) + P2 G(c - r1 + 1 | c1 + 1) <= Pa(c2 = c) <= F(c1) +
+   P2 G(c - c1 - 1 | r1 - 1)``. Inverting both sides at ``1 - alpha``
+   gives a bracket of width ``r1 - c1 - 2`` holding the smallest ``c2``; the
+   lower bound of ``Pa(RQL)`` at the bracket's lower end drops plans that
+   cannot meet beta (fact 2).
 
-First pass: for each ``c2`` every ``c1 < c2`` and every ``n1`` in
-``[n_lo, min(n_hi, A)]`` is evaluated (vectorised). Second pass: for each
-``r1`` every ``c1 < r1`` and every ``n1`` from ``L(r1 - 1)`` to ``A``, with
-``c2`` from fact 5, taken in rising order of the ASN at the AQL (a lower
-bound of both objectives that does not depend on ``c2``; the scan of an
-``r1`` stops at the first candidate above the best objective), and a
-candidate is dropped before its ``c2`` search when ``c2 = r1 - 1`` already
-gives ``Pa(RQL) > beta`` (fact 2: no larger ``c2`` meets beta). Ties in the objective (within 1e-9 relative) go to the
-smaller ``n1``, then ``c2``, then ``c1``, then ``r1``. What each pass searched
-is reported under ``search`` (``searched`` for the second).
+Method: first a probe of 24 values of n1 spread over the range (a good
+objective early, and the cost estimate, see the budget below), then every n1
+from the smallest (fact 4) up to the best objective (fact 3), in blocks of
+up to 64. For a block, exact tables: the first sample's masses at the AQL and
+RQL, the second sample's distribution functions (under the hypergeometric
+model one row per first-sample count, each row from the previous by moving
+one conforming item of the remaining lot to nonconforming, an exact convex
+recursion), and for the plans left by facts 3-6 the cumulative tables
+``W(r, c) = sum_{d < r} f(d) G(c - d | d)``, so that ``Pa(c1, r1, c2) =
+F(c1) + W(r1, c2) - W(c1 + 1, c2)``; the smallest ``c2`` is found by
+bisection inside its bracket (by direct evaluation where the bracket leaves
+the tables). Bounds used only to discard plans carry a rounding slack of
+1e-9. Under ``asn-max`` the closed form of the largest ASN is taken for the
+plans meeting both risks in rising order of the larger of the ASN at the AQL
+and at the RQL, stopping at the first above the best. Ties in the objective
+(within 1e-9 relative) go to the smaller ``n1``, then ``c2``, then ``c1``,
+then ``r1``. The search record (``search``) names the n1 range, the single
+plan, the plans evaluated, the work done and estimated, and why it stopped.
+
+Budget: the work (table cells, about 0.1 microsecond each) is estimated from
+the probe before the full search: the probe's cost per n1 under the best
+objective it reached, times the n1 left. Above :data:`SEARCH_BUDGET` the
+design is refused at once (:class:`TooCostly`, one line, exit 2) with the
+estimate and what to change; close targets with a small AQL are the costly
+ones (the number of n1 grows as 1/AQL, the tables per n1 as the square of
+the acceptance numbers, which grow as the RQL/AQL ratio nears 1).
 
 References
 ----------
@@ -92,7 +115,8 @@ import numpy as np
 from scipy import special
 
 from lotwise.core import kernels as oc
-from lotwise.core.quantities import InputError, Infeasible, format_level, format_pct
+from lotwise.core.quantities import (InputError, Infeasible, TooCostly, format_level,
+                                     format_pct)
 from lotwise.core.search import Kernel, check_lot, check_targets, n_min, smallest_plan
 from lotwise.core.stages import finish_shape, stage_cdf, stage_pmf
 from lotwise.core.types import Scope, Targets, lot_targets
@@ -278,15 +302,18 @@ def double_max_asn(n1, c1, r1, n2, model: str, N=None):
 
 
 MINIMIZE = ("asn-aql", "asn-max")
-#: Work (table entries, cumulative-table cells and direct evaluations) a
-#: double-plan search may take; about 10^7 units a second on the project
-#: machine, so the budget is about ten seconds. Estimated before the search.
-SEARCH_BUDGET = 10**8
+#: Work a double-plan search may take, in units of about 0.1 microsecond (one
+#: cell of a cumulative table; a probability mass counts 3, a hypergeometric
+#: one 10), estimated before the search: about 20 s on the project machine
+#: (2 cores; 10-20 million units a second). The estimate runs high by up to
+#: 2.3 times for the binomial model.
+SEARCH_BUDGET = 2 * 10**8
 _TOL = 1e-12     # the slack a risk may exceed its target by (as in design_single)
 _SLACK = 1e-9    # rounding room of bounds used only to discard plans
 _TIE = 1e-9      # relative tolerance of the objective within which ties go to the order
 _PROBE = 24      # n1 values of the first probe
-_BLOCK = 64      # n1 values per block
+_BLOCK = 64      # n1 values per block (at most)
+_CELLS = 4_000_000  # table cells per block (at most, about; 32 MB a table)
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -391,7 +418,7 @@ def design_double(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 
     ------
     Infeasible
         No double plan within the bounds meets both risks.
-    InputError
+    TooCostly
         The search would take more than :data:`SEARCH_BUDGET` units of work
         (estimated before it starts; the message says how much and what to
         change).
@@ -447,8 +474,9 @@ def design_double(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 
     sweep.run(n1_from, n1_to, what)
     if not sweep.pool:
         raise Infeasible(
-            f"no double plan with ratio {ratio} meets both risks ({what}): every n1 from "
-            f"{n1_from} to {n1_to} (the cap) searched", {"ratio": ratio, "n1_searched": [n1_from, n1_to]})
+            f"no double plan with ratio {ratio} meets both risks ({what}) with n1 + n2 within "
+            f"{cap_total} units (every n1 from {n1_from} to {n1_to} searched)",
+            {"ratio": ratio, "n1_searched": [n1_from, n1_to]})
     _, n1, c2, c1, r1 = sweep.answer()
     plan = DoublePlan(n1=int(n1), c1=int(c1), n2=int(_n2(n1, ratio)), c2=int(c2), r1=int(r1))
     # The objective as the plan computes it (the search summed the same
@@ -548,7 +576,9 @@ class _Sweep:
             start, chunk = start + chunk, min(2 * chunk, 4096)
             mx, _ = double_max_asn(n1[i], c1[i], r1[i], blk.n2_of(n1[i]), self.ev.model,
                                    self.ev.N)
-            self.work += i.size * (int((r1[i] - c1[i]).max()) + 64)
+            steps = 2 * math.log2(self.ev.N) if self.ev.N else 2.0
+            self.work += int(i.size * (int((r1[i] - c1[i]).max()) + steps)
+                             * _kernel_weight(self.ev.model))
             self._add(np.maximum(mx, asn[i]), n1[i], c2[i], c1[i], r1[i])
         return blk
 
@@ -573,9 +603,13 @@ class _Sweep:
         per_n1 = sum(b.cost(self.alpha, self.beta, self.bound()) for b in blocks) / probe.size
         self.estimate = int(self.work + per_n1 * max(top - n1_from + 1, 0))
         self._check(self.estimate, what, f"every n1 from {n1_from} to {top}")
+        # Blocks of at most _BLOCK n1, fewer where one n1's tables are large
+        # (memory: about _CELLS cells per table).
+        cells = max(_table_work(self.ev, np.array([top]), self.ratio), 1)
+        size = int(max(1, min(_BLOCK, _CELLS // cells)))
         n1 = n1_from
         while n1 <= self.top(n1_to):
-            last = min(n1 + _BLOCK, self.top(n1_to) + 1)
+            last = min(n1 + size, self.top(n1_to) + 1)
             self.block(np.arange(n1, last, dtype=np.int64))
             self.n1_last = last - 1
             n1 = last
@@ -587,15 +621,21 @@ class _Sweep:
 
     def _check(self, work, what, span):
         if work > SEARCH_BUDGET:
-            raise InputError(
+            raise TooCostly(
                 f"double-plan design for {what}: the search ({span}) would need about "
-                f"{work:.2g} units of work, above the budget of {SEARCH_BUDGET:.0e} (about "
-                f"{SEARCH_BUDGET / 1e7:.0f} s); widen the gap between the AQL and RQL, raise "
+                f"{_sci(work)} units of work, above the budget of {_sci(SEARCH_BUDGET)} (about "
+                f"{SEARCH_BUDGET / 1e7:.0f} s at 0.1 microsecond a unit); widen the gap between the AQL and RQL, raise "
                 "the AQL, or cap the sample with --max-n or a lot size")
 
     def answer(self):
         m = self.bound()
         return min((p for p in self.pool if p[0] <= m * (1 + _TIE)), key=lambda p: p[1:])
+
+
+def _sci(x) -> str:
+    """``1.2e9`` style (two figures)."""
+    m, e = f"{float(x):.1e}".split("e")
+    return f"{m.rstrip('0').rstrip('.')}e{int(e)}"
 
 
 def _table_work(ev, n1b, ratio):
@@ -607,8 +647,15 @@ def _table_work(ev, n1b, ratio):
     dt = float((n1b + n2).max()) * pr + 3
     mean = float(n2.max()) * pa
     kt = dt + mean + 8 * math.sqrt(mean) + 12
-    rows = dt if hyper else 1.0
-    return int(n1b.size * (4 * dt + 2 * rows * kt + dt * kt))
+    w = _kernel_weight(ev.model)
+    rows = 2 * dt if hyper else w
+    return int(n1b.size * (3 * w * dt + 2 * rows * kt + 2 * dt * kt))
+
+
+def _kernel_weight(model):
+    """Work units of one probability mass (a unit is one cell of a
+    cumulative table, about 0.1 microseconds)."""
+    return 10 if model == "hypergeometric" else 3
 
 
 class _Block:
@@ -653,7 +700,7 @@ class _Block:
         # Fact 4: r1 - 1 is at most the largest count c with P_RQL(whole
         # sample <= c) <= beta.
         self.r1max = (tot <= beta + _TOL + _SLACK).sum(axis=1)
-        self.work = 3 * self.n1.size * dt
+        self.work = 3 * self.n1.size * dt * _kernel_weight(model)
 
     def n2_of(self, n1):
         return _n2(n1, self.ratio)
@@ -678,12 +725,12 @@ class _Block:
             self.Ga, self.Gr = (np.minimum(np.cumsum(stage_pmf(k, n2[:, None], model, x, N),
                                                      axis=1), 1.0)
                                 for x in (ev.x_aql, ev.x_rql))
-            self.work += 2 * n2.size * kt
+            self.work += 2 * n2.size * kt * _kernel_weight(model)
             return
         self.d0 = dlo
         self.Ga = _hyper_rows(self.n1, self.n2, N, int(ev.x_aql), dlo, dhi, kt)
         self.Gr = _hyper_rows(self.n1, self.n2, N, int(ev.x_rql), dlo, dhi, kt)
-        self.work += 2 * n2.size * (kt + 2 * (dhi - dlo) * kt)
+        self.work += 2 * n2.size * kt * (_kernel_weight(model) + 2 * (dhi - dlo))
 
     def g(self, G, bi, d, k):
         """``G(k | d)`` for arrays (0 where ``k < 0``)."""
@@ -746,7 +793,7 @@ class _Block:
             return None
         bi, c1, r1 = cand
         thr = 1 - alpha - _TOL
-        self._second(int(c1.min()) + 1, int(r1.max()))
+        self._second(int(c1.min()) + 1, max(int(r1.max()), int(c1.min()) + 2))
         Fc = self.Fa[bi, c1]
         direct = Fc >= thr  # c2 = r1 - 1 already meets alpha
         p2 = np.where(direct, 1.0, self.Fa[bi, r1 - 1] - Fc)
