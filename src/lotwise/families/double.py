@@ -687,14 +687,13 @@ class _Block:
             dt = min(dt, int(ev.x_rql) + 2)
         while True:
             d = np.arange(dt, dtype=float)[None, :]
-            tot = np.cumsum(stage_pmf(d, nt[:, None], model, ev.x_rql, N), axis=1)
+            tot = np.cumsum(_mass_rows(model, nt, ev.x_rql, N, dt), axis=1)
             if hyper or np.all(tot[:, -1] > beta + _TOL + _SLACK):
                 break
             dt *= 2
         self.dt = dt
-        n = self.n1[:, None].astype(float)
-        self.fa = stage_pmf(d, n, model, ev.x_aql, N)
-        self.fr = stage_pmf(d, n, model, ev.x_rql, N)
+        self.fa = _mass_rows(model, self.n1, ev.x_aql, N, dt)
+        self.fr = _mass_rows(model, self.n1, ev.x_rql, N, dt)
         self.Fa = np.cumsum(self.fa, axis=1)
         self.Fr = np.cumsum(self.fr, axis=1)
         # Fact 4: r1 - 1 is at most the largest count c with P_RQL(whole
@@ -720,9 +719,8 @@ class _Block:
         self.kt = kt = self.dt + kq
         n2 = self.n2.astype(float)
         if not hyper:
-            k = np.arange(kt, dtype=float)[None, :]
             self.d0 = 0
-            self.Ga, self.Gr = (np.minimum(np.cumsum(stage_pmf(k, n2[:, None], model, x, N),
+            self.Ga, self.Gr = (np.minimum(np.cumsum(_mass_rows(model, self.n2, x, N, kt),
                                                      axis=1), 1.0)
                                 for x in (ev.x_aql, ev.x_rql))
             self.work += 2 * n2.size * kt * _kernel_weight(model)
@@ -905,6 +903,35 @@ def _wtable(blk, f, G, ub, d0, d1, cmin, cmax):
     w = np.zeros((ub.size, d1 - d0 + 1, cmax - cmin + 1))
     np.cumsum(f[b, d] * blk.g(G, b, d, c - d), axis=1, out=w[:, 1:, :])
     return w
+
+
+def _mass_rows(model, n, x, N, width):
+    """``out[i, d]``: probability that a sample of ``n[i]`` (rising) finds
+    ``d < width``. Under the binomial and hypergeometric models each row
+    comes from the previous one by adding one unit to the sample at a time
+    (exact, every step a convex combination: the unit is nonconforming with
+    probability ``p``, or ``(D - d) / (N - m)`` after ``m`` units holding
+    ``d``); a row more than 16 units from the previous one, and every
+    Poisson row, is computed directly."""
+    n = np.asarray(n, dtype=np.int64)
+    d = np.arange(width, dtype=float)
+    out = np.empty((n.size, width))
+    row = None
+    for i, m in enumerate(n):
+        gap = int(m - n[i - 1]) if i else 0
+        if row is None or model == "poisson" or gap > 16 or gap < 0:
+            row = stage_pmf(d, float(m), model, x, N)
+        else:
+            for u in range(int(n[i - 1]), int(m)):  # u units already in the sample
+                if model == "binomial":
+                    up = np.full(width, float(x))
+                else:
+                    up = np.clip((x - d) / (N - u), 0.0, 1.0)
+                moved = row * up
+                row = row - moved
+                row[1:] += moved[:-1]
+        out[i] = row
+    return out
 
 
 def _hyper_rows(n1, n2, N, D, dlo, dhi, kt):
