@@ -19,35 +19,34 @@ import reference_double_before as before
 from lotwise.families.double import design_double
 
 
-def _targets(count, seed):
-    """Seeded random target sets: AQL 0.5-3 %, RQL/AQL 2.5-8, ratio 0.5-3,
-    the three models, both objectives."""
+def _random_targets(count, seed, aql, spread, ratios, lots):
+    """Seeded random target sets: AQL uniform in ``aql``, RQL/AQL in
+    ``spread`` (RQL at most 40 %), n2/n1 from ``ratios``, the three models
+    (lots from ``lots``), both objectives."""
     rng = np.random.default_rng(seed)
     out = []
     for _ in range(count):
-        aql = float(np.round(rng.uniform(0.005, 0.03), 4))
-        rql = float(np.round(aql * rng.uniform(2.5, 8.0), 4))
+        a = float(np.round(rng.uniform(*aql), 4))
+        rql = float(np.round(a * rng.uniform(*spread), 4))
         model = str(rng.choice(["binomial", "poisson", "hypergeometric"]))
-        lot = int(rng.choice([300, 800, 2000])) if model == "hypergeometric" else None
-        out.append(dict(aql=aql, rql=min(rql, 0.4), ratio=float(rng.choice([0.5, 1, 1.5, 2, 3])),
+        lot = int(rng.choice(lots)) if model == "hypergeometric" else None
+        out.append(dict(aql=a, rql=min(rql, 0.4), ratio=float(rng.choice(ratios)),
                         model=model, lot_size=lot,
                         minimize=str(rng.choice(["asn-aql", "asn-max"]))))
     return out
 
 
+def _targets(count, seed):
+    """AQL 0.5-3 %, RQL/AQL 2.5-8, ratio 0.5-3."""
+    return _random_targets(count, seed, (0.005, 0.03), (2.5, 8.0), [0.5, 1, 1.5, 2, 3],
+                           [300, 800, 2000])
+
+
 def _close_targets(count, seed):
-    """Seeded random close targets the reference can still do in seconds:
-    AQL 2-6 %, RQL/AQL 2-2.5, ratio 1-2, the three models, both objectives."""
-    rng = np.random.default_rng(seed)
-    out = []
-    for _ in range(count):
-        aql = float(np.round(rng.uniform(0.02, 0.06), 4))
-        rql = float(np.round(aql * rng.uniform(2.0, 2.5), 4))
-        model = str(rng.choice(["binomial", "poisson", "hypergeometric"]))
-        lot = int(rng.choice([500, 1000, 2000])) if model == "hypergeometric" else None
-        out.append(dict(aql=aql, rql=rql, ratio=float(rng.choice([1, 1.5, 2])), model=model,
-                        lot_size=lot, minimize=str(rng.choice(["asn-aql", "asn-max"]))))
-    return out
+    """Close targets the reference can still do in seconds: AQL 2-6 %,
+    RQL/AQL 2-2.5, ratio 1-2."""
+    return _random_targets(count, seed, (0.02, 0.06), (2.0, 2.5), [1, 1.5, 2],
+                           [500, 1000, 2000])
 
 
 def _same(kw):

@@ -188,3 +188,50 @@ def test_designer_at_least_as_good_as_published_plan(c1, c2, pn95, pn10):
     p = d.plan
     scope_pa = [p.pa(x, "poisson", d.scope) for x in (aql, rql)]
     assert scope_pa[0] >= 0.95 - 1e-12 and scope_pa[1] <= 0.10 + 1e-12
+
+
+def test_refused_poisson_redesign_is_a_note(monkeypatch):
+    # Where a double design is only one part of the answer (the Poisson-based
+    # design beside an assessment, a row of the trade-off), a refusal by the
+    # budget becomes a note: the rest of the answer stands. Common practice,
+    # no source.
+    import lotwise.families.double as double_module
+    from lotwise.analysis.approximation import poisson_verdict
+    from lotwise.analysis.tradeoff import asn_tradeoff
+    from lotwise.core.types import Scope, Targets
+
+    d = design_double(aql=0.01, rql=0.05)
+    targets = Targets(aql=0.01, rql=0.05, alpha=0.05, beta=0.10)
+    monkeypatch.setattr(double_module, "SEARCH_BUDGET", 1000)
+    v = poisson_verdict(d.plan, targets, Scope())
+    assert v.poisson_plan is None
+    assert v.poisson_plan_note.startswith("A Poisson-based design was not attempted")
+    assert "units of work, above the budget of 1e3" in v.poisson_plan_note
+    rows = {r.scheme: r for r in asn_tradeoff(targets, Scope(), curves=False).rows}
+    assert rows["double"].plan is None and "budget" in rows["double"].note
+    assert rows["single"].plan is not None
+
+
+@pytest.mark.parametrize("kw", [
+    dict(aql=0.01, rql=0.05),
+    dict(aql=0.01, rql=0.05, lot_size=1000),
+    dict(aql=0.02, rql=0.12, ratio=1.5, model="poisson"),
+    dict(aql=0.01, rql=0.05, minimize="asn-max"),
+])
+def test_direct_evaluation_path_gives_the_same_plans(kw, monkeypatch):
+    # Where the bracket of c2 leaves the designer's tables it evaluates the
+    # plan formula directly (the same sums as DoublePlan.pa). Forcing that
+    # path for every plan must give the same answers as the tables.
+    import lotwise.families.double as double_module
+
+    tables = design_double(**kw)
+    second = double_module._Block._second
+
+    def narrow(self, dlo, dhi):
+        second(self, dlo, dhi)
+        self.kq = 1  # no bracket fits: every plan takes the direct path
+
+    monkeypatch.setattr(double_module._Block, "_second", narrow)
+    direct = design_double(**kw)
+    assert direct.plan.label == tables.plan.label
+    assert direct.objective == pytest.approx(tables.objective, rel=1e-12)

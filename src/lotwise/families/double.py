@@ -117,7 +117,8 @@ from scipy import special
 from lotwise.core import kernels as oc
 from lotwise.core.quantities import (InputError, Infeasible, TooCostly, format_level,
                                      format_pct)
-from lotwise.core.search import Kernel, check_lot, check_targets, n_min, smallest_plan
+from lotwise.core.search import (Kernel, check_lot, check_targets, last_true, n_min,
+                                 smallest_plan)
 from lotwise.core.stages import finish_shape, stage_cdf, stage_pmf
 from lotwise.core.types import Scope, Targets, lot_targets
 from lotwise.families.base import Family, Option, OptionKind
@@ -447,18 +448,7 @@ def design_double(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 
         cap_total = lot_size if cap_total is None else min(cap_total, lot_size)
     n1_cap = _n1_cap(cap_total, ratio)
 
-    # Fact 3: the single plan (n, c) is the double plan n1 = n, c1 = c,
-    # r1 = c + 1 (no second sample), so the answer has ASN <= n.
-    best, single = None, None
-    found = smallest_plan(kernel, alpha, beta, None, None)
-    if found is not None:
-        single = {"n": int(found[0]), "c": int(found[1])}
-        n, c = found
-        if n1_cap is None or n <= n1_cap:
-            n2 = int(_n2(n, ratio))
-            if (ev.at_aql(n, c, c, n2, c + 1)[0] >= 1 - alpha - _TOL
-                    and ev.pa_rql(n, c, c, n2, c + 1) <= beta + _TOL):
-                best = (float(n), int(n), int(c), int(c), int(c) + 1)
+    best, single = _single_start(ev, kernel, alpha, beta, ratio, n1_cap)
     if best is None and n1_cap is None:
         raise Infeasible(f"no double plan with ratio {ratio} meets both risks: not even the "
                          "single plan it contains", {"ratio": ratio})
@@ -500,6 +490,25 @@ def design_double(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 
                         minimize=minimize, objective=float(obj),
                         asn={"aql": asn_aql, "rql": asn_rql, "max": amax, "max_at": at},
                         search=search, lot_counts=counts)
+
+
+def _single_start(ev, kernel, alpha, beta, ratio, n1_cap):
+    """Fact 3: the single plan ``(n, c)`` of the targets is the double plan
+    ``n1 = n, c1 = c, r1 = c + 1`` (no second sample, objective ``n``), the
+    search's first answer when it fits the cap. Returns ``(best or None,
+    {"n", "c"} or None)``."""
+    found = smallest_plan(kernel, alpha, beta, None, None)
+    if found is None:
+        return None, None
+    n, c = (int(v) for v in found)
+    single = {"n": n, "c": c}
+    if n1_cap is not None and n > n1_cap:
+        return None, single
+    n2 = int(_n2(n, ratio))
+    if (ev.at_aql(n, c, c, n2, c + 1)[0] >= 1 - alpha - _TOL
+            and ev.pa_rql(n, c, c, n2, c + 1) <= beta + _TOL):
+        return (float(n), n, c, c, c + 1), single
+    return None, single
 
 
 def _lowest_n1(kernel, beta, cap_total, ratio):
@@ -969,40 +978,19 @@ def _hyper_rows(n1, n2, N, D, dlo, dhi, kt):
 
 
 def _direct_c2(ev, n1, c1, r1, n2, start, thr):
-    """Smallest ``c2 >= start`` meeting alpha by direct evaluation (doubling,
-    then bisection; ``Pa`` rises in ``c2``), or -1 where none does before the
-    second sample is accepted whatever it finds (``r1 - 1 + n2``; per unit a
-    Poisson tail bound of 1e-30)."""
-    out = np.full(n1.shape, -1, dtype=np.int64)
-    for i in range(n1.size):
-        if ev.model == "poisson":
-            lam = float(n2[i]) * ev.x_aql
-            top = int(r1[i]) - 1 + int(math.ceil(lam + 12.0 * math.sqrt(lam) + 70.0))
-        else:
-            top = int(r1[i]) - 1 + int(n2[i])
-
-        def meets(c):
-            return ev.at_aql(n1[i], c1[i], c, n2[i], r1[i])[0] >= thr
-
-        lo, step, hi = int(start[i]) - 1, 1, None
-        while hi is None:
-            c = min(lo + step, top)
-            if meets(c):
-                hi = c
-            elif c >= top:
-                break
-            else:
-                lo, step = c, 2 * step
-        if hi is None:
-            continue
-        while hi - lo > 1:
-            mid = (lo + hi) // 2
-            if meets(mid):
-                hi = mid
-            else:
-                lo = mid
-        out[i] = hi
-    return out
+    """Smallest ``c2 >= start`` meeting alpha by direct evaluation
+    (:func:`lotwise.core.search.last_true` on "misses alpha": ``Pa`` rises in
+    ``c2``), or -1 where none does before the second sample is accepted
+    whatever it finds (``r1 - 1 + n2``; per unit a Poisson tail bound of
+    1e-30). ``start - 1`` misses alpha (the bracket's lower bound)."""
+    if ev.model == "poisson":
+        lam = n2.astype(float) * ev.x_aql
+        top = r1 - 1 + np.ceil(lam + 12.0 * np.sqrt(lam) + 70.0).astype(np.int64)
+    else:
+        top = r1 - 1 + n2
+    last = last_true(lambda c, i: ev.at_aql(n1[i], c1[i], c, n2[i], r1[i])[0] < thr,
+                     start - 1, start, int(top.max()))
+    return np.where(last + 1 <= top, last + 1, -1)
 
 
 def parse_double(pairs: dict, text: str, option: str):
