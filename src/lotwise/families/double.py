@@ -924,11 +924,13 @@ def _mass_rows(model, n, x, N, width):
     Poisson row, is computed directly."""
     n = np.asarray(n, dtype=np.int64)
     d = np.arange(width, dtype=float)
+    if model == "poisson":
+        return stage_pmf(d[None, :], n[:, None].astype(float), model, x, N)
     out = np.empty((n.size, width))
     row = None
     for i, m in enumerate(n):
         gap = int(m - n[i - 1]) if i else 0
-        if row is None or model == "poisson" or gap > 16 or gap < 0:
+        if row is None or gap > 16 or gap < 0:
             row = stage_pmf(d, float(m), model, x, N)
         else:
             for u in range(int(n[i - 1]), int(m)):  # u units already in the sample
