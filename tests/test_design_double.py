@@ -127,9 +127,15 @@ def test_double_beats_single_on_asn_at_aql():
 
 
 def test_designer_search_record():
+    # The search starts from the single plan (n = 132, c = 3 at AQL 1 %/RQL 5 %,
+    # design_single) and covers every n1 up to the best ASN (every plan
+    # inspects at least n1 units).
     d = design_double(aql=0.01, rql=0.05)
-    assert "larger c2 only raise this bound" in d.search["stopped"]
-    assert d.search["searched"]["r1"][0] == 1 and "r1 = " in d.search["searched"]["stopped"]
+    single = design_single(aql=0.01, rql=0.05)
+    assert d.search["single_plan"] == {"n": single.n, "c": single.c} == {"n": 132, "c": 3}
+    assert "above the best objective" in d.search["stopped"]
+    assert d.search["n1"][1] >= int(d.objective)
+    assert d.search["work"] <= d.search["budget"]
     assert d.plan.n2 == 2 * d.plan.n1
 
 

@@ -72,6 +72,10 @@ SEQ_TRUNCATE = ("the sequential plan's default truncation is 3 x the single n, n
 DOUBLE_R1 = ("the double designer now searches every r1 from c1 + 1 to c2 + 1, not only "
              "c2 + 1: smaller ASN (AQL 1 %, RQL 5 %: n1=80, c1=1, r1=3, n2=160, c2=6 at 103.09 "
              "against 108.56); minimality by brute force in test_design_double.py")
+DOUBLE_SWEEP = ("the double designer searches n1 by n1 (every c1 < r1 <= c2 + 1 for each, from "
+                "the single plan's n down): the search record and the reason for no plan name "
+                "the n1 searched instead of the last c2; same plans (tests/"
+                "test_double_speed_equivalence.py)")
 SEQ_NOTATION = ("a sequential plan written with its risk points keeps them in its notation (p1, "
                 "alpha, p2, beta; per_unit when said), so the lines follow the scope")
 SEQ_PROMISE = ("sequential design keeps its promise: the exact truncated plan must meet both "
@@ -220,6 +224,8 @@ CHANGED: dict[str, str] = {
     "design_double_asn_max:json.search": DOUBLE_R1,
     "design_double_asn_max:json.statements": DOUBLE_R1,
     "design_double_lot:json.search": DOUBLE_R1,
+    "design_double_lot_no_plan:json.reason": DOUBLE_SWEEP,
+    "design_double_lot_no_plan:json.reachable": DOUBLE_SWEEP,
     "design_double_defects:json.asn": DOUBLE_R1,
     "design_double_defects:json.asn_curtailed": DOUBLE_R1,
     "design_double_defects:json.label": DOUBLE_R1,

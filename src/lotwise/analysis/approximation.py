@@ -37,7 +37,7 @@ import numpy as np
 
 from lotwise.core.types import Scope
 from lotwise.families.single import SinglePlan
-from lotwise.core.quantities import Infeasible
+from lotwise.core.quantities import Infeasible, TooCostly
 
 __all__ = ["PoissonVerdict", "poisson_verdict", "verdict_keys", "rule_of_thumb", "max_curve_error"]
 
@@ -194,6 +194,8 @@ def poisson_verdict(plan, targets, scope: Scope, exact_model: str | None = None,
                 pa_, pb, pm = r.alpha, r.beta, r.meets
         except Infeasible as exc:
             note = f"A Poisson-based design finds no plan: {exc}"
+        except TooCostly as exc:
+            note = f"A Poisson-based design was not attempted: {exc}"
     return PoissonVerdict(exact_model=exact, n=n, rule_aql=rule_of_thumb(n, targets.aql),
                           rule_rql=rule_of_thumb(n, targets.rql), np_aql=n * targets.aql,
                           np_rql=n * targets.rql, max_error=err, max_error_at=at,

@@ -31,7 +31,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from lotwise.core.types import Scope
-from lotwise.core.quantities import Infeasible
+from lotwise.core.quantities import Infeasible, TooCostly
 
 __all__ = ["TradeoffRow", "Tradeoff", "asn_tradeoff"]
 
@@ -152,7 +152,7 @@ def asn_tradeoff(targets, scope: Scope, *, model: str | None = None, ratio: floa
                                                                   truncate=truncate).plan)):
         try:
             plan = make()
-        except Infeasible as exc:
+        except (Infeasible, TooCostly) as exc:
             rows.append(TradeoffRow(scheme=scheme, plan=None, label="-", note=str(exc)))
             continue
         rows.append(_row(scheme, plan, targets, scope, model, peak=curves))

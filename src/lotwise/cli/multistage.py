@@ -131,11 +131,8 @@ def _design_double(targets, scope, mdl, ratio, minimize, cap, plot, force, as_js
                    f"{format_pct(pdd['alpha'])} and beta {format_pct(pdd['beta'])}: it "
                    f"{verdict} the targets.")
     s = d.search
-    typer.echo(f"  Search: c1 < c2, c2 from 1 to {s['c2_searched'][1]} ({s['plans_evaluated']:,} "
-               f"plans evaluated); stopped because {s['stopped']}.")
-    if "searched" in s:
-        typer.echo(f"  Then every c1 < r1 <= c2 with r1 up to {s['searched']['r1'][1]}; stopped "
-                   f"because {s['searched']['stopped']}.")
+    typer.echo(f"  Search: every c1 < r1 <= c2 + 1 for n1 from {s['n1'][0]} to {s['n1'][1]} "
+               f"({s['plans_evaluated']:,} plans evaluated); stopped because {s['stopped']}.")
     if plot:
         typer.echo(f"  wrote {plot}")
 

@@ -26,6 +26,7 @@ import re
 __all__ = [
     "InputError",
     "Infeasible",
+    "TooCostly",
     "parse_fraction",
     "decimal_comma",
     "parse_level",
@@ -42,6 +43,12 @@ __all__ = [
 
 class InputError(ValueError):
     """Malformed input: the message names the option, the value and what is allowed."""
+
+
+class TooCostly(InputError):
+    """A well-formed request whose computation, estimated before it starts,
+    exceeds a documented budget: refused like bad input (one line, exit 2),
+    the message saying what it would need and what to change."""
 
 
 class Infeasible(Exception):

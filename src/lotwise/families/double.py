@@ -11,12 +11,10 @@ nonconformities per unit); no Poisson table is involved.
 
 Search and why it is exhaustive
 -------------------------------
-Bounds: ``0 <= c1 < c2 <= 2,000``; ``n1 >= 1`` with ``n1 + n2`` at most the
-lot size (and ``--max-n``); ``n2 = round(ratio n1)`` (halves up). The search
-runs in two passes: first the plans with ``r1 = c2 + 1`` (the family most
-tables use), then every ``r1 <= c2`` below the best ASN found. Within the
-bounds no plan is skipped, because every pruning step rests on one of these
-facts:
+Bounds: ``0 <= c1 < r1 <= c2 + 1`` (``c1 <= n1``); ``n1 >= 1`` with
+``n1 + n2`` at most the lot size (and ``--max-n``); ``n2 = round(ratio n1)``
+(halves up). Within the bounds no plan is skipped, because every pruning
+step rests on one of these facts:
 
 1. **Pa falls in n1** for fixed ``(c1, r1, c2)`` (``n2`` does not decrease
    as ``n1`` grows). Coupling: the plan accepts exactly when
@@ -24,39 +22,64 @@ facts:
    count in the first ``m`` units inspected; ``S`` does not decrease in
    ``m``, so a larger plan accepts only lots the smaller one accepts. (The
    same coupling holds without replacement and for a Poisson process.)
-   Hence the consumer's risk holds exactly for ``n1 >= n_lo`` and the
-   producer's for ``n1 <= n_hi``; both ends are found by integer bisection.
-2. **Pa rises in c1, in r1 and in c2** (the acceptance event grows), so
-   ``n_lo`` does not decrease in ``c1``.
+2. **Pa rises in c1, in r1 and in c2** (the acceptance event grows).
 3. **ASN >= n1** (every plan inspects the first sample), and the largest ASN
-   is at least the ASN at the AQL. So once a plan with objective ``A`` is
-   known, only ``n1 <= A`` can do better.
-4. **A lower bound for each c2 (or r1).** The plan accepts whenever the
-   whole sample holds at most ``min(c2, r1 - 1)``, so its ``Pa`` is at least
-   that of the single plan ``(n1 + n2, r1 - 1)`` (``(n1 + n2, c2)`` when
-   ``r1 = c2 + 1``). Meeting the consumer's risk therefore needs
-   ``n1 + n2 >= n_single(r1 - 1)``, the smallest single sample with that
-   acceptance number meeting it, which gives ``n1 >= L(r1 - 1)``.
-   ``n_single`` does not decrease in its acceptance number (fact 2 for
-   single plans), nor does ``L``. The first pass takes ``c2 = 1, 2, ...``
-   and stops at the first ``c2`` with ``L(c2) > A``; the second takes
-   ``r1 = 1, 2, ...`` and stops at the first with ``L(r1 - 1) > A``.
+   is at least the ASN at any level, the AQL and the RQL among them. The
+   single plan ``(n, c)`` of the same targets is the double plan
+   ``n1 = n, c1 = c, r1 = c + 1`` (no second sample, ASN ``n``), so when it
+   fits the cap the answer has an objective of at most ``n``, and only
+   ``n1 <= n`` need be searched; once a plan with objective ``A`` is known,
+   only ``n1 <= A``.
+4. **Necessary conditions from one sample.** The plan accepts whenever the
+   whole sample holds at most ``r1 - 1`` (then ``S(n1) < r1`` and the total
+   is at most ``c2``), so ``Pa(RQL) >= P_RQL(S(n1 + n2) <= r1 - 1)``: beta
+   bounds ``r1`` from above for each ``n1``, and the smallest n1 of all is
+   the one whose whole sample meets beta with ``r1 = 1``. The plan accepts
+   whenever ``S(n1) <= c1``, so ``F_RQL(c1) <= beta`` bounds ``c1``; it
+   accepts only when ``S(n1) < r1``, so ``F_AQL(r1 - 1) >= 1 - alpha``
+   bounds ``r1`` from below (``F`` the first sample's distribution
+   function).
 5. **The ASN does not depend on c2.** Both objectives depend on the second
    sample only through ``P(c1 < S(n1) < r1)``. So for given
    ``(n1, c1, r1)`` a plan exists exactly when the smallest ``c2`` meeting
    the producer's risk also meets the consumer's (fact 2), and that ``c2``
-   is the one the second pass takes.
+   is the one taken.
+6. **A bracket for c2.** With ``f`` the first sample's masses, ``G(k | d)``
+   the second sample's distribution function given ``d`` in the first
+   (rising in ``k``, and in ``d`` under the hypergeometric model, where the
+   remaining lot holds fewer nonconforming items) and ``P2 = F(r1 - 1) -
+   F(c1)``: ``F(c1) + P2 G(c - r1 + 1 | c1 + 1) <= Pa(c2 = c) <= F(c1) +
+   P2 G(c - c1 - 1 | r1 - 1)``. Inverting both sides at ``1 - alpha``
+   gives a bracket of width ``r1 - c1 - 2`` holding the smallest ``c2``; the
+   lower bound of ``Pa(RQL)`` at the bracket's lower end drops plans that
+   cannot meet beta (fact 2).
 
-First pass: for each ``c2`` every ``c1 < c2`` and every ``n1`` in
-``[n_lo, min(n_hi, A)]`` is evaluated (vectorised). Second pass: for each
-``r1`` every ``c1 < r1`` and every ``n1`` from ``L(r1 - 1)`` to ``A``, with
-``c2`` from fact 5, taken in rising order of the ASN at the AQL (a lower
-bound of both objectives that does not depend on ``c2``; the scan of an
-``r1`` stops at the first candidate above the best objective), and a
-candidate is dropped before its ``c2`` search when ``c2 = r1 - 1`` already
-gives ``Pa(RQL) > beta`` (fact 2: no larger ``c2`` meets beta). Ties in the objective (within 1e-9 relative) go to the
-smaller ``n1``, then ``c2``, then ``c1``, then ``r1``. What each pass searched
-is reported under ``search`` (``searched`` for the second).
+Method: first a probe of 24 values of n1 spread over the range (a good
+objective early, and the cost estimate, see the budget below), then every n1
+from the smallest (fact 4) up to the best objective (fact 3), in blocks of
+up to 64. For a block, exact tables: the first sample's masses at the AQL and
+RQL, the second sample's distribution functions (under the hypergeometric
+model one row per first-sample count, each row from the previous by moving
+one conforming item of the remaining lot to nonconforming, an exact convex
+recursion), and for the plans left by facts 3-6 the cumulative tables
+``W(r, c) = sum_{d < r} f(d) G(c - d | d)``, so that ``Pa(c1, r1, c2) =
+F(c1) + W(r1, c2) - W(c1 + 1, c2)``; the smallest ``c2`` is found by
+bisection inside its bracket (by direct evaluation where the bracket leaves
+the tables). Bounds used only to discard plans carry a rounding slack of
+1e-9. Under ``asn-max`` the closed form of the largest ASN is taken for the
+plans meeting both risks in rising order of the larger of the ASN at the AQL
+and at the RQL, stopping at the first above the best. Ties in the objective
+(within 1e-9 relative) go to the smaller ``n1``, then ``c2``, then ``c1``,
+then ``r1``. The search record (``search``) names the n1 range, the single
+plan, the plans evaluated, the work done and estimated, and why it stopped.
+
+Budget: the work (table cells, about 0.1 microsecond each) is estimated from
+the probe before the full search: the probe's cost per n1 under the best
+objective it reached, times the n1 left. Above :data:`SEARCH_BUDGET` the
+design is refused at once (:class:`TooCostly`, one line, exit 2) with the
+estimate and what to change; close targets with a small AQL are the costly
+ones (the number of n1 grows as 1/AQL, the tables per n1 as the square of
+the acceptance numbers, which grow as the RQL/AQL ratio nears 1).
 
 References
 ----------
@@ -92,15 +115,17 @@ import numpy as np
 from scipy import special
 
 from lotwise.core import kernels as oc
-from lotwise.core.quantities import InputError, Infeasible, format_level, format_pct
-from lotwise.core.search import Kernel, check_lot, check_targets, n_min
+from lotwise.core.quantities import (InputError, Infeasible, TooCostly, format_level,
+                                     format_pct)
+from lotwise.core.search import (Kernel, check_lot, check_targets, last_true, n_min,
+                                 smallest_plan)
 from lotwise.core.stages import finish_shape, stage_cdf, stage_pmf
 from lotwise.core.types import Scope, Targets, lot_targets
 from lotwise.families.base import Family, Option, OptionKind
 from lotwise.families.staged import StagedPlan, build_staged, whole
 
 __all__ = ["DoublePlan", "DoubleDesign", "design_double", "double_max_asn", "MINIMIZE",
-           "C2_CAP", "FAMILY"]
+           "SEARCH_BUDGET", "FAMILY"]
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -278,8 +303,18 @@ def double_max_asn(n1, c1, r1, n2, model: str, N=None):
 
 
 MINIMIZE = ("asn-aql", "asn-max")
-C2_CAP = 2000
-_TOL = 1e-12
+#: Work a double-plan search may take, in units of about 0.1 microsecond (one
+#: cell of a cumulative table; a probability mass counts 3, a hypergeometric
+#: one 10), estimated before the search: about 20 s on the project machine
+#: (2 cores; 10-20 million units a second). The estimate runs high by up to
+#: 2.3 times for the binomial model.
+SEARCH_BUDGET = 2 * 10**8
+_TOL = 1e-12     # the slack a risk may exceed its target by (as in design_single)
+_SLACK = 1e-9    # rounding room of bounds used only to discard plans
+_TIE = 1e-9      # relative tolerance of the objective within which ties go to the order
+_PROBE = 24      # n1 values of the first probe
+_BLOCK = 64      # n1 values per block (at most)
+_CELLS = 4_000_000  # table cells per block (at most, about; 32 MB a table)
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -384,6 +419,10 @@ def design_double(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 
     ------
     Infeasible
         No double plan within the bounds meets both risks.
+    TooCostly
+        The search would take more than :data:`SEARCH_BUDGET` units of work
+        (estimated before it starts; the message says how much and what to
+        change).
     """
     scope = Scope(lot_size=lot_size, per_unit=per_unit)
     model = scope.check_model(model)
@@ -409,223 +448,79 @@ def design_double(*, aql: float, rql: float, alpha: float = 0.05, beta: float = 
         cap_total = lot_size if cap_total is None else min(cap_total, lot_size)
     n1_cap = _n1_cap(cap_total, ratio)
 
-    def lower_bound(c2: int) -> int | None:
-        """Smallest n1 with n1 + n2 >= n_single(c2); None if no single n fits."""
-        ns = int(n_min(kernel, np.array([c2]), beta, cap_total)[0])
-        if ns < 0:
-            return None
-        n1 = max(1, int(math.floor((ns - 0.5) / (1 + ratio))) - 1)
-        while n1 + int(_n2(n1, ratio)) < ns:
-            n1 += 1
-        return n1
-
-    best = None  # (objective, n1, c2, c1)
-    stopped = f"c2 reached the cap of {C2_CAP}"
-    c2_last = 0
-    for c2 in range(1, C2_CAP + 1):
-        lb = lower_bound(c2)
-        if lb is None:
-            stopped = (f"no sample within {cap_total} units meets the consumer's risk with "
-                       f"c2 = {c2}, nor with any larger c2")
-            break
-        if best is not None and lb > best[0] * (1 + 1e-9):
-            stopped = (f"for c2 = {c2} every plan meeting beta has n1 >= {lb}, above the best "
-                       f"ASN {best[0]:.4f}; larger c2 only raise this bound")
-            break
-        if n1_cap is not None and lb > n1_cap:
-            stopped = f"for c2 = {c2} meeting beta needs n1 >= {lb}, beyond the cap of {n1_cap}"
-            break
-        c2_last = c2
-        found = _search_c2(ev, c2, lb, ratio, n1_cap, beta, alpha, minimize, best)
-        if found is not None and (best is None or _better(found, best)):
-            best = found
-    if best is None:
+    best, single = _single_start(ev, kernel, alpha, beta, ratio, n1_cap)
+    if best is None and n1_cap is None:
+        raise Infeasible(f"no double plan with ratio {ratio} meets both risks: not even the "
+                         "single plan it contains", {"ratio": ratio})
+    n1_from = _lowest_n1(kernel, beta, cap_total, ratio)
+    n1_to = n1_cap if best is None else min(best[1], n1_cap or best[1])
+    what = (f"AQL {format_level(aql, per_unit)} at alpha {format_pct(alpha)}, RQL "
+            f"{format_level(rql, per_unit)} at beta {format_pct(beta)}")
+    if n1_from is None or n1_from > n1_to:
         raise Infeasible(
-            f"no double plan with ratio {ratio} meets both risks (AQL "
-            f"{format_level(aql, per_unit)} at alpha {format_pct(alpha)}, RQL "
-            f"{format_level(rql, per_unit)} at beta {format_pct(beta)}): {stopped}",
-            {"ratio": ratio, "c2_searched": c2_last})
-    best = best + (best[2] + 1,)  # (objective, n1, c2, c1, r1)
-    best, r1_search = _search_r1(ev, best, lower_bound, ratio, n1_cap, alpha, beta, minimize)
-    obj, n1, c2, c1, r1 = best
+            f"no double plan with ratio {ratio} meets both risks ({what}): no sample within "
+            f"{cap_total} units meets the consumer's risk", {"ratio": ratio})
+    sweep = _Sweep(ev, ratio, alpha, beta, minimize, best)
+    sweep.run(n1_from, n1_to, what)
+    if not sweep.pool:
+        raise Infeasible(
+            f"no double plan with ratio {ratio} meets both risks ({what}) with n1 + n2 within "
+            f"{cap_total} units (every n1 from {n1_from} to {n1_to} searched)",
+            {"ratio": ratio, "n1_searched": [n1_from, n1_to]})
+    _, n1, c2, c1, r1 = sweep.answer()
     plan = DoublePlan(n1=int(n1), c1=int(c1), n2=int(_n2(n1, ratio)), c2=int(c2), r1=int(r1))
+    # The objective as the plan computes it (the search summed the same
+    # masses in another order: they agree to rounding).
+    _, second = ev.at_aql(plan.n1, plan.c1, plan.c2, plan.n2, plan.r1)
+    obj = float(plan.n1 + plan.n2 * second)
+    if minimize == "asn-max":
+        obj = max(obj, double_max_asn(plan.n1, plan.c1, plan.r1, plan.n2, model, lot_size)[0])
     asn_aql = float(plan.asn(ev.x_aql / lot_size if lot_size and model == "hypergeometric"
                              else ev.x_aql, model, scope))
     asn_rql = float(plan.asn(ev.x_rql / lot_size if lot_size and model == "hypergeometric"
                              else ev.x_rql, model, scope))
     amax, at = double_max_asn(plan.n1, plan.c1, plan.r1, plan.n2, model, lot_size)
-    search = {"c1": [0, "c2 - 1"], "c2_searched": [1, c2_last], "c2_cap": C2_CAP,
-              "n1_cap": n1_cap, "ratio": ratio,
-              "r1": "c2 + 1 in this pass; every c1 < r1 <= c2 in the second (searched)",
-              "plans_evaluated": ev.evaluated, "stopped": stopped,
-              "searched": r1_search}
+    search = {"n1": [n1_from, sweep.n1_last], "n1_cap": n1_cap, "ratio": ratio,
+              "c1": [0, "r1 - 1"], "r1": "every r1 > c1 meeting the necessary conditions",
+              "c2": "the smallest meeting alpha for each n1, c1, r1",
+              "single_plan": single, "plans_evaluated": sweep.evals,
+              "work": sweep.work, "work_estimate": sweep.estimate,
+              "budget": SEARCH_BUDGET, "stopped": sweep.stopped}
     return DoubleDesign(plan=plan, model=model, scope=scope, targets=targets, ratio=ratio,
                         minimize=minimize, objective=float(obj),
                         asn={"aql": asn_aql, "rql": asn_rql, "max": amax, "max_at": at},
                         search=search, lot_counts=counts)
 
 
-def _smallest_c2(ev, n1, n2, f, first, r1, alpha, todo):
-    """``c2[i, c1]``: for plans ``n1[i]`` and ``c1 < r1`` marked in ``todo``,
-    the smallest ``c2 >= r1 - 1`` meeting the producer's risk (``Pa`` rises
-    in ``c2``), or -1 where none does.
-
-    ``f`` are the first-sample masses ``f(d1)``, ``d1 < r1``, at the AQL and
-    ``first`` their cumulative sums ``F(c1)``. With the second-sample
-    distribution functions ``G(k | d1)``,
-    ``Pa(c1, c2) = F(c1) + sum_{c1 < d1 < r1} f(d1) G(c2 - d1 | d1)`` for every
-    ``c1`` and a block of ``c2`` at once; the block doubles until every plan
-    has its answer or the bound is reached. Counting items, ``c2 = r1 - 1 +
-    n2`` accepts every lot that reaches the second sample; per unit the bound
-    is where the second sample's count exceeds the block with probability
-    below 1e-30 (a Poisson tail bound), beyond which ``Pa`` does not move.
-    """
-    x = ev.x_aql
-    if ev.model == "poisson":
-        lam = float(np.max(n2)) * x
-        k_top = int(math.ceil(lam + 12.0 * math.sqrt(lam) + 70.0))
-    else:
-        k_top = int(np.max(n2))
-    d1 = np.arange(r1, dtype=float)[None, :]
-    out = np.full((n1.size, r1), -1, dtype=np.int64)
-    todo = todo.copy()
-    width = 16
-    while True:
-        width = min(width, k_top + 1)
-        c2 = (r1 - 1 + np.arange(width, dtype=float))[None, None, :]          # (1, 1, W)
-        g = stage_cdf(c2 - d1[:, :, None], n2[:, None, None].astype(float), ev.model, x,
-                      ev.N, n1[:, None, None].astype(float), d1[:, :, None])   # (P, r1, W)
-        ev.evaluated += n1.size * r1 * width
-        t = f[:, :, None] * g
-        # Second-sample acceptance summed over d1 > c1 (a reversed cumulative sum).
-        tail = np.concatenate([np.cumsum(t[:, ::-1], axis=1)[:, ::-1][:, 1:],
-                               np.zeros((n1.size, 1, width))], axis=1)
-        meets = first[:, :, None] + tail >= 1 - alpha - _TOL
-        hit = meets.any(axis=2) & todo
-        out[hit] = (r1 - 1 + np.argmax(meets, axis=2))[hit]
-        todo &= ~hit
-        if not todo.any() or width > k_top:
-            return out
-        width *= 2
+def _single_start(ev, kernel, alpha, beta, ratio, n1_cap):
+    """Fact 3: the single plan ``(n, c)`` of the targets is the double plan
+    ``n1 = n, c1 = c, r1 = c + 1`` (no second sample, objective ``n``), the
+    search's first answer when it fits the cap. Returns ``(best or None,
+    {"n", "c"} or None)``."""
+    found = smallest_plan(kernel, alpha, beta, None, None)
+    if found is None:
+        return None, None
+    n, c = (int(v) for v in found)
+    single = {"n": n, "c": c}
+    if n1_cap is not None and n > n1_cap:
+        return None, single
+    n2 = int(_n2(n, ratio))
+    if (ev.at_aql(n, c, c, n2, c + 1)[0] >= 1 - alpha - _TOL
+            and ev.pa_rql(n, c, c, n2, c + 1) <= beta + _TOL):
+        return (float(n), n, c, c, c + 1), single
+    return None, single
 
 
-def _search_r1(ev, best, lower_bound, ratio, n1_cap, alpha, beta, minimize):
-    """Improve ``best`` (objective, n1, c2, c1, r1) over rejection numbers
-    ``c1 < r1 <= c2 + 1``; returns the best plan and what was searched.
-
-    Neither the objective (ASN at the AQL, or the largest ASN: both depend on
-    the first sample only through ``P(c1 < d1 < r1)``) nor the first sample
-    depends on ``c2``, while ``Pa`` rises in ``c2`` at both points. So for
-    given ``(n1, c1, r1)`` a plan exists exactly when the smallest ``c2``
-    meeting the producer's risk also meets the consumer's, and that ``c2`` is
-    the one to take. Every plan with ``r1`` accepts whenever the whole sample
-    ``n1 + n2`` holds at most ``r1 - 1``, so meeting beta needs
-    ``n1 >= L(r1 - 1)`` (the single-plan bound of fact 4, with ``r1 - 1`` for
-    ``c2``); ``L`` does not fall in ``r1`` and ``ASN >= n1`` (fact 3), so
-    ``r1`` runs from 1 until ``L(r1 - 1)`` exceeds the best objective, and
-    for each ``r1`` every ``c1 < r1`` and every ``n1`` from ``L(r1 - 1)`` to
-    the best objective is tried, best-first (:func:`_best_first`).
-    """
-    evaluated0 = ev.evaluated
-    r1 = 0
-    stop = ""
-    while True:
-        r1 += 1
-        lb = lower_bound(r1 - 1)
-        top = math.floor(best[0] * (1 + 1e-9))
-        if n1_cap is not None:
-            top = min(top, n1_cap)
-        if lb is None or lb > top:
-            stop = (f"for r1 = {r1} every plan meeting beta has n1 >= "
-                    f"{'(none within the cap)' if lb is None else lb}, above the best ASN "
-                    f"{best[0]:.4f} (or the cap)")
-            break
-        n1s = np.arange(max(lb, 1), top + 1, dtype=np.int64)
-        n2s = _n2(n1s, ratio)
-        # The first sample alone fixes the ASN at the AQL for every c1 (and
-        # the largest a plan can reach: however large c2, Pa < P(d1 < r1)).
-        f = stage_pmf(np.arange(r1, dtype=float)[None, :], n1s[:, None].astype(float),
-                      ev.model, ev.x_aql, ev.N)
-        first = np.cumsum(f, axis=1)
-        asn_aql = n1s[:, None] + n2s[:, None] * (first[:, -1:] - first)
-        todo = (asn_aql <= best[0] * (1 + 1e-9)) & (first[:, -1:] >= 1 - alpha - _TOL)
-        todo &= np.arange(r1)[None, :] <= n1s[:, None]
-        best = _best_first(ev, best, n1s, n2s, f, first, asn_aql, todo, r1, ratio, alpha,
-                           beta, minimize)
-    return best, {"r1": [1, r1 - 1], "c1": [0, "r1 - 1"],
-                  "c2": "the smallest meeting alpha for each n1, c1, r1",
-                  "n1": "L(r1 - 1) to the best ASN", "plans_evaluated": ev.evaluated - evaluated0,
-                  "stopped": stop}
-
-
-def _best_first(ev, best, n1s, n2s, f, first, asn_aql, todo, r1, ratio, alpha, beta,
-                minimize):
-    """Best plan with this ``r1`` (or ``best``), taking the candidates
-    ``(n1, c1)`` marked in ``todo`` in rising order of their ASN at the AQL.
-
-    The ASN at the AQL does not depend on ``c2`` and is a lower bound of both
-    objectives (fact 3), so once the next candidate's ASN at the AQL exceeds
-    the best objective (beyond the tie tolerance) no later one can beat or tie
-    it and the scan stops. Before the scan, a candidate is dropped when
-    even ``c2 = r1 - 1`` (the smallest allowed) gives ``Pa(RQL) > beta``
-    (:func:`_beta_reachable`): ``Pa`` rises in ``c2`` (fact 2), so no ``c2``
-    meets beta. Nothing is dropped that could beat or tie the answer.
-    """
-    todo = todo & _beta_reachable(ev, n1s, n2s, r1, beta)
-    rows, cols = np.nonzero(todo)
-    key = asn_aql[rows, cols]
-    order = np.lexsort((cols, n1s[rows], key))
-    rows, cols, key = rows[order], cols[order], key[order]
-    start, chunk = 0, 64
-    while start < rows.size:
-        if key[start] > best[0] * (1 + 1e-9):
-            break
-        ri, ci = rows[start:start + chunk], cols[start:start + chunk]
-        start += chunk
-        chunk = min(chunk * 2, 4096)
-        n1, c1 = n1s[ri], ci.astype(np.int64)
-        n2 = n2s[ri]
-        one = np.zeros((ri.size, r1), dtype=bool)
-        one[np.arange(ri.size), c1] = True
-        table = _smallest_c2(ev, n1, n2, f[ri], first[ri], r1, alpha, one)
-        c2 = table[np.arange(ri.size), c1]
-        have = c2 >= 0
-        n1, c1, c2, n2 = n1[have], c1[have], c2[have], n2[have]
-        if not n1.size:
-            continue
-        good = ev.pa_rql(n1, c1, c2, n2, r1) <= beta + _TOL
-        n1, c1, c2, n2 = n1[good], c1[good], c2[good], n2[good]
-        if not n1.size:
-            continue
-        obj = _objective(ev, n1, c1, c2, n2, minimize, r1)
-        for i in np.lexsort((c1, c2, n1, obj))[:8]:
-            cand = (float(obj[i]), int(n1[i]), int(c2[i]), int(c1[i]), r1)
-            if _better(cand, best):
-                best = cand
-    return best
-
-
-def _beta_reachable(ev, n1s, n2s, r1, beta):
-    """``ok[i, c1]``: whether plan ``(n1s[i], c1, r1, n2s[i], c2 = r1 - 1)``
-    meets beta, for every ``c1 < r1``; ``n1s`` rising.
-
-    With ``c2 = r1 - 1`` fixed, ``Pa`` falls in ``n1`` (fact 1), so for each
-    ``c1`` the plans meeting beta are those from the first index that does:
-    found by integer bisection (index -1 counts as failing, ``len(n1s)`` as
-    meeting). A plan failing here fails for every ``c2 >= r1 - 1`` (fact 2).
-    """
-    c1 = np.arange(r1, dtype=np.int64)
-    lo = np.full(r1, -1, dtype=np.int64)
-    hi = np.full(r1, n1s.size, dtype=np.int64)
-    act = hi - lo > 1
-    while act.any():
-        mid = (lo + hi) // 2
-        m = mid[act]
-        good = ev.pa_rql(n1s[m], c1[act], np.full(m.shape, r1 - 1), n2s[m], r1) <= beta + _TOL
-        hi[act] = np.where(good, m, hi[act])
-        lo[act] = np.where(good, lo[act], m)
-        act = hi - lo > 1
-    return np.arange(n1s.size)[:, None] >= hi[None, :]
+def _lowest_n1(kernel, beta, cap_total, ratio):
+    """Smallest n1 whose whole sample ``n1 + n2`` can meet beta at all (fact 4
+    with ``r1 = 1``: ``n1 + n2 >= n_single(0)``); None if none within the cap."""
+    ns = int(n_min(kernel, np.array([0]), beta, cap_total)[0])
+    if ns < 0:
+        return None
+    n1 = max(1, int(math.floor((ns - 0.5) / (1 + ratio))) - 1)
+    while n1 + int(_n2(n1, ratio)) < ns:
+        n1 += 1
+    return n1
 
 
 def _n1_cap(cap_total, ratio):
@@ -640,174 +535,464 @@ def _n1_cap(cap_total, ratio):
     return n1_cap
 
 
-def _better(a, b) -> bool:
-    """Order on (objective, n1, c2, c1[, r1]) with a relative tie tolerance."""
-    if a[0] < b[0] * (1 - 1e-9):
-        return True
-    if a[0] > b[0] * (1 + 1e-9):
-        return False
-    return a[1:] < b[1:]
+# --- the search ------------------------------------------------------------------------
+
+class _Sweep:
+    """The search over n1 (see the module notes): a probe of spread-out n1
+    values, the cost estimate, then every n1 in blocks, each block keeping the
+    plans within the tie tolerance of the best objective."""
+
+    def __init__(self, ev, ratio, alpha, beta, minimize, best):
+        self.ev, self.ratio, self.alpha, self.beta = ev, ratio, alpha, beta
+        self.minimize = minimize
+        self.pool = [] if best is None else [best]
+        self.evals = 0
+        self.work = 0
+        self.estimate = 0
+        self.n1_last = 0
+        self.stopped = ""
+
+    def bound(self):
+        return min(p[0] for p in self.pool) if self.pool else None
+
+    def top(self, n1_to):
+        b = self.bound()
+        return n1_to if b is None else min(n1_to, math.floor(b * (1 + _TIE)))
+
+    def block(self, n1b):
+        blk = _Block(self.ev, n1b, self.ratio, self.beta, self.minimize == "asn-max")
+        got = blk.plans(self.alpha, self.beta, self.bound())
+        self.work += blk.work
+        self.evals += blk.evals
+        if got is None:
+            return blk
+        asn, low, n1, c2, c1, r1 = got
+        if self.minimize == "asn-aql":
+            self._add(asn, n1, c2, c1, r1)
+            return blk
+        # The largest ASN is at least the ASN at the AQL and at the RQL
+        # (``low``): take the plans in rising order of that and stop at the
+        # first above the best.
+        order = np.lexsort((r1, c1, c2, n1, low))
+        start, chunk = 0, 32
+        while start < order.size:
+            b = self.bound()
+            i = order[start:start + chunk]
+            if b is not None:
+                i = i[low[i] <= b * (1 + _TIE) + _SLACK]
+                if not i.size:
+                    break
+            start, chunk = start + chunk, min(2 * chunk, 4096)
+            mx, _ = double_max_asn(n1[i], c1[i], r1[i], blk.n2_of(n1[i]), self.ev.model,
+                                   self.ev.N)
+            steps = 2 * math.log2(self.ev.N) if self.ev.N else 2.0
+            self.work += int(i.size * (int((r1[i] - c1[i]).max()) + steps)
+                             * _kernel_weight(self.ev.model))
+            self._add(np.maximum(mx, asn[i]), n1[i], c2[i], c1[i], r1[i])
+        return blk
+
+    def _add(self, obj, n1, c2, c1, r1):
+        b = self.bound()
+        m = float(obj.min()) if b is None else min(b, float(obj.min()))
+        for i in np.flatnonzero(obj <= m * (1 + _TIE)):
+            self.pool.append((float(obj[i]), int(n1[i]), int(c2[i]), int(c1[i]), int(r1[i])))
+        m = self.bound()
+        self.pool = [p for p in self.pool if p[0] <= m * (1 + _TIE)]
+
+    def run(self, n1_from, n1_to, what):
+        top = self.top(n1_to)
+        probe = np.unique(np.linspace(n1_from, top, _PROBE).round().astype(np.int64))
+        self._check(_table_work(self.ev, probe, self.ratio) * 3, what, "the first probe")
+        blocks = []
+        for n1 in probe:  # one at a time: their tables differ in size
+            blocks.append(self.block(np.array([n1])))
+        top = self.top(n1_to)
+        # The estimate: what the probed n1 would cost under the bound reached,
+        # per n1, times the n1 left.
+        per_n1 = sum(b.cost(self.alpha, self.beta, self.bound()) for b in blocks) / probe.size
+        self.estimate = int(self.work + per_n1 * max(top - n1_from + 1, 0))
+        self._check(self.estimate, what, f"every n1 from {n1_from} to {top}")
+        # Blocks of at most _BLOCK n1, fewer where one n1's tables are large
+        # (memory: about _CELLS cells per table).
+        cells = max(_table_work(self.ev, np.array([top]), self.ratio), 1)
+        size = int(max(1, min(_BLOCK, _CELLS // cells)))
+        n1 = n1_from
+        while n1 <= self.top(n1_to):
+            last = min(n1 + size, self.top(n1_to) + 1)
+            self.block(np.arange(n1, last, dtype=np.int64))
+            self.n1_last = last - 1
+            n1 = last
+        b = self.bound()
+        self.stopped = (f"n1 reached {self.n1_last + 1}, above the best objective {b:.4f} "
+                        "(every plan has ASN >= n1)" if b is not None and
+                        self.n1_last + 1 > b * (1 + _TIE)
+                        else f"n1 reached the cap of {n1_to}")
+
+    def _check(self, work, what, span):
+        if work > SEARCH_BUDGET:
+            raise TooCostly(
+                f"double-plan design for {what}: the search ({span}) would need about "
+                f"{_sci(work)} units of work, above the budget of {_sci(SEARCH_BUDGET)} (about "
+                f"{SEARCH_BUDGET / 1e7:.0f} s at 0.1 microsecond a unit); widen the gap between the AQL and RQL, raise "
+                "the AQL, or cap the sample with --max-n or a lot size")
+
+    def answer(self):
+        m = self.bound()
+        return min((p for p in self.pool if p[0] <= m * (1 + _TIE)), key=lambda p: p[1:])
 
 
-def _bisect_lo(ev, c1, c2, lo, hi, ratio, beta):
-    """Smallest n1 in (lo, hi] with Pa(RQL) <= beta, given it fails at lo and
-    holds at hi (Pa falls in n1)."""
-    lo = lo.copy()
-    hi = hi.copy()
+def _sci(x) -> str:
+    """``1.2e9`` style (two figures)."""
+    m, e = f"{float(x):.1e}".split("e")
+    return f"{m.rstrip('0').rstrip('.')}e{int(e)}"
+
+
+def _table_work(ev, n1b, ratio):
+    """Size of the tables of one block (an estimate made before building them)."""
+    n2 = _n2(n1b, ratio)
+    hyper = ev.model == "hypergeometric"
+    pr = ev.x_rql / ev.N if hyper else ev.x_rql
+    pa = ev.x_aql / ev.N if hyper else ev.x_aql
+    dt = float((n1b + n2).max()) * pr + 3
+    mean = float(n2.max()) * pa
+    kt = dt + mean + 8 * math.sqrt(mean) + 12
+    w = _kernel_weight(ev.model)
+    rows = 2 * dt if hyper else w
+    return int(n1b.size * (3 * w * dt + 2 * rows * kt + 2 * dt * kt))
+
+
+def _kernel_weight(model):
+    """Work units of one probability mass (a unit is one cell of a
+    cumulative table, about 0.1 microseconds)."""
+    return 10 if model == "hypergeometric" else 3
+
+
+class _Block:
+    """Exact tables of one block of first-sample sizes ``n1`` and the plans
+    of the block that meet both risks.
+
+    ``fa``, ``fr``: first-sample masses ``f(d)`` at the AQL and RQL, ``d <
+    dt``; ``Fa``, ``Fr`` their cumulative sums; ``Ga``, ``Gr``: second-sample
+    distribution functions ``G(k | d)`` (not depending on ``d`` except under
+    the hypergeometric model), ``k < kt``.
+    """
+
+    def __init__(self, ev, n1b, ratio, beta, largest=False):
+        self.ev = ev
+        self.largest = largest  # the objective is the largest ASN
+        self.n1 = n1b
+        self.ratio = ratio
+        self.n2 = _n2(n1b, ratio)
+        self.evals = 0
+        model, N = ev.model, ev.N
+        hyper = model == "hypergeometric"
+        pr = ev.x_rql / N if hyper else ev.x_rql
+        nt = (self.n1 + self.n2).astype(float)
+        # Counts up to the consumer's quantile of the whole sample (r1 - 1 is
+        # at most that: fact 4), found below the mean when beta < 1/2.
+        mean = float(nt.max()) * pr
+        dt = int(math.ceil(mean + (0.0 if beta < 0.5 else 10 * math.sqrt(mean) + 10))) + 3
+        if hyper:
+            dt = min(dt, int(ev.x_rql) + 2)
+        while True:
+            d = np.arange(dt, dtype=float)[None, :]
+            tot = np.cumsum(_mass_rows(model, nt, ev.x_rql, N, dt), axis=1)
+            if hyper or np.all(tot[:, -1] > beta + _TOL + _SLACK):
+                break
+            dt *= 2
+        self.dt = dt
+        self.fa = _mass_rows(model, self.n1, ev.x_aql, N, dt)
+        self.fr = _mass_rows(model, self.n1, ev.x_rql, N, dt)
+        self.Fa = np.cumsum(self.fa, axis=1)
+        self.Fr = np.cumsum(self.fr, axis=1)
+        # Fact 4: r1 - 1 is at most the largest count c with P_RQL(whole
+        # sample <= c) <= beta.
+        self.r1max = (tot <= beta + _TOL + _SLACK).sum(axis=1)
+        self.work = 3 * self.n1.size * dt * _kernel_weight(model)
+
+    def n2_of(self, n1):
+        return _n2(n1, self.ratio)
+
+    def _second(self, dlo, dhi):
+        """``Ga``, ``Gr`` for ``dlo <= d < dhi`` (rows) and ``k < kt``; ``kq``
+        bounds the excess ``c2 - (r1 - 1)`` looked up in the bracket."""
+        ev = self.ev
+        model, N = ev.model, ev.N
+        hyper = model == "hypergeometric"
+        pa = ev.x_aql / N if hyper else ev.x_aql
+        mean = float(self.n2.max()) * pa
+        kq = int(math.ceil(mean + 8 * math.sqrt(mean) + 12))
+        if model != "poisson":
+            kq = min(kq, int(self.n2.max()) + 1)
+        self.kq = kq
+        self.kt = kt = self.dt + kq
+        n2 = self.n2.astype(float)
+        if not hyper:
+            self.d0 = 0
+            self.Ga, self.Gr = (np.minimum(np.cumsum(_mass_rows(model, self.n2, x, N, kt),
+                                                     axis=1), 1.0)
+                                for x in (ev.x_aql, ev.x_rql))
+            self.work += 2 * n2.size * kt * _kernel_weight(model)
+            return
+        self.d0 = dlo
+        self.Ga = _hyper_rows(self.n1, self.n2, N, int(ev.x_aql), dlo, dhi, kt)
+        self.Gr = _hyper_rows(self.n1, self.n2, N, int(ev.x_rql), dlo, dhi, kt)
+        self.work += 2 * n2.size * kt * (_kernel_weight(model) + 2 * (dhi - dlo))
+
+    def g(self, G, bi, d, k):
+        """``G(k | d)`` for arrays (0 where ``k < 0``)."""
+        kk = np.clip(k, 0, self.kt - 1)
+        if G.ndim == 2:
+            out = G[bi, kk]
+        else:
+            out = G[bi, np.clip(d - self.d0, 0, G.shape[1] - 1), kk]
+        return np.where(k < 0, 0.0, out)
+
+    def candidates(self, alpha, beta, bound):
+        """``(bi, c1, r1)``: the plans of the block that pass the necessary
+        conditions: ``F_r(c1) <= beta`` (the first sample alone accepts that
+        often), ``F_a(r1 - 1) >= 1 - alpha`` (the plan accepts at most
+        that often), ``r1 - 1`` within fact 4's bound, and the ASN at the AQL
+        within the tie tolerance of ``bound``."""
+        thr = 1 - alpha - _TOL
+        c1max = np.minimum((self.Fr <= beta + _TOL + _SLACK).sum(axis=1) - 1, self.n1)
+        r1min = (self.Fa < thr - _SLACK).sum(axis=1) + 1
+        live = (c1max >= 0) & (r1min <= self.r1max)
+        if bound is not None:
+            live &= self.n1 <= bound * (1 + _TIE)
+        if not live.any():
+            return None
+        rlo = max(int(r1min[live].min()), 1)
+        c1 = np.arange(int(c1max[live].max()) + 1)[None, :, None]
+        r1 = np.arange(rlo, int(self.r1max[live].max()) + 1)[None, None, :]
+        b = np.arange(self.n1.size)[:, None, None]
+        ok = (live[:, None, None] & (c1 <= c1max[:, None, None])
+              & (r1 >= r1min[:, None, None]) & (r1 <= self.r1max[:, None, None]) & (r1 > c1))
+        if bound is not None:
+            sec = self.Fa[b, r1 - 1] - self.Fa[b, c1]
+            if self.largest:
+                sec = np.maximum(sec, self.Fr[b, r1 - 1] - self.Fr[b, c1])
+            asn = self.n1[:, None, None] + self.n2[:, None, None] * sec
+            ok &= asn <= bound * (1 + _TIE) + _SLACK
+        bi, ci, ri = np.nonzero(ok)
+        if not bi.size:
+            return None
+        return bi, ci.astype(np.int64), (ri + rlo).astype(np.int64)
+
+    def cost(self, alpha, beta, bound):
+        """Work of this block under ``bound``: its tables and the cumulative
+        tables of its candidates (an estimate: the bracket is taken as wide
+        as the second sample's range)."""
+        cand = self.candidates(alpha, beta, bound)
+        if cand is None:
+            return self.work / 2
+        bi, c1, r1 = cand
+        rows = int(r1.max() - c1.min())
+        cols = int(r1.max() - r1.min()) + getattr(self, "kq", self.dt)
+        return self.work + 2 * self.n1.size * rows * cols
+
+    def plans(self, alpha, beta, bound):
+        """Plans of the block meeting both risks with ASN at the AQL within
+        the tie tolerance of ``bound``: arrays ``(asn_aql, n1, c2, c1, r1)``,
+        or None."""
+        cand = self.candidates(alpha, beta, bound)
+        if cand is None:
+            return None
+        bi, c1, r1 = cand
+        thr = 1 - alpha - _TOL
+        self._second(int(c1.min()) + 1, max(int(r1.max()), int(c1.min()) + 2))
+        Fc = self.Fa[bi, c1]
+        direct = Fc >= thr  # c2 = r1 - 1 already meets alpha
+        p2 = np.where(direct, 1.0, self.Fa[bi, r1 - 1] - Fc)
+        q = np.where(direct, 0.0, (thr - Fc) / p2)
+        # Bracket of c2 (fact 6): G rises in k (and in d), so
+        # F(c1) + P2 G(c - r1 + 1 | c1 + 1) <= Pa(c) <= F(c1) + P2 G(c - c1 - 1 | r1 - 1).
+        klo = _smallest_k(self, self.Ga, bi, r1 - 1, q - _SLACK, self.kt)
+        c2lo = np.where(direct, r1 - 1, np.maximum(r1 - 1, c1 + 1 + klo))
+        khi = _smallest_k(self, self.Ga, bi, c1 + 1, q + _SLACK, self.kq)
+        c2hi = np.where(direct, r1 - 1, r1 - 1 + khi)
+        # The consumer's risk at the bracket's lower end, from below: Pa(RQL)
+        # rises in c2 (fact 2), so a plan failing there fails at its c2.
+        Frc = self.Fr[bi, c1]
+        low = Frc + (self.Fr[bi, r1 - 1] - Frc) * self.g(self.Gr, bi, c1 + 1, c2lo - r1 + 1)
+        keep = low <= beta + _TOL + _SLACK
+        bi, c1, r1, c2lo, c2hi, khi = (a[keep] for a in (bi, c1, r1, c2lo, c2hi, khi))
+        if not bi.size:
+            return None
+        n1, n2 = self.n1[bi], self.n2[bi]
+        asn = n1 + n2 * (self.Fa[bi, r1 - 1] - self.Fa[bi, c1])
+        low = asn  # a lower bound of the objective
+        if self.largest:
+            low = np.maximum(asn, n1 + n2 * (self.Fr[bi, r1 - 1] - self.Fr[bi, c1]))
+        if bound is not None:
+            keep = low <= bound * (1 + _TIE) + _SLACK
+            bi, c1, r1, c2lo, c2hi, khi, n1, n2, asn, low = (
+                a[keep] for a in (bi, c1, r1, c2lo, c2hi, khi, n1, n2, asn, low))
+            if not bi.size:
+                return None
+        c2, pr = self._c2_and_beta(bi, c1, r1, c2lo, c2hi, khi, n1, n2, thr, alpha)
+        good = (c2 >= 0) & (pr <= beta + _TOL)
+        if not good.any():
+            return None
+        return asn[good], low[good], n1[good], c2[good], c1[good], r1[good]
+
+    def _c2_and_beta(self, bi, c1, r1, c2lo, c2hi, khi, n1, n2, thr, alpha):
+        """The smallest ``c2`` meeting alpha (bisection inside the bracket on
+        cumulative tables, or direct evaluation where the bracket leaves the
+        tables) and ``Pa(RQL)`` there."""
+        inside = khi < self.kq
+        hi = np.where(inside, c2hi, c2lo)
+        lo = c2lo - 1
+        ok_top = np.zeros(bi.size, dtype=bool)
+        pr = np.full(bi.size, np.inf)
+        c2 = np.full(bi.size, -1, dtype=np.int64)
+        if inside.any():
+            ub, row = np.unique(bi[inside], return_inverse=True)
+            rows = np.zeros(bi.size, dtype=np.int64)
+            rows[inside] = row
+            d0, d1 = int(c1[inside].min()) + 1, int(r1[inside].max())
+            cmin, cmax = int(c2lo[inside].min()), int(c2hi[inside].max())
+            wa = _wtable(self, self.fa, self.Ga, ub, d0, d1, cmin, cmax)
+            wr = _wtable(self, self.fr, self.Gr, ub, d0, d1, cmin, cmax)
+            self.work += 2 * wa.size
+
+            def pa(w, F, m, c):
+                return (F[bi[m], c1[m]] + w[rows[m], r1[m] - d0, c - cmin]
+                        - w[rows[m], c1[m] + 1 - d0, c - cmin])
+
+            ok_top[inside] = pa(wa, self.Fa, inside, hi[inside]) >= thr
+            self.evals += int(inside.sum())
+            act = inside & ok_top & (hi - lo > 1)
+            while act.any():
+                mid = (lo + hi) // 2
+                ok = pa(wa, self.Fa, act, mid[act]) >= thr
+                self.evals += int(act.sum())
+                h, l_ = hi[act], lo[act]
+                hi[act] = np.where(ok, mid[act], h)
+                lo[act] = np.where(ok, l_, mid[act])
+                act = inside & ok_top & (hi - lo > 1)
+            tab = inside & ok_top
+            c2[tab] = hi[tab]
+            pr[tab] = pa(wr, self.Fr, tab, c2[tab])
+        slow = ~(inside & ok_top)
+        if slow.any():
+            ev = self.ev
+            before = ev.evaluated
+            c2[slow] = _direct_c2(ev, n1[slow], c1[slow], r1[slow], n2[slow], c2lo[slow], thr)
+            have = slow & (c2 >= 0)
+            if have.any():
+                pr[have] = ev.pa_rql(n1[have], c1[have], c2[have], n2[have], r1[have])
+            self.evals += ev.evaluated - before
+            self.work += 64 * (ev.evaluated - before) * int((r1[slow] - c1[slow]).max())
+        return c2, pr
+
+
+def _smallest_k(blk, G, bi, d, q, limit):
+    """Smallest ``k`` in ``[0, limit)`` with ``G(k | d) >= q`` (``limit``
+    where none), by bisection (``G`` rises in ``k``)."""
+    lo = np.full(bi.shape, -1, dtype=np.int64)
+    hi = np.full(bi.shape, limit, dtype=np.int64)
     act = hi - lo > 1
     while act.any():
         mid = (lo + hi) // 2
-        good = ev.pa_rql(mid[act], c1[act], c2, _n2(mid[act], ratio)) <= beta + _TOL
-        h, l_ = hi[act], lo[act]
-        hi[act] = np.where(good, mid[act], h)
-        lo[act] = np.where(good, l_, mid[act])
+        ok = blk.g(G, bi, d, mid) >= q
+        hi = np.where(act & ok, mid, hi)
+        lo = np.where(act & ~ok, mid, lo)
         act = hi - lo > 1
     return hi
 
 
-def _bisect_hi(ev, c1, c2, lo, hi, ratio, alpha):
-    """Largest n1 in [lo, hi) with Pa(AQL) >= 1 - alpha, given it holds at lo
-    and fails at hi."""
-    lo = lo.copy()
-    hi = hi.copy()
-    act = hi - lo > 1
-    while act.any():
-        mid = (lo + hi) // 2
-        good = ev.at_aql(mid[act], c1[act], c2, _n2(mid[act], ratio))[0] >= 1 - alpha - _TOL
-        h, l_ = hi[act], lo[act]
-        lo[act] = np.where(good, mid[act], l_)
-        hi[act] = np.where(good, h, mid[act])
-        act = hi - lo > 1
-    return lo
+def _wtable(blk, f, G, ub, d0, d1, cmin, cmax):
+    """``W[i, r - d0, c - cmin] = sum_{d0 <= d < r} f(d) G(c - d | d)`` for the
+    block rows ``ub``, ``d0 <= r <= d1`` and ``cmin <= c <= cmax``, so that
+    ``Pa(c1, r1, c) = F(c1) + W[r1] - W[c1 + 1]``."""
+    d = np.arange(d0, d1, dtype=np.int64)[None, :, None]
+    c = np.arange(cmin, cmax + 1, dtype=np.int64)[None, None, :]
+    b = ub[:, None, None]
+    w = np.zeros((ub.size, d1 - d0 + 1, cmax - cmin + 1))
+    np.cumsum(f[b, d] * blk.g(G, b, d, c - d), axis=1, out=w[:, 1:, :])
+    return w
 
 
-def _objective(ev, n1, c1, c2, n2, minimize, r1=None):
-    _, second = ev.at_aql(n1, c1, c2, n2, r1)
-    asn_aql = n1 + n2 * second
-    if minimize == "asn-aql":
-        return asn_aql
-    mx, _ = double_max_asn(n1, c1, np.asarray(c2) + 1 if r1 is None else r1, n2, ev.model, ev.N)
-    return np.maximum(mx, asn_aql)
+def _mass_rows(model, n, x, N, width):
+    """``out[i, d]``: probability that a sample of ``n[i]`` (rising) finds
+    ``d < width``. Under the binomial and hypergeometric models each row
+    comes from the previous one by adding one unit to the sample at a time
+    (exact, every step a convex combination: the unit is nonconforming with
+    probability ``p``, or ``(D - d) / (N - m)`` after ``m`` units holding
+    ``d``); a row more than 16 units from the previous one, and every
+    Poisson row, is computed directly."""
+    n = np.asarray(n, dtype=np.int64)
+    d = np.arange(width, dtype=float)
+    if model == "poisson":
+        return stage_pmf(d[None, :], n[:, None].astype(float), model, x, N)
+    out = np.empty((n.size, width))
+    row = None
+    for i, m in enumerate(n):
+        gap = int(m - n[i - 1]) if i else 0
+        if row is None or gap > 16 or gap < 0:
+            row = stage_pmf(d, float(m), model, x, N)
+        else:
+            for u in range(int(n[i - 1]), int(m)):  # u units already in the sample
+                if model == "binomial":
+                    up = np.full(width, float(x))
+                else:
+                    up = np.clip((x - d) / (N - u), 0.0, 1.0)
+                moved = row * up
+                row = row - moved
+                row[1:] += moved[:-1]
+        out[i] = row
+    return out
 
 
-def _search_c2(ev, c2, lb, ratio, n1_cap, beta, alpha, minimize, best):
-    """Best plan with this c2 (or None), scanning every c1 < c2 and every
-    feasible n1 not above the best objective so far."""
-    c1 = np.arange(0, c2, dtype=np.int64)
-    # Upper bracket for beta: the single plan (n_single(c2), c2) meets it and
-    # the double plan accepts less often; start from a sample that size.
-    hi0 = max(lb, 1)
-    hi = np.full(c1.shape, hi0, dtype=np.int64)
-    limit = n1_cap if n1_cap is not None else None
-    ok = ev.pa_rql(hi, c1, c2, _n2(hi, ratio)) <= beta + _TOL
-    while not ok.all():
-        grow = ~ok
-        if limit is not None:
-            grow &= hi < limit
-        if best is not None:
-            grow &= hi <= best[0]
-        if not grow.any():
+def _hyper_rows(n1, n2, N, D, dlo, dhi, kt):
+    """``G[b, d - dlo, k]``: distribution function of the second sample
+    (``n2[b]`` units from the ``N - n1[b]`` left, holding ``D - d``
+    nonconforming) for ``dlo <= d < dhi``, ``k < kt``; 1 where ``d > D``.
+
+    The masses of the row with the fewest nonconforming items left are
+    computed directly, the others by turning one conforming item of the
+    remaining lot nonconforming at a time (exact, every step a convex
+    combination): ``P'(k) = P(k) (1 - (n2 - k) / R) + P(k - 1) (n2 - k + 1) / R``
+    with ``R`` the conforming items left.
+    """
+    B = n1.size
+    out = np.ones((B, dhi - dlo, kt))
+    k = np.arange(kt, dtype=float)[None, :]
+    rest = (N - n1).astype(float)[:, None]
+    m2 = n2.astype(float)[:, None]
+    d_top = min(dhi - 1, D)
+    if d_top < dlo:
+        return out
+    left = D - d_top
+    p = oc.hypergeometric_pmf(k, m2, rest, float(left))
+    for d in range(d_top, dlo - 1, -1):
+        out[:, d - dlo, :] = np.minimum(np.cumsum(p, axis=1), 1.0)
+        if d == dlo:
             break
-        new = hi[grow] * 2
-        if limit is not None:
-            new = np.minimum(new, limit)
-        hi[grow] = new
-        ok[grow] = ev.pa_rql(new, c1[grow], c2, _n2(new, ratio)) <= beta + _TOL
-    if not ok.any():
-        return None
-    c1, hi = c1[ok], hi[ok]
-    # Fact 4: every n1 below the bound fails beta, so lb - 1 is a failing end.
-    lo = np.full(c1.shape, max(lb - 1, 0), dtype=np.int64)
-    n_lo = _bisect_lo(ev, c1, c2, lo, hi, ratio, beta)
-    if best is not None:
-        keep = n_lo <= best[0] * (1 + 1e-9)
-        c1, n_lo = c1[keep], n_lo[keep]
-        if not c1.size:
-            return None
-    # Producer's risk at n_lo; where it fails no n1 works for that c1.
-    a_ok = ev.at_aql(n_lo, c1, c2, _n2(n_lo, ratio))[0] >= 1 - alpha - _TOL
-    c1, n_lo = c1[a_ok], n_lo[a_ok]
-    if not c1.size:
-        return None
-    # A first answer from the smallest n1 of each c1, to bound the scan.
-    obj0 = _objective(ev, n_lo, c1, c2, _n2(n_lo, ratio), minimize)
-    i0 = int(np.argmin(obj0))
-    cand = (float(obj0[i0]), int(n_lo[i0]), c2, int(c1[i0]))
-    bound = cand[0] if best is None or _better(cand, best) else best[0]
-    top = math.floor(bound * (1 + 1e-9))
-    if n1_cap is not None:
-        top = min(top, n1_cap)
-    # n_hi: largest n1 meeting alpha, searched only up to the bound.
-    upper = np.full(c1.shape, top + 1, dtype=np.int64)
-    if n1_cap is not None and top + 1 > n1_cap:
-        fails = np.ones(c1.shape, dtype=bool)  # beyond the cap: treated as failing
+        r = rest - left  # conforming items left
+        with np.errstate(all="ignore"):
+            up = np.where(r > 0, (m2 - k) / r, 0.0)
+        shifted = np.concatenate([np.zeros((B, 1)), p[:, :-1] * up[:, :-1]], axis=1)
+        p = p * (1.0 - up) + shifted
+        left += 1
+    return out
+
+
+def _direct_c2(ev, n1, c1, r1, n2, start, thr):
+    """Smallest ``c2 >= start`` meeting alpha by direct evaluation
+    (:func:`lotwise.core.search.last_true` on "misses alpha": ``Pa`` rises in
+    ``c2``), or -1 where none does before the second sample is accepted
+    whatever it finds (``r1 - 1 + n2``; per unit a Poisson tail bound of
+    1e-30). ``start - 1`` misses alpha (the bracket's lower bound)."""
+    if ev.model == "poisson":
+        lam = n2.astype(float) * ev.x_aql
+        top = r1 - 1 + np.ceil(lam + 12.0 * np.sqrt(lam) + 70.0).astype(np.int64)
     else:
-        fails = ev.at_aql(upper, c1, c2, _n2(upper, ratio))[0] < 1 - alpha - _TOL
-    n_hi = np.where(fails, _bisect_hi(ev, c1, c2, n_lo, upper, ratio, alpha), top)
-    n_hi = np.minimum(n_hi, top)
-    start = cand if best is None or _better(cand, best) else best
-    return _branch_and_bound(ev, c1, c2, n_lo, n_hi, ratio, minimize, start)
-
-
-def _interval_bound(ev, c1, c2, a, b, ratio):
-    """Lower bound of the ASN at the AQL over ``a <= n1 <= b``.
-
-    ``ASN = n1 + n2 (P(d1 > c1) - P(d1 > c2))``; both tail probabilities rise
-    with ``n1`` (the coupling of fact 1), ``n2`` does not fall, so over the
-    interval ``ASN >= a + n2(a) max(0, P_a(d1 > c1) - P_b(d1 > c2))``.
-    """
-    x = ev.x_aql
-    t1 = 1.0 - stage_cdf(c1, a, ev.model, x, ev.N)
-    t2 = 1.0 - stage_cdf(c2, b, ev.model, x, ev.N)
-    return a + _n2(a, ratio) * np.maximum(0.0, t1 - t2)
-
-
-def _branch_and_bound(ev, c1, c2, n_lo, n_hi, ratio, minimize, cand):
-    """Best (objective, n1, c2, c1) over ``n_lo <= n1 <= n_hi`` for each c1,
-    or ``cand`` (the best so far) if none beats it.
-
-    Intervals whose lower bound (:func:`_interval_bound`; the largest ASN is
-    at least the ASN at the AQL, so the bound serves both objectives) exceeds
-    the best objective found are dropped; the others are halved until they
-    are short enough to evaluate point by point. Nothing is skipped that
-    could beat or tie the answer.
-    """
-    best = cand
-    keep = n_hi >= n_lo
-    ci, a, b = c1[keep], n_lo[keep], n_hi[keep]
-    while ci.size:
-        lb = _interval_bound(ev, ci, c2, a, b, ratio)
-        live = lb <= best[0] * (1 + 1e-9)
-        ci, a, b = ci[live], a[live], b[live]
-        if not ci.size:
-            break
-        short = b - a < 16
-        if short.any():
-            sc, sa, sb = ci[short], a[short], b[short]
-            spans = sb - sa + 1
-            rep_c1 = np.repeat(sc, spans)
-            offs = np.arange(spans.sum()) - np.repeat(np.cumsum(spans) - spans, spans)
-            n1s = np.repeat(sa, spans) + offs
-            obj = _objective(ev, n1s, rep_c1, c2, _n2(n1s, ratio), minimize)
-            order = np.lexsort((rep_c1, n1s, obj))
-            for i in order[:64]:
-                c = (float(obj[i]), int(n1s[i]), c2, int(rep_c1[i]))
-                if _better(c, best):
-                    best = c
-        long_ = ~short
-        ci, a, b = ci[long_], a[long_], b[long_]
-        if not ci.size:
-            break
-        mid = (a + b) // 2
-        # Evaluate each midpoint: a cheap way to tighten the best so far.
-        obj = _objective(ev, mid, ci, c2, _n2(mid, ratio), minimize)
-        i = int(np.argmin(obj))
-        c = (float(obj[i]), int(mid[i]), c2, int(ci[i]))
-        if _better(c, best):
-            best = c
-        ci = np.concatenate([ci, ci])
-        a, b = np.concatenate([a, mid + 1]), np.concatenate([mid, b])
-    return best
+        top = r1 - 1 + n2
+    last = last_true(lambda c, i: ev.at_aql(n1[i], c1[i], c, n2[i], r1[i])[0] < thr,
+                     start - 1, start, int(top.max()))
+    return np.where(last + 1 <= top, last + 1, -1)
 
 
 def parse_double(pairs: dict, text: str, option: str):
