@@ -61,7 +61,9 @@ def check_folder(paths, as_json: bool) -> int:
                           "own_sample": bool(rep.get("own_sample")),
                           "note": rep.get("note", "")}
                          | ({"inspection_error": rep["inspection_error"]}
-                            if "inspection_error" in rep else {}))
+                            if "inspection_error" in rep else {})
+                         | ({"inspection_cost": rep["inspection_cost"]}
+                            if "inspection_cost" in rep else {}))
         if req.inspection is not None:
             files_rates[Path(req.path).name] = req.inspection.describe()
     ok = all(i["meets"] for i in items) and all(i["meets"] for i in t_items)

@@ -157,10 +157,9 @@ def _scope_rows(req) -> list:
            "or very large lot)")
     rows = [("Part", req.part_id + (f": {req.part_description}" if req.part_description
                                     else ""))]
-    draw = [x for x in (f"drawing {req.drawing}" if getattr(req, "drawing", "") else "",
-                        f"revision {req.revision}" if getattr(req, "revision", "") else "") if x]
-    if draw:
-        rows.append(("Drawing", ", ".join(draw)))
+    if getattr(req, "drawing", "") or getattr(req, "revision", ""):
+        rows.append(("Drawing", (req.drawing or "not stated")
+                     + (f", revision {req.revision}" if req.revision else "")))
     if req.supplier:
         rows.append(("Supplier", req.supplier))
     rows.append(("Lot", (req.lot_definition + "; " if req.lot_definition else "")
@@ -325,7 +324,9 @@ def _plan_line(pp) -> str:
 def _audit_line(pp) -> str:
     """What a plan that falls short is, in words that give no instruction."""
     return ("The plan audited here, characteristic by characteristic: "
-            + "; ".join(f"{r['characteristic']['id']} {plan_name(r)}" for r in pp.reports)
+            + "; ".join(f"{r['characteristic']['id']} {plan_name(r)}"
+                        + (f" ({r['note']})" if r.get("own_sample") and r.get("note") else "")
+                        for r in pp.reports)
             + ". It falls short of its targets and is not an inspection instruction: no lot "
             "is to be sentenced by it.")
 

@@ -52,7 +52,7 @@ def render(content, png: str | None = None, extra_png: str | None = None) -> str
     lines += ["## Cautions", ""] + [f"- {x}" for x in c.cautions] + [""]
     if c.approvals:
         lines += ["## Approvals", "", _table([k for k, _ in c.approvals],
-                                             [[v or "&nbsp;" * 20 for _, v in c.approvals]]),
+                                             [[v or "." * 24 for _, v in c.approvals]]),
                   ""]
     if c.procedures:
         lines += ["## Bench procedure", ""]

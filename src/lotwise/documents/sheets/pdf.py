@@ -228,19 +228,20 @@ def _approvals(pg, c, size=7.2):
     """Prepared by, approved by, date: the names given or lines to sign."""
     if not c.approvals:
         return
-    pg.y -= 0.12
+    pg.y -= 0.06
     width = (PAGE_W - 2 * MARGIN) / len(c.approvals)
     y = pg.y - pg.line_h(size)
+    y2 = y - pg.line_h(size) - 0.1  # the name given, or a line to sign on
     for j, (label, value) in enumerate(c.approvals):
         x = MARGIN + j * width
         pg.fig.text(*pg._xy(x, y), f"{label}:", fontsize=size * pg.s, weight="bold",
                     va="bottom")
-        x0 = x + 0.85
         if value:
-            pg.fig.text(*pg._xy(x0, y), str(value), fontsize=size * pg.s, va="bottom")
-        else:
-            pg.fig.add_artist(_hline(pg.fig, x0, x + width - 0.15, y - 0.02))
-    pg.y = y - 0.04
+            chars = int((width - 0.15) * 72.0 / (0.53 * size * pg.s))
+            pg.fig.text(*pg._xy(x, y2), textwrap.shorten(str(value), chars, placeholder="..."),
+                        fontsize=size * pg.s, va="bottom")
+        pg.fig.add_artist(_hline(pg.fig, x, x + width - 0.15, y2 - 0.03))
+    pg.y = y2 - 0.06
 
 
 def render(content, pp) -> bytes:
