@@ -109,6 +109,9 @@ def _single(cid, n, c, per_unit) -> Procedure:
              f"{what} found, d.",
              f"Accept the lot if d is at most {c}; reject it if d is {c + 1} or more.",
              f"You may stop as soon as d reaches {c + 1}: the lot is rejected.")
+    if not per_unit:
+        steps += ("You may also stop and accept when even every unit left being "
+                  f"nonconforming would keep d at most {c}.",)
     return Procedure(cid=cid, heading=f"{cid}: single plan n = {n}, c = {c}", kind="single",
                      steps=steps, header=("Units in all", "Accept if d <=", "Reject if d >="),
                      rows=((str(n), str(c), str(c + 1)),))
@@ -204,7 +207,11 @@ def _chain(cid, plan, per_unit) -> Procedure:
              f"{i}). A lot with d of 1 or more ends the run of clean lots; with no record yet "
              "(the first lots) the run is 0.",
              f"d = 0: accept. d = 1: accept only if the {lots} before it all had d = 0, "
-             f"otherwise reject. d = 2 or more: reject (you may stop at the second).",
+             f"otherwise reject. d = 2 or more: reject.",
+             f"You may stop as soon as the lot is rejected by the table (at the second item "
+             f"found; at the first when fewer than {i} clean lots precede it)"
+             + ("" if per_unit else ", or accepted whatever the units left hold (d plus the "
+                "units left within the count the table accepts)") + ".",
              f"Write this lot's d on the record: it decides the next {lots}.")
     rows = (("0", "any", "accept"), ("1", f"{i} or more (all of the last {i})", "accept"),
             ("1", f"fewer than {i}", "reject"), ("2 or more", "any", "reject"))
