@@ -109,7 +109,7 @@ def _single(cid, n, c, per_unit) -> Procedure:
              f"{what} found, d.",
              f"Accept the lot if d is at most {c}; reject it if d is {c + 1} or more.",
              f"You may stop as soon as d reaches {c + 1}: the lot is rejected.")
-    if not per_unit:
+    if not per_unit and c > 0:
         steps += ("You may also stop and accept when even every unit left being "
                   f"nonconforming would keep d at most {c}.",)
     return Procedure(cid=cid, heading=f"{cid}: single plan n = {n}, c = {c}", kind="single",
@@ -257,8 +257,8 @@ def variables_example(plan) -> dict:
     lo, up = plan.lower, plan.upper
     if known:
         s = plan.sigma_value
-    elif lo is not None and up is not None:
-        s = float(f"{(up - lo) / 8:.2g}")
+    elif lo is not None and up is not None:  # centred, each limit k + 0.4 s away
+        s = float(f"{(up - lo) / (2 * ((plan.k or 2.0) + 0.4)):.2g}")
     else:
         lim = up if up is not None else lo
         s = float(f"{abs(lim) * 0.002:.1g}") if lim else 1.0
@@ -343,6 +343,8 @@ def _variables(cid, plan) -> Procedure:
                     else f"({_fmt(ex['xbar'], 8)} - {_fmt(lim)}) / {_fmt(ex['s'])}")
             parts.append(f"Q_{side[0].upper()} = {expr} = {v:.4f}")
         if estimate:
+            parts.append(f"p_U = {ex['estimate']['upper']:.6f}, p_L = "
+                         f"{ex['estimate']['lower']:.6f}")
             parts.append(f"p_U + p_L = {ex['estimate_total']:.6f} "
                          f"{'<=' if ex['accept'] else '>'} M = {plan.m:.6f}")
         else:
@@ -396,9 +398,9 @@ def record_block(proc: Procedure, plan, scope) -> RecordBlock:
     if proc.kind == "skiplot":
         inner = record_block(proc.reference, plan.reference, scope)
         return RecordBlock(cid=proc.cid, heading=proc.heading,
-                           header=("State (every lot / skipping)", "Random choice (inspect / "
-                                   "skip)") + inner.header,
-                           rows=tuple(("", "") + r for r in inner.rows), lines=inner.lines,
+                           header=("State (every lot / skipping)", "Accepted in a row before",
+                                   "Random choice (inspect / skip)") + inner.header,
+                           rows=tuple(("", "", "") + r for r in inner.rows), lines=inner.lines,
                            boxes=inner.boxes)
     if proc.kind == "single":
         n = proc.rows[0][0]

@@ -490,6 +490,14 @@ def build_content(pp, *, picks=None, today: _dt.date | None = None,
 
         for rep, plan in zip(pp.reports, pp.plans):
             proc = procedure(rep, plan, req.scope)
+            if rep["characteristic"]["class"] == "critical":
+                from dataclasses import replace
+
+                proc = replace(proc, notes=(
+                    f"{proc.cid} is a CRITICAL characteristic: sampling cannot make it safe. "
+                    "This plan is a check on top of 100 % inspection, error-proofing or the "
+                    "stricter plan a contract or regulation requires (see the cautions on "
+                    "the sheet).",) + proc.notes)
             procedures.append(proc)
             records.append(record_block(proc, plan, req.scope))
     footer = (f"Prepared {today.isoformat()} with lotwise {__version__}; input fingerprint "

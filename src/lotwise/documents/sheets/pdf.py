@@ -32,6 +32,9 @@ MARGIN = 0.55
 
 
 class _Page:
+    #: Average character width of the text, in ems, for wrapping lines.
+    factor = 0.53
+
     def __init__(self, fig, scale: float):
         self.fig = fig
         self.s = scale
@@ -46,7 +49,7 @@ class _Page:
     def text(self, s, size=7.4, x=MARGIN, width=PAGE_W - 2 * MARGIN, weight="normal",
              color="0.0", advance=True, style="normal"):
         size_eff = size * self.s
-        factor = 0.6 if weight == "bold" else 0.53
+        factor = self.factor * (1.13 if weight == "bold" else 1.0)
         chars = max(20, int(width * 72.0 / (factor * size_eff)))
         lines = []
         for para in str(s).split("\n"):
@@ -265,6 +268,8 @@ def render(content, pp) -> bytes:
 class _Flow(_Page):
     """Pages that continue one another: the bench procedure and the record form."""
 
+    factor = 0.47
+
     def __init__(self, plt, title: str):
         self.plt = plt
         self.title = title
@@ -285,7 +290,7 @@ class _Flow(_Page):
             self._new()
 
     def height(self, s, size=7.4, width=PAGE_W - 2 * MARGIN, weight="normal") -> float:
-        factor = 0.6 if weight == "bold" else 0.53
+        factor = self.factor * (1.13 if weight == "bold" else 1.0)
         chars = max(20, int(width * 72.0 / (factor * size)))
         lines = sum(len(textwrap.wrap(p, chars) or [""]) for p in str(s).split("\n"))
         return lines * self.line_h(size)
@@ -390,8 +395,8 @@ def _one_procedure(flow, proc):
         flow.para(f"{j}. {step}", size=7.4)
     _proc_table(flow, proc)
     for note in proc.notes:
-        flow.para(note, size=7.2, weight="bold" if note.startswith("Worked line") else
-                  "normal")
+        flow.para(note, size=7.2, weight="bold" if note.startswith("Worked line")
+                  or "CRITICAL" in note else "normal")
     if proc.reference is not None:
         flow.para("The plan an inspected lot is judged by:", size=7.4, weight="bold")
         for j, step in enumerate(proc.reference.steps, 1):
