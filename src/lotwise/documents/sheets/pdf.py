@@ -190,8 +190,6 @@ def _layout(content, pp, scale: float, figures: bool = True):
 def _banner(pg, c):
     """The not-for-use banner: a heavy frame across the top, the verdict and
     the reasons inside it."""
-    from matplotlib.patches import Rectangle
-
     top = pg.y
     pg.y -= 0.08
     pg.text(c.banner, size=12.5, weight="bold", x=MARGIN + 0.12,
@@ -200,17 +198,12 @@ def _banner(pg, c):
     for r in c.reasons:
         pg.text(r, size=7.8, weight="bold", x=MARGIN + 0.12, width=PAGE_W - 2 * MARGIN - 0.24)
     pg.y -= 0.08
-    pg.fig.add_artist(Rectangle((MARGIN / PAGE_W, pg.y / PAGE_H),
-                                (PAGE_W - 2 * MARGIN) / PAGE_W, (top - pg.y) / PAGE_H,
-                                transform=pg.fig.transFigure, fill=False, linewidth=3.0,
-                                edgecolor="0.0"))
+    _frame(pg, top, 3.0)
     pg.y -= 0.12
 
 
 def _instruction_box(pg, c):
     """The plan's instruction in a frame, with where the procedure is."""
-    from matplotlib.patches import Rectangle
-
     top = pg.y - 0.02
     pg.y = top - 0.04
     inner = PAGE_W - 2 * MARGIN - 0.2
@@ -220,11 +213,18 @@ def _instruction_box(pg, c):
             f"per lot): the last page, and {c.record_csv} beside this sheet.", size=7.0,
             x=MARGIN + 0.1, width=inner)
     pg.y -= 0.05
+    _frame(pg, top, 1.2)
+    pg.y -= 0.03
+
+
+def _frame(pg, top: float, width: float):
+    """A frame across the page from ``top`` down to the cursor."""
+    from matplotlib.patches import Rectangle
+
     pg.fig.add_artist(Rectangle((MARGIN / PAGE_W, pg.y / PAGE_H),
                                 (PAGE_W - 2 * MARGIN) / PAGE_W, (top - pg.y) / PAGE_H,
-                                transform=pg.fig.transFigure, fill=False, linewidth=1.2,
+                                transform=pg.fig.transFigure, fill=False, linewidth=width,
                                 edgecolor="0.0"))
-    pg.y -= 0.03
 
 
 def _approvals(pg, c, size=7.2):
