@@ -95,9 +95,10 @@ def read_stages(rows):
     return sizes, cum, acc, rej
 
 
-def stages_decision(rows, m, d):
+def stages_decision(rows, m, d, per_unit=False):
     """The decision the stage table and its steps give after ``m`` units with
-    ``d`` found in all (items: curtailment both ways, as the steps state)."""
+    ``d`` found in all (items: curtailment both ways, as the steps state;
+    nonconformities per unit: early rejection only)."""
     sizes, cum, acc, rej = read_stages(rows)
     if m == 0:
         return "continue"
@@ -108,12 +109,12 @@ def stages_decision(rows, m, d):
         if d >= rej[j]:
             return "reject"
         nxt = j + 1
-        if acc[nxt] is not None and d + sizes[nxt] <= acc[nxt]:
+        if not per_unit and acc[nxt] is not None and d + sizes[nxt] <= acc[nxt]:
             return "accept"  # step: the next stage could not change it
         return "continue"
     if d >= rej[j]:
         return "reject"
-    if acc[j] is not None and d + (cum[j] - m) <= acc[j]:
+    if not per_unit and acc[j] is not None and d + (cum[j] - m) <= acc[j]:
         return "accept"
     return "continue"
 
@@ -153,16 +154,17 @@ def chain_decision(rows, n, i, clean, m, d):
     return "continue"
 
 
-def reachable(decision, n_max):
+def reachable(decision, n_max, most_per_unit: int = 1):
     """Every (inspected, found) pair some sequence of conforming and
-    nonconforming units reaches while the procedure says continue."""
+    nonconforming units reaches while the procedure says continue (per unit:
+    each unit holding 0 .. ``most_per_unit`` nonconformities)."""
     seen, todo = {(0, 0)}, [(0, 0)]
     while todo:
         m, d = todo.pop()
         if decision(m, d) != "continue":
             continue
         assert m < n_max, f"the procedure is still undecided at its largest sample ({m}, {d})"
-        for nxt in ((m + 1, d), (m + 1, d + 1)):
+        for nxt in ((m + 1, d + k) for k in range(most_per_unit + 1)):
             if nxt not in seen:
                 seen.add(nxt)
                 todo.append(nxt)
@@ -186,6 +188,25 @@ def test_stage_table_equals_next(tmp_path, capsys, notation):
     assert len(pairs) > n_max
     for m, d in pairs:
         assert stages_decision(rows, m, d) == next_action(capsys, notation, m, d), (m, d)
+
+
+def test_stage_table_per_unit_equals_next(tmp_path, capsys):
+    # Nonconformities per unit: a unit may hold several, so only rejection is
+    # certain before a stage ends (the steps say no more).
+    notation = "n1=13,c1=1,r1=4,n2=13,c2=4"
+    path = plan_file(tmp_path, notation)
+    text = open(path, encoding="utf-8").read().replace("[lot]\nsize = 5000\n",
+                                                       '[lot]\ncounts = "nonconformities"\n')
+    text = text.replace('aql = "0.1%"\nrql = "40%"', "aql = 0.01\nrql = 0.6")
+    open(path, "w", encoding="utf-8").write(text)
+    md = sheet_md(tmp_path, capsys, path)
+    assert "Count the nonconformities found" in md and "also stop and accept" not in md
+    _, rows = procedure_table(md)
+    pairs = reachable(lambda m, d: stages_decision(rows, m, d, per_unit=True), 26,
+                      most_per_unit=3)
+    for m, d in pairs:
+        assert stages_decision(rows, m, d, True) == next_action(capsys, notation, m, d,
+                                                                "--per-unit"), (m, d)
 
 
 @pytest.mark.parametrize("notation", [
