@@ -69,7 +69,7 @@ def sheet_md(tmp_path, capsys, path) -> str:
 def procedure_table(md: str, cid: str = "M1") -> tuple[list, list]:
     """Header and rows of the first table under the bench procedure heading of ``cid``."""
     body = md.split("## Bench procedure", 1)[1].split("## Record form", 1)[0]
-    sec = body.split(f"### {cid}: ", 1)[1]
+    sec = body.split(f"### {cid}: ", 1)[1].split("\n### ", 1)[0]
     lines = [ln for ln in sec.splitlines() if ln.startswith("|")]
     cells = [[c.strip() for c in ln.strip().strip("|").split("|")] for ln in lines]
     header, rows = cells[0], [r for r in cells[2:]]
@@ -181,7 +181,7 @@ def reachable(decision, n_max, most_per_unit: int = 1):
 def test_stage_table_equals_next(tmp_path, capsys, notation):
     md = sheet_md(tmp_path, capsys, plan_file(tmp_path, notation))
     header, rows = procedure_table(md)
-    assert header[:6] == ["After stage", "Units in stage", "Units in all", "Pick list rows",
+    assert header[:6] == ["After stage", "Units in stage", "Units in all", "Positions",
                           "Accept if d <=", "Reject if d >="]
     n_max = read_stages(rows)[1][-1]
     pairs = reachable(lambda m, d: stages_decision(rows, m, d), n_max)
@@ -341,15 +341,26 @@ def test_meeting_plan_has_box_procedure_and_form(tmp_path, capsys):
     assert "NOT FOR USE" not in pages[0] and "At the bench" in pages[0]
     assert pages[1].startswith("Bench procedure") and "take stage 2 (35 units)" in pages[1]
     assert pages[-1].startswith("Inspection record (blank form, one per lot)")
-    for field in ("Lot number", "Date received", "Pick list rows", "Found in all d",
+    for field in ("Lot number", "Date received", "Positions", "Found in all d",
                   "Inspector", "Signature"):
         assert field in pages[-1], field
     rows = list(csv.DictReader(io.StringIO(
         (tmp_path / "out" / "bench-record.csv").read_text(encoding="utf-8"))))
     assert [r["step"] for r in rows[:2]] == ["stage 1", "stage 2"]
-    assert [r["pick_list_rows"] for r in rows[:2]] == ["1-35", "36-70"]
+    assert [r["positions"] for r in rows[:2]] == ["1-35", "36-70"]
     for key in ("lot", "date", "found", "found_in_all", "decision", "signature"):
         assert key in rows[0] and rows[0][key] == ""
+    # The stages' units: the pick list's 70 units, each once, in the inspection
+    # order the procedure prints (a permutation of the sorted pick list).
+    picks = [int(r["unit"]) for r in csv.DictReader(io.StringIO(
+        (tmp_path / "out" / "bench-picklist.csv").read_text(encoding="utf-8")))]
+    staged = [int(u) for r in rows[:2] for u in r["units"].split()]
+    assert sorted(staged) == picks and staged != picks
+    md = (tmp_path / "out" / "bench.md").read_text(encoding="utf-8")
+    printed = [int(x) for ln in md.split("### Inspection order", 1)[1].split("## Record", 1)[0]
+               .splitlines() if ln.startswith("| ") and "-" in ln.split("|")[1]
+               for x in ln.strip(" |").split("|")[1:] if x.strip()]
+    assert printed == staged
 
 
 def test_long_sequential_table_continues_on_more_pages(tmp_path, capsys):
@@ -363,7 +374,11 @@ def test_long_sequential_table_continues_on_more_pages(tmp_path, capsys):
     pages = [" ".join(p.extract_text().split())
              for p in PdfReader(str(tmp_path / "out" / "bench.pdf")).pages]
     cont = [p for p in pages if p.startswith("Bench procedure") and "(continued)" in p]
-    assert cont and all("Units inspected n" in p for p in cont)
+    # each continued page repeats the header of the table it continues: the
+    # sequential numbers, then the inspection order of the 900 units
+    assert cont and all(("Units inspected n" in p) or p.split("(continued) ")[1]
+                        .startswith("Positions") for p in cont)
+    assert sum("Units inspected n" in p for p in cont) >= 1
     assert pages[-1].startswith("Inspection record")
     # every printed range is on some page of the PDF
     text = " ".join(pages)

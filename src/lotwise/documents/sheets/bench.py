@@ -21,7 +21,8 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-__all__ = ["Procedure", "RecordBlock", "RECORD_COLUMNS", "bench_plan", "procedure",
+__all__ = ["Procedure", "RecordBlock", "RECORD_COLUMNS", "Source", "bench_plan",
+           "inspection_order", "procedure",
            "record_block", "record_csv", "rule_cells", "sequential_ranges",
            "stage_early_accept", "variables_example"]
 
@@ -56,6 +57,7 @@ class RecordBlock:
     rows: tuple
     lines: tuple = ()
     boxes: int = 0  # measurement boxes x1 .. x<boxes> (variables plans)
+    steps: tuple = ()  # (label, first position, last position) per CSV row (0: none)
 
 
 def bench_plan(plan):
@@ -75,8 +77,42 @@ def _rows_text(start: int, stop: int) -> str:
 
 # --- the procedures ---------------------------------------------------------
 
-def procedure(rep, plan, scope) -> Procedure:
-    """The bench procedure of one characteristic (``rep`` its report)."""
+def inspection_order(picks) -> tuple:
+    """The pick list's units in a random order drawn from its seed: taken in
+    this order, the first m units of the list are themselves a simple random
+    sample of the lot (the list is sorted by unit number, so its first rows
+    are not), which is what each stage of a double, multiple or sequential
+    plan needs."""
+    import numpy as np
+
+    units = np.asarray(picks.units, dtype=np.int64)
+    rng = np.random.default_rng([int(picks.seed) % 2**128, 0x6F72646572])  # b"order"
+    return tuple(int(u) for u in rng.permutation(units))
+
+
+@dataclass(frozen=True, kw_only=True)
+class Source:
+    """Where the units come from: ``ordered`` units of the inspection order
+    (the pick list in a random order), or none (no pick list: drawn at random)."""
+
+    ordered: int = 0  # units in the inspection order (0: no pick list)
+
+    def units(self, a: int, b: int, whole: bool = True) -> str:
+        """The units ``a`` .. ``b`` (1-based) in words."""
+        if not self.ordered:
+            return (f"{b - a + 1} units drawn at random from the lot"
+                    + (" (from those not yet inspected)" if a > 1 else ""))
+        if whole and a == 1 and b == self.ordered:
+            return f"the {b} units of the pick list"
+        return f"the units at positions {_rows_text(a, b)} of the inspection order"
+
+    def cell(self, a: int, b: int) -> str:
+        return _rows_text(a, b) if self.ordered else "at random"
+
+
+def procedure(rep, plan, scope, source: Source = Source()) -> Procedure:
+    """The bench procedure of one characteristic (``rep`` its report);
+    ``source`` says where its units come from."""
     from lotwise.families.chain import ChainPlan
     from lotwise.families.sequential import SequentialPlan
     from lotwise.families.skiplot import SkipLotPlan
@@ -87,26 +123,27 @@ def procedure(rep, plan, scope) -> Procedure:
     plan = bench_plan(plan)
     per_unit = bool(scope.per_unit)
     if isinstance(plan, SkipLotPlan):
-        return _skiplot(cid, plan, rep, scope)
+        return _skiplot(cid, plan, rep, scope, source)
     if isinstance(plan, VariablesPlan):
-        return _variables(cid, plan)
+        return _variables(cid, plan, source)
     if isinstance(plan, ChainPlan):
-        return _chain(cid, plan, per_unit)
+        return _chain(cid, plan, per_unit, source)
     if isinstance(plan, SequentialPlan):
-        return _sequential(cid, plan, per_unit)
+        return _sequential(cid, plan, per_unit, source)
     if isinstance(plan, StagedPlan):
-        return _stages(cid, plan, per_unit)
+        return _stages(cid, plan, per_unit, source)
     rule = plan.count_rule()
     if rule is not None:
-        return _single(cid, rule[0], rule[1], per_unit)
+        return _single(cid, rule[0], rule[1], per_unit, source)
     return Procedure(cid=cid, heading=f"{cid}: {plan.label}", kind="other",
                      steps=tuple(line.strip() for line in plan.describe()))
 
 
-def _single(cid, n, c, per_unit) -> Procedure:
+def _single(cid, n, c, per_unit, source) -> Procedure:
     what = _count_word(per_unit)
-    steps = (f"Inspect the units on rows 1-{n} of the pick list ({n} units) and count the "
-             f"{what} found, d.",
+    where = source.units(1, n)
+    steps = (f"Inspect {where}" + (f" ({n} units)" if "positions" in where else "")
+             + f" and count the {what} found, d.",
              f"Accept the lot if d is at most {c}; reject it if d is {c + 1} or more.",
              f"You may stop as soon as d reaches {c + 1}: the lot is rejected.")
     if not per_unit and c > 0:
@@ -130,7 +167,7 @@ def stage_early_accept(plan, per_unit: bool) -> bool:
     return False
 
 
-def _stages(cid, plan, per_unit) -> Procedure:
+def _stages(cid, plan, per_unit, source) -> Procedure:
     what = _count_word(per_unit)
     cum = plan.cumulative
     rows = []
@@ -140,10 +177,13 @@ def _stages(cid, plan, per_unit) -> Procedure:
         other = (f"take stage {j + 2} ({plan.sizes[j + 1]} units)" if j + 1 < len(plan.sizes)
                  else "-")
         rows.append((str(j + 1), str(size), str(total),
-                     _rows_text(start, total) if size else "-",
+                     source.cell(start, total) if size else "-",
                      "-" if a < 0 else str(a), str(r), other))
-    steps = [f"Take the stages in order; each stage is the next rows of the pick list. Count "
-             f"the {what} found, and keep d, the count found in all stages so far.",
+    steps = [("Take the stages in order; each stage is the next units of the inspection "
+              "order (the positions in the table)" if source.ordered else
+              "Take the stages in order; each stage's units are drawn at random from the units "
+              "of the lot not yet inspected")
+             + f". Count the {what} found, and keep d, the count found in all stages so far.",
              "At the end of each stage read its row: accept if d is at most the accept "
              "number, reject if d is at least the reject number, otherwise take the next "
              "stage. '-' means the lot cannot be accepted at that stage.",
@@ -160,7 +200,7 @@ def _stages(cid, plan, per_unit) -> Procedure:
     kind = "double" if len(plan.sizes) == 2 else "multiple"
     return Procedure(cid=cid, heading=f"{cid}: {kind} plan {plan.label}", kind="stages",
                      steps=tuple(steps),
-                     header=("After stage", "Units in stage", "Units in all", "Pick list rows",
+                     header=("After stage", "Units in stage", "Units in all", "Positions",
                              "Accept if d <=", "Reject if d >=", "Otherwise"),
                      rows=tuple(rows))
 
@@ -179,13 +219,15 @@ def sequential_ranges(plan) -> list[tuple[int, int, int, int]]:
     return out
 
 
-def _sequential(cid, plan, per_unit) -> Procedure:
+def _sequential(cid, plan, per_unit, source) -> Procedure:
     what = _count_word(per_unit)
     n0 = plan.truncate
     rows = tuple((_rows_text(lo, hi), "-" if a < 0 else str(a), str(r))
                  for lo, hi, a, r in sequential_ranges(plan))
-    steps = (f"Inspect the units one at a time in pick-list order (rows 1-{n0} at most). "
-             f"After each unit, with n the units inspected and d the {what} found so far, "
+    steps = (("Inspect the units one at a time in the inspection order (positions "
+              f"1-{n0} at most)" if source.ordered else
+              f"Inspect units drawn at random from the lot one at a time ({n0} at most)")
+             + f". After each unit, with n the units inspected and d the {what} found so far, "
              "find the row holding n.",
              "Accept if d is at most the accept number; reject if d is at least the reject "
              "number; otherwise inspect the next unit. '-': the lot cannot be accepted yet.",
@@ -197,11 +239,11 @@ def _sequential(cid, plan, per_unit) -> Procedure:
                      rows=rows)
 
 
-def _chain(cid, plan, per_unit) -> Procedure:
+def _chain(cid, plan, per_unit, source) -> Procedure:
     what = _count_word(per_unit)
     n, i = plan.n, plan.i
     lots = "lot" if i == 1 else f"{i} lots"
-    steps = (f"Inspect the units on rows 1-{n} of the pick list and count the {what}, d.",
+    steps = (f"Inspect {source.units(1, n)} and count the {what}, d.",
              f"The rule needs the record of the samples of the {lots} just before this one "
              f"(the state: how many lots in a row before this one had d = 0, counted up to "
              f"{i}). A lot with d of 1 or more ends the run of clean lots; with no record yet "
@@ -221,9 +263,8 @@ def _chain(cid, plan, per_unit) -> Procedure:
                      rows=rows)
 
 
-def _skiplot(cid, plan, rep, scope) -> Procedure:
-    ref_rep = dict(rep)
-    ref = procedure(ref_rep, plan.reference, scope)
+def _skiplot(cid, plan, rep, scope, source) -> Procedure:
+    ref = procedure(rep, plan.reference, scope, source)
     i, f = plan.i, plan.f
     steps = ("The state is 'every lot' or 'skipping'. Start in 'every lot'.",
              f"Every lot: inspect each lot with the plan below. After {i} lots in a row "
@@ -290,13 +331,12 @@ def variables_example(plan) -> dict:
     return out
 
 
-def _variables(cid, plan) -> Procedure:
+def _variables(cid, plan, source) -> Procedure:
     n = plan.n
     known = plan.sigma == "known"
     dev = f"the known sigma = {_fmt(plan.sigma_value)}" if known else "s"
     d = "sigma" if known else "s"
-    steps = [f"Measure the units on rows 1-{n} of the pick list and write each value "
-             f"x1 ... x{n} on the record.",
+    steps = [f"Measure {source.units(1, n)} and write each value x1 ... x{n} on the record.",
              f"Mean: xbar = (x1 + ... + x{n}) / {n}."]
     if known:
         steps.append(f"Spread: use the known process sigma = {_fmt(plan.sigma_value)} (do not "
@@ -392,38 +432,43 @@ def rule_cells(plan) -> tuple[str, str]:
 
 # --- the record form -----------------------------------------------------------
 
-def record_block(proc: Procedure, plan, scope) -> RecordBlock:
+def record_block(proc: Procedure, plan, scope, source: Source = Source()) -> RecordBlock:
     """The record-form fields one characteristic's procedure needs."""
     plan = bench_plan(plan)
     if proc.kind == "skiplot":
-        inner = record_block(proc.reference, plan.reference, scope)
+        inner = record_block(proc.reference, plan.reference, scope, source)
         return RecordBlock(cid=proc.cid, heading=proc.heading,
                            header=("State (every lot / skipping)", "Accepted in a row before",
                                    "Random choice (inspect / skip)") + inner.header,
                            rows=tuple(("", "", "") + r for r in inner.rows), lines=inner.lines,
-                           boxes=inner.boxes)
+                           boxes=inner.boxes, steps=(("lot: state and random choice", 0, 0),)
+                           + inner.steps)
     if proc.kind == "single":
-        n = proc.rows[0][0]
+        n = int(proc.rows[0][0])
         return RecordBlock(cid=proc.cid, heading=proc.heading,
-                           header=("Pick list rows", "Units inspected", "Found d", "Decision"),
-                           rows=((f"1-{n}", "", "", ""),))
+                           header=("Positions", "Units inspected", "Found d", "Decision"),
+                           rows=((source.cell(1, n), "", "", ""),), steps=(("sample", 1, n),))
     if proc.kind == "stages":
         return RecordBlock(cid=proc.cid, heading=proc.heading,
-                           header=("Stage", "Pick list rows", "Units inspected",
+                           header=("Stage", "Positions", "Units inspected",
                                    "Found in stage", "Found in all d", "Decision"),
-                           rows=tuple((r[0], r[3], "", "", "", "") for r in proc.rows))
+                           rows=tuple((r[0], r[3], "", "", "", "") for r in proc.rows),
+                           steps=tuple((f"stage {r[0]}", int(r[2]) - int(r[1]) + 1, int(r[2]))
+                                       for r in proc.rows if int(r[1]) > 0))
     if proc.kind == "sequential":
         return RecordBlock(cid=proc.cid, heading=proc.heading,
                            header=("Units inspected n", "Found in all d", "Unit numbers of the "
                                    "nonconforming", "Decision"),
                            rows=(("", "", "", ""),),
                            lines=("Mark each unit as it is inspected; the decision is taken at "
-                                  "the first n whose row decides.",))
+                                  "the first n whose row decides.",),
+                           steps=tuple((f"unit {j}", j, j) for j in range(1, plan.truncate + 1)))
     if proc.kind == "chain":
         return RecordBlock(cid=proc.cid, heading=proc.heading,
-                           header=("Pick list rows", "Found d", f"d of the last {plan.i} lot(s)",
+                           header=("Positions", "Found d", f"d of the last {plan.i} lot(s)",
                                    "Clean lots in a row before", "Decision"),
-                           rows=((f"1-{plan.n}", "", "", "", ""),))
+                           rows=((source.cell(1, plan.n), "", "", "", ""),),
+                           steps=(("sample", 1, plan.n),))
     if proc.kind == "variables":
         d = "sigma (known)" if plan.sigma == "known" else "s"
         stat = ("p_U + p_L" if plan.limit == "both" and plan.sigma == "unknown"
@@ -432,20 +477,24 @@ def record_block(proc: Procedure, plan, scope) -> RecordBlock:
                            if plan.limit in (s, "both")))
         return RecordBlock(cid=proc.cid, heading=proc.heading,
                            header=("xbar", d, stat, "Decision"), rows=(("", "", "", ""),),
-                           boxes=plan.n)
+                           boxes=plan.n, steps=tuple((f"measurement {j}", j, j)
+                                                     for j in range(1, plan.n + 1))
+                           + (("result (xbar, s, statistic)", 0, 0),))
     return RecordBlock(cid=proc.cid, heading=proc.heading,
-                       header=("Units inspected", "Found d", "Decision"), rows=(("", "", ""),))
+                       header=("Units inspected", "Found d", "Decision"), rows=(("", "", ""),),
+                       steps=(("sample", 0, 0),))
 
 
 #: Columns of the record template (CSV), one row per step of the form.
-RECORD_COLUMNS = ("lot", "date", "characteristic", "step", "pick_list_rows", "units_inspected",
-                  "found", "found_in_all", "measurement", "state", "decision", "inspector",
-                  "signature")
+RECORD_COLUMNS = ("lot", "date", "characteristic", "step", "positions", "units",
+                  "units_inspected", "found", "found_in_all", "measurement", "state",
+                  "decision", "inspector", "signature")
 
 
-def record_csv(blocks, part_id: str) -> str:
+def record_csv(blocks, part_id: str, order=()) -> str:
     """The blank record form as a CSV template: one row per stage, unit or
-    measurement to record, the fixed cells filled."""
+    measurement to record, the fixed cells filled (``order``: the inspection
+    order's unit numbers, shown beside their positions)."""
     import csv
     import io
 
@@ -454,20 +503,12 @@ def record_csv(blocks, part_id: str) -> str:
     w.writerow(RECORD_COLUMNS)
     blank = dict.fromkeys(RECORD_COLUMNS, "")
     for b in blocks:
-        rows = []
-        if b.boxes:
-            rows = [{"step": f"measurement {j}", "pick_list_rows": str(j)}
-                    for j in range(1, b.boxes + 1)]
-            rows.append({"step": "result (xbar, s, statistic)"})
-        elif b.header and b.header[0] == "Stage":
-            rows = [{"step": f"stage {r[0]}", "pick_list_rows": r[1]} for r in b.rows]
-        elif b.header and b.header[0].startswith("State"):
-            rows = [{"step": "lot", "state": ""}]
-        elif b.header and b.header[0] == "Units inspected n":
-            rows = [{"step": "unit by unit (units inspected at the decision)"}]
-        else:
-            rows = [{"step": "sample", "pick_list_rows": b.rows[0][0] if b.rows else ""}]
-        for extra in rows:
+        for label, a, z in b.steps:
+            extra = {"step": label}
+            if a:
+                extra["positions"] = _rows_text(a, z) if order else "at random"
+                if order:
+                    extra["units"] = " ".join(str(u) for u in order[a - 1:z])
             w.writerow(list((blank | {"characteristic": b.cid} | extra).values()))
     w.writerow(list((blank | {"characteristic": "(lot decision)", "step": f"part {part_id}"})
                     .values()))

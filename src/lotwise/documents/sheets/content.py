@@ -16,7 +16,8 @@ from pathlib import Path
 from lotwise.core.quantities import format_level, format_pct
 from lotwise.core.version import __version__
 
-__all__ = ["CAUTION", "DEFAULT_REJECTED", "MODEL_TEXT", "PLAN_HEADER", "RISK_HEADER",
+__all__ = ["CAUTION", "DEFAULT_REJECTED", "MODEL_TEXT", "ORDER_NOTE", "PLAN_HEADER",
+           "RISK_HEADER", "order_rows",
            "SheetContent", "alternatives", "build_content", "error_free", "fmt_pa", "oc_rows",
            "plan_name"]
 
@@ -48,6 +49,22 @@ PLAN_HEADER = ["Characteristic", "Class", "Sample", "Accept (c)", "Reject (r)", 
                "RQL / beta"]
 RISK_HEADER = ["Char.", "Model", "Pa(AQL)", "alpha", "target", "Pa(RQL)", "beta", "target",
                "Verdict"]
+
+
+ORDER_NOTE = (
+    "The units of the pick list in a random order drawn from its seed. Take them in this "
+    "order: the positions a procedure names (a stage, the units of a sequential plan, a "
+    "smaller sample) are then themselves a random sample of the lot, which the pick list's "
+    "own rows, sorted by unit number, are not.")
+
+
+def order_rows(order, per: int = 10) -> list:
+    """The inspection order as table rows: the positions, then ``per`` unit numbers."""
+    out = []
+    for j in range(0, len(order), per):
+        part = [str(u) for u in order[j:j + per]]
+        out.append([f"{j + 1}-{j + len(part)}"] + part + [""] * (per - len(part)))
+    return out
 
 
 def fmt_pa(x: float) -> str:
@@ -84,6 +101,7 @@ class SheetContent:
     record_csv: str = ""  # the file name of the CSV template beside the sheet
     approvals: list = field(default_factory=list)  # (label, text or "" to sign)
     cost: list = field(default_factory=list)  # sentences on the inspection cost
+    order: list = field(default_factory=list)  # the inspection order's unit numbers, or []
 
     @property
     def for_bench(self) -> bool:
@@ -283,7 +301,7 @@ def _error_sentences(rep) -> list:
     return out
 
 
-def _own_sample_line(pp, owns) -> str:
+def _own_sample_line(pp, owns, ordered: bool = False) -> str:
     """The plan sentence's additions for characteristics with their own plan."""
     text = ""
     for r in owns:
@@ -293,12 +311,14 @@ def _own_sample_line(pp, owns) -> str:
                      f"n = {r['attributes']['n']}, c = {r['attributes']['c']})")
         text += f" {r['characteristic']['id']}: {r.get('note') or r['label']}{extra}."
         if r["n"] is not None and pp.n is not None and r["n"] < pp.n:
-            text += (f" Judge it on {r['n']} of the sampled units chosen at random "
+            text += (f" Judge it on the first {r['n']} units of the inspection order (the "
+                     "pick list in a random order; see the bench procedure)." if ordered else
+                     f" Judge it on {r['n']} of the sampled units chosen at random "
                      "(for example with lotwise draw from the sample).")
     return text
 
 
-def _plan_line(pp) -> str:
+def _plan_line(pp, ordered: bool = False) -> str:
     """The one sentence saying how to inspect a lot."""
     scope = pp.request.scope
     if pp.n is None:
@@ -315,9 +335,11 @@ def _plan_line(pp) -> str:
         plan_line = plan_line.replace("For each characteristic", "For each attributes "
                                       "characteristic") if len(owns) < len(pp.reports) else (
             f"Inspect each lot with the plan of each characteristic (largest sample "
-            f"{pp.n} units, drawn at random; a smaller sample is the first units of the "
-            "pick list). A lot is accepted only if every characteristic is accepted.")
-        plan_line += _own_sample_line(pp, owns)
+            f"{pp.n} units, drawn at random; a smaller sample or a stage is the next "
+            + ("units of the inspection order, the pick list in a random order" if ordered else
+               "units drawn at random from those not yet inspected")
+            + "). A lot is accepted only if every characteristic is accepted.")
+        plan_line += _own_sample_line(pp, owns, ordered)
     return plan_line
 
 
@@ -484,12 +506,15 @@ def build_content(pp, *, picks=None, today: _dt.date | None = None,
         if "poisson_verdict" in rep:
             pois.append(f"{rep['characteristic']['id']}: {rep['poisson_verdict']['summary']}")
     banner, reasons = _banner(pp)
-    procedures, records = [], []
+    procedures, records, order = [], [], ()
     if not banner:  # a plan that falls short gets no instruction
-        from lotwise.documents.sheets.bench import procedure, record_block
+        from lotwise.documents.sheets.bench import (Source, inspection_order, procedure,
+                                                    record_block)
 
+        order = inspection_order(picks) if picks is not None else ()
+        source = Source(ordered=len(order))
         for rep, plan in zip(pp.reports, pp.plans):
-            proc = procedure(rep, plan, req.scope)
+            proc = procedure(rep, plan, req.scope, source)
             if rep["characteristic"]["class"] == "critical":
                 from dataclasses import replace
 
@@ -499,12 +524,14 @@ def build_content(pp, *, picks=None, today: _dt.date | None = None,
                     "stricter plan a contract or regulation requires (see the cautions on "
                     "the sheet).",) + proc.notes)
             procedures.append(proc)
-            records.append(record_block(proc, plan, req.scope))
+            records.append(record_block(proc, plan, req.scope, source))
+        if not any("inspection order" in " ".join(p.steps) for p in procedures):
+            order = ()  # every procedure takes the whole pick list: no order needed
     footer = (f"Prepared {today.isoformat()} with lotwise {__version__}; input fingerprint "
               f"{req.fingerprint()} (SHA-256 of the plan file's parsed content). Re-create with: "
               f"lotwise sheet {req.path}")
     return SheetContent(title=title, subtitle=sub, scope=_scope_rows(req),
-                        plan_line=_plan_line(pp) if not banner or pp.n is None
+                        plan_line=_plan_line(pp, bool(order)) if not banner or pp.n is None
                         else _audit_line(pp), plan_rows=plan_rows, risk_rows=risk_rows,
                         guarantees=guar, poisson=pois, model_note=_model_note(pp),
                         selection=(_selection(pp, picks) if not banner else
@@ -517,7 +544,8 @@ def build_content(pp, *, picks=None, today: _dt.date | None = None,
                         procedures=procedures, records=records,
                         record_head=_record_head(pp, picks) if procedures else [],
                         record_csv=f"{req.stem}-record.csv" if procedures else "",
-                        approvals=_approvals(req), cost=_cost_sentences(pp))
+                        approvals=_approvals(req), cost=_cost_sentences(pp),
+                        order=list(order))
 
 
 def oc_rows(pp, points: int = 41):

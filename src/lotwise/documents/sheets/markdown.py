@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from lotwise.documents.sheets.content import PLAN_HEADER, RISK_HEADER
+from lotwise.documents.sheets.content import ORDER_NOTE, PLAN_HEADER, RISK_HEADER, order_rows
 
 __all__ = ["render"]
 
@@ -58,6 +58,9 @@ def render(content, png: str | None = None, extra_png: str | None = None) -> str
         lines += ["## Bench procedure", ""]
         for p in c.procedures:
             lines += _procedure(p, 3)
+        if c.order:
+            lines += ["### Inspection order", "", ORDER_NOTE, "",
+                      _table(["Positions"] + [""] * 10, order_rows(c.order)), ""]
         lines += _record(c)
     lines += ["---", "", c.footer, ""]
     return "\n".join(lines)

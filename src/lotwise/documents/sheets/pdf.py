@@ -17,7 +17,7 @@ from __future__ import annotations
 import io
 import textwrap
 
-from lotwise.documents.sheets.content import PLAN_HEADER, RISK_HEADER
+from lotwise.documents.sheets.content import ORDER_NOTE, PLAN_HEADER, RISK_HEADER, order_rows
 from lotwise.documents.sheets.figures import aoq_plot, oc_plot
 
 __all__ = ["render"]
@@ -384,6 +384,12 @@ def _procedure_pages(plt, c):
     flow.y -= 0.05
     for proc in c.procedures:
         _one_procedure(flow, proc)
+    if c.order:
+        flow.heading("Inspection order")
+        flow.para(ORDER_NOTE, size=7.2)
+        total = PAGE_W - 2 * MARGIN
+        flow.grid(["Positions"] + [""] * 10, order_rows(c.order),
+                  [0.95] + [(total - 0.95) / 10] * 10, size=6.8)
     flow.para("The record form (last page, and " + c.record_csv + ") holds one lot's results; "
               "keep it with the lot's documents.", size=7.0, color="0.2")
     return flow
