@@ -339,11 +339,14 @@ def test_meeting_plan_has_box_procedure_and_form(tmp_path, capsys):
     pages = [" ".join(p.extract_text().split())
              for p in PdfReader(str(tmp_path / "out" / "bench.pdf")).pages]
     assert "NOT FOR USE" not in pages[0] and "At the bench" in pages[0]
-    assert pages[1].startswith("Bench procedure") and "take stage 2 (35 units)" in pages[1]
-    assert pages[-1].startswith("Inspection record (blank form, one per lot)")
+    # the blank record form is the second page, the procedure follows
+    assert pages[1].startswith("Inspection record (blank form, one per lot)")
+    assert pages[2].startswith("Bench procedure") and "take stage 2 (35 units)" in pages[2]
+    assert "Blank record form (one per lot): page 2" in pages[0]
+    assert "procedure for each characteristic: page 3." in pages[0]
     for field in ("Lot number", "Date received", "Positions", "Found in all d",
                   "Inspector", "Signature"):
-        assert field in pages[-1], field
+        assert field in pages[1], field
     rows = list(csv.DictReader(io.StringIO(
         (tmp_path / "out" / "bench-record.csv").read_text(encoding="utf-8"))))
     assert [r["step"] for r in rows[:2]] == ["stage 1", "stage 2"]
@@ -379,7 +382,8 @@ def test_long_sequential_table_continues_on_more_pages(tmp_path, capsys):
     assert cont and all(("Units inspected n" in p) or p.split("(continued) ")[1]
                         .startswith("Positions") for p in cont)
     assert sum("Units inspected n" in p for p in cont) >= 1
-    assert pages[-1].startswith("Inspection record")
+    assert pages[1].startswith("Inspection record")
+    assert f"page 3-{len(pages)}." in pages[0]  # where the procedure runs
     # every printed range is on some page of the PDF
     text = " ".join(pages)
     for r in rows[::37]:

@@ -88,7 +88,8 @@ def write_sheets(pp, out_dir, *, force: bool = False, today=None) -> dict:
         from lotwise.documents.sheets.bench import record_csv
 
         paths["record"] = write_text(out / content.record_csv,
-                                     record_csv(content.records, req.part_id, content.order),
+                                     record_csv(content.records, req.part_id, content.order,
+                                                picks=picks is not None),
                                      force=force,
                                      option="sheet")
     md = markdown.render(content, png=f"{stem}-oc.png" if pp.n is not None else None,

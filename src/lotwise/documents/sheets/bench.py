@@ -106,8 +106,13 @@ class Source:
             return f"the {b} units of the pick list"
         return f"the units at positions {_rows_text(a, b)} of the inspection order"
 
-    def cell(self, a: int, b: int) -> str:
-        return _rows_text(a, b) if self.ordered else "at random"
+    def cell(self, a: int, b: int, whole: bool = False) -> str:
+        """The positions in a table cell (``whole``: say so when they are the
+        whole pick list)."""
+        if not self.ordered:
+            return "at random"
+        return "the whole pick list" if whole and (a, b) == (1, self.ordered) else \
+            _rows_text(a, b)
 
 
 def procedure(rep, plan, scope, source: Source = Source()) -> Procedure:
@@ -409,8 +414,7 @@ def rule_cells(plan) -> tuple[str, str]:
 
     plan = bench_plan(plan)
     if isinstance(plan, SkipLotPlan):
-        a, r = rule_cells(plan.reference)
-        return a + " (inspected lots)", r
+        return rule_cells(plan.reference)  # for the lots inspected
     if isinstance(plan, VariablesPlan):
         if plan.limit == "both" and plan.sigma == "unknown" and plan.rule == "estimate":
             return f"p_U + p_L <= M = {plan.m:.4g}", "above M"
@@ -418,9 +422,9 @@ def rule_cells(plan) -> tuple[str, str]:
                          if plan.limit in (s, "both"))
         return f"{q} >= k = {plan.k:g}", "below k"
     if isinstance(plan, ChainPlan):
-        return f"d = 0; d = 1 after {plan.i} clean lots", "d >= 2; d = 1 otherwise"
+        return f"0; 1 after {plan.i} clean lots", "2; 1 otherwise"
     if isinstance(plan, SequentialPlan):
-        return "d <= accept no. at n (table)", "d >= reject no. at n"
+        return "by n (bench table)", "by n"
     if isinstance(plan, StagedPlan):
         return ("by stage " + "/".join("-" if a < 0 else str(a) for a in plan.acc),
                 "/".join(str(r) for r in plan.rej))
@@ -447,7 +451,8 @@ def record_block(proc: Procedure, plan, scope, source: Source = Source()) -> Rec
         n = int(proc.rows[0][0])
         return RecordBlock(cid=proc.cid, heading=proc.heading,
                            header=("Positions", "Units inspected", "Found d", "Decision"),
-                           rows=((source.cell(1, n), "", "", ""),), steps=(("sample", 1, n),))
+                           rows=((source.cell(1, n, whole=True), "", "", ""),),
+                           steps=(("sample", 1, n),))
     if proc.kind == "stages":
         return RecordBlock(cid=proc.cid, heading=proc.heading,
                            header=("Stage", "Positions", "Units inspected",
@@ -467,7 +472,7 @@ def record_block(proc: Procedure, plan, scope, source: Source = Source()) -> Rec
         return RecordBlock(cid=proc.cid, heading=proc.heading,
                            header=("Positions", "Found d", f"d of the last {plan.i} lot(s)",
                                    "Clean lots in a row before", "Decision"),
-                           rows=((source.cell(1, plan.n), "", "", "", ""),),
+                           rows=((source.cell(1, plan.n, whole=True), "", "", "", ""),),
                            steps=(("sample", 1, plan.n),))
     if proc.kind == "variables":
         d = "sigma (known)" if plan.sigma == "known" else "s"
@@ -491,10 +496,11 @@ RECORD_COLUMNS = ("lot", "date", "characteristic", "step", "positions", "units",
                   "decision", "inspector", "signature")
 
 
-def record_csv(blocks, part_id: str, order=()) -> str:
+def record_csv(blocks, part_id: str, order=(), picks: bool = False) -> str:
     """The blank record form as a CSV template: one row per stage, unit or
     measurement to record, the fixed cells filled (``order``: the inspection
-    order's unit numbers, shown beside their positions)."""
+    order's unit numbers, shown beside their positions; without one, the
+    units are the whole pick list when ``picks``, else drawn at random)."""
     import csv
     import io
 
@@ -506,7 +512,8 @@ def record_csv(blocks, part_id: str, order=()) -> str:
         for label, a, z in b.steps:
             extra = {"step": label}
             if a:
-                extra["positions"] = _rows_text(a, z) if order else "at random"
+                extra["positions"] = (_rows_text(a, z) if order else
+                                      "the whole pick list" if picks else "at random")
                 if order:
                     extra["units"] = " ".join(str(u) for u in order[a - 1:z])
             w.writerow(list((blank | {"characteristic": b.cid} | extra).values()))

@@ -6,7 +6,7 @@ plain-words guarantees. The first page is the sheet: if its content would
 run past the bottom margin it is laid out again with slightly smaller type,
 so it is always exactly one page. A plan that meets its targets is followed
 by the bench procedure (page 2 on, long tables continued on further pages)
-and the blank record form (the last page); a plan that falls short has the
+and the blank record form (page 2 on, then the bench procedure); a plan that falls short has the
 first page only, headed by a banner saying it is not for use at the bench. The text is set in the PDF core font Helvetica
 (:data:`CORE_FONTS`), which every reader has, so nothing is embedded and the
 numbers can be extracted from the PDF text.
@@ -93,7 +93,7 @@ def _hline(fig, x0, x1, y):
                   linewidth=0.6, transform=fig.transFigure)
 
 
-def _layout(content, pp, scale: float, figures: bool = True):
+def _layout(content, pp, scale: float, figures: bool = True, where: str = ""):
     from lotwise.documents.plots.style import mpl
 
     plt = mpl()
@@ -115,7 +115,7 @@ def _layout(content, pp, scale: float, figures: bool = True):
         pg.text(v, x=MARGIN + 1.15, width=PAGE_W - 2 * MARGIN - 1.15)
     pg.heading("Plan")
     if c.procedures:  # a work instruction: the plan meets its targets
-        _instruction_box(pg, c)
+        _instruction_box(pg, c, where)
     else:
         pg.text(c.plan_line, size=8.0)
     if c.plan_rows:
@@ -202,15 +202,15 @@ def _banner(pg, c):
     pg.y -= 0.12
 
 
-def _instruction_box(pg, c):
+def _instruction_box(pg, c, where: str):
     """The plan's instruction in a frame, with where the procedure is."""
     top = pg.y - 0.02
     pg.y = top - 0.04
     inner = PAGE_W - 2 * MARGIN - 0.2
     pg.text("At the bench", size=7.4, weight="bold", x=MARGIN + 0.1, width=inner, color="0.3")
     pg.text(c.plan_line, size=8.0, weight="bold", x=MARGIN + 0.1, width=inner)
-    pg.text("Step-by-step procedure for each characteristic: page 2. Blank record form (one "
-            f"per lot): the last page, and {c.record_csv} beside this sheet.", size=7.0,
+    pg.text(where or "Blank record form and step-by-step procedure: the following pages.",
+            size=7.0,
             x=MARGIN + 0.1, width=inner)
     pg.y -= 0.05
     _frame(pg, top, 1.2)
@@ -390,7 +390,7 @@ def _procedure_pages(plt, c):
         total = PAGE_W - 2 * MARGIN
         flow.grid(["Positions"] + [""] * 10, order_rows(c.order),
                   [0.95] + [(total - 0.95) / 10] * 10, size=6.8)
-    flow.para("The record form (last page, and " + c.record_csv + ") holds one lot's results; "
+    flow.para("The record form (page 2, and " + c.record_csv + ") holds one lot's results; "
               "keep it with the lot's documents.", size=7.0, color="0.2")
     return flow
 
@@ -453,17 +453,25 @@ def _render(content, pp, plt) -> bytes:
     import matplotlib
 
     with matplotlib.rc_context(CORE_FONTS):
+        flows = []
+        if content.procedures:  # a plan for the bench: its record form and procedure
+            flows = [_record_pages(plt, content), _procedure_pages(plt, content)]
+        last = 1 + sum(len(f.figs) for f in flows)
+        where = ""
+        if flows:
+            form, proc = 2, 2 + len(flows[0].figs)
+            where = (f"Blank record form (one per lot): page {form}"
+                     + (f"-{proc - 1}" if proc - 1 > form else "")
+                     + f", and {content.record_csv} beside this sheet. Step-by-step procedure "
+                     f"for each characteristic: page {proc}"
+                     + (f"-{last}" if last > proc else "") + ".")
         for scale in (1.0, 0.93, 0.86, 0.8, 0.74, 0.68):
             # the cursor does not depend on the figures: draw them once, at the end
-            fig, bottom = _layout(content, pp, scale, figures=False)
+            fig, bottom = _layout(content, pp, scale, figures=False, where=where)
             plt.close(fig)
             if bottom >= MARGIN * 0.6:
                 break
-        fig, _ = _layout(content, pp, scale)
-        flows = []
-        if content.procedures:  # a plan for the bench: its procedure and record form
-            flows = [_procedure_pages(plt, content), _record_pages(plt, content)]
-        last = 1 + sum(len(f.figs) for f in flows)
+        fig, _ = _layout(content, pp, scale, where=where)
         if last > 1:
             fig.text(1 - MARGIN / PAGE_W, MARGIN * 0.5 / PAGE_H, f"page 1 of {last}",
                      fontsize=6.3, color="0.3", ha="right", va="bottom")
