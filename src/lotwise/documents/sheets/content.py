@@ -103,11 +103,6 @@ class SheetContent:
     cost: list = field(default_factory=list)  # sentences on the inspection cost
     order: list = field(default_factory=list)  # the inspection order's unit numbers, or []
 
-    @property
-    def for_bench(self) -> bool:
-        """The sheet is a work instruction (the plan meets its targets)."""
-        return not self.banner
-
 
 def error_free(plan):
     """The plan as a perfect inspection would judge it, when ``plan`` is judged with
