@@ -296,6 +296,8 @@ def test_variables_worked_line_equals_judge(tmp_path, capsys, notation):
 
 def test_failing_plan_gets_the_banner_and_no_instruction(tmp_path, capsys):
     # The demo's gasket proposal falls short (beta 26 % against 10 %; exit 1 of check).
+    # A rule of the project's own (no outside source): a plan that falls short is
+    # never laid out as a work instruction.
     from pathlib import Path
 
     src = str(Path(__file__).resolve().parents[1] / "plans" / "qp-6630-gasket-proposal.toml")
@@ -322,6 +324,8 @@ def test_failing_plan_gets_the_banner_and_no_instruction(tmp_path, capsys):
 
 
 def test_no_plan_gets_the_banner(tmp_path, capsys):
+    # AQL 1 %, RQL 2 % needs hundreds of units; a cap of 10 leaves no plan
+    # (the project's own rule for the banner, as above).
     f = tmp_path / "none.toml"
     f.write_text('[part]\nid = "N-1"\n[sampling]\nmax_n = 10\n[[characteristic]]\nid = "M1"\n'
                  'class = "major"\naql = "1%"\nrql = "2%"\n', encoding="utf-8")
@@ -367,6 +371,7 @@ def test_meeting_plan_has_box_procedure_and_form(tmp_path, capsys):
 
 
 def test_long_sequential_table_continues_on_more_pages(tmp_path, capsys):
+    # Layout only (common practice, no source): a table never runs off a page.
     # A steep slope and a far truncation point: hundreds of ranges, laid out
     # three abreast and continued on the next page with the header repeated.
     notation = "sequential: h1=2.5,h2=3.1,s=0.25,truncate=900"
@@ -393,6 +398,10 @@ def test_long_sequential_table_continues_on_more_pages(tmp_path, capsys):
 # --- plan-file keys: drawing, revision, approvals, cost ----------------------------
 
 def test_drawing_approvals_and_cost_on_the_sheet(tmp_path, capsys):
+    # Expected inspection per lot under rectifying inspection is the ATI,
+    # n + (1 - Pa)(N - n) (Schilling and Neubauer, Acceptance Sampling in Quality
+    # Control, 2nd ed., 2009, rectifying inspection; from memory); the cost is that
+    # times the cost per unit, taken here from check --plan's own ATI.
     part = 'drawing = "QD-77"\nrevision = "B"\n'
     extra = ('[sampling]\nn = 80\ncost_per_unit = 2.5\ndeliveries_per_year = 52\n'
              '[approvals]\nprepared_by = "P. Writer"\ndate = 2026-11-30\n')
@@ -414,6 +423,8 @@ def test_drawing_approvals_and_cost_on_the_sheet(tmp_path, capsys):
 
 
 def test_cost_of_a_varying_sample_is_its_asn(tmp_path, capsys):
+    # A plan judged on its own sample (not screened on the sheet) costs its
+    # expected sample, the ASN (same source as above).
     extra = '[sampling]\ncost_per_unit = 10\n'
     path = plan_file(tmp_path, "n1=35,c1=0,r1=3,n2=35,c2=2", extra=extra)
     main(["check", path, "--json"])
