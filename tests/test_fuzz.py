@@ -135,7 +135,7 @@ COMMANDS = {
                     "--tested": CNT, "--lot-size": CNT},
     "next": {"--plan": PLAN, "--inspected": CNT, "--found": CNT, "--per-unit": None,
              "--seed": CNT, "--systematic": None, "--lot-size": CNT,
-             "--history": pool(["", "ggb", "0110", "x"])},
+             "--history": pool(["", "ggb", "0110", "x"]), "--clean-lots": CNT},
     "draw": {"--lot-size": CNT, "--n": CNT, "--seed": CNT,
              "--strata": pool(["trays=4", "trays=0", "x", "cartons=40"]), "--plan": PLAN},
     "judge": {"--plan": PLAN,

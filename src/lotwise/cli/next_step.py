@@ -40,6 +40,7 @@ def next_unit(
     per_unit: bool = common.PER_UNIT,
     history: Optional[str] = typer.Option(None, "--history", help="csp1/2/3 plans: results so far (ok, bad, - for a unit passed uninspected; comma, space or newline separated) or a file of them."),
     seed: Optional[str] = typer.Option(None, "--seed", help="csp1/2/3 plans: seed of the random choice of units to inspect."),
+    clean_lots: Optional[str] = typer.Option(None, "--clean-lots", help="Chain plans: lots in a row just before this one whose samples held no nonconforming item."),
     systematic: bool = typer.Option(False, "--systematic", help="csp1/2/3 plans: inspect every m-th unit (f = 1/m) instead of a random choice."),
     plan_file: Optional[str] = typer.Option(None, "--plan-file", help="Take the plan from this plan file's [[table]] row for --lot-size (or its [switching])."),
     lot: Optional[str] = common.LOT,
@@ -68,7 +69,8 @@ def next_unit(
 
         return next_cmd(flow, history=history, seed=seed, systematic=systematic,
                         as_json=as_json, unused={"--inspected": inspected, "--found": found,
-                                                 "--per-unit": per_unit or None})
+                                                 "--per-unit": per_unit or None,
+                                                 "--clean-lots": clean_lots})
     for opt, val in (("--history", history), ("--seed", seed), ("--systematic", systematic)):
         if val is not None and val is not False:
             raise InputError(f"{opt} ({val!r}) applies to continuous sampling plans (csp1, csp2, "
@@ -84,10 +86,20 @@ def next_unit(
     ref = plan_from_reference(plan)
     per_unit = bool(per_unit or ref.per_unit)
     p = ref.plan.for_scope(Scope(per_unit=per_unit))  # c > n, sequential lines: per the scope
-    dec = p.decide(n, d, per_unit=per_unit)
+    state = {}
+    if p.bench_state == "clean_lots":
+        # (the decision says when it is missing)
+        state["clean_lots"] = (None if clean_lots is None else
+                               parse_count(clean_lots, "--clean-lots", minimum=0))
+    elif clean_lots is not None:
+        raise InputError(f"--clean-lots ({clean_lots}) applies to chain plans; a {p.scheme} plan "
+                         "decides on this lot's counts alone")
+    dec = p.decide(n, d, per_unit=per_unit, **state)
     if as_json:
         out = {"scheme": p.scheme, "plan": p.to_dict(), "notation": p.notation()}
         out.update(dec.as_dict())
+        if "clean_lots" in state:
+            out["clean_lots"] = state["clean_lots"]
         common.emit_json(out)
         raise typer.Exit(EXIT[dec.action])
     head = {"accept": "ACCEPT the lot", "reject": "REJECT the lot",

@@ -152,7 +152,9 @@ def _report_row(pp, rep) -> tuple[list, dict]:
                if rep.get("rql_only") else {})
             | ({"safety": rep["safety"]} if "safety" in rep else {})
             | ({"inspection_error": rep["inspection_error"]}
-               if "inspection_error" in rep else {}))
+               if "inspection_error" in rep else {})
+            | ({"inspection_cost": rep["inspection_cost"]}
+               if "inspection_cost" in rep else {}))
     return row, item
 
 

@@ -49,7 +49,7 @@ from lotwise.core.quantities import Infeasible, InputError, format_pct
 from lotwise.analysis.assess import assess
 
 __all__ = ["PartPlan", "CharacteristicInfeasible", "CRITICAL_NOTE", "resolve", "PlanReference",
-           "plan_from_reference", "pick_seed", "own_note"]
+           "plan_from_reference", "pick_seed", "own_note", "inspection_cost"]
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -357,6 +357,10 @@ def resolve(req, *, verdict: bool = True) -> PartPlan:
         plans.append(p)
     if n is None:
         n = max((r["n"] or 0) for r in reps) or None
+    if req.cost_per_unit is not None:
+        for rep in reps:
+            rep["inspection_cost"] = inspection_cost(rep, req.cost_per_unit,
+                                                     req.deliveries_per_year)
     return PartPlan(request=req, n=n, reports=reps, plans=plans, designed=not req.fixed,
                     problem=problem, failed=failures, full=full)
 
@@ -365,6 +369,33 @@ def resolve(req, *, verdict: bool = True) -> PartPlan:
 CRITICAL_NOTE = ("critical characteristic: sampling cannot guarantee a lot free of "
                  "nonconforming items; use 100 % inspection or stricter plans as contract and "
                  "regulation require")
+
+
+def inspection_cost(rep: dict, per_unit: float, deliveries_per_year=None) -> dict:
+    """What inspecting one characteristic's plan costs at the AQL.
+
+    The expected units inspected per lot are the ATI where rejected lots are
+    screened (``rep`` has ``ati``: a known lot size, attributes), else the ASN
+    of a plan whose sample varies, else its sample size; ``per_lot`` is that
+    times ``per_unit``, ``per_year`` that times ``deliveries_per_year`` (None
+    without it).
+
+    Examples
+    --------
+    >>> inspection_cost({"n": 80, "ati": {"aql": 95.5, "rql": 900.0}}, 2.0, 52)["per_year"]
+    9932.0
+    """
+    if "ati" in rep:
+        units, basis = float(rep["ati"]["aql"]), "ati"
+    elif "asn" in rep:
+        units, basis = float(rep["asn"]["aql"]), "asn"
+    else:
+        units, basis = float(rep["n"]), "sample"
+    per_lot = per_unit * units
+    return {"per_unit": per_unit, "per_lot": per_lot,
+            "per_year": None if deliveries_per_year is None else per_lot * deliveries_per_year,
+            "deliveries_per_year": deliveries_per_year, "units_per_lot": units,
+            "basis": basis, "at": "aql"}
 
 
 def _add_rectifying(reps, plans, chars, scope) -> None:

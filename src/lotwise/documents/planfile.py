@@ -20,6 +20,8 @@ Format
     id = "HV-2210"                               # required
     description = "Relief valve spring"
     supplier = "Example Springs"
+    drawing = "D-2210-04"                        # printed on the sheet and the record form
+    revision = "C"
 
     [lot]
     size = 1200                                  # optional: the lot size
@@ -32,9 +34,15 @@ Format
     n = 125                                      # fixed sample size (with every c: an audit)
     max_n = 200                                  # largest affordable sample
     cost_per_unit = 4.5                          # currency per inspected unit
+    deliveries_per_year = 52                     # lots received per year (yearly cost)
     seed = 20261201                              # seed of the pick list
     strata = "trays=12"                          # stratified pick list
     rejected_lot = "Return to supplier ..."      # what to do with a rejected lot
+
+    [approvals]                                  # optional: printed on the sheet;
+    prepared_by = "A. Person"                    # lines to sign where not given
+    approved_by = "B. Person"
+    date = "2026-12-01"
 
     [inspection]                                 # optional: the inspection errs
     miss_rate = "10%"                            # nonconforming item judged conforming
@@ -117,11 +125,13 @@ CLASSES = ("critical", "major", "minor")
 COUNTS = ("items", "nonconformities")
 
 _TOP = {"rationale", "part", "sampling", "lot", "characteristic", "switching", "table",
-        "aql", "rql", "max_alpha", "max_beta", "inspection"}
+        "aql", "rql", "max_alpha", "max_beta", "inspection", "approvals"}
+_APPROVALS = {"prepared_by", "approved_by", "date"}
 _INSPECTION = {"miss_rate", "false_alarm", "study"}
 _PART = {"id", "description", "supplier", "drawing", "revision"}
 _LOT = {"size", "definition", "counts"}
-_SAMPLING = {"model", "n", "max_n", "cost_per_unit", "seed", "strata", "rejected_lot"}
+_SAMPLING = {"model", "n", "max_n", "cost_per_unit", "deliveries_per_year", "seed", "strata",
+             "rejected_lot"}
 _CHAR_BASE = {"id", "description", "class", "aql", "rql", "alpha", "beta", "c", "plan", "scheme",
               "inspection"}
 #: ``characteristic.inspection``: sampling (the default) or every item.
@@ -170,6 +180,10 @@ class PlanRequest:
     part_id: str
     part_description: str = ""
     supplier: str = ""
+    drawing: str = ""
+    revision: str = ""
+    approvals: dict = field(default_factory=dict)  # prepared_by, approved_by, date (text)
+    deliveries_per_year: float | None = None
     lot_definition: str = ""
     scope: Scope = field(default_factory=Scope)
     model: str | None = None
@@ -386,6 +400,33 @@ def _cost(smp: dict, path: str):
         raise InputError(f"{path}: sampling.cost_per_unit ({v!r}) must be a number of at "
                          "least 0")
     return float(v)
+
+
+def _deliveries(smp: dict, path: str):
+    """``sampling.deliveries_per_year`` (a number above 0), or None."""
+    if "deliveries_per_year" not in smp:
+        return None
+    v = smp["deliveries_per_year"]
+    if isinstance(v, bool) or not isinstance(v, (int, float)) or not 0 < v <= 1e6:
+        raise InputError(f"{path}: sampling.deliveries_per_year ({v!r}) must be a number above "
+                         "0 and at most 1000000 (lots received per year)")
+    return float(v)
+
+
+def _approvals(doc: dict, path: str) -> dict:
+    """``[approvals]``: prepared_by, approved_by and date as text (a TOML date
+    is written as it stands); the sheet leaves lines to sign for those missing."""
+    import datetime as _dt
+
+    ap = _table(doc, "approvals", path)
+    _unknown(ap, _APPROVALS, "approvals.", path)
+    out = {}
+    for key in sorted(_APPROVALS):
+        if key == "date" and isinstance(ap.get(key), _dt.date):
+            out[key] = ap[key].isoformat()
+        elif key in ap:
+            out[key] = _text(ap, key, "approvals.", path).strip()
+    return out
 
 
 def _targets(ch: dict, w: str, path: str, per_unit: bool) -> Targets:
@@ -640,10 +681,16 @@ def loads(text: str, path: str = "<plan>") -> PlanRequest:
     descriptions = [err.take(_text, part, key, "part.", path, default="")
                     for key in ("description", "supplier")]
     definition = err.take(_text, lot, "definition", "lot.", path, default="")
+    drawing, revision = (err.take(_text, part, key, "part.", path, default="")
+                         for key in ("drawing", "revision"))
+    approvals = err.take(_approvals, doc, path, default={})
+    deliveries = err.take(_deliveries, smp, path)
     err.raise_all()
     return PlanRequest(
         path=str(path), part_id=part_id, part_description=descriptions[0],
-        supplier=descriptions[1], lot_definition=definition, scope=scope, model=model, n=n,
+        supplier=descriptions[1], drawing=drawing, revision=revision,
+        approvals=approvals, deliveries_per_year=deliveries, lot_definition=definition,
+        scope=scope, model=model, n=n,
         max_n=max_n, cost_per_unit=cost, seed=seed, strata=strata, rejected_lot=rejected,
         rationale=rationale, characteristics=tuple(chars), raw=doc, inspection=inspection,
         **extras)

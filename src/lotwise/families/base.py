@@ -391,6 +391,11 @@ class Plan(ABC):
         """The plan's rule in words, one or more lines for reports."""
         return [f"plan      {self.label}"]
 
+    #: The record of earlier lots a bench rule needs besides this lot's counts,
+    #: named as ``lotwise next`` asks for it (``"clean_lots"``: the lots in a row
+    #: just before this one whose samples held nothing nonconforming), or None.
+    bench_state: str | None = None
+
     def decide(self, inspected: int, found: int, *, per_unit: bool = False) -> Decision:
         """Accept, reject or continue on the bench; families without a bench
         rule refuse with a clear message."""

@@ -131,6 +131,34 @@ class ChainPlan(Plan):
     def notation(self) -> str:
         return f"chain: n={self.n},i={self.i}"
 
+    bench_state = "clean_lots"
+
+    def decide(self, inspected: int, found: int, *, per_unit: bool = False,
+               clean_lots: int | None = None):
+        """Accept, reject or continue on the bench, given ``clean_lots``: the
+        lots in a row just before this one whose samples held no nonconforming
+        item (ChSP-1 needs the last ``i``). With ``i`` or more clean lots the
+        lot is judged as the single plan ``(n, c = 1)``, otherwise as
+        ``(n, c = 0)``; decisions certain before the sample's end are taken
+        as a single plan takes them."""
+        from dataclasses import replace
+
+        from lotwise.core.quantities import parse_count
+        from lotwise.families.staged import StagedPlan
+
+        if clean_lots is None:
+            raise InputError(f"--clean-lots is required for a chain plan ({self.notation()}): "
+                             f"the lots in a row just before this one whose samples held no "
+                             f"nonconforming item (the rule needs the last {self.i})")
+        clean = parse_count(clean_lots, "--clean-lots", minimum=0)
+        c = 1 if clean >= self.i else 0
+        dec = StagedPlan.single(SinglePlan(n=int(self.n), c=c)).decide(
+            inspected, found, per_unit=per_unit)
+        why = (f"{clean} clean lot(s) in a row before this one "
+               + (f"(at least i = {self.i}): one nonconforming item is forgiven, acceptance "
+                  "number 1" if c else f"(fewer than i = {self.i}): acceptance number 0"))
+        return replace(dec, reason=f"ChSP-1 with {why}; {dec.reason}")
+
     def pa(self, p, model: str, scope: Scope, rounding: str = "nearest"):
         """``Pa = P0 + P1 P0^i`` at quality level(s) ``p`` under ``model``."""
         if model == "hypergeometric":

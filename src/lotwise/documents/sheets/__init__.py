@@ -2,12 +2,15 @@
 
 For each plan file :func:`write_sheets` writes, into one folder,
 
-* ``<stem>.pdf`` -- one printable A4 page;
+* ``<stem>.pdf`` -- the sheet on one A4 page; for a plan that meets its
+  targets followed by the bench procedure and the blank record form;
 * ``<stem>.md`` -- the same content and numbers as Markdown;
 * ``<stem>-oc.png`` -- the OC curves (exact and Poisson);
 * ``<stem>-oc.csv`` -- the OC table under every model;
 * ``<stem>-picklist.csv`` -- the seeded random selection of units, when the
-  lot size is known.
+  lot size is known;
+* ``<stem>-record.csv`` -- the record form as a CSV template (a plan that
+  meets its targets only).
 
 Both documents are rendered from one :class:`SheetContent`, built by
 :func:`build_content` (in :mod:`lotwise.documents.sheets.content`) from the
@@ -75,6 +78,14 @@ def write_sheets(pp, out_dir, *, force: bool = False, today=None) -> dict:
         if picks is not None:
             paths["picklist"] = write_text(out / f"{stem}-picklist.csv", picks.to_csv(),
                                            force=force, option="sheet")
+    if content.procedures:  # the blank record form as a CSV template
+        from lotwise.documents.sheets.bench import record_csv
+
+        paths["record"] = write_text(out / content.record_csv,
+                                     record_csv(content.records, req.part_id, content.order,
+                                                picks=picks is not None),
+                                     force=force,
+                                     option="sheet")
     md = markdown.render(content, png=f"{stem}-oc.png" if pp.n is not None else None,
                          extra_png=f"{stem}-oc-aoq-ati.png" if "rectifying_png" in paths else None)
     if req.switching is not None or req.table:  # the scheme's section and figure

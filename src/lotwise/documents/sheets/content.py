@@ -17,7 +17,8 @@ from lotwise.core.numbers import probability
 from lotwise.core.quantities import format_level, format_pct
 from lotwise.core.version import __version__
 
-__all__ = ["CAUTION", "DEFAULT_REJECTED", "MODEL_TEXT", "PLAN_HEADER", "RISK_HEADER",
+__all__ = ["CAUTION", "DEFAULT_REJECTED", "MODEL_TEXT", "ORDER_NOTE", "PLAN_HEADER",
+           "RISK_HEADER", "order_rows",
            "SheetContent", "alternatives", "build_content", "error_free", "fmt_pa", "oc_rows",
            "plan_name"]
 
@@ -51,6 +52,22 @@ RISK_HEADER = ["Char.", "Model", "Pa(AQL)", "alpha", "target", "Pa(RQL)", "beta"
                "Verdict"]
 
 
+ORDER_NOTE = (
+    "The units of the pick list in a random order drawn from its seed. Take them in this "
+    "order: the positions a procedure names (a stage, the units of a sequential plan, a "
+    "smaller sample) are then themselves a random sample of the lot, which the pick list's "
+    "own rows, sorted by unit number, are not.")
+
+
+def order_rows(order, per: int = 10) -> list:
+    """The inspection order as table rows: the positions, then ``per`` unit numbers."""
+    out = []
+    for j in range(0, len(order), per):
+        part = [str(u) for u in order[j:j + per]]
+        out.append([f"{j + 1}-{j + len(part)}"] + part + [""] * (per - len(part)))
+    return out
+
+
 def fmt_pa(x: float) -> str:
     """Acceptance probabilities on sheets: four decimals
     (:func:`lotwise.core.numbers.probability`)."""
@@ -78,6 +95,15 @@ class SheetContent:
     verdict: str
     picks: list = field(default_factory=list)
     alternatives: str = ""
+    banner: str = ""  # a plan not to be used at the bench: the banner, first on the page
+    reasons: list = field(default_factory=list)  # why it falls short, one line each
+    procedures: list = field(default_factory=list)  # bench.Procedure per characteristic
+    records: list = field(default_factory=list)  # bench.RecordBlock per characteristic
+    record_head: list = field(default_factory=list)  # (label, prefilled text) of the form
+    record_csv: str = ""  # the file name of the CSV template beside the sheet
+    approvals: list = field(default_factory=list)  # (label, text or "" to sign)
+    cost: list = field(default_factory=list)  # sentences on the inspection cost
+    order: list = field(default_factory=list)  # the inspection order's unit numbers, or []
 
 
 def error_free(plan):
@@ -176,6 +202,9 @@ def _scope_rows(req) -> list:
            "or very large lot)")
     rows = [("Part", req.part_id + (f": {req.part_description}" if req.part_description
                                     else ""))]
+    if getattr(req, "drawing", "") or getattr(req, "revision", ""):
+        rows.append(("Drawing", (req.drawing or "not stated")
+                     + (f", revision {req.revision}" if req.revision else "")))
     if req.supplier:
         rows.append(("Supplier", req.supplier))
     rows.append(("Lot", (req.lot_definition + "; " if req.lot_definition else "")
@@ -191,7 +220,7 @@ def _scope_rows(req) -> list:
     return rows
 
 
-def _plan_row(rep, per_unit: bool) -> list:
+def _plan_row(rep, plan, per_unit: bool) -> list:
     """One row of the plan table: characteristic, class, sample, rule, levels."""
     ch = rep["characteristic"]
     t = rep["targets"]
@@ -199,10 +228,11 @@ def _plan_row(rep, per_unit: bool) -> list:
               if not rep.get("rql_only") else "none stated (c = 0)",
               f"{_lvl(t['rql'], per_unit)} / {format_pct(t['beta'])}"]
     if rep.get("own_sample", False):
-        k = rep["plan"].get("k")
-        rule = f"statistic >= k = {k:g}" if k is not None else "see the plan above"
+        from lotwise.documents.sheets.bench import rule_cells
+
+        accept, reject = rule_cells(plan)
         size = f"up to {rep['n']}" if rep.get("varying_sample") else f"n = {rep['n']}"
-        return [ch["id"], ch["class"], size, rule, "otherwise", *levels]
+        return [ch["id"], ch["class"], size, accept, reject, *levels]
     return [ch["id"], ch["class"], f"n = {rep['n']}", str(rep["c"]), str(rep["r"]), *levels]
 
 
@@ -311,7 +341,7 @@ def _error_sentences(rep) -> list:
     return out
 
 
-def _own_sample_line(pp, owns) -> str:
+def _own_sample_line(pp, owns, ordered: bool = False) -> str:
     """The plan sentence's additions for characteristics with their own plan."""
     text = ""
     for r in owns:
@@ -321,12 +351,14 @@ def _own_sample_line(pp, owns) -> str:
                      f"n = {r['attributes']['n']}, c = {r['attributes']['c']})")
         text += f" {r['characteristic']['id']}: {r.get('note') or r['label']}{extra}."
         if r["n"] is not None and pp.n is not None and r["n"] < pp.n:
-            text += (f" Judge it on {r['n']} of the sampled units chosen at random "
+            text += (f" Judge it on the first {r['n']} units of the inspection order (the "
+                     "pick list in a random order; see the bench procedure)." if ordered else
+                     f" Judge it on {r['n']} of the sampled units chosen at random "
                      "(for example with lotwise draw from the sample).")
     return text
 
 
-def _plan_line(pp) -> str:
+def _plan_line(pp, ordered: bool = False) -> str:
     """The one sentence saying how to inspect a lot."""
     scope = pp.request.scope
     every = ", ".join(f["characteristic"]["id"] for f in pp.full)
@@ -356,10 +388,22 @@ def _sampled_line(pp) -> str:
         plan_line = plan_line.replace("For each characteristic", "For each attributes "
                                       "characteristic") if len(owns) < len(pp.reports) else (
             f"Inspect each lot with the plan of each characteristic (largest sample "
-            f"{pp.n} units, drawn at random; a smaller sample is the first units of the "
-            "pick list). A lot is accepted only if every characteristic is accepted.")
-        plan_line += _own_sample_line(pp, owns)
+            f"{pp.n} units, drawn at random; a smaller sample or a stage is the next "
+            + ("units of the inspection order, the pick list in a random order" if ordered else
+               "units drawn at random from those not yet inspected")
+            + "). A lot is accepted only if every characteristic is accepted.")
+        plan_line += _own_sample_line(pp, owns, ordered)
     return plan_line
+
+
+def _audit_line(pp) -> str:
+    """What a plan that falls short is, in words that give no instruction."""
+    return ("The plan audited here, characteristic by characteristic: "
+            + "; ".join(f"{r['characteristic']['id']} {plan_name(r)}"
+                        + (f" ({r['note']})" if r.get("own_sample") and r.get("note") else "")
+                        for r in pp.reports)
+            + ". It falls short of its targets and is not an inspection instruction: no lot "
+            "is to be sentenced by it.")
 
 
 def _model_note(pp) -> str:
@@ -412,6 +456,85 @@ def _selection(pp, picks) -> str:
             + (f" --strata \"{req.strata}\"" if req.strata else "") + ".")
 
 
+#: The banner of a sheet whose plan is not to be used at the bench.
+BANNER_SHORT = "NOT FOR USE AT THE BENCH: this plan falls short of its targets"
+BANNER_NONE = "NOT FOR USE AT THE BENCH: no plan meets these targets"
+
+
+def _banner(pp) -> tuple[str, list]:
+    """The banner and the reasons, one line each, for a plan that falls short
+    (or no plan); ``("", [])`` for a plan that meets its targets."""
+    if pp.meets:  # (a part inspected 100 % throughout has no sample and meets)
+        return "", []
+    if pp.n is None:
+        return BANNER_NONE, [pp.problem]
+    reasons = [f"{f['characteristic']['id']}: no plan meets its targets: {f['reason']}."
+               for f in getattr(pp, "failed", [])]
+    for rep in pp.reports:
+        if rep["meets"]:
+            continue
+        m = rep["models"][rep["model"]]
+        t = rep["targets"]
+        parts = []
+        if not m.get("meets_alpha", m["alpha"] <= t["alpha"]):
+            parts.append(f"producer's risk alpha {format_pct(m['alpha'])} against the target "
+                         f"{format_pct(t['alpha'])} (Pa at the AQL {fmt_pa(m['pa_aql'])})")
+        if not m.get("meets_beta", m["beta"] <= t["beta"]):
+            parts.append(f"consumer's risk beta {format_pct(m['beta'])} against the target "
+                         f"{format_pct(t['beta'])} (Pa at the RQL {fmt_pa(m['pa_rql'])})")
+        if not parts:
+            parts.append("a target is not met under the judging model")
+        reasons.append(f"{rep['characteristic']['id']} ({plan_name(rep)}, {rep['model']}): "
+                       + "; ".join(parts) + ".")
+    reasons.append("Agree a plan that meets the targets (lotwise design) before any lot is "
+                   "inspected; this sheet records the audit only.")
+    return BANNER_SHORT, reasons
+
+
+def _record_head(pp, picks) -> list:
+    """``(label, prefilled text)`` at the head of the record form."""
+    req = pp.request
+    part = req.part_id + (f", {req.part_description}" if req.part_description else "")
+    draw = ", ".join(x for x in (f"drawing {req.drawing}" if getattr(req, "drawing", "") else "",
+                                 f"revision {req.revision}" if getattr(req, "revision", "") else "")
+                     if x)
+    rows = [("Part", part + (f" ({draw})" if draw else "")),
+            ("Supplier", req.supplier), ("Lot number", ""), ("Lot size", (
+                f"{req.scope.lot_size:,} (plan)" if req.scope.lot_size else "")),
+            ("Date received", ""), ("Date inspected", ""),
+            ("Pick list", f"seed {picks.seed}, {req.stem}-picklist.csv" if picks is not None
+             else "units drawn at random (lotwise draw)")]
+    return rows
+
+
+def _approvals(req) -> list:
+    """``(label, text)`` of the approvals; empty text leaves a line to sign."""
+    ap = getattr(req, "approvals", None) or {}
+    return [("Prepared by", ap.get("prepared_by", "")), ("Approved by", ap.get("approved_by", "")),
+            ("Date", ap.get("date", ""))]
+
+
+def _cost_sentences(pp) -> list:
+    """What inspection costs, per characteristic, from ``inspection_cost``."""
+    out = []
+    for rep in pp.reports:
+        c = rep.get("inspection_cost")
+        if not c:
+            continue
+        basis = {"ati": "average total inspection (ATI, rejected lots screened)",
+                 "asn": "average sample number (ASN)", "sample": "the sample size"}[c["basis"]]
+        text = (f"{rep['characteristic']['id']}: {c['per_unit']:,.2f} per unit x "
+                f"{c['units_per_lot']:,.1f} units per lot ({basis} at the AQL) = "
+                f"{c['per_lot']:,.2f} per lot")
+        if c.get("per_year") is not None:
+            text += f"; x {c['deliveries_per_year']:,g} deliveries = {c['per_year']:,.2f} per year"
+        out.append(text + ".")
+    if len(out) > 1:
+        out.append("Characteristics judged on one sample share its units: the part's cost per "
+                   "lot is the largest of these, not their sum.")
+    return out
+
+
 def _cautions(req) -> list:
     cautions = [CAUTION]
     if any(c.klass == "critical" for c in req.characteristics):
@@ -432,8 +555,8 @@ def build_content(pp, *, picks=None, today: _dt.date | None = None,
     verdict = _verdict(pp)
     sub = f"{'Designed plan' if pp.designed else 'Audit of a fixed plan'} ({Path(req.path).name}): {verdict}"
     plan_rows, risk_rows, guar, pois = [], [], [], []
-    for rep in pp.reports:
-        plan_rows.append(_plan_row(rep, per_unit))
+    for rep, plan in zip(pp.reports, pp.plans):
+        plan_rows.append(_plan_row(rep, plan, per_unit))
         risk_rows += _risk_rows(rep)
         guar += _guarantees(rep, per_unit)
         if "poisson_verdict" in rep:
@@ -445,17 +568,47 @@ def build_content(pp, *, picks=None, today: _dt.date | None = None,
         for f in getattr(pp, "failed", []):
             plan_rows.append(_failed_row(f, per_unit))
             guar.append(f"{f['characteristic']['id']}: NO PLAN meets its targets: {f['reason']}.")
+    banner, reasons = _banner(pp)
+    procedures, records, order = [], [], ()
+    if not banner:  # a plan that falls short gets no instruction
+        from lotwise.documents.sheets.bench import (Source, inspection_order, procedure,
+                                                    record_block)
+
+        order = inspection_order(picks) if picks is not None else ()
+        source = Source(ordered=len(order))
+        for rep, plan in zip(pp.reports, pp.plans):
+            proc = procedure(rep, plan, req.scope, source)
+            if rep["characteristic"]["class"] == "critical":
+                from dataclasses import replace
+
+                proc = replace(proc, notes=(
+                    f"{proc.cid} is a CRITICAL characteristic: sampling cannot make it safe. "
+                    "This plan is a check on top of 100 % inspection, error-proofing or the "
+                    "stricter plan a contract or regulation requires (see the cautions on "
+                    "the sheet).",) + proc.notes)
+            procedures.append(proc)
+            records.append(record_block(proc, plan, req.scope, source))
+        if not any("inspection order" in " ".join(p.steps) for p in procedures):
+            order = ()  # every procedure takes the whole pick list: no order needed
     footer = (f"Prepared {today.isoformat()} with lotwise {__version__}; input fingerprint "
               f"{req.fingerprint()} (SHA-256 of the plan file's parsed content). Re-create with: "
               f"lotwise sheet {req.path}")
     return SheetContent(title=title, subtitle=sub, scope=_scope_rows(req),
-                        plan_line=_plan_line(pp), plan_rows=plan_rows, risk_rows=risk_rows,
+                        plan_line=_plan_line(pp, bool(order)) if not banner or pp.n is None
+                        else _audit_line(pp), plan_rows=plan_rows, risk_rows=risk_rows,
                         guarantees=guar, poisson=pois, model_note=_model_note(pp),
-                        selection=_selection(pp, picks),
+                        selection=(_selection(pp, picks) if not banner else
+                                   "For the record of this audit only (no lot is to be drawn "
+                                   "for inspection under this plan): " + _selection(pp, picks)),
                         rejected=req.rejected_lot or DEFAULT_REJECTED, cautions=_cautions(req),
                         rationale=req.rationale, footer=footer, verdict=verdict,
                         picks=list(picks.units) if picks is not None else [],
-                        alternatives=alternatives_text)
+                        alternatives=alternatives_text, banner=banner, reasons=reasons,
+                        procedures=procedures, records=records,
+                        record_head=_record_head(pp, picks) if procedures else [],
+                        record_csv=f"{req.stem}-record.csv" if procedures else "",
+                        approvals=_approvals(req), cost=_cost_sentences(pp),
+                        order=list(order))
 
 
 def oc_rows(pp, points: int = 41):
