@@ -368,12 +368,12 @@ def _plan_line(pp, ordered: bool = False) -> str:
     if pp.n is None:
         return "No plan meets these targets: " + pp.problem
     if pp.full:
-        return _sampled_line(pp) + (f" {every}: every item of the lot is inspected (100 % "
+        return _sampled_line(pp, ordered) + (f" {every}: every item of the lot is inspected (100 % "
                                     "inspection), not sampled.")
-    return _sampled_line(pp)
+    return _sampled_line(pp, ordered)
 
 
-def _sampled_line(pp) -> str:
+def _sampled_line(pp, ordered: bool = False) -> str:
     """The plan sentence of the sampled characteristics."""
     scope = pp.request.scope
     plan_line = (f"Inspect n = {pp.n} units drawn at random from each lot"
