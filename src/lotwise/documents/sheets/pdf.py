@@ -29,6 +29,9 @@ MARGIN = 0.55
 
 
 class _Page:
+    """The cursor over one page; with ``fig`` None it only measures (the cursor
+    moves by the same arithmetic, nothing is drawn)."""
+
     def __init__(self, fig, scale: float):
         self.fig = fig
         self.s = scale
@@ -51,8 +54,9 @@ class _Page:
         y = self.y
         for ln in lines:
             y -= self.line_h(size)
-            self.fig.text(*self._xy(x, y), ln, fontsize=size_eff, weight=weight, color=color,
-                          va="bottom", ha="left", style=style)
+            if self.fig is not None:
+                self.fig.text(*self._xy(x, y), ln, fontsize=size_eff, weight=weight,
+                              color=color, va="bottom", ha="left", style=style)
         if advance:
             self.y = y
         return y
@@ -61,7 +65,8 @@ class _Page:
         self.y -= 0.06 * self.s
         self.text(s, size=8.6, weight="bold")
         y = self.y - 0.025
-        self.fig.add_artist(_hline(self.fig, MARGIN, PAGE_W - MARGIN, y))
+        if self.fig is not None:
+            self.fig.add_artist(_hline(self.fig, MARGIN, PAGE_W - MARGIN, y))
         self.y = y - 0.02
 
     def table(self, header, rows, widths, size=7.0):
@@ -70,6 +75,11 @@ class _Page:
             xs.append(xs[-1] + w * self.s)
         h = self.line_h(size)
         self.y -= h
+        if self.fig is None:  # measuring: the same steps, nothing drawn
+            for _ in rows:
+                self.y -= h
+            self.y -= 0.04
+            return
         for x, v in zip(xs, header):
             self.fig.text(*self._xy(x, self.y), v, fontsize=size * self.s, weight="bold",
                           va="bottom")
@@ -88,10 +98,12 @@ def _hline(fig, x0, x1, y):
 
 
 def _layout(content, pp, scale: float, figures: bool = True):
+    """Lay the page out at ``scale``: ``(figure, cursor at the end)``. With
+    ``figures`` False nothing is drawn (the figure is None): the cursor depends
+    on the text and the scale only, so a trial layout is arithmetic."""
     from lotwise.documents.plots.style import mpl
 
-    plt = mpl()
-    fig = plt.figure(figsize=(PAGE_W, PAGE_H))
+    fig = mpl().figure(figsize=(PAGE_W, PAGE_H)) if figures else None
     pg = _Page(fig, scale)
     c = content
     pg.text(c.title, size=13.5, weight="bold")
@@ -122,25 +134,17 @@ def _layout(content, pp, scale: float, figures: bool = True):
         top = pg.y - 0.05
         rect = "aoql" in pp.reports[0]
         plot_w = 4.1 if rect else 4.05
-        ax = fig.add_axes([MARGIN / PAGE_W + 0.045, (top - plot_h) / PAGE_H + 0.028,
-                           plot_w / PAGE_W, (plot_h - 0.35) / PAGE_H])
         if figures:  # a trial layout only measures the text
+            ax = fig.add_axes([MARGIN / PAGE_W + 0.045, (top - plot_h) / PAGE_H + 0.028,
+                               plot_w / PAGE_W, (plot_h - 0.35) / PAGE_H])
             oc_plot(pp, ax=ax)
         if rect:
-            ax2 = fig.add_axes([(MARGIN + plot_w + 0.75) / PAGE_W, (top - plot_h) / PAGE_H
-                                + 0.028, (PAGE_W - 2 * MARGIN - plot_w - 0.8) / PAGE_W,
-                                (plot_h - 0.5) / PAGE_H])
             if figures:
+                ax2 = fig.add_axes([(MARGIN + plot_w + 0.75) / PAGE_W, (top - plot_h) / PAGE_H
+                                    + 0.028, (PAGE_W - 2 * MARGIN - plot_w - 0.8) / PAGE_W,
+                                    (plot_h - 0.5) / PAGE_H])
                 aoq_plot(pp, ax=ax2)
-            for t in (ax2.title, ax2._left_title):
-                t.set_fontsize(7.5)
-            ax2.xaxis.label.set_fontsize(7)
-            ax2.yaxis.label.set_fontsize(7)
-            ax2.tick_params(labelsize=6.5)
-            leg = ax2.get_legend()
-            if leg is not None:
-                for t in leg.get_texts():
-                    t.set_fontsize(6)
+                _small_axes(ax2)
             pg.y = top - plot_h - 0.05
             for g in c.guarantees:
                 pg.text(g, size=6.8)
@@ -171,6 +175,19 @@ def _layout(content, pp, scale: float, figures: bool = True):
     return fig, pg.y
 
 
+def _small_axes(ax):
+    """The type sizes of the small AOQ figure beside the OC curve."""
+    for t in (ax.title, ax._left_title):
+        t.set_fontsize(7.5)
+    ax.xaxis.label.set_fontsize(7)
+    ax.yaxis.label.set_fontsize(7)
+    ax.tick_params(labelsize=6.5)
+    leg = ax.get_legend()
+    if leg is not None:
+        for t in leg.get_texts():
+            t.set_fontsize(6)
+
+
 def render(content, pp) -> bytes:
     """PDF bytes of exactly one page."""
     from lotwise.documents.plots.style import mpl
@@ -192,11 +209,14 @@ def render(content, pp) -> bytes:
 def _render(content, pp, plt) -> bytes:
     import matplotlib
 
+    from lotwise.documents.plots.style import defer_font_subsetting
+
+    defer_font_subsetting()  # the core fonts embed nothing
+
     with matplotlib.rc_context(CORE_FONTS):
         for scale in (1.0, 0.93, 0.86, 0.8, 0.74, 0.68):
             # the cursor does not depend on the figures: draw them once, at the end
-            fig, bottom = _layout(content, pp, scale, figures=False)
-            plt.close(fig)
+            _, bottom = _layout(content, pp, scale, figures=False)
             if bottom >= MARGIN * 0.6:
                 break
         fig, _ = _layout(content, pp, scale)
