@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import json
 import math
 import sys
 
@@ -56,8 +55,10 @@ def _clean(obj):
 def emit_json(obj: dict) -> None:
     """Print ``obj`` as indented JSON, written in pieces (a batch of a million
     rows may list a hundred thousand errors: the text is never held whole)."""
+    from lotwise.analysis.outputs import json_pieces
+
     pieces: list = []
-    for piece in json.JSONEncoder(indent=2).iterencode(_clean(obj)):
+    for piece in json_pieces(_clean(obj)):
         pieces.append(piece)
         if len(pieces) >= 4096:
             sys.stdout.write("".join(pieces))

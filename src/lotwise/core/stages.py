@@ -299,6 +299,11 @@ def unit_walk(acc, rej, model, x, N=None, *, lot_size=None, eps: float = WALK_EP
                       left_in_accepted=walk.out[3] if walk.lot is not None else None)
 
 
+#: ``ndarray.sum`` without its Python wrapper (the same reduction: numpy's
+#: ``sum`` method calls ``np.add.reduce``); the walk sums a few rows per unit.
+_add_rows = np.add.reduce
+
+
 class _Walk:
     """State of :func:`unit_walk`: ``S[d]`` (one row per count, one column per
     quality level still walked) is the probability that the lot is undecided
@@ -342,7 +347,7 @@ class _Walk:
             if self.lo > self.hi and not self.has_over:
                 break
             if m % 16 == 0 and m < M:
-                left = self.S[self.lo:self.hi + 1].sum(axis=0) + self.over
+                left = _add_rows(self.S[self.lo:self.hi + 1], axis=0) + self.over
                 done = left <= eps
                 if done.sum() * 8 >= done.size or done.all():  # compress in batches
                     self.sums[2] += m * left * done  # counted as stopping here (see bound)
@@ -378,13 +383,15 @@ class _Walk:
                     d = np.arange(lo, hi + 1, dtype=float)[:, None]
                     q = np.clip((self.x[None, :] - d) / (self.N - (m - 1)), 0.0, 1.0)
                     keep = 1.0 - q
-                moved = S[lo:hi + 1] * q
-                S[lo:hi + 1] *= keep
+                band = S[lo:hi + 1]
+                moved = band * q
+                band *= keep
                 S[lo + 1:hi + 2] += moved
                 hi += 1
                 if hi > top:
-                    beyond = S[top + 1:hi + 1].sum(axis=0)
-                    S[top + 1:hi + 1] = 0.0
+                    gone = S[top + 1:hi + 1]
+                    beyond = _add_rows(gone, axis=0)
+                    gone[...] = 0.0
                     hi = top
         if r <= self.R:
             if beyond is not None:
@@ -404,18 +411,19 @@ class _Walk:
     def _accept(self, a: int, m: int) -> int:
         """Accept the undecided lots with counts ``lo..a`` at unit ``m``;
         returns the new lowest undecided count."""
-        lo, hi, S = self.lo, self.hi, self.S
+        lo, hi, sums = self.lo, self.hi, self.sums
         k = a if a < hi else hi
-        got = S[lo:k + 1].sum(axis=0)
-        self.sums[0] += got
-        self.sums[1] += m * got
+        taken = self.S[lo:k + 1]
+        got = _add_rows(taken, axis=0)
+        sums[0] += got
+        sums[1] += m * got
         if self.lot is not None:
             if self.model == "hypergeometric":
                 dd = np.arange(lo, k + 1, dtype=float)[:, None]
-                self.sums[3] += (S[lo:k + 1] * (self.x[None, :] - dd)).sum(axis=0)
+                sums[3] += _add_rows(taken * (self.x[None, :] - dd), axis=0)
             else:
-                self.sums[3] += got * self.x * (self.lot - m)
-        S[lo:k + 1] = 0.0
+                sums[3] += got * self.x * (self.lot - m)
+        taken[...] = 0.0
         return k + 1
 
 
@@ -425,7 +433,7 @@ def _poisson_unit(S, lo: int, hi: int, top: int, pois):
     went beyond ``top`` and the new ``hi``."""
     width = top - lo + 1
     band = S[lo:hi + 1].copy()
-    mass = band.sum(axis=0)
+    mass = _add_rows(band, axis=0)
     S[lo:hi + 1] = 0.0
     if width <= 0:
         return mass, lo - 1
@@ -433,4 +441,4 @@ def _poisson_unit(S, lo: int, hi: int, top: int, pois):
     for u in range(min(band.shape[0], width)):
         new[u:] += band[u:u + 1] * pois[:width - u]
     S[lo:top + 1] = new
-    return np.maximum(mass - new.sum(axis=0), 0.0), top
+    return np.maximum(mass - _add_rows(new, axis=0), 0.0), top

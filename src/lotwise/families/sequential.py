@@ -92,8 +92,8 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from lotwise.core.search import check_lot, check_targets
-from lotwise.core.stages import (NO_REJECTION, WALK_EPS, finish_shape, level_to_x,
-                                  unit_walk, walk_band)
+from lotwise.core.stages import (NO_REJECTION, WALK_EPS, WalkResult, finish_shape,
+                                  level_to_x, unit_walk, walk_band)
 from lotwise.core.types import Scope, Targets, lot_targets
 from lotwise.families.base import Decision, Family, Option, OptionKind, Plan, check_record
 from lotwise.core import kernels as oc
@@ -393,10 +393,17 @@ class SequentialPlan(Plan):
         return acc, rej
 
     def _walk(self, p, model, scope, rounding, curtailed=False):
-        x = level_to_x(p, model, scope, rounding, self.truncate)
+        """The walk at ``p`` (the same walk is not done twice in a row: a report
+        asks for ``Pa`` and the ASN at the same levels, and one walk gives both;
+        see :data:`_WALKS`)."""
+        x = np.atleast_1d(level_to_x(p, model, scope, rounding, self.truncate))
         early = model != "poisson" and not scope.per_unit
-        acc, rej = self._bounds(curtailed, early)
-        return unit_walk(acc, rej, model, np.atleast_1d(x), scope.lot_size)
+        key = (self, curtailed, early, model, scope.lot_size, x.dtype.str, x.shape, x.tobytes())
+        res = _WALKS.get(key)
+        if res is None:
+            acc, rej = self._bounds(curtailed, early)
+            res = _keep(_WALKS, key, unit_walk(acc, rej, model, x, scope.lot_size))
+        return res
 
     def pa(self, p, model: str, scope: Scope, rounding: str = "nearest"):
         """Exact acceptance probability of the truncated plan (exactly 0 for a
@@ -407,8 +414,12 @@ class SequentialPlan(Plan):
         if model in ("binomial", "poisson") and self.truncate > BLOCKED_FROM \
                 and self.widest_band() <= BLOCKED_BAND:
             # Long plans: block by block (equal to the walk within 1e-12).
-            x = level_to_x(p, model, scope, rounding, self.truncate)
-            return finish_shape(pa_blocked(self, np.ravel(x), model), np.shape(p))
+            x = np.ravel(level_to_x(p, model, scope, rounding, self.truncate))
+            key = (self, model, x.dtype.str, x.tobytes())
+            pa = _BLOCKED.get(key)
+            if pa is None:
+                pa = _keep(_BLOCKED, key, pa_blocked(self, x, model))
+            return finish_shape(pa, np.shape(p))
         return finish_shape(self._walk(p, model, scope, rounding).pa, np.shape(p))
 
     def pa_count(self, d, scope: Scope):
@@ -643,6 +654,28 @@ class SequentialDesign:
                 "truncate": self.plan.truncate, "truncate_source": self.truncate_source,
                 "single_n": self.single_n, "wald": self.wald, "exact": self.exact,
                 "numbers": self.numbers()}
+
+
+#: The last results of :meth:`SequentialPlan._walk` and of :func:`pa_blocked`, by
+#: plan and exact inputs (the levels' bytes): an exact walk is the costly part of
+#: a report, and the report's pieces ask for the same levels more than once
+#: (``Pa``, then the ASN; the OC table, then the curves). A result is returned
+#: as computed (its arrays read-only), so a repeat is the same number bit for bit.
+_WALKS: dict = {}
+_BLOCKED: dict = {}
+_KEPT = 16
+
+
+def _keep(store: dict, key, result):
+    """Remember ``result`` under ``key`` (the oldest of :data:`_KEPT` dropped)."""
+    for value in (result.pa, result.asn, result.accepted_units, result.left_in_accepted) \
+            if isinstance(result, WalkResult) else (result,):
+        if value is not None:
+            value.flags.writeable = False
+    if len(store) >= _KEPT:
+        store.pop(next(iter(store)))
+    store[key] = result
+    return result
 
 
 def _matpow(m, k: int):

@@ -24,6 +24,8 @@ Examples
 
 from __future__ import annotations
 
+from contextlib import contextmanager
+
 import numpy as np
 
 __all__ = ["oc_figure", "curve_figure", "new_axes", "target_point", "STYLE", "CYCLE",
@@ -184,6 +186,94 @@ class _Figures:
 def mpl():
     """The figure factory of every plot (see :class:`_Figures`)."""
     return _Figures()
+
+
+def defer_font_subsetting() -> None:
+    """Let matplotlib's PDF backend load without fontTools' subsetter.
+
+    ``matplotlib.backends.backend_pdf`` imports ``fontTools.subset`` (about
+    0.1 s) for embedding subsets of TrueType fonts; a page set in the PDF core
+    fonts embeds none. The module is registered with the standard library's
+    :class:`importlib.util.LazyLoader`: it is loaded, unchanged, the first time
+    anything uses it."""
+    import importlib.util
+    import sys
+
+    name = "fontTools.subset"
+    if name in sys.modules:
+        return
+    try:
+        spec = importlib.util.find_spec(name)
+    except ImportError:
+        return
+    if spec is None or spec.loader is None:
+        return
+    spec.loader = importlib.util.LazyLoader(spec.loader)
+    module = importlib.util.module_from_spec(spec)
+    sys.modules[name] = module
+    spec.loader.exec_module(module)
+    # ``from fontTools import subset`` then finds the attribute and does not
+    # touch the module (the import system's checks would load it).
+    setattr(sys.modules["fontTools"], "subset", module)
+
+
+@contextmanager
+def font_lookups():
+    """Within the block, each font lookup is searched once per family, style,
+    variant, weight, stretch and file rather than once per type size too.
+
+    matplotlib's font manager caches a lookup per font size and reads eleven
+    settings per call; a sheet sets text in a dozen sizes, and each new size
+    scans every installed font again. The best match never depends on the size
+    when every installed font is scalable (matplotlib scores the size only for
+    bitmap fonts), which is checked; otherwise lookups go to matplotlib as
+    they are. The font settings (``font.family``, ``font.sans-serif`` ...,
+    which an ``rc_context`` may change inside the block) are part of the key.
+    """
+    import matplotlib
+    from matplotlib import font_manager
+
+    rc = matplotlib.rcParams
+    rc_keys = [f"font.{k}" for k in ("family", "style", "variant", "weight", "stretch",
+                                     "serif", "sans-serif", "cursive", "fantasy", "monospace")]
+    mgr = font_manager.fontManager
+    if not all(f.size == "scalable" for f in (*mgr.ttflist, *mgr.afmlist)):
+        yield
+        return
+    own = {name: mgr.__dict__[name] for name in ("findfont", "_find_fonts_by_props")
+           if name in mgr.__dict__}
+    found: dict = {}
+
+    def cached(real):
+        def lookup(prop, fontext="ttf", directory=None, fallback_to_default=True,
+                   rebuild_if_missing=True):
+            if not isinstance(prop, font_manager.FontProperties):
+                return real(prop, fontext, directory, fallback_to_default, rebuild_if_missing)
+            settings = tuple(tuple(v) if isinstance(v, list) else v
+                             for v in (dict.__getitem__(rc, k) for k in rc_keys))
+            key = (real.__name__, tuple(prop.get_family()), prop.get_style(),
+                   prop.get_variant(), prop.get_weight(), prop.get_stretch(), prop.get_file(),
+                   fontext, directory, fallback_to_default, rebuild_if_missing, settings)
+            if key not in found:
+                found[key] = real(prop, fontext, directory, fallback_to_default,
+                                  rebuild_if_missing)
+            hit = found[key]
+            return list(hit) if isinstance(hit, list) else hit
+        return lookup
+
+    module_findfont = font_manager.findfont  # the module's alias, which the PDF backend calls
+    mgr.findfont = cached(mgr.findfont)
+    mgr._find_fonts_by_props = cached(mgr._find_fonts_by_props)
+    font_manager.findfont = mgr.findfont
+    try:
+        yield
+    finally:
+        font_manager.findfont = module_findfont
+        for name in ("findfont", "_find_fonts_by_props"):
+            if name in own:
+                setattr(mgr, name, own[name])
+            else:
+                delattr(mgr, name)
 
 
 def new_axes(ax=None, size=(6.4, 4.0)):

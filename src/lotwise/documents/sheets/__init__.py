@@ -36,6 +36,13 @@ def write_sheets(pp, out_dir, *, force: bool = False, today=None) -> dict:
 
     Returns ``{kind: path}``.
     """
+    from lotwise.documents.plots.style import font_lookups
+
+    with font_lookups():
+        return _write_sheets(pp, out_dir, force=force, today=today)
+
+
+def _write_sheets(pp, out_dir, *, force: bool, today) -> dict:
     from lotwise.data.files import save_figure, write_bytes, write_text
     from lotwise.documents.sheets import markdown, pdf
     from lotwise.documents.sheets.figures import oc_plot

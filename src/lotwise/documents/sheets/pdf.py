@@ -33,6 +33,9 @@ MARGIN = 0.55
 
 
 class _Page:
+    """The cursor over one page; with ``fig`` None it only measures (the cursor
+    moves by the same arithmetic, nothing is drawn)."""
+
     #: Average character width of the text, in ems, for wrapping lines.
     factor = 0.53
 
@@ -58,8 +61,9 @@ class _Page:
         y = self.y
         for ln in lines:
             y -= self.line_h(size)
-            self.fig.text(*self._xy(x, y), ln, fontsize=size_eff, weight=weight, color=color,
-                          va="bottom", ha="left", style=style)
+            if self.fig is not None:
+                self.fig.text(*self._xy(x, y), ln, fontsize=size_eff, weight=weight,
+                              color=color, va="bottom", ha="left", style=style)
         if advance:
             self.y = y
         return y
@@ -68,7 +72,8 @@ class _Page:
         self.y -= 0.06 * self.s
         self.text(s, size=8.6, weight="bold")
         y = self.y - 0.025
-        self.fig.add_artist(_hline(self.fig, MARGIN, PAGE_W - MARGIN, y))
+        if self.fig is not None:
+            self.fig.add_artist(_hline(self.fig, MARGIN, PAGE_W - MARGIN, y))
         self.y = y - 0.02
 
     def table(self, header, rows, widths, size=7.0):
@@ -77,6 +82,11 @@ class _Page:
             xs.append(xs[-1] + w * self.s)
         h = self.line_h(size)
         self.y -= h
+        if self.fig is None:  # measuring: the same steps, nothing drawn
+            for _ in rows:
+                self.y -= h
+            self.y -= 0.04
+            return
         for x, v in zip(xs, header):
             self.fig.text(*self._xy(x, self.y), v, fontsize=size * self.s, weight="bold",
                           va="bottom")
@@ -95,10 +105,12 @@ def _hline(fig, x0, x1, y):
 
 
 def _layout(content, pp, scale: float, figures: bool = True, where: str = ""):
+    """Lay the page out at ``scale``: ``(figure, cursor at the end)``. With
+    ``figures`` False nothing is drawn (the figure is None): the cursor depends
+    on the text and the scale only, so a trial layout is arithmetic."""
     from lotwise.documents.plots.style import mpl
 
-    plt = mpl()
-    fig = plt.figure(figsize=(PAGE_W, PAGE_H))
+    fig = mpl().figure(figsize=(PAGE_W, PAGE_H)) if figures else None
     pg = _Page(fig, scale)
     c = content
     if c.banner:  # first on the page: what this sheet is not, and why
@@ -134,10 +146,10 @@ def _layout(content, pp, scale: float, figures: bool = True, where: str = ""):
         top = pg.y - 0.05
         rect = "aoql" in pp.reports[0]
         plot_w = 4.1 if rect else 4.05
-        ax = fig.add_axes([MARGIN / PAGE_W + 0.045, (top - plot_h) / PAGE_H + 0.028,
-                           plot_w / PAGE_W, (plot_h - 0.35) / PAGE_H])
         floor = (top - plot_h) / PAGE_H
         if figures:  # a trial layout only measures the text
+            ax = fig.add_axes([MARGIN / PAGE_W + 0.045, (top - plot_h) / PAGE_H + 0.028,
+                               plot_w / PAGE_W, (plot_h - 0.35) / PAGE_H])
             oc_plot(pp, ax=ax)
             ax.xaxis.label.set_fontsize(7.5)  # page sizes: room for the legend below
             ax.set_ylabel("Probability of\nacceptance Pa", fontsize=7.5)
@@ -145,17 +157,12 @@ def _layout(content, pp, scale: float, figures: bool = True, where: str = ""):
             legend_outside(ax, fontsize=6, ncol=2)
             legend_above(ax, floor)
         if rect:
-            ax2 = fig.add_axes([(MARGIN + plot_w + 0.75) / PAGE_W, (top - plot_h) / PAGE_H
-                                + 0.028, (PAGE_W - 2 * MARGIN - plot_w - 0.8) / PAGE_W,
-                                (plot_h - 0.5) / PAGE_H])
             if figures:
+                ax2 = fig.add_axes([(MARGIN + plot_w + 0.75) / PAGE_W, (top - plot_h) / PAGE_H
+                                    + 0.028, (PAGE_W - 2 * MARGIN - plot_w - 0.8) / PAGE_W,
+                                    (plot_h - 0.5) / PAGE_H])
                 aoq_plot(pp, ax=ax2)
-            for t in (ax2.title, ax2._left_title):
-                t.set_fontsize(7.5)
-            ax2.xaxis.label.set_fontsize(7)
-            ax2.yaxis.label.set_fontsize(7)
-            ax2.tick_params(labelsize=6.5)
-            if figures:
+                _small_axes(ax2)
                 legend_outside(ax2, fontsize=6, ncol=1)
                 legend_above(ax2, floor)
             pg.y = top - plot_h - 0.05
@@ -227,6 +234,8 @@ def _frame(pg, top: float, width: float):
     """A frame across the page from ``top`` down to the cursor."""
     from matplotlib.patches import Rectangle
 
+    if pg.fig is None:  # measuring only
+        return
     pg.fig.add_artist(Rectangle((MARGIN / PAGE_W, pg.y / PAGE_H),
                                 (PAGE_W - 2 * MARGIN) / PAGE_W, (top - pg.y) / PAGE_H,
                                 transform=pg.fig.transFigure, fill=False, linewidth=width,
@@ -242,6 +251,8 @@ def _approvals(pg, c, size=7.2):
     y = pg.y - pg.line_h(size)
     y2 = y - pg.line_h(size) - 0.1  # the name given, or a line to sign on
     for j, (label, value) in enumerate(c.approvals):
+        if pg.fig is None:  # measuring only: the cursor moves the same
+            break
         x = MARGIN + j * width
         pg.fig.text(*pg._xy(x, y), f"{label}:", fontsize=size * pg.s, weight="bold",
                     va="bottom")
@@ -251,6 +262,19 @@ def _approvals(pg, c, size=7.2):
                         fontsize=size * pg.s, va="bottom")
         pg.fig.add_artist(_hline(pg.fig, x, x + width - 0.15, y2 - 0.03))
     pg.y = y2 - 0.06
+
+
+def _small_axes(ax):
+    """The type sizes of the small AOQ figure beside the OC curve."""
+    for t in (ax.title, ax._left_title):
+        t.set_fontsize(7.5)
+    ax.xaxis.label.set_fontsize(7)
+    ax.yaxis.label.set_fontsize(7)
+    ax.tick_params(labelsize=6.5)
+    leg = ax.get_legend()
+    if leg is not None:
+        for t in leg.get_texts():
+            t.set_fontsize(6)
 
 
 def render(content, pp) -> bytes:
@@ -458,6 +482,10 @@ def _record_pages(plt, c):
 def _render(content, pp, plt) -> bytes:
     import matplotlib
 
+    from lotwise.documents.plots.style import defer_font_subsetting
+
+    defer_font_subsetting()  # the core fonts embed nothing
+
     with matplotlib.rc_context(CORE_FONTS):
         flows = []
         if content.procedures:  # a plan for the bench: its record form and procedure
@@ -473,8 +501,7 @@ def _render(content, pp, plt) -> bytes:
                      + (f"-{last}" if last > proc else "") + ".")
         for scale in (1.0, 0.93, 0.86, 0.8, 0.74, 0.68):
             # the cursor does not depend on the figures: draw them once, at the end
-            fig, bottom = _layout(content, pp, scale, figures=False, where=where)
-            plt.close(fig)
+            _, bottom = _layout(content, pp, scale, figures=False, where=where)
             if bottom >= MARGIN * 0.6:
                 break
         fig, _ = _layout(content, pp, scale, where=where)
