@@ -154,11 +154,62 @@ FILE_COMMANDS = {
 }
 
 
+# Well-formed values only: a third of the invocations start from a command's required
+# options with these, so the generated runs reach the computations (designs, walks,
+# sheets) and not only the input checks.
+FRAC_LOW = pool(["0.1%", "0.5%", "1%", "0,65%", "250ppm", "2%"])
+FRAC_HIGH = pool(["1.01%", "1.5%", "3%", "6%", "8%", "10%", "15%", "2,5%"])
+FRAC_OK = pool(["0.1%", "0.5%", "1%", "0,65%", "250ppm", "2%", "6%", "8%", "10%"])
+RSK_OK = pool(["5%", "10%", "0.05", "1%", "20%"])
+CNT_OK = pool(["1", "2", "3", "13", "50", "80", "125", "500", "1,000", "1_000", "20000",
+               "1000000"])
+PLAN_OK = pool([p for p in PLANS[:22] if "1.0001" not in p])
+GOOD = {id(FRAC): FRAC_OK, id(RSK): RSK_OK, id(CNT): CNT_OK, id(PLAN): PLAN_OK}
+REQUIRED = {
+    "design": [("--aql", FRAC_LOW), ("--rql", FRAC_HIGH)],
+    "check": [("--plan", PLAN_OK), ("--aql", FRAC_LOW), ("--rql", FRAC_HIGH)],
+    "oc": [("--plan", PLAN_OK)],
+    "compare": [("--plan", PLAN_OK), ("--plan", PLAN_OK), ("--aql", FRAC_LOW),
+                ("--rql", FRAC_HIGH)],
+    "zero": [("--rql", FRAC_HIGH)],
+    "demonstrate": [("--reliability", pool(["99%", "95%", "99.9%"])),
+                    ("--confidence", pool(["90%", "95%"]))],
+    "next": [("--plan", PLAN_OK), ("--inspected", pool(["0", "1", "5", "20", "50"])),
+             ("--found", pool(["0", "1", "2", "4"]))],
+    "draw": [("--lot-size", pool(["100", "5000", "1000000"])),
+             ("--n", pool(["1", "13", "80"]))],
+    "judge": [("--plan", pool(PLANS[16:19]))],
+    "tradeoff": [("--aql", pool(["1%", "0.65%,1%", "0.5%"])),
+                 ("--rql", pool(["6%", "2%..8%:2%", "5%,10%"]))],
+}
+
+
+@st.composite
+def well_formed(draw, cmd):
+    """A command's required options with well-formed values, and up to three
+    more of its options with well-formed values where the option has them."""
+    args = [cmd]
+    for opt, strat in REQUIRED[cmd]:
+        args += [opt, draw(strat)]
+    options = COMMANDS[cmd]
+    more = draw(st.lists(st.sampled_from(sorted(set(options) - {o for o, _ in REQUIRED[cmd]})),
+                         max_size=3, unique=True))
+    for opt in more:
+        strat = options[opt]
+        args.append(opt)
+        if strat is not None:
+            args.append(draw(GOOD.get(id(strat), strat)))
+    return args + (["--json"] if draw(st.booleans()) else [])
+
+
 @st.composite
 def invocation(draw):
-    """One argument list: a command, some of its options, maybe --json."""
+    """One argument list: a command, some of its options, maybe --json (a third
+    of them built from the command's required options, :func:`well_formed`)."""
     names = sorted(COMMANDS) + sorted(FILE_COMMANDS)
     cmd = draw(st.sampled_from(names))
+    if cmd in REQUIRED and draw(st.integers(0, 2)) == 0:
+        return draw(well_formed(cmd))
     args = [cmd]
     if cmd in FILE_COMMANDS:
         args.append(FILES[draw(st.sampled_from(FILE_COMMANDS[cmd]))])
@@ -248,9 +299,25 @@ def run_one(args, workdir: Path):
     return code, out.getvalue(), err.getvalue(), [str(w.message) for w in caught], elapsed
 
 
+#: What the run went through, written to $LOTWISE_FUZZ_LOG (if set) after each
+#: invocation: the figures the long profile's record in DEVELOPERS.md quotes.
+TALLY = {"invocations": 0, "exit_codes": {}, "slowest_s": 0.0, "slowest": ""}
+
+
+def _tally(args, code, elapsed):
+    TALLY["invocations"] += 1
+    TALLY["exit_codes"][str(code)] = TALLY["exit_codes"].get(str(code), 0) + 1
+    if elapsed > TALLY["slowest_s"]:
+        TALLY["slowest_s"], TALLY["slowest"] = round(elapsed, 2), " ".join(args)[:300]
+    log = os.environ.get("LOTWISE_FUZZ_LOG")
+    if log:
+        Path(log).write_text(json.dumps(TALLY, indent=1))
+
+
 def check_invocation(args, workdir: Path):
     try:
         code, out, err, warned, elapsed = run_one(args, workdir)
+        _tally(args, code, elapsed)
     except Overrun:
         pytest.fail(f"lotwise {' '.join(args)}: no answer in {LIMIT} s")
     shown = "lotwise " + " ".join(repr(a) if " " in a or not a else a for a in args)

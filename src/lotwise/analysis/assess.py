@@ -309,6 +309,7 @@ def assess(plan: Plan, targets: Targets, scope: Scope | None = None, model: str 
     """
     scope = scope or Scope()
     plan = plan.for_scope(scope)
+    plan.check_cost()  # a report beyond its budget is refused before any work
     fam = family_of(plan)
     model = plan.judging_model(scope, model)
     formula = parse_choice(AoqFormula, aoq_formula or "screened", "--aoq-formula").value

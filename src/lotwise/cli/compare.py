@@ -41,6 +41,7 @@ def compare(
                          "compare, not to --designed or plan files (a plan file states its "
                          "rates in its [inspection] table)")
     entries = []  # (label, plan, targets, scope, model)
+    notes = []  # designed plans left out, and why
     for pp in sheets.resolve_files(files or []):
         for rep, p in zip(pp.reports, pp.plans):
             entries.append((f"{pp.request.part_id}/{rep['characteristic']['id']}", p,
@@ -58,6 +59,8 @@ def compare(
                 if row.plan is not None:
                     entries.append((f"designed {row.scheme}: {row.label}", row.plan,
                                     Targets(aql=a, rql=r, alpha=al, beta=be), scope, mdl))
+                else:
+                    notes.append(f"designed {row.scheme}: left out: {row.note or 'no plan'}")
         for i, text in enumerate(plan or [], 1):
             p = parse_plan(text, f"--plan #{i}")
             if scope.lot_size and p.max_sample > scope.lot_size:
@@ -70,9 +73,7 @@ def compare(
         raise InputError("compare needs at least two plans: give --plan twice or more, or plan "
                          "files")
     common.plot_path(plot, force)
-    from lotwise.analysis.compare import compare_plans
-
-    rows_ = compare_plans(entries)
+    rows_, entries = _evaluate(entries, notes)
     if plot is not None:
         from lotwise.data.files import save_figure
         from lotwise.documents.plots.style import oc_figure
@@ -83,7 +84,8 @@ def compare(
                         max_p=max(1.3 * e[2].rql for e in entries))
         save_figure(fig, plot, force=force, option="--plot")
     if as_json:
-        common.emit_json(common.add_rates({"plans": rows_}, rates) if rates else {"plans": rows_})
+        out = {"plans": rows_} | ({"notes": notes} if notes else {})
+        common.emit_json(common.add_rates(out, rates) if rates else out)
         return
     rows = []
     for r in rows_:
@@ -105,5 +107,28 @@ def compare(
     typer.echo(common.table(rows, ["plan", "model", "Pa(AQL)", "alpha", "Pa(RQL)", "beta",
                                    "Pa=1-alpha at", "Pa=0.5 at", "Pa=beta at",
                                    "ASN (AQL/RQL)", "meets"]))
+    for note in notes:
+        typer.echo(f"  {note}")
     if plot:
         typer.echo(f"  wrote {plot}")
+
+
+def _evaluate(entries, notes):
+    """``(rows, entries kept)``: one comparison row per plan; a designed plan whose
+    report is beyond its budget is left out with a note (a plan the user gave is
+    refused as usual)."""
+    from lotwise.analysis.compare import row_for
+    from lotwise.core.quantities import TooCostly
+
+    rows, kept = [], []
+    for e in entries:
+        try:
+            rows.append(row_for(*e))
+            kept.append(e)
+        except TooCostly as exc:
+            if not e[0].startswith("designed "):
+                raise
+            notes.append(f"{e[0].split(':')[0]}: left out: {exc}")
+    if len(kept) < 2:
+        raise InputError("compare needs at least two plans it can evaluate: " + "; ".join(notes))
+    return rows, kept

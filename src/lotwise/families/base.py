@@ -301,6 +301,12 @@ class Plan(ABC):
             return float(self.max_sample), 0.0
         return search.maximise_over_levels(self.asn, self, model, scope)
 
+    def check_cost(self) -> None:
+        """Refuse (:class:`~lotwise.core.quantities.TooCostly`), before any work,
+        a plan whose full report would exceed the documented budget; the
+        default does nothing (a family whose evaluation grows with its inputs
+        overrides it)."""
+
     def quality_at(self, prob: float, model: str, scope: Scope, side: str = "producer") -> float:
         """Quality level where ``Pa`` equals ``prob``.
 

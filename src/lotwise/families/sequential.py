@@ -326,6 +326,55 @@ class SequentialPlan(Plan):
         return int(walk_band(np.concatenate([[-1], a]),
                              np.concatenate([[NO_REJECTION], r])).max(initial=0))
 
+    def walk_seconds(self, levels: int = 127) -> float:
+        """Estimated seconds of one exact walk of this plan over ``levels``
+        quality levels on one core.
+
+        A walk costs about 5 microseconds per unit plus 2 nanoseconds per
+        undecided count and level (measured on the project machine, binomial
+        walks of 127 levels, 2026-12-03). It runs to the truncation point or
+        until the undecided probability is below :data:`WALK_EPS` at every
+        level, whichever comes first; the slowest level is the one where the
+        walk has no drift (near the slope ``s``), where the count moves like a
+        random walk of variance ``s(1 - s)`` per unit between lines ``h1 + h2``
+        apart, so the undecided probability falls like
+        ``exp(-pi^2 s (1 - s) m / (2 (h1 + h2)^2))`` and the walk takes about
+        ``2 (h1 + h2)^2 ln(1/eps) / (pi^2 s (1 - s))`` units (taken 1.5 times
+        over: the lines are further apart than ``h1 + h2`` by the rounding of
+        the numbers).
+        """
+        width = self.h1 + self.h2
+        var = self.s * (1.0 - min(self.s, 0.5)) if self.s > 0 else 1e-12
+        drift_free = 1.5 * 2.0 * width * width * math.log(1.0 / WALK_EPS) / (math.pi ** 2 * var)
+        units = min(float(self.truncate), drift_free + width / max(self.s, 1e-12))
+        band = min(width + 2.0, float(self.truncate))
+        return units * (5e-6 + 2e-9 * band * max(int(levels), 1))
+
+    def check_report_cost(self, what: str = "this sequential plan") -> None:
+        """Refuse, before any work, a plan whose report (OC and ASN curves, the
+        plan's own quality levels: about :data:`REPORT_WALKS` walks of 127
+        levels) would take more than :data:`REPORT_SECONDS` (see
+        :meth:`walk_seconds`)."""
+        from lotwise.core.quantities import TooCostly
+
+        need = REPORT_WALKS * self.walk_seconds(127)
+        if need > REPORT_SECONDS:
+            raise TooCostly(
+                f"{what} (truncated at {self.truncate:,} units, lines h1 + h2 = "
+                f"{self.h1 + self.h2:.3g} apart) needs about {need:.0f} s of computing for its "
+                f"exact OC, ASN and quality levels, beyond the budget of {REPORT_SECONDS:.0f} s; "
+                "truncate it sooner (--truncate), widen the gap between AQL and RQL, or use a "
+                "single or double plan for targets this close")
+
+    def check_cost(self) -> None:
+        self.check_report_cost()
+
+    def quality_at(self, prob: float, model: str, scope: Scope, side: str = "producer") -> float:
+        """Quality level where ``Pa`` equals ``prob`` (refused first when the
+        plan's report would exceed its budget, :meth:`check_report_cost`)."""
+        self.check_report_cost()
+        return super().quality_at(prob, model, scope, side)
+
     def numbers(self):
         """``(n, acceptance, rejection)`` arrays for ``n = 1 .. truncate``."""
         n0 = self.truncate
@@ -690,6 +739,14 @@ def _matpow(m, k: int):
     return out
 
 
+#: Walks a sequential plan's report takes (the OC and ASN curves, the plan's own
+#: quality levels by inversion: the work of about 120 walks of 127 levels was
+#: measured on the project machine for a report) and
+#: the seconds it may take in all before it is refused (:meth:`SequentialPlan.check_report_cost`).
+REPORT_WALKS = 120
+REPORT_SECONDS = 20.0
+
+
 #: Truncation points above which ``Pa`` under the binomial and Poisson models
 #: is computed block by block (:func:`pa_blocked`) rather than unit by unit.
 BLOCKED_FROM = 2000
@@ -904,6 +961,10 @@ def design_sequential(*, aql: float, rql: float, alpha: float = 0.05, beta: floa
     else:
         la, lr = aql, rql
     n0 = int(truncate)
+    # The design ends in the plan's report: refuse before the search when that
+    # report is beyond its budget (Wald's lines at the first truncation point).
+    SequentialPlan(h1=h1w, h2=h2w, s=s, truncate=n0).check_report_cost(
+        "the sequential plan for these targets")
     for attempt in range(5):
         h1, h2, pa_a, pa_r, met = _fit_lines(h1w, h2w, s, n0, targets, model, scope, [la, lr])
         if met or source == "given" or (lot_size is not None and n0 >= lot_size):
