@@ -215,3 +215,16 @@ def test_safety_note(tmp_path, klass, said):
     run(["sheet", f, "--out", tmp_path / "o"])
     md = (tmp_path / "o" / "s.md").read_text()
     assert ("X1: a plan guards a critical characteristic" in md) == said
+
+
+def test_no_plan_reason_names_the_files_key(tmp_path, capsys):
+    # A plan file has keys, not options: the cap is sampling.max_n (the file's own word).
+    from lotwise.cli import main
+
+    f = tmp_path / "cap.toml"
+    f.write_text('[part]\nid = "T-1"\n[lot]\nsize = 5000\n[sampling]\nmax_n = 20\n'
+                 '[[characteristic]]\nid = "A"\nclass = "Major"\naql = "0.1%"\nrql = "1%"\n')
+    for cmd in (["check", str(f)], ["sheet", str(f), "-o", str(tmp_path / "s")]):
+        assert main(cmd) == 1
+        out = capsys.readouterr().out
+        assert "(sampling.max_n)" in out and "--max-n" not in out

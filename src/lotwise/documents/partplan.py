@@ -101,6 +101,25 @@ class PartPlan:
         return self.reports[0]["model"] if self.reports else ""
 
 
+#: The designers' messages name command-line options; a plan file has keys.
+_FILE_KEYS = (("--max-n", "sampling.max_n"), ("--n", "sampling.n"), ("--c", "c"),
+              ("--lot-size", "lot.size"), ("--model", "sampling.model"))
+
+
+def file_words(message: str) -> str:
+    """``message`` with the command-line options it names replaced by the plan
+    file's keys (``--max-n`` -> ``sampling.max_n``).
+
+    >>> file_words("no plan with n <= 20 (--max-n) meets both risks")
+    'no plan with n <= 20 (sampling.max_n) meets both risks'
+    """
+    import re
+
+    for option, key in _FILE_KEYS:
+        message = re.sub(rf"(?<![\w-]){re.escape(option)}(?![\w-])", key, message)
+    return message
+
+
 def _with_char(rep: dict, ch) -> dict:
     rep = dict(rep)
     rep["characteristic"] = {"id": ch.id, "description": ch.description, "class": ch.klass}
@@ -328,7 +347,7 @@ def resolve(req, *, verdict: bool = True) -> PartPlan:
     failures = [{"characteristic": {"id": ch.id, "description": ch.description,
                                     "class": ch.klass},
                  "targets": ch.targets.as_dict(),
-                 "reason": failed[ch.id]} for ch in chars if ch.id in failed]
+                 "reason": file_words(failed[ch.id])} for ch in chars if ch.id in failed]
     problem = "; ".join(f"characteristic {f['characteristic']['id']}: {f['reason']}"
                         for f in failures)
     if len(failed) == len(chars):
