@@ -401,8 +401,8 @@ def _plan_quality(plan, targets: Targets, scope: Scope, model: str) -> dict:
         return {"plan_quality": {s: counts[s] / N for s in sides},
                 "plan_quality_counts": counts,
                 "plan_quality_pa": {s: float(plan.pa_count(counts[s], scope)) for s in sides}}
-    return {"plan_quality": {s: float(plan.quality_at(pr, model, scope, s))
-                             for s, pr in zip(sides, probs)}}
+    levels = plan.quality_levels(probs, model, scope, sides)
+    return {"plan_quality": {s: float(q) for s, q in zip(sides, levels)}}
 
 
 def _levels(targets, scope: Scope, model: str):

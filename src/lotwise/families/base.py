@@ -311,6 +311,14 @@ class Plan(ABC):
             return search.count_level(self, prob, scope, side)
         return search.invert_level(self, prob, model, scope)
 
+    def quality_levels(self, probs, model: str, scope: Scope, sides) -> list[float]:
+        """:meth:`quality_at` at several ``(prob, side)`` pairs; where a family
+        keeps the generic inversion, every bracket shares each pass's call of
+        :meth:`pa` (:func:`lotwise.core.search.invert_levels`)."""
+        if model == "hypergeometric" or type(self).quality_at is not Plan.quality_at:
+            return [float(self.quality_at(pr, model, scope, s)) for pr, s in zip(probs, sides)]
+        return search.invert_levels(self, probs, model, scope)
+
     def quality_count(self, prob: float, scope: Scope, side: str = "producer") -> int:
         """The plan's own quality level as a whole count ``D`` of a lot of
         ``scope.lot_size``: ``side='producer'`` the largest ``D`` with
