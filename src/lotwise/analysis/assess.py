@@ -346,8 +346,8 @@ def _core(plan, targets: Targets, scope: Scope, model: str) -> dict:
         d = risks_under(plan, targets, scope, m).as_dict()
         if plan.varying_sample:
             la, lr = _levels(targets, scope, m)
-            d["asn_aql"] = float(plan.asn(la, m, scope))
-            d["asn_rql"] = float(plan.asn(lr, m, scope))
+            d["asn_aql"], d["asn_rql"] = (float(v) for v in np.ravel(
+                plan.asn(np.array([la, lr]), m, scope)))
         models[m] = d
     main = models[model]
     rep = {"scheme": plan.scheme}
@@ -378,8 +378,8 @@ def _core(plan, targets: Targets, scope: Scope, model: str) -> dict:
         rep["asn_curtailed"] = None
         if plan.has_curtailment:
             la, lr = _levels(targets, scope, model)
-            rep["asn_curtailed"] = {"aql": float(plan.asn_curtailed(la, model, scope)),
-                                    "rql": float(plan.asn_curtailed(lr, model, scope))}
+            ac = np.ravel(plan.asn_curtailed(np.array([la, lr]), model, scope))
+            rep["asn_curtailed"] = {"aql": float(ac[0]), "rql": float(ac[1])}
     return rep
 
 

@@ -271,8 +271,9 @@ class Plan(ABC):
             pa_aql = float(self.pa_count(ca, scope))
             pa_rql = float(self.pa_count(cr, scope))
         else:
-            pa_aql = float(self.pa(targets.aql, model, scope))
-            pa_rql = float(self.pa(targets.rql, model, scope))
+            # One call at both levels (a plan evaluated by a walk walks once).
+            pa_aql, pa_rql = (float(v) for v in np.ravel(
+                self.pa(np.array([targets.aql, targets.rql]), model, scope)))
         alpha = 1.0 - pa_aql
         return ModelRisk(model=model, pa_aql=pa_aql, pa_rql=pa_rql, alpha=alpha, beta=pa_rql,
                          meets_alpha=bool(alpha <= targets.alpha + TOL),
