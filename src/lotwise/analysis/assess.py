@@ -62,6 +62,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from lotwise.analysis.audit import risks_under
+from lotwise.core.search import ASN_TOP_PA
 from lotwise.core.quantities import (format_level, format_pct, format_risk as _pct,
                                      format_risk_vs as pct_vs)
 from lotwise.core.types import AoqFormula, Scope, Targets, lot_counts, parse_choice, table_counts
@@ -401,7 +402,8 @@ def _plan_quality(plan, targets: Targets, scope: Scope, model: str) -> dict:
         return {"plan_quality": {s: counts[s] / N for s in sides},
                 "plan_quality_counts": counts,
                 "plan_quality_pa": {s: float(plan.pa_count(counts[s], scope)) for s in sides}}
-    levels = plan.quality_levels(probs, model, scope, sides)
+    extra = (ASN_TOP_PA,) if plan.varying_sample else ()  # max_asn's range, found alongside
+    levels = plan.quality_levels(probs + extra, model, scope, sides + ("consumer",) * len(extra))
     return {"plan_quality": {s: float(q) for s, q in zip(sides, levels)}}
 
 

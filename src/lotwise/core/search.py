@@ -38,7 +38,7 @@ from lotwise.core.quantities import Infeasible, format_level, format_pct
 from lotwise.core.types import TOL, Scope, Targets, lot_targets
 
 __all__ = ["Kernel", "n_min", "n_max", "c_min", "smallest_plan", "count_at", "count_level",
-           "invert_level", "invert_levels", "check_targets", "check_lot", "initial_upper", "last_true",
+           "invert_level", "invert_levels", "ASN_TOP_PA", "check_targets", "check_lot", "initial_upper", "last_true",
            "maximise_over_levels"]
 
 
@@ -525,6 +525,11 @@ def invert_levels(plan, probs, model: str, scope: Scope) -> list[float]:
     return [0.5 * (a + b) for a, b in zip(lo, hi)]
 
 
+#: ``Pa`` at the top of the range searched for the largest ASN
+#: (:func:`maximise_over_levels`); a report inverts it with the plan's quality levels.
+ASN_TOP_PA = 0.001
+
+
 def maximise_over_levels(func, plan, model: str, scope: Scope, points: int = 201):
     """Largest value of ``func(p, model, scope)`` (an ASN) over the OC curve of
     ``plan`` and the quality level where it occurs.
@@ -537,7 +542,7 @@ def maximise_over_levels(func, plan, model: str, scope: Scope, points: int = 201
     closed form; this generic search agrees with it to the refinement
     tolerance.
     """
-    hi = plan.quality_at(0.001, model, scope, "consumer")
+    hi = plan.quality_at(ASN_TOP_PA, model, scope, "consumer")
     if not scope.per_unit:
         hi = min(1.0, 1.2 * hi + 1e-9)
     else:
