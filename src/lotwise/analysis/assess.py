@@ -62,6 +62,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from lotwise.analysis.audit import risks_under
+from lotwise.core.search import ASN_TOP_PA
 from lotwise.core.quantities import (format_level, format_pct, format_risk as _pct,
                                      format_risk_vs as pct_vs)
 from lotwise.core.types import AoqFormula, Scope, Targets, lot_counts, parse_choice, table_counts
@@ -347,8 +348,8 @@ def _core(plan, targets: Targets, scope: Scope, model: str) -> dict:
         d = risks_under(plan, targets, scope, m).as_dict()
         if plan.varying_sample:
             la, lr = _levels(targets, scope, m)
-            d["asn_aql"] = float(plan.asn(la, m, scope))
-            d["asn_rql"] = float(plan.asn(lr, m, scope))
+            d["asn_aql"], d["asn_rql"] = (float(v) for v in np.ravel(
+                plan.asn(np.array([la, lr]), m, scope)))
         models[m] = d
     main = models[model]
     rep = {"scheme": plan.scheme}
@@ -379,8 +380,8 @@ def _core(plan, targets: Targets, scope: Scope, model: str) -> dict:
         rep["asn_curtailed"] = None
         if plan.has_curtailment:
             la, lr = _levels(targets, scope, model)
-            rep["asn_curtailed"] = {"aql": float(plan.asn_curtailed(la, model, scope)),
-                                    "rql": float(plan.asn_curtailed(lr, model, scope))}
+            ac = np.ravel(plan.asn_curtailed(np.array([la, lr]), model, scope))
+            rep["asn_curtailed"] = {"aql": float(ac[0]), "rql": float(ac[1])}
     return rep
 
 
@@ -402,8 +403,9 @@ def _plan_quality(plan, targets: Targets, scope: Scope, model: str) -> dict:
         return {"plan_quality": {s: counts[s] / N for s in sides},
                 "plan_quality_counts": counts,
                 "plan_quality_pa": {s: float(plan.pa_count(counts[s], scope)) for s in sides}}
-    return {"plan_quality": {s: float(plan.quality_at(pr, model, scope, s))
-                             for s, pr in zip(sides, probs)}}
+    extra = (ASN_TOP_PA,) if plan.varying_sample else ()  # max_asn's range, found alongside
+    levels = plan.quality_levels(probs + extra, model, scope, sides + ("consumer",) * len(extra))
+    return {"plan_quality": {s: float(q) for s, q in zip(sides, levels)}}
 
 
 def _levels(targets, scope: Scope, model: str):

@@ -38,7 +38,7 @@ from lotwise.core.quantities import Infeasible, format_level, format_pct
 from lotwise.core.types import TOL, Scope, Targets, lot_targets
 
 __all__ = ["Kernel", "n_min", "n_max", "c_min", "smallest_plan", "count_at", "count_level",
-           "invert_level", "check_targets", "check_lot", "initial_upper", "last_true",
+           "invert_level", "invert_levels", "ASN_TOP_PA", "check_targets", "check_lot", "initial_upper", "last_true",
            "maximise_over_levels"]
 
 
@@ -488,20 +488,46 @@ def invert_level(plan, prob: float, model: str, scope: Scope) -> float:
     for plan types without a closed-form inverse: ``Pa`` falls in ``p``, so each
     pass evaluates 127 levels inside the bracket in one vectorised call and
     keeps the sub-interval where ``Pa`` crosses ``prob``."""
-    lo, hi = 0.0, 1.0
+    return invert_levels(plan, (prob,), model, scope)[0]
+
+
+def invert_levels(plan, probs, model: str, scope: Scope) -> list[float]:
+    """:func:`invert_level` for several probabilities at once: each pass
+    evaluates the 127 levels of every bracket still open in one call of
+    ``plan.pa`` (a plan evaluated by a walk over its units walks once per pass
+    for all of them). Each result is the one :func:`invert_level` gives alone,
+    up to the evaluation's own error (a walk stops a level at an undecided
+    probability of 1e-15, at a unit that depends on the other levels)."""
+    k = len(probs)
+    lo, hi = [0.0] * k, [1.0] * k
     if scope.per_unit:  # nonconformities per unit have no upper bound
-        while float(plan.pa(hi, model, scope)) > prob and hi < 1e6:
-            hi *= 2.0
+        for j, prob in enumerate(probs):
+            while float(plan.pa(hi[j], model, scope)) > prob and hi[j] < 1e6:
+                hi[j] *= 2.0
+    open_ = list(range(k))
     for _ in range(40):
-        xs = np.linspace(lo, hi, 129)[1:-1]
-        above = np.atleast_1d(np.asarray(plan.pa(xs, model, scope), dtype=float)) > prob
-        if above.any():
-            lo = float(xs[np.flatnonzero(above)[-1]])
-        if (~above).any():
-            hi = float(xs[np.flatnonzero(~above)[0]])
-        if hi - lo <= 1e-13 * max(hi, 1e-300):
+        if not open_:
             break
-    return 0.5 * (lo + hi)
+        grids = [np.linspace(lo[j], hi[j], 129)[1:-1] for j in open_]
+        xs, where = np.unique(np.concatenate(grids), return_inverse=True)  # first pass: one grid
+        pas = np.atleast_1d(np.asarray(plan.pa(xs, model, scope), dtype=float))
+        pas = pas[where.ravel()].reshape(len(open_), -1)
+        still = []
+        for j, xs, pa in zip(open_, grids, pas):
+            above = pa > probs[j]
+            if above.any():
+                lo[j] = float(xs[np.flatnonzero(above)[-1]])
+            if (~above).any():
+                hi[j] = float(xs[np.flatnonzero(~above)[0]])
+            if hi[j] - lo[j] > 1e-13 * max(hi[j], 1e-300):
+                still.append(j)
+        open_ = still
+    return [0.5 * (a + b) for a, b in zip(lo, hi)]
+
+
+#: ``Pa`` at the top of the range searched for the largest ASN
+#: (:func:`maximise_over_levels`); a report inverts it with the plan's quality levels.
+ASN_TOP_PA = 0.001
 
 
 def maximise_over_levels(func, plan, model: str, scope: Scope, points: int = 201):
@@ -516,7 +542,7 @@ def maximise_over_levels(func, plan, model: str, scope: Scope, points: int = 201
     closed form; this generic search agrees with it to the refinement
     tolerance.
     """
-    hi = plan.quality_at(0.001, model, scope, "consumer")
+    hi = plan.quality_at(ASN_TOP_PA, model, scope, "consumer")
     if not scope.per_unit:
         hi = min(1.0, 1.2 * hi + 1e-9)
     else:

@@ -162,6 +162,12 @@ class ModelRisk:
 
 # --- the plan interface -----------------------------------------------------
 
+#: The last generic inversions, by (plan, Pa, model, scope): a report asks for
+#: the same level more than once (the top of the largest-ASN search, the Poisson
+#: comparison) and asks for it with its quality levels (:meth:`Plan.quality_levels`).
+_INVERTED: dict = {}
+
+
 class Plan(ABC):
     """A sampling plan: what every report, sheet, comparison and command uses.
 
@@ -271,8 +277,9 @@ class Plan(ABC):
             pa_aql = float(self.pa_count(ca, scope))
             pa_rql = float(self.pa_count(cr, scope))
         else:
-            pa_aql = float(self.pa(targets.aql, model, scope))
-            pa_rql = float(self.pa(targets.rql, model, scope))
+            # One call at both levels (a plan evaluated by a walk walks once).
+            pa_aql, pa_rql = (float(v) for v in np.ravel(
+                self.pa(np.array([targets.aql, targets.rql]), model, scope)))
         alpha = 1.0 - pa_aql
         return ModelRisk(model=model, pa_aql=pa_aql, pa_rql=pa_rql, alpha=alpha, beta=pa_rql,
                          meets_alpha=bool(alpha <= targets.alpha + TOL),
@@ -315,7 +322,28 @@ class Plan(ABC):
         """
         if model == "hypergeometric":
             return search.count_level(self, prob, scope, side)
-        return search.invert_level(self, prob, model, scope)
+        return self.quality_levels((prob,), model, scope, (side,))[0]
+
+    def quality_levels(self, probs, model: str, scope: Scope, sides) -> list[float]:
+        """:meth:`quality_at` at several ``(prob, side)`` pairs; where a family
+        keeps the generic inversion, every bracket shares each pass's call of
+        :meth:`pa` (:func:`lotwise.core.search.invert_levels`)."""
+        if model == "hypergeometric" or type(self).quality_at is not Plan.quality_at:
+            return [float(self.quality_at(pr, model, scope, s)) for pr, s in zip(probs, sides)]
+        keys = [(self, float(pr), model, scope) for pr in probs]
+        try:
+            known = [_INVERTED.get(k) for k in keys]
+        except TypeError:  # a plan that cannot be hashed is not remembered
+            return search.invert_levels(self, probs, model, scope)
+        todo = [i for i, q in enumerate(known) if q is None]
+        if todo:
+            found = search.invert_levels(self, [probs[i] for i in todo], model, scope)
+            for i, q in zip(todo, found):
+                known[i] = q
+                if len(_INVERTED) >= 32:
+                    _INVERTED.pop(next(iter(_INVERTED)))
+                _INVERTED[keys[i]] = q
+        return known
 
     def quality_count(self, prob: float, scope: Scope, side: str = "producer") -> int:
         """The plan's own quality level as a whole count ``D`` of a lot of
