@@ -369,11 +369,11 @@ class SequentialPlan(Plan):
     def check_cost(self) -> None:
         self.check_report_cost()
 
-    def quality_at(self, prob: float, model: str, scope: Scope, side: str = "producer") -> float:
-        """Quality level where ``Pa`` equals ``prob`` (refused first when the
-        plan's report would exceed its budget, :meth:`check_report_cost`)."""
+    def quality_levels(self, probs, model: str, scope: Scope, sides) -> list[float]:
+        """The plan's quality levels (refused first when the plan's report would
+        exceed its budget, :meth:`check_report_cost`)."""
         self.check_report_cost()
-        return super().quality_at(prob, model, scope, side)
+        return super().quality_levels(probs, model, scope, sides)
 
     def numbers(self):
         """``(n, acceptance, rejection)`` arrays for ``n = 1 .. truncate``."""
