@@ -315,7 +315,8 @@ class _Walk:
     ``cols``; finished columns are copied to ``out``."""
 
     def __init__(self, acc, rej, model, x, N, lot):
-        self.acc, self.rej, self.model, self.N, self.lot = acc.tolist(), rej.tolist(), model, N, lot
+        # Kept as arrays (a walk that stops early reads a few of a long plan's numbers).
+        self.acc, self.rej, self.model, self.N, self.lot = acc, rej, model, N, lot
         finite = rej[1:][rej[1:] < NO_REJECTION]
         self.R = R = int(finite.max())
         # Widest band of undecided counts (a Poisson unit adds at most this much).
@@ -370,7 +371,7 @@ class _Walk:
 
     def _unit(self, m: int):
         S, lo, hi = self.S, self.lo, self.hi
-        r = self.rej[m]
+        r = int(self.rej[m])
         top = (r if r < self.R else self.R) - 1  # highest count still undecided or acceptable
         beyond = None
         if lo <= hi:
@@ -404,7 +405,7 @@ class _Walk:
             self.over = self.over + beyond
             self.has_over = True
         self.hi = hi
-        a = self.acc[m]
+        a = int(self.acc[m])
         if a >= lo and lo <= hi:
             self.lo = self._accept(a, m)
 

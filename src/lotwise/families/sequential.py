@@ -344,11 +344,18 @@ class SequentialPlan(Plan):
         the numbers).
         """
         width = self.h1 + self.h2
-        var = self.s * (1.0 - min(self.s, 0.5)) if self.s > 0 else 1e-12
-        drift_free = 1.5 * 2.0 * width * width * math.log(1.0 / WALK_EPS) / (math.pi ** 2 * var)
-        units = min(float(self.truncate), drift_free + width / max(self.s, 1e-12))
+        units = self.walk_units(1.5)
         band = min(width + 2.0, float(self.truncate))
         return units * (5e-6 + 2e-9 * band * max(int(levels), 1))
+
+    def walk_units(self, margin: float = 1.0) -> float:
+        """Units an exact walk goes through before every level is decided to
+        within :data:`WALK_EPS`: the truncation point, or ``margin`` times the
+        drift-free length of :meth:`walk_seconds`, whichever is smaller."""
+        width = self.h1 + self.h2
+        var = self.s * (1.0 - min(self.s, 0.5)) if self.s > 0 else 1e-12
+        drift_free = 2.0 * width * width * math.log(1.0 / WALK_EPS) / (math.pi ** 2 * var)
+        return min(float(self.truncate), margin * drift_free + width / max(self.s, 1e-12))
 
     def check_report_cost(self, what: str = "this sequential plan") -> None:
         """Refuse, before any work, a plan whose report (OC and ASN curves, the
@@ -460,7 +467,7 @@ class SequentialPlan(Plan):
         if self.never_accepts:
             level_to_x(p, model, scope, rounding, self.truncate)  # the usual checks
             return finish_shape(np.zeros(np.shape(p)), np.shape(p))
-        if model in ("binomial", "poisson") and self.truncate > BLOCKED_FROM \
+        if model in ("binomial", "poisson") and self.walk_units() > BLOCKED_FROM \
                 and self.widest_band() <= BLOCKED_BAND:
             # Long plans: block by block (equal to the walk within 1e-12).
             x = np.ravel(level_to_x(p, model, scope, rounding, self.truncate))
@@ -747,9 +754,11 @@ REPORT_WALKS = 120
 REPORT_SECONDS = 20.0
 
 
-#: Truncation points above which ``Pa`` under the binomial and Poisson models
-#: is computed block by block (:func:`pa_blocked`) rather than unit by unit.
-BLOCKED_FROM = 2000
+#: Walk lengths (:meth:`SequentialPlan.walk_units`: the truncation point, or
+#: sooner where every level is decided long before it) above which ``Pa`` under
+#: the binomial and Poisson models is computed block by block
+#: (:func:`pa_blocked`) rather than unit by unit.
+BLOCKED_FROM = 4000
 
 
 #: Widest band of undecided counts :func:`pa_blocked` takes (its block matrices are
