@@ -396,3 +396,14 @@ def test_designed_comparison_in_a_lot_of_a_billion_is_quick(capsys):
     out, err = capsys.readouterr()
     assert code in (0, 1), err
     assert time.perf_counter() - t0 < 60
+
+
+def test_two_limit_band_points_are_bounded(capsys):
+    # Each point of a two-limit band is a quadrature: 100,000 points ran for half a
+    # minute; the table is capped at 10,000 points (one line, exit 2).
+    from lotwise.cli import main
+
+    code = main(["oc", "--plan", "variables: n=20,k=1.6,lower=0,upper=10", "--points",
+                 "100000"])
+    err = capsys.readouterr().err
+    assert code == 2 and "--points (100000)" in err and len(err.strip().splitlines()) == 1

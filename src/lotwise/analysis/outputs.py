@@ -40,6 +40,8 @@ __all__ = ["json_safe", "json_pieces", "nice", "attribute_grid", "attribute_oc",
 
 #: Largest number of grid points of an OC table (``--points``).
 MAX_POINTS = 100_000
+#: ... and of a two-limit variables plan's band, whose every point is a quadrature.
+MAX_POINTS_BAND = 10_000
 
 
 #: Values :func:`json_safe` passes through unchanged (checked by exact type, so a
@@ -264,7 +266,10 @@ def variables_oc(plan, *, max_p=None, points="21", at=None, rql=None) -> dict:
     if at:
         ps = np.array(parse_at(at), dtype=float)
     else:
-        k = parse_count(points, "--points", minimum=2, maximum=MAX_POINTS)
+        two = plan.limit == "both" and (plan.sigma == "unknown" or plan.width is None)
+        # A two-limit band costs a quadrature per point (about 0.1 ms): fewer points.
+        k = parse_count(points, "--points", minimum=2,
+                        maximum=MAX_POINTS_BAND if two else MAX_POINTS)
         top = parse_level(max_p, "--max-p") if max_p is not None else _variables_top(plan, rql)
         ps = np.linspace(0.0, top, k)
     from lotwise.families.variables import TWO_LIMIT_EXACT
