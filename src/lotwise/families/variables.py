@@ -655,6 +655,22 @@ class VariablesPlan(Plan):
         env = "lower" if side == "producer" else "upper"
         return invert_level(_Edge(self, env), prob, model, scope)
 
+    def quality_levels(self, probs, model: str, scope, sides) -> list[float]:
+        """:meth:`quality_at` at several ``(prob, side)`` pairs, the levels on
+        one band edge sharing each pass of the inversion (a one-limit plan has
+        one edge: all of them; :func:`lotwise.core.search.invert_levels`)."""
+        from lotwise.core.search import invert_levels
+
+        band = self.limit == "both" and (self.sigma == "unknown" or self.width is None)
+        envs = [("lower" if s == "producer" else "upper") if band else "lower" for s in sides]
+        out = [0.0] * len(probs)
+        for env in sorted(set(envs)):
+            idx = [i for i, e in enumerate(envs) if e == env]
+            found = invert_levels(_Edge(self, env), [probs[i] for i in idx], model, scope)
+            for i, q in zip(idx, found):
+                out[i] = float(q)
+        return out
+
     @property
     def k_equivalent(self) -> float:
         """For the estimate method: the ``k`` whose one-limit s-method accepts
