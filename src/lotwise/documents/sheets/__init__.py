@@ -24,6 +24,7 @@ from __future__ import annotations
 from pathlib import Path
 
 from lotwise.core.numbers import csv_number
+from lotwise.documents.sheets import aside
 
 from lotwise.documents.sheets.content import (CAUTION, DEFAULT_REJECTED, SheetContent,
                                               alternatives, build_content, fmt_pa, oc_rows)
@@ -43,9 +44,7 @@ def write_sheets(pp, out_dir, *, force: bool = False, today=None) -> dict:
 
 
 def _write_sheets(pp, out_dir, *, force: bool, today) -> dict:
-    from lotwise.data.files import save_figure, write_bytes, write_text
     from lotwise.documents.sheets import markdown, pdf
-    from lotwise.documents.sheets.figures import oc_plot
 
     out = Path(out_dir)
     req = pp.request
@@ -56,8 +55,47 @@ def _write_sheets(pp, out_dir, *, force: bool, today) -> dict:
                  "markdown": markdown.render, "pdf": pdf.render}
         return write_scheme_sheet(pp, out, parts=parts, force=force, today=today)
     stem = req.stem
-    picks = None
     paths = {}
+    # the PNG figures drawn in a second process while the page is laid out (see aside);
+    # what both draw with is imported first, so it is imported once
+    import matplotlib.backends.backend_agg  # noqa: F401
+    import matplotlib.figure  # noqa: F401
+
+    import lotwise.documents.plots.rectifying  # noqa: F401
+    import lotwise.documents.sheets.figures  # noqa: F401
+
+    figures = aside.start(lambda: _figures(pp)) if pp.n is not None else None
+    try:
+        _write_files(pp, out, stem, paths, figures, force=force, today=today)
+    finally:
+        if figures is not None:
+            figures.cancel()
+    return paths
+
+
+def _figures(pp) -> dict:
+    """The sheet's PNG figures as bytes: ``{"png": ..., "rectifying_png": ...}``."""
+    from lotwise.data.files import figure_bytes
+    from lotwise.documents.sheets.figures import oc_plot
+
+    pngs = {"png": figure_bytes(oc_plot(pp), "png", dpi=150)}
+    if "aoql" in pp.reports[0]:
+        from lotwise.documents.plots.rectifying import rectifying_figure
+
+        rep = pp.reports[0]
+        pngs["rectifying_png"] = figure_bytes(
+            rectifying_figure(pp.plans[0], pp.request.scope,
+                              aql=rep["targets"]["aql"], rql=rep["targets"]["rql"]),
+            "png", dpi=110)
+    return pngs
+
+
+def _write_files(pp, out, stem, paths, figures, *, force: bool, today) -> None:
+    from lotwise.data.files import check_target, write_bytes, write_text
+    from lotwise.documents.sheets import markdown, pdf
+
+    req = pp.request
+    picks = None
     from lotwise.data.draw import MAX_N
 
     if pp.n is not None and req.scope.lot_size and pp.n <= MAX_N:  # else no pick list
@@ -72,16 +110,11 @@ def _write_sheets(pp, out_dir, *, force: bool, today) -> dict:
         csv = ",".join(header) + "\n" + "".join(
             ",".join(csv_number(v) for v in row) + "\n" for row in rows)
         paths["csv"] = write_text(out / f"{stem}-oc.csv", csv, force=force, option="sheet")
-        paths["png"] = save_figure(oc_plot(pp), out / f"{stem}-oc.png", force=force,
-                                   option="sheet", dpi=150)
+        pngs = {"png": out / f"{stem}-oc.png"}
         if "aoql" in pp.reports[0]:
-            from lotwise.documents.plots.rectifying import rectifying_figure
-
-            rep = pp.reports[0]
-            paths["rectifying_png"] = save_figure(
-                rectifying_figure(pp.plans[0], req.scope,
-                                  aql=rep["targets"]["aql"], rql=rep["targets"]["rql"]),
-                out / f"{stem}-oc-aoq-ati.png", force=force, option="sheet", dpi=110)
+            pngs["rectifying_png"] = out / f"{stem}-oc-aoq-ati.png"
+        for kind, path in pngs.items():  # checked here, written when drawn (below)
+            paths[kind] = check_target(path, force=force, option="sheet", figure=True)
         if picks is not None:
             paths["picklist"] = write_text(out / f"{stem}-picklist.csv", picks.to_csv(),
                                            force=force, option="sheet")
@@ -104,4 +137,7 @@ def _write_sheets(pp, out_dir, *, force: bool, today) -> dict:
     paths["md"] = write_text(out / f"{stem}.md", md, force=force, option="sheet")
     paths["pdf"] = write_bytes(out / f"{stem}.pdf", pdf.render(content, pp), force=force,
                                option="sheet")
-    return paths
+    if pp.n is not None:
+        drawn = figures.result()
+        for kind in pngs:
+            write_bytes(paths[kind], drawn[kind], force=force, option="sheet")
