@@ -18,10 +18,16 @@ from __future__ import annotations
 import os
 import pickle
 
-__all__ = ["Aside", "start", "ENABLED"]
+__all__ = ["Aside", "start", "disable", "ENABLED"]
 
 #: Whether :func:`start` may fork (set off in the sheet workers' processes).
 ENABLED = True
+
+
+def disable() -> None:
+    """Run every later :func:`start` in this process (a worker's initializer)."""
+    global ENABLED
+    ENABLED = False
 
 
 def _processors() -> int:
