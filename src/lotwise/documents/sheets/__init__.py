@@ -64,30 +64,34 @@ def _write_sheets(pp, out_dir, *, force: bool, today) -> dict:
     import lotwise.documents.plots.rectifying  # noqa: F401
     import lotwise.documents.sheets.figures  # noqa: F401
 
-    figures = aside.start(lambda: _figures(pp)) if pp.n is not None else None
+    # one process a figure: the OC curves, and the AOQ and ATI curves when the lot size is known
+    figures = {}
     try:
+        if pp.n is not None:
+            for kind in ("png", "rectifying_png") if "aoql" in pp.reports[0] else ("png",):
+                figures[kind] = aside.start(lambda kind=kind: _figure(pp, kind))
         _write_files(pp, out, stem, paths, figures, force=force, today=today)
     finally:
-        if figures is not None:
-            figures.cancel()
+        for figure in figures.values():
+            figure.cancel()
     return paths
 
 
-def _figures(pp) -> dict:
-    """The sheet's PNG figures as bytes: ``{"png": ..., "rectifying_png": ...}``."""
+def _figure(pp, kind: str) -> bytes:
+    """One of the sheet's PNG figures as bytes: the OC curves (``"png"``) or the
+    AOQ and ATI curves of the first plan (``"rectifying_png"``)."""
     from lotwise.data.files import figure_bytes
-    from lotwise.documents.sheets.figures import oc_plot
 
-    pngs = {"png": figure_bytes(oc_plot(pp), "png", dpi=150)}
-    if "aoql" in pp.reports[0]:
-        from lotwise.documents.plots.rectifying import rectifying_figure
+    if kind == "png":
+        from lotwise.documents.sheets.figures import oc_plot
 
-        rep = pp.reports[0]
-        pngs["rectifying_png"] = figure_bytes(
-            rectifying_figure(pp.plans[0], pp.request.scope,
-                              aql=rep["targets"]["aql"], rql=rep["targets"]["rql"]),
-            "png", dpi=110)
-    return pngs
+        return figure_bytes(oc_plot(pp), "png", dpi=150)
+    from lotwise.documents.plots.rectifying import rectifying_figure
+
+    rep = pp.reports[0]
+    return figure_bytes(rectifying_figure(pp.plans[0], pp.request.scope,
+                                          aql=rep["targets"]["aql"], rql=rep["targets"]["rql"]),
+                        "png", dpi=110)
 
 
 def _write_files(pp, out, stem, paths, figures, *, force: bool, today) -> None:
@@ -110,11 +114,10 @@ def _write_files(pp, out, stem, paths, figures, *, force: bool, today) -> None:
         csv = ",".join(header) + "\n" + "".join(
             ",".join(csv_number(v) for v in row) + "\n" for row in rows)
         paths["csv"] = write_text(out / f"{stem}-oc.csv", csv, force=force, option="sheet")
-        pngs = {"png": out / f"{stem}-oc.png"}
-        if "aoql" in pp.reports[0]:
-            pngs["rectifying_png"] = out / f"{stem}-oc-aoq-ati.png"
-        for kind, path in pngs.items():  # checked here, written when drawn (below)
-            paths[kind] = check_target(path, force=force, option="sheet", figure=True)
+        names = {"png": f"{stem}-oc.png", "rectifying_png": f"{stem}-oc-aoq-ati.png"}
+        for kind in figures:  # checked here, written when drawn (below)
+            paths[kind] = check_target(out / names[kind], force=force, option="sheet",
+                                       figure=True)
         if picks is not None:
             paths["picklist"] = write_text(out / f"{stem}-picklist.csv", picks.to_csv(),
                                            force=force, option="sheet")
@@ -137,7 +140,5 @@ def _write_files(pp, out, stem, paths, figures, *, force: bool, today) -> None:
     paths["md"] = write_text(out / f"{stem}.md", md, force=force, option="sheet")
     paths["pdf"] = write_bytes(out / f"{stem}.pdf", pdf.render(content, pp), force=force,
                                option="sheet")
-    if pp.n is not None:
-        drawn = figures.result()
-        for kind in pngs:
-            write_bytes(paths[kind], drawn[kind], force=force, option="sheet")
+    for kind, figure in figures.items():
+        write_bytes(paths[kind], figure.result(), force=force, option="sheet")
