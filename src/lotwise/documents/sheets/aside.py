@@ -6,7 +6,8 @@ drawn while the page is laid out.
 writes no file: it returns bytes, and the parent writes them (inside
 :func:`lotwise.data.files.all_or_nothing` when the caller holds its writes
 back), so the write protocol is the parent's alone. Where ``os.fork`` is
-missing, only one processor is available, or :data:`ENABLED` is off (a
+missing, only one processor is available, other threads run in this
+process, or :data:`ENABLED` is off (a
 worker of :mod:`lotwise.documents.sheets.many`, whose processors are
 already busy), ``func`` runs in this process when the result is asked for;
 likewise when the child fails in any way, so an error is raised by the
@@ -28,6 +29,15 @@ def disable() -> None:
     """Run every later :func:`start` in this process (a worker's initializer)."""
     global ENABLED
     ENABLED = False
+
+
+def _threaded() -> bool:
+    """Whether other threads run here (a fork copies none of them, and a lock one of
+    them holds stays held in the child)."""
+    import sys
+
+    threading = sys.modules.get("threading")
+    return threading is not None and threading.active_count() > 1
 
 
 def _processors() -> int:
@@ -81,7 +91,7 @@ class Aside:
 def start(func) -> Aside:
     """Begin ``func()`` (no arguments; returns picklable data) in a forked child
     when that can run beside this process; see the module docstring."""
-    if not ENABLED or not hasattr(os, "fork") or _processors() < 2:
+    if not ENABLED or not hasattr(os, "fork") or _processors() < 2 or _threaded():
         return Aside(func)
     read_fd, write_fd = os.pipe()
     try:
