@@ -89,7 +89,7 @@ from lotwise.core.quantities import InputError
 
 __all__ = ["RECORD", "LOCK", "STALE_AFTER", "FIGURE_SUFFIXES", "write_bytes", "write_text",
            "save_figure", "check_writable", "check_target", "check_outputs", "check_folder",
-           "all_or_nothing",
+           "all_or_nothing", "figure_bytes",
            "is_temporary"]
 
 RECORD = ".lotwise-files.json"
@@ -312,20 +312,27 @@ def write_text(path, text: str, *, force: bool = False, option: str = "output") 
 
 def save_figure(fig, path, *, force: bool = False, option: str = "--plot", **kwargs) -> Path:
     """Render a matplotlib figure to PNG/SVG/PDF bytes and write them safely."""
-    import io
     import sys
 
     try:
         check_target(path, force=force, option=option, figure=True)
-        fmt = Path(path).suffix.lower().lstrip(".")
-        buf = io.BytesIO()
-        meta = {"png": {"Software": "lotwise"}, "svg": {"Creator": "lotwise"},
-                "pdf": {"Creator": "lotwise"}}[fmt]
-        fig.savefig(buf, format=fmt, metadata=meta, **kwargs)
+        data = figure_bytes(fig, Path(path).suffix.lower().lstrip("."), **kwargs)
     finally:
         if "matplotlib.pyplot" in sys.modules:  # a pyplot figure of the caller's: release it
             sys.modules["matplotlib.pyplot"].close(fig)
-    return write_bytes(path, buf.getvalue(), force=force, option=option)
+    return write_bytes(path, data, force=force, option=option)
+
+
+def figure_bytes(fig, fmt: str, **kwargs) -> bytes:
+    """A matplotlib figure rendered as ``fmt`` (``png``, ``svg`` or ``pdf``), the
+    bytes :func:`save_figure` writes (nothing is written here)."""
+    import io
+
+    buf = io.BytesIO()
+    meta = {"png": {"Software": "lotwise"}, "svg": {"Creator": "lotwise"},
+            "pdf": {"Creator": "lotwise"}}[fmt]
+    fig.savefig(buf, format=fmt, metadata=meta, **kwargs)
+    return buf.getvalue()
 
 
 def _commit(items: list) -> None:

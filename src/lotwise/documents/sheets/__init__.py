@@ -24,6 +24,7 @@ from __future__ import annotations
 from pathlib import Path
 
 from lotwise.core.numbers import csv_number
+from lotwise.documents.sheets import aside
 
 from lotwise.documents.sheets.content import (CAUTION, DEFAULT_REJECTED, SheetContent,
                                               alternatives, build_content, fmt_pa, oc_rows)
@@ -43,9 +44,7 @@ def write_sheets(pp, out_dir, *, force: bool = False, today=None) -> dict:
 
 
 def _write_sheets(pp, out_dir, *, force: bool, today) -> dict:
-    from lotwise.data.files import save_figure, write_bytes, write_text
     from lotwise.documents.sheets import markdown, pdf
-    from lotwise.documents.sheets.figures import oc_plot
 
     out = Path(out_dir)
     req = pp.request
@@ -56,8 +55,51 @@ def _write_sheets(pp, out_dir, *, force: bool, today) -> dict:
                  "markdown": markdown.render, "pdf": pdf.render}
         return write_scheme_sheet(pp, out, parts=parts, force=force, today=today)
     stem = req.stem
-    picks = None
     paths = {}
+    # the PNG figures drawn in a second process while the page is laid out (see aside);
+    # what both draw with is imported first, so it is imported once
+    import matplotlib.backends.backend_agg  # noqa: F401
+    import matplotlib.figure  # noqa: F401
+
+    import lotwise.documents.plots.rectifying  # noqa: F401
+    import lotwise.documents.sheets.figures  # noqa: F401
+
+    # one process a figure: the OC curves, and the AOQ and ATI curves when the lot size is known
+    figures = {}
+    try:
+        if pp.n is not None:
+            for kind in ("png", "rectifying_png") if "aoql" in pp.reports[0] else ("png",):
+                figures[kind] = aside.start(lambda kind=kind: _figure(pp, kind))
+        _write_files(pp, out, stem, paths, figures, force=force, today=today)
+    finally:
+        for figure in figures.values():
+            figure.cancel()
+    return paths
+
+
+def _figure(pp, kind: str) -> bytes:
+    """One of the sheet's PNG figures as bytes: the OC curves (``"png"``) or the
+    AOQ and ATI curves of the first plan (``"rectifying_png"``)."""
+    from lotwise.data.files import figure_bytes
+
+    if kind == "png":
+        from lotwise.documents.sheets.figures import oc_plot
+
+        return figure_bytes(oc_plot(pp), "png", dpi=150)
+    from lotwise.documents.plots.rectifying import rectifying_figure
+
+    rep = pp.reports[0]
+    return figure_bytes(rectifying_figure(pp.plans[0], pp.request.scope,
+                                          aql=rep["targets"]["aql"], rql=rep["targets"]["rql"]),
+                        "png", dpi=110)
+
+
+def _write_files(pp, out, stem, paths, figures, *, force: bool, today) -> None:
+    from lotwise.data.files import check_target, write_bytes, write_text
+    from lotwise.documents.sheets import markdown, pdf
+
+    req = pp.request
+    picks = None
     from lotwise.data.draw import MAX_N
 
     if pp.n is not None and req.scope.lot_size and pp.n <= MAX_N:  # else no pick list
@@ -72,16 +114,10 @@ def _write_sheets(pp, out_dir, *, force: bool, today) -> dict:
         csv = ",".join(header) + "\n" + "".join(
             ",".join(csv_number(v) for v in row) + "\n" for row in rows)
         paths["csv"] = write_text(out / f"{stem}-oc.csv", csv, force=force, option="sheet")
-        paths["png"] = save_figure(oc_plot(pp), out / f"{stem}-oc.png", force=force,
-                                   option="sheet", dpi=150)
-        if "aoql" in pp.reports[0]:
-            from lotwise.documents.plots.rectifying import rectifying_figure
-
-            rep = pp.reports[0]
-            paths["rectifying_png"] = save_figure(
-                rectifying_figure(pp.plans[0], req.scope,
-                                  aql=rep["targets"]["aql"], rql=rep["targets"]["rql"]),
-                out / f"{stem}-oc-aoq-ati.png", force=force, option="sheet", dpi=110)
+        names = {"png": f"{stem}-oc.png", "rectifying_png": f"{stem}-oc-aoq-ati.png"}
+        for kind in figures:  # checked here, written when drawn (below)
+            paths[kind] = check_target(out / names[kind], force=force, option="sheet",
+                                       figure=True)
         if picks is not None:
             paths["picklist"] = write_text(out / f"{stem}-picklist.csv", picks.to_csv(),
                                            force=force, option="sheet")
@@ -104,4 +140,5 @@ def _write_sheets(pp, out_dir, *, force: bool, today) -> dict:
     paths["md"] = write_text(out / f"{stem}.md", md, force=force, option="sheet")
     paths["pdf"] = write_bytes(out / f"{stem}.pdf", pdf.render(content, pp), force=force,
                                option="sheet")
-    return paths
+    for kind, figure in figures.items():
+        write_bytes(paths[kind], figure.result(), force=force, option="sheet")

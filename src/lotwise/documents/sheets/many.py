@@ -54,6 +54,10 @@ def write_many(files, out, *, force: bool = False, workers: int | None = None) -
 
     _preload()  # forked workers start with these: imported once, not once per worker
 
+    from lotwise.documents.sheets import aside
+
     ctx = mp.get_context("fork") if "fork" in mp.get_all_start_methods() else None
-    with ProcessPoolExecutor(max_workers=workers, mp_context=ctx) as pool:
+    # the workers fill the processors: no second process each (aside.disable)
+    with ProcessPoolExecutor(max_workers=workers, mp_context=ctx,
+                             initializer=aside.disable) as pool:
         return list(pool.map(one_file, files, [out] * len(files), [force] * len(files)))

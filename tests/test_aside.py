@@ -1,0 +1,78 @@
+"""The second process a plan sheet draws its figures in
+(lotwise.documents.sheets.aside): the same result as computed in this process,
+the parent's own error when the child fails, no child left behind, and the
+same sheet files either way (common practice, no source: a parallel path must
+give the serial path's output)."""
+
+from __future__ import annotations
+
+import os
+from pathlib import Path
+
+import pytest
+
+from lotwise.data.files import all_or_nothing
+from lotwise.documents.sheets import aside
+
+ROOT = Path(__file__).resolve().parents[1]
+
+needs_fork = pytest.mark.skipif(not hasattr(os, "fork"), reason="no os.fork here")
+
+
+def _big():
+    return {"text": "x" * 1_000_000, "pid": os.getpid()}  # more than a pipe's buffer
+
+
+@needs_fork
+@pytest.mark.parametrize("enabled, in_child", [(True, True), (False, False)])
+def test_result_from_child_or_here(monkeypatch, enabled, in_child):
+    monkeypatch.setattr(aside, "ENABLED", enabled)
+    monkeypatch.setattr(aside, "_processors", lambda: 2)
+    got = aside.start(_big).result()
+    assert got["text"] == "x" * 1_000_000
+    assert (got["pid"] != os.getpid()) is in_child
+
+
+@needs_fork
+def test_child_failure_raises_in_parent(monkeypatch):
+    monkeypatch.setattr(aside, "_processors", lambda: 2)
+    calls = []
+
+    def bad():
+        calls.append(os.getpid())
+        raise ValueError("no figure")
+
+    job = aside.start(bad)
+    with pytest.raises(ValueError, match="no figure"):
+        job.result()
+    assert calls == [os.getpid()]  # computed again here (the child's append is its own)
+
+
+@needs_fork
+def test_cancel_reaps_the_child(monkeypatch):
+    import time
+
+    monkeypatch.setattr(aside, "_processors", lambda: 2)
+    job = aside.start(lambda: time.sleep(30))
+    pid = job._pid
+    job.cancel()
+    with pytest.raises(ChildProcessError):
+        os.waitpid(pid, os.WNOHANG)  # already waited for: no zombie, no running child
+
+
+def test_sheet_files_same_either_way(tmp_path, monkeypatch):
+    import datetime
+
+    from lotwise.cli.sheets import resolve_files
+    from lotwise.documents.sheets import write_sheets
+
+    out = {}
+    for flag in (True, False):
+        monkeypatch.setattr(aside, "ENABLED", flag)
+        folder = tmp_path / str(flag)
+        pp = resolve_files([str(ROOT / "plans" / "qp-1104-relief-spring.toml")])[0]
+        with all_or_nothing():
+            paths = write_sheets(pp, folder, today=datetime.date(2026, 1, 1))
+        out[flag] = {k: Path(v).read_bytes() for k, v in paths.items() if k != "pdf"}
+    assert out[True].keys() == out[False].keys() >= {"png", "rectifying_png", "md", "csv"}
+    assert out[True] == out[False]
