@@ -11,7 +11,7 @@ What the clerk reads on the sheet must be the plan the tool judged:
   decision are those ``lotwise judge`` computes for measurements with that
   mean and standard deviation (the definitions of xbar, s with the n - 1
   divisor and Q = (U - xbar)/s, (xbar - L)/s: D. C. Montgomery, *Introduction to
-  Statistical Quality Control*, chapter on acceptance sampling by variables,
+  Statistical Quality Control*, the chapter on lot sentencing by variables,
   from memory; the estimate method: G. J. Lieberman and G. J. Resnikoff,
   JASA 50 (1955) 457-516);
 * ChSP-1's rule (accept on 0; on 1 only after i clean samples; reject on 2):
@@ -401,8 +401,8 @@ def test_long_sequential_table_continues_on_more_pages(tmp_path, capsys):
 
 def test_drawing_approvals_and_cost_on_the_sheet(tmp_path, capsys):
     # Expected inspection per lot under rectifying inspection is the ATI,
-    # n + (1 - Pa)(N - n) (Schilling and Neubauer, Acceptance Sampling in Quality
-    # Control, 2nd ed., 2009, rectifying inspection; from memory); the cost is that
+    # n + (1 - Pa)(N - n) (E. G. Schilling and D. V. Neubauer, 2nd ed., CRC Press,
+    # 2009, rectifying inspection; from memory); the cost is that
     # times the cost per unit, taken here from check --plan's own ATI.
     part = 'drawing = "QD-77"\nrevision = "B"\n'
     extra = ('[sampling]\nn = 80\ncost_per_unit = 2.5\ndeliveries_per_year = 52\n'
