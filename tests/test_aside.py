@@ -75,4 +75,39 @@ def test_sheet_files_same_either_way(tmp_path, monkeypatch):
             paths = write_sheets(pp, folder, today=datetime.date(2026, 1, 1))
         out[flag] = {k: Path(v).read_bytes() for k, v in paths.items() if k != "pdf"}
     assert out[True].keys() == out[False].keys() >= {"png", "rectifying_png", "md", "csv"}
+    assert b"same two risk points with a varying sample" in out[True]["md"]  # (computed aside)
     assert out[True] == out[False]
+
+
+def test_one_draw_per_saved_figure():
+    """A figure laid out by ``tight_layout`` is saved to the same pixels with the
+    placeholder layout engine removed, and drawn once instead of twice (common
+    practice, no source: an optimisation must not change the output)."""
+    import matplotlib.figure
+
+    from lotwise.data.files import figure_bytes, no_layout_engine
+
+    def made():
+        fig = matplotlib.figure.Figure(figsize=(3, 2), dpi=80)
+        ax = fig.add_subplot()
+        ax.plot([0, 1, 2], [0, 1, 4], label="curve")
+        ax.set_xlabel("level")
+        ax.legend()
+        fig.tight_layout()
+        return fig
+
+    with_engine = made()
+    assert with_engine.get_layout_engine() is not None  # the placeholder tight_layout leaves
+    import io
+
+    buf = io.BytesIO()
+    with_engine.savefig(buf, format="png", metadata={"Software": "lotwise"})
+
+    draws = []
+    fig = made()
+    real = fig.draw
+    fig.draw = lambda renderer: (draws.append(1), real(renderer))[1]
+    assert figure_bytes(fig, "png") == buf.getvalue()
+    assert fig.get_layout_engine() is None and draws == [1]
+    no_layout_engine(fig)  # nothing left to remove
+    assert fig.get_layout_engine() is None

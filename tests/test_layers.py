@@ -20,6 +20,7 @@ the checks are exact (no tolerance). The allow-lists below must stay empty.
 from __future__ import annotations
 
 import ast
+import os
 from pathlib import Path
 
 import pytest
@@ -224,3 +225,26 @@ def test_the_checker_sees_a_violation():
     tree = ast.parse("from typing import TYPE_CHECKING\nif TYPE_CHECKING:\n"
                      "    from lotwise.cli import main\n")
     assert [t for t, _n, _ in _imports(tree, "lotwise.core.fake", False)] == ["typing"]
+
+
+def test_cli_sets_one_blas_thread_unless_told(tmp_path):
+    """The command line asks numpy's BLAS for one thread (its start-up is the
+    only cost a pool brings to element-wise kernels), and keeps a count the user
+    set (common practice, no source)."""
+    import subprocess
+    import sys
+
+    code = ("import os, sys\n"
+            "from lotwise.cli import main\n"
+            "main(['--version'])\n"
+            "import numpy\n"
+            "print(os.environ.get('OPENBLAS_NUM_THREADS'), 'numpy' in sys.modules)\n")
+    env = {k: v for k, v in os.environ.items()
+           if k not in ("OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS")}
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                         env=env, check=True).stdout.split()
+    assert out[-2:] == ["1", "True"]
+    env["OPENBLAS_NUM_THREADS"] = "2"
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                         env=env, check=True).stdout.split()
+    assert out[-2:] == ["2", "True"]

@@ -89,7 +89,7 @@ from lotwise.core.quantities import InputError
 
 __all__ = ["RECORD", "LOCK", "STALE_AFTER", "FIGURE_SUFFIXES", "write_bytes", "write_text",
            "save_figure", "check_writable", "check_target", "check_outputs", "check_folder",
-           "all_or_nothing", "figure_bytes",
+           "all_or_nothing", "figure_bytes", "no_layout_engine",
            "is_temporary"]
 
 RECORD = ".lotwise-files.json"
@@ -331,8 +331,28 @@ def figure_bytes(fig, fmt: str, **kwargs) -> bytes:
     buf = io.BytesIO()
     meta = {"png": {"Software": "lotwise"}, "svg": {"Creator": "lotwise"},
             "pdf": {"Creator": "lotwise"}}[fmt]
+    no_layout_engine(fig)
     fig.savefig(buf, format=fmt, metadata=meta, **kwargs)
     return buf.getvalue()
+
+
+def no_layout_engine(fig) -> None:
+    """Drop the placeholder layout engine a finished ``tight_layout`` leaves.
+
+    ``Figure.tight_layout`` lays the figure out once and leaves a placeholder
+    engine that does nothing; ``savefig`` seeing any engine first draws the
+    whole figure without output "to make sure the layout works", then draws it
+    again for the file. With the placeholder removed the file is drawn once, to
+    the same pixels and text (the placeholder lays nothing out). A real engine
+    (constrained or tight layout set on the figure) is kept.
+    """
+    import matplotlib
+    from matplotlib.layout_engine import PlaceHolderLayoutEngine
+
+    rc = matplotlib.rcParams
+    if (isinstance(fig.get_layout_engine(), PlaceHolderLayoutEngine)
+            and not rc["figure.autolayout"] and not rc["figure.constrained_layout.use"]):
+        fig.set_layout_engine(None)  # (with both settings off this removes the engine)
 
 
 def _commit(items: list) -> None:

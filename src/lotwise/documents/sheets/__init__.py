@@ -37,13 +37,20 @@ def write_sheets(pp, out_dir, *, force: bool = False, today=None) -> dict:
 
     Returns ``{kind: path}``.
     """
-    from lotwise.documents.plots.style import font_lookups
+    # the trade-off sentence (designs of other schemes, no drawing) computed in a second
+    # process while this one imports matplotlib (see aside)
+    others = aside.start(lambda: alternatives(pp)) if pp.request.characteristics else None
+    try:
+        from lotwise.documents.plots.style import font_lookups
 
-    with font_lookups():
-        return _write_sheets(pp, out_dir, force=force, today=today)
+        with font_lookups():
+            return _write_sheets(pp, out_dir, others, force=force, today=today)
+    finally:
+        if others is not None:
+            others.cancel()
 
 
-def _write_sheets(pp, out_dir, *, force: bool, today) -> dict:
+def _write_sheets(pp, out_dir, others, *, force: bool, today) -> dict:
     from lotwise.documents.sheets import markdown, pdf
 
     out = Path(out_dir)
@@ -56,21 +63,22 @@ def _write_sheets(pp, out_dir, *, force: bool, today) -> dict:
         return write_scheme_sheet(pp, out, parts=parts, force=force, today=today)
     stem = req.stem
     paths = {}
-    # the PNG figures drawn in a second process while the page is laid out (see aside);
-    # what both draw with is imported first, so it is imported once
-    import matplotlib.backends.backend_agg  # noqa: F401
-    import matplotlib.figure  # noqa: F401
-
-    import lotwise.documents.plots.rectifying  # noqa: F401
-    import lotwise.documents.sheets.figures  # noqa: F401
-
-    # one process a figure: the OC curves, and the AOQ and ATI curves when the lot size is known
     figures = {}
     try:
+        # the PNG figures drawn in further processes while the page is laid out; what
+        # both draw with is imported first, so it is imported once
+        import matplotlib.backends.backend_agg  # noqa: F401
+        import matplotlib.figure  # noqa: F401
+
+        import lotwise.documents.plots.rectifying  # noqa: F401
+        import lotwise.documents.sheets.figures  # noqa: F401
+
+        # one process a figure: the OC curves, and the AOQ and ATI curves when the lot
+        # size is known
         if pp.n is not None:
             for kind in ("png", "rectifying_png") if "aoql" in pp.reports[0] else ("png",):
                 figures[kind] = aside.start(lambda kind=kind: _figure(pp, kind))
-        _write_files(pp, out, stem, paths, figures, force=force, today=today)
+        _write_files(pp, out, stem, paths, figures, others, force=force, today=today)
     finally:
         for figure in figures.values():
             figure.cancel()
@@ -94,7 +102,7 @@ def _figure(pp, kind: str) -> bytes:
                         "png", dpi=110)
 
 
-def _write_files(pp, out, stem, paths, figures, *, force: bool, today) -> None:
+def _write_files(pp, out, stem, paths, figures, others, *, force: bool, today) -> None:
     from lotwise.data.files import check_target, write_bytes, write_text
     from lotwise.documents.sheets import markdown, pdf
 
@@ -108,7 +116,7 @@ def _write_files(pp, out, stem, paths, figures, *, force: bool, today) -> None:
 
         seed = pick_seed(req)
         picks = draw_units(lot_size=req.scope.lot_size, n=pp.n, seed=seed, strata=req.strata)
-    content = build_content(pp, picks=picks, today=today, alternatives_text=alternatives(pp))
+    content = build_content(pp, picks=picks, today=today, alternatives_text=others.result())
     if pp.n is not None:
         header, rows = oc_rows(pp)
         csv = ",".join(header) + "\n" + "".join(
