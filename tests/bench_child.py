@@ -35,11 +35,14 @@ else:
 PEAKS: dict = {}
 
 
-def run_child(args, *, key: str = "", peak_goal_mb: float | None = None, cwd=ROOT) -> tuple:
+def run_child(args, *, key: str = "", peak_goal_mb: float | None = None, cwd=ROOT,
+              ok_codes=(0,)) -> tuple:
     """Run ``python *args`` (lotwise from this checkout) and wait for it with
     ``os.wait4``, which reports the CPU time of that one child; its peak
     RSS is the child's own VmHWM (not the largest of all children so far,
-    as ``RUSAGE_CHILDREN`` would give). Prints both; raises when the command fails or
+    as ``RUSAGE_CHILDREN`` would give). Prints both; raises when the command exits
+    with a code not in ``ok_codes`` (``batch`` and ``records`` exit 1, their output
+    written, when a row failed or a disposition disagrees: see the README) or
     the peak is above ``peak_goal_mb``. Returns ``(peak_mb, cpu_s)``."""
     import tempfile
 
@@ -50,7 +53,7 @@ def run_child(args, *, key: str = "", peak_goal_mb: float | None = None, cwd=ROO
                             stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
     _, status, usage = os.wait4(proc.pid, 0)
     proc.returncode = os.waitstatus_to_exitcode(status)
-    if proc.returncode != 0:
+    if proc.returncode not in ok_codes:
         raise subprocess.CalledProcessError(proc.returncode, args)
     peak = int(Path(hwm).read_text() or 0) / 1024  # VmHWM in kB
     os.unlink(hwm)

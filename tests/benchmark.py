@@ -17,6 +17,9 @@ Every ``tests/bench_*.py`` module contributes a list ``CASES`` of dicts:
     acceptable ratio ``baseline / func``;
 ``repeat`` (optional)
     repetitions (default 15; baselines run ``baseline_repeat``, default 3);
+``paired`` (optional)
+    run ``func`` and ``baseline`` alternately, ``repeat`` times each (the
+    cold starts: a drift in the machine's speed then reaches both sides);
 ``peak_mb`` and ``peak_mb_goal`` (optional)
     a callable giving the largest peak memory (MB) of the case's own child
     process over its runs (see bench_child.py), and its goal: above the
@@ -44,6 +47,22 @@ def median_ms(func, repeat: int) -> float:
         func()
         times.append(time.perf_counter() - t)
     return 1000.0 * statistics.median(times)
+
+
+def paired_medians_ms(func, baseline, repeat: int) -> tuple[float, float]:
+    """Medians of ``func`` and ``baseline`` run alternately (``func``, then
+    ``baseline``, ``repeat`` times after one warm-up each), so a drift in the
+    machine's speed during the case (other work on the host, frequency
+    changes) reaches both sides of the ratio alike."""
+    func()
+    baseline()
+    times: tuple[list, list] = ([], [])
+    for _ in range(repeat):
+        for side, call in zip(times, (func, baseline)):
+            t = time.perf_counter()
+            call()
+            side.append(time.perf_counter() - t)
+    return 1000.0 * statistics.median(times[0]), 1000.0 * statistics.median(times[1])
 
 
 def _ratio(r: float) -> str:
@@ -81,12 +100,16 @@ def main(argv=None) -> int:
         rep = case.get("repeat", 15)
         if args.quick:
             rep = max(3, rep // 3)
-        med = median_ms(case["func"], rep)
+        if case.get("paired"):
+            med, base = paired_medians_ms(case["func"], case["baseline"], rep)
+        else:
+            med = median_ms(case["func"], rep)
         goal = case.get("goal_ms")
         status = "" if goal is None else ("ok" if med <= goal else "SLOW")
         ratio = None
         if case.get("baseline") is not None:
-            base = median_ms(case["baseline"], case.get("baseline_repeat", 3))
+            if not case.get("paired"):
+                base = median_ms(case["baseline"], case.get("baseline_repeat", 3))
             ratio = base / med if med > 0 else float("inf")
             rg = case.get("ratio_goal")
             if rg is not None:
@@ -98,7 +121,9 @@ def main(argv=None) -> int:
             if cap is not None and (peak is None or peak > cap):
                 status = "OVER" if status != "SLOW" else "SLOW, OVER"
         rows.append((case["name"], med, goal, ratio, case.get("ratio_goal"), status))
-        r = "" if ratio is None else f"  ratio {_ratio(ratio)} (goal >= {case.get('ratio_goal')}x)"
+        rg = case.get("ratio_goal")
+        r = "" if ratio is None else f"  ratio {_ratio(ratio)}" + (
+            "" if rg is None else f" (goal >= {rg}x)")
         g = "" if goal is None else f" (goal <= {goal:g} ms)"
         print(f"{case['name']}: median {med:.2f} ms{g}{r}  {status}", flush=True)
     print()
@@ -106,7 +131,8 @@ def main(argv=None) -> int:
     print("|---|---|---|---|---|")
     for name, med, goal, ratio, rg, status in rows:
         print(f"| {name} | {med:.2f} ms | {'' if goal is None else f'<= {goal:g} ms'} | "
-              f"{'' if ratio is None else f'{_ratio(ratio)} (goal >= {rg}x)'} | {status or '-'} |")
+              f"{'' if ratio is None else _ratio(ratio) + ('' if rg is None else f' (goal >= {rg}x)')}"
+              f" | {status or '-'} |")
     return 1 if any(r[-1] not in ("", "ok") for r in rows) else 0
 
 
