@@ -450,3 +450,21 @@ def test_bad_new_keys_one_line(tmp_path, capsys, extra, needles):
     assert code == 2 and len(err.strip().splitlines()) == 1
     for n in needles:
         assert n in err, (n, err)
+
+
+def test_deliveries_without_a_cost_give_the_yearly_load(tmp_path, capsys):
+    # Units inspected a year = expected units per lot x lots a year (the ATI at
+    # the AQL where rejected lots are screened: same source as above); with no
+    # cost per unit the money fields are null and the sheet states the load.
+    extra = '[sampling]\nn = 80\ndeliveries_per_year = 52\n'
+    path = plan_file(tmp_path, None, extra=extra)
+    md = sheet_md(tmp_path, capsys, path)
+    main(["check", path, "--json"])
+    cost = json.loads(capsys.readouterr()[0])["characteristics"][0]["inspection_cost"]
+    main(["check", "--plan", "n=80,c=2", "--aql", "0.1%", "--rql", "40%", "--lot-size", "5000",
+          "--json"])
+    ati = json.loads(capsys.readouterr()[0])["ati"]["aql"]
+    assert cost["per_unit"] is None and cost["per_lot"] is None and cost["per_year"] is None
+    assert cost["units_per_year"] == pytest.approx(52 * ati, rel=1e-12)
+    assert "## Inspection load and cost" in md
+    assert f"= {52 * ati:,.0f} units inspected per year" in md

@@ -376,8 +376,10 @@ def resolve(req, *, verdict: bool = True) -> PartPlan:
         plans.append(p)
     if n is None:
         n = max((r["n"] or 0) for r in reps) or None
-    if req.cost_per_unit is not None:
+    if req.cost_per_unit is not None or req.deliveries_per_year is not None:
         for rep in reps:
+            if rep.get("n") is None:  # 100 % inspection or no plan: no sample to count
+                continue
             rep["inspection_cost"] = inspection_cost(rep, req.cost_per_unit,
                                                      req.deliveries_per_year)
     return PartPlan(request=req, n=n, reports=reps, plans=plans, designed=not req.fixed,
@@ -390,19 +392,28 @@ CRITICAL_NOTE = ("critical characteristic: sampling cannot guarantee a lot free 
                  "regulation require")
 
 
-def inspection_cost(rep: dict, per_unit: float, deliveries_per_year=None) -> dict:
-    """What inspecting one characteristic's plan costs at the AQL.
+def inspection_cost(rep: dict, per_unit: float | None, deliveries_per_year=None) -> dict:
+    """What inspecting one characteristic's plan costs at the AQL, in units
+    inspected and (with a cost per unit) in money.
 
     The expected units inspected per lot are the ATI where rejected lots are
     screened (``rep`` has ``ati``: a known lot size, attributes), else the ASN
-    of a plan whose sample varies, else its sample size; ``per_lot`` is that
-    times ``per_unit``, ``per_year`` that times ``deliveries_per_year`` (None
-    without it).
+    of a plan whose sample varies, else its sample size; ``units_per_year``
+    is that times ``deliveries_per_year``; ``per_lot`` is the units per lot
+    times ``per_unit``, ``per_year`` that times ``deliveries_per_year``
+    (each None without the numbers it needs).
 
     Examples
     --------
-    >>> inspection_cost({"n": 80, "ati": {"aql": 95.5, "rql": 900.0}}, 2.0, 52)["per_year"]
-    9932.0
+    A receiving bay gets 52 deliveries of a bracket a year and pays 2.00 a
+    unit inspected; at the AQL the plan screens 95.5 units per lot on average:
+
+    >>> cost = inspection_cost({"n": 80, "ati": {"aql": 95.5, "rql": 900.0}}, 2.0, 52)
+    >>> cost["per_year"], cost["units_per_year"]
+    (9932.0, 4966.0)
+    >>> load = inspection_cost({"n": 80}, None, 52)  # no cost per unit: units only
+    >>> load["units_per_year"], load["per_lot"]
+    (4160.0, None)
     """
     if "ati" in rep:
         units, basis = float(rep["ati"]["aql"]), "ati"
@@ -410,10 +421,13 @@ def inspection_cost(rep: dict, per_unit: float, deliveries_per_year=None) -> dic
         units, basis = float(rep["asn"]["aql"]), "asn"
     else:
         units, basis = float(rep["n"]), "sample"
-    per_lot = per_unit * units
+    per_lot = None if per_unit is None else per_unit * units
+    yearly = deliveries_per_year is not None
     return {"per_unit": per_unit, "per_lot": per_lot,
-            "per_year": None if deliveries_per_year is None else per_lot * deliveries_per_year,
+            "per_year": per_lot * deliveries_per_year if yearly and per_lot is not None
+            else None,
             "deliveries_per_year": deliveries_per_year, "units_per_lot": units,
+            "units_per_year": units * deliveries_per_year if yearly else None,
             "basis": basis, "at": "aql"}
 
 

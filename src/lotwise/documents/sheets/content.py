@@ -515,7 +515,8 @@ def _approvals(req) -> list:
 
 
 def _cost_sentences(pp) -> list:
-    """What inspection costs, per characteristic, from ``inspection_cost``."""
+    """What inspection costs (or, without a cost per unit, how many units it
+    takes a year), per characteristic, from ``inspection_cost``."""
     out = []
     for rep in pp.reports:
         c = rep.get("inspection_cost")
@@ -523,15 +524,21 @@ def _cost_sentences(pp) -> list:
             continue
         basis = {"ati": "average total inspection (ATI, rejected lots screened)",
                  "asn": "average sample number (ASN)", "sample": "the sample size"}[c["basis"]]
-        text = (f"{rep['characteristic']['id']}: {c['per_unit']:,.2f} per unit x "
-                f"{c['units_per_lot']:,.1f} units per lot ({basis} at the AQL) = "
-                f"{c['per_lot']:,.2f} per lot")
-        if c.get("per_year") is not None:
-            text += f"; x {c['deliveries_per_year']:,g} deliveries = {c['per_year']:,.2f} per year"
+        cid = rep["characteristic"]["id"]
+        if c.get("per_lot") is not None:
+            text = (f"{cid}: {c['per_unit']:,.2f} per unit x {c['units_per_lot']:,.1f} units "
+                    f"per lot ({basis} at the AQL) = {c['per_lot']:,.2f} per lot")
+            if c.get("per_year") is not None:
+                text += (f"; x {c['deliveries_per_year']:,g} deliveries = "
+                         f"{c['per_year']:,.2f} per year ({c['units_per_year']:,.0f} units)")
+        else:  # deliveries without a cost per unit: the inspection load in units
+            text = (f"{cid}: {c['units_per_lot']:,.1f} units per lot ({basis} at the AQL) x "
+                    f"{c['deliveries_per_year']:,g} deliveries = {c['units_per_year']:,.0f} "
+                    "units inspected per year")
         out.append(text + ".")
     if len(out) > 1:
-        out.append("Characteristics judged on one sample share its units: the part's cost per "
-                   "lot is the largest of these, not their sum.")
+        out.append("Characteristics judged on one sample share its units: the part's units "
+                   "and cost per lot are the largest of these, not their sum.")
     return out
 
 

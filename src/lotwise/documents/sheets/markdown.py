@@ -48,7 +48,7 @@ def render(content, png: str | None = None, extra_png: str | None = None) -> str
     if c.rationale:
         lines += ["## Rationale", "", c.rationale.strip(), ""]
     if c.cost:
-        lines += ["## Inspection cost", ""] + [f"- {x}" for x in c.cost] + [""]
+        lines += ["## Inspection load and cost", ""] + [f"- {x}" for x in c.cost] + [""]
     lines += ["## Cautions", ""] + [f"- {x}" for x in c.cautions] + [""]
     if c.approvals:
         lines += ["## Approvals", "", _table([k for k, _ in c.approvals],

@@ -187,7 +187,7 @@ def _layout(content, pp, scale: float, figures: bool = True, where: str = ""):
         pg.heading("Rationale")
         pg.text(c.rationale.strip(), size=7.0)
     if c.cost:
-        pg.heading("Inspection cost")
+        pg.heading("Inspection load and cost")
         for x in c.cost:
             pg.text(x, size=6.9)
     pg.heading("Cautions")
