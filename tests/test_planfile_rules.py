@@ -53,6 +53,18 @@ def char(**keys) -> str:
     (HEAD + "[sampling]\nmax_n = -3\nseed = 1.5\n" + char(id="M1", **{"class": "major"},
                                                           aql="1%", rql="8%", c=-1),
      ["sampling.max_n (-3)", "sampling.seed (1.5)", "characteristic[1].c (-1)"]),
+    # [switching] and [[table]] report every error too, beside the characteristics'
+    ('aql = "1%"\nrql = "0.5%"\n' + HEAD + "[lot]\nsize = 500\n"
+     '[switching]\nnormal = "n=80,c=2"\ntightened = "n=9000,c=1"\ncolour = "red"\n'
+     "[switching.rules]\ntighten_window = 0\n"
+     '[[table]]\nlot_min = 10\nlot_max = 5\nnormal = "n=5,c=0"\n'
+     '[[table]]\nlot_max = 50\nnormal = "n=bad"\naql = "zz"\n'
+     + char(id="M1", **{"class": "major"}, aql="2%", rql="1%"),
+     ["rql (0.5%) must be above aql (1%)", "switching.colour: unknown key",
+      "switching.tightened (n=9000,c=1) inspects up to 9000 units",
+      "switching.rules.tighten_window (0)", "table[1].lot_min (10) must not be greater",
+      "table[2].lot_min is missing", "table[2].normal ('n=bad')", "table[2].aql ('zz')",
+      "characteristic[1].rql (1%) must be above characteristic[1].aql (2%)"]),
 ])
 def test_every_error_of_a_file_in_one_line(text, parts):
     with pytest.raises(InputError) as e:

@@ -660,9 +660,10 @@ def loads(text: str, path: str = "<plan>") -> PlanRequest:
     inspection = err.take(_inspection, doc, path)
 
     # [switching], [[table]]: a file with them may omit [[characteristic]]
-    extras = err.take(parse_extras, doc, scope, path, _unknown,
+    extras = err.take(parse_extras, doc, scope, path, _unknown, err=err,
                       default={"switching": None, "table": (), "limits": None})
-    chars_raw = doc.get("characteristic", [] if extras["switching"] or extras["table"] else None)
+    chars_raw = doc.get("characteristic",
+                        [] if "switching" in doc or "table" in doc else None)
     chars = []
     if chars_raw is None:
         err.take(_refuse, f"{path}: no [[characteristic]] given; at least one is required")

@@ -85,86 +85,137 @@ def _whole(table: dict, key: str, where: str, path: str, minimum: int) -> int:
     return v
 
 
-def _scheme(doc: dict, scope, path: str, unknown):
+def _refuse(message: str):
+    raise InputError(message)
+
+
+def _now(fn, *args, default=None, **kw):
+    """Call ``fn`` and let its error stop the parse (no collector given)."""
+    return fn(*args, **kw)
+
+
+def _scheme(doc: dict, scope, path: str, unknown, take):
+    """The ``[switching]`` table as a Scheme; every error goes to ``take`` (None
+    is returned when any was found)."""
     from lotwise.analysis.switching import RULE_KEYS, Scheme, SwitchRules
 
     sw = doc["switching"]
     if not isinstance(sw, dict):
-        raise InputError(f"{path}: switching ({sw!r}) must be a table, written [switching]")
-    unknown(sw, SWITCHING_KEYS, "switching.", path)
+        take(_refuse, f"{path}: switching ({sw!r}) must be a table, written [switching]")
+        return None
+    ok = take(unknown, sw, SWITCHING_KEYS, "switching.", path, default=False) is not False
     if "normal" not in sw:
-        raise InputError(f"{path}: switching.normal is missing; it is required")
-    plans = {k: _plan(sw, k, "switching.", path, scope)
-             for k in ("normal", "tightened", "reduced") if k in sw}
+        take(_refuse, f"{path}: switching.normal is missing; it is required")
+        ok = False
+    plans = {}
+    for k in ("normal", "tightened", "reduced"):
+        if k in sw:
+            plan = take(_plan, sw, k, "switching.", path, scope)
+            ok = ok and plan is not None
+            plans[k] = plan
     rules_raw = sw.get("rules", {})
     if not isinstance(rules_raw, dict):
-        raise InputError(f"{path}: switching.rules ({rules_raw!r}) must be a table, written "
-                         "[switching.rules]")
-    unknown(rules_raw, set(RULE_KEYS), "switching.rules.", path)
-    rules = {k: _whole(rules_raw, k, "switching.rules.", path, 1 if k == "tighten_window" else 0)
-             for k in rules_raw}
+        take(_refuse, f"{path}: switching.rules ({rules_raw!r}) must be a table, written "
+                      "[switching.rules]")
+        return None
+    ok = (take(unknown, rules_raw, set(RULE_KEYS), "switching.rules.", path, default=False)
+          is not False) and ok
+    rules = {}
+    for k in rules_raw:
+        if k in RULE_KEYS:
+            v = take(_whole, rules_raw, k, "switching.rules.", path,
+                     1 if k == "tighten_window" else 0)
+            ok = ok and v is not None
+            rules[k] = v
+    if not ok:
+        return None
     try:
         return Scheme(**plans, rules=SwitchRules(**rules))
     except InputError as exc:
-        raise InputError(f"{path}: switching.rules.{exc}" if str(exc).split(" ")[0] in RULE_KEYS
-                         else f"{path}: switching: {exc}") from None
+        take(_refuse, f"{path}: switching.rules.{exc}" if str(exc).split(" ")[0] in RULE_KEYS
+             else f"{path}: switching: {exc}")
+        return None
 
 
-def _rows(doc: dict, scope, path: str, unknown) -> tuple:
-    from lotwise.analysis.table_audit import TableRow, check_ranges
+def _row(r: dict, i: int, scope, lotless, path: str, unknown, take):
+    """One ``[[table]]`` row as a TableRow; its errors go to ``take`` (None when any)."""
+    from lotwise.analysis.table_audit import TableRow
+
+    w = f"table[{i}]."
+    ok = take(unknown, r, ROW_KEYS, w, path, default=False) is not False
+    for key in ("lot_min", "lot_max", "normal"):
+        if key not in r:
+            take(_refuse, f"{path}: {w}{key} is missing; it is required")
+            ok = False
+    lo = take(_whole, r, "lot_min", w, path, 1) if "lot_min" in r else None
+    hi = take(_whole, r, "lot_max", w, path, 1) if "lot_max" in r else None
+    if lo is not None and hi is not None and lo > hi:
+        take(_refuse, f"{path}: {w}lot_min ({lo}) must not be greater than {w}lot_max ({hi})")
+        ok = False
+    plans = {k: take(_plan, r, k, w, path, lotless) for k in ("normal", "tightened", "reduced")
+             if k in r}
+    levels = {k: take(parse_level, r[k], f"{path}: {w}{k}", per_unit=scope.per_unit)
+              for k in ("aql", "rql") if k in r}
+    label = r.get("label", "")
+    if not isinstance(label, str):
+        take(_refuse, f"{path}: {w}label ({label!r}) must be text in quotes")
+        ok = False
+    if (not ok or lo is None or hi is None or None in plans.values()
+            or None in levels.values()):
+        return None
+    return TableRow(index=i, lot_min=lo, lot_max=hi, plans=plans, label=label, **levels)
+
+
+def _rows(doc: dict, scope, path: str, unknown, take) -> tuple:
+    from lotwise.analysis.table_audit import check_ranges
 
     raw = doc["table"]
     if not isinstance(raw, list) or not all(isinstance(r, dict) for r in raw):
-        raise InputError(f"{path}: table must be an array of tables, written [[table]]")
-    rows = []
+        take(_refuse, f"{path}: table must be an array of tables, written [[table]]")
+        return ()
     lotless = type(scope)(per_unit=scope.per_unit)  # each row gives its own lot sizes
-    for i, r in enumerate(raw, 1):
-        w = f"table[{i}]."
-        unknown(r, ROW_KEYS, w, path)
-        for key in ("lot_min", "lot_max", "normal"):
-            if key not in r:
-                raise InputError(f"{path}: {w}{key} is missing; it is required")
-        lo, hi = _whole(r, "lot_min", w, path, 1), _whole(r, "lot_max", w, path, 1)
-        if lo > hi:
-            raise InputError(f"{path}: {w}lot_min ({lo}) must not be greater than "
-                             f"{w}lot_max ({hi})")
-        plans = {k: _plan(r, k, w, path, lotless) for k in ("normal", "tightened", "reduced")
-                 if k in r}
-        levels = {k: parse_level(r[k], f"{path}: {w}{k}", per_unit=scope.per_unit)
-                  for k in ("aql", "rql") if k in r}
-        label = r.get("label", "")
-        if not isinstance(label, str):
-            raise InputError(f"{path}: {w}label ({label!r}) must be text in quotes")
-        rows.append(TableRow(index=i, lot_min=lo, lot_max=hi, plans=plans, label=label,
-                             **levels))
+    rows = [_row(r, i, scope, lotless, path, unknown, take) for i, r in enumerate(raw, 1)]
+    if None in rows:  # (the ranges are checked once every row reads)
+        return ()
     try:
         check_ranges(rows)
     except InputError as exc:
-        raise InputError(f"{path}: {exc}") from None
+        take(_refuse, f"{path}: {exc}")
+        return ()
     return tuple(rows)
 
 
-def parse_extras(doc: dict, scope, path: str, unknown) -> dict:
+def parse_extras(doc: dict, scope, path: str, unknown, err=None) -> dict:
     """``{"switching": Scheme | None, "table": (TableRow, ...), "limits": AuditLimits | None}``
-    from a parsed plan file; ``unknown(keys, allowed, where, path)`` refuses unknown keys."""
+    from a parsed plan file; ``unknown(keys, allowed, where, path)`` refuses unknown keys.
+
+    With ``err`` (an object whose ``take(fn, *args, default=None, **kw)`` calls
+    ``fn`` and records its :class:`InputError` instead of raising it, as the plan
+    file's reader does) every error of ``[switching]`` and ``[[table]]`` is
+    recorded and the parts that read are returned; without it the first error
+    is raised."""
+    take = err.take if err is not None else _now
     has = "switching" in doc or "table" in doc
     if not has:
         for key in FILE_KEYS:
             if key in doc:
-                raise InputError(f"{path}: {key} at the top of the file applies to [switching] "
-                                 "and [[table]], which the file lacks; a characteristic takes "
-                                 "its own levels")
+                take(_refuse, f"{path}: {key} at the top of the file applies to [switching] "
+                              "and [[table]], which the file lacks; a characteristic takes "
+                              "its own levels")
         return {"switching": None, "table": (), "limits": None}
     from lotwise.analysis.table_audit import AuditLimits
 
-    levels = {k: parse_level(doc[k], f"{path}: {k}", per_unit=scope.per_unit)
+    levels = {k: take(parse_level, doc[k], f"{path}: {k}", per_unit=scope.per_unit)
               for k in ("aql", "rql") if k in doc}
+    levels = {k: v for k, v in levels.items() if v is not None}
     if "aql" in levels and "rql" in levels and not levels["rql"] > levels["aql"]:
-        raise InputError(f"{path}: rql ({doc['rql']}) must be above aql ({doc['aql']})")
-    risks = {k: parse_risk(doc[k], f"{path}: {k}") for k in ("max_alpha", "max_beta")
+        take(_refuse, f"{path}: rql ({doc['rql']}) must be above aql ({doc['aql']})")
+    risks = {k: take(parse_risk, doc[k], f"{path}: {k}") for k in ("max_alpha", "max_beta")
              if k in doc}
-    return {"switching": _scheme(doc, scope, path, unknown) if "switching" in doc else None,
-            "table": _rows(doc, scope, path, unknown) if "table" in doc else (),
+    risks = {k: v for k, v in risks.items() if v is not None}
+    return {"switching": _scheme(doc, scope, path, unknown, take) if "switching" in doc
+            else None,
+            "table": _rows(doc, scope, path, unknown, take) if "table" in doc else (),
             "limits": AuditLimits(**levels, **risks)}
 
 
