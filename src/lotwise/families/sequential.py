@@ -101,7 +101,7 @@ from lotwise.core.quantities import (InputError, Infeasible, format_pct, parse_c
                                      parse_fraction, parse_level, parse_risk)
 from lotwise.families.single import design_single
 
-__all__ = ['sprt_lines', 'SequentialPlan', 'wald_pa', 'wald_asn', 'wald_theta', 'SequentialDesign', 'design_sequential', 'TRUNCATE_FACTOR']
+__all__ = ['sprt_lines', 'SequentialPlan', 'wald_pa', 'wald_asn', 'wald_theta', 'SequentialDesign', 'design_sequential', 'TRUNCATE_FACTOR', 'clear_cache']
 
 
 _EPS = 1e-9  # a line value within this of a whole number counts as that number
@@ -720,6 +720,13 @@ class SequentialDesign:
 _WALKS: dict = {}
 _BLOCKED: dict = {}
 _KEPT = 16
+
+
+def clear_cache() -> None:
+    """Forget the remembered walks (:data:`_WALKS`, :data:`_BLOCKED`): for timing a
+    walk itself, or to free their memory."""
+    _WALKS.clear()
+    _BLOCKED.clear()
 
 
 def _keep(store: dict, key, result):
