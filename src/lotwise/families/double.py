@@ -741,11 +741,11 @@ class _Block:
 
     def g(self, G, bi, d, k):
         """``G(k | d)`` for arrays (0 where ``k < 0``)."""
-        kk = np.clip(k, 0, self.kt - 1)
+        kk = np.minimum(np.maximum(k, 0), self.kt - 1)
         if G.ndim == 2:
             out = G[bi, kk]
         else:
-            out = G[bi, np.clip(d - self.d0, 0, G.shape[1] - 1), kk]
+            out = G[bi, np.minimum(np.maximum(d - self.d0, 0), G.shape[1] - 1), kk]
         return np.where(k < 0, 0.0, out)
 
     def candidates(self, alpha, beta, bound):
@@ -928,6 +928,7 @@ def _mass_rows(model, n, x, N, width):
         return stage_pmf(d[None, :], n[:, None].astype(float), model, x, N)
     out = np.empty((n.size, width))
     row = None
+    left = x - d  # (hypergeometric) nonconforming items not yet in the sample, per count
     for i, m in enumerate(n):
         gap = int(m - n[i - 1]) if i else 0
         if row is None or gap > 16 or gap < 0:
@@ -935,10 +936,9 @@ def _mass_rows(model, n, x, N, width):
         else:
             for u in range(int(n[i - 1]), int(m)):  # u units already in the sample
                 if model == "binomial":
-                    up = np.full(width, float(x))
-                else:
-                    up = np.clip((x - d) / (N - u), 0.0, 1.0)
-                moved = row * up
+                    moved = row * float(x)
+                else:  # (the ufuncs themselves: np.clip's wrapper costs more than the work)
+                    moved = row * np.minimum(np.maximum(left / (N - u), 0.0), 1.0)
                 row = row - moved
                 row[1:] += moved[:-1]
         out[i] = row
