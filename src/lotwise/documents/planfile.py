@@ -660,8 +660,7 @@ def loads(text: str, path: str = "<plan>") -> PlanRequest:
     inspection = err.take(_inspection, doc, path)
 
     # [switching], [[table]]: a file with them may omit [[characteristic]]
-    extras = err.take(parse_extras, doc, scope, path, _unknown, err=err,
-                      default={"switching": None, "table": (), "limits": None})
+    extras = parse_extras(doc, scope, path, _unknown, err=err)  # (its errors go to err)
     chars_raw = doc.get("characteristic",
                         [] if "switching" in doc or "table" in doc else None)
     chars = []

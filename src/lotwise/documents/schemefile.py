@@ -89,11 +89,6 @@ def _refuse(message: str):
     raise InputError(message)
 
 
-def _now(fn, *args, default=None, **kw):
-    """Call ``fn`` and let its error stop the parse (no collector given)."""
-    return fn(*args, **kw)
-
-
 def _scheme(doc: dict, scope, path: str, unknown, take):
     """The ``[switching]`` table as a Scheme; every error goes to ``take`` (None
     is returned when any was found)."""
@@ -185,16 +180,15 @@ def _rows(doc: dict, scope, path: str, unknown, take) -> tuple:
     return tuple(rows)
 
 
-def parse_extras(doc: dict, scope, path: str, unknown, err=None) -> dict:
+def parse_extras(doc: dict, scope, path: str, unknown, *, err) -> dict:
     """``{"switching": Scheme | None, "table": (TableRow, ...), "limits": AuditLimits | None}``
     from a parsed plan file; ``unknown(keys, allowed, where, path)`` refuses unknown keys.
 
-    With ``err`` (an object whose ``take(fn, *args, default=None, **kw)`` calls
-    ``fn`` and records its :class:`InputError` instead of raising it, as the plan
-    file's reader does) every error of ``[switching]`` and ``[[table]]`` is
-    recorded and the parts that read are returned; without it the first error
-    is raised."""
-    take = err.take if err is not None else _now
+    Every error of ``[switching]`` and ``[[table]]`` goes to ``err`` (the plan
+    file reader's collector: ``err.take(fn, *args, default=None, **kw)`` calls
+    ``fn`` and records its :class:`InputError` instead of raising it), and the
+    parts that read are returned."""
+    take = err.take
     has = "switching" in doc or "table" in doc
     if not has:
         for key in FILE_KEYS:
