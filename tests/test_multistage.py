@@ -446,6 +446,76 @@ def test_generic_max_asn_on_multiple_plan():
     assert maximise_over_levels(plan.asn, plan, "binomial", PROCESS)[0] == pytest.approx(float(grid.max()), rel=1e-6)
 
 
+# The generic search (grid, one zoom, then the vertex of interpolating polynomials)
+# against the closed form of the double plan's largest ASN, which is itself checked
+# against brute-force grids above. The plan n1 = n2 = 20, c1 = 0, r1 = 2, c2 = 1 has
+# ASN = 20 + 20 * 20 p (1 - p)^19, whose maximum is at p = 1/20 exactly (calculus:
+# d/dp [p (1 - p)^19] = 0 at p = 1/20; common practice, no source needed beyond that).
+# Tolerances: value 1e-12 relative, level 1e-9 relative.
+@pytest.mark.parametrize("model", ["binomial", "poisson"])
+@pytest.mark.parametrize("plan", [DoublePlan(n1=20, c1=0, r1=2, n2=20, c2=1),
+                                  DoublePlan(n1=50, c1=1, n2=100, c2=3),
+                                  DoublePlan(n1=20, c1=0, r1=3, n2=40, c2=4),
+                                  DoublePlan(n1=400, c1=3, r1=9, n2=800, c2=14)],
+                         ids=lambda p: p.label)
+def test_generic_max_asn_agrees_with_closed_form(plan, model):
+    want, want_at = double_max_asn(plan.n1, plan.c1, plan.r1, plan.n2, model)
+    got, at = maximise_over_levels(plan.asn, plan, model, PROCESS)
+    assert got == pytest.approx(float(want), rel=1e-12)
+    assert at == pytest.approx(float(want_at), rel=1e-9)
+    if plan.n1 == 20 and plan.r1 == 2 and model == "binomial":
+        assert at == pytest.approx(1 / 20, rel=1e-12)
+        assert got == pytest.approx(20 + 400 / 20 * (19 / 20) ** 19, rel=1e-13)
+
+
+def _mp_double_pa(plan, p):
+    """Pa of a double plan under the binomial model, in mpmath (60 digits)."""
+    with mp.workdps(60):
+        p = mp.mpf(p)
+        b = lambda k, n: mp.binomial(n, k) * p**k * (1 - p)**(n - k)  # noqa: E731
+        pa = mp.fsum(b(k, plan.n1) for k in range(plan.c1 + 1))
+        for d1 in range(plan.c1 + 1, plan.r1):
+            pa += b(d1, plan.n1) * mp.fsum(b(k, plan.n2) for k in range(plan.c2 - d1 + 1))
+        return pa
+
+
+# Quality levels of a plan without a closed-form inverse (the generic inversion:
+# 128-fold grid passes, then the crossing on interpolating polynomials) against
+# mpmath's root finder on the double plan's Pa summed in 60-digit arithmetic
+# (mpmath 1.3, findroot). Tolerance 1e-12 relative.
+@pytest.mark.parametrize("prob", [0.999, 0.95, 0.5, 0.10, 0.001])
+@pytest.mark.parametrize("plan", [DoublePlan(n1=50, c1=1, n2=100, c2=3),
+                                  DoublePlan(n1=400, c1=3, r1=9, n2=800, c2=14)],
+                         ids=lambda p: p.label)
+def test_generic_quality_level_against_mpmath(plan, prob):
+    got = plan.quality_at(prob, "binomial", PROCESS)
+    with mp.workdps(60):
+        want = mp.findroot(lambda p: _mp_double_pa(plan, p) - prob, mp.mpf(got),
+                           tol=mp.mpf(10) ** -40)
+    assert got == pytest.approx(float(want), rel=1e-12)
+
+
+class _KinkedPa:
+    """A falling Pa with a kink at p = 0.3 (slope -1 below it, -3 above it):
+    the interpolating polynomials disagree across the kink, so the inversion
+    must narrow the grid instead."""
+
+    @staticmethod
+    def pa(p, model, scope):
+        p = np.asarray(p, dtype=float)
+        return np.where(p < 0.3, 1.0 - p, 0.7 - 3.0 * (p - 0.3)).clip(0.0, 1.0)
+
+
+# Reference: the inverse of the piecewise-linear function by hand (0.7 - 3 (p - 0.3)
+# = 0.55 at p = 0.35; 1 - p = 0.8 at p = 0.2). Tolerance 1e-13 relative.
+@pytest.mark.parametrize("prob, want", [(0.55, 0.35), (0.8, 0.2), (0.7, 0.3)])
+def test_inversion_of_a_kinked_pa(prob, want):
+    from lotwise.core.search import invert_levels
+
+    assert invert_levels(_KinkedPa(), [prob], "binomial", PROCESS)[0] == pytest.approx(
+        want, rel=1e-13)
+
+
 # --- notation and validation --------------------------------------------------------
 
 @pytest.mark.parametrize("text, expected", [

@@ -492,20 +492,40 @@ def invert_level(plan, prob: float, model: str, scope: Scope) -> float:
 
 
 def invert_levels(plan, probs, model: str, scope: Scope) -> list[float]:
-    """:func:`invert_level` for several probabilities at once: each pass
-    evaluates the 127 levels of every bracket still open in one call of
-    ``plan.pa`` (a plan evaluated by a walk over its units walks once per pass
-    for all of them). Each result is the one :func:`invert_level` gives alone,
-    up to the evaluation's own error (a walk stops a level at an undecided
-    probability of 1e-15, at a unit that depends on the other levels)."""
+    """:func:`invert_level` for several probabilities at once.
+
+    Each pass evaluates the 127 levels of every bracket still open in one call
+    of ``plan.pa`` (a plan evaluated by a walk over its units walks once per
+    pass for all of them) and keeps the grid cell where ``Pa`` crosses the
+    probability (a 128-fold narrowing). From the second pass on, the crossing
+    is also sought on the interpolating polynomials of degrees 3 and 5
+    through the grid values around the cell (:func:`_interpolated_crossing`):
+    where the two agree to :data:`LEVEL_RTOL` the higher degree's crossing is
+    the answer, which saves the passes that would narrow the cell that far
+    (``Pa`` is a smooth function of the level for every plan inverted here:
+    a polynomial, or a ratio of polynomials, in ``p``, or a smooth function of
+    a Poisson mean or of a normal or noncentral t quantile). Otherwise the
+    passes go on until the cell is :data:`LEVEL_RTOL` wide and its midpoint
+    is the answer, as for a ``Pa`` that is not smooth. Either way the level
+    is found to a relative ``1e-13``, up to the evaluation's own error (a
+    walk stops a level at an undecided probability of 1e-15, at a unit that
+    depends on the other levels).
+    """
     k = len(probs)
     lo, hi = [0.0] * k, [1.0] * k
-    if scope.per_unit:  # nonconformities per unit have no upper bound
-        for j, prob in enumerate(probs):
-            while float(plan.pa(hi[j], model, scope)) > prob and hi[j] < 1e6:
-                hi[j] *= 2.0
+    while scope.per_unit:  # nonconformities per unit have no upper bound: double it
+        grow = [j for j in range(k) if hi[j] < 1e6]
+        if grow:
+            at = np.atleast_1d(np.asarray(plan.pa(np.array([hi[j] for j in grow]), model,
+                                                  scope), dtype=float))
+            grow = [j for j, v in zip(grow, at) if v > probs[j]]
+        if not grow:
+            break
+        for j in grow:
+            hi[j] *= 2.0
+    found: list = [None] * k
     open_ = list(range(k))
-    for _ in range(40):
+    for step in range(40):
         if not open_:
             break
         grids = [np.linspace(lo[j], hi[j], 129)[1:-1] for j in open_]
@@ -519,10 +539,79 @@ def invert_levels(plan, probs, model: str, scope: Scope) -> list[float]:
                 lo[j] = float(xs[np.flatnonzero(above)[-1]])
             if (~above).any():
                 hi[j] = float(xs[np.flatnonzero(~above)[0]])
-            if hi[j] - lo[j] > 1e-13 * max(hi[j], 1e-300):
-                still.append(j)
+            if hi[j] - lo[j] <= LEVEL_RTOL * max(hi[j], 1e-300):
+                continue
+            if step and above.any() and (~above).any():
+                found[j] = _interpolated_crossing(xs, pa, probs[j], above)
+                if found[j] is not None:
+                    continue
+            still.append(j)
         open_ = still
-    return [0.5 * (a + b) for a, b in zip(lo, hi)]
+    return [f if f is not None else 0.5 * (a + b) for f, a, b in zip(found, lo, hi)]
+
+
+#: Relative accuracy of the quality levels of :func:`invert_levels`.
+LEVEL_RTOL = 1e-13
+
+
+def _interpolated_crossing(xs, pa, prob: float, above) -> float | None:
+    """Where ``Pa`` crosses ``prob`` between two neighbours of the even grid
+    ``xs`` (``pa`` above ``prob`` at the first, not at the second), on the
+    interpolating polynomials of degrees 3 and 5 through the 4 and 6 grid
+    values around that cell; the degree-5 crossing when the two crossings lie
+    in the cell and within :data:`LEVEL_RTOL` of each other (the difference
+    bounds the degree-3 error, and the degree-5 error is smaller by about the
+    square of the cell's width over ``Pa``'s scale), else ``None``."""
+    i = int(np.flatnonzero(above)[-1])
+    if i < 2 or i + 3 >= xs.size or above[i + 1]:
+        return None
+    x0, h = float(xs[i]), float(xs[i + 1] - xs[i])
+    roots = []
+    for first, last in ((i - 1, i + 3), (i - 2, i + 4)):
+        t = (xs[first:last] - x0) / h
+        coef = np.linalg.solve(np.vander(t), pa[first:last] - prob)
+        root = _falling_root(coef.tolist())
+        if root is None:
+            return None
+        roots.append(x0 + h * root)
+    if abs(roots[1] - roots[0]) > LEVEL_RTOL * max(abs(roots[1]), 1e-300):
+        return None
+    return roots[1]
+
+
+def _falling_root(coef, start: float = 0.0) -> float | None:
+    """Root in ``[start, 1]`` of the polynomial ``coef`` (highest power first),
+    positive at ``start`` and not positive at 1, by Newton steps kept inside a
+    shrinking bracket (bisection where a step would leave it); ``None`` when
+    the signs at the ends do not bracket a root."""
+    def value(t):
+        v = d = 0.0
+        for c in coef:
+            d = d * t + v
+            v = v * t + c
+        return v, d
+
+    a, b = start, 1.0
+    fa, fb = value(a)[0], value(b)[0]
+    if not (fa > 0.0 >= fb):
+        return None
+    t = a + (b - a) * fa / (fa - fb)
+    for _ in range(100):
+        v, d = value(t)
+        if v > 0.0:
+            a = t
+        else:
+            b = t
+        if v == 0.0 or b - a <= 2e-15:
+            break
+        nxt = t - v / d if d != 0.0 else a
+        if not a < nxt < b:
+            nxt = 0.5 * (a + b)
+        if abs(nxt - t) <= 1e-15:
+            t = nxt
+            break
+        t = nxt
+    return t
 
 
 #: ``Pa`` at the top of the range searched for the largest ASN
@@ -568,16 +657,55 @@ def maximise_over_levels(func, plan, model: str, scope: Scope, points: int = 201
     vals = np.asarray(func(ps, model, scope))
     i = int(np.argmax(vals))
     best = (float(vals[i]), float(ps[i]))
-    # Zoom: a fresh 101-point grid over the two cells around the maximum,
-    # five times (each pass narrows the bracket 50-fold).
+    # Zoom: a fresh 101-point grid over the two cells around the maximum (each
+    # pass narrows the bracket 50-fold), until the vertex of the interpolating
+    # polynomials through the grid values around the maximum is settled
+    # (:func:`_interpolated_peak`), or the bracket is 1e-12 wide, or six passes.
     a, b = ps[max(i - 1, 0)], ps[min(i + 1, points - 1)]
     for _ in range(6):
         xs = np.linspace(a, b, 101)
-        v = np.asarray(func(xs, model, scope))
+        v = np.asarray(func(xs, model, scope), dtype=float)
         j = int(np.argmax(v))
         if v[j] > best[0]:
             best = (float(v[j]), float(xs[j]))
+        peak = _interpolated_peak(xs, v, j)
+        if peak is not None:
+            return peak if peak[0] >= best[0] else best
         a, b = xs[max(j - 1, 0)], xs[min(j + 1, 100)]
         if b - a < 1e-12 * max(b, 1e-12):
             break
     return best
+
+
+#: Relative agreement of the two vertices :func:`_interpolated_peak` compares:
+#: the value (the location of a maximum is set by the value only to about the
+#: square root of the value's relative error, some 1e-7 of the curve's scale).
+PEAK_RTOL = 1e-13
+
+
+def _interpolated_peak(xs, v, j: int):
+    """The maximum of the values ``v`` on the even grid ``xs`` (largest at
+    ``j``) as the vertex of the interpolating polynomials of degrees 4 and 6
+    through the 5 and 7 values around ``j``: ``(value, level)`` of the
+    degree-6 vertex when both vertices lie within a cell of ``xs[j]`` and
+    their values agree to :data:`PEAK_RTOL` and their levels to 1e-9 of the
+    level, else ``None``."""
+    if j < 3 or j + 4 > xs.size:
+        return None
+    x0, h = float(xs[j]), float(xs[1] - xs[0])
+    found = []
+    for half in (2, 3):
+        t = (xs[j - half:j + half + 1] - x0) / h
+        coef = np.linalg.solve(np.vander(t), v[j - half:j + half + 1])
+        slope = np.polyder(coef)
+        s_lo, s_hi = np.polyval(slope, -1.0), np.polyval(slope, 1.0)
+        if not s_lo > 0.0 > s_hi:
+            return None
+        root = _falling_root((slope / (s_lo - s_hi)).tolist(), -1.0)
+        if root is None:
+            return None
+        found.append((float(np.polyval(coef, root)), x0 + h * root))
+    (v4, x4), (v6, x6) = found
+    if abs(v6 - v4) > PEAK_RTOL * abs(v6) or abs(x6 - x4) > 1e-9 * max(abs(x6), 1e-300):
+        return None
+    return v6, x6
