@@ -375,7 +375,20 @@ class _Walk:
         top = (r if r < self.R else self.R) - 1  # highest count still undecided or acceptable
         beyond = None
         if lo <= hi:
-            if self.model == "poisson":
+            if self.model == "binomial" and hi <= top:
+                # The common case: rows lo..hi each move up one with probability p,
+                # and only row hi's move can leave the band (when hi = top).
+                band = S[lo:hi + 1]
+                moved = band * self.pnc
+                band *= self.qnc
+                if hi < top:
+                    S[lo + 1:hi + 2] += moved
+                    hi += 1
+                else:
+                    if hi > lo:
+                        S[lo + 1:hi + 1] += moved[:-1]
+                    beyond = moved[-1]
+            elif self.model == "poisson":
                 beyond, hi = _poisson_unit(S, lo, hi, top, self.pois)
             else:
                 if self.model == "binomial":
