@@ -368,6 +368,7 @@ class _Eval:
         else:
             self.x_aql, self.x_rql = targets.aql, targets.rql
         self.evaluated = 0
+        self.rows: dict = {}  # the last mass row of each level (see _mass_rows)
 
     def parts(self, n1, c1, c2, n2, x, r1=None):
         """``(Pa, P(second sample))`` for arrays of plans; every first-sample
@@ -696,13 +697,13 @@ class _Block:
             dt = min(dt, int(ev.x_rql) + 2)
         while True:
             d = np.arange(dt, dtype=float)[None, :]
-            tot = np.cumsum(_mass_rows(model, nt, ev.x_rql, N, dt), axis=1)
+            tot = np.cumsum(_mass_rows(model, nt, ev.x_rql, N, dt, ev.rows), axis=1)
             if hyper or np.all(tot[:, -1] > beta + _TOL + _SLACK):
                 break
             dt *= 2
         self.dt = dt
-        self.fa = _mass_rows(model, self.n1, ev.x_aql, N, dt)
-        self.fr = _mass_rows(model, self.n1, ev.x_rql, N, dt)
+        self.fa = _mass_rows(model, self.n1, ev.x_aql, N, dt, ev.rows)
+        self.fr = _mass_rows(model, self.n1, ev.x_rql, N, dt, ev.rows)
         self.Fa = np.cumsum(self.fa, axis=1)
         self.Fr = np.cumsum(self.fr, axis=1)
         # Fact 4: r1 - 1 is at most the largest count c with P_RQL(whole
@@ -729,7 +730,7 @@ class _Block:
         n2 = self.n2.astype(float)
         if not hyper:
             self.d0 = 0
-            self.Ga, self.Gr = (np.minimum(np.cumsum(_mass_rows(model, self.n2, x, N, kt),
+            self.Ga, self.Gr = (np.minimum(np.cumsum(_mass_rows(model, self.n2, x, N, kt, ev.rows),
                                                      axis=1), 1.0)
                                 for x in (ev.x_aql, ev.x_rql))
             self.work += 2 * n2.size * kt * _kernel_weight(model)
@@ -914,27 +915,44 @@ def _wtable(blk, f, G, ub, d0, d1, cmin, cmax):
     return w
 
 
-def _mass_rows(model, n, x, N, width):
+def _mass_rows(model, n, x, N, width, memo=None):
     """``out[i, d]``: probability that a sample of ``n[i]`` (rising) finds
     ``d < width``. Under the binomial and hypergeometric models each row
     comes from the previous one by adding one unit to the sample at a time
     (exact, every step a convex combination: the unit is nonconforming with
     probability ``p``, or ``(D - d) / (N - m)`` after ``m`` units holding
     ``d``); a row more than 16 units from the previous one, and every
-    Poisson row, is computed directly."""
+    Poisson row, is computed directly.
+
+    ``memo`` (a dict kept by the caller) remembers the last rows computed at
+    each level, 64 counts wider than asked, so that a later call's first row
+    also comes from one of them by a few units (the entries ``d < width`` of
+    a row depend only on the entries ``d < width`` before it)."""
     n = np.asarray(n, dtype=np.int64)
-    d = np.arange(width, dtype=float)
     if model == "poisson":
+        d = np.arange(width, dtype=float)
         return stage_pmf(d[None, :], n[:, None].astype(float), model, x, N)
-    out = np.empty((n.size, width))
-    row = None
+    wide = width + 64 if memo is not None else width
+    row, last = None, None
+    known = memo.setdefault((model, float(x)), {}) if memo is not None else {}
+    if n.size:
+        m = int(n[0])
+        near = [m0 for m0, r0 in known.items() if 0 <= m - m0 <= 16 and r0.size >= width]
+        if near:
+            last = max(near)
+            row = known[last][:wide].copy()
+            wide = row.size
+    d = np.arange(wide, dtype=float)
+    out = np.empty((n.size, wide))
     left = x - d  # (hypergeometric) nonconforming items not yet in the sample, per count
     for i, m in enumerate(n):
-        gap = int(m - n[i - 1]) if i else 0
+        if i:
+            last = int(n[i - 1])
+        gap = int(m) - last if last is not None else -1
         if row is None or gap > 16 or gap < 0:
             row = stage_pmf(d, float(m), model, x, N)
         else:
-            for u in range(int(n[i - 1]), int(m)):  # u units already in the sample
+            for u in range(last, int(m)):  # u units already in the sample
                 if model == "binomial":
                     moved = row * float(x)
                 else:  # (the ufuncs themselves: np.clip's wrapper costs more than the work)
@@ -942,7 +960,12 @@ def _mass_rows(model, n, x, N, width):
                 row = row - moved
                 row[1:] += moved[:-1]
         out[i] = row
-    return out
+    if memo is not None and n.size:
+        known.pop(int(n[-1]), None)
+        if len(known) >= 8:  # forget the oldest (several series of n share a level)
+            known.pop(next(iter(known)))
+        known[int(n[-1])] = out[-1].copy()
+    return out[:, :width] if wide != width else out
 
 
 def _hyper_rows(n1, n2, N, D, dlo, dhi, kt):
