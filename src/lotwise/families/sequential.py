@@ -152,8 +152,26 @@ def _p_of_theta(theta, s, per_unit):
 def wald_theta(p, s: float, per_unit: bool = False):
     """The nonzero root ``theta`` of ``E exp(theta (X - s)) = 1`` at level ``p``
     (``+inf`` at ``p = 0``, ``-inf`` at ``p = 1`` for 0/1 items); bisection on
-    the decreasing map ``theta -> p``."""
+    the decreasing map ``theta -> p``. The roots at a few levels are
+    remembered (a report asks for Wald's OC and ASN at the AQL and RQL of the
+    same plan several times)."""
     p = np.atleast_1d(np.asarray(p, dtype=float))
+    key = (p.tobytes(), p.shape, float(s), bool(per_unit)) if p.size <= 8 else None
+    known = _THETAS.get(key) if key is not None else None
+    if known is not None:
+        return known.copy()
+    theta = _wald_theta(p, s, per_unit)
+    if key is not None:
+        if len(_THETAS) >= 64:
+            _THETAS.pop(next(iter(_THETAS)))
+        _THETAS[key] = theta.copy()
+    return theta
+
+
+_THETAS: dict = {}
+
+
+def _wald_theta(p, s: float, per_unit: bool):
     lo = np.full(p.shape, -1.0)
     hi = np.full(p.shape, 1.0)
     for _ in range(80):
@@ -723,10 +741,11 @@ _KEPT = 16
 
 
 def clear_cache() -> None:
-    """Forget the remembered walks (:data:`_WALKS`, :data:`_BLOCKED`): for timing a
-    walk itself, or to free their memory."""
+    """Forget the remembered walks (:data:`_WALKS`, :data:`_BLOCKED`) and Wald
+    roots (:data:`_THETAS`): for timing a walk itself, or to free their memory."""
     _WALKS.clear()
     _BLOCKED.clear()
+    _THETAS.clear()
 
 
 def _keep(store: dict, key, result):
