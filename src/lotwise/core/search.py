@@ -668,7 +668,7 @@ def maximise_over_levels(func, plan, model: str, scope: Scope, points: int = 201
         j = int(np.argmax(v))
         if v[j] > best[0]:
             best = (float(v[j]), float(xs[j]))
-        peak = _interpolated_peak(xs, v, j)
+        peak = interpolated_peak(xs, v, j)
         if peak is not None:
             return peak if peak[0] >= best[0] else best
         a, b = xs[max(j - 1, 0)], xs[min(j + 1, 100)]
@@ -683,13 +683,14 @@ def maximise_over_levels(func, plan, model: str, scope: Scope, points: int = 201
 PEAK_RTOL = 1e-13
 
 
-def _interpolated_peak(xs, v, j: int):
+def interpolated_peak(xs, v, j: int, rtol: float = PEAK_RTOL, at_rtol: float = 1e-9):
     """The maximum of the values ``v`` on the even grid ``xs`` (largest at
     ``j``) as the vertex of the interpolating polynomials of degrees 4 and 6
     through the 5 and 7 values around ``j``: ``(value, level)`` of the
     degree-6 vertex when both vertices lie within a cell of ``xs[j]`` and
-    their values agree to :data:`PEAK_RTOL` and their levels to 1e-9 of the
-    level, else ``None``."""
+    their values agree to ``rtol`` and their levels to ``at_rtol`` of the
+    level, else ``None`` (for a maximum at the grid's edge, or a curve not
+    smooth around it)."""
     if j < 3 or j + 4 > xs.size:
         return None
     x0, h = float(xs[j]), float(xs[1] - xs[0])
@@ -706,6 +707,6 @@ def _interpolated_peak(xs, v, j: int):
             return None
         found.append((float(np.polyval(coef, root)), x0 + h * root))
     (v4, x4), (v6, x6) = found
-    if abs(v6 - v4) > PEAK_RTOL * abs(v6) or abs(x6 - x4) > 1e-9 * max(abs(x6), 1e-300):
+    if abs(v6 - v4) > rtol * abs(v6) or abs(x6 - x4) > at_rtol * max(abs(x6), 1e-300):
         return None
     return v6, x6
