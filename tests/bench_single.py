@@ -77,7 +77,7 @@ CASES.append({
     "name": "cold `lotwise design --json` vs `python -c 'import numpy, scipy.special'` "
             "(ratio shown is baseline/CLI; goal CLI <= 1.3x baseline, i.e. ratio >= 0.77)",
     "func": lambda: _cold(_CLI), "baseline": lambda: _cold(_BASE), "ratio_goal": 0.77,
-    "repeat": 9, "paired": True,
+    "repeat": 21, "paired": True,
 })
 
 
@@ -149,7 +149,7 @@ for _scheme, _extra in (("double", []), ("sequential", []),
         "name": f"cold `lotwise design --scheme {_scheme} --json` (AQL 1 %/RQL 6 %) vs the "
                 "same baseline (goal ratio >= 0.77)",
         "func": (lambda cmd=_cmd: _cold(cmd)), "baseline": lambda: _cold(_BASE),
-        "ratio_goal": 0.77, "repeat": 9, "paired": True})
+        "ratio_goal": 0.77, "repeat": 21, "paired": True})
 
 # The command line asks for one BLAS thread (lotwise.cli.BLAS_THREADS), which
 # spares it the start-up of numpy's thread pool; the baseline above runs with
@@ -161,5 +161,5 @@ CASES.append({
             "(as the CLI runs)",
     "func": lambda: _cold(_CLI),
     "baseline": lambda: subprocess.run(_BASE, check=True, capture_output=True, env=_ENV1),
-    "repeat": 9, "paired": True,
+    "repeat": 21, "paired": True,
 })
