@@ -260,9 +260,18 @@ def test_truncated_dp_hypergeometric_brute_force(D):
 
 # Reference: enumeration of per-unit Poisson counts 0..7 over a plan
 # truncated at 6 (8^6 sequences; the mass above 7 per unit at 0.3 is below
-# 1e-8), each weighted by its Poisson probability; tolerance 1e-7.
+# 1e-8), each weighted by its Poisson probability; tolerance 1e-7. Both ways
+# of convolving one unit's count (the matrices of small walks, row by row for
+# wide ones) are checked.
+@pytest.mark.parametrize("toeplitz_cells", [None, 0])
 @pytest.mark.parametrize("lam", [0.05, 0.3])
-def test_truncated_dp_poisson_brute_force(lam):
+def test_truncated_dp_poisson_brute_force(lam, toeplitz_cells, monkeypatch):
+    from lotwise.core import stages
+    from lotwise.families import sequential
+
+    if toeplitz_cells is not None:
+        monkeypatch.setattr(stages, "TOEPLITZ_CELLS", toeplitz_cells)
+    sequential.clear_cache()
     plan = SequentialPlan(h1=0.5, h2=0.9, s=0.3, truncate=6)
     scope = Scope(per_unit=True)
     f = [math.exp(-lam) * lam ** k / math.factorial(k) for k in range(8)]

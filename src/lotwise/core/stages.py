@@ -337,6 +337,15 @@ class _Walk:
         xr = self.x[None, :]
         if self.model == "poisson":
             self.pois = _pois_pmf(np.arange(self.band, dtype=float)[:, None], xr)
+            # toeplitz[v, u] = pois[v - u] (0 above the diagonal): one unit's
+            # convolution as one product instead of one per row, where the
+            # matrices are small (band^2 x levels <= TOEPLITZ_CELLS).
+            self.toeplitz = None
+            if self.band * self.band * self.x.size <= TOEPLITZ_CELLS:
+                i = np.arange(self.band)
+                lag = i[:, None] - i[None, :]
+                self.toeplitz = np.where((lag >= 0)[:, :, None],
+                                         self.pois[np.maximum(lag, 0)], 0.0)
         elif self.model == "binomial":
             self.pnc = np.clip(xr, 0.0, 1.0)
             self.qnc = 1.0 - self.pnc
@@ -389,7 +398,7 @@ class _Walk:
                         S[lo + 1:hi + 1] += moved[:-1]
                     beyond = moved[-1]
             elif self.model == "poisson":
-                beyond, hi = _poisson_unit(S, lo, hi, top, self.pois)
+                beyond, hi = _poisson_unit(S, lo, hi, top, self.pois, self.toeplitz)
             else:
                 if self.model == "binomial":
                     q, keep = self.pnc, self.qnc
@@ -441,18 +450,30 @@ class _Walk:
         return k + 1
 
 
-def _poisson_unit(S, lo: int, hi: int, top: int, pois):
+#: Largest ``band^2 x levels`` for which a Poisson walk keeps its one-unit
+#: convolution as matrices (16 MB); wider walks convolve row by row.
+TOEPLITZ_CELLS = 2_000_000
+
+
+def _poisson_unit(S, lo: int, hi: int, top: int, pois, toeplitz=None):
     """One more unit under the Poisson model: the undecided counts ``lo..hi``
-    convolved with the unit's count, kept up to ``top``; returns the mass that
-    went beyond ``top`` and the new ``hi``."""
+    convolved with the unit's count (``pois[j]``: the mass of ``j``
+    nonconformities per level; ``toeplitz[v, u] = pois[v - u]`` when given),
+    kept up to ``top``; returns the mass that went beyond ``top`` and the new
+    ``hi``."""
     width = top - lo + 1
-    band = S[lo:hi + 1].copy()
+    band = S[lo:hi + 1]
     mass = _add_rows(band, axis=0)
-    S[lo:hi + 1] = 0.0
     if width <= 0:
+        band[...] = 0.0
         return mass, lo - 1
-    new = np.zeros((width, S.shape[1]))
-    for u in range(min(band.shape[0], width)):
-        new[u:] += band[u:u + 1] * pois[:width - u]
+    rows = min(band.shape[0], width)
+    if toeplitz is not None:
+        new = np.einsum("vuc,uc->vc", toeplitz[:width, :rows], band[:rows])
+    else:
+        new = np.zeros((width, S.shape[1]))
+        for u in range(rows):
+            new[u:] += band[u:u + 1] * pois[:width - u]
+    band[...] = 0.0
     S[lo:top + 1] = new
     return np.maximum(mass - _add_rows(new, axis=0), 0.0), top
