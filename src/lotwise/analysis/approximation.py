@@ -130,15 +130,14 @@ def rule_of_thumb(n: int, p: float) -> bool:
     return bool(n >= 50 and n * p < 5)
 
 
-def max_curve_error(plan, scope: Scope, exact_model: str, points: int = 801):
+def max_curve_error(plan, scope: Scope, exact_model: str, points: int = search.CURVE_POINTS):
     """Largest ``|Pa_poisson - Pa_exact|`` and where, over ``[0, p_end]`` where
     the exact ``Pa`` has dropped to 0.001 (or up to 1): the grid's largest
     difference refined by the vertex of interpolating polynomials through the
     grid values around it (:func:`lotwise.core.search.interpolated_peak`,
     where degrees 4 and 6 agree to 1e-10), else by a finer grid around it
     (and always by that grid over the whole counts of a finite lot)."""
-    p_end = min(1.0, 1.2 * plan.quality_at(0.001, exact_model, scope, "consumer"))
-    p_end = max(p_end, 1e-12)
+    p_end = search.curve_top(plan, exact_model, scope)  # the largest ASN's grid too
 
     def diff(ps):
         ps = np.asarray(ps, dtype=float)

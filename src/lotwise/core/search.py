@@ -38,7 +38,7 @@ from lotwise.core.quantities import Infeasible, format_level, format_pct
 from lotwise.core.types import TOL, Scope, Targets, lot_targets
 
 __all__ = ["Kernel", "n_min", "n_max", "c_min", "smallest_plan", "count_at", "count_level",
-           "invert_level", "invert_levels", "ASN_TOP_PA", "check_targets", "check_lot", "initial_upper", "last_true",
+           "invert_level", "invert_levels", "ASN_TOP_PA", "CURVE_POINTS", "curve_top", "check_targets", "check_lot", "initial_upper", "last_true",
            "maximise_over_levels"]
 
 
@@ -614,28 +614,42 @@ def _falling_root(coef, start: float = 0.0) -> float | None:
     return t
 
 
-#: ``Pa`` at the top of the range searched for the largest ASN
-#: (:func:`maximise_over_levels`); a report inverts it with the plan's quality levels.
+#: ``Pa`` at the top of the range a report scans (:func:`curve_top`); a report
+#: inverts it with the plan's quality levels.
 ASN_TOP_PA = 0.001
+
+#: Points of the even grid over ``[0, curve_top]`` on which a report scans a
+#: plan's curves for their largest values (the ASN here, the Poisson-exact
+#: difference in :mod:`lotwise.analysis.approximation`): one grid, so a plan
+#: evaluated by a walk over its units walks it once for both.
+CURVE_POINTS = 801
+
+
+def curve_top(plan, model: str, scope: Scope) -> float:
+    """Top of the range a report scans: 1.2 times the level where ``Pa`` has
+    fallen to :data:`ASN_TOP_PA` (at most 1 for a fraction nonconforming, at
+    least 1e-12)."""
+    q = plan.quality_at(ASN_TOP_PA, model, scope, "consumer")
+    top = 1.2 * q if scope.per_unit else min(1.0, 1.2 * q)
+    return max(top, 1e-12)
 
 
 def maximise_over_levels(func, plan, model: str, scope: Scope, points: int = 201):
     """Largest value of ``func(p, model, scope)`` (an ASN) over the OC curve of
     ``plan`` and the quality level where it occurs.
 
-    A grid over the range where ``Pa`` falls from 1 to 0.001, refined by
-    repeated finer grids around the grid maximum (whole lot counts under the
-    hypergeometric model: grids of at most ``points`` counts until the bracket
-    holds that few, then every count in it, so a lot of 10^9 costs a few grids). For double plans under the binomial and
-    Poisson models :func:`lotwise.families.double.double_max_asn` gives the
-    closed form; this generic search agrees with it to the refinement
-    tolerance.
+    Under the binomial and Poisson models: the :data:`CURVE_POINTS` grid over
+    ``[0, curve_top]`` (where ``Pa`` falls from 1 to below 0.001), then
+    101-point grids over the two cells around the best point, until the
+    vertex of interpolating polynomials through the values around it is
+    settled (:func:`interpolated_peak`). Under the hypergeometric model, whole
+    lot counts: grids of at most ``points`` counts until the bracket holds
+    that few, then every count in it, so a lot of 10^9 costs a few grids. For
+    double plans under the binomial and Poisson models
+    :func:`lotwise.families.double.double_max_asn` gives the closed form; this
+    generic search agrees with it to 1e-12 (tests/test_multistage.py).
     """
-    hi = plan.quality_at(ASN_TOP_PA, model, scope, "consumer")
-    if not scope.per_unit:
-        hi = min(1.0, 1.2 * hi + 1e-9)
-    else:
-        hi = 1.2 * hi + 1e-9
+    hi = curve_top(plan, model, scope)
     if model == "hypergeometric":
         N = scope.lot_size
         dmax = int(min(N, math.ceil(hi * N)))
@@ -653,15 +667,18 @@ def maximise_over_levels(func, plan, model: str, scope: Scope, points: int = 201
         fv = np.asarray(func(fine / N, model, scope))
         j = int(np.argmax(fv))
         return float(fv[j]), float(fine[j] / N)
-    ps = np.linspace(0.0, hi, points)
-    vals = np.asarray(func(ps, model, scope))
+    ps = np.linspace(0.0, hi, CURVE_POINTS)
+    vals = np.asarray(func(ps, model, scope), dtype=float)
     i = int(np.argmax(vals))
     best = (float(vals[i]), float(ps[i]))
+    peak = interpolated_peak(ps, vals, i)
+    if peak is not None and peak[0] >= best[0]:
+        return peak
     # Zoom: a fresh 101-point grid over the two cells around the maximum (each
     # pass narrows the bracket 50-fold), until the vertex of the interpolating
     # polynomials through the grid values around the maximum is settled
     # (:func:`_interpolated_peak`), or the bracket is 1e-12 wide, or six passes.
-    a, b = ps[max(i - 1, 0)], ps[min(i + 1, points - 1)]
+    a, b = ps[max(i - 1, 0)], ps[min(i + 1, ps.size - 1)]
     for _ in range(6):
         xs = np.linspace(a, b, 101)
         v = np.asarray(func(xs, model, scope), dtype=float)
