@@ -126,6 +126,8 @@ CHANGED: dict[str, str] = {
     "*:json.asn.max_at": MAX_AT,
     "check_chain_lot:json.rectifying.models.binomial.aoql_p": AOQL_AT,
     "check_chain_lot_aoq_simple:json.rectifying.models.binomial.aoql_p": AOQL_AT,
+    "check_chain_lot:json.rectifying.models.poisson.aoql_p": AOQL_AT,
+    "check_chain_lot_aoq_simple:json.rectifying.models.poisson.aoql_p": AOQL_AT,
     # Every plan now has notation() (the plan interface); a single plan's was null.
     # A key "*:PATH" excuses PATH in every case.
     "*:json.statements": "one plain-words builder for every family: the same sentences in "

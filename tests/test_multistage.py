@@ -480,7 +480,7 @@ def _mp_double_pa(plan, p):
 
 
 # Quality levels of a plan without a closed-form inverse (the generic inversion:
-# 128-fold grid passes, then the crossing on interpolating polynomials) against
+# 256-fold grid passes, then the crossing on interpolating polynomials) against
 # mpmath's root finder on the double plan's Pa summed in 60-digit arithmetic
 # (mpmath 1.3, findroot). Tolerance 1e-12 relative.
 @pytest.mark.parametrize("prob", [0.999, 0.95, 0.5, 0.10, 0.001])

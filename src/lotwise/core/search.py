@@ -486,22 +486,24 @@ def count_level(plan, prob: float, scope: Scope, side: str) -> float:
 def invert_level(plan, prob: float, model: str, scope: Scope) -> float:
     """Quality level where ``plan.pa`` equals ``prob`` under a continuous model,
     for plan types without a closed-form inverse: ``Pa`` falls in ``p``, so each
-    pass evaluates 127 levels inside the bracket in one vectorised call and
-    keeps the sub-interval where ``Pa`` crosses ``prob``."""
+    pass evaluates a grid of levels inside the bracket in one vectorised call
+    and keeps the cell where ``Pa`` crosses ``prob`` (see :func:`invert_levels`)."""
     return invert_levels(plan, (prob,), model, scope)[0]
 
 
 def invert_levels(plan, probs, model: str, scope: Scope) -> list[float]:
     """:func:`invert_level` for several probabilities at once.
 
-    Each pass evaluates the 127 levels of every bracket still open in one call
-    of ``plan.pa`` (a plan evaluated by a walk over its units walks once per
-    pass for all of them) and keeps the grid cell where ``Pa`` crosses the
-    probability (a 128-fold narrowing). From the second pass on, the crossing
-    is also sought on the interpolating polynomials of degrees 3 and 5
-    through the grid values around the cell (:func:`_interpolated_crossing`):
-    where the two agree to :data:`LEVEL_RTOL` the higher degree's crossing is
-    the answer, which saves the passes that would narrow the cell that far
+    Each pass evaluates :data:`INVERT_POINTS` levels of every bracket still
+    open in one call of ``plan.pa`` (a plan evaluated by a walk over its units
+    walks once per pass for all of them) and keeps the grid cell where ``Pa``
+    crosses the probability: the first pass over twelve decades below the top
+    (one grid for all the probabilities), the next ones evenly over the cell
+    kept (a 256-fold narrowing). From the second pass on, the crossing is
+    also sought on the interpolating polynomials of degrees 5 and 7 through
+    the grid values around the cell (:func:`_interpolated_crossing`): where
+    the two agree to :data:`LEVEL_RTOL` the higher degree's crossing is the
+    answer, which saves the passes that would narrow the cell that far
     (``Pa`` is a smooth function of the level for every plan inverted here:
     a polynomial, or a ratio of polynomials, in ``p``, or a smooth function of
     a Poisson mean or of a normal or noncentral t quantile). Otherwise the
@@ -528,8 +530,13 @@ def invert_levels(plan, probs, model: str, scope: Scope) -> list[float]:
     for step in range(40):
         if not open_:
             break
-        grids = [np.linspace(lo[j], hi[j], 129)[1:-1] for j in open_]
-        xs, where = np.unique(np.concatenate(grids), return_inverse=True)  # first pass: one grid
+        if step:  # the cell kept, widened by 4 of the new steps each side so that the
+            # interpolation's 8 values fit around a crossing next to its edge
+            grids = [_padded_grid(lo[j], hi[j], 1.0 if not scope.per_unit else math.inf)
+                     for j in open_]
+        else:  # levels spread over twelve decades first (one grid shared by all)
+            grids = [np.geomspace(1e-12 * hi[j], hi[j], INVERT_POINTS + 1)[:-1] for j in open_]
+        xs, where = np.unique(np.concatenate(grids), return_inverse=True)
         pas = np.atleast_1d(np.asarray(plan.pa(xs, model, scope), dtype=float))
         pas = pas[where.ravel()].reshape(len(open_), -1)
         still = []
@@ -550,24 +557,35 @@ def invert_levels(plan, probs, model: str, scope: Scope) -> list[float]:
     return [f if f is not None else 0.5 * (a + b) for f, a, b in zip(found, lo, hi)]
 
 
+def _padded_grid(lo: float, hi: float, top: float):
+    """:data:`INVERT_POINTS` even levels over ``[lo, hi]`` widened by 4 steps
+    each side (within ``[0, top]``), ends excluded."""
+    pad = 4.0 * (hi - lo) / (INVERT_POINTS - 7)
+    a, b = max(lo - pad, 0.0), min(hi + pad, top)
+    return np.linspace(a, b, INVERT_POINTS + 2)[1:-1]
+
+
 #: Relative accuracy of the quality levels of :func:`invert_levels`.
 LEVEL_RTOL = 1e-13
+
+#: Levels per bracket and pass of :func:`invert_levels`.
+INVERT_POINTS = 255
 
 
 def _interpolated_crossing(xs, pa, prob: float, above) -> float | None:
     """Where ``Pa`` crosses ``prob`` between two neighbours of the even grid
     ``xs`` (``pa`` above ``prob`` at the first, not at the second), on the
-    interpolating polynomials of degrees 3 and 5 through the 4 and 6 grid
-    values around that cell; the degree-5 crossing when the two crossings lie
+    interpolating polynomials of degrees 5 and 7 through the 6 and 8 grid
+    values around that cell; the degree-7 crossing when the two crossings lie
     in the cell and within :data:`LEVEL_RTOL` of each other (the difference
-    bounds the degree-3 error, and the degree-5 error is smaller by about the
+    bounds the degree-5 error, and the degree-7 error is smaller by about the
     square of the cell's width over ``Pa``'s scale), else ``None``."""
     i = int(np.flatnonzero(above)[-1])
-    if i < 2 or i + 3 >= xs.size or above[i + 1]:
+    if i < 3 or i + 5 > xs.size or above[i + 1]:
         return None
     x0, h = float(xs[i]), float(xs[i + 1] - xs[i])
     roots = []
-    for first, last in ((i - 1, i + 3), (i - 2, i + 4)):
+    for first, last in ((i - 2, i + 4), (i - 3, i + 5)):
         t = (xs[first:last] - x0) / h
         coef = np.linalg.solve(np.vander(t), pa[first:last] - prob)
         root = _falling_root(coef.tolist())
@@ -671,13 +689,13 @@ def maximise_over_levels(func, plan, model: str, scope: Scope, points: int = 201
     vals = np.asarray(func(ps, model, scope), dtype=float)
     i = int(np.argmax(vals))
     best = (float(vals[i]), float(ps[i]))
-    peak = interpolated_peak(ps, vals, i)
+    peak = interpolated_peak(ps, vals, i, halves=(3, 4))  # degrees 6 and 8 on this grid
     if peak is not None and peak[0] >= best[0]:
         return peak
     # Zoom: a fresh 101-point grid over the two cells around the maximum (each
     # pass narrows the bracket 50-fold), until the vertex of the interpolating
     # polynomials through the grid values around the maximum is settled
-    # (:func:`_interpolated_peak`), or the bracket is 1e-12 wide, or six passes.
+    # (:func:`interpolated_peak`), or the bracket is 1e-12 wide, or six passes.
     a, b = ps[max(i - 1, 0)], ps[min(i + 1, ps.size - 1)]
     for _ in range(6):
         xs = np.linspace(a, b, 101)
@@ -694,25 +712,27 @@ def maximise_over_levels(func, plan, model: str, scope: Scope, points: int = 201
     return best
 
 
-#: Relative agreement of the two vertices :func:`_interpolated_peak` compares:
+#: Relative agreement of the two vertices :func:`interpolated_peak` compares:
 #: the value (the location of a maximum is set by the value only to about the
 #: square root of the value's relative error, some 1e-7 of the curve's scale).
 PEAK_RTOL = 1e-13
 
 
-def interpolated_peak(xs, v, j: int, rtol: float = PEAK_RTOL, at_rtol: float = 1e-9):
+def interpolated_peak(xs, v, j: int, rtol: float = PEAK_RTOL, at_rtol: float = 1e-9,
+                      halves: tuple[int, int] = (2, 3)):
     """The maximum of the values ``v`` on the even grid ``xs`` (largest at
-    ``j``) as the vertex of the interpolating polynomials of degrees 4 and 6
-    through the 5 and 7 values around ``j``: ``(value, level)`` of the
-    degree-6 vertex when both vertices lie within a cell of ``xs[j]`` and
+    ``j``) as the vertex of the interpolating polynomials of degrees
+    ``2 halves[0]`` and ``2 halves[1]`` (4 and 6 by default) through the
+    values within that many points of ``j``: ``(value, level)`` of the
+    higher degree's vertex when both vertices lie within a cell of ``xs[j]`` and
     their values agree to ``rtol`` and their levels to ``at_rtol`` of the
     level, else ``None`` (for a maximum at the grid's edge, or a curve not
     smooth around it)."""
-    if j < 3 or j + 4 > xs.size:
+    if j < halves[1] or j + halves[1] + 1 > xs.size:
         return None
     x0, h = float(xs[j]), float(xs[1] - xs[0])
     found = []
-    for half in (2, 3):
+    for half in halves:
         t = (xs[j - half:j + half + 1] - x0) / h
         coef = np.linalg.solve(np.vander(t), v[j - half:j + half + 1])
         slope = np.polyder(coef)
