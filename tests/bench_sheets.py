@@ -28,7 +28,7 @@ CASES = [
              "PNG + CSV",
      "func": lambda: _cli("sheet", str(ROOT / "plans" / "qp-1104-relief-spring.toml"),
                           "--out", str(_OUT / "sheet"), "--force"),
-     "goal_ms": 1_000, "repeat": 5},
+     "goal_ms": 1_000, "repeat": 11},
     {"name": "demo CLI: nine plan files, every sheet",
      "func": lambda: _cli("demo", "--out", str(_OUT / "demo"), "--force"),
      "goal_ms": 6_000, "repeat": 3},

@@ -79,6 +79,42 @@ def test_sheet_files_same_either_way(tmp_path, monkeypatch):
     assert out[True] == out[False]
 
 
+def test_resolved_beside_the_drawing_import(tmp_path, monkeypatch):
+    # The plan file resolved (and its trade-off sentence computed) in a forked child
+    # while the parent imports matplotlib gives the same files as resolving here.
+    import datetime
+
+    from lotwise.cli.sheets import resolve_files
+    from lotwise.documents.sheets import resolve_beside_drawing, write_sheets
+
+    monkeypatch.setattr(aside, "_processors", lambda: 2)
+    path = str(ROOT / "plans" / "qp-1104-relief-spring.toml")
+    out = {}
+    for beside in (True, False):
+        folder = tmp_path / str(beside)
+        if beside:
+            pps, texts = resolve_beside_drawing(lambda: resolve_files([path]))
+            assert texts is not None and "varying sample" in texts[0]
+        else:
+            pps, texts = resolve_files([path]), [None]
+        with all_or_nothing():
+            paths = write_sheets(pps[0], folder, today=datetime.date(2026, 1, 1),
+                                 alternatives_text=texts[0])
+        out[beside] = {k: Path(v).read_bytes() for k, v in paths.items() if k != "pdf"}
+    assert out[True] == out[False]
+
+
+def test_resolve_beside_drawing_raises_the_error_here(tmp_path):
+    from lotwise.core.quantities import InputError
+    from lotwise.documents.sheets import resolve_beside_drawing
+
+    def bad():
+        raise InputError("plan.toml: not valid TOML")
+
+    with pytest.raises(InputError, match="not valid TOML"):
+        resolve_beside_drawing(bad)
+
+
 def test_one_draw_per_saved_figure():
     """A figure laid out by ``tight_layout`` is saved to the same pixels with the
     placeholder layout engine removed, and drawn once instead of twice (common

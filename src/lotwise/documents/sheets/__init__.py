@@ -29,17 +29,56 @@ from lotwise.documents.sheets import aside
 from lotwise.documents.sheets.content import (CAUTION, DEFAULT_REJECTED, SheetContent,
                                               alternatives, build_content, fmt_pa, oc_rows)
 
-__all__ = ["CAUTION", "SheetContent", "build_content", "write_sheets", "fmt_pa"]
+__all__ = ["CAUTION", "SheetContent", "build_content", "write_sheets", "fmt_pa",
+           "resolve_beside_drawing"]
 
 
-def write_sheets(pp, out_dir, *, force: bool = False, today=None) -> dict:
+def resolve_beside_drawing(resolve):
+    """``(pps, texts)``: ``resolve()`` (the plan files, resolved) computed in a
+    second process while this one imports what the sheets draw with
+    (matplotlib; see :mod:`~lotwise.documents.sheets.aside`), with the
+    trade-off sentence of each sheet (:func:`alternatives`) when there is one
+    plan file, else ``texts`` is ``None``. Where no second process can run,
+    or it fails, ``resolve()`` runs here afterwards (and raises as it would)."""
+    job = aside.start(lambda: _resolved(resolve))
+    try:
+        _drawing_imports()
+        return job.result()
+    finally:
+        job.cancel()
+
+
+def _resolved(resolve):
+    pps = resolve()
+    if len(pps) != 1:
+        return pps, None
+    return pps, [alternatives(pp) if pp.request.characteristics else None for pp in pps]
+
+
+def _drawing_imports() -> None:
+    """What the sheets draw and lay out with, imported once (before any figure
+    process is forked, so the figures' processes share it)."""
+    import matplotlib.backends.backend_agg  # noqa: F401
+    import matplotlib.figure  # noqa: F401
+
+    import lotwise.documents.plots.rectifying  # noqa: F401
+    import lotwise.documents.sheets.figures  # noqa: F401
+    from lotwise.documents.sheets import markdown, pdf  # noqa: F401
+
+
+def write_sheets(pp, out_dir, *, force: bool = False, today=None,
+                 alternatives_text: str | None = None) -> dict:
     """Write the PDF, Markdown, PNG and CSV files for one resolved plan file.
 
-    Returns ``{kind: path}``.
+    ``alternatives_text``: the trade-off sentence when already computed
+    (:func:`resolve_beside_drawing`). Returns ``{kind: path}``.
     """
     # the trade-off sentence (designs of other schemes, no drawing) computed in a second
     # process while this one imports matplotlib (see aside)
-    others = aside.start(lambda: alternatives(pp)) if pp.request.characteristics else None
+    if alternatives_text is not None:
+        others = aside.Aside(lambda: alternatives_text)
+    else:
+        others = aside.start(lambda: alternatives(pp)) if pp.request.characteristics else None
     try:
         from lotwise.documents.plots.style import font_lookups
 
@@ -67,11 +106,7 @@ def _write_sheets(pp, out_dir, others, *, force: bool, today) -> dict:
     try:
         # the PNG figures drawn in further processes while the page is laid out; what
         # both draw with is imported first, so it is imported once
-        import matplotlib.backends.backend_agg  # noqa: F401
-        import matplotlib.figure  # noqa: F401
-
-        import lotwise.documents.plots.rectifying  # noqa: F401
-        import lotwise.documents.sheets.figures  # noqa: F401
+        _drawing_imports()
 
         # one process a figure: the OC curves, and the AOQ and ATI curves when the lot
         # size is known
