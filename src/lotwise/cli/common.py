@@ -100,6 +100,8 @@ def outputs(force: bool, *targets) -> None:
     Each target is ``(option, path)`` or ``(option, path, "figure")``; see
     :func:`lotwise.data.files.check_outputs` (None and ``-`` are skipped).
     """
+    if all(t[1] is None or str(t[1]) == "-" for t in targets):
+        return  # nothing to check (without importing the module)
     from lotwise.data.files import check_outputs
 
     check_outputs(*targets, force=force)
@@ -219,6 +221,8 @@ STUDY = typer.Option(None, "--study", help='The two rates from an agreement stud
 def error_rates(miss_rate, false_alarm, study):
     """The :class:`~lotwise.core.inspection.ErrorRates` of ``--miss-rate``,
     ``--false-alarm`` or ``--study``; None when none is given."""
+    if miss_rate is None and false_alarm is None and study is None:
+        return None  # (without importing the module: most commands give none)
     from lotwise.core.inspection import read_rates
 
     return read_rates(miss_rate, false_alarm, study)
