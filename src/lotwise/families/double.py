@@ -55,9 +55,10 @@ step rests on one of these facts:
    cannot meet beta (fact 2).
 
 Method: first a probe of 24 values of n1 spread over the range (a good
-objective early, and the cost estimate, see the budget below), then every n1
-from the smallest (fact 4) up to the best objective (fact 3), in blocks of
-up to 64. For a block, exact tables: the first sample's masses at the AQL and
+objective early, and the cost estimate, see the budget below) when the range
+holds more than 128 values, then every n1 from the smallest (fact 4) up to
+the best objective (fact 3), in blocks of up to 64 (the first block's best
+bounding the next ones). For a block, exact tables: the first sample's masses at the AQL and
 RQL, the second sample's distribution functions (under the hypergeometric
 model one row per first-sample count, each row from the previous by moving
 one conforming item of the remaining lot to nonconforming, an exact convex
@@ -75,7 +76,8 @@ plan, the plans evaluated, the work done and estimated, and why it stopped.
 
 Budget: the work (table cells, about 0.1 microsecond each) is estimated from
 the probe before the full search: the probe's cost per n1 under the best
-objective it reached, times the n1 left. Above :data:`SEARCH_BUDGET` the
+objective it reached, times the n1 left (for a range of at most 128 values,
+three times the size of every n1's tables, an upper bound). Above :data:`SEARCH_BUDGET` the
 design is refused at once (:class:`TooCostly`, one line, exit 2) with the
 estimate and what to change; close targets with a small AQL are the costly
 ones (the number of n1 grows as 1/AQL, the tables per n1 as the square of
@@ -602,17 +604,25 @@ class _Sweep:
 
     def run(self, n1_from, n1_to, what):
         top = self.top(n1_to)
-        probe = np.unique(np.linspace(n1_from, top, _PROBE).round().astype(np.int64))
-        self._check(_table_work(self.ev, probe, self.ratio) * 3, what, "the first probe")
-        blocks = []
-        for n1 in probe:  # one at a time: their tables differ in size
-            blocks.append(self.block(np.array([n1])))
-        top = self.top(n1_to)
-        # The estimate: what the probed n1 would cost under the bound reached,
-        # per n1, times the n1 left.
-        per_n1 = sum(b.cost(self.alpha, self.beta, self.bound()) for b in blocks) / probe.size
-        self.estimate = int(self.work + per_n1 * max(top - n1_from + 1, 0))
-        self._check(self.estimate, what, f"every n1 from {n1_from} to {top}")
+        if top - n1_from + 1 <= 2 * _BLOCK:
+            # A short range: its tables' size is the estimate (no probe; the
+            # blocks below find the same plans, the first block's best bounding
+            # the rest).
+            self.estimate = int(_table_work(self.ev, np.arange(n1_from, top + 1), self.ratio)
+                                * 3)
+            self._check(self.estimate, what, f"every n1 from {n1_from} to {top}")
+        else:
+            probe = np.unique(np.linspace(n1_from, top, _PROBE).round().astype(np.int64))
+            self._check(_table_work(self.ev, probe, self.ratio) * 3, what, "the first probe")
+            blocks = []
+            for n1 in probe:  # one at a time: their tables differ in size
+                blocks.append(self.block(np.array([n1])))
+            top = self.top(n1_to)
+            # The estimate: what the probed n1 would cost under the bound reached,
+            # per n1, times the n1 left.
+            per_n1 = sum(b.cost(self.alpha, self.beta, self.bound()) for b in blocks) / probe.size
+            self.estimate = int(self.work + per_n1 * max(top - n1_from + 1, 0))
+            self._check(self.estimate, what, f"every n1 from {n1_from} to {top}")
         # Blocks of at most _BLOCK n1, fewer where one n1's tables are large
         # (memory: about _CELLS cells per table).
         cells = max(_table_work(self.ev, np.array([top]), self.ratio), 1)
@@ -621,7 +631,9 @@ class _Sweep:
         while n1 <= self.top(n1_to):
             last = min(n1 + size, self.top(n1_to) + 1)
             self.block(np.arange(n1, last, dtype=np.int64))
-            self.n1_last = last - 1
+            # (the n1 of the block above the bound it reached hold no plan to keep:
+            # every plan has ASN >= n1)
+            self.n1_last = max(min(last - 1, self.top(n1_to)), n1)
             n1 = last
         b = self.bound()
         self.stopped = (f"n1 reached {self.n1_last + 1}, above the best objective {b:.4f} "
