@@ -139,6 +139,14 @@ def _one_blas_thread() -> None:
 
 def _exit(code: int, argv) -> int:
     sys.stdout.flush()
-    if argv is None:
+    if argv is None:  # the program ends here (not a call of main() from Python)
+        # Spare the interpreter's exit its garbage collection of every object left
+        # (numpy's and scipy's modules included): about 20-50 ms of a command that
+        # takes 0.3 s. Frozen objects are only left out of the cycle collector's
+        # passes; the exit is otherwise the usual one (atexit handlers, flushed
+        # files, module teardown).
+        import gc
+
+        gc.freeze()
         sys.exit(code)
     return code
