@@ -269,3 +269,35 @@ def test_readme_states_four_codes():
     table = _readme_table()
     for code in ("| 0 |", "| 1 |", "| 2 |", "| 3 |"):
         assert code in table
+
+
+# The program itself (a process, not main() called from Python): it ends through
+# sys.exit after gc.freeze(), which must keep the exit code, everything printed and
+# every file written. Verdicts: the single plan n = 110, c = 3 at AQL 1 % / RQL 6 %
+# (scipy.stats.binom: Pa(1 %) = 0.9742 >= 0.95, Pa(6 %) = 0.0909 <= 0.10); RQL below
+# the AQL has no plan (exit 1, a fact of the trade); a misspelt option is bad input.
+@pytest.mark.parametrize("args, code", [
+    (["design", "--aql", "1%", "--rql", "6%", "--json"], 0),
+    (["design", "--aql", "1%", "--rql", "0.5%", "--json"], 1),
+    (["design", "--aql", "1%", "--rql-typo", "6%"], 2),
+])
+def test_program_exit_keeps_code_and_output(args, code, tmp_path):
+    import subprocess
+    import sys
+
+    assert stats.binom.cdf(3, 110, 0.01) >= 0.95 and stats.binom.cdf(3, 110, 0.06) <= 0.10
+    done = subprocess.run([sys.executable, "-m", "lotwise", *args],
+                          capture_output=True, text=True, cwd=tmp_path)
+    assert done.returncode == code, done.stderr
+    if code == 0:
+        rep = json.loads(done.stdout)  # complete: flushed before the exit
+        assert (rep["n"], rep["c"]) == (110, 3)
+        plot, table = tmp_path / "oc.png", tmp_path / "oc.csv"
+        done = subprocess.run([sys.executable, "-m", "lotwise", "oc", "--plan", "n=110,c=3",
+                               "--plot", str(plot), "--csv", str(table)],
+                              capture_output=True, text=True, cwd=tmp_path)
+        assert done.returncode == 0, done.stderr
+        assert plot.stat().st_size > 1000 and plot.read_bytes()[:4] == b"\x89PNG"
+        assert table.read_text(encoding="utf-8").count("\n") > 10
+    elif code == 2:
+        assert done.stderr.count("\n") == 1 and "--rql-typo" in done.stderr
