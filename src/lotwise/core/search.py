@@ -743,7 +743,8 @@ def interpolated_peak(xs, v, j: int, rtol: float = PEAK_RTOL, at_rtol: float = 1
         if root is None:
             return None
         found.append((float(np.polyval(coef, root)), x0 + h * root))
-    (v4, x4), (v6, x6) = found
-    if abs(v6 - v4) > rtol * abs(v6) or abs(x6 - x4) > at_rtol * max(abs(x6), 1e-300):
+    (v_low, x_low), (v_high, x_high) = found  # the lower and the higher degree's vertex
+    if abs(v_high - v_low) > rtol * abs(v_high) \
+            or abs(x_high - x_low) > at_rtol * max(abs(x_high), 1e-300):
         return None
-    return v6, x6
+    return v_high, x_high

@@ -384,22 +384,9 @@ class _Walk:
         top = (r if r < self.R else self.R) - 1  # highest count still undecided or acceptable
         beyond = None
         if lo <= hi:
-            if self.model == "binomial" and hi <= top:
-                # The common case: rows lo..hi each move up one with probability p,
-                # and only row hi's move can leave the band (when hi = top).
-                band = S[lo:hi + 1]
-                moved = band * self.pnc
-                band *= self.qnc
-                if hi < top:
-                    S[lo + 1:hi + 2] += moved
-                    hi += 1
-                else:
-                    if hi > lo:
-                        S[lo + 1:hi + 1] += moved[:-1]
-                    beyond = moved[-1]
-            elif self.model == "poisson":
+            if self.model == "poisson":
                 beyond, hi = _poisson_unit(S, lo, hi, top, self.pois, self.toeplitz)
-            else:
+            else:  # each row lo..hi moves up one with probability q
                 if self.model == "binomial":
                     q, keep = self.pnc, self.qnc
                 else:
@@ -409,10 +396,16 @@ class _Walk:
                 band = S[lo:hi + 1]
                 moved = band * q
                 band *= keep
-                S[lo + 1:hi + 2] += moved
-                hi += 1
-                if hi > top:
-                    gone = S[top + 1:hi + 1]
+                if hi < top:
+                    S[lo + 1:hi + 2] += moved
+                    hi += 1
+                elif hi == top:  # the usual case at the top: row hi's move is rejected
+                    if hi > lo:
+                        S[lo + 1:hi + 1] += moved[:-1]
+                    beyond = moved[-1]
+                else:  # the rejection number fell below the band: every row above goes
+                    S[lo + 1:hi + 2] += moved
+                    gone = S[top + 1:hi + 2]
                     beyond = _add_rows(gone, axis=0)
                     gone[...] = 0.0
                     hi = top

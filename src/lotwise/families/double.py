@@ -58,30 +58,32 @@ Method: first a probe of 24 values of n1 spread over the range (a good
 objective early, and the cost estimate, see the budget below) when the range
 holds more than 128 values, then every n1 from the smallest (fact 4) up to
 the best objective (fact 3), in blocks of up to 64 (the first block's best
-bounding the next ones). For a block, exact tables: the first sample's masses at the AQL and
-RQL, the second sample's distribution functions (under the hypergeometric
-model one row per first-sample count, each row from the previous by moving
-one conforming item of the remaining lot to nonconforming, an exact convex
-recursion), and for the plans left by facts 3-6 the cumulative tables
-``W(r, c) = sum_{d < r} f(d) G(c - d | d)``, so that ``Pa(c1, r1, c2) =
-F(c1) + W(r1, c2) - W(c1 + 1, c2)``; the smallest ``c2`` is found by
-bisection inside its bracket (by direct evaluation where the bracket leaves
-the tables). Bounds used only to discard plans carry a rounding slack of
-1e-9. Under ``asn-max`` the closed form of the largest ASN is taken for the
-plans meeting both risks in rising order of the larger of the ASN at the AQL
-and at the RQL, stopping at the first above the best. Ties in the objective
-(within 1e-9 relative) go to the smaller ``n1``, then ``c2``, then ``c1``,
-then ``r1``. The search record (``search``) names the n1 range, the single
-plan, the plans evaluated, the work done and estimated, and why it stopped.
+bounding the next ones). For a block, exact tables: the first sample's
+masses at the AQL and RQL, the second sample's distribution functions (under
+the hypergeometric model one row per first-sample count, each row from the
+previous by moving one conforming item of the remaining lot to
+nonconforming, an exact convex recursion), and for the plans left by facts
+3-6 the cumulative tables ``W(r, c) = sum_{d < r} f(d) G(c - d | d)``, so
+that ``Pa(c1, r1, c2) = F(c1) + W(r1, c2) - W(c1 + 1, c2)``; the smallest
+``c2`` is found by bisection inside its bracket (by direct evaluation where
+the bracket leaves the tables). Bounds used only to discard plans carry a
+rounding slack of 1e-9. Under ``asn-max`` the closed form of the largest ASN
+is taken for the plans meeting both risks in rising order of the larger of
+the ASN at the AQL and at the RQL, stopping at the first above the best.
+Ties in the objective (within 1e-9 relative) go to the smaller ``n1``, then
+``c2``, then ``c1``, then ``r1``. The search record (``search``) names the
+n1 range, the single plan, the plans evaluated, the work done and estimated,
+and why it stopped.
 
 Budget: the work (table cells, about 0.1 microsecond each) is estimated from
 the probe before the full search: the probe's cost per n1 under the best
 objective it reached, times the n1 left (for a range of at most 128 values,
-three times the size of every n1's tables, an upper bound). Above :data:`SEARCH_BUDGET` the
-design is refused at once (:class:`TooCostly`, one line, exit 2) with the
-estimate and what to change; close targets with a small AQL are the costly
-ones (the number of n1 grows as 1/AQL, the tables per n1 as the square of
-the acceptance numbers, which grow as the RQL/AQL ratio nears 1).
+three times the size of every n1's tables, an upper bound). Above
+:data:`SEARCH_BUDGET` the design is refused at once (:class:`TooCostly`, one
+line, exit 2) with the estimate and what to change; close targets with a
+small AQL are the costly ones (the number of n1 grows as 1/AQL, the tables
+per n1 as the square of the acceptance numbers, which grow as the RQL/AQL
+ratio nears 1).
 
 References
 ----------
@@ -633,7 +635,7 @@ class _Sweep:
             self.block(np.arange(n1, last, dtype=np.int64))
             # (the n1 of the block above the bound it reached hold no plan to keep:
             # every plan has ASN >= n1)
-            self.n1_last = max(min(last - 1, self.top(n1_to)), n1)
+            self.n1_last = min(last - 1, self.top(n1_to))
             n1 = last
         b = self.bound()
         self.stopped = (f"n1 reached {self.n1_last + 1}, above the best objective {b:.4f} "
@@ -742,8 +744,8 @@ class _Block:
         n2 = self.n2.astype(float)
         if not hyper:
             self.d0 = 0
-            self.Ga, self.Gr = (np.minimum(np.cumsum(_mass_rows(model, self.n2, x, N, kt, ev.rows),
-                                                     axis=1), 1.0)
+            self.Ga, self.Gr = (np.minimum(np.cumsum(_mass_rows(model, self.n2, x, N, kt,
+                                                                ev.rows), axis=1), 1.0)
                                 for x in (ev.x_aql, ev.x_rql))
             self.work += 2 * n2.size * kt * _kernel_weight(model)
             return
@@ -927,7 +929,7 @@ def _wtable(blk, f, G, ub, d0, d1, cmin, cmax):
     return w
 
 
-def _mass_rows(model, n, x, N, width, memo=None):
+def _mass_rows(model, n, x, N, width, memo: dict):
     """``out[i, d]``: probability that a sample of ``n[i]`` (rising) finds
     ``d < width``. Under the binomial and hypergeometric models each row
     comes from the previous one by adding one unit to the sample at a time
@@ -936,7 +938,7 @@ def _mass_rows(model, n, x, N, width, memo=None):
     ``d``); a row more than 16 units from the previous one, and every
     Poisson row, is computed directly.
 
-    ``memo`` (a dict kept by the caller) remembers the last rows computed at
+    ``memo`` (a dict kept by the evaluator) remembers the last rows computed at
     each level, 64 counts wider than asked, so that a later call's first row
     also comes from one of them by a few units (the entries ``d < width`` of
     a row depend only on the entries ``d < width`` before it)."""
@@ -944,9 +946,9 @@ def _mass_rows(model, n, x, N, width, memo=None):
     if model == "poisson":
         d = np.arange(width, dtype=float)
         return stage_pmf(d[None, :], n[:, None].astype(float), model, x, N)
-    wide = width + 64 if memo is not None else width
+    wide = width + 64
     row, last = None, None
-    known = memo.setdefault((model, float(x)), {}) if memo is not None else {}
+    known = memo.setdefault((model, float(x)), {})
     if n.size:
         m = int(n[0])
         near = [m0 for m0, r0 in known.items() if 0 <= m - m0 <= 16 and r0.size >= width]
@@ -972,12 +974,12 @@ def _mass_rows(model, n, x, N, width, memo=None):
                 row = row - moved
                 row[1:] += moved[:-1]
         out[i] = row
-    if memo is not None and n.size:
+    if n.size:
         known.pop(int(n[-1]), None)
         if len(known) >= 8:  # forget the oldest (several series of n share a level)
             known.pop(next(iter(known)))
         known[int(n[-1])] = out[-1].copy()
-    return out[:, :width] if wide != width else out
+    return out[:, :width]
 
 
 def _hyper_rows(n1, n2, N, D, dlo, dhi, kt):

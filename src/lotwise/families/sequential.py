@@ -156,16 +156,13 @@ def wald_theta(p, s: float, per_unit: bool = False):
     remembered (a report asks for Wald's OC and ASN at the AQL and RQL of the
     same plan several times)."""
     p = np.atleast_1d(np.asarray(p, dtype=float))
-    key = (p.tobytes(), p.shape, float(s), bool(per_unit)) if p.size <= 8 else None
-    known = _THETAS.get(key) if key is not None else None
-    if known is not None:
-        return known.copy()
-    theta = _wald_theta(p, s, per_unit)
-    if key is not None:
-        if len(_THETAS) >= 64:
-            _THETAS.pop(next(iter(_THETAS)))
-        _THETAS[key] = theta.copy()
-    return theta
+    if p.size > 8:
+        return _wald_theta(p, s, per_unit)
+    key = (p.tobytes(), p.shape, float(s), bool(per_unit))
+    known = _THETAS.get(key)
+    if known is None:
+        known = _keep(_THETAS, key, _wald_theta(p, s, per_unit))
+    return known.copy()
 
 
 _THETAS: dict = {}
